@@ -1,0 +1,105 @@
+"""Print the distributions behind the default tolerances, measured on real evaluated data.
+
+Data: the metallic elements of Alcock, Itkin & Horrigan (1984) via ``chemicals`` (solid and
+liquid equations), CRC Handbook melting points and enthalpies of fusion via ``chemicals``,
+and fits to the IAPWS water curves via ``iapws``. Run:
+
+    python benchmarks/calibrate.py
+"""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+import numpy as np
+from scipy.constants import R
+
+sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests"))
+
+from refdata import alcock_table, table_from_rows, water_fusion, water_records  # noqa: E402
+
+from vpaudit.audit import audit_table  # noqa: E402
+from vpaudit.checks._context import LN_P_STANDARD, AuditContext  # noqa: E402
+from vpaudit.equations.engine import evaluate  # noqa: E402
+from vpaudit.policy import Policy  # noqa: E402
+
+
+def quantiles(x):
+    x = np.asarray(x, float)
+    x = x[np.isfinite(x)]
+    if x.size == 0:
+        return "no values"
+    q = np.percentile(x, [0, 10, 50, 90, 100])
+    return "min {:.4g}  p10 {:.4g}  median {:.4g}  p90 {:.4g}  max {:.4g}  (n={})".format(
+        *q, x.size
+    )
+
+
+def report(table, label):
+    ctx = AuditContext(table, Policy())
+    pr = ctx.pairs
+    tm = pr["tm"]
+    cs, cl = ctx.curves.take(pr["s"]), ctx.curves.take(pr["l"])
+    ys, s1, _ = evaluate(cs, tm, 1)
+    yl, l1, _ = evaluate(cl, tm, 1)
+    d = ys - yl
+    hs, hl = R * tm**2 * s1, R * tm**2 * l1
+    hfus_ref = ctx.reference("enthalpy_of_fusion", ctx.substance[pr["s"]])
+    print(f"== {label}: {len(pr['s'])} pairs")
+    print("ln P_s - ln P_l at the reference melting point:", quantiles(d))
+    print("|same|:", quantiles(np.abs(d)))
+    print("crossing - melting point [K]:", quantiles(pr["T"] - tm))
+    print(
+        "Hess residual (dH_sub - dH_vap - dH_fus,ref)/dH_sub:", quantiles((hs - hl - hfus_ref) / hs)
+    )
+    print("implied dH_fus / reference:", quantiles((hs - hl) / hfus_ref))
+    print("implied dS_fus at crossing [J/(mol K)]:", quantiles(R * pr["T"] * pr["slope_diff"]))
+    ex = ctx.range_extrema
+    for ph in ("solid", "liquid"):
+        m = ctx.phase == ph
+        print(f"{ph}: max implied dCp over range [J/(mol K)]:", quantiles(ex["cp_max"][m]))
+        print(f"{ph}: min implied dCp over range [J/(mol K)]:", quantiles(ex["cp_min"][m]))
+        c = ctx.curves.take(np.flatnonzero(m))
+        t = 2.0 / (1.0 / c.t_min + 1.0 / c.t_max)
+        y, y1, _ = evaluate(c, t, 1)
+        ds = R * t * y1 + R * (y - LN_P_STANDARD)
+        print(f"{ph}: standard entropy of the phase change at mid-range:", quantiles(ds))
+    result = audit_table(table)
+    print("audit:", result.summary)
+    for f in result.findings:
+        print(f"  {f.severity.value:8s} {f.check:28s} {f.substance:6s} {f.message[:110]}")
+    print()
+
+
+if __name__ == "__main__":
+    report(alcock_table(), "Alcock et al. (1984) metals, CRC melting points")
+    s, l_, rs, rl = water_records()
+    print(f"IAPWS water fits: max |residual| in ln P: ice {rs:.2e}, liquid {rl:.2e}")
+    water = table_from_rows(
+        [s, l_],
+        [
+            {
+                "substance": "water",
+                "quantity": "triple_point_temperature",
+                "value": 273.16,
+                "unit": "K",
+                "source": "IAPWS R14-08",
+            },
+            {
+                "substance": "water",
+                "quantity": "triple_point_pressure",
+                "value": 611.657,
+                "unit": "Pa",
+                "source": "IAPWS R14-08",
+            },
+            {
+                "substance": "water",
+                "quantity": "enthalpy_of_fusion",
+                "value": water_fusion(),
+                "unit": "J/mol",
+                "source": "IAPWS-95 and IAPWS R10-06 via iapws",
+            },
+        ],
+    )
+    report(water, "water (IAPWS fits)")

@@ -1,0 +1,91 @@
+"""The command line: exit codes, the JSON contracts and the lines a user reads."""
+
+import json
+
+from click.testing import CliRunner
+
+from vpaudit.cli import main
+
+
+def run(*args):
+    return CliRunner().invoke(main, [str(a) for a in args], catch_exceptions=False)
+
+
+def test_eval_prints_a_readable_answer(sample_db):
+    r = run("eval", sample_db, "ardenite", "--at", "1200K")
+    assert r.exit_code == 0
+    assert "ardenite at 1200 K (926.85 degC)" in r.output
+    assert "Stable phase: liquid" in r.output
+    assert "Hertz-Knudsen-Langmuir" in r.output and "Caution:" in r.output
+
+
+def test_eval_json_contract(sample_db):
+    r = run("eval", sample_db, "ardenite", "--at", "926.85degC", "--format", "json")
+    data = json.loads(r.output)
+    assert set(data) >= {"substance", "temperature_K", "pressure_Pa", "stable_phase", "records"}
+    assert abs(data["temperature_K"] - 1200.0) < 1e-9 and data["pressure_Pa"] is None
+    rec = data["records"][0]
+    assert set(rec) >= {"id", "phase", "pressure_Pa", "temperature_K", "enthalpy_J_per_mol",
+                        "heat_capacity_change_J_per_mol_K", "in_range"}
+    r = run("eval", sample_db, "ardenite", "--pressure", "0.01Torr", "--format", "json")
+    data = json.loads(r.output)
+    assert abs(data["pressure_Pa"] - 1.3332236842105263) < 1e-12
+    assert all(x["temperature_K"] is None or x["temperature_K"] > 500 for x in data["records"])
+
+
+def test_unknown_substance_and_bad_quantity_exit_2(sample_db):
+    r = run("eval", sample_db, "ardenit", "--at", "1200K")
+    assert r.exit_code == 2 and "did you mean ardenite" in r.output
+    r = run("eval", sample_db, "ardenite", "--at", "1200 kelvin")
+    assert r.exit_code == 2 and "UnitError" in r.output
+
+
+def test_audit_exit_codes_and_json_contract(sample_db, tmp_path):
+    r = run("audit", sample_db, "--format", "json")
+    assert r.exit_code == 1
+    data = json.loads(r.output)
+    assert set(data["summary"]) == {"records", "substances", "pairs", "error", "warning", "note"}
+    f = data["findings"][0]
+    assert {"check", "severity", "substance", "records", "message", "evidence",
+            "suggestion"} <= set(f)
+    assert run("audit", sample_db, "--fail-on", "never").exit_code == 0
+    clean = run("audit", sample_db, "--substance", "ardenite", "--fail-on", "warning")
+    assert clean.exit_code == 0, clean.output
+    assert run("audit", sample_db, "--only", "no-such-check").exit_code == 2
+
+
+def test_audit_of_unreadable_input_exits_2(tmp_path):
+    d = tmp_path / "t" / "records"
+    d.mkdir(parents=True)
+    (d / "r.csv").write_text("id,substance,phase,form,log_base,pressure_unit,A,B,t_min,t_max,"
+                             "source\nx,s,solid,two-term,e,Pa,\u22121,-1e4,300,600,src\n")
+    r = run("audit", tmp_path / "t")
+    assert r.exit_code == 2
+    assert "r.csv:2 [A]: unexpected U+2212 MINUS SIGN" in r.output
+
+
+def test_text_report_and_other_formats(sample_db, tmp_path):
+    r = run("audit", sample_db)
+    assert "Summary:" in r.output and "Caution:" in r.output
+    assert "ERROR   melting-point-mismatch" in r.output
+    for fmt, probe in (("markdown", "## vpaudit:"), ("csv", "severity,check,substance")):
+        out = tmp_path / f"r.{fmt}"
+        run("audit", sample_db, "--format", fmt, "--output", out)
+        assert out.read_text().startswith(probe)
+
+
+def test_checks_listing_and_show(sample_db):
+    r = run("checks")
+    assert r.exit_code == 0 and "melting-point-mismatch" in r.output
+    r = run("show", sample_db, "elmsite")
+    assert "Solid/liquid pairs" in r.output and "crossing-orientation" in r.output
+
+
+def test_import_and_export(clean_sample, tmp_path):
+    db = tmp_path / "x.duckdb"
+    r = run("import", clean_sample, "--db", db)
+    assert r.exit_code == 0 and "imported 61 records" in r.output
+    r = run("export", "--db", db, "--to", tmp_path / "out")
+    assert r.exit_code == 0 and (tmp_path / "out" / "records" / "records.csv").exists()
+    r = run("audit", db, "--fail-on", "never")
+    assert r.exit_code == 0 and "61 records" in r.output

@@ -1,0 +1,191 @@
+"""Readers: every cell read as text, every hazard a located error or a documented rewrite."""
+
+import numpy as np
+import pyarrow as pa
+import pyarrow.parquet as pq
+import pytest
+from conftest import write
+
+from vpaudit.errors import TableError, TableErrors
+from vpaudit.readers import load_table, read_file
+
+HEADER = "id,substance,phase,form,log_base,pressure_unit,A,B,C,t_min,t_max,source"
+ROW = "r1,zinc-demo,solid,three-term,e,Pa,{A},-15000,-1.2,300,600,demo source"
+
+
+def csv_text(a="25.5", extra=""):
+    return HEADER + "\n" + ROW.format(A=a) + extra + "\n"
+
+
+def errors_of(path, **kw):
+    with pytest.raises(TableError) as info:
+        read_file(path, **kw)
+    exc = info.value
+    return [str(e) for e in exc.errors] if isinstance(exc, TableErrors) else [str(exc)]
+
+
+def test_csv_reads_numbers_and_keeps_their_text(tmp_path):
+    t = read_file(write(tmp_path / "r.csv", csv_text("25.50")))
+    rec = t.records.iloc[0]
+    assert rec["A"] == 25.5 and rec["A_text"] == "25.50"
+    assert rec["line"] == 2 and rec["file"].endswith("r.csv")
+
+
+def test_unicode_minus_is_a_located_error_naming_the_character(tmp_path):
+    path = write(tmp_path / "r.csv", csv_text("\u221225.5"))
+    (msg,) = errors_of(path)
+    assert "r.csv:2 [A]" in msg
+    assert "unexpected U+2212 MINUS SIGN in '\u221225.5'; use '-'" in msg
+
+
+def test_opt_in_normalisation_rewrites_and_logs(tmp_path):
+    path = write(tmp_path / "r.csv", csv_text("\u221225.5"))
+    t = read_file(path, normalize=True)
+    assert t.records["A"].iat[0] == -25.5
+    (rw,) = t.rewrites
+    assert rw["line"] == 2 and rw["before"] == "\u221225.5" and rw["after"] == "-25.5"
+
+
+def test_decimal_comma_in_semicolon_file_is_an_error_not_a_value(tmp_path):
+    text = HEADER.replace(",", ";") + "\n" + ROW.format(A="12,5").replace(",", ";", 6)
+    text = text.replace("12;5", "12,5")
+    path = write(tmp_path / "r.csv", text.replace(",", ";").replace("12;5", "12,5") + "\n")
+    (msg,) = errors_of(path)
+    assert "[A]" in msg and "decimal commas" in msg
+
+
+def test_bom_and_crlf_are_read_exactly(tmp_path):
+    data = ("\ufeff" + csv_text()).replace("\n", "\r\n").encode("utf-8")
+    t = read_file(write(tmp_path / "r.csv", data))
+    assert list(t.records["id"]) == ["r1"] and t.records["A"].iat[0] == 25.5
+
+
+def test_ragged_row_is_an_error_with_its_line(tmp_path):
+    path = write(tmp_path / "r.csv", csv_text(extra=",surplus"))
+    (msg,) = errors_of(path)
+    assert ":2" in msg and "13 cells but the header names 12" in msg
+
+
+def test_empty_file_duplicate_and_empty_header(tmp_path):
+    assert "file is empty" in errors_of(write(tmp_path / "e.csv", ""))[0]
+    dup = HEADER + ",A\n"
+    assert "names column 'A' twice" in errors_of(write(tmp_path / "d.csv", dup))[0]
+    assert "column 3 is empty" in errors_of(write(tmp_path / "h.csv", "id,substance,,x\n"))[0]
+
+
+def test_invalid_utf8_and_nul_bytes_are_located(tmp_path):
+    bad = csv_text().encode() + b"r2,\xe9\n"
+    msg = errors_of(write(tmp_path / "l1.csv", bad))[0]
+    assert "invalid UTF-8 at byte offset" in msg and "l1.csv:3" in msg
+    msg = errors_of(write(tmp_path / "nul.csv", b"id\x00x\n"))[0]
+    assert "NUL byte at byte offset 2" in msg
+
+
+def test_unknown_column_form_unit_and_coefficient_misuse(tmp_path):
+    text = (HEADER + ",colour\n" + ROW.format(A="1") + ",red\n"
+            + "r2,zinc-demo,solid,four-term-x,e,Pa,1,-1,1,300,600,s,\n"
+            + "r3,zinc-demo,vapour,three-term,e,psia,1,-1,1,300,600,s,\n"
+            + "r4,zinc-demo,solid,two-term,e,Pa,1,-1,1,300,600,s,\n")
+    msgs = "\n".join(errors_of(write(tmp_path / "r.csv", text)))
+    assert "unknown column 'colour'" in msgs
+    assert "unknown form 'four-term-x'" in msgs
+    assert "unknown phase 'vapour'" in msgs and "unknown pressure_unit 'psia'" in msgs
+    assert "form 'two-term' does not use coefficient C" in msgs
+
+
+def test_degc_on_a_log_linear_form_is_refused(tmp_path):
+    text = (HEADER + ",temperature_unit\n" + ROW.format(A="1") + ",degC\n")
+    msg = errors_of(write(tmp_path / "r.csv", text))[0]
+    assert "needs an absolute temperature" in msg
+
+
+def test_rule_problems_are_reported_not_raised(tmp_path):
+    text = (HEADER + "\n" + ROW.format(A="1") + "\n"
+            + ROW.format(A="1").replace("300,600", "600,300").replace("r1", "r2") + "\n"
+            + ROW.format(A="1").replace("demo source", "") + "\n")
+    t = read_file(write(tmp_path / "r.csv", text))
+    rules = sorted(t.problems["rule"])
+    assert rules == ["duplicate-id", "duplicate-id", "range", "source"]
+
+
+YAML_HAZARDS = """\
+- id: NO
+  substance: 0123
+  phase: liquid
+  form: two-term
+  log_base: "10"
+  pressure_unit: Pa
+  A: 1e3
+  B: -1.0e+3
+  t_min: 300
+  t_max: 400
+  source: 2001-01-01
+  entered_on: 1:30
+"""
+
+
+def test_yaml_scalars_stay_text(tmp_path):
+    t = read_file(write(tmp_path / "r.yaml", YAML_HAZARDS))
+    r = t.records.iloc[0]
+    assert r["id"] == "NO" and r["substance"] == "0123"
+    assert r["A"] == 1000.0 and r["B"] == -1000.0
+    assert r["source"] == "2001-01-01" and r["entered_on"] == "1:30"
+    assert r["line"] == 1
+
+
+def test_yaml_duplicate_key_and_alias_are_errors(tmp_path):
+    dup = YAML_HAZARDS + "  A: 2\n"
+    assert "field 'A' is given twice" in errors_of(write(tmp_path / "d.yaml", dup))[0]
+    alias = "- &x {id: a}\n- *x\n"
+    assert "aliases are not allowed" in errors_of(write(tmp_path / "a.yaml", alias))[0]
+
+
+def test_json_keeps_number_text_and_rejects_nan_and_duplicates(tmp_path):
+    good = ('{"records": [\n {"id": "a", "substance": "s", "phase": "solid", "form": "two-term",'
+            ' "log_base": "e", "pressure_unit": "Pa", "A": 25.50, "B": -1.5e4, "t_min": 300,'
+            ' "t_max": 600, "source": "x"},\n {"id": "b", "substance": "s", "phase": "liquid",'
+            ' "form": "two-term", "log_base": "e", "pressure_unit": "Pa", "A": 24, "B": -14000,'
+            ' "t_min": 600, "t_max": 900, "source": "x"}\n]}\n')
+    t = read_file(write(tmp_path / "r.json", good))
+    assert list(t.records["A_text"]) == ["25.50", "24"]
+    assert list(t.records["line"]) == [2, 3]
+    nan = good.replace("25.50", "NaN")
+    assert "NaN is not a number vpaudit reads" in errors_of(write(tmp_path / "n.json", nan))[0]
+    dup = good.replace('"A": 24,', '"A": 24, "A": 25,')
+    assert "given twice" in errors_of(write(tmp_path / "u.json", dup))[0]
+    boolean = good.replace('"A": 24', '"A": true')
+    assert "holds a bool" in errors_of(write(tmp_path / "b.json", boolean))[0]
+
+
+def _parquet(path, a_type):
+    table = pa.table({
+        "id": ["p1"], "substance": ["s"], "phase": ["solid"], "form": ["two-term"],
+        "log_base": ["e"], "pressure_unit": ["Pa"],
+        "A": pa.array([25.1], type=a_type), "B": pa.array([-15000.0]),
+        "t_min": pa.array([300.0]), "t_max": pa.array([600.0]), "source": ["x"]})
+    pq.write_table(table, path)
+    return path
+
+
+def test_parquet_float64_is_exact_and_float32_refused(tmp_path):
+    t = read_file(_parquet(tmp_path / "ok.parquet", pa.float64()))
+    assert t.records["A"].iat[0] == 25.1
+    msg = errors_of(_parquet(tmp_path / "bad.parquet", pa.float32()))[0]
+    assert "[A]" in msg and "float" in msg
+
+
+def test_table_directory_and_kind_mismatch(tmp_path, sample_db):
+    t = load_table(sample_db)
+    assert len(t.records) > 50 and len(t.references) > 50 and len(t.points) > 10
+    write(tmp_path / "tbl" / "references" / "r.csv", csv_text())
+    with pytest.raises(TableError, match="columns are those of records"):
+        load_table(tmp_path / "tbl")
+
+
+def test_no_value_is_ever_different_from_the_text(sample_db):
+    t = load_table(sample_db)
+    for col in ("A", "B", "C", "t_min", "t_max"):
+        text = t.records[col + "_text"]
+        mask = text.notna().to_numpy()
+        assert np.array_equal(t.records[col].to_numpy()[mask],
+                              np.array([float(x) for x in text[mask]]))

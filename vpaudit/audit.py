@@ -1,0 +1,147 @@
+"""Run the audit: every registered check over the whole table, one result object.
+
+A check that raises becomes an ``internal-error`` finding naming the check, and the run goes
+on: one broken check never hides the others' results.
+"""
+
+from __future__ import annotations
+
+import traceback
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from . import checks as _checks  # noqa: F401  (registers every check)
+from .checks._context import AuditContext
+from .checks._registry import REGISTRY, Severity, get_check, ordered
+from .checks.finding import Finding
+from .policy import Policy, load_policy
+from .readers.table import Table
+
+__all__ = ["AuditResult", "audit", "audit_table", "CAUTION"]
+
+#: The caution every report carries (physics notes, section 10).
+CAUTION = (
+    "vpaudit screens vapour-pressure data for inconsistencies; it does not certify them. "
+    "Where results feed hazardous work (toxic or flammable vapours, vacuum or pressure "
+    "equipment), rely on primary sources, local codes and licensed practice."
+)
+
+
+@dataclass
+class AuditResult:
+    """Everything one audit found, for every reporter."""
+
+    findings: list[Finding]
+    summary: dict[str, int]
+    policy_description: dict[str, Any]
+    table_path: str = ""
+    checks_run: list[str] = field(default_factory=list)
+
+    def worst(self) -> Severity | None:
+        """The most serious severity found, or None when nothing was found."""
+        if not self.findings:
+            return None
+        return max((f.severity for f in self.findings), key=lambda s: s.rank)
+
+    def fails(self, fail_on: str) -> bool:
+        """Whether anything is at or above ``fail_on`` (error, warning or never)."""
+        if fail_on == "never":
+            return False
+        level = Severity(fail_on).rank
+        return any(f.severity.rank >= level for f in self.findings)
+
+    def to_dict(self) -> dict[str, Any]:
+        """The JSON output contract."""
+        return {"summary": dict(self.summary), "findings": [f.to_dict() for f in self.findings]}
+
+
+def _sort_key(f: Finding):
+    return (-f.severity.rank, f.substance, f.check, f.records)
+
+
+def audit_table(
+    table: Table,
+    policy: Policy | None = None,
+    only: list[str] | None = None,
+    substances: list[str] | None = None,
+    table_path: str = "",
+) -> AuditResult:
+    """Audit a table that has been read.
+
+    Parameters
+    ----------
+    table : Table
+        From :func:`vpaudit.readers.load_table` or the store.
+    policy : Policy, optional
+        Thresholds and severities; the table's own ``vpaudit.toml`` or the defaults.
+    only : list of str, optional
+        Run only these checks.
+    substances : list of str, optional
+        Audit only these substances.
+
+    Returns
+    -------
+    AuditResult
+    """
+    policy = policy or load_policy(table.policy_path)
+    names = [c.name for c in ordered()] if not only else [get_check(n).name for n in only]
+    if substances:
+        table = _restrict(table, set(substances))
+    ctx = AuditContext(table, policy)
+    findings: list[Finding] = []
+    for name in names:
+        if policy.severity(name) is None:
+            continue
+        spec = REGISTRY[name]
+        try:
+            findings.extend(spec.func(ctx))
+        except Exception as exc:  # one broken check never hides the others
+            findings.append(
+                Finding(
+                    check="internal-error",
+                    severity=Severity.error,
+                    substance="",
+                    records=(),
+                    message=f"check {name!r} failed: {type(exc).__name__}: {exc}",
+                    evidence={"check": name, "traceback": traceback.format_exc(limit=3)},
+                )
+            )
+    findings.sort(key=_sort_key)
+    summary = {
+        "records": int(len(table.records)),
+        "substances": int(table.records["substance"].nunique()) if len(table.records) else 0,
+        "pairs": int(len(ctx.pairs["s"]))
+        if any(REGISTRY[n].scope.value == "pair" for n in names)
+        else 0,
+        "error": sum(f.severity is Severity.error for f in findings),
+        "warning": sum(f.severity is Severity.warning for f in findings),
+        "note": sum(f.severity is Severity.note for f in findings),
+    }
+    return AuditResult(findings, summary, policy.describe(), table_path, names)
+
+
+def _restrict(table: Table, names: set[str]) -> Table:
+    def keep(frame):
+        if not len(frame):
+            return frame
+        return frame[frame["substance"].isin(names)].reset_index(drop=True)
+
+    return Table(
+        keep(table.records),
+        keep(table.references),
+        keep(table.points),
+        keep(table.problems),
+        table.rewrites,
+        table.policy_path,
+        table.root,
+        table.files,
+    )
+
+
+def audit(path: str | Path, policy: str | None = None, **kw) -> AuditResult:
+    """Read the table at ``path`` (directory, file or ``.duckdb`` store) and audit it."""
+    from .api import open_table
+
+    table = open_table(path)
+    return audit_table(table, load_policy(table.policy_path, policy), table_path=str(path), **kw)

@@ -1,0 +1,343 @@
+"""What every check reads: the table's records as arrays, their curves and references.
+
+Built once per audit; the expensive shared pieces (range extrema, pairs and their crossings,
+source groups) are computed on first use and cached, so each check stays a few lines of
+array code.
+"""
+
+from __future__ import annotations
+
+from functools import cached_property
+from typing import TYPE_CHECKING
+
+import numpy as np
+import pandas as pd
+from scipy.constants import R
+
+from ..equations.engine import Curves, bracketed_root, curves_from_frame, evaluate
+from ..readers.table import Table
+from ._registry import REGISTRY, Severity
+from .finding import Finding
+
+if TYPE_CHECKING:
+    from ..policy import Policy
+
+__all__ = ["AuditContext", "P_STANDARD", "LN_P_STANDARD"]
+
+#: Standard pressure of the normal boiling point and of Trouton's rule. [Pa]
+P_STANDARD = 101325.0
+LN_P_STANDARD = float(np.log(P_STANDARD))
+_WAGNER_GRID = 64
+
+
+class AuditContext:
+    """Arrays of one table, prepared for the checks.
+
+    Attributes
+    ----------
+    table : Table
+    policy : Policy
+    n : int
+        Number of records.
+    curves : Curves
+        Canonical curves of all records (row i is record i).
+    evaluable : ndarray of bool
+        Records whose range is valid, so their curve can be evaluated over it.
+    """
+
+    def __init__(self, table: Table, policy: Policy) -> None:
+        self.table = table
+        self.policy = policy
+        rec = table.records
+        self.n = len(rec)
+        self.ids = rec["id"].to_numpy(dtype=object)
+        self.substance = rec["substance"].to_numpy(dtype=object)
+        self.phase = rec["phase"].to_numpy(dtype=object)
+        self.form = rec["form"].to_numpy(dtype=object)
+        self.file = rec["file"].to_numpy(dtype=object)
+        self.line = rec["line"].to_numpy()
+        unc = rec["uncertainty"].to_numpy(dtype=float, na_value=np.nan)
+        self.uncertainty = unc
+        self.curves: Curves = curves_from_frame(rec)
+        lo, hi = self.curves.t_min, self.curves.t_max
+        with np.errstate(invalid="ignore"):
+            ok = np.isfinite(lo) & np.isfinite(hi) & (lo > 0) & (lo < hi)
+        if len(table.problems):
+            bad_ids = table.problems.loc[table.problems["rule"].isin(["range", "pole"]), "id"]
+            ok &= ~pd.Series(self.ids).isin(set(bad_ids)).to_numpy()
+        self.evaluable = ok
+        self.liquid = self.phase == "liquid"
+        self.solid = self.phase == "solid"
+
+    # --- references ----------------------------------------------------------------------
+    @cached_property
+    def _ref_table(self) -> pd.DataFrame:
+        refs = self.table.references
+        if not len(refs):
+            return pd.DataFrame(columns=["substance", "quantity", "value_si"])
+        return refs.drop_duplicates(["substance", "quantity"], keep="first")
+
+    def reference(self, quantity: str, substances: np.ndarray | None = None) -> np.ndarray:
+        """The reference ``quantity`` (SI units) for each record's substance; NaN if none."""
+        sub = self.substance if substances is None else substances
+        refs = self._ref_table
+        values = refs.loc[refs["quantity"] == quantity].set_index("substance")["value_si"]
+        return pd.Series(sub, dtype=object).map(values).to_numpy(dtype=float, na_value=np.nan)
+
+    def melting_reference(self, substances: np.ndarray | None = None) -> np.ndarray:
+        """Reference melting point, or the triple-point temperature where none is given. [K]"""
+        tm = self.reference("melting_point", substances)
+        ttp = self.reference("triple_point_temperature", substances)
+        return np.where(np.isnan(tm), ttp, tm)
+
+    def critical_temperature(self) -> np.ndarray:
+        """Critical temperature per record: reference, else the Wagner record's own. [K]"""
+        tc = self.reference("critical_temperature")
+        own = np.where(self.curves.family == 2, self.curves.params[:, 6], np.nan)
+        return np.where(np.isnan(tc), own, tc)
+
+    # --- findings ------------------------------------------------------------------------
+    def severity(self, check: str) -> Severity | None:
+        """The policy's severity of ``check`` (None when turned off)."""
+        return self.policy.severity(check)
+
+    def thresholds(self, check: str) -> dict[str, float]:
+        """The policy's thresholds of ``check``."""
+        return self.policy.thresholds(check)
+
+    def finding(
+        self,
+        check: str,
+        row: int,
+        message: str,
+        evidence: dict,
+        records: tuple[str, ...] | None = None,
+        severity: Severity | None = None,
+    ) -> Finding:
+        """A finding about record ``row`` (and ``records`` when several are involved)."""
+        sev = severity or self.severity(check) or REGISTRY[check].severity
+        return Finding(
+            check=check,
+            severity=sev,
+            substance=str(self.substance[row]),
+            records=records if records is not None else (str(self.ids[row]),),
+            message=message,
+            evidence=_clean(evidence),
+            file=str(self.file[row]),
+            line=int(self.line[row]),
+        )
+
+    # --- per-record quantities over the validity range -----------------------------------
+    @cached_property
+    def range_extrema(self) -> dict[str, np.ndarray]:
+        """Exact extrema of dH(T), dCp(T) and ln P over each record's range.
+
+        Log-linear and Antoine curves: ends of the range plus the analytic stationary points
+        (dH is stationary where dCp = 0: T^E = -C/(D E (E+1)); the Antoine dCp where
+        T = C'/2). Wagner curves: a 64-point grid plus the ends.
+        """
+        n = self.n
+        out = {
+            k: np.full(n, np.nan)
+            for k in (
+                "h_min",
+                "h_min_T",
+                "h_max",
+                "cp_min",
+                "cp_min_T",
+                "cp_max",
+                "cp_max_T",
+                "y_min",
+                "y_max",
+            )
+        }
+        rows_all = np.flatnonzero(self.evaluable)
+        fam = self.curves.family[rows_all]
+        for rows, grid in ((rows_all[fam != 2], False), (rows_all[fam == 2], True)):
+            if rows.size == 0:
+                continue
+            c = self.curves.take(rows)
+            lo, hi = c.t_min[:, None], c.t_max[:, None]
+            if grid:
+                frac = np.linspace(0.0, 1.0, _WAGNER_GRID + 2)[None, :]
+                ts = lo + (hi - lo) * frac
+            else:
+                p = c.params
+                with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+                    dee = p[:, 3] * p[:, 4] * (p[:, 4] + 1.0)
+                    t_h = np.where(
+                        (c.family == 0) & (dee != 0), (-p[:, 2] / dee) ** (1.0 / p[:, 4]), np.nan
+                    )
+                    t_cp = np.where(c.family == 1, p[:, 2] / 2.0, np.nan)
+                cand = np.column_stack([c.t_min, c.t_max, t_h, t_cp])
+                cand = np.where(np.isfinite(cand), cand, c.t_min[:, None])
+                ts = np.clip(cand, lo, hi)
+            y, y1, y2 = evaluate(c, ts)
+            h = R * ts * ts * y1
+            cp = R * (2.0 * ts * y1 + ts * ts * y2)
+            with np.errstate(invalid="ignore"):
+                hm = np.nanargmin(np.where(np.isnan(h), np.inf, h), axis=1)
+                cpm = np.nanargmin(np.where(np.isnan(cp), np.inf, cp), axis=1)
+                cpx = np.nanargmax(np.where(np.isnan(cp), -np.inf, cp), axis=1)
+            k = np.arange(rows.size)
+            out["h_min"][rows] = np.where(np.isnan(h).any(axis=1), np.nan, h[k, hm])
+            out["h_min_T"][rows] = ts[k, hm]
+            out["h_max"][rows] = np.nanmax(h, axis=1) if h.size else np.nan
+            out["cp_min"][rows] = cp[k, cpm]
+            out["cp_min_T"][rows] = ts[k, cpm]
+            out["cp_max"][rows] = cp[k, cpx]
+            out["cp_max_T"][rows] = ts[k, cpx]
+            with np.errstate(invalid="ignore"):
+                out["y_min"][rows] = np.where(np.isfinite(y).all(axis=1), y.min(axis=1), np.nan)
+                out["y_max"][rows] = np.where(np.isfinite(y).all(axis=1), y.max(axis=1), np.nan)
+        return out
+
+    # --- solid/liquid pairs --------------------------------------------------------------
+    @cached_property
+    def pairs(self) -> dict[str, np.ndarray]:
+        """Every solid record whose range reaches the melting region against every liquid
+        record of the same substance, with the crossing of their curves.
+
+        Returns a dict of arrays, one entry per pair: ``s``, ``l`` (record rows), ``anchor``
+        (reference melting point, else the middle of the ranges' gap or overlap) [K],
+        ``checkable``, ``extrapolation`` (relative), ``crossings`` (sign changes in the
+        window), ``significant_crossings`` (sign changes between points where the curves
+        differ by more than the melting-point tolerance),
+        ``T`` (crossing nearest the anchor) [K], ``y`` (ln P there), ``slope_diff``
+        (d(y_s - y_l)/dT there) [1/K].
+        """
+        p = self.policy.thresholds("no-crossing")
+        reach = self.policy.thresholds("pair-not-checkable")["max_extrapolation"]
+        rows = np.arange(self.n)
+        sol = pd.DataFrame(
+            {
+                "s": rows[self.solid & self.evaluable],
+                "substance": self.substance[self.solid & self.evaluable],
+            }
+        )
+        liq = pd.DataFrame(
+            {
+                "l": rows[self.liquid & self.evaluable],
+                "substance": self.substance[self.liquid & self.evaluable],
+            }
+        )
+        merged = sol.merge(liq, on="substance", how="inner")
+        s = merged["s"].to_numpy(dtype=np.int64)
+        lq = merged["l"].to_numpy(dtype=np.int64)
+        t_max_s = self.curves.t_max[s]
+        t_min_l = self.curves.t_min[lq]
+        tm = self.melting_reference(self.substance[s]) if s.size else np.empty(0)
+        anchor = np.where(np.isnan(tm), 0.5 * (t_max_s + t_min_l), tm)
+        # Keep, per substance, the solids whose range reaches the melting region; a solid
+        # modification that ends far below it (it transforms before melting) is not paired.
+        if s.size:
+            best = pd.Series(t_max_s).groupby(merged["substance"].to_numpy()).transform("max")
+            reaches = (t_max_s >= best.to_numpy() - 1e-9) | (t_max_s >= anchor * (1 - reach))
+            keep = reaches.to_numpy() if hasattr(reaches, "to_numpy") else reaches
+            s, lq, anchor, tm = s[keep], lq[keep], anchor[keep], tm[keep]
+            t_max_s, t_min_l = t_max_s[keep], t_min_l[keep]
+        ext_s = np.maximum(0.0, anchor - self.curves.t_max[s]) / anchor
+        ext_s = np.maximum(ext_s, np.maximum(0.0, self.curves.t_min[s] - anchor) / anchor)
+        ext_l = np.maximum(0.0, self.curves.t_min[lq] - anchor) / anchor
+        ext_l = np.maximum(ext_l, np.maximum(0.0, anchor - self.curves.t_max[lq]) / anchor)
+        extrapolation = np.maximum(ext_s, ext_l)
+        checkable = extrapolation <= reach
+        # Crossings in the window [anchor/(1+w), anchor*(1+w)], searched in x = 1/T.
+        w = p["window"]
+        k = s.size
+        grid = int(p["grid"])
+        x_hi = (1.0 + w) / anchor
+        x_lo = 1.0 / (anchor * (1.0 + w))
+        frac = np.linspace(0.0, 1.0, grid)[None, :]
+        xs = x_lo[:, None] + (x_hi - x_lo)[:, None] * frac if k else np.empty((0, grid))
+        cs, cl = self.curves.take(s), self.curves.take(lq)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            ts = 1.0 / xs
+            f = ln_p_rows(cs, ts) - ln_p_rows(cl, ts)
+            sign = np.sign(f)
+            change = (
+                (sign[:, 1:] * sign[:, :-1] < 0) & np.isfinite(f[:, 1:]) & np.isfinite(f[:, :-1])
+            )
+        count = change.sum(axis=1) if k else np.zeros(0, dtype=int)
+        # Crossings that matter: sign changes of y_s - y_l counted only between grid points
+        # where the curves differ by more than the melting-point tolerance, so that two
+        # nearly parallel curves wandering within it are not "crossing twice".
+        tol = self.policy.thresholds("melting-point-mismatch")["tolerance"]
+        with np.errstate(invalid="ignore"):
+            sig = np.where(np.abs(f) > tol, sign, 0.0) if k else np.empty((0, grid))
+        significant = np.zeros(k, dtype=int)
+        if k:
+            order = np.argsort(sig == 0, axis=1, kind="stable")
+            packed = np.take_along_axis(sig, order, axis=1)
+            nz = packed != 0
+            flips = (packed[:, 1:] * packed[:, :-1] < 0) & nz[:, 1:] & nz[:, :-1]
+            significant = flips.sum(axis=1)
+        # The bracket nearest the anchor.
+        xa = 1.0 / anchor
+        mid = 0.5 * (xs[:, 1:] + xs[:, :-1]) if k else np.empty((0, grid - 1))
+        dist = np.where(change, np.abs(mid - xa[:, None]), np.inf)
+        j = np.argmin(dist, axis=1) if k else np.zeros(0, dtype=int)
+        has = count > 0
+        idx = np.arange(k)
+        lo_b = np.where(has, xs[idx, j] if k else 0.0, np.nan)
+        hi_b = np.where(has, xs[idx, np.minimum(j + 1, grid - 1)] if k else 0.0, np.nan)
+
+        def fun(x, r):
+            t = 1.0 / x
+            ys, ys1, _ = evaluate(cs.take(r), t, order=1)
+            yl, yl1, _ = evaluate(cl.take(r), t, order=1)
+            return ys - yl, -(ys1 - yl1) * t * t
+
+        root = np.full(k, np.nan)
+        if has.any():
+            hr = np.flatnonzero(has)
+            sub = bracketed_root(lambda x, r: fun(x, hr[r]), lo_b[hr], hi_b[hr])
+            root[hr] = sub
+        with np.errstate(divide="ignore", invalid="ignore"):
+            t_cross = 1.0 / root
+            ys, ys1, _ = evaluate(cs, np.where(np.isnan(t_cross), anchor, t_cross), order=1)
+            _, yl1, _ = evaluate(cl, np.where(np.isnan(t_cross), anchor, t_cross), order=1)
+        return {
+            "s": s,
+            "l": lq,
+            "anchor": anchor,
+            "tm": tm,
+            "checkable": checkable,
+            "extrapolation": extrapolation,
+            "crossings": count,
+            "significant_crossings": significant,
+            "T": t_cross,
+            "y": np.where(np.isnan(t_cross), np.nan, ys),
+            "slope_diff": np.where(np.isnan(t_cross), np.nan, ys1 - yl1),
+        }
+
+    def pair_finding(
+        self, check: str, k: int, message: str, evidence: dict, severity: Severity | None = None
+    ) -> Finding:
+        """A finding about pair ``k`` (both record ids, located at the solid record)."""
+        pr = self.pairs
+        s, lq = int(pr["s"][k]), int(pr["l"][k])
+        return self.finding(
+            check,
+            s,
+            message,
+            evidence,
+            records=(str(self.ids[s]), str(self.ids[lq])),
+            severity=severity,
+        )
+
+
+def ln_p_rows(curves: Curves, temperature: np.ndarray) -> np.ndarray:
+    """Ln P of curve i at the temperatures of row i of ``temperature`` (shape (n, m))."""
+    return evaluate(curves, temperature, order=0)[0]
+
+
+def _clean(evidence: dict) -> dict:
+    out = {}
+    for k, v in evidence.items():
+        if isinstance(v, np.generic):
+            v = v.item()
+        if isinstance(v, float) and not np.isfinite(v):
+            v = None
+        out[k] = v
+    return out

@@ -1,0 +1,148 @@
+"""The check registry: each check declares its name, severity, scope and thresholds.
+
+Metadata is declared in plain sight with :func:`check`; nothing is derived from class or
+function names. A duplicate name fails at import time.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Iterator
+from dataclasses import dataclass, field
+from enum import StrEnum
+
+from ..errors import UnknownCheckError
+
+__all__ = [
+    "Severity",
+    "Scope",
+    "Threshold",
+    "CheckSpec",
+    "REGISTRY",
+    "check",
+    "get_check",
+    "ordered",
+]
+
+
+class Severity(StrEnum):
+    """How serious a finding is; each carries its SARIF 2.1.0 ``level``."""
+
+    error = "error"
+    warning = "warning"
+    note = "note"
+
+    @property
+    def sarif_level(self) -> str:
+        """The SARIF ``result.level`` of this severity."""
+        return self.value
+
+    @property
+    def rank(self) -> int:
+        """2 for error, 1 for warning, 0 for note (for sorting and ``--fail-on``)."""
+        return {"error": 2, "warning": 1, "note": 0}[self.value]
+
+
+class Scope(StrEnum):
+    """What one evaluation of a check looks at."""
+
+    record = "record"
+    pair = "pair"
+    sources = "sources"
+
+
+@dataclass(frozen=True)
+class Threshold:
+    """A tunable number of a check, with its documented default.
+
+    Attributes
+    ----------
+    name : str
+        Key in ``vpaudit.toml`` under ``[checks.<check>]``.
+    default : float
+        Value of the default (strict) preset.
+    unit : str
+        Unit of the value.
+    description : str
+        What the number bounds.
+    """
+
+    name: str
+    default: float
+    unit: str
+    description: str
+
+
+@dataclass(frozen=True)
+class CheckSpec:
+    """A registered check."""
+
+    name: str
+    severity: Severity
+    scope: Scope
+    summary: str
+    basis: str
+    thresholds: dict[str, Threshold]
+    func: Callable[..., Iterator]
+    doc: str = field(default="", compare=False)
+
+
+REGISTRY: dict[str, CheckSpec] = {}
+
+
+def check(
+    name: str,
+    severity: Severity,
+    scope: Scope,
+    summary: str,
+    basis: str,
+    thresholds: tuple[Threshold, ...] = (),
+):
+    """Register a check function under ``name``.
+
+    Parameters
+    ----------
+    name : str
+        The permanent name of the check (used in policy files, findings and SARIF rules).
+    severity : Severity
+        Default severity of its findings.
+    scope : Scope
+        Whether it looks at records, solid/liquid pairs or groups of sources.
+    summary : str
+        One line saying what it tests.
+    basis : str
+        The published rule, law or source behind it.
+    thresholds : tuple of Threshold
+        Its tunable numbers and their defaults.
+    """
+
+    def register(func):
+        if name in REGISTRY:
+            raise ValueError(f"check {name!r} is registered twice")
+        REGISTRY[name] = CheckSpec(
+            name,
+            severity,
+            scope,
+            summary,
+            basis,
+            {t.name: t for t in thresholds},
+            func,
+            (func.__doc__ or "").strip(),
+        )
+        return func
+
+    return register
+
+
+def get_check(name: str) -> CheckSpec:
+    """Return the registered check ``name``; an unknown name lists the valid ones."""
+    try:
+        return REGISTRY[name]
+    except KeyError:
+        raise UnknownCheckError(
+            f"unknown check {name!r}; registered checks: {', '.join(sorted(REGISTRY))}"
+        ) from None
+
+
+def ordered() -> list[CheckSpec]:
+    """Registered checks in registration (reading) order."""
+    return list(REGISTRY.values())

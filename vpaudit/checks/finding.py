@@ -1,0 +1,63 @@
+"""Findings: what a check reports. Data, never exceptions."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+from ._registry import Severity
+
+__all__ = ["Finding"]
+
+
+@dataclass(frozen=True)
+class Finding:
+    """One suspect entry, with the numbers behind the verdict.
+
+    Attributes
+    ----------
+    check : str
+        Name of the check that reported it.
+    severity : Severity
+        error, warning or note.
+    substance : str
+        The substance as the table names it.
+    records : tuple of str
+        Ids of the records involved (empty for a substance-level finding).
+    message : str
+        One plain sentence with the numbers and units.
+    evidence : dict
+        The numbers behind it; keys carry their unit (``crossing_K``, ``difference_lnP``).
+    suggestion : dict or None
+        A likely cause and fix, when the diagnosis finds one.
+    file, line : str or None, int or None
+        Where the first record stands in the table files.
+    """
+
+    check: str
+    severity: Severity
+    substance: str
+    records: tuple[str, ...]
+    message: str
+    evidence: dict[str, Any] = field(default_factory=dict)
+    suggestion: dict[str, Any] | None = None
+    file: str | None = None
+    line: int | None = None
+
+    @property
+    def key(self) -> tuple[str, str, tuple[str, ...]]:
+        """Identity across revisions: check, substance and record ids (not the message)."""
+        return (self.check, self.substance, tuple(sorted(self.records)))
+
+    def to_dict(self) -> dict[str, Any]:
+        """The JSON form (the output contract), with the location added."""
+        return {
+            "check": self.check,
+            "severity": self.severity.value,
+            "substance": self.substance,
+            "records": list(self.records),
+            "message": self.message,
+            "evidence": self.evidence,
+            "suggestion": self.suggestion,
+            "location": {"file": self.file, "line": self.line},
+        }

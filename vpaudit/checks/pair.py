@@ -1,0 +1,439 @@
+"""Checks of solid/liquid pairs of one substance: the triple point and Hess's law.
+
+At the triple point the solid's and the liquid's vapour pressures are equal, the solid curve
+is the steeper one (d(y_s - y_l)/dT = dH_fus/(R T^2) > 0), and dH_sub = dH_fus + dH_vap.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+from scipy.constants import R
+
+from ..equations.engine import evaluate
+from ._context import AuditContext
+from ._registry import Scope, Severity, Threshold, check
+from ._text import jk, kelvin, kj, ln_ratio, pressure
+
+__all__: list[str] = []
+
+
+@check(
+    "pair-not-checkable",
+    Severity.note,
+    Scope.pair,
+    "A solid/liquid pair whose ranges stop too far from the melting point to be compared.",
+    "Comparing two curves by extrapolating both far beyond their ranges tests the "
+    "extrapolation, not the data.",
+    (
+        Threshold(
+            "max_extrapolation",
+            0.25,
+            "-",
+            "largest distance from a range to the melting point, relative to it",
+        ),
+    ),
+)
+def pair_not_checkable(ctx: AuditContext):
+    """Pairs whose solid range ends, or liquid range starts, farther from the melting point
+    (reference, else the middle of the gap) than the limit are reported as not checkable,
+    and the other pair checks skip them.
+    """
+    pr = ctx.pairs
+    for k in np.flatnonzero(~pr["checkable"]):
+        yield ctx.pair_finding(
+            "pair-not-checkable",
+            k,
+            f"the solid and liquid ranges stop {pr['extrapolation'][k] * 100:.0f} % away from "
+            f"the melting region near {kelvin(pr['anchor'][k])}: the pair is not checked.",
+            {"extrapolation_fraction": pr["extrapolation"][k], "anchor_K": pr["anchor"][k]},
+        )
+
+
+@check(
+    "no-crossing",
+    Severity.error,
+    Scope.pair,
+    "The solid and liquid curves do not cross near the melting point.",
+    "At the triple point both phases have the same vapour pressure.",
+    (
+        Threshold(
+            "window",
+            0.3,
+            "-",
+            "half-width of the searched window around the melting point, relative, in 1/T",
+        ),
+        Threshold("grid", 48, "-", "points of the sign-change scan of the window"),
+    ),
+)
+def no_crossing(ctx: AuditContext):
+    """The difference y_s - y_l is scanned for sign changes on a grid in 1/T over the
+    window around the melting point and each bracket refined by safeguarded Newton. No
+    sign change means no triple point: a pressure-unit or base slip in one record, or a
+    record of another substance.
+    """
+    pr = ctx.pairs
+    w = ctx.thresholds("no-crossing")["window"]
+    for k in np.flatnonzero(pr["checkable"] & (pr["crossings"] == 0)):
+        s, lq = pr["s"][k], pr["l"][k]
+        a = pr["anchor"][k]
+        d = evaluate(ctx.curves.take([s]), a, 0)[0][0] - evaluate(ctx.curves.take([lq]), a, 0)[0][0]
+        yield ctx.pair_finding(
+            "no-crossing",
+            k,
+            f"the solid and liquid curves do not cross between {kelvin(a / (1 + w))} and "
+            f"{kelvin(a * (1 + w))}; at {kelvin(a)} they differ by {ln_ratio(d)}.",
+            {
+                "window_min_K": a / (1 + w),
+                "window_max_K": a * (1 + w),
+                "anchor_K": a,
+                "difference_lnP_at_anchor": d,
+            },
+        )
+
+
+@check(
+    "multiple-crossings",
+    Severity.warning,
+    Scope.pair,
+    "The solid and liquid curves cross more than once near the melting point.",
+    "Two smooth curves of the same substance meet once, at the triple point.",
+)
+def multiple_crossings(ctx: AuditContext):
+    """More than one crossing in the window where the curves separate by more than the
+    melting-point tolerance between crossings: at least one curve bends wrongly (a slipped
+    log T or D coefficient). Nearly parallel curves that wander across each other within the
+    tolerance (seen in evaluated data) are not reported.
+    """
+    pr = ctx.pairs
+    for k in np.flatnonzero(pr["checkable"] & (pr["significant_crossings"] > 1)):
+        yield ctx.pair_finding(
+            "multiple-crossings",
+            k,
+            f"the solid and liquid curves cross {int(pr['crossings'][k])} times near the "
+            f"melting point (the one nearest it at {kelvin(pr['T'][k])}), separating by more "
+            "than the melting-point tolerance in between; they should cross once.",
+            {"crossings": int(pr["crossings"][k]), "nearest_K": pr["T"][k]},
+        )
+
+
+def _crossed(ctx: AuditContext) -> np.ndarray:
+    pr = ctx.pairs
+    return pr["checkable"] & np.isfinite(pr["T"])
+
+
+@check(
+    "crossing-orientation",
+    Severity.error,
+    Scope.pair,
+    "At the crossing the solid curve is the flatter one, or the solid's range lies above "
+    "the liquid's.",
+    "d(ln P_s - ln P_l)/dT = dH_fus/(R T^2) > 0 at the triple point: the solid is stable "
+    "(lower P) below it.",
+)
+def crossing_orientation(ctx: AuditContext):
+    """A crossing where the solid curve is flatter implies dH_fus <= 0: the phase labels
+    are swapped or one record is broken. A solid range wholly above the liquid's says the
+    same.
+    """
+    pr = ctx.pairs
+    above = pr["checkable"] & (ctx.curves.t_min[pr["s"]] >= ctx.curves.t_max[pr["l"]])
+    wrong = _crossed(ctx) & ~(pr["slope_diff"] > 0)
+    for k in np.flatnonzero(wrong | above):
+        t = pr["T"][k]
+        hfus = R * t * t * pr["slope_diff"][k]
+        if wrong[k]:
+            msg = (
+                f"at the crossing ({kelvin(t)}) the solid curve is the flatter one, implying "
+                f"an enthalpy of fusion of {kj(hfus)} (must be positive): the solid and "
+                "liquid labels look swapped."
+            )
+        else:
+            msg = (
+                f"the solid's range ({kelvin(ctx.curves.t_min[pr['s'][k]])}..) lies above "
+                f"the liquid's (..{kelvin(ctx.curves.t_max[pr['l'][k]])}): the phase labels "
+                "look swapped."
+            )
+        yield ctx.pair_finding(
+            "crossing-orientation",
+            k,
+            msg,
+            {
+                "crossing_K": t,
+                "implied_fusion_enthalpy_J_per_mol": hfus,
+                "solid_range_above_liquid": bool(above[k]),
+            },
+        )
+
+
+@check(
+    "crossing-outside-range",
+    Severity.warning,
+    Scope.pair,
+    "The curves cross only where one record is extrapolated beyond its range, and they "
+    "disagree where the ranges end.",
+    "A curve is only vouched for inside its stated range; where the curves agree within "
+    "the melting-point tolerance at the end of the range, the crossing's position is noise "
+    "(the crossing moves by dy / d(y_s - y_l)/dT).",
+    (
+        Threshold(
+            "max_extrapolation",
+            0.03,
+            "-",
+            "largest extrapolation beyond a range, relative to the crossing T",
+        ),
+    ),
+)
+def crossing_outside_range(ctx: AuditContext):
+    """The crossing lies above the solid's t_max or below the liquid's t_min by more than
+    the allowed fraction, *and* at that range end the curves differ in ln P by more than the
+    melting-point tolerance: the triple point rests on an extrapolation the data do not
+    support. Two nearly parallel curves that agree at the range end within the tolerance may
+    cross far away without meaning anything (seen for Zr and Ti in the evaluated metals).
+    """
+    pr = ctx.pairs
+    lim = ctx.thresholds("crossing-outside-range")["max_extrapolation"]
+    tol = ctx.thresholds("melting-point-mismatch")["tolerance"]
+    t = pr["T"]
+    s_lo, s_hi = ctx.curves.t_min[pr["s"]], ctx.curves.t_max[pr["s"]]
+    l_lo, l_hi = ctx.curves.t_min[pr["l"]], ctx.curves.t_max[pr["l"]]
+    with np.errstate(invalid="ignore"):
+        over_s = np.maximum(t - s_hi, s_lo - t) / t
+        over_l = np.maximum(l_lo - t, t - l_hi) / t
+        worst = np.fmax(over_s, over_l)
+        edge = np.where(over_s >= over_l, np.clip(t, s_lo, s_hi), np.clip(t, l_lo, l_hi))
+    edge = np.where(np.isfinite(edge), edge, pr["anchor"])
+    d = (
+        evaluate(ctx.curves.take(pr["s"]), edge, 0)[0]
+        - evaluate(ctx.curves.take(pr["l"]), edge, 0)[0]
+    )
+    with np.errstate(invalid="ignore"):
+        bad = _crossed(ctx) & (worst > lim) & (np.abs(d) > tol)
+    for k in np.flatnonzero(bad):
+        which = "solid" if over_s[k] >= over_l[k] else "liquid"
+        yield ctx.pair_finding(
+            "crossing-outside-range",
+            k,
+            f"the curves cross at {kelvin(t[k])}, {worst[k] * 100:.1f} % beyond the {which} "
+            f"record's range (limit {lim * 100:g} %), and where that range ends "
+            f"({kelvin(edge[k])}) they differ by {ln_ratio(d[k])}: the triple point rests on an "
+            "extrapolation.",
+            {
+                "crossing_K": t[k],
+                "extrapolation_fraction": worst[k],
+                "record": which,
+                "limit": lim,
+                "range_end_K": edge[k],
+                "difference_lnP_at_range_end": d[k],
+            },
+        )
+
+
+def _fusion_enthalpy(ctx: AuditContext, at: np.ndarray) -> np.ndarray:
+    pr = ctx.pairs
+    cs, cl = ctx.curves.take(pr["s"]), ctx.curves.take(pr["l"])
+    _, s1, _ = evaluate(cs, at, 1)
+    _, l1, _ = evaluate(cl, at, 1)
+    return R * at * at * s1, R * at * at * l1
+
+
+@check(
+    "melting-point-mismatch",
+    Severity.error,
+    Scope.pair,
+    "Solid and liquid curves disagree in ln P at the reference melting point.",
+    "The triple point lies within hundredths of a kelvin of the normal melting point; "
+    "the equations must agree there (tested in ln P, the quantity they determine).",
+    (Threshold("tolerance", 0.05, "ln P", "largest |ln P_s - ln P_l| at the melting point"),),
+)
+def melting_point_mismatch(ctx: AuditContext):
+    """The primary triple-point test. A fixed tolerance on the crossing *temperature* fails
+    good data: the crossing moves by dT = -(y_s - y_l) R Tm^2 / dH_fus, hundreds of kelvin per
+    unit of ln P for a high-melting metal. So the pressure mismatch at the reference melting
+    point is tested, and the crossing temperature, its distance from the reference and the
+    kelvin tolerance derived from the ln P one are reported as evidence.
+    """
+    pr = ctx.pairs
+    tol = ctx.thresholds("melting-point-mismatch")["tolerance"]
+    tm = pr["tm"]
+    rows = np.flatnonzero(pr["checkable"] & np.isfinite(tm))
+    if rows.size == 0:
+        return
+    cs, cl = ctx.curves.take(pr["s"][rows]), ctx.curves.take(pr["l"][rows])
+    ys, s1, _ = evaluate(cs, tm[rows], 1)
+    yl, l1, _ = evaluate(cl, tm[rows], 1)
+    d = ys - yl
+    bad = ~(np.abs(d) <= tol)
+    hfus_ref = ctx.reference("enthalpy_of_fusion", ctx.substance[pr["s"][rows]])
+    hfus_imp = R * tm[rows] ** 2 * (s1 - l1)
+    hfus = np.where(np.isfinite(hfus_ref) & (hfus_ref > 0), hfus_ref, np.abs(hfus_imp))
+    k_tol = tol * R * tm[rows] ** 2 / hfus
+    for j in np.flatnonzero(bad):
+        k = rows[j]
+        t = pr["T"][k]
+        cross = (
+            f"they cross at {kelvin(t)}, {t - tm[k]:+.4g} K from it"
+            if np.isfinite(t)
+            else "they do not cross nearby"
+        )
+        yield ctx.pair_finding(
+            "melting-point-mismatch",
+            k,
+            f"at the reference melting point {kelvin(tm[k])} the solid and liquid curves "
+            f"differ by {ln_ratio(d[j])}, beyond the tolerance of {tol:g}; {cross} (the "
+            f"tolerance in kelvin is about +/-{k_tol[j]:.3g} K).",
+            {
+                "melting_point_K": tm[k],
+                "difference_lnP": d[j],
+                "tolerance_lnP": tol,
+                "crossing_K": t,
+                "crossing_minus_melting_K": t - tm[k],
+                "tolerance_K": k_tol[j],
+            },
+        )
+
+
+@check(
+    "triple-pressure-mismatch",
+    Severity.warning,
+    Scope.pair,
+    "The pressure at the crossing differs from a reference triple-point pressure.",
+    "Both curves pass through the triple point (T_tp, P_tp).",
+    (Threshold("tolerance", 0.10, "ln P", "largest |ln P_cross - ln P_tp|"),),
+)
+def triple_pressure_mismatch(ctx: AuditContext):
+    """Compared in ln P at the crossing; the solid curve's value at the reference triple
+    temperature is used when the curves do not cross.
+    """
+    pr = ctx.pairs
+    tol = ctx.thresholds("triple-pressure-mismatch")["tolerance"]
+    ptp = ctx.reference("triple_point_pressure", ctx.substance[pr["s"]])
+    rows = np.flatnonzero(pr["checkable"] & np.isfinite(ptp) & np.isfinite(pr["y"]))
+    for k in rows:
+        d = pr["y"][k] - np.log(ptp[k])
+        if abs(d) > tol:
+            yield ctx.pair_finding(
+                "triple-pressure-mismatch",
+                k,
+                f"the curves cross at {pressure(np.exp(pr['y'][k]))} ({kelvin(pr['T'][k])}), "
+                f"{ln_ratio(d)} away from the reference triple-point pressure "
+                f"{pressure(ptp[k])}.",
+                {
+                    "crossing_pressure_Pa": float(np.exp(pr["y"][k])),
+                    "reference_Pa": ptp[k],
+                    "difference_lnP": d,
+                    "tolerance_lnP": tol,
+                },
+            )
+
+
+@check(
+    "fusion-enthalpy-mismatch",
+    Severity.warning,
+    Scope.pair,
+    "Hess's law at the melting point: dH_sub - dH_vap differs from the reference dH_fus.",
+    "Hess's law at the triple point, dH_sub = dH_fus + dH_vap; the residual is measured "
+    "relative to dH_sub, the quantity the curves determine.",
+    (Threshold("tolerance", 0.03, "-", "largest |dH_sub - dH_vap - dH_fus| / dH_sub"),),
+)
+def fusion_enthalpy_mismatch(ctx: AuditContext):
+    """The difference of two large slopes is sensitive: dH_fus of a metal is a few percent
+    of dH_sub, so a 1 % error in one slope becomes a 30-40 % error in the implied dH_fus.
+    Hence the residual relative to dH_sub. Evaluated at the reference melting point, else at
+    the crossing.
+    """
+    pr = ctx.pairs
+    tol = ctx.thresholds("fusion-enthalpy-mismatch")["tolerance"]
+    ref = ctx.reference("enthalpy_of_fusion", ctx.substance[pr["s"]])
+    at = np.where(np.isfinite(pr["tm"]), pr["tm"], pr["T"])
+    rows = np.flatnonzero(pr["checkable"] & np.isfinite(ref) & np.isfinite(at))
+    if rows.size == 0:
+        return
+    hs, hl = _fusion_enthalpy(ctx, np.where(np.isfinite(at), at, 1.0))
+    for k in rows:
+        implied = hs[k] - hl[k]
+        rel = (implied - ref[k]) / hs[k]
+        if abs(rel) > tol:
+            yield ctx.pair_finding(
+                "fusion-enthalpy-mismatch",
+                k,
+                f"at {kelvin(at[k])} the curves imply dH_sub - dH_vap = {kj(implied)} against "
+                f"the reference dH_fus {kj(ref[k])}: a residual of {rel * 100:+.1f} % of "
+                f"dH_sub ({kj(hs[k])}), beyond {tol * 100:g} %.",
+                {
+                    "at_K": at[k],
+                    "implied_fusion_J_per_mol": implied,
+                    "reference_fusion_J_per_mol": ref[k],
+                    "sublimation_J_per_mol": hs[k],
+                    "vaporization_J_per_mol": hl[k],
+                    "residual_of_sublimation": rel,
+                    "tolerance": tol,
+                },
+            )
+
+
+@check(
+    "fusion-entropy-implausible",
+    Severity.note,
+    Scope.pair,
+    "The implied entropy of fusion lies outside the Richards/Walden range.",
+    "Richards' rule (dS_fus about R, 8-15 J/(mol K), for metals) and Walden's rule "
+    "(about 50-60 J/(mol K) for rigid organic molecules); common practice.",
+    (
+        Threshold("min", 2.0, "J/(mol K)", "lowest plausible dS_fus"),
+        Threshold("max", 100.0, "J/(mol K)", "highest plausible dS_fus"),
+    ),
+)
+def fusion_entropy_implausible(ctx: AuditContext):
+    """dS_fus = R T (d(y_s - y_l)/dT) at the crossing, against a wide band (a note: the
+    implied dH_fus is a sensitive difference of slopes).
+    """
+    pr = ctx.pairs
+    th = ctx.thresholds("fusion-entropy-implausible")
+    ok = _crossed(ctx) & (pr["slope_diff"] > 0)
+    ds = R * pr["T"] * pr["slope_diff"]
+    with np.errstate(invalid="ignore"):
+        bad = ok & ~((ds >= th["min"]) & (ds <= th["max"]))
+    for k in np.flatnonzero(bad):
+        yield ctx.pair_finding(
+            "fusion-entropy-implausible",
+            k,
+            f"the implied entropy of fusion at the crossing ({kelvin(pr['T'][k])}) is "
+            f"{jk(ds[k])}, outside the usual {th['min']:g}..{th['max']:g} J/(mol K).",
+            {"fusion_entropy_J_per_mol_K": ds[k], "crossing_K": pr["T"][k]},
+        )
+
+
+@check(
+    "range-gap",
+    Severity.warning,
+    Scope.pair,
+    "The solid's range ends, or the liquid's starts, far from the melting point.",
+    "A solid curve usually ends at the melting point and a liquid curve starts there.",
+    (Threshold("max_gap", 0.03, "-", "largest gap to the melting point, relative to it"),),
+)
+def range_gap(ctx: AuditContext):
+    """Temperatures between the end of the solid range and the start of the liquid range
+    (around the reference melting point, else the crossing) are covered by no record.
+    """
+    pr = ctx.pairs
+    lim = ctx.thresholds("range-gap")["max_gap"]
+    at = np.where(np.isfinite(pr["tm"]), pr["tm"], pr["T"])
+    with np.errstate(invalid="ignore"):
+        gap_s = (at - ctx.curves.t_max[pr["s"]]) / at
+        gap_l = (ctx.curves.t_min[pr["l"]] - at) / at
+        bad = pr["checkable"] & np.isfinite(at) & ((gap_s > lim) | (gap_l > lim))
+    for k in np.flatnonzero(bad):
+        yield ctx.pair_finding(
+            "range-gap",
+            k,
+            f"no record covers {kelvin(min(ctx.curves.t_max[pr['s'][k]], at[k]))}.."
+            f"{kelvin(max(ctx.curves.t_min[pr['l'][k]], at[k]))} around the melting point "
+            f"{kelvin(at[k])} (solid ends {gap_s[k] * 100:.1f} % below, liquid starts "
+            f"{gap_l[k] * 100:.1f} % above; limit {lim * 100:g} %).",
+            {
+                "melting_point_K": at[k],
+                "solid_gap_fraction": gap_s[k],
+                "liquid_gap_fraction": gap_l[k],
+                "limit": lim,
+            },
+        )

@@ -1,0 +1,91 @@
+"""Provenance hygiene: every value cites its source, and no record is entered twice."""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+from ..equations.forms import COEFFICIENTS
+from ._context import AuditContext
+from ._registry import Scope, Severity, check
+from .finding import Finding
+
+__all__: list[str] = []
+
+
+def _problem_findings(
+    ctx: AuditContext, check_name: str, rules: list[str], severity: Severity | None = None
+):
+    problems = ctx.table.problems
+    if not len(problems):
+        return
+    sev = severity or ctx.severity(check_name)
+    for _, pr in problems.loc[problems["rule"].isin(rules)].iterrows():
+        rid = pr["id"]
+        records = (str(rid),) if isinstance(rid, str) else ()
+        yield Finding(
+            check=check_name,
+            severity=sev,
+            substance=str(pr["substance"]),
+            records=records,
+            message=f"{pr['message']}.",
+            evidence={"field": pr["column"]},
+            file=str(pr["file"]),
+            line=int(pr["line"]),
+        )
+
+
+@check(
+    "missing-source",
+    Severity.error,
+    Scope.record,
+    "A record, reference value or measured point cites no source.",
+    "Every number in a property table must be traceable to its origin.",
+)
+def missing_source(ctx: AuditContext):
+    """An empty ``source`` field in any of the three kinds of rows."""
+    yield from _problem_findings(ctx, "missing-source", ["source"])
+
+
+@check(
+    "duplicate-record",
+    Severity.error,
+    Scope.record,
+    "Two records share an id, or the same equation is entered twice under two ids.",
+    "Ids must be unique and stable; a duplicated entry counts one source twice.",
+)
+def duplicate_record(ctx: AuditContext):
+    """A repeated id is an error (the id is the record's identity in the store, in findings
+    and in the gate). The same substance, phase, form, units and coefficients under two ids
+    is reported as a warning: it counts one source twice in the consensus.
+    """
+    yield from _problem_findings(ctx, "duplicate-record", ["duplicate-id"])
+    rec = ctx.table.records
+    if not len(rec):
+        return
+    key_cols = [
+        "substance",
+        "phase",
+        "form",
+        "log_base",
+        "pressure_unit",
+        "temperature_unit",
+        *COEFFICIENTS,
+    ]
+    keys = rec[key_cols].astype(str)
+    dup = keys.duplicated(keep=False).to_numpy() & ~rec["id"].duplicated(keep=False).to_numpy()
+    if not dup.any():
+        return
+    groups = pd.Series(np.flatnonzero(dup)).groupby(keys[dup].apply(tuple, axis=1).to_numpy())
+    for _, members in groups:
+        rows = members.to_numpy()
+        ids = tuple(str(ctx.ids[r]) for r in rows)
+        yield ctx.finding(
+            "duplicate-record",
+            int(rows[0]),
+            f"records {', '.join(ids)} hold the same equation: one source counted "
+            f"{len(ids)} times.",
+            {"records": len(ids)},
+            records=ids,
+            severity=Severity.warning,
+        )

@@ -1,0 +1,507 @@
+"""Checks of single records: range, finiteness, slope, magnitudes, references, points."""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+from scipy.constants import R
+
+from ..equations.engine import evaluate, temperature_at
+from ._context import LN_P_STANDARD, AuditContext
+from ._registry import Scope, Severity, Threshold, check
+from ._text import jk, kelvin, kj, ln_ratio
+
+__all__: list[str] = []
+
+
+@check(
+    "range-invalid",
+    Severity.error,
+    Scope.record,
+    "The validity range is missing, empty, below 0 K, or holds an Antoine pole.",
+    "An equation is only defined on its stated range; the Antoine form diverges at theta = -C.",
+)
+def range_invalid(ctx: AuditContext):
+    """Report rule problems of the range read from the table (missing, empty, t_min <= 0 K,
+    an Antoine pole theta = -C inside [t_min, t_max]).
+
+    Such a record cannot be evaluated over its range; every other check skips it.
+    """
+    problems = ctx.table.problems
+    if not len(problems):
+        return
+    rows = problems.loc[problems["rule"].isin(["range", "pole"])]
+    index = pd.Series(np.arange(ctx.n), index=pd.Index(ctx.ids)).groupby(level=0).first()
+    for _, pr in rows.iterrows():
+        i = int(index.get(pr["id"], -1))
+        if i < 0:
+            continue
+        yield ctx.finding("range-invalid", i, f"{pr['message']}.", {"field": pr["column"]})
+
+
+@check(
+    "pressure-not-finite",
+    Severity.error,
+    Scope.record,
+    "ln P overflows, underflows or is not finite somewhere in the range.",
+    "A double holds P between about 1e-308 and 1e308 Pa; outside, the value is lost.",
+    (Threshold("max_abs_lnP", 700.0, "-", "largest |ln(P/Pa)| accepted"),),
+)
+def pressure_not_finite(ctx: AuditContext):
+    """Evaluate ln P at the ends of the range and at the stationary points of the curve; a
+    non-finite value or |ln(P/Pa)| beyond the limit is an error (overflowing exponent,
+    wrong sign of a large coefficient, a Wagner record above its critical point).
+    """
+    lim = ctx.thresholds("pressure-not-finite")["max_abs_lnP"]
+    ex = ctx.range_extrema
+    with np.errstate(invalid="ignore"):
+        bad = ctx.evaluable & ~(
+            np.isfinite(ex["y_min"])
+            & np.isfinite(ex["y_max"])
+            & (np.abs(ex["y_min"]) <= lim)
+            & (np.abs(ex["y_max"]) <= lim)
+        )
+    for i in np.flatnonzero(bad):
+        lo, hi = ex["y_min"][i], ex["y_max"][i]
+        yield ctx.finding(
+            "pressure-not-finite",
+            i,
+            f"ln(P/Pa) runs from {lo:.4g} to {hi:.4g} over {kelvin(ctx.curves.t_min[i])}.."
+            f"{kelvin(ctx.curves.t_max[i])}: beyond +/-{lim:g}, or not finite, the pressure "
+            "cannot be represented; check the coefficients' signs and exponents.",
+            {"lnP_min": lo, "lnP_max": hi, "limit_lnP": lim},
+        )
+
+
+@check(
+    "slope-not-positive",
+    Severity.error,
+    Scope.record,
+    "The implied enthalpy dH = R T^2 dlnP/dT is not positive everywhere in the range.",
+    "Clausius-Clapeyron: vapour pressure rises with temperature, dH > 0.",
+)
+def slope_not_positive(ctx: AuditContext):
+    """Vapour pressure must rise with temperature over the whole validity range.
+
+    The minimum of dH(T) over the range is found exactly: at the ends, or where dH is
+    stationary (dCp = 0), which the log-linear and Antoine forms give analytically; Wagner
+    curves are scanned on a 64-point grid. A non-positive minimum means a lost sign (usually
+    of the 1/T coefficient) or a curve used far outside its range.
+    """
+    ex = ctx.range_extrema
+    with np.errstate(invalid="ignore"):
+        bad = ctx.evaluable & ~(ex["h_min"] > 0)
+    for i in np.flatnonzero(bad):
+        h, t = ex["h_min"][i], ex["h_min_T"][i]
+        yield ctx.finding(
+            "slope-not-positive",
+            i,
+            f"the implied enthalpy falls to {kj(h)} at {kelvin(t)}: vapour pressure must rise "
+            "with temperature; a sign of the 1/T coefficient is the usual cause.",
+            {"enthalpy_min_J_per_mol": h, "at_K": t},
+        )
+
+
+@check(
+    "enthalpy-implausible",
+    Severity.error,
+    Scope.record,
+    "The implied standard entropy of the phase change lies outside a plausible band.",
+    "Trouton's rule (dS_vap about 85-88 J/(mol K) at the normal boiling point, 50-150 in "
+    "practice) and its generalisation dS = dH/T + R ln(P/P0) at any temperature; common "
+    "practice.",
+    (
+        Threshold("liquid_min", 45.0, "J/(mol K)", "lowest plausible dS of vaporization"),
+        Threshold("liquid_max", 160.0, "J/(mol K)", "highest plausible dS of vaporization"),
+        Threshold("solid_min", 60.0, "J/(mol K)", "lowest plausible dS of sublimation"),
+        Threshold("solid_max", 230.0, "J/(mol K)", "highest plausible dS of sublimation"),
+    ),
+)
+def enthalpy_implausible(ctx: AuditContext):
+    """The entropy of the phase change to the ideal gas at P0 = 101325 Pa,
+    dS = dH(T)/T + R ln(P(T)/P0), is nearly the same for most substances at any T (at the
+    normal boiling point it is Trouton's dH_vap/T_b). It is evaluated at the reference
+    normal boiling point when that lies in a liquid record's range, else at the middle of the
+    range in 1/T. A log10/ln slip scales dH by 2.3; a pressure-unit slip shifts R ln P by
+    R ln(factor) (96 J/(mol K) for atm read as Pa): both leave the band.
+    """
+    th = ctx.thresholds("enthalpy-implausible")
+    rows = np.flatnonzero(ctx.evaluable)
+    if rows.size == 0:
+        return
+    c = ctx.curves.take(rows)
+    t_mid = 2.0 / (1.0 / c.t_min + 1.0 / c.t_max)
+    tb = ctx.reference("normal_boiling_point")[rows]
+    use_tb = ctx.liquid[rows] & (tb >= c.t_min) & (tb <= c.t_max)
+    t = np.where(use_tb, tb, t_mid)
+    y, y1, _ = evaluate(c, t, order=1)
+    ds = R * t * y1 + R * (y - LN_P_STANDARD)
+    liquid = ctx.liquid[rows]
+    lo = np.where(liquid, th["liquid_min"], th["solid_min"])
+    hi = np.where(liquid, th["liquid_max"], th["solid_max"])
+    with np.errstate(invalid="ignore"):
+        bad = ~((ds >= lo) & (ds <= hi))
+    for k in np.flatnonzero(bad):
+        i = rows[k]
+        what = "vaporization" if liquid[k] else "sublimation"
+        hint = (
+            " Usual causes: log10 coefficients read as ln or the reverse (dH off by a "
+            "factor 2.3), or a wrong pressure unit (dS shifted by R ln of the factor)."
+        )
+        yield ctx.finding(
+            "enthalpy-implausible",
+            i,
+            f"the implied entropy of {what} is {jk(ds[k])} at {kelvin(t[k])} (dH = "
+            f"{kj(R * t[k] ** 2 * y1[k])}), outside the plausible {lo[k]:g}..{hi[k]:g} "
+            f"J/(mol K).{hint}",
+            {
+                "entropy_J_per_mol_K": ds[k],
+                "at_K": t[k],
+                "enthalpy_J_per_mol": R * t[k] ** 2 * y1[k],
+                "band_min": lo[k],
+                "band_max": hi[k],
+                "at_boiling_point": bool(use_tb[k]),
+            },
+        )
+
+
+@check(
+    "heat-capacity-sign",
+    Severity.warning,
+    Scope.record,
+    "The implied dCp = Cp(gas) - Cp(condensed) is clearly positive in the range.",
+    "Cp of a condensed phase exceeds that of its vapour for nearly every substance "
+    "(Dulong-Petit 3R for solids, 5/2 R for a monatomic gas); common practice.",
+    (
+        Threshold("tolerance", 10.0, "J/(mol K)", "largest positive dCp accepted"),
+        Threshold("error_above", 60.0, "J/(mol K)", "dCp above which the finding is an error"),
+        Threshold("antoine_factor", 3.0, "-", "widening of both limits for Antoine records"),
+    ),
+)
+def heat_capacity_sign(ctx: AuditContext):
+    """DCp comes from the curvature and is poorly fixed by a narrow-range fit: small
+    positive values (a few J/(mol K)) occur in good fits (even in fits to ice, whose Cp
+    falls with temperature), so only values beyond the tolerance are reported, and only
+    values far beyond it are errors. A two-term equation implies dCp = 0 exactly, a choice,
+    not an error. The Antoine form's implied dCp swings widely, so its limits are wider.
+    """
+    th = ctx.thresholds("heat-capacity-sign")
+    ex = ctx.range_extrema
+    factor = np.where(ctx.form == "antoine", th["antoine_factor"], 1.0)
+    with np.errstate(invalid="ignore"):
+        bad = ctx.evaluable & (ex["cp_max"] > th["tolerance"] * factor)
+    for i in np.flatnonzero(bad):
+        cp, t = ex["cp_max"][i], ex["cp_max_T"][i]
+        sev = Severity.error if cp > th["error_above"] * factor[i] else None
+        yield ctx.finding(
+            "heat-capacity-sign",
+            i,
+            f"the implied dCp reaches {jk(cp)} at {kelvin(t)}; it should be negative "
+            "(the condensed phase holds more heat than its vapour): check the sign of the "
+            "log T coefficient, or whether the curve is used outside its fitted range.",
+            {
+                "heat_capacity_change_J_per_mol_K": cp,
+                "at_K": t,
+                "tolerance": th["tolerance"] * factor[i],
+            },
+            severity=sev,
+        )
+
+
+@check(
+    "heat-capacity-magnitude",
+    Severity.warning,
+    Scope.record,
+    "|dCp| is far beyond what a condensed phase can have.",
+    "Condensed-phase heat capacities stay within a few hundred J/(mol K) for the "
+    "substances such tables hold; common practice.",
+    (
+        Threshold("limit", 250.0, "J/(mol K)", "largest |dCp| accepted"),
+        Threshold("antoine_factor", 3.0, "-", "widening for Antoine records"),
+    ),
+)
+def heat_capacity_magnitude(ctx: AuditContext):
+    """The largest |dCp| over the range is compared with a limit; ends of the range suffice
+    for log-linear forms (dCp is monotone in T), the Antoine dCp is also tested at its
+    stationary point, and Wagner curves on a grid. Large magnitudes mean a decimal slip in
+    the log T or D coefficient or a fit extrapolated far beyond its data.
+    """
+    th = ctx.thresholds("heat-capacity-magnitude")
+    ex = ctx.range_extrema
+    mag = np.fmax(np.abs(ex["cp_min"]), np.abs(ex["cp_max"]))
+    limit = th["limit"] * np.where(ctx.form == "antoine", th["antoine_factor"], 1.0)
+    with np.errstate(invalid="ignore"):
+        bad = ctx.evaluable & (mag > limit)
+    for i in np.flatnonzero(bad):
+        yield ctx.finding(
+            "heat-capacity-magnitude",
+            i,
+            f"the implied |dCp| reaches {jk(mag[i])} in the range, beyond the {limit[i]:g} "
+            "J/(mol K) a condensed phase plausibly has: look for a slipped decimal in the log T "
+            "or D coefficient.",
+            {"heat_capacity_change_abs_max_J_per_mol_K": mag[i], "limit": limit[i]},
+        )
+
+
+@check(
+    "above-critical",
+    Severity.error,
+    Scope.record,
+    "A liquid record's range passes the critical temperature.",
+    "The liquid-vapour curve ends at the critical point.",
+)
+def above_critical(ctx: AuditContext):
+    """A liquid record whose t_max exceeds the critical temperature (the reference value, or
+    the Wagner record's own Tc) describes no equilibrium above Tc.
+    """
+    tc = ctx.critical_temperature()
+    with np.errstate(invalid="ignore"):
+        bad = ctx.evaluable & ctx.liquid & (ctx.curves.t_max > tc)
+    for i in np.flatnonzero(bad):
+        yield ctx.finding(
+            "above-critical",
+            i,
+            f"the range ends at {kelvin(ctx.curves.t_max[i])}, above the critical temperature "
+            f"{kelvin(tc[i])}, where no liquid exists.",
+            {"t_max_K": ctx.curves.t_max[i], "critical_temperature_K": tc[i]},
+        )
+
+
+@check(
+    "boiling-point-mismatch",
+    Severity.error,
+    Scope.record,
+    "The liquid curve misses 101325 Pa at the reference normal boiling point.",
+    "Definition of the normal boiling point (P = 101325 Pa).",
+    (
+        Threshold("tolerance", 0.05, "ln P", "largest |ln P(Tb) - ln 101325|"),
+        Threshold(
+            "near",
+            0.10,
+            "-",
+            "relative distance of Tb from the range within which "
+            "a mismatch is an error (farther: a note)",
+        ),
+    ),
+)
+def boiling_point_mismatch(ctx: AuditContext):
+    """Compared in ln P, as for the melting point: ln P(T_b) - ln 101325 against the
+    tolerance (or the record's stated uncertainty if larger), with the implied boiling
+    temperature as evidence. When T_b lies far outside the range the check is a note: many
+    evaluated liquid equations stop hundreds of kelvin below the boiling point.
+    """
+    th = ctx.thresholds("boiling-point-mismatch")
+    tb = ctx.reference("normal_boiling_point")
+    rows = np.flatnonzero(ctx.evaluable & ctx.liquid & np.isfinite(tb))
+    if rows.size == 0:
+        return
+    c = ctx.curves.take(rows)
+    t = tb[rows]
+    y = evaluate(c, t, order=0)[0]
+    d = y - LN_P_STANDARD
+    unc = np.nan_to_num(ctx.uncertainty[rows], nan=0.0)
+    tol = np.maximum(th["tolerance"], unc)
+    with np.errstate(invalid="ignore"):
+        bad = ~(np.abs(d) <= tol)
+    if not bad.any():
+        return
+    dist = np.maximum(c.t_min - t, t - c.t_max).clip(min=0.0) / t
+    t_implied = temperature_at(c, LN_P_STANDARD, 0.5 * c.t_min, 3.0 * c.t_max)
+    for k in np.flatnonzero(bad):
+        i = rows[k]
+        far = dist[k] > th["near"]
+        sev = Severity.note if far else None
+        where = (
+            f"; {kelvin(t[k])} is {dist[k] * 100:.0f} % outside the range, so this is "
+            "an extrapolation"
+            if far
+            else ""
+        )
+        yield ctx.finding(
+            "boiling-point-mismatch",
+            i,
+            f"at the reference normal boiling point {kelvin(t[k])} the curve gives "
+            f"{np.exp(y[k]):.4g} Pa instead of 101325 Pa, off by {ln_ratio(d[k])}; "
+            + (
+                f"it reaches 101325 Pa at {kelvin(t_implied[k])}"
+                if np.isfinite(t_implied[k])
+                else f"it does not reach 101325 Pa between {kelvin(0.5 * c.t_min[k])} and "
+                f"{kelvin(3.0 * c.t_max[k])}"
+            )
+            + f"{where}.",
+            {
+                "boiling_point_K": t[k],
+                "difference_lnP": d[k],
+                "tolerance_lnP": tol[k],
+                "implied_boiling_point_K": t_implied[k],
+                "outside_range_fraction": dist[k],
+            },
+            severity=sev,
+        )
+
+
+def _delta_z(ctx: AuditContext, rows: np.ndarray, t: np.ndarray, y: np.ndarray):
+    """Z_vapour - Z_condensed estimated from a second-virial coefficient (Pitzer-Curl
+    correlation in the Abbott form, B Pc/(R Tc) = B0 + omega B1), the condensed Z neglected;
+    NaN where Tc and Pc are not known. The acentric factor comes from the curve itself.
+    """
+    tc = ctx.critical_temperature()[rows]
+    pc = ctx.reference("critical_pressure")[rows]
+    pc = np.where(
+        np.isnan(pc) & (ctx.curves.family[rows] == 2), np.exp(ctx.curves.params[rows, 7]), pc
+    )
+    c = ctx.curves.take(rows)
+    y07 = evaluate(c, 0.7 * tc, order=0)[0]
+    with np.errstate(invalid="ignore", divide="ignore"):
+        omega = -1.0 - (y07 - np.log(pc)) / np.log(10.0)
+        tr = t / tc
+        b0 = 0.083 - 0.422 / tr**1.6
+        b1 = 0.139 - 0.172 / tr**4.2
+        z = 1.0 + (b0 + omega * b1) * (np.exp(y) / pc) / tr
+    return z
+
+
+@check(
+    "enthalpy-mismatch",
+    Severity.warning,
+    Scope.record,
+    "The implied dH_vap or dH_sub differs from a reference value.",
+    "Clausius-Clapeyron; the slope gives dH/dZ, 2-7 % above dH_vap at a normal boiling "
+    "point (corrected with a Pitzer-Curl second virial coefficient where Tc and Pc are "
+    "known).",
+    (
+        Threshold("tolerance", 0.05, "-", "relative difference accepted"),
+        Threshold("nonideal_allowance", 0.07, "-", "added when P > 10 kPa and dZ is unknown"),
+        Threshold("error_above", 0.30, "-", "relative difference above which it is an error"),
+    ),
+)
+def enthalpy_mismatch(ctx: AuditContext):
+    """Each reference enthalpy of vaporization (liquid records) or sublimation (solid
+    records) is compared with R T^2 dlnP/dT * dZ at its stated temperature (298.15 K if none
+    is given), when that temperature lies within the record's range (+/- 5 %).
+    """
+    th = ctx.thresholds("enthalpy-mismatch")
+    refs = ctx.table.references
+    if not len(refs):
+        return
+    want = refs.loc[refs["quantity"].isin(["enthalpy_of_vaporization", "enthalpy_of_sublimation"])]
+    if not len(want):
+        return
+    rec = pd.DataFrame({"row": np.arange(ctx.n), "substance": ctx.substance, "phase": ctx.phase})
+    want = want.assign(
+        phase=np.where(want["quantity"] == "enthalpy_of_vaporization", "liquid", "solid")
+    )
+    m = rec.merge(want, on=["substance", "phase"])
+    rows = m["row"].to_numpy(dtype=np.int64)
+    t = m["at_temperature"].to_numpy(dtype=float, na_value=np.nan)
+    t = np.where(np.isnan(t), 298.15, t)
+    c = ctx.curves.take(rows)
+    inside = ctx.evaluable[rows] & (t >= 0.95 * c.t_min) & (t <= 1.05 * c.t_max)
+    y, y1, _ = evaluate(c, t, order=1)
+    apparent = R * t * t * y1
+    dz = _delta_z(ctx, rows, t, y)
+    known = np.isfinite(dz)
+    h = np.where(known, apparent * dz, apparent)
+    ref = m["value_si"].to_numpy(dtype=float)
+    rel = (h - ref) / ref
+    tol = th["tolerance"] + np.where(~known & (np.exp(y) > 1e4), th["nonideal_allowance"], 0)
+    with np.errstate(invalid="ignore"):
+        bad = inside & ~(np.abs(rel) <= tol)
+    for k in np.flatnonzero(bad):
+        i = rows[k]
+        sev = Severity.error if abs(rel[k]) > th["error_above"] else None
+        what = "vaporization" if ctx.liquid[i] else "sublimation"
+        yield ctx.finding(
+            "enthalpy-mismatch",
+            i,
+            f"the implied enthalpy of {what} at {kelvin(t[k])} is {kj(h[k])}, "
+            f"{rel[k] * 100:+.1f} % from the reference {kj(ref[k])} "
+            f"({m['source'].iat[k]}); tolerance {tol[k] * 100:.0f} %.",
+            {
+                "implied_J_per_mol": h[k],
+                "apparent_J_per_mol": apparent[k],
+                "delta_Z": dz[k] if known[k] else None,
+                "reference_J_per_mol": ref[k],
+                "relative_difference": rel[k],
+                "tolerance": tol[k],
+                "at_K": t[k],
+            },
+            severity=sev,
+        )
+
+
+@check(
+    "points-misfit",
+    Severity.warning,
+    Scope.record,
+    "Measured points deviate from the record beyond their uncertainty.",
+    "Residuals in ln P against the combined stated uncertainties (k-sigma test).",
+    (
+        Threshold("factor", 3.0, "-", "coverage factor k on the combined uncertainty"),
+        Threshold("default_uncertainty", 0.05, "-", "relative uncertainty when none is given"),
+        Threshold("range_margin", 0.02, "-", "relative margin beyond the range still compared"),
+    ),
+)
+def points_misfit(ctx: AuditContext):
+    """Every measured point of the record's substance and phase within its range (plus a
+    small margin) is compared in ln P; the uncertainty of each residual combines the point's
+    and the record's relative uncertainties. Reported with RMS and worst point.
+    """
+    th = ctx.thresholds("points-misfit")
+    pts = ctx.table.points
+    if not len(pts):
+        return
+    rec = pd.DataFrame(
+        {
+            "row": np.arange(ctx.n)[ctx.evaluable],
+            "substance": ctx.substance[ctx.evaluable],
+            "phase": ctx.phase[ctx.evaluable],
+        }
+    )
+    m = rec.merge(
+        pts[["substance", "phase", "T_K", "P_Pa", "uncertainty"]], on=["substance", "phase"]
+    )
+    if not len(m):
+        return
+    rows = m["row"].to_numpy(dtype=np.int64)
+    t = m["T_K"].to_numpy(dtype=float)
+    c = ctx.curves.take(rows)
+    margin = th["range_margin"]
+    inside = (t >= c.t_min * (1 - margin)) & (t <= c.t_max * (1 + margin))
+    y = evaluate(c, t, order=0)[0]
+    r = np.log(m["P_Pa"].to_numpy(dtype=float)) - y
+    u_pt = m["uncertainty"].to_numpy(dtype=float, na_value=np.nan)
+    u_rec = ctx.uncertainty[rows]
+    u_pt = np.where(np.isnan(u_pt), th["default_uncertainty"], u_pt)
+    u_rec = np.where(np.isnan(u_rec), 0.0, u_rec)
+    sigma = np.sqrt(u_pt**2 + u_rec**2)
+    z = np.abs(r) / sigma
+    frame = pd.DataFrame({"row": rows, "r": r, "z": z, "t": t})[inside]
+    if not len(frame):
+        return
+    g = frame.groupby("row")
+    stats = pd.DataFrame(
+        {
+            "rms": g["r"].apply(lambda v: float(np.sqrt(np.mean(v * v)))),
+            "zmax": g["z"].max(),
+            "n": g["r"].size(),
+        }
+    )
+    worst = frame.loc[g["z"].idxmax()].set_index("row")
+    for i, st in stats[stats["zmax"] > th["factor"]].iterrows():
+        w = worst.loc[i]
+        yield ctx.finding(
+            "points-misfit",
+            int(i),
+            f"{int(st['n'])} measured point(s) deviate by {st['rms']:.3g} in ln P (RMS); the "
+            f"worst, at {kelvin(w['t'])}, by {ln_ratio(w['r'])}, {w['z']:.1f} times its "
+            f"combined uncertainty (limit {th['factor']:g}).",
+            {
+                "points": int(st["n"]),
+                "rms_lnP": st["rms"],
+                "worst_lnP": w["r"],
+                "worst_at_K": w["t"],
+                "worst_sigmas": w["z"],
+                "factor": th["factor"],
+            },
+        )

@@ -1,0 +1,131 @@
+"""Checks across sources: several records of one substance and phase."""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+from ..equations.engine import evaluate
+from ._context import AuditContext
+from ._registry import Scope, Severity, Threshold, check
+from ._text import kelvin, ln_ratio
+
+__all__: list[str] = []
+
+_GRID = 9
+
+
+@check(
+    "sources-disagree",
+    Severity.warning,
+    Scope.sources,
+    "A record deviates from the consensus of the other sources of the same substance "
+    "and phase beyond the combined uncertainty.",
+    "Robust consensus: the median of the other records at each temperature of the common "
+    "range; a k-sigma test on the combined stated uncertainties.",
+    (
+        Threshold("factor", 2.0, "-", "coverage factor k on the combined uncertainty"),
+        Threshold("default_uncertainty", 0.05, "-", "relative uncertainty when none is given"),
+        Threshold("range_margin", 0.02, "-", "relative margin beyond a range still compared"),
+    ),
+)
+def sources_disagree(ctx: AuditContext):
+    """For each record, on a 9-point grid over its range (in 1/T), the other records of the
+    same substance, phase and modification that cover each temperature give a median; the
+    largest |ln P_i - median| is compared with k * sqrt(u_i^2 + u_others^2). With only two
+    records the disagreement is reported once, naming both, without blaming either.
+    """
+    th = ctx.thresholds("sources-disagree")
+    mod = ctx.table.records["modification"].to_numpy(dtype=object)
+    ok = ctx.evaluable
+    frame = pd.DataFrame(
+        {
+            "row": np.arange(ctx.n)[ok],
+            "substance": ctx.substance[ok],
+            "phase": ctx.phase[ok],
+            "mod": pd.Series(mod[ok], dtype=object).fillna("").to_numpy(),
+        }
+    )
+    frame["size"] = frame.groupby(["substance", "phase", "mod"])["row"].transform("size")
+    frame = frame[frame["size"] >= 2]
+    if not len(frame):
+        return
+    pairs = frame.merge(frame, on=["substance", "phase", "mod"], suffixes=("", "_o"))
+    pairs = pairs[pairs["row"] != pairs["row_o"]]
+    i = pairs["row"].to_numpy(dtype=np.int64)
+    j = pairs["row_o"].to_numpy(dtype=np.int64)
+    ci, cj = ctx.curves.take(i), ctx.curves.take(j)
+    frac = np.linspace(0.0, 1.0, _GRID)[None, :]
+    x = 1.0 / ci.t_max[:, None] + (1.0 / ci.t_min - 1.0 / ci.t_max)[:, None] * frac
+    t = 1.0 / x
+    m = th["range_margin"]
+    covered = (t >= cj.t_min[:, None] * (1 - m)) & (t <= cj.t_max[:, None] * (1 + m))
+    yj = np.where(covered, evaluate(cj, t, 0)[0], np.nan)
+    uj = np.where(np.isnan(ctx.uncertainty[j]), th["default_uncertainty"], ctx.uncertainty[j])
+    long = pd.DataFrame(
+        {
+            "i": np.repeat(i, _GRID),
+            "g": np.tile(np.arange(_GRID), i.size),
+            "y": yj.ravel(),
+            "u": np.repeat(uj, _GRID),
+        }
+    )
+    long = long[np.isfinite(long["y"].to_numpy())]
+    if not len(long):
+        return
+    cons = (
+        long.groupby(["i", "g"])
+        .agg(med=("y", "median"), u=("u", "mean"), others=("y", "size"))
+        .reset_index()
+    )
+    rows = cons["i"].to_numpy(dtype=np.int64)
+    g = cons["g"].to_numpy()
+    tt = 1.0 / (
+        1.0 / ctx.curves.t_max[rows]
+        + (1.0 / ctx.curves.t_min[rows] - 1.0 / ctx.curves.t_max[rows]) * g / (_GRID - 1)
+    )
+    yi = evaluate(ctx.curves.take(rows), tt, 0)[0]
+    d = yi - cons["med"].to_numpy()
+    ui = np.where(np.isnan(ctx.uncertainty[rows]), th["default_uncertainty"], ctx.uncertainty[rows])
+    tol = th["factor"] * np.sqrt(ui**2 + cons["u"].to_numpy() ** 2)
+    cons = cons.assign(d=d, ad=np.abs(d), tol=tol, t=tt, z=np.abs(d) / tol)
+    worst = cons.loc[cons.groupby("i")["z"].idxmax()]
+    worst = worst[worst["z"] > 1.0]
+    size = frame.set_index("row")["size"]
+    reported_pairs: set[tuple[int, int]] = set()
+    for _, w in worst.iterrows():
+        r = int(w["i"])
+        n = int(size.loc[r])
+        if n == 2:
+            other = int(
+                frame.loc[
+                    (frame["substance"] == ctx.substance[r])
+                    & (frame["phase"] == ctx.phase[r])
+                    & (frame["row"] != r),
+                    "row",
+                ].iloc[0]
+            )
+            key = (min(r, other), max(r, other))
+            if key in reported_pairs:
+                continue
+            reported_pairs.add(key)
+            first = key[0]
+            yield ctx.finding(
+                "sources-disagree",
+                first,
+                f"the two {ctx.phase[r]} records disagree by {ln_ratio(w['d'])} at "
+                f"{kelvin(w['t'])}, beyond their combined uncertainty ({w['tol']:.3g} in ln "
+                "P); with two sources neither can be blamed: a third source or measured points "
+                "decide.",
+                {"difference_lnP": w["d"], "at_K": w["t"], "tolerance_lnP": w["tol"], "sources": 2},
+                records=(str(ctx.ids[key[0]]), str(ctx.ids[key[1]])),
+            )
+        else:
+            yield ctx.finding(
+                "sources-disagree",
+                r,
+                f"this record deviates from the median of {n - 1} other sources by "
+                f"{ln_ratio(w['d'])} at {kelvin(w['t'])}, {w['z']:.1f} times the combined "
+                f"uncertainty allowance ({w['tol']:.3g} in ln P).",
+                {"difference_lnP": w["d"], "at_K": w["t"], "tolerance_lnP": w["tol"], "sources": n},
+            )

@@ -1,0 +1,240 @@
+"""The ``vpaudit`` command line: click only. Parse options, call the library, render, exit.
+
+Exit status: 0 clean, 1 findings at or above ``--fail-on``, 2 usage or input error.
+"""
+
+from __future__ import annotations
+
+import json
+import sys
+from pathlib import Path
+
+import click
+
+from . import __version__
+from .errors import VpauditError
+
+EXIT_OK = 0
+EXIT_FINDINGS = 1
+EXIT_USAGE = 2
+
+FORMATS = ("text", "json", "markdown", "csv")
+
+
+class _Group(click.Group):
+    """Catch vpaudit's own errors: print ``ErrorName: message`` and exit 2."""
+
+    def invoke(self, ctx):  # noqa: D102
+        try:
+            return super().invoke(ctx)
+        except VpauditError as exc:
+            click.echo(f"{type(exc).__name__}: {exc}", err=True)
+            ctx.exit(EXIT_USAGE)
+
+
+@click.group(cls=_Group, context_settings={"help_option_names": ["-h", "--help"]})
+@click.version_option(__version__, prog_name="vpaudit")
+def main() -> None:
+    """Audit tables of vapour-pressure equation coefficients.
+
+    TABLE is a table directory (records/, references/, points/), a single table file, or a
+    .duckdb store made by 'vpaudit import'.
+    """
+
+
+def _emit(text: str, output: str | None) -> None:
+    if output:
+        Path(output).write_text(text, encoding="utf-8")
+    else:
+        click.echo(text, nl=False)
+
+
+# --- audit ---------------------------------------------------------------------------------
+
+
+@main.command("audit")
+@click.argument("table", type=click.Path(exists=True))
+@click.option("--format", "fmt", type=click.Choice(FORMATS), default="text", show_default=True)
+@click.option("--output", "-o", type=click.Path(dir_okay=False), help="Write the report here.")
+@click.option(
+    "--fail-on",
+    type=click.Choice(["error", "warning", "never"]),
+    default="error",
+    show_default=True,
+    help="Exit 1 when anything is at or above this severity.",
+)
+@click.option("--policy", help="A preset (evaluated, compilation) or a policy TOML file.")
+@click.option("--only", help="Comma-separated check names to run.")
+@click.option("--substance", multiple=True, help="Audit only this substance (repeatable).")
+@click.option("--db", type=click.Path(dir_okay=False), help="Store the run in this DuckDB file.")
+@click.option(
+    "--normalize-typography",
+    is_flag=True,
+    help="Rewrite PDF look-alikes in numbers (U+2212, thin spaces, 1.2D+03, x10^-3) "
+    "and list each rewrite.",
+)
+def audit_cmd(table, fmt, output, fail_on, policy, only, substance, db, normalize_typography):
+    """Test every record and solid/liquid pair of TABLE against thermodynamics."""
+    from .api import open_table
+    from .audit import audit_table
+    from .policy import load_policy
+    from .report import RENDERERS
+
+    t = open_table(table, normalize=normalize_typography)
+    _report_rewrites(t)
+    result = audit_table(
+        t,
+        load_policy(t.policy_path, policy),
+        only=[s.strip() for s in only.split(",")] if only else None,
+        substances=list(substance) or None,
+        table_path=str(table),
+    )
+    if db:
+        from .store import checkpoint, connect, write_run, write_table
+
+        con = connect(db)
+        try:
+            write_table(con, t, str(table))
+            write_run(con, result, str(table))
+            checkpoint(con)
+        finally:
+            con.close()
+    _emit(RENDERERS[fmt](result), output)
+    sys.exit(EXIT_FINDINGS if result.fails(fail_on) else EXIT_OK)
+
+
+def _report_rewrites(table) -> None:
+    for r in table.rewrites:
+        click.echo(
+            f"rewrote {r['file']}:{r['line']} [{r['column']}] {r['before']!r} -> "
+            f"{r['after']!r} ({r['rewrites']})",
+            err=True,
+        )
+
+
+# --- checks --------------------------------------------------------------------------------
+
+
+@main.command("checks")
+@click.option(
+    "--format",
+    "fmt",
+    type=click.Choice(["text", "json", "markdown"]),
+    default="text",
+    show_default=True,
+)
+def checks_cmd(fmt):
+    """List the checks with their severity, thresholds and the rule behind each."""
+    from .docs import checks_json, checks_markdown, checks_text
+
+    click.echo(
+        {"text": checks_text, "json": checks_json, "markdown": checks_markdown}[fmt](), nl=False
+    )
+
+
+# --- eval ----------------------------------------------------------------------------------
+
+
+@main.command("eval")
+@click.argument("table", type=click.Path(exists=True))
+@click.argument("substance")
+@click.option("--at", "at", help="Temperature, e.g. 1200K, 926.85degC (bare number: K).")
+@click.option("--pressure", help="Pressure, e.g. 1Pa, 0.01Torr (bare number: Pa).")
+@click.option("--unit", default="Pa", show_default=True, help="Pressure unit of the output.")
+@click.option("--extrapolate", is_flag=True, help="With --pressure, search beyond the ranges.")
+@click.option(
+    "--format", "fmt", type=click.Choice(["text", "json"]), default="text", show_default=True
+)
+def eval_cmd(table, substance, at, pressure, unit, extrapolate, fmt):
+    """Vapour pressure of SUBSTANCE at a temperature, or the temperature at a pressure."""
+    from .api import open_table
+    from .lookup import eval_substance
+    from .report.lookup import render_eval
+    from .units import parse_pressure, parse_temperature, pressure_factor
+
+    pressure_factor(unit)
+    t = parse_temperature(at) if at else None
+    p = parse_pressure(pressure) if pressure else None
+    answer = eval_substance(open_table(table), substance, t, p, extrapolate)
+    if fmt == "json":
+        click.echo(json.dumps(answer, indent=2))
+    else:
+        click.echo(render_eval(answer, unit), nl=False)
+
+
+# --- show ----------------------------------------------------------------------------------
+
+
+@main.command("show")
+@click.argument("table", type=click.Path(exists=True))
+@click.argument("substance")
+@click.option("--policy", help="A preset or a policy TOML file.")
+def show_cmd(table, substance, policy):
+    """Everything about one substance: records, crossings, references and findings."""
+    from .api import open_table
+    from .audit import audit_table
+    from .policy import load_policy
+    from .report.lookup import render_show
+
+    t = open_table(table)
+    from .lookup import substance_records
+
+    substance_records(t, substance)
+    result = audit_table(
+        t, load_policy(t.policy_path, policy), substances=[substance], table_path=str(table)
+    )
+    click.echo(render_show(t, substance, result), nl=False)
+
+
+# --- import / export -----------------------------------------------------------------------
+
+
+@main.command("import")
+@click.argument("table", type=click.Path(exists=True))
+@click.option(
+    "--db",
+    required=True,
+    type=click.Path(dir_okay=False),
+    help="The DuckDB file to write (created when missing).",
+)
+@click.option(
+    "--normalize-typography",
+    is_flag=True,
+    help="Rewrite PDF look-alikes in numbers and list each rewrite.",
+)
+def import_cmd(table, db, normalize_typography):
+    """Load TABLE into a DuckDB store, all or nothing."""
+    from .store import import_table
+
+    counts = import_table(
+        table,
+        db,
+        normalize=normalize_typography,
+        report=lambda r: click.echo(
+            f"rewrote {r['file']}:{r['line']} [{r['column']}] {r['before']!r} -> {r['after']!r}",
+            err=True,
+        ),
+    )
+    click.echo(
+        f"imported {counts['records']} records, {counts['references']} references and "
+        f"{counts['points']} points into {db}"
+    )
+
+
+@main.command("export")
+@click.option("--db", required=True, type=click.Path(exists=True, dir_okay=False))
+@click.option("--to", "to", required=True, type=click.Path(file_okay=False))
+def export_cmd(db, to):
+    """Write the table held in a DuckDB store back out as CSV files."""
+    from .api import open_table
+    from .writers import export_table
+
+    counts = export_table(open_table(db), to)
+    click.echo(
+        f"exported {counts['records']} records, {counts['references']} references and "
+        f"{counts['points']} points to {to}"
+    )
+
+
+if __name__ == "__main__":  # pragma: no cover
+    main()

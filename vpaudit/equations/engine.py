@@ -1,0 +1,381 @@
+"""Canonical evaluation of vapour-pressure equations over numpy arrays.
+
+Every record is turned once into canonical parameters of its *family*, in base e, pascal
+and kelvin:
+
+* ``log-linear`` (two-term, three-term, four-term-t, four-term-cube, power-term) -- all are
+  y = A + B/T + C ln T + D T^E, with E fixed at 1 (four-term-t) or -3 (four-term-cube) and
+  D = 0 where the form has no D term;
+* ``antoine`` -- y = A - B/(T + C) with T in kelvin;
+* ``wagner`` -- y = ln Pc + (Tc/T)(a tau + b tau^1.5 + c tau^e3 + d tau^e4), tau = 1 - T/Tc.
+
+Evaluation returns y = ln(P/Pa) and its analytic first and second derivatives with respect
+to T, from which the Clausius-Clapeyron relation gives the implied (apparent) enthalpy
+dH = R T^2 y' and heat-capacity change dCp = R (2 T y' + T^2 y'').
+
+References
+----------
+.. [1] W. Wagner, "New vapour pressure measurements for argon and nitrogen and a new method
+   for establishing rational vapour pressure equations", Cryogenics 13 (1973) 470-482.
+.. [2] C. Antoine, "Tensions des vapeurs; nouvelle relation entre les tensions et les
+   temperatures", C. R. Acad. Sci. 107 (1888) 681-684.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+from scipy.constants import R
+
+from ..units import PRESSURE_UNITS, TEMPERATURE_UNITS
+from .forms import FORMS, WAGNER
+
+__all__ = [
+    "FAMILY_CODES",
+    "Curves",
+    "curves_from_frame",
+    "evaluate",
+    "ln_pressure",
+    "enthalpy",
+    "heat_capacity_change",
+    "temperature_at",
+    "bracketed_root",
+]
+
+FAMILY_CODES = {"log-linear": 0, "antoine": 1, "wagner": 2}
+LN10 = float(np.log(10.0))
+NPARAM = 8
+
+
+@dataclass(frozen=True)
+class Curves:
+    """Canonical parameters of n records, ready for vectorized evaluation.
+
+    Attributes
+    ----------
+    family : ndarray of int8, shape (n,)
+        0 log-linear, 1 Antoine, 2 Wagner (:data:`FAMILY_CODES`).
+    params : ndarray, shape (n, 8)
+        Canonical parameters (module docstring); unused slots are 0. [base e, Pa, K]
+    t_min, t_max : ndarray, shape (n,)
+        Validity range. [K]
+    """
+
+    family: np.ndarray
+    params: np.ndarray
+    t_min: np.ndarray
+    t_max: np.ndarray
+
+    def __len__(self) -> int:
+        return len(self.family)
+
+    def take(self, rows) -> Curves:
+        """Return the curves of ``rows`` (an index array or boolean mask)."""
+        return Curves(self.family[rows], self.params[rows], self.t_min[rows], self.t_max[rows])
+
+
+def _column(frame: pd.DataFrame, name: str) -> np.ndarray:
+    return frame[name].to_numpy(dtype=float, na_value=np.nan)
+
+
+def curves_from_frame(records: pd.DataFrame) -> Curves:
+    """Build canonical :class:`Curves` from a records frame, column-wise.
+
+    Parameters
+    ----------
+    records : pandas.DataFrame
+        Columns ``form``, ``log_base``, ``pressure_unit``, ``temperature_unit``, ``A``..``E``,
+        ``t_crit``, ``p_crit``, ``t_min``, ``t_max`` as read from a table.
+
+    Returns
+    -------
+    Curves
+        One row per record, in the frame's order.
+
+    Notes
+    -----
+    A base-10 log-linear record becomes base e by multiplying A, B and D by ln 10 while C
+    (the log T coefficient) is unchanged, since ln 10 * C * log10 T = C ln T. A pressure unit
+    adds ln(factor) to the constant term. An Antoine record in degC or degF, with
+    T = s theta + o, becomes B' = s B and C' = s C - o (degC: C' = C - 273.15).
+    """
+    n = len(records)
+    form = records["form"].to_numpy(dtype=object)
+    base = records["log_base"].to_numpy(dtype=object)
+    lnb = np.where(base == "10", LN10, 1.0)
+    factor = pd.Series(records["pressure_unit"].to_numpy(dtype=object)).map(PRESSURE_UNITS)
+    lnf = np.log(factor.to_numpy(dtype=float, na_value=np.nan))
+    tunit = records["temperature_unit"].to_numpy(dtype=object)
+    scale = np.ones(n)
+    offset = np.zeros(n)
+    for unit, (s, o) in TEMPERATURE_UNITS.items():
+        m = tunit == unit
+        scale[m], offset[m] = s, o
+    A, B, C, D, E = (np.nan_to_num(_column(records, c)) for c in "ABCDE")
+    family = np.zeros(n, dtype=np.int8)
+    params = np.zeros((n, NPARAM))
+    for name, spec in FORMS.items():
+        m = form == name
+        if not m.any():
+            continue
+        family[m] = FAMILY_CODES[spec.family]
+        if spec.family == "log-linear":
+            params[m, 0] = lnb[m] * A[m] + lnf[m]
+            params[m, 1] = lnb[m] * B[m]
+            params[m, 2] = C[m]
+            params[m, 3] = lnb[m] * D[m]
+            params[m, 4] = E[m] if spec.exponent is None else spec.exponent
+            if "D" not in spec.coefficients:
+                params[m, 3:5] = 0.0
+        elif spec.family == "antoine":
+            params[m, 0] = lnb[m] * A[m] + lnf[m]
+            params[m, 1] = lnb[m] * scale[m] * B[m]
+            params[m, 2] = scale[m] * C[m] - offset[m]
+        else:
+            e3, e4 = WAGNER[name]
+            params[m, 0] = lnb[m] * A[m]
+            params[m, 1] = lnb[m] * B[m]
+            params[m, 2] = lnb[m] * C[m]
+            params[m, 3] = lnb[m] * D[m]
+            params[m, 4] = e3
+            params[m, 5] = e4
+            params[m, 6] = _column(records, "t_crit")[m]  # Wagner forms are written in K
+            params[m, 7] = np.log(_column(records, "p_crit")[m] * factor.to_numpy()[m])
+    t_min = _column(records, "t_min") * scale + offset
+    t_max = _column(records, "t_max") * scale + offset
+    return Curves(family, params, t_min, t_max)
+
+
+def _shape(p: np.ndarray, t: np.ndarray) -> np.ndarray:
+    return p.reshape((-1,) + (1,) * (t.ndim - 1))
+
+
+def _log_linear(p: np.ndarray, t: np.ndarray, order: int):
+    A, B, C, D, E = (_shape(p[:, i], t) for i in range(5))
+    inv = 1.0 / t
+    te = np.where(D != 0.0, t**E, 0.0)
+    y = A + B * inv + C * np.log(t) + D * te
+    if order == 0:
+        return y, None, None
+    y1 = (-B * inv + C + D * E * te) * inv
+    y2 = (2.0 * B * inv - C + D * E * (E - 1.0) * te) * inv * inv
+    return y, y1, y2
+
+
+def _antoine(p: np.ndarray, t: np.ndarray, order: int):
+    A, B, C = (_shape(p[:, i], t) for i in range(3))
+    s = t + C
+    y = A - B / s
+    if order == 0:
+        return y, None, None
+    y1 = B / (s * s)
+    y2 = -2.0 * y1 / s
+    return y, y1, y2
+
+
+def _wagner(p: np.ndarray, t: np.ndarray, order: int):
+    a, b, c, d, e3, e4, tc, lnpc = (_shape(p[:, i], t) for i in range(8))
+    with np.errstate(invalid="ignore"):
+        tau = 1.0 - t / tc
+        sq = np.sqrt(tau)
+        t3, t4 = tau**e3, tau**e4
+        S = a * tau + b * tau * sq + c * t3 + d * t4
+        y = lnpc + tc / t * S
+        if order == 0:
+            return y, None, None
+        # Derivatives of S with respect to tau, then the chain rule with dtau/dT = -1/Tc.
+        S1 = a + 1.5 * b * sq + c * e3 * t3 / tau + d * e4 * t4 / tau
+        S2 = 0.75 * b / sq + c * e3 * (e3 - 1.0) * t3 / tau**2 + d * e4 * (e4 - 1.0) * t4 / tau**2
+        y1 = -tc / t**2 * S - S1 / t
+        y2 = 2.0 * tc * S / t**3 + 2.0 * S1 / t**2 + S2 / (t * tc)
+    return y, y1, y2
+
+
+_FAMILIES = (_log_linear, _antoine, _wagner)
+
+
+def evaluate(curves: Curves, temperature, order: int = 2):
+    """Evaluate y = ln(P/Pa) and its derivatives for every curve.
+
+    Parameters
+    ----------
+    curves : Curves
+        n curves.
+    temperature : array_like, shape (n,) or (n, m)
+        Temperatures, one row per curve (broadcast from a scalar or shape (m,) too). [K]
+    order : int
+        0 for y only; 1 or 2 for y, dy/dT and d2y/dT2.
+
+    Returns
+    -------
+    y, dy, d2y : ndarray, shape of ``temperature``
+        ln(P/Pa) [-], its first [1/K] and second [1/K^2] derivatives (None when order is 0).
+    """
+    n = len(curves)
+    t = np.asarray(temperature, dtype=float)
+    if t.ndim == 0:
+        t = np.full(n, float(t))
+    elif t.ndim == 1 and t.shape[0] != n:
+        t = np.broadcast_to(t, (n, t.shape[0]))
+    t = np.asarray(t, dtype=float)
+    y = np.empty(t.shape)
+    y1 = np.empty(t.shape) if order else None
+    y2 = np.empty(t.shape) if order else None
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        for code, fn in enumerate(_FAMILIES):
+            rows = np.flatnonzero(curves.family == code)
+            if rows.size == 0:
+                continue
+            if rows.size == n:
+                a, b, c = fn(curves.params, t, order)
+                y[...] = a
+                if order:
+                    y1[...], y2[...] = b, c
+                continue
+            a, b, c = fn(curves.params[rows], t[rows], order)
+            y[rows] = a
+            if order:
+                y1[rows], y2[rows] = b, c
+    return y, y1, y2
+
+
+def ln_pressure(curves: Curves, temperature) -> np.ndarray:
+    """Return ln(P/Pa) of every curve at ``temperature`` [K] (see :func:`evaluate`)."""
+    return evaluate(curves, temperature, order=0)[0]
+
+
+def enthalpy(curves: Curves, temperature) -> np.ndarray:
+    """Implied (apparent) enthalpy of the phase change, dH = R T^2 d ln P/dT. [J/mol]
+
+    Notes
+    -----
+    Clausius-Clapeyron with an ideal vapour and a negligible condensed volume; near the
+    critical point this is dH/dZ rather than dH.
+    """
+    t = np.asarray(temperature, dtype=float)
+    _, y1, _ = evaluate(curves, t)
+    return R * np.broadcast_to(t, y1.shape) ** 2 * y1
+
+
+def heat_capacity_change(curves: Curves, temperature) -> np.ndarray:
+    """Implied dCp = Cp(gas) - Cp(condensed) = R (2 T y' + T^2 y''). [J/(mol K)]"""
+    t = np.asarray(temperature, dtype=float)
+    _, y1, y2 = evaluate(curves, t)
+    tt = np.broadcast_to(t, y1.shape)
+    return R * (2.0 * tt * y1 + tt * tt * y2)
+
+
+def bracketed_root(
+    fun: Callable[[np.ndarray, np.ndarray], tuple[np.ndarray, np.ndarray]],
+    lo: np.ndarray,
+    hi: np.ndarray,
+    iterations: int = 80,
+    xtol: float = 1e-14,
+) -> np.ndarray:
+    """Find one root per row of g(x) = 0 inside [lo, hi], safeguarded Newton over arrays.
+
+    Parameters
+    ----------
+    fun : callable
+        ``fun(x, rows) -> (g, dg/dx)`` for the rows ``rows`` (an index array) at ``x``.
+    lo, hi : ndarray, shape (k,)
+        Bracket ends; a row whose g does not change sign across them gets NaN.
+    iterations : int
+        Iteration cap (bisection alone halves the bracket each step).
+    xtol : float
+        Relative tolerance on x.
+
+    Returns
+    -------
+    ndarray, shape (k,)
+        The root of each row, NaN where there is no sign change.
+
+    Notes
+    -----
+    Each step takes the Newton step from the current point when it stays strictly inside the
+    bracket, and bisects otherwise; the bracket shrinks at every step, so the iteration
+    converges for any continuous g with a sign change, quadratically near a simple root.
+    """
+    a = np.array(lo, dtype=float)
+    b = np.array(hi, dtype=float)
+    k = a.size
+    rows = np.arange(k)
+    ga, _ = fun(a, rows)
+    gb, _ = fun(b, rows)
+    ok = np.isfinite(ga) & np.isfinite(gb) & (np.sign(ga) * np.sign(gb) <= 0)
+    root = np.full(k, np.nan)
+    exact_a = ok & (ga == 0)
+    exact_b = ok & (gb == 0) & ~exact_a
+    root[exact_a] = a[exact_a]
+    root[exact_b] = b[exact_b]
+    active = np.flatnonzero(ok & ~exact_a & ~exact_b)
+    # Orient each bracket so that g(a) < 0 < g(b).
+    flip = ga[active] > 0
+    a_act, b_act = a[active].copy(), b[active].copy()
+    a_act[flip], b_act[flip] = b[active][flip], a[active][flip]
+    x = 0.5 * (a_act + b_act)
+    for _ in range(iterations):
+        if active.size == 0:
+            break
+        g, dg = fun(x, active)
+        neg = g < 0
+        a_act = np.where(neg, x, a_act)
+        b_act = np.where(neg, b_act, x)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            newton = x - g / dg
+        lo_b, hi_b = np.minimum(a_act, b_act), np.maximum(a_act, b_act)
+        inside = np.isfinite(newton) & (newton > lo_b) & (newton < hi_b)
+        x_new = np.where(inside, newton, 0.5 * (a_act + b_act))
+        x_new = np.where(g == 0, x, x_new)
+        done = (
+            (np.abs(x_new - x) <= xtol * np.abs(x))
+            | (g == 0)
+            | (np.abs(hi_b - lo_b) <= xtol * np.abs(x))
+        )
+        x = x_new
+        if done.any():
+            root[active[done]] = x[done]
+            keep = ~done
+            active, x, a_act, b_act = active[keep], x[keep], a_act[keep], b_act[keep]
+    if active.size:
+        root[active] = x
+    return root
+
+
+def temperature_at(curves: Curves, ln_p, t_lo=None, t_hi=None) -> np.ndarray:
+    """The temperature at which each curve reaches ln(P/Pa) = ``ln_p``.
+
+    Parameters
+    ----------
+    curves : Curves
+        n curves.
+    ln_p : array_like, shape (n,) or scalar
+        Target ln(P/Pa).
+    t_lo, t_hi : array_like, optional
+        Search window [K]; the validity range by default. Pass a wider window to extrapolate.
+
+    Returns
+    -------
+    ndarray, shape (n,)
+        The temperature [K], NaN where the curve does not reach ``ln_p`` in the window.
+
+    Notes
+    -----
+    Solved in x = 1/T, in which ln P is nearly linear, by :func:`bracketed_root`.
+    """
+    n = len(curves)
+    target = np.broadcast_to(np.asarray(ln_p, dtype=float), (n,))
+    lo = curves.t_min if t_lo is None else np.broadcast_to(np.asarray(t_lo, float), (n,))
+    hi = curves.t_max if t_hi is None else np.broadcast_to(np.asarray(t_hi, float), (n,))
+
+    def fun(x, rows):
+        t = 1.0 / x
+        y, y1, _ = evaluate(curves.take(rows), t, order=1)
+        return y - target[rows], -y1 * t * t
+
+    with np.errstate(divide="ignore", invalid="ignore"):
+        x = bracketed_root(fun, 1.0 / hi, 1.0 / lo)
+    return 1.0 / x

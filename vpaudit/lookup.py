@@ -1,0 +1,173 @@
+"""Answers about one substance: vapour pressure at a temperature, or temperature at a
+pressure, with the implied enthalpy and heat-capacity change (``vpaudit eval``).
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+import numpy as np
+from scipy.constants import R
+
+from .equations.engine import curves_from_frame, evaluate, temperature_at
+from .errors import VpauditError
+from .readers.table import Table
+
+__all__ = ["evaporation_flux", "eval_substance", "substance_records"]
+
+
+def evaporation_flux(pressure, temperature, molar_mass, alpha: float = 1.0):
+    """Maximum free-evaporation mass flux into vacuum (Hertz-Knudsen-Langmuir).
+
+    Parameters
+    ----------
+    pressure : array_like
+        Vapour pressure. [Pa]
+    temperature : array_like
+        Temperature of the evaporating surface. [K]
+    molar_mass : float
+        Molar mass of the evaporating species. [kg/mol]
+    alpha : float
+        Evaporation coefficient, 0 < alpha <= 1. [-]
+
+    Returns
+    -------
+    ndarray
+        Mass flux. [kg m^-2 s^-1]
+
+    Notes
+    -----
+    J = alpha P sqrt(M / (2 pi R T)). A vapour of dimers or molecules needs the molar mass of
+    that species.
+
+    References
+    ----------
+    .. [1] I. Langmuir, "The vapor pressure of metallic tungsten", Phys. Rev. 2 (1913) 329.
+    """
+    p = np.asarray(pressure, dtype=float)
+    t = np.asarray(temperature, dtype=float)
+    return alpha * p * np.sqrt(molar_mass / (2.0 * math.pi * R * t))
+
+
+def substance_records(table: Table, substance: str):
+    """The records of ``substance``; an unknown name lists near matches."""
+    rec = table.records
+    rows = rec[rec["substance"] == substance]
+    if not len(rows):
+        names = sorted(set(rec["substance"]))
+        close = [
+            n for n in names if substance.lower() in n.lower() or n.lower() in substance.lower()
+        ][:5]
+        hint = (
+            f"; did you mean {', '.join(close)}?"
+            if close
+            else (f"; the table has {len(names)} substances, e.g. {', '.join(names[:5])}")
+        )
+        raise VpauditError(f"no records for substance {substance!r}{hint}")
+    return rows.reset_index(drop=True)
+
+
+def eval_substance(
+    table: Table,
+    substance: str,
+    temperature: float | None = None,
+    pressure: float | None = None,
+    extrapolate: bool = False,
+) -> dict[str, Any]:
+    """Evaluate every record of ``substance`` at a temperature or a pressure.
+
+    Parameters
+    ----------
+    table : Table
+    substance : str
+    temperature : float, optional
+        Temperature [K]: report each record's vapour pressure there.
+    pressure : float, optional
+        Pressure [Pa]: report the temperature at which each record reaches it.
+    extrapolate : bool
+        With ``pressure``, search beyond each record's range (to half its t_min and twice
+        its t_max).
+
+    Returns
+    -------
+    dict
+        The ``vpaudit eval --format json`` contract (see the README).
+    """
+    if (temperature is None) == (pressure is None):
+        raise VpauditError("give exactly one of a temperature (--at) or a pressure (--pressure)")
+    rows = substance_records(table, substance)
+    curves = curves_from_frame(rows)
+    n = len(rows)
+    if temperature is not None:
+        t = np.full(n, float(temperature))
+    else:
+        lo = curves.t_min * (0.5 if extrapolate else 1.0)
+        hi = curves.t_max * (2.0 if extrapolate else 1.0)
+        t = temperature_at(curves, math.log(pressure), lo, hi)
+    y, y1, y2 = evaluate(curves, np.where(np.isfinite(t), t, curves.t_min), order=2)
+    found = np.isfinite(t)
+    p = np.where(found, np.exp(y), np.nan)
+    h = np.where(found, R * t * t * y1, np.nan)
+    cp = np.where(found, R * (2 * t * y1 + t * t * y2), np.nan)
+    with np.errstate(invalid="ignore"):
+        in_range = found & (t >= curves.t_min) & (t <= curves.t_max)
+    mm = table.references
+    mm = (
+        mm.loc[(mm["substance"] == substance) & (mm["quantity"] == "molar_mass"), "value_si"]
+        if len(mm)
+        else []
+    )
+    molar_mass = float(mm.iloc[0]) if len(mm) else None
+    flux = evaporation_flux(p, t, molar_mass) if molar_mass else np.full(n, np.nan)
+    phases = rows["phase"].to_numpy(dtype=object)
+    stable = _stable_phase(phases, p, t, temperature is not None, in_range)
+    records = []
+    for i in range(n):
+        records.append(
+            {
+                "id": str(rows["id"].iat[i]),
+                "phase": str(phases[i]),
+                "pressure_Pa": _num(p[i] if temperature is not None else pressure),
+                "temperature_K": _num(t[i]),
+                "enthalpy_J_per_mol": _num(h[i]),
+                "heat_capacity_change_J_per_mol_K": _num(cp[i]),
+                "in_range": bool(in_range[i]),
+                "evaporation_flux_kg_per_m2_s": _num(flux[i]),
+                "range_K": [_num(curves.t_min[i]), _num(curves.t_max[i])],
+                "source": rows["source"].iat[i],
+            }
+        )
+    return {
+        "substance": substance,
+        "temperature_K": None if temperature is None else float(temperature),
+        "pressure_Pa": None if pressure is None else float(pressure),
+        "stable_phase": stable,
+        "molar_mass_kg_per_mol": molar_mass,
+        "records": records,
+    }
+
+
+def _num(v) -> float | None:
+    v = float(v)
+    return v if math.isfinite(v) else None
+
+
+def _stable_phase(phases, p, t, at_temperature: bool, in_range) -> str | None:
+    """At a temperature the stable condensed phase has the lower vapour pressure; at a
+    pressure it is the one that reaches it at the higher temperature. Records inside their
+    range are preferred; the median of each phase's records is compared.
+    """
+    values = {}
+    for ph in ("solid", "liquid"):
+        m = phases == ph
+        use = m & in_range if (m & in_range).any() else m
+        v = (p if at_temperature else t)[use]
+        v = v[np.isfinite(v)]
+        if v.size:
+            values[ph] = float(np.median(v))
+    if len(values) < 2:
+        return None
+    if at_temperature:
+        return min(values, key=values.get)
+    return max(values, key=values.get)

@@ -1,0 +1,444 @@
+"""Read one table file into text cells with their line numbers; no type is ever inferred.
+
+Every reader returns a :class:`RawFrame`: column names, the cells of each column as text
+(``None`` where empty) and the 1-based line where each row starts. Numbers are parsed later,
+by one grammar, for every format alike.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import json
+import re
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import yaml
+
+from ..errors import Location, TableError
+
+__all__ = ["RawFrame", "read_raw", "MAX_FILE_BYTES", "MAX_ROWS", "SUFFIXES"]
+
+#: Largest table file read, in bytes (a clear error above it).
+MAX_FILE_BYTES = 2 * 1024**3
+#: Largest number of rows read from one file.
+MAX_ROWS = 20_000_000
+#: File endings recognised as table files.
+SUFFIXES = {
+    ".csv": "csv",
+    ".tsv": "csv",
+    ".yaml": "yaml",
+    ".yml": "yaml",
+    ".json": "json",
+    ".parquet": "parquet",
+    ".pq": "parquet",
+}
+_KIND_KEYS = ("records", "references", "points")
+
+
+@dataclass
+class RawFrame:
+    """The text cells of one table file.
+
+    Attributes
+    ----------
+    path : str
+        The file as given.
+    columns : list of str
+        Column names in file order.
+    cells : dict of str to list of (str or None)
+        The cells of each column, verbatim; ``None`` for an empty cell.
+    lines : list of int
+        The 1-based line where each row starts (the row number for Parquet).
+    kind_hint : str or None
+        ``records``, ``references`` or ``points`` when the file says so itself (a YAML or
+        JSON mapping with that key, or the folder it lies in).
+    """
+
+    path: str
+    columns: list[str]
+    cells: dict[str, list[str | None]]
+    lines: list[int]
+    kind_hint: str | None = None
+    notes: list[str] = field(default_factory=list)
+
+    def __len__(self) -> int:
+        return len(self.lines)
+
+
+def _err(path: str, message: str, line: int | None = None, column: str | None = None) -> TableError:
+    return TableError(message, Location(path, line, column))
+
+
+def _check_header(path: str, names: list[str], line: int) -> list[str]:
+    seen: dict[str, int] = {}
+    out = []
+    for i, raw in enumerate(names):
+        name = raw.strip(" \t")
+        if not name:
+            raise _err(path, f"header column {i + 1} is empty", line)
+        if name in seen:
+            raise _err(
+                path,
+                f"header names column {name!r} twice (columns {seen[name] + 1} and {i + 1})",
+                line,
+            )
+        seen[name] = i
+        out.append(name)
+    return out
+
+
+def _decode(path: str, data: bytes) -> str:
+    if len(data) > MAX_FILE_BYTES:
+        raise _err(path, f"file is {len(data)} bytes; the limit is {MAX_FILE_BYTES} bytes")
+    nul = data.find(b"\x00")
+    if nul >= 0:
+        raise _err(
+            path, f"NUL byte at byte offset {nul}: not a text file", data.count(b"\n", 0, nul) + 1
+        )
+    if data.startswith(b"\xef\xbb\xbf"):
+        data = data[3:]
+    try:
+        return data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        line = data.count(b"\n", 0, exc.start) + 1
+        raise _err(
+            path,
+            f"invalid UTF-8 at byte offset {exc.start} "
+            f"(byte 0x{data[exc.start]:02x}); save the file as UTF-8",
+            line,
+        ) from None
+
+
+def read_csv(path: str, data: bytes) -> RawFrame:
+    """Read a CSV file: explicit settings, every cell as text.
+
+    Leading lines starting with ``#`` are comments (provenance headers). The delimiter is
+    taken from the header line: ``,`` if it holds one, else ``;``, else a tab. Blank lines
+    are skipped; a row with another number of cells than the header is an error.
+    """
+    text = _decode(path, data)
+    lines = text.splitlines(keepends=True)
+    start = 0
+    while start < len(lines) and (lines[start].startswith("#") or not lines[start].strip()):
+        start += 1
+    if start == len(lines):
+        raise _err(path, "file is empty: expected a header line naming the columns")
+    header_line = lines[start]
+    delimiter = (
+        ","
+        if "," in header_line
+        else ";"
+        if ";" in header_line
+        else ("\t" if "\t" in header_line else ",")
+    )
+    body = io.StringIO("".join(lines[start:]), newline="")
+    reader = csv.reader(body, delimiter=delimiter, quotechar='"', doublequote=True, strict=True)
+    try:
+        header = next(reader)
+    except csv.Error as exc:
+        raise _err(path, f"cannot read the header: {exc}", start + 1) from None
+    columns = _check_header(path, header, start + 1)
+    ncol = len(columns)
+    rows: list[list[str]] = []
+    row_lines: list[int] = []
+    previous = reader.line_num
+    try:
+        for row in reader:
+            first = start + previous + 1
+            previous = reader.line_num
+            if not row or all(c == "" for c in row):
+                continue
+            if len(row) != ncol:
+                raise _err(
+                    path,
+                    f"row has {len(row)} cells but the header names {ncol} "
+                    f"columns (delimiter {delimiter!r})",
+                    first,
+                )
+            rows.append(row)
+            row_lines.append(first)
+            if len(rows) > MAX_ROWS:
+                raise _err(path, f"more than {MAX_ROWS} rows in one file")
+    except csv.Error as exc:
+        raise _err(path, f"malformed CSV: {exc}", start + reader.line_num) from None
+    cells: dict[str, list[str | None]] = {}
+    for j, name in enumerate(columns):
+        cells[name] = [r[j] if r[j] != "" else None for r in rows]
+    return RawFrame(path, columns, cells, row_lines)
+
+
+# --- YAML: composed node by node, so scalars stay text and duplicates are seen ------------
+
+
+def _yaml_scalar(path: str, node: yaml.Node, key: str) -> str | None:
+    if isinstance(node, yaml.ScalarNode):
+        if node.value == "" and node.style is None:
+            return None
+        return node.value
+    raise _err(
+        path,
+        f"field {key!r} holds a {node.id}; expected a single value",
+        node.start_mark.line + 1,
+        key,
+    )
+
+
+def _yaml_items(path: str, node: yaml.Node) -> tuple[list[yaml.MappingNode], str | None]:
+    hint = None
+    if isinstance(node, yaml.MappingNode):
+        keys = [k.value for k, _ in node.value]
+        if len(keys) == 1 and keys[0] in _KIND_KEYS:
+            hint = keys[0]
+            node = node.value[0][1]
+        else:
+            raise _err(
+                path,
+                "expected a list of items, or a mapping with one key "
+                "'records', 'references' or 'points' holding that list",
+                node.start_mark.line + 1,
+            )
+    if not isinstance(node, yaml.SequenceNode):
+        raise _err(path, "expected a list of items", node.start_mark.line + 1)
+    items = []
+    for item in node.value:
+        if not isinstance(item, yaml.MappingNode):
+            raise _err(
+                path,
+                "each item must be a mapping of field names to values",
+                item.start_mark.line + 1,
+            )
+        items.append(item)
+    return items, hint
+
+
+class _NoAliasComposer(yaml.BaseLoader):
+    def compose_node(self, parent, index):  # noqa: D102
+        if self.check_event(yaml.AliasEvent):
+            event = self.peek_event()
+            raise yaml.composer.ComposerError(
+                None, None, "aliases are not allowed in table files", event.start_mark
+            )
+        return super().compose_node(parent, index)
+
+
+def read_yaml(path: str, data: bytes) -> RawFrame:
+    """Read a YAML list of mappings; every scalar stays the text written.
+
+    No YAML 1.1 typing applies (``NO``, ``0123``, ``1:30``, ``2001-01-01`` stay text), a
+    duplicate key is an error, and aliases are refused.
+    """
+    text = _decode(path, data)
+    if not text.strip():
+        raise _err(path, "file is empty: expected a list of items")
+    try:
+        loader = _NoAliasComposer(text)
+        try:
+            root = loader.get_single_node()
+        finally:
+            loader.dispose()
+    except yaml.MarkedYAMLError as exc:
+        mark = exc.problem_mark
+        raise _err(
+            path, f"malformed YAML: {exc.problem}", mark.line + 1 if mark else None
+        ) from None
+    except yaml.YAMLError as exc:
+        raise _err(path, f"malformed YAML: {exc}") from None
+    if root is None:
+        raise _err(path, "file is empty: expected a list of items")
+    items, hint = _yaml_items(path, root)
+    columns: list[str] = []
+    records: list[dict[str, str | None]] = []
+    lines = []
+    for item in items:
+        row: dict[str, str | None] = {}
+        for knode, vnode in item.value:
+            key = knode.value if isinstance(knode, yaml.ScalarNode) else None
+            if not key:
+                raise _err(path, "field names must be plain text", knode.start_mark.line + 1)
+            if key in row:
+                raise _err(
+                    path,
+                    f"field {key!r} is given twice in one item",
+                    knode.start_mark.line + 1,
+                    key,
+                )
+            row[key] = _yaml_scalar(path, vnode, key)
+            if key not in columns:
+                columns.append(key)
+        records.append(row)
+        lines.append(item.start_mark.line + 1)
+    cells = {c: [r.get(c) for r in records] for c in columns}
+    return RawFrame(path, columns, cells, lines, hint)
+
+
+# --- JSON: numbers kept as their text, NaN/Infinity and duplicate keys refused -----------
+
+
+def _no_constant(name: str):
+    raise ValueError(f"{name} is not a number vpaudit reads; leave the field empty")
+
+
+def _pairs(pairs):
+    out = {}
+    for k, v in pairs:
+        if k in out:
+            raise ValueError(f"field {k!r} is given twice in one object")
+        out[k] = v
+    return out
+
+
+def read_json(path: str, data: bytes) -> RawFrame:
+    """Read a JSON list of objects, or an object with one key holding that list.
+
+    Numbers keep their exact text; ``NaN``/``Infinity`` and duplicate keys are errors; each
+    item's line is where its object starts.
+    """
+    text = _decode(path, data)
+    decoder = json.JSONDecoder(
+        parse_float=str, parse_int=str, parse_constant=_no_constant, object_pairs_hook=_pairs
+    )
+    stripped = text.lstrip()
+    if not stripped:
+        raise _err(path, "file is empty: expected a list of objects")
+    hint = None
+    pos = len(text) - len(stripped)
+    if stripped.startswith("{"):
+        m = re.match(r'\{\s*"(records|references|points)"\s*:\s*\[', stripped)
+        if not m:
+            raise _err(
+                path,
+                "expected a list of objects, or an object with one key "
+                "'records', 'references' or 'points' holding that list",
+                1,
+            )
+        hint = m.group(1)
+        pos += m.end() - 1
+    elif not stripped.startswith("["):
+        raise _err(path, "expected a list of objects", 1)
+    # Walk the array item by item, so each item's line is known.
+    items, lines = [], []
+    i = pos + 1
+    n = len(text)
+    ws = re.compile(r"[ \t\r\n]*")
+    try:
+        i = ws.match(text, i).end()
+        if i < n and text[i] == "]":
+            i += 1
+        else:
+            while True:
+                i = ws.match(text, i).end()
+                obj, end = decoder.raw_decode(text, i)
+                items.append(obj)
+                lines.append(text.count("\n", 0, i) + 1)
+                i = ws.match(text, end).end()
+                if i < n and text[i] == ",":
+                    i += 1
+                    continue
+                if i < n and text[i] == "]":
+                    i += 1
+                    break
+                raise json.JSONDecodeError("expected ',' or ']'", text, i)
+        i = ws.match(text, i).end()
+        if hint:
+            if i < n and text[i] == "}":
+                i = ws.match(text, i + 1).end()
+            else:
+                raise json.JSONDecodeError("expected '}' after the list", text, i)
+        if i != n:
+            raise json.JSONDecodeError("unexpected text after the list", text, i)
+    except json.JSONDecodeError as exc:
+        raise _err(path, f"malformed JSON: {exc.msg}", exc.lineno) from None
+    except ValueError as exc:
+        raise _err(path, f"malformed JSON: {exc}", text.count("\n", 0, i) + 1) from None
+    columns: list[str] = []
+    for obj, line in zip(items, lines, strict=True):
+        if not isinstance(obj, dict):
+            raise _err(path, "each item must be an object of field names to values", line)
+        for k, v in obj.items():
+            if k not in columns:
+                columns.append(k)
+            if isinstance(v, bool) or isinstance(v, list | dict):
+                raise _err(
+                    path,
+                    f"field {k!r} holds a {type(v).__name__}; expected text or a number",
+                    line,
+                    k,
+                )
+    cells = {c: [obj.get(c) for obj in items] for c in columns}
+    return RawFrame(path, columns, cells, lines, hint)
+
+
+def read_parquet(path: str, data: bytes | None = None) -> RawFrame:
+    """Read a Parquet file; column types are checked, never coerced.
+
+    Text columns are read as text; float64 columns as the shortest text that round-trips
+    (``repr``); int64 columns exactly. float32 and float16 coefficients lose digits and are
+    an error, as are booleans, dates and nested types.
+    """
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    try:
+        table = pq.read_table(path)
+    except Exception as exc:  # pyarrow raises several types for broken files
+        raise _err(path, f"cannot read the Parquet file: {exc}") from None
+    if table.num_rows > MAX_ROWS:
+        raise _err(path, f"{table.num_rows} rows; the limit is {MAX_ROWS} per file")
+    cells: dict[str, list[str | None]] = {}
+    columns = _check_header(path, list(table.column_names), 1)
+    for name, col in zip(columns, table.columns, strict=True):
+        t = col.type
+        values = col.to_pylist()
+        if pa.types.is_string(t) or pa.types.is_large_string(t):
+            cells[name] = [v if v != "" else None for v in values]
+        elif pa.types.is_float64(t):
+            cells[name] = [None if v is None else repr(v) for v in values]
+        elif pa.types.is_int64(t) or pa.types.is_int32(t):
+            for v in values:
+                if v is not None and abs(v) > 2**53:
+                    raise _err(
+                        path, f"integer {v} is too large to be exact as a double", None, name
+                    )
+            cells[name] = [None if v is None else str(v) for v in values]
+        elif pa.types.is_floating(t):
+            raise _err(
+                path,
+                f"column is {t}: it cannot hold the digits of a coefficient; store float64 or text",
+                None,
+                name,
+            )
+        elif pa.types.is_null(t):
+            cells[name] = [None] * len(values)
+        else:
+            raise _err(path, f"column type {t} is not read; store text or float64", None, name)
+    return RawFrame(path, columns, cells, list(range(1, table.num_rows + 1)))
+
+
+_READERS = {"csv": read_csv, "yaml": read_yaml, "json": read_json, "parquet": read_parquet}
+
+
+def read_raw(path: str | Path) -> RawFrame:
+    """Read any supported table file into a :class:`RawFrame`.
+
+    Raises
+    ------
+    TableError
+        For an unknown file ending, a file that cannot be read, or malformed content; the
+        message names the file and line.
+    """
+    p = Path(path)
+    fmt = SUFFIXES.get(p.suffix.lower())
+    if fmt is None:
+        raise _err(
+            str(path),
+            f"unknown file type {p.suffix!r}; expected one of {', '.join(sorted(SUFFIXES))}",
+        )
+    if not p.is_file():
+        raise _err(str(path), "no such file")
+    if fmt == "parquet":
+        return read_parquet(str(path))
+    if p.stat().st_size > MAX_FILE_BYTES:
+        raise _err(str(path), f"file is larger than the limit of {MAX_FILE_BYTES} bytes")
+    return _READERS[fmt](str(path), p.read_bytes())

@@ -1,0 +1,634 @@
+"""Turn raw text cells into typed, column-wise tables, and load whole table directories.
+
+The bulk path is column-wise: each column is validated and parsed at once (the number
+grammar over a whole column, choices by set membership, the rules by array comparisons).
+Only rows that fail get a per-row message. Two kinds of problem are kept apart:
+
+* *read errors* -- input that cannot be read as written (a number that does not parse, an
+  unknown column, form, unit or phase, coefficients that do not fit the form): collected and
+  raised together as :class:`~vpaudit.errors.TableErrors`;
+* *rule problems* -- records that read fine but break a rule of the format (range, source,
+  duplicate id, an Antoine pole in range): returned in :attr:`Table.problems`, so that the
+  import rejects the table while the audit reports each as a finding.
+"""
+
+from __future__ import annotations
+
+import tomllib
+from collections.abc import Iterable
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from ..equations.forms import COEFFICIENTS, FORMS
+from ..errors import Location, PolicyError, TableError, TableErrors
+from ..schema import QUANTITY_UNITS
+from ..units import (
+    ENTHALPY_UNITS,
+    MOLAR_MASS_UNITS,
+    PRESSURE_UNITS,
+    TEMPERATURE_UNITS,
+)
+from .files import SUFFIXES, RawFrame, read_raw
+from .grammar import explain, normalize_typography, parse_number_column
+
+__all__ = [
+    "KINDS",
+    "RawFrame",
+    "Table",
+    "load_table",
+    "read_file",
+    "frame_from_raw",
+    "RECORD_COLUMNS",
+    "REFERENCE_COLUMNS",
+    "POINT_COLUMNS",
+    "detect_kind",
+]
+
+KINDS = ("records", "references", "points")
+
+
+@dataclass(frozen=True)
+class _Col:
+    name: str
+    kind: str  # "text", "number" or "choice"
+    required: bool = False  # the column must exist and every cell be filled (a read error)
+    choices: tuple[str, ...] = ()
+    default: str | None = None
+
+
+_TEXT_OPTIONAL = ("note", "entered_by", "entered_on", "source_locator", "modification")
+
+RECORD_COLUMNS: tuple[_Col, ...] = (
+    _Col("id", "text", True),
+    _Col("substance", "text", True),
+    _Col("phase", "choice", True, ("solid", "liquid")),
+    _Col("modification", "text"),
+    _Col("form", "choice", True, tuple(FORMS)),
+    _Col("log_base", "choice", True, ("e", "10")),
+    _Col("pressure_unit", "choice", True, tuple(PRESSURE_UNITS)),
+    _Col("temperature_unit", "choice", False, tuple(TEMPERATURE_UNITS), "K"),
+    *(_Col(c, "number") for c in COEFFICIENTS),
+    _Col("t_crit", "number"),
+    _Col("p_crit", "number"),
+    _Col("t_min", "number"),
+    _Col("t_max", "number"),
+    _Col("source", "text"),
+    _Col("source_locator", "text"),
+    _Col("uncertainty", "number"),
+    _Col("note", "text"),
+    _Col("entered_by", "text"),
+    _Col("entered_on", "text"),
+)
+REFERENCE_COLUMNS: tuple[_Col, ...] = (
+    _Col("substance", "text", True),
+    _Col("quantity", "choice", True, tuple(QUANTITY_UNITS)),
+    _Col("value", "number", True),
+    _Col("unit", "text", True),
+    _Col("at_temperature", "number"),
+    _Col("uncertainty", "number"),
+    _Col("source", "text"),
+    _Col("note", "text"),
+)
+POINT_COLUMNS: tuple[_Col, ...] = (
+    _Col("substance", "text", True),
+    _Col("phase", "choice", True, ("solid", "liquid")),
+    _Col("T", "number", True),
+    _Col("P", "number", True),
+    _Col("temperature_unit", "choice", False, tuple(TEMPERATURE_UNITS), "K"),
+    _Col("pressure_unit", "choice", False, tuple(PRESSURE_UNITS), "Pa"),
+    _Col("source", "text"),
+    _Col("uncertainty", "number"),
+    _Col("note", "text"),
+)
+_SPECS = {"records": RECORD_COLUMNS, "references": REFERENCE_COLUMNS, "points": POINT_COLUMNS}
+
+
+def detect_kind(columns: Iterable[str]) -> str | None:
+    """Recognise a file's kind from its columns: ``form`` means records, ``quantity``
+    references, ``T`` and ``P`` points.
+    """
+    cols = set(columns)
+    if "form" in cols:
+        return "records"
+    if "quantity" in cols:
+        return "references"
+    if {"T", "P"} <= cols:
+        return "points"
+    return None
+
+
+@dataclass
+class _Collector:
+    errors: list[TableError] = field(default_factory=list)
+    problems: list[dict] = field(default_factory=list)
+    rewrites: list[dict] = field(default_factory=list)
+
+    def error(self, raw: RawFrame, row: int | None, column: str | None, message: str) -> None:
+        line = raw.lines[row] if row is not None else None
+        self.errors.append(TableError(message, Location(raw.path, line, column)))
+
+
+def _text_column(raw: RawFrame, name: str, default: str | None = None) -> np.ndarray:
+    values = raw.cells.get(name)
+    n = len(raw)
+    if values is None:
+        return np.full(n, default, dtype=object)
+    arr = np.array(values, dtype=object) if n else np.empty(0, dtype=object)
+    if default is not None:
+        arr[pd.isna(arr)] = default
+    return arr
+
+
+def _parse_numbers(
+    raw: RawFrame, name: str, out: _Collector, normalize: bool
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Parse one numeric column; returns values, their text, and the missing mask."""
+    cells = _text_column(raw, name)
+    values, missing, invalid = parse_number_column(list(cells))
+    texts = cells.copy()
+    for i in np.flatnonzero(invalid):
+        original = cells[i]
+        if normalize:
+            new, rewrites = normalize_typography(original)
+            v, m, bad = parse_number_column([new])
+            if rewrites and not bad[0] and not m[0]:
+                values[i] = v[0]
+                texts[i] = new.strip(" \t")
+                invalid[i] = False
+                out.rewrites.append(
+                    {
+                        "file": raw.path,
+                        "line": raw.lines[i],
+                        "column": name,
+                        "before": original,
+                        "after": texts[i],
+                        "rewrites": "; ".join(rewrites),
+                    }
+                )
+                continue
+        out.error(
+            raw,
+            int(i),
+            name,
+            explain(original) if _is_syntax(original) else _range_message(original),
+        )
+    texts[missing] = None
+    good = ~missing & ~invalid
+    if good.any():
+        texts[good] = pd.Series(texts[good], dtype=object).str.strip(" \t").to_numpy(dtype=object)
+    return values, texts, missing
+
+
+def _is_syntax(text: str) -> bool:
+    from .grammar import _NUMBER
+
+    return _NUMBER.fullmatch(text.strip(" \t")) is None
+
+
+def _range_message(text: str) -> str:
+    from .grammar import NumberSyntaxError, parse_number
+
+    try:
+        parse_number(text)
+    except NumberSyntaxError as exc:
+        return str(exc)
+    return f"{text!r} cannot be read"  # pragma: no cover - both paths agree by test
+
+
+def frame_from_raw(
+    raw: RawFrame, kind: str, out: _Collector, normalize: bool = False
+) -> pd.DataFrame:
+    """Validate and parse one raw frame of a known kind, column by column.
+
+    Read errors are appended to ``out.errors``; rule problems to ``out.problems``. The
+    returned frame has one typed column per field, ``<field>_text`` beside each number
+    (the text it was read from), and ``file`` and ``line``.
+    """
+    spec = _SPECS[kind]
+    known = {c.name for c in spec}
+    for name in raw.columns:
+        if name not in known:
+            out.error(
+                raw,
+                None,
+                name,
+                f"unknown column {name!r} for {kind}; valid columns: "
+                f"{', '.join(c.name for c in spec)}",
+            )
+    n = len(raw)
+    data: dict[str, np.ndarray] = {}
+    for col in spec:
+        present = col.name in raw.cells
+        if col.required and not present:
+            out.error(raw, None, col.name, f"required column {col.name!r} is missing")
+            if col.kind == "number":
+                data[col.name] = np.full(n, np.nan)
+                data[col.name + "_text"] = np.full(n, None, dtype=object)
+            else:
+                data[col.name] = np.full(n, None, dtype=object)
+            continue
+        if col.kind == "number":
+            values, texts, missing = _parse_numbers(raw, col.name, out, normalize)
+            data[col.name] = values
+            data[col.name + "_text"] = texts
+            if col.required and present:
+                for i in np.flatnonzero(missing):
+                    out.error(raw, int(i), col.name, f"{col.name} is empty")
+            continue
+        arr = _text_column(raw, col.name, col.default)
+        if col.required and present:
+            for i in np.flatnonzero(pd.isna(arr)):
+                out.error(raw, int(i), col.name, f"{col.name} is empty")
+        if col.kind == "choice":
+            bad = ~pd.isna(arr) & ~pd.Series(arr, dtype=object).isin(col.choices).to_numpy()
+            for i in np.flatnonzero(bad):
+                out.error(
+                    raw,
+                    int(i),
+                    col.name,
+                    f"unknown {col.name} {arr[i]!r}; valid: {', '.join(col.choices)}",
+                )
+        data[col.name] = arr
+    data["file"] = np.full(n, raw.path, dtype=object)
+    data["line"] = np.asarray(raw.lines, dtype=np.int64)
+    frame = pd.DataFrame(data)
+    if kind == "records":
+        _record_rules(frame, raw, out)
+    elif kind == "references":
+        _reference_rules(frame, raw, out)
+    else:
+        _point_rules(frame, raw, out)
+    return frame
+
+
+def _problem(
+    out: _Collector, frame: pd.DataFrame, rows: np.ndarray, rule: str, column: str, messages
+) -> None:
+    if isinstance(messages, str):
+        messages = [messages] * len(rows)
+    for i, msg in zip(rows, messages, strict=True):
+        out.problems.append(
+            {
+                "file": frame["file"].iat[i],
+                "line": int(frame["line"].iat[i]),
+                "column": column,
+                "rule": rule,
+                "message": msg,
+                "id": frame["id"].iat[i] if "id" in frame else None,
+                "substance": frame["substance"].iat[i],
+            }
+        )
+
+
+def _kelvin(values: np.ndarray, units: np.ndarray) -> np.ndarray:
+    scale = np.ones(len(values))
+    offset = np.zeros(len(values))
+    for unit, (s, o) in TEMPERATURE_UNITS.items():
+        m = units == unit
+        scale[m] = s
+        offset[m] = o
+    return values * scale + offset
+
+
+def _record_rules(frame: pd.DataFrame, raw: RawFrame, out: _Collector) -> None:
+    forms = frame["form"].to_numpy(dtype=object)
+    # Coefficients must fit the form exactly (a read error: the equation cannot be
+    # interpreted otherwise).
+    for name, spec in FORMS.items():
+        rows = forms == name
+        if not rows.any():
+            continue
+        for c in COEFFICIENTS:
+            given = ~np.isnan(frame[c].to_numpy()) | ~pd.isna(frame[c + "_text"].to_numpy())
+            if c in spec.coefficients:
+                for i in np.flatnonzero(rows & ~given):
+                    out.error(
+                        raw, int(i), c, f"form {name!r} needs coefficient {c} ({spec.equation})"
+                    )
+            else:
+                for i in np.flatnonzero(rows & given):
+                    out.error(
+                        raw,
+                        int(i),
+                        c,
+                        f"form {name!r} does not use coefficient {c} "
+                        f"({spec.equation}); leave it empty",
+                    )
+        units = frame["temperature_unit"].to_numpy(dtype=object)
+        bad_unit = rows & ~pd.Series(units).isin(spec.temperature_units).to_numpy()
+        for i in np.flatnonzero(bad_unit):
+            out.error(
+                raw,
+                int(i),
+                "temperature_unit",
+                f"form {name!r} needs an absolute "
+                f"temperature: temperature_unit must be {', '.join(spec.temperature_units)}"
+                f", not {units[i]!r}",
+            )
+        if spec.needs_critical:
+            for c in ("t_crit", "p_crit"):
+                v = frame[c].to_numpy()
+                for i in np.flatnonzero(rows & ~(v > 0)):
+                    out.error(raw, int(i), c, f"form {name!r} needs a positive {c}")
+    # Rules: range, source, pole (reported, not raised).
+    unit = frame["temperature_unit"].to_numpy(dtype=object)
+    lo = _kelvin(frame["t_min"].to_numpy(), unit)
+    hi = _kelvin(frame["t_max"].to_numpy(), unit)
+    missing = np.isnan(lo) | np.isnan(hi)
+    _problem(
+        out,
+        frame,
+        np.flatnonzero(missing),
+        "range",
+        "t_min",
+        "the validity range is missing (t_min and t_max are required)",
+    )
+    with np.errstate(invalid="ignore"):
+        nonpos = ~missing & (lo <= 0)
+        order = ~missing & ~nonpos & ~(lo < hi)
+    _problem(
+        out,
+        frame,
+        np.flatnonzero(nonpos),
+        "range",
+        "t_min",
+        [
+            f"t_min is {lo[i]:g} K: an absolute temperature must be positive"
+            for i in np.flatnonzero(nonpos)
+        ],
+    )
+    _problem(
+        out,
+        frame,
+        np.flatnonzero(order),
+        "range",
+        "t_max",
+        [
+            f"the range is empty: t_min {frame['t_min'].iat[i]:g} is not below t_max "
+            f"{frame['t_max'].iat[i]:g}"
+            for i in np.flatnonzero(order)
+        ],
+    )
+    antoine = forms == "antoine"
+    if antoine.any():
+        pole = -frame["C"].to_numpy()
+        with np.errstate(invalid="ignore"):
+            inside = (
+                antoine
+                & ~missing
+                & (frame["t_min"].to_numpy() <= pole)
+                & (pole <= frame["t_max"].to_numpy())
+            )
+        _problem(
+            out,
+            frame,
+            np.flatnonzero(inside),
+            "pole",
+            "C",
+            [
+                f"the Antoine pole theta = -C = {pole[i]:g} {unit[i]} lies inside the range "
+                f"{frame['t_min'].iat[i]:g}..{frame['t_max'].iat[i]:g}"
+                for i in np.flatnonzero(inside)
+            ],
+        )
+    _source_rule(frame, out)
+    unc = frame["uncertainty"].to_numpy()
+    with np.errstate(invalid="ignore"):
+        bad = ~np.isnan(unc) & ~(unc > 0)
+    for i in np.flatnonzero(bad):
+        out.error(
+            raw, int(i), "uncertainty", "uncertainty must be a positive relative value (0.05 = 5 %)"
+        )
+
+
+def _source_rule(frame: pd.DataFrame, out: _Collector) -> None:
+    src = frame["source"].to_numpy(dtype=object)
+    empty = pd.isna(src) | (pd.Series(src, dtype=object).astype(str).str.strip() == "").to_numpy()
+    _problem(
+        out,
+        frame,
+        np.flatnonzero(empty),
+        "source",
+        "source",
+        "no source is cited: every value needs its citation",
+    )
+
+
+_UNIT_FACTORS = {
+    "pressure": PRESSURE_UNITS,
+    "enthalpy": ENTHALPY_UNITS,
+    "molar_mass": MOLAR_MASS_UNITS,
+}
+
+
+def _reference_rules(frame: pd.DataFrame, raw: RawFrame, out: _Collector) -> None:
+    q = frame["quantity"].to_numpy(dtype=object)
+    unit = frame["unit"].to_numpy(dtype=object)
+    value = frame["value"].to_numpy()
+    si = np.full(len(frame), np.nan)
+    for quantity, (kind, units) in QUANTITY_UNITS.items():
+        rows = q == quantity
+        if not rows.any():
+            continue
+        ok = rows & pd.Series(unit, dtype=object).isin(units).to_numpy()
+        for i in np.flatnonzero(rows & ~ok & ~pd.isna(unit)):
+            out.error(
+                raw,
+                int(i),
+                "unit",
+                f"unit {unit[i]!r} does not fit {quantity}; use {', '.join(units)}",
+            )
+        if kind == "temperature":
+            si[ok] = _kelvin(value[ok], unit[ok])
+        else:
+            factors = _UNIT_FACTORS[kind]
+            for u in units:
+                m = ok & (unit == u)
+                si[m] = value[m] * factors[u]
+    with np.errstate(invalid="ignore"):
+        bad = ~np.isnan(si) & (si <= 0) & (q != "enthalpy_of_fusion")
+    for i in np.flatnonzero(bad):
+        out.error(raw, int(i), "value", f"{q[i]} must be positive, got {value[i]:g} {unit[i]}")
+    frame["value_si"] = si
+    _source_rule(frame, out)
+
+
+def _point_rules(frame: pd.DataFrame, raw: RawFrame, out: _Collector) -> None:
+    t = _kelvin(frame["T"].to_numpy(), frame["temperature_unit"].to_numpy(dtype=object))
+    pu = frame["pressure_unit"].to_numpy(dtype=object)
+    factor = pd.Series(pu, dtype=object).map(PRESSURE_UNITS).to_numpy(dtype=float)
+    p = frame["P"].to_numpy() * factor
+    with np.errstate(invalid="ignore"):
+        for i in np.flatnonzero(~np.isnan(t) & (t <= 0)):
+            out.error(raw, int(i), "T", "T must be a positive absolute temperature")
+        for i in np.flatnonzero(~np.isnan(p) & (p <= 0)):
+            out.error(raw, int(i), "P", "P must be positive")
+    frame["T_K"] = t
+    frame["P_Pa"] = p
+    _source_rule(frame, out)
+
+
+@dataclass
+class Table:
+    """A whole table, column-wise: records, references and points as DataFrames.
+
+    Attributes
+    ----------
+    records, references, points : pandas.DataFrame
+        Typed columns (see :data:`RECORD_COLUMNS` ...), ``<field>_text`` beside each number,
+        and ``file``/``line`` of each row.
+    problems : pandas.DataFrame
+        Rule problems of rows that read fine (file, line, column, rule, message, id).
+    rewrites : list of dict
+        Typography rewrites applied under the explicit opt-in, with location and before/after.
+    policy_path : Path or None
+        The table's ``vpaudit.toml``, when there is one.
+    root : Path or None
+        The table directory (or the single file's folder).
+    """
+
+    records: pd.DataFrame
+    references: pd.DataFrame
+    points: pd.DataFrame
+    problems: pd.DataFrame
+    rewrites: list[dict] = field(default_factory=list)
+    policy_path: Path | None = None
+    root: Path | None = None
+    files: list[str] = field(default_factory=list)
+
+
+_PROBLEM_COLUMNS = ["file", "line", "column", "rule", "message", "id", "substance"]
+
+
+def _empty(kind: str) -> pd.DataFrame:
+    raw = RawFrame("<none>", [], {}, [])
+    return frame_from_raw(raw, kind, _Collector())
+
+
+def _finish(parts: dict[str, list[pd.DataFrame]], out: _Collector, **kw) -> Table:
+    frames = {}
+    for kind in KINDS:
+        pieces = [p for p in parts[kind] if len(p)]
+        frames[kind] = (
+            pd.concat(pieces, ignore_index=True)
+            if len(pieces) > 1
+            else pieces[0].reset_index(drop=True)
+            if pieces
+            else _empty(kind)
+        )
+    rec = frames["records"]
+    if len(rec):
+        dup = rec["id"].duplicated(keep=False).to_numpy() & ~pd.isna(rec["id"].to_numpy())
+        rows = np.flatnonzero(dup)
+        firsts = rec.loc[dup].groupby("id")["line"].transform("min")
+        files = rec.loc[dup].groupby("id")["file"].transform("first")
+        _problem(
+            out,
+            rec,
+            rows,
+            "duplicate-id",
+            "id",
+            [
+                f"id {rec['id'].iat[i]!r} is used more than once (first at "
+                f"{files.iat[k]}:{firsts.iat[k]})"
+                for k, i in enumerate(rows)
+            ],
+        )
+    if out.errors:
+        raise TableErrors(out.errors)
+    problems = pd.DataFrame(out.problems, columns=_PROBLEM_COLUMNS)
+    return Table(
+        frames["records"], frames["references"], frames["points"], problems, out.rewrites, **kw
+    )
+
+
+def read_file(path: str | Path, kind: str | None = None, normalize: bool = False) -> Table:
+    """Read a single table file of any kind (recognised from its columns)."""
+    return _load([Path(path)], {Path(path): kind}, normalize, root=Path(path).parent)
+
+
+def _load(paths: list[Path], kinds: dict[Path, str | None], normalize: bool, **kw) -> Table:
+    out = _Collector()
+    parts: dict[str, list[pd.DataFrame]] = {k: [] for k in KINDS}
+    for path in paths:
+        try:
+            raw = read_raw(path)
+        except TableError as exc:
+            out.errors.append(exc)
+            continue
+        kind = kinds.get(path) or raw.kind_hint or detect_kind(raw.columns)
+        detected = detect_kind(raw.columns)
+        if kind is None:
+            out.errors.append(
+                TableError(
+                    "cannot tell the kind of this file from its columns: records have 'form', "
+                    "references 'quantity', points 'T' and 'P'",
+                    Location(str(path), 1),
+                )
+            )
+            continue
+        if detected is not None and detected != kind and len(raw.columns):
+            out.errors.append(
+                TableError(
+                    f"file lies among {kind} but its columns are those of {detected}",
+                    Location(str(path), 1),
+                )
+            )
+            continue
+        parts[kind].append(frame_from_raw(raw, kind, out, normalize))
+    return _finish(parts, out, files=[str(p) for p in paths], **kw)
+
+
+def load_table(path: str | Path, normalize: bool = False) -> Table:
+    """Load a table directory or a single table file.
+
+    Parameters
+    ----------
+    path : str or Path
+        A directory with ``records/``, ``references/`` and ``points/`` folders (any may be
+        absent) and an optional ``vpaudit.toml``, or a single CSV/YAML/JSON/Parquet file.
+    normalize : bool
+        Opt in to rewriting PDF look-alikes in numbers (each rewrite is logged).
+
+    Raises
+    ------
+    TableErrors
+        Listing every read error with its file, line and column.
+    """
+    p = Path(path)
+    if p.is_file():
+        return read_file(p, normalize=normalize)
+    if not p.is_dir():
+        raise TableError("no such table directory or file", Location(str(path)))
+    paths: list[Path] = []
+    kinds: dict[Path, str | None] = {}
+    for kind in KINDS:
+        folder = p / kind
+        if folder.is_dir():
+            for f in sorted(folder.rglob("*")):
+                if f.is_file() and f.suffix.lower() in SUFFIXES:
+                    paths.append(f)
+                    kinds[f] = kind
+    policy = p / "vpaudit.toml"
+    if not paths:
+        raise TableError(
+            "the directory holds no table files: expected records/, "
+            "references/ or points/ folders with CSV, YAML, JSON or Parquet "
+            "files",
+            Location(str(path)),
+        )
+    return _load(paths, kinds, normalize, policy_path=policy if policy.is_file() else None, root=p)
+
+
+def read_policy_file(path: Path) -> dict:
+    """Read a ``vpaudit.toml`` file into a mapping (validated by the policy layer)."""
+    try:
+        with open(path, "rb") as fh:
+            return tomllib.load(fh)
+    except tomllib.TOMLDecodeError as exc:
+        raise PolicyError(f"{path}: not valid TOML: {exc}") from None
+    except OSError as exc:
+        raise PolicyError(f"{path}: cannot be read: {exc}") from None

@@ -1,0 +1,156 @@
+"""Text output of ``vpaudit eval`` and ``vpaudit show``."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+from scipy.constants import R
+
+from ..audit import CAUTION
+from ..checks._context import AuditContext
+from ..units import pressure_factor
+
+
+def _g(v, fmt="{:.4g}") -> str:
+    return "-" if v is None or (isinstance(v, float) and not math.isfinite(v)) else fmt.format(v)
+
+
+def _table(header: list[str], rows: list[list[str]]) -> list[str]:
+    widths = [
+        max(len(h), *(len(r[i]) for r in rows)) if rows else len(h) for i, h in enumerate(header)
+    ]
+    fmt = "  ".join(f"{{:<{w}}}" for w in widths)
+    return [fmt.format(*header), fmt.format(*("-" * w for w in widths))] + [
+        fmt.format(*r) for r in rows
+    ]
+
+
+def render_eval(answer: dict, unit: str = "Pa") -> str:
+    """The ``vpaudit eval`` answer for a terminal, pressures in ``unit``."""
+    f = pressure_factor(unit)
+    t, p = answer["temperature_K"], answer["pressure_Pa"]
+    if t is not None:
+        head = f"{answer['substance']} at {t:.6g} K ({t - 273.15:.6g} degC)"
+        col = f"P [{unit}]"
+    else:
+        head = f"{answer['substance']} at {p / f:.6g} {unit}"
+        col = "T [K]"
+    rows = []
+    for r in answer["records"]:
+        value = (
+            _g(r["pressure_Pa"] / f if r["pressure_Pa"] is not None else None)
+            if t is not None
+            else _g(r["temperature_K"], "{:.5g}")
+        )
+        rows.append(
+            [
+                r["id"],
+                r["phase"],
+                value,
+                _g(r["enthalpy_J_per_mol"] / 1000 if r["enthalpy_J_per_mol"] else None),
+                _g(r["heat_capacity_change_J_per_mol_K"], "{:.3g}"),
+                f"{_g(r['range_K'][0], '{:.5g}')}..{_g(r['range_K'][1], '{:.5g}')}",
+                "yes"
+                if r["in_range"]
+                else "NO (extrapolated)"
+                if r["temperature_K"]
+                else "not reached",
+            ]
+        )
+    lines = [head, ""] + _table(
+        ["record", "phase", col, "dH [kJ/mol]", "dCp [J/(mol K)]", "range [K]", "in range"], rows
+    )
+    lines.append("")
+    if answer["stable_phase"]:
+        why = (
+            "lower vapour pressure"
+            if t is not None
+            else "reaches this pressure at the higher temperature"
+        )
+        lines.append(f"Stable phase: {answer['stable_phase']} ({why}).")
+    if answer["molar_mass_kg_per_mol"] and t is not None:
+        fl = [r["evaporation_flux_kg_per_m2_s"] for r in answer["records"]]
+        lines.append(
+            "Maximum evaporation flux into vacuum (Hertz-Knudsen-Langmuir, alpha = 1, "
+            f"M = {answer['molar_mass_kg_per_mol'] * 1000:.5g} g/mol): "
+            + ", ".join(
+                f"{r['id']} {_g(v, '{:.3g}')} kg/(m2 s)"
+                for r, v in zip(answer["records"], fl, strict=True)
+            )
+        )
+    lines.append(
+        "dH and dCp are implied by each curve's slope (Clausius-Clapeyron): dH = R T^2 dlnP/dT."
+    )
+    lines.append(f"Caution: {CAUTION}")
+    return "\n".join(lines) + "\n"
+
+
+def render_show(table, substance: str, result) -> str:
+    """Everything about one substance for a terminal."""
+    rec = table.records[table.records["substance"] == substance].reset_index(drop=True)
+    lines = [f"{substance}: {len(rec)} record(s)", ""]
+    rows = [
+        [
+            r.id,
+            r.phase,
+            r.form,
+            f"log{r.log_base} {r.pressure_unit} {r.temperature_unit}",
+            f"{r.t_min:g}..{r.t_max:g}",
+            str(r.source or "-")[:60],
+            f"{r.file}:{r.line}",
+        ]
+        for r in rec.itertuples()
+    ]
+    lines += _table(["record", "phase", "form", "convention", "range", "source", "where"], rows)
+    ref = table.references
+    ref = ref[ref["substance"] == substance] if len(ref) else ref
+    if len(ref):
+        lines += ["", "References:"]
+        lines += [
+            f"  {r.quantity} = {r.value_text} {r.unit} ({r.source})" for r in ref.itertuples()
+        ]
+    sub = type(table)(
+        rec,
+        ref,
+        table.points[table.points["substance"] == substance] if len(table.points) else table.points,
+        table.problems,
+        [],
+        table.policy_path,
+    )
+    from ..policy import load_policy
+
+    ctx = AuditContext(sub, load_policy(table.policy_path))
+    pr = ctx.pairs
+    if len(pr["s"]):
+        lines += ["", "Solid/liquid pairs (implied at the crossing):"]
+        prow = []
+        for k in range(len(pr["s"])):
+            t = pr["T"][k]
+            s, lq = pr["s"][k], pr["l"][k]
+            if np.isfinite(t):
+                from ..equations.engine import enthalpy
+
+                hs = float(enthalpy(ctx.curves.take([s]), t)[0])
+                hl = float(enthalpy(ctx.curves.take([lq]), t)[0])
+                prow.append(
+                    [
+                        f"{ctx.ids[s]} / {ctx.ids[lq]}",
+                        f"{t:.5g}",
+                        f"{math.exp(pr['y'][k]):.4g}",
+                        f"{hs / 1e3:.4g}",
+                        f"{hl / 1e3:.4g}",
+                        f"{R * t * t * pr['slope_diff'][k] / 1e3:.4g}",
+                    ]
+                )
+            else:
+                prow.append([f"{ctx.ids[s]} / {ctx.ids[lq]}", "no crossing", "-", "-", "-", "-"])
+        lines += _table(
+            ["pair", "T [K]", "P [Pa]", "dH_sub [kJ/mol]", "dH_vap [kJ/mol]", "dH_fus [kJ/mol]"],
+            prow,
+        )
+    lines += ["", f"Findings: {len(result.findings)}"]
+    for f in result.findings:
+        lines.append(f"  {f.severity.value:<8}{f.check} ({', '.join(f.records)}): {f.message}")
+    lines.append("")
+    return "\n".join(lines) + "\n"

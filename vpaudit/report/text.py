@@ -1,0 +1,55 @@
+"""Terminal report: grouped by substance, worst first, with a one-line summary."""
+
+from __future__ import annotations
+
+import textwrap
+from collections import defaultdict
+
+from ..audit import CAUTION
+
+_LABEL = {"error": "ERROR", "warning": "WARNING", "note": "note"}
+
+
+def _counts(findings) -> str:
+    parts = []
+    for sev in ("error", "warning", "note"):
+        n = sum(f.severity.value == sev for f in findings)
+        if n:
+            parts.append(f"{n} {sev}{'s' if n != 1 else ''}")
+    return ", ".join(parts) or "nothing found"
+
+
+def render(result, width: int = 100) -> str:
+    """Render an :class:`~vpaudit.audit.AuditResult` for a terminal."""
+    s = result.summary
+    lines = [
+        f"vpaudit audit of {result.table_path or 'table'}: {s['records']} records, "
+        f"{s['substances']} substances, {s['pairs']} solid/liquid pairs "
+        f"(policy: {result.policy_description.get('origin', 'defaults')})",
+        "",
+    ]
+    groups = defaultdict(list)
+    for f in result.findings:
+        groups[f.substance].append(f)
+
+    def rank(name):
+        fs = groups[name]
+        return (-max(f.severity.rank for f in fs), -len(fs), name)
+
+    wrap = textwrap.TextWrapper(width=width, initial_indent=" " * 6, subsequent_indent=" " * 6)
+    for name in sorted(groups, key=rank):
+        fs = groups[name]
+        lines.append(f"{name or '(table)'} -- {_counts(fs)}")
+        for f in fs:
+            where = f" ({f.file}:{f.line})" if f.file else ""
+            lines.append(f"  {_LABEL[f.severity.value]:<8}{f.check}: {', '.join(f.records)}{where}")
+            lines.extend(wrap.wrap(f.message))
+            if f.suggestion:
+                lines.extend(wrap.wrap(f"suggestion: {f.suggestion.get('explanation', '')}"))
+        lines.append("")
+    flagged = len(groups)
+    lines.append(
+        f"Summary: {_counts(result.findings)} in {flagged} of {s['substances']} substances."
+    )
+    lines.append(textwrap.fill(f"Caution: {CAUTION}", width=width))
+    return "\n".join(lines) + "\n"

@@ -1,0 +1,208 @@
+"""Pressure, temperature and other units, and quantities written with a unit suffix.
+
+Canonical units inside vpaudit are kelvin, pascal, J/mol, J/(mol K) and kg/mol; units are
+converted only at the edges (readers, command options, reporters).
+
+Notes
+-----
+Pressure factors come from :mod:`scipy.constants` (CODATA; atm, bar and Torr are exact by
+definition). The conventional millimetre of mercury is kept distinct from the torr:
+1 mmHg = 133.322387415 Pa (NIST SP 811, Appendix B.8), which is 1.4e-7 relative above
+1 Torr = 101325/760 Pa. scipy's ``mmHg`` constant equals its ``torr`` and is not used.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from typing import Final
+
+import numpy as np
+import scipy.constants as sc
+
+from .errors import UnitError
+
+__all__ = [
+    "PRESSURE_UNITS",
+    "TEMPERATURE_UNITS",
+    "ENTHALPY_UNITS",
+    "MOLAR_MASS_UNITS",
+    "MMHG_PA",
+    "pressure_factor",
+    "to_kelvin",
+    "from_kelvin",
+    "temperature_affine",
+    "parse_quantity",
+    "parse_temperature",
+    "parse_pressure",
+    "format_pressure",
+]
+
+#: Conventional millimetre of mercury in pascal (NIST SP 811, Appendix B.8).
+MMHG_PA: Final[float] = 133.322387415
+
+#: Pressure units accepted in tables and options, with their value in pascal.
+PRESSURE_UNITS: Final[dict[str, float]] = {
+    "Pa": 1.0,
+    "kPa": sc.kilo,
+    "MPa": sc.mega,
+    "bar": sc.bar,
+    "mbar": sc.bar / 1000.0,
+    "atm": sc.atm,
+    "Torr": sc.torr,
+    "mmHg": MMHG_PA,
+    "psi": sc.psi,
+}
+
+#: Temperature units: (scale, offset) with T[K] = scale * theta + offset.
+TEMPERATURE_UNITS: Final[dict[str, tuple[float, float]]] = {
+    "K": (1.0, 0.0),
+    "degC": (1.0, sc.zero_Celsius),
+    "degF": (5.0 / 9.0, sc.zero_Celsius - 32.0 * 5.0 / 9.0),
+}
+
+#: Enthalpy units in J/mol (thermochemical calorie, 4.184 J exactly).
+ENTHALPY_UNITS: Final[dict[str, float]] = {
+    "J/mol": 1.0,
+    "kJ/mol": 1000.0,
+    "cal/mol": sc.calorie,
+    "kcal/mol": 1000.0 * sc.calorie,
+}
+
+#: Molar-mass units in kg/mol.
+MOLAR_MASS_UNITS: Final[dict[str, float]] = {"g/mol": 1e-3, "kg/mol": 1.0}
+
+
+def _unknown(kind: str, unit: str, valid: dict) -> UnitError:
+    return UnitError(f"unknown {kind} unit {unit!r}; valid units: {', '.join(valid)}")
+
+
+def pressure_factor(unit: str) -> float:
+    """Return the value of one ``unit`` of pressure in pascal.
+
+    Parameters
+    ----------
+    unit : str
+        One of :data:`PRESSURE_UNITS`.
+
+    Returns
+    -------
+    float
+        Pascal per unit. [Pa]
+
+    Raises
+    ------
+    UnitError
+        If the unit is unknown; the message lists the valid units.
+    """
+    try:
+        return PRESSURE_UNITS[unit]
+    except KeyError:
+        raise _unknown("pressure", unit, PRESSURE_UNITS) from None
+
+
+def temperature_affine(unit: str) -> tuple[float, float]:
+    """Return ``(scale, offset)`` such that T[K] = scale * theta + offset.
+
+    Parameters
+    ----------
+    unit : str
+        ``K``, ``degC`` or ``degF``.
+    """
+    try:
+        return TEMPERATURE_UNITS[unit]
+    except KeyError:
+        raise _unknown("temperature", unit, TEMPERATURE_UNITS) from None
+
+
+def to_kelvin(value, unit: str):
+    """Convert temperatures in ``unit`` to kelvin (scalar or array). [K]"""
+    scale, offset = temperature_affine(unit)
+    return (
+        np.asarray(value, dtype=float) * scale + offset
+        if np.ndim(value)
+        else (float(value) * scale + offset)
+    )
+
+
+def from_kelvin(value, unit: str):
+    """Convert temperatures in kelvin to ``unit`` (scalar or array)."""
+    scale, offset = temperature_affine(unit)
+    return (
+        (np.asarray(value, dtype=float) - offset) / scale
+        if np.ndim(value)
+        else ((float(value) - offset) / scale)
+    )
+
+
+_QUANTITY = re.compile(
+    r"^\s*([+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?)\s*([A-Za-z/]*)\s*$"
+)
+
+
+def parse_quantity(text: str, default_unit: str, units: dict[str, object]) -> tuple[float, str]:
+    """Split a quantity such as ``1200K`` or ``0.01 Torr`` into its number and unit.
+
+    Parameters
+    ----------
+    text : str
+        The number (vpaudit's strict grammar) followed by an optional unit suffix.
+    default_unit : str
+        Unit of a bare number.
+    units : dict
+        The accepted unit names.
+
+    Returns
+    -------
+    tuple of (float, str)
+        The number as written and its unit.
+    """
+    m = _QUANTITY.match(text)
+    if not m:
+        raise UnitError(
+            f"cannot read {text!r} as a quantity: write a number and a unit, e.g. "
+            f"'1200K' or '0.01Torr'"
+        )
+    value = float(m.group(1))
+    unit = m.group(2) or default_unit
+    if unit not in units:
+        raise _unknown("", unit, units)
+    if not math.isfinite(value):
+        raise UnitError(f"{text!r} is not a finite number")
+    return value, unit
+
+
+def parse_temperature(text: str) -> float:
+    """Parse ``1200K``, ``926.85degC`` or ``2000degF`` (bare numbers are K) into kelvin.
+
+    Raises
+    ------
+    UnitError
+        If the text does not parse or the result is not a positive absolute temperature.
+    """
+    value, unit = parse_quantity(text, "K", TEMPERATURE_UNITS)
+    kelvin = to_kelvin(value, unit)
+    if kelvin <= 0:
+        raise UnitError(f"{text!r} is {kelvin:g} K: an absolute temperature must be positive")
+    return kelvin
+
+
+def parse_pressure(text: str) -> float:
+    """Parse ``1Pa``, ``0.01Torr`` or ``2.5bar`` (bare numbers are Pa) into pascal.
+
+    Raises
+    ------
+    UnitError
+        If the text does not parse or the pressure is not positive.
+    """
+    value, unit = parse_quantity(text, "Pa", PRESSURE_UNITS)
+    if value <= 0:
+        raise UnitError(f"{text!r}: a vapour pressure must be positive")
+    return value * pressure_factor(unit)
+
+
+def format_pressure(pascal: float, unit: str = "Pa") -> str:
+    """Format a pressure given in pascal in ``unit`` with four significant digits."""
+    if not math.isfinite(pascal):
+        return "n/a"
+    return f"{pascal / pressure_factor(unit):.4g} {unit}"

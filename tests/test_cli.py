@@ -25,8 +25,15 @@ def test_eval_json_contract(sample_db):
     assert set(data) >= {"substance", "temperature_K", "pressure_Pa", "stable_phase", "records"}
     assert abs(data["temperature_K"] - 1200.0) < 1e-9 and data["pressure_Pa"] is None
     rec = data["records"][0]
-    assert set(rec) >= {"id", "phase", "pressure_Pa", "temperature_K", "enthalpy_J_per_mol",
-                        "heat_capacity_change_J_per_mol_K", "in_range"}
+    assert set(rec) >= {
+        "id",
+        "phase",
+        "pressure_Pa",
+        "temperature_K",
+        "enthalpy_J_per_mol",
+        "heat_capacity_change_J_per_mol_K",
+        "in_range",
+    }
     r = run("eval", sample_db, "ardenite", "--pressure", "0.01Torr", "--format", "json")
     data = json.loads(r.output)
     assert abs(data["pressure_Pa"] - 1.3332236842105263) < 1e-12
@@ -46,8 +53,15 @@ def test_audit_exit_codes_and_json_contract(sample_db, tmp_path):
     data = json.loads(r.output)
     assert set(data["summary"]) == {"records", "substances", "pairs", "error", "warning", "note"}
     f = data["findings"][0]
-    assert {"check", "severity", "substance", "records", "message", "evidence",
-            "suggestion"} <= set(f)
+    assert {
+        "check",
+        "severity",
+        "substance",
+        "records",
+        "message",
+        "evidence",
+        "suggestion",
+    } <= set(f)
     assert run("audit", sample_db, "--fail-on", "never").exit_code == 0
     clean = run("audit", sample_db, "--substance", "ardenite", "--fail-on", "warning")
     assert clean.exit_code == 0, clean.output
@@ -57,8 +71,10 @@ def test_audit_exit_codes_and_json_contract(sample_db, tmp_path):
 def test_audit_of_unreadable_input_exits_2(tmp_path):
     d = tmp_path / "t" / "records"
     d.mkdir(parents=True)
-    (d / "r.csv").write_text("id,substance,phase,form,log_base,pressure_unit,A,B,t_min,t_max,"
-                             "source\nx,s,solid,two-term,e,Pa,\u22121,-1e4,300,600,src\n")
+    (d / "r.csv").write_text(
+        "id,substance,phase,form,log_base,pressure_unit,A,B,t_min,t_max,"
+        "source\nx,s,solid,two-term,e,Pa,\u22121,-1e4,300,600,src\n"
+    )
     r = run("audit", tmp_path / "t")
     assert r.exit_code == 2
     assert "r.csv:2 [A]: unexpected U+2212 MINUS SIGN" in r.output

@@ -25,8 +25,15 @@ from vpaudit.units import MMHG_PA, PRESSURE_UNITS
 
 
 def rec(**kw):
-    base = {"id": "r", "substance": "s", "phase": "liquid", "log_base": "e",
-            "pressure_unit": "Pa", "temperature_unit": "K", "source": "test"}
+    base = {
+        "id": "r",
+        "substance": "s",
+        "phase": "liquid",
+        "log_base": "e",
+        "pressure_unit": "Pa",
+        "temperature_unit": "K",
+        "source": "test",
+    }
     base.update(kw)
     return base
 
@@ -38,12 +45,24 @@ def curves(*records):
 
 # --- outside references -----------------------------------------------------------------
 
+
 def test_textbook_water_antoine_gives_one_atmosphere_at_100_degC():
     # Water, 1-100 degC, log10(P/mmHg) = 8.07131 - 1730.63/(233.426 + t/degC): the widely
     # printed textbook constants and their worked result, P(100 degC) = 760 mmHg
     # (values written from memory; checked against IAPWS-IF97 below).
-    c = curves(rec(form="antoine", log_base="10", pressure_unit="mmHg",
-                   temperature_unit="degC", A=8.07131, B=1730.63, C=233.426, t_min=1, t_max=100))
+    c = curves(
+        rec(
+            form="antoine",
+            log_base="10",
+            pressure_unit="mmHg",
+            temperature_unit="degC",
+            A=8.07131,
+            B=1730.63,
+            C=233.426,
+            t_min=1,
+            t_max=100,
+        )
+    )
     p = math.exp(ln_pressure(c, 373.15)[0]) / MMHG_PA
     assert p == pytest.approx(760.0, rel=2e-4)
     from iapws.iapws97 import _PSat_T
@@ -59,21 +78,39 @@ def test_antoine_matches_chemicals_for_poling_constants():
     from chemicals.vapor_pressure import Antoine, Psat_data_AntoinePoling, dAntoine_dT
 
     data = Psat_data_AntoinePoling.iloc[:40]
-    rows = [rec(id=str(i), form="antoine", log_base="10", A=r.A, B=r.B, C=r.C,
-                t_min=r.Tmin, t_max=r.Tmax) for i, r in enumerate(data.itertuples())]
+    rows = [
+        rec(
+            id=str(i),
+            form="antoine",
+            log_base="10",
+            A=r.A,
+            B=r.B,
+            C=r.C,
+            t_min=r.Tmin,
+            t_max=r.Tmax,
+        )
+        for i, r in enumerate(data.itertuples())
+    ]
     c = curves(*rows)
     t = 0.5 * (data["Tmin"].to_numpy() + data["Tmax"].to_numpy())
     y, y1, _ = evaluate(c, t)
-    p_ref = np.array([Antoine(tt, r.A, r.B, r.C) for tt, r in zip(t, data.itertuples())])
-    dp_ref = np.array([dAntoine_dT(tt, r.A, r.B, r.C) for tt, r in zip(t, data.itertuples())])
+    p_ref = np.array(
+        [Antoine(tt, r.A, r.B, r.C) for tt, r in zip(t, data.itertuples(), strict=True)]
+    )
+    dp_ref = np.array(
+        [dAntoine_dT(tt, r.A, r.B, r.C) for tt, r in zip(t, data.itertuples(), strict=True)]
+    )
     assert_allclose(np.exp(y), p_ref, rtol=1e-12)
     assert_allclose(np.exp(y) * y1, dp_ref, rtol=1e-10)
 
 
-@pytest.mark.parametrize("form, table, fn, dfn", [
-    ("wagner-3-6", "Psat_data_WagnerMcGarry", "Wagner_original", "dWagner_original_dT"),
-    ("wagner-2.5-5", "Psat_data_WagnerPoling", "Wagner", "dWagner_dT"),
-])
+@pytest.mark.parametrize(
+    "form, table, fn, dfn",
+    [
+        ("wagner-3-6", "Psat_data_WagnerMcGarry", "Wagner_original", "dWagner_original_dT"),
+        ("wagner-2.5-5", "Psat_data_WagnerPoling", "Wagner", "dWagner_dT"),
+    ],
+)
 def test_wagner_matches_chemicals(form, table, fn, dfn):
     # Wagner constants of McGarry (1983), Ind. Eng. Chem. Process Des. Dev. 22, 313 (3,6
     # form) and of Poling et al. (2,5-5 form), as carried by chemicals; reference
@@ -82,14 +119,30 @@ def test_wagner_matches_chemicals(form, table, fn, dfn):
 
     data = getattr(vp, table).dropna(subset=["A", "B", "C", "D", "Tc", "Pc", "Tmin"]).iloc[:40]
     f, df = getattr(vp, fn), getattr(vp, dfn)
-    rows = [rec(id=str(i), form=form, A=r.A, B=r.B, C=r.C, D=r.D, t_crit=r.Tc, p_crit=r.Pc,
-                t_min=r.Tmin, t_max=0.95 * r.Tc) for i, r in enumerate(data.itertuples())]
+    rows = [
+        rec(
+            id=str(i),
+            form=form,
+            A=r.A,
+            B=r.B,
+            C=r.C,
+            D=r.D,
+            t_crit=r.Tc,
+            p_crit=r.Pc,
+            t_min=r.Tmin,
+            t_max=0.95 * r.Tc,
+        )
+        for i, r in enumerate(data.itertuples())
+    ]
     c = curves(*rows)
     t = 0.5 * (data["Tmin"].to_numpy() + 0.9 * data["Tc"].to_numpy())
     y, y1, _ = evaluate(c, t)
-    ref = np.array([f(tt, r.Tc, r.Pc, r.A, r.B, r.C, r.D) for tt, r in zip(t, data.itertuples())])
-    dref = np.array([df(tt, r.Tc, r.Pc, r.A, r.B, r.C, r.D) for tt, r in
-                     zip(t, data.itertuples())])
+    ref = np.array(
+        [f(tt, r.Tc, r.Pc, r.A, r.B, r.C, r.D) for tt, r in zip(t, data.itertuples(), strict=True)]
+    )
+    dref = np.array(
+        [df(tt, r.Tc, r.Pc, r.A, r.B, r.C, r.D) for tt, r in zip(t, data.itertuples(), strict=True)]
+    )
     assert_allclose(np.exp(y), ref, rtol=1e-11)
     assert_allclose(np.exp(y) * y1, dref, rtol=1e-9)
 
@@ -103,8 +156,17 @@ def test_iapws_water_curves_and_their_enthalpies():
     tl = np.linspace(273.16, 373.15, 200)
     fit = lsq_fit(tl, np.log([_PSat_T(t) * 1e6 for t in tl]))
     assert fit["_max_resid"] < 2e-4  # measured: 6.0e-5 in ln P
-    c = curves(rec(form="four-term-t", A=fit["A"], B=fit["B"], C=fit["C"], D=fit["D"],
-                   t_min=273.16, t_max=373.15))
+    c = curves(
+        rec(
+            form="four-term-t",
+            A=fit["A"],
+            B=fit["B"],
+            C=fit["C"],
+            D=fit["D"],
+            t_min=273.16,
+            t_max=373.15,
+        )
+    )
     for t in (280.0, 300.0, 330.0, 360.0):
         dh, apparent = water_enthalpies(t)
         assert enthalpy(c, t)[0] == pytest.approx(apparent, rel=2e-3)
@@ -124,8 +186,18 @@ def test_iapws_ice_sublimation_and_its_enthalpy():
     ts = np.linspace(200.0, 273.16, 200)
     fit = lsq_fit(ts, np.log([_Sublimation_Pressure(t) * 1e6 for t in ts]))
     assert fit["_max_resid"] < 1e-5  # measured: 2.6e-6 in ln P
-    c = curves(rec(form="four-term-t", phase="solid", A=fit["A"], B=fit["B"], C=fit["C"],
-                   D=fit["D"], t_min=200.0, t_max=273.16))
+    c = curves(
+        rec(
+            form="four-term-t",
+            phase="solid",
+            A=fit["A"],
+            B=fit["B"],
+            C=fit["C"],
+            D=fit["D"],
+            t_min=200.0,
+            t_max=273.16,
+        )
+    )
     for t in (210.0, 240.0, 270.0):
         p = _Sublimation_Pressure(t)
         rho = p * 1e6 * WATER_M / (R * t)  # dilute vapour; fixes the vapour root of IAPWS-95
@@ -137,8 +209,7 @@ def test_iapws_ice_sublimation_and_its_enthalpy():
         assert math.exp(ln_pressure(c, t)[0]) == pytest.approx(p * 1e6, rel=1e-5)
 
 
-@pytest.mark.parametrize("fluid", ["Propane", "n-Hexane", "Toluene", "Ethanol", "Argon",
-                                   "Benzene"])
+@pytest.mark.parametrize("fluid", ["Propane", "n-Hexane", "Toluene", "Ethanol", "Argon", "Benzene"])
 def test_coolprop_saturation_curves(fluid):
     # Saturation curves of reference equations of state via CoolProp, fitted over
     # [T_triple + 2 K, 0.7 Tc]; ln P at points between the fit nodes, and the implied
@@ -150,8 +221,17 @@ def test_coolprop_saturation_curves(fluid):
     nodes = np.linspace(tt, 0.7 * tc, 60)
     lnp = np.log([PropsSI("P", "T", t, "Q", 0, fluid) for t in nodes])
     fit = lsq_fit(nodes, lnp, "four-term-t")
-    c = curves(rec(form="four-term-t", A=fit["A"], B=fit["B"], C=fit["C"], D=fit["D"],
-                   t_min=tt, t_max=0.7 * tc))
+    c = curves(
+        rec(
+            form="four-term-t",
+            A=fit["A"],
+            B=fit["B"],
+            C=fit["C"],
+            D=fit["D"],
+            t_min=tt,
+            t_max=0.7 * tc,
+        )
+    )
     mids = 0.5 * (nodes[1:] + nodes[:-1])[::6]
     p_ref = np.array([PropsSI("P", "T", t, "Q", 0, fluid) for t in mids])
     assert_allclose(ln_pressure(c, mids[None, :])[0], np.log(p_ref), atol=5e-3)
@@ -173,16 +253,18 @@ FORM_RECORDS = {
     "four-term-cube": {"A": 30.0, "B": -12000.0, "C": -1.2, "D": 3e5},
     "power-term": {"A": 30.0, "B": -12000.0, "C": -1.2, "D": 1e-6, "E": 1.7},
     "antoine": {"A": 9.5, "B": 1500.0, "C": -45.0},
-    "wagner-3-6": {"A": -7.5, "B": 1.5, "C": -2.5, "D": -1.5, "t_crit": 600.0,
-                   "p_crit": 4e6},
-    "wagner-2.5-5": {"A": -7.5, "B": 1.5, "C": -2.5, "D": -1.5, "t_crit": 600.0,
-                     "p_crit": 4e6},
+    "wagner-3-6": {"A": -7.5, "B": 1.5, "C": -2.5, "D": -1.5, "t_crit": 600.0, "p_crit": 4e6},
+    "wagner-2.5-5": {"A": -7.5, "B": 1.5, "C": -2.5, "D": -1.5, "t_crit": 600.0, "p_crit": 4e6},
 }
 
 
 @settings(max_examples=60, deadline=None)
-@given(form=st.sampled_from(sorted(FORM_RECORDS)), scale=st.floats(0.5, 1.5),
-       frac=st.floats(0.05, 0.95), base=st.sampled_from(["e", "10"]))
+@given(
+    form=st.sampled_from(sorted(FORM_RECORDS)),
+    scale=st.floats(0.5, 1.5),
+    frac=st.floats(0.05, 0.95),
+    base=st.sampled_from(["e", "10"]),
+)
 def test_analytic_derivatives_match_finite_differences(form, scale, frac, base):
     coef = {k: (v * scale if k in "ABCD" else v) for k, v in FORM_RECORDS[form].items()}
     c = curves(rec(form=form, log_base=base, t_min=250.0, t_max=550.0, **coef))
@@ -210,10 +292,15 @@ UNITS = sorted(PRESSURE_UNITS)
 
 
 @settings(max_examples=150, deadline=None)
-@given(form=st.sampled_from(sorted(FORM_RECORDS)), scale=st.floats(0.5, 1.5),
-       b1=st.sampled_from(["e", "10"]), b2=st.sampled_from(["e", "10"]),
-       u1=st.sampled_from(UNITS), u2=st.sampled_from(UNITS),
-       v2=st.sampled_from(["K", "degC", "degF"]))
+@given(
+    form=st.sampled_from(sorted(FORM_RECORDS)),
+    scale=st.floats(0.5, 1.5),
+    b1=st.sampled_from(["e", "10"]),
+    b2=st.sampled_from(["e", "10"]),
+    u1=st.sampled_from(UNITS),
+    u2=st.sampled_from(UNITS),
+    v2=st.sampled_from(["K", "degC", "degF"]),
+)
 def test_exact_conversions_reproduce_ln_p(form, scale, b1, b2, u1, u2, v2):
     coef = {k: (v * scale if k in "ABCD" else v) for k, v in FORM_RECORDS[form].items()}
     r = rec(form=form, log_base=b1, pressure_unit=u1, t_min=260.0, t_max=540.0, **coef)
@@ -237,13 +324,22 @@ def test_conversion_that_cannot_be_exact_is_refused():
 
 
 def test_degc_to_kelvin_antoine_changes_c_by_273_15():
-    r = rec(form="antoine", log_base="10", temperature_unit="degC", A=8.0, B=1700.0, C=230.0,
-            t_min=0, t_max=100)
+    r = rec(
+        form="antoine",
+        log_base="10",
+        temperature_unit="degC",
+        A=8.0,
+        B=1700.0,
+        C=230.0,
+        t_min=0,
+        t_max=100,
+    )
     k = convert_record(r, temperature_unit="K")
     assert k["C"] == pytest.approx(230.0 - 273.15, abs=1e-12) and k["B"] == 1700.0
 
 
 # --- inversion ------------------------------------------------------------------------------
+
 
 @settings(max_examples=60, deadline=None)
 @given(form=st.sampled_from(sorted(FORM_RECORDS)), frac=st.floats(0.0, 1.0))

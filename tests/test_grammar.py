@@ -18,9 +18,19 @@ from vpaudit.readers.grammar import (
 
 @pytest.mark.parametrize(
     "text, value",
-    [("1.5", 1.5), ("-1234.5", -1234.5), ("+2", 2.0), (".5", 0.5), ("5.", 5.0),
-     ("1e3", 1000.0), ("1.0E+03", 1000.0), ("  7.25\t", 7.25), ("-0", -0.0),
-     ("00012", 12.0), ("2.2250738585072014e-308", 2.2250738585072014e-308)],
+    [
+        ("1.5", 1.5),
+        ("-1234.5", -1234.5),
+        ("+2", 2.0),
+        (".5", 0.5),
+        ("5.", 5.0),
+        ("1e3", 1000.0),
+        ("1.0E+03", 1000.0),
+        ("  7.25\t", 7.25),
+        ("-0", -0.0),
+        ("00012", 12.0),
+        ("2.2250738585072014e-308", 2.2250738585072014e-308),
+    ],
 )
 def test_accepts_the_grammar(text, value):
     assert parse_number(text) == value
@@ -28,13 +38,25 @@ def test_accepts_the_grammar(text, value):
 
 @pytest.mark.parametrize(
     "text, fragment",
-    [("\u22121234.5", "U+2212 MINUS SIGN"), ("12,5", "decimal commas"),
-     ("1.23D+04", "Fortran exponent"), ("1\u00a0234", "U+00A0 NO-BREAK SPACE"),
-     ("1\u2009234", "U+2009 THIN SPACE"), ("inf", "U+0069"), ("nan", "U+006E"),
-     ("1_000", "digit separators"), ("\u0661\u0662", "ARABIC-INDIC DIGIT ONE"),
-     ("1.2.3", "not a number"), ("--1", "not a number"), ("1e", "not a number"),
-     ("", "empty"), ("1e400", "overflows"), ("1e-400", "underflows to zero"),
-     ("4.9e-324", "underflows"), ("0x1A", "U+0078")],
+    [
+        ("\u22121234.5", "U+2212 MINUS SIGN"),
+        ("12,5", "decimal commas"),
+        ("1.23D+04", "Fortran exponent"),
+        ("1\u00a0234", "U+00A0 NO-BREAK SPACE"),
+        ("1\u2009234", "U+2009 THIN SPACE"),
+        ("inf", "U+0069"),
+        ("nan", "U+006E"),
+        ("1_000", "digit separators"),
+        ("\u0661\u0662", "ARABIC-INDIC DIGIT ONE"),
+        ("1.2.3", "not a number"),
+        ("--1", "not a number"),
+        ("1e", "not a number"),
+        ("", "empty"),
+        ("1e400", "overflows"),
+        ("1e-400", "underflows to zero"),
+        ("4.9e-324", "underflows"),
+        ("0x1A", "U+0078"),
+    ],
 )
 def test_rejects_everything_else_with_the_reason(text, fragment):
     with pytest.raises(NumberSyntaxError, match=re.escape(fragment)):
@@ -88,8 +110,14 @@ def test_column_path_agrees_with_the_scalar_path():
 
 @pytest.mark.parametrize(
     "text, expected",
-    [("\u22121234.5", "-1234.5"), ("\u20131.5", "-1.5"), ("1\u2009234.5", "1234.5"),
-     ("1.23D+04", "1.23e+04"), ("1.5\u00d710\u207b\u00b3", "1.5e-3"), ("2.0x10^-5", "2.0e-5")],
+    [
+        ("\u22121234.5", "-1234.5"),
+        ("\u20131.5", "-1.5"),
+        ("1\u2009234.5", "1234.5"),
+        ("1.23D+04", "1.23e+04"),
+        ("1.5\u00d710\u207b\u00b3", "1.5e-3"),
+        ("2.0x10^-5", "2.0e-5"),
+    ],
 )
 def test_opt_in_normalisation_rewrites_look_alikes_and_says_so(text, expected):
     new, rewrites = normalize_typography(text)

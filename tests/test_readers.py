@@ -82,10 +82,15 @@ def test_invalid_utf8_and_nul_bytes_are_located(tmp_path):
 
 
 def test_unknown_column_form_unit_and_coefficient_misuse(tmp_path):
-    text = (HEADER + ",colour\n" + ROW.format(A="1") + ",red\n"
-            + "r2,zinc-demo,solid,four-term-x,e,Pa,1,-1,1,300,600,s,\n"
-            + "r3,zinc-demo,vapour,three-term,e,psia,1,-1,1,300,600,s,\n"
-            + "r4,zinc-demo,solid,two-term,e,Pa,1,-1,1,300,600,s,\n")
+    text = (
+        HEADER
+        + ",colour\n"
+        + ROW.format(A="1")
+        + ",red\n"
+        + "r2,zinc-demo,solid,four-term-x,e,Pa,1,-1,1,300,600,s,\n"
+        + "r3,zinc-demo,vapour,three-term,e,psia,1,-1,1,300,600,s,\n"
+        + "r4,zinc-demo,solid,two-term,e,Pa,1,-1,1,300,600,s,\n"
+    )
     msgs = "\n".join(errors_of(write(tmp_path / "r.csv", text)))
     assert "unknown column 'colour'" in msgs
     assert "unknown form 'four-term-x'" in msgs
@@ -94,15 +99,22 @@ def test_unknown_column_form_unit_and_coefficient_misuse(tmp_path):
 
 
 def test_degc_on_a_log_linear_form_is_refused(tmp_path):
-    text = (HEADER + ",temperature_unit\n" + ROW.format(A="1") + ",degC\n")
+    text = HEADER + ",temperature_unit\n" + ROW.format(A="1") + ",degC\n"
     msg = errors_of(write(tmp_path / "r.csv", text))[0]
     assert "needs an absolute temperature" in msg
 
 
 def test_rule_problems_are_reported_not_raised(tmp_path):
-    text = (HEADER + "\n" + ROW.format(A="1") + "\n"
-            + ROW.format(A="1").replace("300,600", "600,300").replace("r1", "r2") + "\n"
-            + ROW.format(A="1").replace("demo source", "") + "\n")
+    text = (
+        HEADER
+        + "\n"
+        + ROW.format(A="1")
+        + "\n"
+        + ROW.format(A="1").replace("300,600", "600,300").replace("r1", "r2")
+        + "\n"
+        + ROW.format(A="1").replace("demo source", "")
+        + "\n"
+    )
     t = read_file(write(tmp_path / "r.csv", text))
     rules = sorted(t.problems["rule"])
     assert rules == ["duplicate-id", "duplicate-id", "range", "source"]
@@ -141,11 +153,13 @@ def test_yaml_duplicate_key_and_alias_are_errors(tmp_path):
 
 
 def test_json_keeps_number_text_and_rejects_nan_and_duplicates(tmp_path):
-    good = ('{"records": [\n {"id": "a", "substance": "s", "phase": "solid", "form": "two-term",'
-            ' "log_base": "e", "pressure_unit": "Pa", "A": 25.50, "B": -1.5e4, "t_min": 300,'
-            ' "t_max": 600, "source": "x"},\n {"id": "b", "substance": "s", "phase": "liquid",'
-            ' "form": "two-term", "log_base": "e", "pressure_unit": "Pa", "A": 24, "B": -14000,'
-            ' "t_min": 600, "t_max": 900, "source": "x"}\n]}\n')
+    good = (
+        '{"records": [\n {"id": "a", "substance": "s", "phase": "solid", "form": "two-term",'
+        ' "log_base": "e", "pressure_unit": "Pa", "A": 25.50, "B": -1.5e4, "t_min": 300,'
+        ' "t_max": 600, "source": "x"},\n {"id": "b", "substance": "s", "phase": "liquid",'
+        ' "form": "two-term", "log_base": "e", "pressure_unit": "Pa", "A": 24, "B": -14000,'
+        ' "t_min": 600, "t_max": 900, "source": "x"}\n]}\n'
+    )
     t = read_file(write(tmp_path / "r.json", good))
     assert list(t.records["A_text"]) == ["25.50", "24"]
     assert list(t.records["line"]) == [2, 3]
@@ -158,11 +172,21 @@ def test_json_keeps_number_text_and_rejects_nan_and_duplicates(tmp_path):
 
 
 def _parquet(path, a_type):
-    table = pa.table({
-        "id": ["p1"], "substance": ["s"], "phase": ["solid"], "form": ["two-term"],
-        "log_base": ["e"], "pressure_unit": ["Pa"],
-        "A": pa.array([25.1], type=a_type), "B": pa.array([-15000.0]),
-        "t_min": pa.array([300.0]), "t_max": pa.array([600.0]), "source": ["x"]})
+    table = pa.table(
+        {
+            "id": ["p1"],
+            "substance": ["s"],
+            "phase": ["solid"],
+            "form": ["two-term"],
+            "log_base": ["e"],
+            "pressure_unit": ["Pa"],
+            "A": pa.array([25.1], type=a_type),
+            "B": pa.array([-15000.0]),
+            "t_min": pa.array([300.0]),
+            "t_max": pa.array([600.0]),
+            "source": ["x"],
+        }
+    )
     pq.write_table(table, path)
     return path
 
@@ -187,5 +211,6 @@ def test_no_value_is_ever_different_from_the_text(sample_db):
     for col in ("A", "B", "C", "t_min", "t_max"):
         text = t.records[col + "_text"]
         mask = text.notna().to_numpy()
-        assert np.array_equal(t.records[col].to_numpy()[mask],
-                              np.array([float(x) for x in text[mask]]))
+        assert np.array_equal(
+            t.records[col].to_numpy()[mask], np.array([float(x) for x in text[mask]])
+        )

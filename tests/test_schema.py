@@ -17,24 +17,60 @@ def test_json_schemas_are_generated_from_the_models():
     for name, text in json_schemas().items():
         path = ROOT / "schemas" / f"{name}.schema.json"
         assert path.read_text(encoding="utf-8") == text, (
-            f"{path} is stale: regenerate with python -m vpaudit.schema")
+            f"{path} is stale: regenerate with python -m vpaudit.schema"
+        )
 
 
 def test_public_api_is_explicit():
-    assert sorted(vpaudit.__all__) == sorted([
-        "AuditResult", "Curves", "EquationError", "Finding", "Policy", "PolicyError",
-        "RecordRuleError", "Severity", "StoreError", "Table", "TableError", "TableErrors",
-        "UnitError", "UnknownCheckError", "VpauditError", "__version__", "audit",
-        "audit_table", "curves_from_frame", "enthalpy", "eval_substance",
-        "heat_capacity_change", "ln_pressure", "load_policy", "load_table", "open_table",
-    ])
+    assert sorted(vpaudit.__all__) == sorted(
+        [
+            "AuditResult",
+            "Curves",
+            "EquationError",
+            "Finding",
+            "Policy",
+            "PolicyError",
+            "RecordRuleError",
+            "Severity",
+            "StoreError",
+            "Table",
+            "TableError",
+            "TableErrors",
+            "UnitError",
+            "UnknownCheckError",
+            "VpauditError",
+            "__version__",
+            "audit",
+            "audit_table",
+            "curves_from_frame",
+            "enthalpy",
+            "eval_substance",
+            "heat_capacity_change",
+            "ln_pressure",
+            "load_policy",
+            "load_table",
+            "open_table",
+        ]
+    )
     for name in vpaudit.__all__:
         assert hasattr(vpaudit, name), name
 
 
-GOOD = dict(id="g", substance="s", phase="liquid", form="three-term", log_base="e",
-            pressure_unit="Pa", temperature_unit="K", A="30", B="-12000", C="-1.2",
-            t_min="300", t_max="600", source="src")
+GOOD = dict(
+    id="g",
+    substance="s",
+    phase="liquid",
+    form="three-term",
+    log_base="e",
+    pressure_unit="Pa",
+    temperature_unit="K",
+    A="30",
+    B="-12000",
+    C="-1.2",
+    t_min="300",
+    t_max="600",
+    source="src",
+)
 
 # One row per rule (and some valid ones): the column-wise path and the pydantic model must
 # reject exactly the same rows.
@@ -43,18 +79,32 @@ CASES = [
     {"form": "two-term", "C": None},
     {"form": "antoine", "A": "9.5", "B": "1500", "C": "-45"},
     {"form": "antoine", "A": "9.5", "B": "1500", "C": "-450"},  # pole at 450 K in range
-    {"form": "antoine", "temperature_unit": "degC", "A": "8", "B": "1700", "C": "230",
-     "t_min": "0", "t_max": "100"},
+    {
+        "form": "antoine",
+        "temperature_unit": "degC",
+        "A": "8",
+        "B": "1700",
+        "C": "230",
+        "t_min": "0",
+        "t_max": "100",
+    },
     {"t_min": "600", "t_max": "300"},
     {"t_min": "0"},
     {"t_min": "-5"},
     {"t_max": None},
     {"source": None},
-    {"form": "two-term"},                 # C given but unused
-    {"form": "four-term-t"},              # D missing
-    {"temperature_unit": "degC"},         # degC on a log-linear form
-    {"form": "wagner-3-6", "A": "-7", "B": "1", "C": "-2", "D": "-1", "t_crit": "700",
-     "p_crit": "4e6"},
+    {"form": "two-term"},  # C given but unused
+    {"form": "four-term-t"},  # D missing
+    {"temperature_unit": "degC"},  # degC on a log-linear form
+    {
+        "form": "wagner-3-6",
+        "A": "-7",
+        "B": "1",
+        "C": "-2",
+        "D": "-1",
+        "t_crit": "700",
+        "p_crit": "4e6",
+    },
     {"form": "wagner-3-6", "A": "-7", "B": "1", "C": "-2", "D": "-1"},  # no Tc, Pc
     {"phase": "gas"},
     {"pressure_unit": "psia"},
@@ -80,8 +130,7 @@ def test_column_wise_verdicts_equal_the_per_row_model():
     cols = list(GOOD) + ["D", "t_crit", "p_crit", "uncertainty"]
     cells = {c: [r.get(c) for r in rows] for c in cols}
     out = _Collector()
-    frame_from_raw(RawFrame("<cases>", cols, cells, list(range(2, len(rows) + 2))), "records",
-                   out)
+    frame_from_raw(RawFrame("<cases>", cols, cells, list(range(2, len(rows) + 2))), "records", out)
     flagged = {e.location.line for e in out.errors} | {p["line"] for p in out.problems}
     column_ok = [i + 2 not in flagged for i in range(len(rows))]
     model_ok = [_pydantic_ok(r) for r in rows]

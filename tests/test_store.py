@@ -17,8 +17,10 @@ from vpaudit.writers import export_table
 def _counts(db):
     con = duckdb.connect(str(db), read_only=True)
     try:
-        return tuple(con.execute(f'SELECT count(*) FROM "{t}"').fetchone()[0]
-                     for t in ("records", "references", "points"))
+        return tuple(
+            con.execute(f'SELECT count(*) FROM "{t}"').fetchone()[0]
+            for t in ("records", "references", "points")
+        )
     finally:
         con.close()
 
@@ -32,8 +34,11 @@ def test_import_export_import_reproduces_every_record(tmp_path, clean_sample):
     import_table(tmp_path / "out", db2)
     a, b = open_table(db).records, open_table(db2).records
     assert len(a) == counts["records"] == len(b)
-    cols = [c for c in a.columns if c.endswith("_text") or c in ("id", "substance", "phase",
-                                                                   "form", "source", "note")]
+    cols = [
+        c
+        for c in a.columns
+        if c.endswith("_text") or c in ("id", "substance", "phase", "form", "source", "note")
+    ]
     left = a[cols].sort_values("id").reset_index(drop=True).astype(object)
     right = b[cols].sort_values("id").reset_index(drop=True).astype(object)
     assert left.where(left.notna(), None).equals(right.where(right.notna(), None))
@@ -60,8 +65,10 @@ def test_rule_problems_reject_the_import(tmp_path, clean_sample, sample_db):
     before = _counts(db)
     with pytest.raises(RecordRuleError, match=r"metals\.csv:28 \[source\] no source is cited"):
         import_table(sample_db, db)  # the demo's planted missing source
-    text = ("id,substance,phase,form,log_base,pressure_unit,A,B,t_min,t_max,source\n"
-            "x1,s,solid,two-term,e,Pa,25,-1e4,600,300,src\n")
+    text = (
+        "id,substance,phase,form,log_base,pressure_unit,A,B,t_min,t_max,source\n"
+        "x1,s,solid,two-term,e,Pa,25,-1e4,600,300,src\n"
+    )
     bad = write(tmp_path / "t" / "records" / "r.csv", text)
     with pytest.raises(RecordRuleError, match=r"r\.csv:2 \[t_max\] the range is empty"):
         import_table(bad.parent.parent, db)

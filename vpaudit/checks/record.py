@@ -179,7 +179,7 @@ def enthalpy_implausible(ctx: AuditContext):
     ),
 )
 def heat_capacity_sign(ctx: AuditContext):
-    """DCp comes from the curvature and is poorly fixed by a narrow-range fit: small
+    """The implied dCp comes from the curvature and is poorly fixed by a narrow-range fit: small
     positive values (a few J/(mol K)) occur in good fits (even in fits to ice, whose Cp
     falls with temperature), so only values beyond the tolerance are reported, and only
     values far beyond it are errors. A two-term equation implies dCp = 0 exactly, a choice,

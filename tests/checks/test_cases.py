@@ -1,0 +1,79 @@
+"""Run every check's case file: records that must trigger it, records that must not."""
+
+import math
+from pathlib import Path
+
+import pytest
+import yaml
+from refdata import table_from_rows
+from scipy.constants import R
+
+from vpaudit.audit import audit_table
+from vpaudit.checks import REGISTRY
+
+CASES = Path(__file__).parent / "cases"
+
+
+def _make(spec: dict) -> dict:
+    """Three-term coefficients (base e, Pa, K) of the constant-dCp Clausius-Clapeyron
+    integral through (t0, lnp0) with enthalpy h0 there (physics notes, section 3)."""
+    t0, h0, cp, lnp0 = (float(spec[k]) for k in ("t0", "h0", "cp", "lnp0"))
+    c = cp / R
+    b = -(h0 - cp * t0) / R
+    a = lnp0 - b / t0 - c * math.log(t0)
+    return {"form": "three-term", "A": a, "B": b, "C": c}
+
+
+def _records(case: dict, defaults: dict) -> list[dict]:
+    out = []
+    for rec in case.get("records", []):
+        row = {"log_base": "e", "pressure_unit": "Pa", **defaults, **rec}
+        if "make" in row:
+            row.update(_make(row.pop("make")))
+        out.append(row)
+    return out
+
+
+def _load():
+    for path in sorted(CASES.glob("*.yaml")):
+        spec = yaml.safe_load(path.read_text(encoding="utf-8"))
+        for case in spec["cases"]:
+            yield pytest.param(
+                spec["check"], spec.get("defaults", {}), case, id=f"{spec['check']}: {case['name']}"
+            )
+
+
+@pytest.mark.parametrize("check, defaults, case", list(_load()))
+def test_case(check, defaults, case):
+    table = table_from_rows(
+        _records(case, defaults), case.get("references", []), case.get("points", [])
+    )
+    result = audit_table(table, only=[check])
+    hits = [f for f in result.findings if f.check == check]
+    internal = [f for f in result.findings if f.check == "internal-error"]
+    assert not internal, internal[0].message
+    if case["expect"] == "fail":
+        assert hits, f"{check} did not report: {case['name']}"
+        for f in hits:
+            assert f.message and f.evidence is not None
+    else:
+        assert not hits, f"{check} reported on a passing case: {hits[0].message}"
+
+
+def test_every_check_has_a_case_file_with_both_outcomes_and_a_docstring():
+    for name, spec in REGISTRY.items():
+        path = CASES / f"{name}.yaml"
+        assert path.exists(), f"no case file for check {name!r}"
+        expects = {c["expect"] for c in yaml.safe_load(path.read_text())["cases"]}
+        assert expects == {"fail", "pass"}, f"{name}: needs failing and passing cases"
+        assert spec.doc, f"check {name!r} has no docstring"
+        assert spec.summary and spec.basis
+
+
+def test_docs_checks_md_is_generated_from_the_registry():
+    from vpaudit.docs import checks_markdown
+
+    page = Path(__file__).resolve().parents[2] / "docs" / "checks.md"
+    assert page.read_text(encoding="utf-8") == checks_markdown(), (
+        "docs/checks.md is stale: vpaudit checks --format markdown > docs/checks.md"
+    )

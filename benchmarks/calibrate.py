@@ -103,3 +103,37 @@ if __name__ == "__main__":
         ],
     )
     report(water, "water (IAPWS fits)")
+
+
+def report_compilation():
+    from refdata import compilation_table
+
+    from vpaudit.policy import Policy
+
+    table = compilation_table()
+    print(f"== literature compilations: {len(table.records)} liquid records, "
+          f"{table.records['substance'].nunique()} substances, 3 sources each")
+    for preset in ("evaluated", "compilation"):
+        result = audit_table(table, Policy(preset))
+        counts = {}
+        for f in result.findings:
+            counts.setdefault((f.check, f.severity.value), 0)
+            counts[(f.check, f.severity.value)] += 1
+        print(f"preset {preset}: {result.summary}")
+        for (check, sev), n in sorted(counts.items()):
+            print(f"    {n:4d} {sev:8s} {check}")
+    ctx = AuditContext(table, Policy())
+    tb = ctx.reference("normal_boiling_point")
+    rows = np.flatnonzero(np.isfinite(tb) & (tb >= ctx.curves.t_min) & (tb <= ctx.curves.t_max))
+    y = evaluate(ctx.curves.take(rows), tb[rows], 0)[0]
+    d = y - LN_P_STANDARD
+    for form in ("antoine", "wagner-3-6", "power-term"):
+        m = ctx.form[rows] == form
+        print(f"ln P(Tb,CRC) - ln 101325, {form}:", quantiles(np.abs(d[m])))
+    result = audit_table(table, Policy("evaluated"), only=["sources-disagree"])
+    z = [f.evidence["difference_lnP"] for f in result.findings]
+    print("sources-disagree |d| of flagged records (evaluated preset):", quantiles(np.abs(z)))
+
+
+if __name__ == "__main__":
+    report_compilation()

@@ -72,6 +72,15 @@ def curve(tm, dh0, dcp, lnp_tp):
     return a, b, c
 
 
+def four_term_t(tm, dh0, dcp, lnp_tp, d):
+    """Four-term-t coefficients (ln, Pa, K) with dCp/R = C + 2 D T equal to dcp at Tm, dH(Tm)
+    = dh0 and ln P(Tm) = lnp_tp: dH/R = -B + C T + D T^2 (physics notes, section 3)."""
+    c = dcp / R - 2.0 * d * tm
+    b = c * tm + d * tm * tm - dh0 / R
+    a = lnp_tp - b / tm - c * math.log(tm) - d * tm
+    return {"form": "four-term-t", "A": a, "B": b, "C": c, "D": d}
+
+
 def fmt(x, digits=7):
     return f"{x:.{digits}g}"
 
@@ -138,6 +147,8 @@ def build():
         src = SOURCES[k % len(SOURCES)]
         for phase, (a, b, c), lo, hi in (("solid", solid, s_lo, tm), ("liquid", liquid, tm, l_hi)):
             rec = record(f"{name}-{phase[0]}1", name, phase, a, b, c, lo, round(hi, 2), src)
+            if name == "lanthorne" and phase == "liquid":
+                rec.update(four_term_t(tm, hvap * 1e3, dcp_l, lnp_tp, -1.0e-3))
             rec = convert_record(rec, log_base=base, pressure_unit=unit)
             rec["note"] = None
             records.append(rec)
@@ -279,9 +290,9 @@ def plant(records, refs, points):
     r["A"] = float(r["A"]) + shift
     records.append(r)
     planted["kestrium"] = ("kestrium-l2", "sources-disagree")
-    # 9. Sign of the log T coefficient flipped on a liquid: dCp becomes strongly positive.
+    # 9. Lost minus sign of the D coefficient of a four-term equation: dCp turns positive.
     r = rec("lanthorne-l1")
-    r["C"] = -float(r["C"]) * 1.0 + 3.0
+    r["D"] = -float(r["D"])
     planted["lanthorne"] = ("lanthorne-l1", "heat-capacity-sign")
     # 10. Missing source.
     rec("norrane-s1")["source"] = None

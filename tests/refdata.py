@@ -210,3 +210,53 @@ def water_enthalpies(t: float) -> tuple[float, float]:
     p = liq.P * 1e6
     dz = p * (1.0 / vap.rho - 1.0 / liq.rho) * WATER_M / (R * t)
     return dh, dh / dz
+
+
+POLING = ("Poling, Prausnitz & O'Connell, The Properties of Gases and Liquids, 5th ed., "
+          "Antoine constants, via chemicals")
+MCGARRY = "McGarry (1983), Ind. Eng. Chem. Process Des. Dev. 22, 313, Wagner constants, via chemicals"
+PERRY = "Perry's Chemical Engineers' Handbook, 8th ed., Table 2-8, via chemicals"
+
+
+def compilation_table(limit: int | None = None) -> Table:
+    """Three literature compilations of the same liquids, as three sources per substance:
+    Antoine (Poling), Wagner 3,6 (McGarry) and Perry's ln P = C1 + C2/T + C3 ln T + C4 T^C5,
+    with CRC Handbook normal boiling points (chemicals, method CRC_ORG)."""
+    from chemicals import Tb
+    from chemicals.vapor_pressure import (
+        Psat_data_AntoinePoling as ant,
+    )
+    from chemicals.vapor_pressure import (
+        Psat_data_Perrys2_8 as per,
+    )
+    from chemicals.vapor_pressure import (
+        Psat_data_WagnerMcGarry as wag,
+    )
+
+    common = ant.index.intersection(wag.index).intersection(per.index)
+    if limit:
+        common = common[:limit]
+    records, refs = [], []
+    for cas in common:
+        a, w, p = ant.loc[cas], wag.loc[cas], per.loc[cas]
+        name = str(p["Chemical"]).lower()
+        base = {"substance": name, "phase": "liquid", "pressure_unit": "Pa"}
+        records.append({**base, "id": f"{cas}-poling", "form": "antoine", "log_base": "10",
+                        "A": a["A"], "B": a["B"], "C": a["C"], "t_min": a["Tmin"],
+                        "t_max": a["Tmax"], "source": POLING})
+        records.append({**base, "id": f"{cas}-mcgarry", "form": "wagner-3-6", "log_base": "e",
+                        "A": w["A"], "B": w["B"], "C": w["C"], "D": w["D"], "t_crit": w["Tc"],
+                        "p_crit": w["Pc"], "t_min": w["Tmin"], "t_max": 0.999 * w["Tc"],
+                        "source": MCGARRY})
+        records.append({**base, "id": f"{cas}-perry", "form": "power-term", "log_base": "e",
+                        "A": p["C1"], "B": p["C2"], "C": p["C3"], "D": p["C4"], "E": p["C5"],
+                        "t_min": p["Tmin"], "t_max": p["Tmax"], "source": PERRY})
+        try:
+            tb = Tb(cas, method="CRC_ORG")
+        except Exception:
+            tb = None
+        if tb:
+            refs.append({"substance": name, "quantity": "normal_boiling_point",
+                         "value": float(tb), "unit": "K",
+                         "source": "CRC Handbook of Chemistry and Physics via chemicals"})
+    return table_from_rows(records, refs)

@@ -14,7 +14,13 @@ import numpy as np
 import pandas as pd
 from scipy.constants import R
 
-from ..equations.engine import Curves, bracketed_root, curves_from_frame, evaluate
+from ..equations.engine import (
+    Curves,
+    bracketed_root,
+    curves_from_frame,
+    evaluate,
+    temperature_at,
+)
 from ..readers.table import Table
 from ._registry import REGISTRY, Severity
 from .finding import Finding
@@ -132,65 +138,77 @@ class AuditContext:
     def range_extrema(self) -> dict[str, np.ndarray]:
         """Exact extrema of dH(T), dCp(T) and ln P over each record's range.
 
+        dH and ln P are taken over the whole range. dCp is taken only over the part where the
+        vapour is near-ideal, P <= ``max_pressure`` of ``heat-capacity-sign`` (10 kPa by
+        default) and T <= 0.7 Tc where Tc is known: above, the slope gives dH/dZ, whose
+        temperature derivative is not dCp (physics notes, section 2). Keys ``cp_lo``/``cp_hi``
+        give that sub-range; NaN where the record has none.
+
         Log-linear and Antoine curves: ends of the range plus the analytic stationary points
         (dH is stationary where dCp = 0: T^E = -C/(D E (E+1)); the Antoine dCp where
         T = C'/2). Wagner curves: a 64-point grid plus the ends.
         """
         n = self.n
-        out = {
-            k: np.full(n, np.nan)
-            for k in (
-                "h_min",
-                "h_min_T",
-                "h_max",
-                "cp_min",
-                "cp_min_T",
-                "cp_max",
-                "cp_max_T",
-                "y_min",
-                "y_max",
-            )
-        }
-        rows_all = np.flatnonzero(self.evaluable)
-        fam = self.curves.family[rows_all]
-        for rows, grid in ((rows_all[fam != 2], False), (rows_all[fam == 2], True)):
-            if rows.size == 0:
-                continue
-            c = self.curves.take(rows)
-            lo, hi = c.t_min[:, None], c.t_max[:, None]
-            if grid:
-                frac = np.linspace(0.0, 1.0, _WAGNER_GRID + 2)[None, :]
-                ts = lo + (hi - lo) * frac
-            else:
-                p = c.params
-                with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-                    dee = p[:, 3] * p[:, 4] * (p[:, 4] + 1.0)
-                    t_h = np.where(
-                        (c.family == 0) & (dee != 0), (-p[:, 2] / dee) ** (1.0 / p[:, 4]), np.nan
-                    )
-                    t_cp = np.where(c.family == 1, p[:, 2] / 2.0, np.nan)
-                cand = np.column_stack([c.t_min, c.t_max, t_h, t_cp])
-                cand = np.where(np.isfinite(cand), cand, c.t_min[:, None])
-                ts = np.clip(cand, lo, hi)
-            y, y1, y2 = evaluate(c, ts)
-            h = R * ts * ts * y1
-            cp = R * (2.0 * ts * y1 + ts * ts * y2)
-            with np.errstate(invalid="ignore"):
-                hm = np.nanargmin(np.where(np.isnan(h), np.inf, h), axis=1)
-                cpm = np.nanargmin(np.where(np.isnan(cp), np.inf, cp), axis=1)
-                cpx = np.nanargmax(np.where(np.isnan(cp), -np.inf, cp), axis=1)
-            k = np.arange(rows.size)
+        out = {k: np.full(n, np.nan) for k in (
+            "h_min", "h_min_T", "h_max", "y_min", "y_max", "cp_min", "cp_min_T", "cp_max",
+            "cp_max_T", "cp_lo", "cp_hi")}
+        rows = np.flatnonzero(self.evaluable)
+        if rows.size == 0:
+            return out
+        c = self.curves.take(rows)
+        h, ts, y, _ = self._sampled(c, c.t_min, c.t_max)
+        k = np.arange(rows.size)
+        with np.errstate(invalid="ignore"):
+            hm = np.argmin(np.where(np.isnan(h), np.inf, h), axis=1)
             out["h_min"][rows] = np.where(np.isnan(h).any(axis=1), np.nan, h[k, hm])
             out["h_min_T"][rows] = ts[k, hm]
-            out["h_max"][rows] = np.nanmax(h, axis=1) if h.size else np.nan
-            out["cp_min"][rows] = cp[k, cpm]
-            out["cp_min_T"][rows] = ts[k, cpm]
-            out["cp_max"][rows] = cp[k, cpx]
-            out["cp_max_T"][rows] = ts[k, cpx]
+            out["h_max"][rows] = np.nanmax(np.where(np.isnan(h), -np.inf, h), axis=1)
+            finite = np.isfinite(y).all(axis=1)
+            out["y_min"][rows] = np.where(finite, y.min(axis=1), np.nan)
+            out["y_max"][rows] = np.where(finite, y.max(axis=1), np.nan)
+        # The near-ideal part of the range for dCp.
+        p_max = self.policy.thresholds("heat-capacity-sign")["max_pressure"]
+        t_cut = temperature_at(c, np.log(p_max))
+        y_lo = evaluate(c, c.t_min, order=0)[0]
+        hi = np.where(np.isfinite(t_cut), t_cut, c.t_max)
+        hi = np.fmin(hi, 0.7 * self.critical_temperature()[rows])
+        with np.errstate(invalid="ignore"):
+            ideal = (y_lo <= np.log(p_max)) & (hi > c.t_min)
+        sub = np.flatnonzero(ideal)
+        if sub.size:
+            cs = c.take(sub)
+            _, tcp, _, cp = self._sampled(cs, cs.t_min, hi[sub])
+            j = np.arange(sub.size)
             with np.errstate(invalid="ignore"):
-                out["y_min"][rows] = np.where(np.isfinite(y).all(axis=1), y.min(axis=1), np.nan)
-                out["y_max"][rows] = np.where(np.isfinite(y).all(axis=1), y.max(axis=1), np.nan)
+                lo_i = np.argmin(np.where(np.isnan(cp), np.inf, cp), axis=1)
+                hi_i = np.argmax(np.where(np.isnan(cp), -np.inf, cp), axis=1)
+            r = rows[sub]
+            out["cp_min"][r], out["cp_min_T"][r] = cp[j, lo_i], tcp[j, lo_i]
+            out["cp_max"][r], out["cp_max_T"][r] = cp[j, hi_i], tcp[j, hi_i]
+            out["cp_lo"][r], out["cp_hi"][r] = cs.t_min, hi[sub]
         return out
+
+    @staticmethod
+    def _sampled(c: Curves, lo: np.ndarray, hi: np.ndarray):
+        """dH, the temperatures, ln P and dCp at the candidate extrema of each curve in
+        [lo, hi]: ends and analytic stationary points; a grid for Wagner curves."""
+        m = c.family.size
+        cand = np.empty((m, _WAGNER_GRID + 2))
+        wag = c.family == 2
+        frac = np.linspace(0.0, 1.0, _WAGNER_GRID + 2)[None, :]
+        cand[wag] = lo[wag, None] + (hi - lo)[wag, None] * frac
+        p = c.params
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            dee = p[:, 3] * p[:, 4] * (p[:, 4] + 1.0)
+            t_h = np.where((c.family == 0) & (dee != 0), (-p[:, 2] / dee) ** (1.0 / p[:, 4]),
+                           np.nan)
+            t_cp = np.where(c.family == 1, p[:, 2] / 2.0, np.nan)
+        other = np.column_stack([lo, hi, t_h, t_cp])
+        other = np.where(np.isfinite(other), other, lo[:, None])
+        cand[~wag] = np.pad(other[~wag], ((0, 0), (0, _WAGNER_GRID - 2)), mode="edge")
+        ts = np.clip(cand, lo[:, None], hi[:, None])
+        y, y1, y2 = evaluate(c, ts)
+        return R * ts * ts * y1, ts, y, R * (2.0 * ts * y1 + ts * ts * y2)
 
     # --- solid/liquid pairs --------------------------------------------------------------
     @cached_property

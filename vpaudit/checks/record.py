@@ -176,6 +176,12 @@ def enthalpy_implausible(ctx: AuditContext):
         Threshold("tolerance", 10.0, "J/(mol K)", "largest positive dCp accepted"),
         Threshold("error_above", 60.0, "J/(mol K)", "dCp above which the finding is an error"),
         Threshold("antoine_factor", 3.0, "-", "widening of both limits for Antoine records"),
+        Threshold(
+            "max_pressure",
+            1e4,
+            "Pa",
+            "dCp is tested only where P is below this and T below 0.7 Tc (near-ideal vapour)",
+        ),
     ),
 )
 def heat_capacity_sign(ctx: AuditContext):
@@ -184,6 +190,9 @@ def heat_capacity_sign(ctx: AuditContext):
     falls with temperature), so only values beyond the tolerance are reported, and only
     values far beyond it are errors. A two-term equation implies dCp = 0 exactly, a choice,
     not an error. The Antoine form's implied dCp swings widely, so its limits are wider.
+    Only the near-ideal part of the range is tested (P below ``max_pressure``, T below
+    0.7 Tc): closer to the critical point the slope gives dH/dZ, and its derivative picks up
+    -dH dZ'/dZ^2, about +100 J/(mol K) at 1 atm for an organic liquid -- not a heat capacity.
     """
     th = ctx.thresholds("heat-capacity-sign")
     ex = ctx.range_extrema
@@ -223,8 +232,10 @@ def heat_capacity_sign(ctx: AuditContext):
 def heat_capacity_magnitude(ctx: AuditContext):
     """The largest |dCp| over the range is compared with a limit; ends of the range suffice
     for log-linear forms (dCp is monotone in T), the Antoine dCp is also tested at its
-    stationary point, and Wagner curves on a grid. Large magnitudes mean a decimal slip in
-    the log T or D coefficient or a fit extrapolated far beyond its data.
+    stationary point, and Wagner curves on a grid, over the near-ideal part of the range
+    (as for ``heat-capacity-sign``). Large magnitudes mean a decimal slip in the log T or D
+    coefficient or a fit extrapolated far beyond its data.
+    Tested over the near-ideal part of the range, as ``heat-capacity-sign``.
     """
     th = ctx.thresholds("heat-capacity-magnitude")
     ex = ctx.range_extrema

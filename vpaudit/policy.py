@@ -53,7 +53,7 @@ class Policy:
 
     preset: str = "evaluated"
     overrides: dict[str, dict[str, Any]] = field(default_factory=dict)
-    origin: str = "defaults"
+    origin: str = "built-in defaults"
 
     def __post_init__(self) -> None:
         if self.preset not in PRESETS:
@@ -105,7 +105,10 @@ class Policy:
 
     def describe(self) -> dict[str, Any]:
         """A JSON-able description (stored with each audit run)."""
-        return {"preset": self.preset, "origin": self.origin, "overrides": self.overrides}
+        return {"preset": self.preset, "origin": self.origin, "overrides": self.overrides,
+                "label": f"preset {self.preset}" + (
+                    f" with overrides from {self.origin}" if self.overrides else
+                    f", from {self.origin}" if self.origin.endswith(".toml") else "")}
 
 
 def _from_mapping(data: dict, origin: str) -> Policy:

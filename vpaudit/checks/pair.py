@@ -350,6 +350,8 @@ def fusion_enthalpy_mismatch(ctx: AuditContext):
         return
     hs, hl = _fusion_enthalpy(ctx, np.where(np.isfinite(at), at, 1.0))
     for k in rows:
+        if not (hs[k] > 0 and hl[k] > 0):
+            continue  # a non-positive slope is slope-not-positive's finding
         implied = hs[k] - hl[k]
         rel = (implied - ref[k]) / hs[k]
         if abs(rel) > tol:

@@ -25,7 +25,7 @@ def render(result, width: int = 100) -> str:
     lines = [
         f"vpaudit audit of {result.table_path or 'table'}: {s['records']} records, "
         f"{s['substances']} substances, {s['pairs']} solid/liquid pairs "
-        f"(policy: {result.policy_description.get('origin', 'defaults')})",
+        f"(policy: {result.policy_description.get('label', 'preset evaluated')})",
         "",
     ]
     groups = defaultdict(list)

@@ -45,7 +45,7 @@ def report(table, label):
     yl, l1, _ = evaluate(cl, tm, 1)
     d = ys - yl
     hs, hl = R * tm**2 * s1, R * tm**2 * l1
-    hfus_ref = ctx.reference("enthalpy_of_fusion", ctx.substance[pr["s"]])
+    hfus_ref = ctx.reference("enthalpy_of_fusion", pr["s"])
     print(f"== {label}: {len(pr['s'])} pairs")
     print("ln P_s - ln P_l at the reference melting point:", quantiles(d))
     print("|same|:", quantiles(np.abs(d)))
@@ -111,8 +111,10 @@ def report_compilation():
     from vpaudit.policy import Policy
 
     table = compilation_table()
-    print(f"== literature compilations: {len(table.records)} liquid records, "
-          f"{table.records['substance'].nunique()} substances, 3 sources each")
+    print(
+        f"== literature compilations: {len(table.records)} liquid records, "
+        f"{table.records['substance'].nunique()} substances, 3 sources each"
+    )
     for preset in ("evaluated", "compilation"):
         result = audit_table(table, Policy(preset))
         counts = {}

@@ -212,9 +212,13 @@ def water_enthalpies(t: float) -> tuple[float, float]:
     return dh, dh / dz
 
 
-POLING = ("Poling, Prausnitz & O'Connell, The Properties of Gases and Liquids, 5th ed., "
-          "Antoine constants, via chemicals")
-MCGARRY = "McGarry (1983), Ind. Eng. Chem. Process Des. Dev. 22, 313, Wagner constants, via chemicals"
+POLING = (
+    "Poling, Prausnitz & O'Connell, The Properties of Gases and Liquids, 5th ed., "
+    "Antoine constants, via chemicals"
+)
+MCGARRY = (
+    "McGarry (1983), Ind. Eng. Chem. Process Des. Dev. 22, 313, Wagner constants, via chemicals"
+)
 PERRY = "Perry's Chemical Engineers' Handbook, 8th ed., Table 2-8, via chemicals"
 
 
@@ -241,22 +245,65 @@ def compilation_table(limit: int | None = None) -> Table:
         a, w, p = ant.loc[cas], wag.loc[cas], per.loc[cas]
         name = str(p["Chemical"]).lower()
         base = {"substance": name, "phase": "liquid", "pressure_unit": "Pa"}
-        records.append({**base, "id": f"{cas}-poling", "form": "antoine", "log_base": "10",
-                        "A": a["A"], "B": a["B"], "C": a["C"], "t_min": a["Tmin"],
-                        "t_max": a["Tmax"], "source": POLING})
-        records.append({**base, "id": f"{cas}-mcgarry", "form": "wagner-3-6", "log_base": "e",
-                        "A": w["A"], "B": w["B"], "C": w["C"], "D": w["D"], "t_crit": w["Tc"],
-                        "p_crit": w["Pc"], "t_min": w["Tmin"], "t_max": 0.999 * w["Tc"],
-                        "source": MCGARRY})
-        records.append({**base, "id": f"{cas}-perry", "form": "power-term", "log_base": "e",
-                        "A": p["C1"], "B": p["C2"], "C": p["C3"], "D": p["C4"], "E": p["C5"],
-                        "t_min": p["Tmin"], "t_max": p["Tmax"], "source": PERRY})
+        records.append(
+            {
+                **base,
+                "id": f"{cas}-poling",
+                "form": "antoine",
+                "log_base": "10",
+                "A": a["A"],
+                "B": a["B"],
+                "C": a["C"],
+                "t_min": a["Tmin"],
+                "t_max": a["Tmax"],
+                "source": POLING,
+            }
+        )
+        records.append(
+            {
+                **base,
+                "id": f"{cas}-mcgarry",
+                "form": "wagner-3-6",
+                "log_base": "e",
+                "A": w["A"],
+                "B": w["B"],
+                "C": w["C"],
+                "D": w["D"],
+                "t_crit": w["Tc"],
+                "p_crit": w["Pc"],
+                "t_min": w["Tmin"],
+                "t_max": 0.999 * w["Tc"],
+                "source": MCGARRY,
+            }
+        )
+        records.append(
+            {
+                **base,
+                "id": f"{cas}-perry",
+                "form": "power-term",
+                "log_base": "e",
+                "A": p["C1"],
+                "B": p["C2"],
+                "C": p["C3"],
+                "D": p["C4"],
+                "E": p["C5"],
+                "t_min": p["Tmin"],
+                "t_max": p["Tmax"],
+                "source": PERRY,
+            }
+        )
         try:
             tb = Tb(cas, method="CRC_ORG")
         except Exception:
             tb = None
         if tb:
-            refs.append({"substance": name, "quantity": "normal_boiling_point",
-                         "value": float(tb), "unit": "K",
-                         "source": "CRC Handbook of Chemistry and Physics via chemicals"})
+            refs.append(
+                {
+                    "substance": name,
+                    "quantity": "normal_boiling_point",
+                    "value": float(tb),
+                    "unit": "K",
+                    "source": "CRC Handbook of Chemistry and Physics via chemicals",
+                }
+            )
     return table_from_rows(records, refs)

@@ -105,10 +105,19 @@ class Policy:
 
     def describe(self) -> dict[str, Any]:
         """A JSON-able description (stored with each audit run)."""
-        return {"preset": self.preset, "origin": self.origin, "overrides": self.overrides,
-                "label": f"preset {self.preset}" + (
-                    f" with overrides from {self.origin}" if self.overrides else
-                    f", from {self.origin}" if self.origin.endswith(".toml") else "")}
+        return {
+            "preset": self.preset,
+            "origin": self.origin,
+            "overrides": self.overrides,
+            "label": f"preset {self.preset}"
+            + (
+                f" with overrides from {self.origin}"
+                if self.overrides
+                else f", from {self.origin}"
+                if self.origin.endswith(".toml")
+                else ""
+            ),
+        }
 
 
 def _from_mapping(data: dict, origin: str) -> Policy:

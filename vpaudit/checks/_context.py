@@ -70,30 +70,49 @@ class AuditContext:
             ok = np.isfinite(lo) & np.isfinite(hi) & (lo > 0) & (lo < hi)
         if len(table.problems):
             bad_ids = table.problems.loc[table.problems["rule"].isin(["range", "pole"]), "id"]
-            ok &= ~pd.Series(self.ids).isin(set(bad_ids)).to_numpy()
+            ok &= ~np.isin(self.ids, np.asarray(list(set(bad_ids)), dtype=object))
         self.evaluable = ok
         self.liquid = self.phase == "liquid"
         self.solid = self.phase == "solid"
+        # Integer codes of the substances: every join below is on these, with numpy.
+        codes, names = pd.factorize(pd.Series(self.substance, dtype=object))
+        self.codes = codes.astype(np.int64)
+        self.names = pd.Index(np.asarray(names, dtype=object), dtype=object)
 
     # --- references ----------------------------------------------------------------------
     @cached_property
-    def _ref_table(self) -> pd.DataFrame:
+    def _refs_by_code(self) -> dict[str, np.ndarray]:
+        """For each quantity, the first reference value (SI units) per substance code."""
         refs = self.table.references
+        out: dict[str, np.ndarray] = {}
         if not len(refs):
-            return pd.DataFrame(columns=["substance", "quantity", "value_si"])
-        return refs.drop_duplicates(["substance", "quantity"], keep="first")
+            return out
+        codes = self.names.get_indexer(
+            pd.Index(refs["substance"].to_numpy(dtype=object), dtype=object)
+        )
+        quantity = refs["quantity"].to_numpy(dtype=object)
+        value = refs["value_si"].to_numpy(dtype=float)
+        for q in np.unique(quantity.astype(str)):
+            m = (quantity == q) & (codes >= 0)
+            first_codes, first = np.unique(codes[m], return_index=True)
+            arr = np.full(len(self.names), np.nan)
+            arr[first_codes] = value[m][first]
+            out[q] = arr
+        return out
 
-    def reference(self, quantity: str, substances: np.ndarray | None = None) -> np.ndarray:
-        """The reference ``quantity`` (SI units) for each record's substance; NaN if none."""
-        sub = self.substance if substances is None else substances
-        refs = self._ref_table
-        values = refs.loc[refs["quantity"] == quantity].set_index("substance")["value_si"]
-        return pd.Series(sub, dtype=object).map(values).to_numpy(dtype=float, na_value=np.nan)
+    def reference(self, quantity: str, rows: np.ndarray | None = None) -> np.ndarray:
+        """The reference ``quantity`` (SI units) for the substance of each record in ``rows``
+        (all records by default); NaN where the table has none."""
+        codes = self.codes if rows is None else self.codes[rows]
+        arr = self._refs_by_code.get(quantity)
+        if arr is None:
+            return np.full(codes.shape, np.nan)
+        return arr[codes]
 
-    def melting_reference(self, substances: np.ndarray | None = None) -> np.ndarray:
+    def melting_reference(self, rows: np.ndarray | None = None) -> np.ndarray:
         """Reference melting point, or the triple-point temperature where none is given. [K]"""
-        tm = self.reference("melting_point", substances)
-        ttp = self.reference("triple_point_temperature", substances)
+        tm = self.reference("melting_point", rows)
+        ttp = self.reference("triple_point_temperature", rows)
         return np.where(np.isnan(tm), ttp, tm)
 
     def critical_temperature(self) -> np.ndarray:
@@ -149,9 +168,22 @@ class AuditContext:
         T = C'/2). Wagner curves: a 64-point grid plus the ends.
         """
         n = self.n
-        out = {k: np.full(n, np.nan) for k in (
-            "h_min", "h_min_T", "h_max", "y_min", "y_max", "cp_min", "cp_min_T", "cp_max",
-            "cp_max_T", "cp_lo", "cp_hi")}
+        out = {
+            k: np.full(n, np.nan)
+            for k in (
+                "h_min",
+                "h_min_T",
+                "h_max",
+                "y_min",
+                "y_max",
+                "cp_min",
+                "cp_min_T",
+                "cp_max",
+                "cp_max_T",
+                "cp_lo",
+                "cp_hi",
+            )
+        }
         rows = np.flatnonzero(self.evaluable)
         if rows.size == 0:
             return out
@@ -191,22 +223,29 @@ class AuditContext:
     @staticmethod
     def _sampled(c: Curves, lo: np.ndarray, hi: np.ndarray):
         """dH, the temperatures, ln P and dCp at the candidate extrema of each curve in
-        [lo, hi]: ends and analytic stationary points; a grid for Wagner curves."""
+        [lo, hi]: ends and analytic stationary points (4 columns); Wagner curves get a grid
+        (66 columns) and are evaluated apart, so other forms do not pay for it.
+        """
         m = c.family.size
-        cand = np.empty((m, _WAGNER_GRID + 2))
         wag = c.family == 2
-        frac = np.linspace(0.0, 1.0, _WAGNER_GRID + 2)[None, :]
-        cand[wag] = lo[wag, None] + (hi - lo)[wag, None] * frac
-        p = c.params
-        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-            dee = p[:, 3] * p[:, 4] * (p[:, 4] + 1.0)
-            t_h = np.where((c.family == 0) & (dee != 0), (-p[:, 2] / dee) ** (1.0 / p[:, 4]),
-                           np.nan)
-            t_cp = np.where(c.family == 1, p[:, 2] / 2.0, np.nan)
-        other = np.column_stack([lo, hi, t_h, t_cp])
-        other = np.where(np.isfinite(other), other, lo[:, None])
-        cand[~wag] = np.pad(other[~wag], ((0, 0), (0, _WAGNER_GRID - 2)), mode="edge")
-        ts = np.clip(cand, lo[:, None], hi[:, None])
+        width = _WAGNER_GRID + 2 if wag.any() else 4
+        ts = np.empty((m, width))
+        if wag.any():
+            frac = np.linspace(0.0, 1.0, width)[None, :]
+            ts[wag] = lo[wag, None] + (hi - lo)[wag, None] * frac
+        rest = ~wag
+        if rest.any():
+            p = c.params[rest]
+            fam = c.family[rest]
+            with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+                dee = p[:, 3] * p[:, 4] * (p[:, 4] + 1.0)
+                t_h = np.where((fam == 0) & (dee != 0), (-p[:, 2] / dee) ** (1.0 / p[:, 4]), np.nan)
+                t_cp = np.where(fam == 1, p[:, 2] / 2.0, np.nan)
+            l_r, h_r = lo[rest], hi[rest]
+            cand = np.column_stack([l_r, h_r, t_h, t_cp])
+            cand = np.where(np.isfinite(cand), cand, l_r[:, None])
+            cand = np.clip(cand, l_r[:, None], h_r[:, None])
+            ts[rest] = np.pad(cand, ((0, 0), (0, width - 4)), mode="edge") if width > 4 else cand
         y, y1, y2 = evaluate(c, ts)
         return R * ts * ts * y1, ts, y, R * (2.0 * ts * y1 + ts * ts * y2)
 
@@ -227,31 +266,19 @@ class AuditContext:
         p = self.policy.thresholds("no-crossing")
         reach = self.policy.thresholds("pair-not-checkable")["max_extrapolation"]
         rows = np.arange(self.n)
-        sol = pd.DataFrame(
-            {
-                "s": rows[self.solid & self.evaluable],
-                "substance": self.substance[self.solid & self.evaluable],
-            }
+        s, lq = same_key_pairs(
+            self.codes, rows[self.solid & self.evaluable], rows[self.liquid & self.evaluable]
         )
-        liq = pd.DataFrame(
-            {
-                "l": rows[self.liquid & self.evaluable],
-                "substance": self.substance[self.liquid & self.evaluable],
-            }
-        )
-        merged = sol.merge(liq, on="substance", how="inner")
-        s = merged["s"].to_numpy(dtype=np.int64)
-        lq = merged["l"].to_numpy(dtype=np.int64)
         t_max_s = self.curves.t_max[s]
         t_min_l = self.curves.t_min[lq]
-        tm = self.melting_reference(self.substance[s]) if s.size else np.empty(0)
+        tm = self.melting_reference(s)
         anchor = np.where(np.isnan(tm), 0.5 * (t_max_s + t_min_l), tm)
         # Keep, per substance, the solids whose range reaches the melting region; a solid
         # modification that ends far below it (it transforms before melting) is not paired.
         if s.size:
-            best = pd.Series(t_max_s).groupby(merged["substance"].to_numpy()).transform("max")
-            reaches = (t_max_s >= best.to_numpy() - 1e-9) | (t_max_s >= anchor * (1 - reach))
-            keep = reaches.to_numpy() if hasattr(reaches, "to_numpy") else reaches
+            best = np.full(len(self.names), -np.inf)
+            np.maximum.at(best, self.codes[s], t_max_s)
+            keep = (t_max_s >= best[self.codes[s]] - 1e-9) | (t_max_s >= anchor * (1 - reach))
             s, lq, anchor, tm = s[keep], lq[keep], anchor[keep], tm[keep]
             t_max_s, t_min_l = t_max_s[keep], t_min_l[keep]
         ext_s = np.maximum(0.0, anchor - self.curves.t_max[s]) / anchor
@@ -343,6 +370,36 @@ class AuditContext:
             records=(str(self.ids[s]), str(self.ids[lq])),
             severity=severity,
         )
+
+
+def same_key_pairs(keys: np.ndarray, a: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Every (i, j) with i from ``a`` and j from ``b`` and keys[i] == keys[j], vectorized.
+
+    Parameters
+    ----------
+    keys : ndarray of int
+        A key per row (e.g. the substance code).
+    a, b : ndarray of int
+        Row indices of the two sides.
+
+    Returns
+    -------
+    ia, ib : ndarray of int
+        The pairs, grouped by ``a`` in its order.
+    """
+    if a.size == 0 or b.size == 0:
+        return np.empty(0, dtype=np.int64), np.empty(0, dtype=np.int64)
+    order = np.argsort(keys[b], kind="stable")
+    b_sorted = b[order]
+    kb = keys[b_sorted]
+    ka = keys[a]
+    lo = np.searchsorted(kb, ka, side="left")
+    hi = np.searchsorted(kb, ka, side="right")
+    counts = hi - lo
+    ia = np.repeat(a, counts)
+    starts = np.repeat(lo - np.concatenate(([0], np.cumsum(counts)[:-1])), counts)
+    ib = b_sorted[starts + np.arange(ia.size)]
+    return ia.astype(np.int64), ib.astype(np.int64)
 
 
 def ln_p_rows(curves: Curves, temperature: np.ndarray) -> np.ndarray:

@@ -73,10 +73,13 @@ def no_crossing(ctx: AuditContext):
     """
     pr = ctx.pairs
     w = ctx.thresholds("no-crossing")["window"]
-    for k in np.flatnonzero(pr["checkable"] & (pr["crossings"] == 0)):
-        s, lq = pr["s"][k], pr["l"][k]
-        a = pr["anchor"][k]
-        d = evaluate(ctx.curves.take([s]), a, 0)[0][0] - evaluate(ctx.curves.take([lq]), a, 0)[0][0]
+    rows = np.flatnonzero(pr["checkable"] & (pr["crossings"] == 0))
+    at = pr["anchor"][rows]
+    diff = (
+        evaluate(ctx.curves.take(pr["s"][rows]), at, 0)[0]
+        - evaluate(ctx.curves.take(pr["l"][rows]), at, 0)[0]
+    )
+    for k, a, d in zip(rows, at, diff, strict=True):
         yield ctx.pair_finding(
             "no-crossing",
             k,
@@ -263,7 +266,7 @@ def melting_point_mismatch(ctx: AuditContext):
     yl, l1, _ = evaluate(cl, tm[rows], 1)
     d = ys - yl
     bad = ~(np.abs(d) <= tol)
-    hfus_ref = ctx.reference("enthalpy_of_fusion", ctx.substance[pr["s"][rows]])
+    hfus_ref = ctx.reference("enthalpy_of_fusion", pr["s"][rows])
     hfus_imp = R * tm[rows] ** 2 * (s1 - l1)
     hfus = np.where(np.isfinite(hfus_ref) & (hfus_ref > 0), hfus_ref, np.abs(hfus_imp))
     k_tol = tol * R * tm[rows] ** 2 / hfus
@@ -306,7 +309,7 @@ def triple_pressure_mismatch(ctx: AuditContext):
     """
     pr = ctx.pairs
     tol = ctx.thresholds("triple-pressure-mismatch")["tolerance"]
-    ptp = ctx.reference("triple_point_pressure", ctx.substance[pr["s"]])
+    ptp = ctx.reference("triple_point_pressure", pr["s"])
     rows = np.flatnonzero(pr["checkable"] & np.isfinite(ptp) & np.isfinite(pr["y"]))
     for k in rows:
         d = pr["y"][k] - np.log(ptp[k])
@@ -343,7 +346,7 @@ def fusion_enthalpy_mismatch(ctx: AuditContext):
     """
     pr = ctx.pairs
     tol = ctx.thresholds("fusion-enthalpy-mismatch")["tolerance"]
-    ref = ctx.reference("enthalpy_of_fusion", ctx.substance[pr["s"]])
+    ref = ctx.reference("enthalpy_of_fusion", pr["s"])
     at = np.where(np.isfinite(pr["tm"]), pr["tm"], pr["T"])
     rows = np.flatnonzero(pr["checkable"] & np.isfinite(ref) & np.isfinite(at))
     if rows.size == 0:

@@ -63,26 +63,23 @@ def duplicate_record(ctx: AuditContext):
     rec = ctx.table.records
     if not len(rec):
         return
-    key_cols = [
-        "substance",
-        "phase",
-        "form",
-        "log_base",
-        "pressure_unit",
-        "temperature_unit",
-        *COEFFICIENTS,
-    ]
-    keys = rec[key_cols].astype(str)
-    dup = keys.duplicated(keep=False).to_numpy() & ~rec["id"].duplicated(keep=False).to_numpy()
+    cols = {"substance": ctx.codes}
+    for c in ("phase", "form", "log_base", "pressure_unit", "temperature_unit"):
+        cols[c] = pd.factorize(pd.Series(rec[c].to_numpy(dtype=object), dtype=object))[0]
+    for c in COEFFICIENTS:
+        cols[c] = np.nan_to_num(rec[c].to_numpy(dtype=float, na_value=np.nan), nan=-1e308)
+    keys = pd.DataFrame(cols)
+    dup_id = pd.Series(ctx.ids, dtype=object).duplicated(keep=False).to_numpy()
+    dup = keys.duplicated(keep=False).to_numpy() & ~dup_id
     if not dup.any():
         return
-    groups = pd.Series(np.flatnonzero(dup)).groupby(keys[dup].apply(tuple, axis=1).to_numpy())
-    for _, members in groups:
-        rows = members.to_numpy()
-        ids = tuple(str(ctx.ids[r]) for r in rows)
+    rows = np.flatnonzero(dup)
+    for _, members in keys.iloc[rows].groupby(list(cols), sort=False):
+        group = members.index.to_numpy()
+        ids = tuple(str(ctx.ids[r]) for r in group)
         yield ctx.finding(
             "duplicate-record",
-            int(rows[0]),
+            int(group[0]),
             f"records {', '.join(ids)} hold the same equation: one source counted "
             f"{len(ids)} times.",
             {"records": len(ids)},

@@ -131,7 +131,7 @@ def enthalpy_implausible(ctx: AuditContext):
         return
     c = ctx.curves.take(rows)
     t_mid = 2.0 / (1.0 / c.t_min + 1.0 / c.t_max)
-    tb = ctx.reference("normal_boiling_point")[rows]
+    tb = ctx.reference("normal_boiling_point", rows)
     use_tb = ctx.liquid[rows] & (tb >= c.t_min) & (tb <= c.t_max)
     t = np.where(use_tb, tb, t_mid)
     y, y1, _ = evaluate(c, t, order=1)
@@ -357,7 +357,7 @@ def _delta_z(ctx: AuditContext, rows: np.ndarray, t: np.ndarray, y: np.ndarray):
     NaN where Tc and Pc are not known. The acentric factor comes from the curve itself.
     """
     tc = ctx.critical_temperature()[rows]
-    pc = ctx.reference("critical_pressure")[rows]
+    pc = ctx.reference("critical_pressure", rows)
     pc = np.where(
         np.isnan(pc) & (ctx.curves.family[rows] == 2), np.exp(ctx.curves.params[rows, 7]), pc
     )

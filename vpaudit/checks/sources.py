@@ -6,7 +6,7 @@ import numpy as np
 import pandas as pd
 
 from ..equations.engine import evaluate
-from ._context import AuditContext
+from ._context import AuditContext, same_key_pairs
 from ._registry import Scope, Severity, Threshold, check
 from ._text import kelvin, ln_ratio
 
@@ -36,24 +36,19 @@ def sources_disagree(ctx: AuditContext):
     records the disagreement is reported once, naming both, without blaming either.
     """
     th = ctx.thresholds("sources-disagree")
-    mod = ctx.table.records["modification"].to_numpy(dtype=object)
-    ok = ctx.evaluable
-    frame = pd.DataFrame(
-        {
-            "row": np.arange(ctx.n)[ok],
-            "substance": ctx.substance[ok],
-            "phase": ctx.phase[ok],
-            "mod": pd.Series(mod[ok], dtype=object).fillna("").to_numpy(),
-        }
-    )
-    frame["size"] = frame.groupby(["substance", "phase", "mod"])["row"].transform("size")
-    frame = frame[frame["size"] >= 2]
-    if not len(frame):
+    mod = pd.Series(ctx.table.records["modification"].to_numpy(dtype=object), dtype=object)
+    mod_code = pd.factorize(mod.fillna(""))[0].astype(np.int64)
+    key = (ctx.codes * 2 + ctx.liquid) * (mod_code.max(initial=0) + 1) + mod_code
+    rows = np.flatnonzero(ctx.evaluable)
+    _, inverse, counts = np.unique(key[rows], return_inverse=True, return_counts=True)
+    size = np.zeros(ctx.n, dtype=np.int64)
+    size[rows] = counts[inverse]
+    rows = rows[size[rows] >= 2]
+    if rows.size == 0:
         return
-    pairs = frame.merge(frame, on=["substance", "phase", "mod"], suffixes=("", "_o"))
-    pairs = pairs[pairs["row"] != pairs["row_o"]]
-    i = pairs["row"].to_numpy(dtype=np.int64)
-    j = pairs["row_o"].to_numpy(dtype=np.int64)
+    i, j = same_key_pairs(key, rows, rows)
+    keep = i != j
+    i, j = i[keep], j[keep]
     ci, cj = ctx.curves.take(i), ctx.curves.take(j)
     frac = np.linspace(0.0, 1.0, _GRID)[None, :]
     x = 1.0 / ci.t_max[:, None] + (1.0 / ci.t_min - 1.0 / ci.t_max)[:, None] * frac
@@ -73,59 +68,46 @@ def sources_disagree(ctx: AuditContext):
     long = long[np.isfinite(long["y"].to_numpy())]
     if not len(long):
         return
-    cons = (
-        long.groupby(["i", "g"])
-        .agg(med=("y", "median"), u=("u", "mean"), others=("y", "size"))
-        .reset_index()
-    )
-    rows = cons["i"].to_numpy(dtype=np.int64)
+    cons = long.groupby(["i", "g"]).agg(med=("y", "median"), u=("u", "mean")).reset_index()
+    r_ = cons["i"].to_numpy(dtype=np.int64)
     g = cons["g"].to_numpy()
     tt = 1.0 / (
-        1.0 / ctx.curves.t_max[rows]
-        + (1.0 / ctx.curves.t_min[rows] - 1.0 / ctx.curves.t_max[rows]) * g / (_GRID - 1)
+        1.0 / ctx.curves.t_max[r_]
+        + (1.0 / ctx.curves.t_min[r_] - 1.0 / ctx.curves.t_max[r_]) * g / (_GRID - 1)
     )
-    yi = evaluate(ctx.curves.take(rows), tt, 0)[0]
+    yi = evaluate(ctx.curves.take(r_), tt, 0)[0]
     d = yi - cons["med"].to_numpy()
-    ui = np.where(np.isnan(ctx.uncertainty[rows]), th["default_uncertainty"], ctx.uncertainty[rows])
+    ui = np.where(np.isnan(ctx.uncertainty[r_]), th["default_uncertainty"], ctx.uncertainty[r_])
     tol = th["factor"] * np.sqrt(ui**2 + cons["u"].to_numpy() ** 2)
-    cons = cons.assign(d=d, ad=np.abs(d), tol=tol, t=tt, z=np.abs(d) / tol)
+    cons = cons.assign(d=d, tol=tol, t=tt, z=np.abs(d) / tol)
     worst = cons.loc[cons.groupby("i")["z"].idxmax()]
     worst = worst[worst["z"] > 1.0]
-    size = frame.set_index("row")["size"]
-    reported_pairs: set[tuple[int, int]] = set()
-    for _, w in worst.iterrows():
-        r = int(w["i"])
-        n = int(size.loc[r])
+    partner = dict(zip(i.tolist(), j.tolist(), strict=True))  # the other one, in pairs
+    reported: set[tuple[int, int]] = set()
+    for w in worst.itertuples(index=False):
+        r = int(w.i)
+        n = int(size[r])
         if n == 2:
-            other = int(
-                frame.loc[
-                    (frame["substance"] == ctx.substance[r])
-                    & (frame["phase"] == ctx.phase[r])
-                    & (frame["row"] != r),
-                    "row",
-                ].iloc[0]
-            )
-            key = (min(r, other), max(r, other))
-            if key in reported_pairs:
+            pair = (min(r, partner[r]), max(r, partner[r]))
+            if pair in reported:
                 continue
-            reported_pairs.add(key)
-            first = key[0]
+            reported.add(pair)
             yield ctx.finding(
                 "sources-disagree",
-                first,
-                f"the two {ctx.phase[r]} records disagree by {ln_ratio(w['d'])} at "
-                f"{kelvin(w['t'])}, beyond their combined uncertainty ({w['tol']:.3g} in ln "
-                "P); with two sources neither can be blamed: a third source or measured points "
+                pair[0],
+                f"the two {ctx.phase[r]} records disagree by {ln_ratio(w.d)} at "
+                f"{kelvin(w.t)}, beyond their combined uncertainty ({w.tol:.3g} in ln P); "
+                "with two sources neither can be blamed: a third source or measured points "
                 "decide.",
-                {"difference_lnP": w["d"], "at_K": w["t"], "tolerance_lnP": w["tol"], "sources": 2},
-                records=(str(ctx.ids[key[0]]), str(ctx.ids[key[1]])),
+                {"difference_lnP": w.d, "at_K": w.t, "tolerance_lnP": w.tol, "sources": 2},
+                records=(str(ctx.ids[pair[0]]), str(ctx.ids[pair[1]])),
             )
         else:
             yield ctx.finding(
                 "sources-disagree",
                 r,
                 f"this record deviates from the median of {n - 1} other sources by "
-                f"{ln_ratio(w['d'])} at {kelvin(w['t'])}, {w['z']:.1f} times the combined "
-                f"uncertainty allowance ({w['tol']:.3g} in ln P).",
-                {"difference_lnP": w["d"], "at_K": w["t"], "tolerance_lnP": w["tol"], "sources": n},
+                f"{ln_ratio(w.d)} at {kelvin(w.t)}, {w.z:.1f} times the combined "
+                f"uncertainty allowance ({w.tol:.3g} in ln P).",
+                {"difference_lnP": w.d, "at_K": w.t, "tolerance_lnP": w.tol, "sources": n},
             )

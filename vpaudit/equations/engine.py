@@ -154,14 +154,23 @@ def _shape(p: np.ndarray, t: np.ndarray) -> np.ndarray:
 
 
 def _log_linear(p: np.ndarray, t: np.ndarray, order: int):
-    A, B, C, D, E = (_shape(p[:, i], t) for i in range(5))
+    A, B, C = (_shape(p[:, i], t) for i in range(3))
     inv = 1.0 / t
-    te = np.where(D != 0.0, t**E, 0.0)
-    y = A + B * inv + C * np.log(t) + D * te
-    if order == 0:
-        return y, None, None
-    y1 = (-B * inv + C + D * E * te) * inv
-    y2 = (2.0 * B * inv - C + D * E * (E - 1.0) * te) * inv * inv
+    y = A + B * inv + C * np.log(t)
+    if order:
+        y1 = (C - B * inv) * inv
+        y2 = (2.0 * B * inv - C) * inv * inv
+    else:
+        y1 = y2 = None
+    rows = np.flatnonzero(p[:, 3] != 0.0)
+    if rows.size:  # the D T^E term, only where a record has one
+        D, E = (_shape(p[rows, i], t) for i in (3, 4))
+        tr = t[rows] if t.shape[0] == p.shape[0] else np.broadcast_to(t, y.shape)[rows]
+        te = tr**E
+        y[rows] += D * te
+        if order:
+            y1[rows] += D * E * te / tr
+            y2[rows] += D * E * (E - 1.0) * te / (tr * tr)
     return y, y1, y2
 
 

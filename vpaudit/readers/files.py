@@ -47,8 +47,8 @@ class RawFrame:
         The file as given.
     columns : list of str
         Column names in file order.
-    cells : dict of str to list of (str or None)
-        The cells of each column, verbatim; ``None`` for an empty cell.
+    cells : dict of str to list of (str or None), or to a pyarrow string array
+        The cells of each column, verbatim; ``None`` or ``""`` for an empty cell.
     lines : list of int
         The 1-based line where each row starts (the row number for Parquet).
     kind_hint : str or None
@@ -58,7 +58,7 @@ class RawFrame:
 
     path: str
     columns: list[str]
-    cells: dict[str, list[str | None]]
+    cells: dict[str, object]
     lines: list[int]
     kind_hint: str | None = None
     notes: list[str] = field(default_factory=list)
@@ -111,21 +111,21 @@ def _decode(path: str, data: bytes) -> str:
         ) from None
 
 
-def read_csv(path: str, data: bytes) -> RawFrame:
-    """Read a CSV file: explicit settings, every cell as text.
-
-    Leading lines starting with ``#`` are comments (provenance headers). The delimiter is
-    taken from the header line: ``,`` if it holds one, else ``;``, else a tab. Blank lines
-    are skipped; a row with another number of cells than the header is an error.
-    """
-    text = _decode(path, data)
-    lines = text.splitlines(keepends=True)
-    start = 0
-    while start < len(lines) and (lines[start].startswith("#") or not lines[start].strip()):
-        start += 1
-    if start == len(lines):
-        raise _err(path, "file is empty: expected a header line naming the columns")
-    header_line = lines[start]
+def _csv_layout(path: str, text: str) -> tuple[int, str, list[str]]:
+    """Index of the header line (after ``#`` comments and blank lines), the delimiter and
+    the column names."""
+    start, pos = 0, 0
+    while True:
+        nl = text.find("\n", pos)
+        line = text[pos:] if nl < 0 else text[pos : nl + 1]
+        if not (line.startswith("#") or not line.strip()):
+            break
+        if nl < 0:
+            raise _err(path, "file is empty: expected a header line naming the columns")
+        start, pos = start + 1, nl + 1
+    header_line = line
+    if "\r" in header_line.rstrip("\r\n"):
+        header_line = header_line.splitlines()[0]  # bare CR line ends
     delimiter = (
         ","
         if "," in header_line
@@ -133,13 +133,89 @@ def read_csv(path: str, data: bytes) -> RawFrame:
         if ";" in header_line
         else ("\t" if "\t" in header_line else ",")
     )
-    body = io.StringIO("".join(lines[start:]), newline="")
-    reader = csv.reader(body, delimiter=delimiter, quotechar='"', doublequote=True, strict=True)
     try:
-        header = next(reader)
+        header = next(csv.reader([header_line], delimiter=delimiter, strict=True))
     except csv.Error as exc:
         raise _err(path, f"cannot read the header: {exc}", start + 1) from None
-    columns = _check_header(path, header, start + 1)
+    return start, delimiter, _check_header(path, header, start + 1)
+
+
+def _csv_bulk(text: str, start: int, delimiter: str, columns: list[str]):
+    """Read the rows with pyarrow's multi-threaded CSV reader, every column as a string.
+
+    Returns None when the file needs the exact path instead: anything pyarrow does not read
+    as a plain table of one physical line per row (a blank line, a ragged row, a newline
+    inside quotes, an unbalanced quote, bare CR line ends); that path then reads it or
+    reports the problem with its line.
+    """
+    import pyarrow as pa
+    import pyarrow.csv as pcsv
+
+    if text.count("\r") != text.count("\r\n"):
+        return None  # bare CR line ends: the exact path counts those lines
+    pos = 0
+    for _ in range(start + 1):
+        nl = text.find("\n", pos)
+        pos = len(text) if nl < 0 else nl + 1
+    body = text[pos:]
+    if not body.strip():
+        return {c: [] for c in columns}, []
+    try:
+        table = pcsv.read_csv(
+            pa.py_buffer(body.encode("utf-8")),
+            read_options=pcsv.ReadOptions(column_names=columns, block_size=1 << 24),
+            parse_options=pcsv.ParseOptions(
+                delimiter=delimiter,
+                quote_char='"',
+                double_quote=True,
+                escape_char=False,
+                newlines_in_values=False,
+                ignore_empty_lines=False,
+            ),
+            convert_options=pcsv.ConvertOptions(
+                column_types={c: pa.string() for c in columns},
+                strings_can_be_null=False,
+                quoted_strings_can_be_null=False,
+                null_values=[],
+                check_utf8=True,
+            ),
+        )
+    except (pa.ArrowInvalid, pa.ArrowException):
+        return None
+    n = table.num_rows
+    lines = list(range(start + 2, start + 2 + n))
+    cells = {c: table.column(c).combine_chunks() for c in columns}
+    return cells, lines
+
+
+def read_csv(path: str, data: bytes) -> RawFrame:
+    """Read a CSV file: explicit settings, every cell as text.
+
+    Leading lines starting with ``#`` are comments (provenance headers). The delimiter is
+    taken from the header line: ``,`` if it holds one, else ``;``, else a tab. Blank lines
+    are skipped; a row with another number of cells than the header is an error. Regular
+    files go through pyarrow's CSV reader (all columns typed as strings, so nothing is
+    inferred); irregular ones through Python's csv module, which locates every problem.
+    """
+    text = _decode(path, data)
+    start, delimiter, columns = _csv_layout(path, text)
+    bulk = _csv_bulk(text, start, delimiter, columns)
+    if bulk is not None:
+        cells, lines = bulk
+        if len(lines) > MAX_ROWS:
+            raise _err(path, f"more than {MAX_ROWS} rows in one file")
+        return RawFrame(path, columns, cells, lines)
+    return _read_csv_exact(path, text, start, delimiter, columns)
+
+
+def _read_csv_exact(
+    path: str, text: str, start: int, delimiter: str, columns: list[str]
+) -> RawFrame:
+    """Python's csv module, row by row, with the physical line of every row."""
+    lines = text.splitlines(keepends=True)
+    body = io.StringIO("".join(lines[start:]), newline="")
+    reader = csv.reader(body, delimiter=delimiter, quotechar='"', doublequote=True, strict=True)
+    next(reader)
     ncol = len(columns)
     rows: list[list[str]] = []
     row_lines: list[int] = []
@@ -163,7 +239,7 @@ def read_csv(path: str, data: bytes) -> RawFrame:
                 raise _err(path, f"more than {MAX_ROWS} rows in one file")
     except csv.Error as exc:
         raise _err(path, f"malformed CSV: {exc}", start + reader.line_num) from None
-    cells: dict[str, list[str | None]] = {}
+    cells: dict[str, object] = {}
     for j, name in enumerate(columns):
         cells[name] = [r[j] if r[j] != "" else None for r in rows]
     return RawFrame(path, columns, cells, row_lines)
@@ -386,7 +462,7 @@ def read_parquet(path: str, data: bytes | None = None) -> RawFrame:
         raise _err(path, f"cannot read the Parquet file: {exc}") from None
     if table.num_rows > MAX_ROWS:
         raise _err(path, f"{table.num_rows} rows; the limit is {MAX_ROWS} per file")
-    cells: dict[str, list[str | None]] = {}
+    cells: dict[str, object] = {}
     columns = _check_header(path, list(table.column_names), 1)
     for name, col in zip(columns, table.columns, strict=True):
         t = col.type

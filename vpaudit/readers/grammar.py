@@ -21,7 +21,6 @@ import math
 import re
 import sys
 import unicodedata
-from collections.abc import Sequence
 
 import numpy as np
 import pyarrow as pa
@@ -32,6 +31,7 @@ __all__ = [
     "NumberSyntaxError",
     "parse_number",
     "parse_number_column",
+    "parse_number_texts",
     "normalize_typography",
 ]
 
@@ -130,12 +130,12 @@ def parse_number(text: str) -> float:
     return value
 
 
-def parse_number_column(values: Sequence[str | None]) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+def parse_number_column(values) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Parse a whole column of cells at once by the same grammar as :func:`parse_number`.
 
     Parameters
     ----------
-    values : sequence of str or None
+    values : sequence of str or None, or a pyarrow string array
         The cells as written; ``None`` or an empty (or all-space) string is a missing value.
 
     Returns
@@ -148,7 +148,13 @@ def parse_number_column(values: Sequence[str | None]) -> tuple[np.ndarray, np.nd
         True where the cell is not a number in the grammar, or overflows or underflows.
         :func:`parse_number` on such a cell raises with the reason.
     """
-    arr = pa.array(values, type=pa.string()) if not isinstance(values, pa.Array) else values
+    out, missing, invalid, _ = parse_number_texts(values)
+    return out, missing, invalid
+
+
+def parse_number_texts(values):
+    """:func:`parse_number_column`, plus the trimmed text of each cell (object array)."""
+    arr = values if isinstance(values, pa.Array) else pa.array(values, type=pa.string())
     trimmed = pc.utf8_trim(arr, characters=" \t")
     missing = pc.fill_null(pc.equal(pc.utf8_length(trimmed), 0), True)
     matches = pc.fill_null(pc.match_substring_regex(trimmed, _ANCHORED), False)
@@ -158,16 +164,16 @@ def parse_number_column(values: Sequence[str | None]) -> tuple[np.ndarray, np.nd
     missing_np = missing.to_numpy(zero_copy_only=False).astype(bool)
     good_np = good.to_numpy(zero_copy_only=False).astype(bool)
     invalid = ~missing_np & ~good_np
+    texts = trimmed.to_numpy(zero_copy_only=False).astype(object)
     # Range problems: overflow to inf, underflow to zero or to a subnormal.
     with np.errstate(invalid="ignore"):
         suspicious = good_np & (np.isinf(out) | (np.abs(out) < _SMALLEST_NORMAL))
-    if suspicious.any():
-        texts = trimmed.to_pylist()
-        for i in np.flatnonzero(suspicious):
-            if _range_problem(texts[i], out[i]) is not None:
-                invalid[i] = True
+    for i in np.flatnonzero(suspicious):
+        if _range_problem(texts[i], out[i]) is not None:
+            invalid[i] = True
     out[invalid | missing_np] = np.nan
-    return out, missing_np, invalid
+    texts[missing_np] = None
+    return out, missing_np, invalid, texts
 
 
 _MINUS_LIKE = "\u2212\u2013\u2012\u2010\u2011\ufe63\uff0d"

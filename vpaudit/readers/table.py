@@ -21,6 +21,8 @@ from pathlib import Path
 
 import numpy as np
 import pandas as pd
+import pyarrow as pa
+import pyarrow.compute as pc
 
 from ..equations.forms import COEFFICIENTS, FORMS
 from ..errors import Location, PolicyError, TableError, TableErrors
@@ -32,7 +34,7 @@ from ..units import (
     TEMPERATURE_UNITS,
 )
 from .files import SUFFIXES, RawFrame, read_raw
-from .grammar import explain, normalize_typography, parse_number_column
+from .grammar import explain, normalize_typography, parse_number_column, parse_number_texts
 
 __all__ = [
     "KINDS",
@@ -132,25 +134,33 @@ class _Collector:
 
 
 def _text_column(raw: RawFrame, name: str, default: str | None = None) -> np.ndarray:
+    """The cells of a text column as an object array, None (or ``default``) where empty."""
     values = raw.cells.get(name)
     n = len(raw)
     if values is None:
         return np.full(n, default, dtype=object)
-    arr = np.array(values, dtype=object) if n else np.empty(0, dtype=object)
-    if default is not None:
-        arr[pd.isna(arr)] = default
-    return arr
+    arr = values if isinstance(values, pa.Array) else pa.array(values, type=pa.string())
+    empty = pc.or_kleene(pc.is_null(arr), pc.equal(arr, ""))
+    arr = pc.if_else(empty, pa.scalar(default, pa.string()), arr)
+    return arr.to_numpy(zero_copy_only=False).astype(object)
+
+
+def _original(raw: RawFrame, name: str, i: int) -> str:
+    values = raw.cells[name]
+    return values[i].as_py() if isinstance(values, pa.Array) else values[i]
 
 
 def _parse_numbers(
     raw: RawFrame, name: str, out: _Collector, normalize: bool
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Parse one numeric column; returns values, their text, and the missing mask."""
-    cells = _text_column(raw, name)
-    values, missing, invalid = parse_number_column(list(cells))
-    texts = cells.copy()
+    cells = raw.cells.get(name)
+    if cells is None:
+        n = len(raw)
+        return np.full(n, np.nan), np.full(n, None, dtype=object), np.ones(n, dtype=bool)
+    values, missing, invalid, texts = parse_number_texts(cells)
     for i in np.flatnonzero(invalid):
-        original = cells[i]
+        original = _original(raw, name, int(i))
         if normalize:
             new, rewrites = normalize_typography(original)
             v, m, bad = parse_number_column([new])
@@ -175,10 +185,6 @@ def _parse_numbers(
             name,
             explain(original) if _is_syntax(original) else _range_message(original),
         )
-    texts[missing] = None
-    good = ~missing & ~invalid
-    if good.any():
-        texts[good] = pd.Series(texts[good], dtype=object).str.strip(" \t").to_numpy(dtype=object)
     return values, texts, missing
 
 
@@ -239,11 +245,12 @@ def frame_from_raw(
                     out.error(raw, int(i), col.name, f"{col.name} is empty")
             continue
         arr = _text_column(raw, col.name, col.default)
+        none = np.equal(arr, None)
         if col.required and present:
-            for i in np.flatnonzero(pd.isna(arr)):
+            for i in np.flatnonzero(none):
                 out.error(raw, int(i), col.name, f"{col.name} is empty")
         if col.kind == "choice":
-            bad = ~pd.isna(arr) & ~pd.Series(arr, dtype=object).isin(col.choices).to_numpy()
+            bad = ~none & ~pd.Series(arr, dtype=object).isin(col.choices).to_numpy()
             for i in np.flatnonzero(bad):
                 out.error(
                     raw,
@@ -254,7 +261,9 @@ def frame_from_raw(
         data[col.name] = arr
     data["file"] = np.full(n, raw.path, dtype=object)
     data["line"] = np.asarray(raw.lines, dtype=np.int64)
-    frame = pd.DataFrame(data)
+    frame = pd.DataFrame(
+        {k: pd.Series(v, dtype=v.dtype if v.dtype != object else object) for k, v in data.items()}
+    )
     if kind == "records":
         _record_rules(frame, raw, out)
     elif kind == "references":

@@ -1,0 +1,112 @@
+"""Synthetic tables for benchmarks: N invented substances, a solid and a liquid record each.
+
+The curves are consistent by construction (constant-dCp Clausius-Clapeyron integrals that
+meet at the melting point); a fraction of substances carries one planted defect. All values
+are invented.
+"""
+
+from __future__ import annotations
+
+import csv
+import math
+from pathlib import Path
+
+import numpy as np
+from scipy.constants import R
+
+HEADER = [
+    "id",
+    "substance",
+    "phase",
+    "form",
+    "log_base",
+    "pressure_unit",
+    "A",
+    "B",
+    "C",
+    "t_min",
+    "t_max",
+    "source",
+    "uncertainty",
+]
+DEFECTS = ("sign-B", "log-base", "pressure-unit", "swap", "decimal-A")
+
+
+def coefficients(tm, dh, dcp, lnp):
+    c = dcp / R
+    b = -(dh - dcp * tm) / R
+    a = lnp - b / tm - c * np.log(tm)
+    return a, b, c
+
+
+def generate(folder: Path, n: int, defect_rate: float = 0.03, seed: int = 1) -> dict:
+    """Write ``records/records.csv`` and ``references/references.csv`` for ``n`` substances;
+    returns {substance: defect} for the planted ones."""
+    rng = np.random.default_rng(seed)
+    tm = rng.uniform(300.0, 2500.0, n)
+    hvap = tm * rng.uniform(180.0, 260.0, n)
+    hfus = tm * rng.uniform(8.0, 14.0, n)
+    ds0 = rng.uniform(95.0, 125.0, n)
+    lnp = math.log(101325.0) + (ds0 - hvap / tm) / R
+    dcp_l = -rng.uniform(5.0, 15.0, n)
+    dcp_s = -rng.uniform(2.0, 8.0, n)
+    al, bl, cl = coefficients(tm, hvap, dcp_l, lnp)
+    as_, bs, cs = coefficients(tm, hvap + hfus, dcp_s, lnp)
+    defect = np.full(n, "", dtype=object)
+    pick = rng.random(n) < defect_rate
+    defect[pick] = rng.choice(DEFECTS, pick.sum())
+    bs = np.where(defect == "sign-B", -bs, bs)
+    al_w = np.where(defect == "log-base", al / math.log(10), al)
+    bl_w = np.where(defect == "log-base", bl / math.log(10), bl)
+    as_ = np.where(defect == "pressure-unit", as_ - math.log(133.322), as_)
+    al_w = np.where(defect == "decimal-A", al_w * 10.0, al_w)
+    names = np.char.add("sub", np.arange(n).astype(str))
+    (folder / "records").mkdir(parents=True, exist_ok=True)
+    (folder / "references").mkdir(parents=True, exist_ok=True)
+    swap = defect == "swap"
+    with open(folder / "records" / "records.csv", "w", newline="") as fh:
+        w = csv.writer(fh, lineterminator="\n")
+        w.writerow(HEADER)
+        for i in range(n):
+            ps, pl = ("liquid", "solid") if swap[i] else ("solid", "liquid")
+            w.writerow(
+                [
+                    f"{names[i]}-s",
+                    names[i],
+                    ps,
+                    "three-term",
+                    "10" if defect[i] == "log-base" and False else "e",
+                    "Pa",
+                    f"{as_[i]:.9g}",
+                    f"{bs[i]:.9g}",
+                    f"{cs[i]:.9g}",
+                    f"{0.6 * tm[i]:.6g}",
+                    f"{tm[i]:.6g}",
+                    "synthetic",
+                    "0.03",
+                ]
+            )
+            w.writerow(
+                [
+                    f"{names[i]}-l",
+                    names[i],
+                    pl,
+                    "three-term",
+                    "e",
+                    "Pa",
+                    f"{al_w[i]:.9g}",
+                    f"{bl_w[i]:.9g}",
+                    f"{cl[i]:.9g}",
+                    f"{tm[i]:.6g}",
+                    f"{1.5 * tm[i]:.6g}",
+                    "synthetic",
+                    "0.03",
+                ]
+            )
+    with open(folder / "references" / "references.csv", "w", newline="") as fh:
+        w = csv.writer(fh, lineterminator="\n")
+        w.writerow(["substance", "quantity", "value", "unit", "source"])
+        for i in range(n):
+            w.writerow([names[i], "melting_point", f"{tm[i]:.6g}", "K", "synthetic"])
+            w.writerow([names[i], "enthalpy_of_fusion", f"{hfus[i]:.6g}", "J/mol", "synthetic"])
+    return {str(names[i]): str(defect[i]) for i in np.flatnonzero(pick)}

@@ -102,7 +102,8 @@ class AuditContext:
 
     def reference(self, quantity: str, rows: np.ndarray | None = None) -> np.ndarray:
         """The reference ``quantity`` (SI units) for the substance of each record in ``rows``
-        (all records by default); NaN where the table has none."""
+        (all records by default); NaN where the table has none.
+        """
         codes = self.codes if rows is None else self.codes[rows]
         arr = self._refs_by_code.get(quantity)
         if arr is None:

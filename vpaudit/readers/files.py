@@ -113,7 +113,8 @@ def _decode(path: str, data: bytes) -> str:
 
 def _csv_layout(path: str, text: str) -> tuple[int, str, list[str]]:
     """Index of the header line (after ``#`` comments and blank lines), the delimiter and
-    the column names."""
+    the column names.
+    """
     start, pos = 0, 0
     while True:
         nl = text.find("\n", pos)

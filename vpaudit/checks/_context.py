@@ -201,9 +201,14 @@ class AuditContext:
             out["y_max"][rows] = np.where(finite, y.max(axis=1), np.nan)
         # The near-ideal part of the range for dCp.
         p_max = self.policy.thresholds("heat-capacity-sign")["max_pressure"]
-        t_cut = temperature_at(c, np.log(p_max))
         y_lo = evaluate(c, c.t_min, order=0)[0]
-        hi = np.where(np.isfinite(t_cut), t_cut, c.t_max)
+        y_hi = evaluate(c, c.t_max, order=0)[0]
+        hi = c.t_max.copy()
+        with np.errstate(invalid="ignore"):
+            straddle = np.flatnonzero((y_lo <= np.log(p_max)) & (y_hi > np.log(p_max)))
+        if straddle.size:  # only these need the temperature where P reaches the limit
+            t_cut = temperature_at(c.take(straddle), np.log(p_max))
+            hi[straddle] = np.where(np.isfinite(t_cut), t_cut, c.t_max[straddle])
         hi = np.fmin(hi, 0.7 * self.critical_temperature()[rows])
         with np.errstate(invalid="ignore"):
             ideal = (y_lo <= np.log(p_max)) & (hi > c.t_min)
@@ -313,11 +318,12 @@ class AuditContext:
             sig = np.where(np.abs(f) > tol, sign, 0.0) if k else np.empty((0, grid))
         significant = np.zeros(k, dtype=int)
         if k:
-            order = np.argsort(sig == 0, axis=1, kind="stable")
-            packed = np.take_along_axis(sig, order, axis=1)
-            nz = packed != 0
-            flips = (packed[:, 1:] * packed[:, :-1] < 0) & nz[:, 1:] & nz[:, :-1]
-            significant = flips.sum(axis=1)
+            # previous non-zero sign before each column (forward fill of indices)
+            cols = np.arange(grid)[None, :]
+            last = np.maximum.accumulate(np.where(sig != 0, cols, -1), axis=1)
+            prev = np.concatenate([np.full((k, 1), -1), last[:, :-1]], axis=1)
+            prev_sign = np.where(prev >= 0, np.take_along_axis(sig, np.maximum(prev, 0), 1), 0)
+            significant = ((sig != 0) & (prev_sign != 0) & (sig != prev_sign)).sum(axis=1)
         # The bracket nearest the anchor.
         xa = 1.0 / anchor
         mid = 0.5 * (xs[:, 1:] + xs[:, :-1]) if k else np.empty((0, grid - 1))

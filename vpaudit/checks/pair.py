@@ -62,7 +62,7 @@ def pair_not_checkable(ctx: AuditContext):
             "-",
             "half-width of the searched window around the melting point, relative, in 1/T",
         ),
-        Threshold("grid", 48, "-", "points of the sign-change scan of the window"),
+        Threshold("grid", 32, "-", "points of the sign-change scan of the window"),
     ),
 )
 def no_crossing(ctx: AuditContext):

@@ -14,6 +14,7 @@ import numpy as np
 import pandas as pd
 from scipy.constants import R
 
+from .._columns import TEXT, codes, eq
 from ..equations.engine import (
     Curves,
     bracketed_root,
@@ -34,6 +35,9 @@ __all__ = ["AuditContext", "P_STANDARD", "LN_P_STANDARD"]
 P_STANDARD = 101325.0
 LN_P_STANDARD = float(np.log(P_STANDARD))
 _WAGNER_GRID = 64
+#: Rows per block of the (rows x grid) array work: keeps temporaries below glibc's
+#: dynamic mmap threshold (32 MB), so they are reused instead of page-faulted anew.
+CHUNK = 32768
 
 
 class AuditContext:
@@ -56,28 +60,54 @@ class AuditContext:
         self.policy = policy
         rec = table.records
         self.n = len(rec)
-        self.ids = rec["id"].to_numpy(dtype=object)
-        self.substance = rec["substance"].to_numpy(dtype=object)
-        self.phase = rec["phase"].to_numpy(dtype=object)
-        self.form = rec["form"].to_numpy(dtype=object)
-        self.file = rec["file"].to_numpy(dtype=object)
+        self._ids = rec["id"]
         self.line = rec["line"].to_numpy()
-        unc = rec["uncertainty"].to_numpy(dtype=float, na_value=np.nan)
-        self.uncertainty = unc
+        self.file_code, self._files = codes(rec["file"])
+        self.uncertainty = rec["uncertainty"].to_numpy(dtype=float, na_value=np.nan)
+        self.liquid = eq(rec["phase"], "liquid")
+        self.solid = eq(rec["phase"], "solid")
+        self.antoine = eq(rec["form"], "antoine")
         self.curves: Curves = curves_from_frame(rec)
+        # Integer codes of the substances of records, references and points together: every
+        # join below is on these, with numpy.
+        parts = [rec["substance"], table.references["substance"], table.points["substance"]]
+        sizes = [len(p) for p in parts]
+        all_codes, names = codes(pd.concat([p.astype(TEXT) for p in parts], ignore_index=True))
+        self.codes = all_codes[: sizes[0]]
+        self.ref_codes = all_codes[sizes[0] : sizes[0] + sizes[1]]
+        self.point_codes = all_codes[sizes[0] + sizes[1] :]
+        self.names = names
         lo, hi = self.curves.t_min, self.curves.t_max
         with np.errstate(invalid="ignore"):
             ok = np.isfinite(lo) & np.isfinite(hi) & (lo > 0) & (lo < hi)
-        if len(table.problems):
-            bad_ids = table.problems.loc[table.problems["rule"].isin(["range", "pole"]), "id"]
-            ok &= ~np.isin(self.ids, np.asarray(list(set(bad_ids)), dtype=object))
+        problems = table.problems
+        if len(problems):
+            bad = problems.loc[problems["rule"].isin(["range", "pole"])]
+            ok[self.rows_of(bad["file"], bad["line"])] = False
         self.evaluable = ok
-        self.liquid = self.phase == "liquid"
-        self.solid = self.phase == "solid"
-        # Integer codes of the substances: every join below is on these, with numpy.
-        codes, names = pd.factorize(pd.Series(self.substance, dtype=object))
-        self.codes = codes.astype(np.int64)
-        self.names = pd.Index(np.asarray(names, dtype=object), dtype=object)
+
+    def rows_of(self, files, lines) -> np.ndarray:
+        """The record rows standing at (file, line) pairs (few; for rule problems)."""
+        files = list(files)
+        lines = np.asarray(list(lines), dtype=np.int64)
+        if not files:
+            return np.empty(0, dtype=np.int64)
+        cand = np.flatnonzero(np.isin(self.line, lines))
+        index = {(self._files[self.file_code[i]], int(self.line[i])): int(i) for i in cand}
+        found = [index.get((f, int(n)), -1) for f, n in zip(files, lines, strict=True)]
+        return np.asarray([r for r in found if r >= 0], dtype=np.int64)
+
+    def id(self, row: int) -> str:
+        """The id of record ``row``."""
+        return str(self._ids.iat[int(row)])
+
+    def substance_of(self, row: int) -> str:
+        """The substance of record ``row``."""
+        return str(self.names[self.codes[int(row)]])
+
+    def phase_of(self, row: int) -> str:
+        """The phase of record ``row``."""
+        return "liquid" if self.liquid[int(row)] else "solid"
 
     # --- references ----------------------------------------------------------------------
     @cached_property
@@ -87,14 +117,12 @@ class AuditContext:
         out: dict[str, np.ndarray] = {}
         if not len(refs):
             return out
-        codes = self.names.get_indexer(
-            pd.Index(refs["substance"].to_numpy(dtype=object), dtype=object)
-        )
-        quantity = refs["quantity"].to_numpy(dtype=object)
+        ref_codes = self.ref_codes
+        q_code, q_names = codes(refs["quantity"])
         value = refs["value_si"].to_numpy(dtype=float)
-        for q in np.unique(quantity.astype(str)):
-            m = (quantity == q) & (codes >= 0)
-            first_codes, first = np.unique(codes[m], return_index=True)
+        for k, q in enumerate(q_names):
+            m = (q_code == k) & (ref_codes >= 0)
+            first_codes, first = np.unique(ref_codes[m], return_index=True)
             arr = np.full(len(self.names), np.nan)
             arr[first_codes] = value[m][first]
             out[q] = arr
@@ -145,11 +173,11 @@ class AuditContext:
         return Finding(
             check=check,
             severity=sev,
-            substance=str(self.substance[row]),
-            records=records if records is not None else (str(self.ids[row]),),
+            substance=self.substance_of(row),
+            records=records if records is not None else (self.id(row),),
             message=message,
             evidence=_clean(evidence),
-            file=str(self.file[row]),
+            file=str(self._files[self.file_code[int(row)]]),
             line=int(self.line[row]),
         )
 
@@ -189,16 +217,19 @@ class AuditContext:
         if rows.size == 0:
             return out
         c = self.curves.take(rows)
-        h, ts, y, _ = self._sampled(c, c.t_min, c.t_max)
-        k = np.arange(rows.size)
-        with np.errstate(invalid="ignore"):
-            hm = np.argmin(np.where(np.isnan(h), np.inf, h), axis=1)
-            out["h_min"][rows] = np.where(np.isnan(h).any(axis=1), np.nan, h[k, hm])
-            out["h_min_T"][rows] = ts[k, hm]
-            out["h_max"][rows] = np.nanmax(np.where(np.isnan(h), -np.inf, h), axis=1)
-            finite = np.isfinite(y).all(axis=1)
-            out["y_min"][rows] = np.where(finite, y.min(axis=1), np.nan)
-            out["y_max"][rows] = np.where(finite, y.max(axis=1), np.nan)
+        for part in _blocks(c.family):
+            cp_ = c.take(part)
+            h, ts, y, _ = self._sampled(cp_, cp_.t_min, cp_.t_max)
+            k = np.arange(part.size)
+            r = rows[part]
+            with np.errstate(invalid="ignore"):
+                hm = np.argmin(np.where(np.isnan(h), np.inf, h), axis=1)
+                out["h_min"][r] = np.where(np.isnan(h).any(axis=1), np.nan, h[k, hm])
+                out["h_min_T"][r] = ts[k, hm]
+                out["h_max"][r] = np.nanmax(np.where(np.isnan(h), -np.inf, h), axis=1)
+                finite = np.isfinite(y).all(axis=1)
+                out["y_min"][r] = np.where(finite, y.min(axis=1), np.nan)
+                out["y_max"][r] = np.where(finite, y.max(axis=1), np.nan)
         # The near-ideal part of the range for dCp.
         p_max = self.policy.thresholds("heat-capacity-sign")["max_pressure"]
         y_lo = evaluate(c, c.t_min, order=0)[0]
@@ -213,17 +244,18 @@ class AuditContext:
         with np.errstate(invalid="ignore"):
             ideal = (y_lo <= np.log(p_max)) & (hi > c.t_min)
         sub = np.flatnonzero(ideal)
-        if sub.size:
-            cs = c.take(sub)
-            _, tcp, _, cp = self._sampled(cs, cs.t_min, hi[sub])
-            j = np.arange(sub.size)
+        for part in _blocks(c.family[sub]):
+            part = sub[part]
+            cs = c.take(part)
+            _, tcp, _, cp = self._sampled(cs, cs.t_min, hi[part])
+            j = np.arange(part.size)
             with np.errstate(invalid="ignore"):
                 lo_i = np.argmin(np.where(np.isnan(cp), np.inf, cp), axis=1)
                 hi_i = np.argmax(np.where(np.isnan(cp), -np.inf, cp), axis=1)
-            r = rows[sub]
+            r = rows[part]
             out["cp_min"][r], out["cp_min_T"][r] = cp[j, lo_i], tcp[j, lo_i]
             out["cp_max"][r], out["cp_max_T"][r] = cp[j, hi_i], tcp[j, hi_i]
-            out["cp_lo"][r], out["cp_hi"][r] = cs.t_min, hi[sub]
+            out["cp_lo"][r], out["cp_hi"][r] = cs.t_min, hi[part]
         return out
 
     @staticmethod
@@ -299,40 +331,19 @@ class AuditContext:
         grid = int(p["grid"])
         x_hi = (1.0 + w) / anchor
         x_lo = 1.0 / (anchor * (1.0 + w))
-        frac = np.linspace(0.0, 1.0, grid)[None, :]
-        xs = x_lo[:, None] + (x_hi - x_lo)[:, None] * frac if k else np.empty((0, grid))
         cs, cl = self.curves.take(s), self.curves.take(lq)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            ts = 1.0 / xs
-            f = ln_p_rows(cs, ts) - ln_p_rows(cl, ts)
-            sign = np.sign(f)
-            change = (
-                (sign[:, 1:] * sign[:, :-1] < 0) & np.isfinite(f[:, 1:]) & np.isfinite(f[:, :-1])
-            )
-        count = change.sum(axis=1) if k else np.zeros(0, dtype=int)
-        # Crossings that matter: sign changes of y_s - y_l counted only between grid points
-        # where the curves differ by more than the melting-point tolerance, so that two
-        # nearly parallel curves wandering within it are not "crossing twice".
         tol = self.policy.thresholds("melting-point-mismatch")["tolerance"]
-        with np.errstate(invalid="ignore"):
-            sig = np.where(np.abs(f) > tol, sign, 0.0) if k else np.empty((0, grid))
-        significant = np.zeros(k, dtype=int)
-        if k:
-            # previous non-zero sign before each column (forward fill of indices)
-            cols = np.arange(grid)[None, :]
-            last = np.maximum.accumulate(np.where(sig != 0, cols, -1), axis=1)
-            prev = np.concatenate([np.full((k, 1), -1), last[:, :-1]], axis=1)
-            prev_sign = np.where(prev >= 0, np.take_along_axis(sig, np.maximum(prev, 0), 1), 0)
-            significant = ((sig != 0) & (prev_sign != 0) & (sig != prev_sign)).sum(axis=1)
-        # The bracket nearest the anchor.
-        xa = 1.0 / anchor
-        mid = 0.5 * (xs[:, 1:] + xs[:, :-1]) if k else np.empty((0, grid - 1))
-        dist = np.where(change, np.abs(mid - xa[:, None]), np.inf)
-        j = np.argmin(dist, axis=1) if k else np.zeros(0, dtype=int)
+        count = np.zeros(k, dtype=np.int64)
+        significant = np.zeros(k, dtype=np.int64)
+        lo_b = np.full(k, np.nan)
+        hi_b = np.full(k, np.nan)
+        for a in range(0, k, CHUNK):  # chunks keep the (pairs x grid) temporaries small
+            b = min(k, a + CHUNK)
+            r = np.arange(a, b)
+            count[r], significant[r], lo_b[r], hi_b[r] = _scan_crossings(
+                cs.take(r), cl.take(r), x_lo[r], x_hi[r], 1.0 / anchor[r], grid, tol
+            )
         has = count > 0
-        idx = np.arange(k)
-        lo_b = np.where(has, xs[idx, j] if k else 0.0, np.nan)
-        hi_b = np.where(has, xs[idx, np.minimum(j + 1, grid - 1)] if k else 0.0, np.nan)
 
         def fun(x, r):
             t = 1.0 / x
@@ -374,9 +385,20 @@ class AuditContext:
             s,
             message,
             evidence,
-            records=(str(self.ids[s]), str(self.ids[lq])),
+            records=(self.id(s), self.id(lq)),
             severity=severity,
         )
+
+
+def match(key_a: np.ndarray, key_b: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Every (i, j) with key_a[i] == key_b[j] (an inner join on integer keys), vectorized;
+    negative keys never match.
+    """
+    a = np.flatnonzero(key_a >= 0)
+    b = np.flatnonzero(key_b >= 0)
+    keys = np.concatenate([key_a, key_b])
+    ia, ib = same_key_pairs(keys, a, b + key_a.size)
+    return ia, ib - key_a.size
 
 
 def same_key_pairs(keys: np.ndarray, a: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -407,6 +429,47 @@ def same_key_pairs(keys: np.ndarray, a: np.ndarray, b: np.ndarray) -> tuple[np.n
     starts = np.repeat(lo - np.concatenate(([0], np.cumsum(counts)[:-1])), counts)
     ib = b_sorted[starts + np.arange(ia.size)]
     return ia.astype(np.int64), ib.astype(np.int64)
+
+
+def _blocks(family: np.ndarray):
+    """Index blocks of at most CHUNK rows, Wagner curves (which get a grid) apart."""
+    for group in (np.flatnonzero(family != 2), np.flatnonzero(family == 2)):
+        for a in range(0, group.size, CHUNK):
+            yield group[a : a + CHUNK]
+
+
+def _scan_crossings(cs: Curves, cl: Curves, x_lo, x_hi, x_anchor, grid: int, tol: float):
+    """Sign changes of y_s - y_l on a grid in x = 1/T over [x_lo, x_hi], for each pair.
+
+    Returns the number of sign changes, the number of *significant* ones (between points
+    where the curves differ by more than ``tol``), and the bracket [lo, hi] in x of the
+    change nearest ``x_anchor`` (NaN where there is none).
+    """
+    k = x_lo.size
+    frac = np.linspace(0.0, 1.0, grid)[None, :]
+    xs = x_lo[:, None] + (x_hi - x_lo)[:, None] * frac
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ts = 1.0 / xs
+        f = ln_p_rows(cs, ts) - ln_p_rows(cl, ts)
+        sign = np.sign(f)
+        finite = np.isfinite(f)
+        change = (sign[:, 1:] * sign[:, :-1] < 0) & finite[:, 1:] & finite[:, :-1]
+        count = change.sum(axis=1)
+        sig = np.where(np.abs(f) > tol, sign, 0.0)
+    # previous non-zero sign before each column (a forward fill of column indices)
+    cols = np.arange(grid)[None, :]
+    last = np.maximum.accumulate(np.where(sig != 0, cols, -1), axis=1)
+    prev = np.concatenate([np.full((k, 1), -1), last[:, :-1]], axis=1)
+    prev_sign = np.where(prev >= 0, np.take_along_axis(sig, np.maximum(prev, 0), 1), 0)
+    significant = ((sig != 0) & (prev_sign != 0) & (sig != prev_sign)).sum(axis=1)
+    mid = 0.5 * (xs[:, 1:] + xs[:, :-1])
+    dist = np.where(change, np.abs(mid - x_anchor[:, None]), np.inf)
+    j = np.argmin(dist, axis=1)
+    has = count > 0
+    idx = np.arange(k)
+    lo = np.where(has, xs[idx, j], np.nan)
+    hi = np.where(has, xs[idx, np.minimum(j + 1, grid - 1)], np.nan)
+    return count, significant, lo, hi
 
 
 def ln_p_rows(curves: Curves, temperature: np.ndarray) -> np.ndarray:

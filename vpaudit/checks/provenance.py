@@ -5,6 +5,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
+from .._columns import codes
 from ..equations.forms import COEFFICIENTS
 from ._context import AuditContext
 from ._registry import Scope, Severity, check
@@ -65,18 +66,18 @@ def duplicate_record(ctx: AuditContext):
         return
     cols = {"substance": ctx.codes}
     for c in ("phase", "form", "log_base", "pressure_unit", "temperature_unit"):
-        cols[c] = pd.factorize(pd.Series(rec[c].to_numpy(dtype=object), dtype=object))[0]
+        cols[c] = codes(rec[c])[0]
     for c in COEFFICIENTS:
         cols[c] = np.nan_to_num(rec[c].to_numpy(dtype=float, na_value=np.nan), nan=-1e308)
     keys = pd.DataFrame(cols)
-    dup_id = pd.Series(ctx.ids, dtype=object).duplicated(keep=False).to_numpy()
+    dup_id = rec["id"].duplicated(keep=False).to_numpy()
     dup = keys.duplicated(keep=False).to_numpy() & ~dup_id
     if not dup.any():
         return
     rows = np.flatnonzero(dup)
     for _, members in keys.iloc[rows].groupby(list(cols), sort=False):
         group = members.index.to_numpy()
-        ids = tuple(str(ctx.ids[r]) for r in group)
+        ids = tuple(ctx.id(r) for r in group)
         yield ctx.finding(
             "duplicate-record",
             int(group[0]),

@@ -6,8 +6,9 @@ import numpy as np
 import pandas as pd
 from scipy.constants import R
 
+from .._columns import eq
 from ..equations.engine import evaluate, temperature_at
-from ._context import LN_P_STANDARD, AuditContext
+from ._context import LN_P_STANDARD, AuditContext, match
 from ._registry import Scope, Severity, Threshold, check
 from ._text import jk, kelvin, kj, ln_ratio
 
@@ -30,13 +31,11 @@ def range_invalid(ctx: AuditContext):
     problems = ctx.table.problems
     if not len(problems):
         return
-    rows = problems.loc[problems["rule"].isin(["range", "pole"])]
-    index = pd.Series(np.arange(ctx.n), index=pd.Index(ctx.ids)).groupby(level=0).first()
-    for _, pr in rows.iterrows():
-        i = int(index.get(pr["id"], -1))
-        if i < 0:
-            continue
-        yield ctx.finding("range-invalid", i, f"{pr['message']}.", {"field": pr["column"]})
+    bad = problems.loc[problems["rule"].isin(["range", "pole"])]
+    for pr in bad.itertuples(index=False):
+        rows = ctx.rows_of([pr.file], [pr.line])
+        if rows.size:
+            yield ctx.finding("range-invalid", int(rows[0]), f"{pr.message}.", {"field": pr.column})
 
 
 @check(
@@ -196,7 +195,7 @@ def heat_capacity_sign(ctx: AuditContext):
     """
     th = ctx.thresholds("heat-capacity-sign")
     ex = ctx.range_extrema
-    factor = np.where(ctx.form == "antoine", th["antoine_factor"], 1.0)
+    factor = np.where(ctx.antoine, th["antoine_factor"], 1.0)
     with np.errstate(invalid="ignore"):
         bad = ctx.evaluable & (ex["cp_max"] > th["tolerance"] * factor)
     for i in np.flatnonzero(bad):
@@ -240,7 +239,7 @@ def heat_capacity_magnitude(ctx: AuditContext):
     th = ctx.thresholds("heat-capacity-magnitude")
     ex = ctx.range_extrema
     mag = np.fmax(np.abs(ex["cp_min"]), np.abs(ex["cp_max"]))
-    limit = th["limit"] * np.where(ctx.form == "antoine", th["antoine_factor"], 1.0)
+    limit = th["limit"] * np.where(ctx.antoine, th["antoine_factor"], 1.0)
     with np.errstate(invalid="ignore"):
         bad = ctx.evaluable & (mag > limit)
     for i in np.flatnonzero(bad):
@@ -395,15 +394,11 @@ def enthalpy_mismatch(ctx: AuditContext):
     refs = ctx.table.references
     if not len(refs):
         return
-    want = refs.loc[refs["quantity"].isin(["enthalpy_of_vaporization", "enthalpy_of_sublimation"])]
-    if not len(want):
-        return
-    rec = pd.DataFrame({"row": np.arange(ctx.n), "substance": ctx.substance, "phase": ctx.phase})
-    want = want.assign(
-        phase=np.where(want["quantity"] == "enthalpy_of_vaporization", "liquid", "solid")
-    )
-    m = rec.merge(want, on=["substance", "phase"])
-    rows = m["row"].to_numpy(dtype=np.int64)
+    vap = eq(refs["quantity"], "enthalpy_of_vaporization")
+    sub = eq(refs["quantity"], "enthalpy_of_sublimation")
+    ref_key = np.where(vap | sub, ctx.ref_codes * 2 + vap, -1)
+    rows, ref_rows = match(ctx.codes * 2 + ctx.liquid, ref_key)
+    m = refs.iloc[ref_rows].reset_index(drop=True)
     t = m["at_temperature"].to_numpy(dtype=float, na_value=np.nan)
     t = np.where(np.isnan(t), 298.15, t)
     c = ctx.curves.take(rows)
@@ -462,19 +457,12 @@ def points_misfit(ctx: AuditContext):
     pts = ctx.table.points
     if not len(pts):
         return
-    rec = pd.DataFrame(
-        {
-            "row": np.arange(ctx.n)[ctx.evaluable],
-            "substance": ctx.substance[ctx.evaluable],
-            "phase": ctx.phase[ctx.evaluable],
-        }
-    )
-    m = rec.merge(
-        pts[["substance", "phase", "T_K", "P_Pa", "uncertainty"]], on=["substance", "phase"]
-    )
-    if not len(m):
+    rec_key = np.where(ctx.evaluable, ctx.codes * 2 + ctx.liquid, -1)
+    pt_key = np.where(ctx.point_codes >= 0, ctx.point_codes * 2 + eq(pts["phase"], "liquid"), -1)
+    rows, pt_rows = match(rec_key, pt_key)
+    if not rows.size:
         return
-    rows = m["row"].to_numpy(dtype=np.int64)
+    m = pts.iloc[pt_rows].reset_index(drop=True)
     t = m["T_K"].to_numpy(dtype=float)
     c = ctx.curves.take(rows)
     margin = th["range_margin"]

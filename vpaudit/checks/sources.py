@@ -5,6 +5,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
+from .._columns import codes
 from ..equations.engine import evaluate
 from ._context import AuditContext, same_key_pairs
 from ._registry import Scope, Severity, Threshold, check
@@ -36,8 +37,7 @@ def sources_disagree(ctx: AuditContext):
     records the disagreement is reported once, naming both, without blaming either.
     """
     th = ctx.thresholds("sources-disagree")
-    mod = pd.Series(ctx.table.records["modification"].to_numpy(dtype=object), dtype=object)
-    mod_code = pd.factorize(mod.fillna(""))[0].astype(np.int64)
+    mod_code = codes(ctx.table.records["modification"])[0] + 1  # 0: no modification
     key = (ctx.codes * 2 + ctx.liquid) * (mod_code.max(initial=0) + 1) + mod_code
     rows = np.flatnonzero(ctx.evaluable)
     _, inverse, counts = np.unique(key[rows], return_inverse=True, return_counts=True)
@@ -95,12 +95,12 @@ def sources_disagree(ctx: AuditContext):
             yield ctx.finding(
                 "sources-disagree",
                 pair[0],
-                f"the two {ctx.phase[r]} records disagree by {ln_ratio(w.d)} at "
+                f"the two {ctx.phase_of(r)} records disagree by {ln_ratio(w.d)} at "
                 f"{kelvin(w.t)}, beyond their combined uncertainty ({w.tol:.3g} in ln P); "
                 "with two sources neither can be blamed: a third source or measured points "
                 "decide.",
                 {"difference_lnP": w.d, "at_K": w.t, "tolerance_lnP": w.tol, "sources": 2},
-                records=(str(ctx.ids[pair[0]]), str(ctx.ids[pair[1]])),
+                records=(ctx.id(pair[0]), ctx.id(pair[1])),
             )
         else:
             yield ctx.finding(

@@ -30,6 +30,7 @@ import numpy as np
 import pandas as pd
 from scipy.constants import R
 
+from .._columns import codes, eq, lookup
 from ..units import PRESSURE_UNITS, TEMPERATURE_UNITS
 from .forms import FORMS, WAGNER
 
@@ -103,24 +104,21 @@ def curves_from_frame(records: pd.DataFrame) -> Curves:
     T = s theta + o, becomes B' = s B and C' = s C - o (degC: C' = C - 273.15).
     """
     n = len(records)
-    form = records["form"].to_numpy(dtype=object)
-    base = records["log_base"].to_numpy(dtype=object)
-    lnb = np.where(base == "10", LN10, 1.0)
-    factor = pd.Series(records["pressure_unit"].to_numpy(dtype=object)).map(PRESSURE_UNITS)
-    lnf = np.log(factor.to_numpy(dtype=float, na_value=np.nan))
-    tunit = records["temperature_unit"].to_numpy(dtype=object)
-    scale = np.ones(n)
-    offset = np.zeros(n)
-    for unit, (s, o) in TEMPERATURE_UNITS.items():
-        m = tunit == unit
-        scale[m], offset[m] = s, o
+    lnb = np.where(eq(records["log_base"], "10"), LN10, 1.0)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        lnf = np.log(lookup(records["pressure_unit"], PRESSURE_UNITS))
+    tunit = records["temperature_unit"]
+    scale = lookup(tunit, {u: v[0] for u, v in TEMPERATURE_UNITS.items()}, 1.0)
+    offset = lookup(tunit, {u: v[1] for u, v in TEMPERATURE_UNITS.items()}, 0.0)
+    form_code, form_names = codes(records["form"])
     A, B, C, D, E = (np.nan_to_num(_column(records, c)) for c in "ABCDE")
     family = np.zeros(n, dtype=np.int8)
     params = np.zeros((n, NPARAM))
-    for name, spec in FORMS.items():
-        m = form == name
-        if not m.any():
+    for k, name in enumerate(form_names):
+        spec = FORMS.get(name)
+        if spec is None:
             continue
+        m = form_code == k
         family[m] = FAMILY_CODES[spec.family]
         if spec.family == "log-linear":
             params[m, 0] = lnb[m] * A[m] + lnf[m]
@@ -143,7 +141,7 @@ def curves_from_frame(records: pd.DataFrame) -> Curves:
             params[m, 4] = e3
             params[m, 5] = e4
             params[m, 6] = _column(records, "t_crit")[m]  # Wagner forms are written in K
-            params[m, 7] = np.log(_column(records, "p_crit")[m] * factor.to_numpy()[m])
+            params[m, 7] = np.log(_column(records, "p_crit")[m]) + lnf[m]
     t_min = _column(records, "t_min") * scale + offset
     t_max = _column(records, "t_max") * scale + offset
     return Curves(family, params, t_min, t_max)

@@ -153,7 +153,9 @@ def parse_number_column(values) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
 
 
 def parse_number_texts(values):
-    """:func:`parse_number_column`, plus the trimmed text of each cell (object array)."""
+    """:func:`parse_number_column`, plus the trimmed text of each cell (an Arrow string
+    array, null where missing).
+    """
     arr = values if isinstance(values, pa.Array) else pa.array(values, type=pa.string())
     trimmed = pc.utf8_trim(arr, characters=" \t")
     missing = pc.fill_null(pc.equal(pc.utf8_length(trimmed), 0), True)
@@ -164,15 +166,14 @@ def parse_number_texts(values):
     missing_np = missing.to_numpy(zero_copy_only=False).astype(bool)
     good_np = good.to_numpy(zero_copy_only=False).astype(bool)
     invalid = ~missing_np & ~good_np
-    texts = trimmed.to_numpy(zero_copy_only=False).astype(object)
     # Range problems: overflow to inf, underflow to zero or to a subnormal.
     with np.errstate(invalid="ignore"):
         suspicious = good_np & (np.isinf(out) | (np.abs(out) < _SMALLEST_NORMAL))
     for i in np.flatnonzero(suspicious):
-        if _range_problem(texts[i], out[i]) is not None:
+        if _range_problem(trimmed[int(i)].as_py(), out[i]) is not None:
             invalid[i] = True
     out[invalid | missing_np] = np.nan
-    texts[missing_np] = None
+    texts = pc.if_else(missing, pa.scalar(None, pa.string()), trimmed)
     return out, missing_np, invalid, texts
 
 

@@ -24,6 +24,8 @@ import pandas as pd
 import pyarrow as pa
 import pyarrow.compute as pc
 
+from .._columns import empty as blank
+from .._columns import eq, isin, lookup, text_series
 from ..equations.forms import COEFFICIENTS, FORMS
 from ..errors import Location, PolicyError, TableError, TableErrors
 from ..schema import QUANTITY_UNITS
@@ -133,16 +135,22 @@ class _Collector:
         self.errors.append(TableError(message, Location(raw.path, line, column)))
 
 
-def _text_column(raw: RawFrame, name: str, default: str | None = None) -> np.ndarray:
-    """The cells of a text column as an object array, None (or ``default``) where empty."""
+def _text_column(raw: RawFrame, name: str, default: str | None = None) -> pa.Array:
+    """The cells of a text column as an Arrow string array, null (or ``default``) where
+    empty.
+    """
     values = raw.cells.get(name)
     n = len(raw)
     if values is None:
-        return np.full(n, default, dtype=object)
+        return pa.array([default] * n if default is not None else [None] * n, type=pa.string())
     arr = values if isinstance(values, pa.Array) else pa.array(values, type=pa.string())
-    empty = pc.or_kleene(pc.is_null(arr), pc.equal(arr, ""))
-    arr = pc.if_else(empty, pa.scalar(default, pa.string()), arr)
-    return arr.to_numpy(zero_copy_only=False).astype(object)
+    blank = pc.or_kleene(pc.is_null(arr), pc.equal(arr, ""))
+    return pc.if_else(blank, pa.scalar(default, pa.string()), arr)
+
+
+def _np(mask) -> np.ndarray:
+    """An Arrow boolean result as a numpy bool array (null as False)."""
+    return pc.fill_null(mask, False).to_numpy(zero_copy_only=False).astype(bool)
 
 
 def _original(raw: RawFrame, name: str, i: int) -> str:
@@ -157,8 +165,9 @@ def _parse_numbers(
     cells = raw.cells.get(name)
     if cells is None:
         n = len(raw)
-        return np.full(n, np.nan), np.full(n, None, dtype=object), np.ones(n, dtype=bool)
+        return np.full(n, np.nan), pa.nulls(n, pa.string()), np.ones(n, dtype=bool)
     values, missing, invalid, texts = parse_number_texts(cells)
+    texts = texts.to_pylist() if invalid.any() and normalize else texts
     for i in np.flatnonzero(invalid):
         original = _original(raw, name, int(i))
         if normalize:
@@ -185,6 +194,8 @@ def _parse_numbers(
             name,
             explain(original) if _is_syntax(original) else _range_message(original),
         )
+    if isinstance(texts, list):
+        texts = pa.array(texts, type=pa.string())
     return values, texts, missing
 
 
@@ -225,16 +236,16 @@ def frame_from_raw(
                 f"{', '.join(c.name for c in spec)}",
             )
     n = len(raw)
-    data: dict[str, np.ndarray] = {}
+    data: dict[str, object] = {}
     for col in spec:
         present = col.name in raw.cells
         if col.required and not present:
             out.error(raw, None, col.name, f"required column {col.name!r} is missing")
             if col.kind == "number":
                 data[col.name] = np.full(n, np.nan)
-                data[col.name + "_text"] = np.full(n, None, dtype=object)
+                data[col.name + "_text"] = pa.nulls(n, pa.string())
             else:
-                data[col.name] = np.full(n, None, dtype=object)
+                data[col.name] = pa.nulls(n, pa.string())
             continue
         if col.kind == "number":
             values, texts, missing = _parse_numbers(raw, col.name, out, normalize)
@@ -245,24 +256,24 @@ def frame_from_raw(
                     out.error(raw, int(i), col.name, f"{col.name} is empty")
             continue
         arr = _text_column(raw, col.name, col.default)
-        none = np.equal(arr, None)
+        none = _np(pc.is_null(arr))
         if col.required and present:
             for i in np.flatnonzero(none):
                 out.error(raw, int(i), col.name, f"{col.name} is empty")
         if col.kind == "choice":
-            bad = ~none & ~pd.Series(arr, dtype=object).isin(col.choices).to_numpy()
+            bad = ~none & ~_np(pc.is_in(arr, value_set=pa.array(col.choices, pa.string())))
             for i in np.flatnonzero(bad):
                 out.error(
                     raw,
                     int(i),
                     col.name,
-                    f"unknown {col.name} {arr[i]!r}; valid: {', '.join(col.choices)}",
+                    f"unknown {col.name} {arr[int(i)].as_py()!r}; valid: {', '.join(col.choices)}",
                 )
         data[col.name] = arr
-    data["file"] = np.full(n, raw.path, dtype=object)
+    data["file"] = pa.array([raw.path], pa.string()).take(pa.array(np.zeros(n, np.int64)))
     data["line"] = np.asarray(raw.lines, dtype=np.int64)
     frame = pd.DataFrame(
-        {k: pd.Series(v, dtype=v.dtype if v.dtype != object else object) for k, v in data.items()}
+        {k: text_series(v) if isinstance(v, pa.Array) else pd.Series(v) for k, v in data.items()}
     )
     if kind == "records":
         _record_rules(frame, raw, out)
@@ -292,26 +303,22 @@ def _problem(
         )
 
 
-def _kelvin(values: np.ndarray, units: np.ndarray) -> np.ndarray:
-    scale = np.ones(len(values))
-    offset = np.zeros(len(values))
-    for unit, (s, o) in TEMPERATURE_UNITS.items():
-        m = units == unit
-        scale[m] = s
-        offset[m] = o
+def _kelvin(values: np.ndarray, units: pd.Series) -> np.ndarray:
+    """Temperatures in kelvin from values in the units of each row (K, degC, degF)."""
+    scale = lookup(units, {u: s for u, (s, _) in TEMPERATURE_UNITS.items()}, 1.0)
+    offset = lookup(units, {u: o for u, (_, o) in TEMPERATURE_UNITS.items()}, 0.0)
     return values * scale + offset
 
 
 def _record_rules(frame: pd.DataFrame, raw: RawFrame, out: _Collector) -> None:
-    forms = frame["form"].to_numpy(dtype=object)
     # Coefficients must fit the form exactly (a read error: the equation cannot be
     # interpreted otherwise).
     for name, spec in FORMS.items():
-        rows = forms == name
+        rows = eq(frame["form"], name)
         if not rows.any():
             continue
         for c in COEFFICIENTS:
-            given = ~np.isnan(frame[c].to_numpy()) | ~pd.isna(frame[c + "_text"].to_numpy())
+            given = ~np.isnan(frame[c].to_numpy()) | frame[c + "_text"].notna().to_numpy()
             if c in spec.coefficients:
                 for i in np.flatnonzero(rows & ~given):
                     out.error(
@@ -326,8 +333,8 @@ def _record_rules(frame: pd.DataFrame, raw: RawFrame, out: _Collector) -> None:
                         f"form {name!r} does not use coefficient {c} "
                         f"({spec.equation}); leave it empty",
                     )
-        units = frame["temperature_unit"].to_numpy(dtype=object)
-        bad_unit = rows & ~pd.Series(units).isin(spec.temperature_units).to_numpy()
+        units = frame["temperature_unit"]
+        bad_unit = rows & ~isin(units, spec.temperature_units)
         for i in np.flatnonzero(bad_unit):
             out.error(
                 raw,
@@ -335,7 +342,7 @@ def _record_rules(frame: pd.DataFrame, raw: RawFrame, out: _Collector) -> None:
                 "temperature_unit",
                 f"form {name!r} needs an absolute "
                 f"temperature: temperature_unit must be {', '.join(spec.temperature_units)}"
-                f", not {units[i]!r}",
+                f", not {units.iat[i]!r}",
             )
         if spec.needs_critical:
             for c in ("t_crit", "p_crit"):
@@ -343,7 +350,7 @@ def _record_rules(frame: pd.DataFrame, raw: RawFrame, out: _Collector) -> None:
                 for i in np.flatnonzero(rows & ~(v > 0)):
                     out.error(raw, int(i), c, f"form {name!r} needs a positive {c}")
     # Rules: range, source, pole (reported, not raised).
-    unit = frame["temperature_unit"].to_numpy(dtype=object)
+    unit = frame["temperature_unit"]
     lo = _kelvin(frame["t_min"].to_numpy(), unit)
     hi = _kelvin(frame["t_max"].to_numpy(), unit)
     missing = np.isnan(lo) | np.isnan(hi)
@@ -381,7 +388,7 @@ def _record_rules(frame: pd.DataFrame, raw: RawFrame, out: _Collector) -> None:
             for i in np.flatnonzero(order)
         ],
     )
-    antoine = forms == "antoine"
+    antoine = eq(frame["form"], "antoine")
     if antoine.any():
         pole = -frame["C"].to_numpy()
         with np.errstate(invalid="ignore"):
@@ -398,7 +405,7 @@ def _record_rules(frame: pd.DataFrame, raw: RawFrame, out: _Collector) -> None:
             "pole",
             "C",
             [
-                f"the Antoine pole theta = -C = {pole[i]:g} {unit[i]} lies inside the range "
+                f"the Antoine pole theta = -C = {pole[i]:g} {unit.iat[i]} lies inside the range "
                 f"{frame['t_min'].iat[i]:g}..{frame['t_max'].iat[i]:g}"
                 for i in np.flatnonzero(inside)
             ],
@@ -414,8 +421,7 @@ def _record_rules(frame: pd.DataFrame, raw: RawFrame, out: _Collector) -> None:
 
 
 def _source_rule(frame: pd.DataFrame, out: _Collector) -> None:
-    src = frame["source"].to_numpy(dtype=object)
-    empty = pd.isna(src) | (pd.Series(src, dtype=object).astype(str).str.strip() == "").to_numpy()
+    empty = blank(frame["source"])
     _problem(
         out,
         frame,
@@ -434,42 +440,41 @@ _UNIT_FACTORS = {
 
 
 def _reference_rules(frame: pd.DataFrame, raw: RawFrame, out: _Collector) -> None:
-    q = frame["quantity"].to_numpy(dtype=object)
-    unit = frame["unit"].to_numpy(dtype=object)
+    q = frame["quantity"]
+    unit = frame["unit"]
     value = frame["value"].to_numpy()
     si = np.full(len(frame), np.nan)
+    unit_missing = unit.isna().to_numpy()
     for quantity, (kind, units) in QUANTITY_UNITS.items():
-        rows = q == quantity
+        rows = eq(q, quantity)
         if not rows.any():
             continue
-        ok = rows & pd.Series(unit, dtype=object).isin(units).to_numpy()
-        for i in np.flatnonzero(rows & ~ok & ~pd.isna(unit)):
+        ok = rows & isin(unit, units)
+        for i in np.flatnonzero(rows & ~ok & ~unit_missing):
             out.error(
                 raw,
                 int(i),
                 "unit",
-                f"unit {unit[i]!r} does not fit {quantity}; use {', '.join(units)}",
+                f"unit {unit.iat[i]!r} does not fit {quantity}; use {', '.join(units)}",
             )
         if kind == "temperature":
-            si[ok] = _kelvin(value[ok], unit[ok])
+            si[ok] = _kelvin(value, unit)[ok]
         else:
             factors = _UNIT_FACTORS[kind]
-            for u in units:
-                m = ok & (unit == u)
-                si[m] = value[m] * factors[u]
+            si[ok] = (value * lookup(unit, factors))[ok]
     with np.errstate(invalid="ignore"):
-        bad = ~np.isnan(si) & (si <= 0) & (q != "enthalpy_of_fusion")
+        bad = ~np.isnan(si) & (si <= 0) & ~eq(q, "enthalpy_of_fusion")
     for i in np.flatnonzero(bad):
-        out.error(raw, int(i), "value", f"{q[i]} must be positive, got {value[i]:g} {unit[i]}")
+        out.error(
+            raw, int(i), "value", f"{q.iat[i]} must be positive, got {value[i]:g} {unit.iat[i]}"
+        )
     frame["value_si"] = si
     _source_rule(frame, out)
 
 
 def _point_rules(frame: pd.DataFrame, raw: RawFrame, out: _Collector) -> None:
-    t = _kelvin(frame["T"].to_numpy(), frame["temperature_unit"].to_numpy(dtype=object))
-    pu = frame["pressure_unit"].to_numpy(dtype=object)
-    factor = pd.Series(pu, dtype=object).map(PRESSURE_UNITS).to_numpy(dtype=float)
-    p = frame["P"].to_numpy() * factor
+    t = _kelvin(frame["T"].to_numpy(), frame["temperature_unit"])
+    p = frame["P"].to_numpy() * lookup(frame["pressure_unit"], PRESSURE_UNITS)
     with np.errstate(invalid="ignore"):
         for i in np.flatnonzero(~np.isnan(t) & (t <= 0)):
             out.error(raw, int(i), "T", "T must be a positive absolute temperature")

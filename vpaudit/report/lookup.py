@@ -135,7 +135,7 @@ def render_show(table, substance: str, result) -> str:
                 hl = float(enthalpy(ctx.curves.take([lq]), t)[0])
                 prow.append(
                     [
-                        f"{ctx.ids[s]} / {ctx.ids[lq]}",
+                        f"{ctx.id(s)} / {ctx.id(lq)}",
                         f"{t:.5g}",
                         f"{math.exp(pr['y'][k]):.4g}",
                         f"{hs / 1e3:.4g}",
@@ -144,7 +144,7 @@ def render_show(table, substance: str, result) -> str:
                     ]
                 )
             else:
-                prow.append([f"{ctx.ids[s]} / {ctx.ids[lq]}", "no crossing", "-", "-", "-", "-"])
+                prow.append([f"{ctx.id(s)} / {ctx.id(lq)}", "no crossing", "-", "-", "-", "-"])
         lines += _table(
             ["pair", "T [K]", "P [Pa]", "dH_sub [kJ/mol]", "dH_vap [kJ/mol]", "dH_fus [kJ/mol]"],
             prow,

@@ -40,10 +40,13 @@ def empty(series: pd.Series) -> np.ndarray:
     )
 
 
-def codes(series: pd.Series) -> tuple[np.ndarray, list]:
-    """Dictionary codes of a column (-1 where empty) and the distinct values."""
+def codes(series: pd.Series) -> tuple[np.ndarray, np.ndarray]:
+    """Dictionary codes of a column (-1 where empty) and the distinct values (objects)."""
     c, uniques = pd.factorize(series, use_na_sentinel=True)
-    return np.asarray(c, dtype=np.int64), [None if pd.isna(u) else u for u in uniques]
+    if isinstance(uniques, pd.Index):
+        uniques = uniques.array
+    values = np.asarray(pd.array(uniques).to_numpy(dtype=object, na_value=None))
+    return np.asarray(c, dtype=np.int64), values
 
 
 def lookup(series: pd.Series, mapping: Mapping, default=np.nan) -> np.ndarray:

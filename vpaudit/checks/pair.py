@@ -310,23 +310,24 @@ def triple_pressure_mismatch(ctx: AuditContext):
     pr = ctx.pairs
     tol = ctx.thresholds("triple-pressure-mismatch")["tolerance"]
     ptp = ctx.reference("triple_point_pressure", pr["s"])
-    rows = np.flatnonzero(pr["checkable"] & np.isfinite(ptp) & np.isfinite(pr["y"]))
-    for k in rows:
-        d = pr["y"][k] - np.log(ptp[k])
-        if abs(d) > tol:
-            yield ctx.pair_finding(
-                "triple-pressure-mismatch",
-                k,
-                f"the curves cross at {pressure(np.exp(pr['y'][k]))} ({kelvin(pr['T'][k])}), "
-                f"{ln_ratio(d)} away from the reference triple-point pressure "
-                f"{pressure(ptp[k])}.",
-                {
-                    "crossing_pressure_Pa": float(np.exp(pr["y"][k])),
-                    "reference_Pa": ptp[k],
-                    "difference_lnP": d,
-                    "tolerance_lnP": tol,
-                },
-            )
+    with np.errstate(invalid="ignore", divide="ignore"):
+        diff = pr["y"] - np.log(ptp)
+        bad = pr["checkable"] & np.isfinite(diff) & (np.abs(diff) > tol)
+    for k in np.flatnonzero(bad):
+        d = diff[k]
+        yield ctx.pair_finding(
+            "triple-pressure-mismatch",
+            k,
+            f"the curves cross at {pressure(np.exp(pr['y'][k]))} ({kelvin(pr['T'][k])}), "
+            f"{ln_ratio(d)} away from the reference triple-point pressure "
+            f"{pressure(ptp[k])}.",
+            {
+                "crossing_pressure_Pa": float(np.exp(pr["y"][k])),
+                "reference_Pa": ptp[k],
+                "difference_lnP": d,
+                "tolerance_lnP": tol,
+            },
+        )
 
 
 @check(
@@ -352,28 +353,28 @@ def fusion_enthalpy_mismatch(ctx: AuditContext):
     if rows.size == 0:
         return
     hs, hl = _fusion_enthalpy(ctx, np.where(np.isfinite(at), at, 1.0))
-    for k in rows:
-        if not (hs[k] > 0 and hl[k] > 0):
-            continue  # a non-positive slope is slope-not-positive's finding
-        implied = hs[k] - hl[k]
-        rel = (implied - ref[k]) / hs[k]
-        if abs(rel) > tol:
-            yield ctx.pair_finding(
-                "fusion-enthalpy-mismatch",
-                k,
-                f"at {kelvin(at[k])} the curves imply dH_sub - dH_vap = {kj(implied)} against "
-                f"the reference dH_fus {kj(ref[k])}: a residual of {rel * 100:+.1f} % of "
-                f"dH_sub ({kj(hs[k])}), beyond {tol * 100:g} %.",
-                {
-                    "at_K": at[k],
-                    "implied_fusion_J_per_mol": implied,
-                    "reference_fusion_J_per_mol": ref[k],
-                    "sublimation_J_per_mol": hs[k],
-                    "vaporization_J_per_mol": hl[k],
-                    "residual_of_sublimation": rel,
-                    "tolerance": tol,
-                },
-            )
+    with np.errstate(invalid="ignore", divide="ignore"):
+        residual = (hs - hl - ref) / hs
+        # a non-positive slope is slope-not-positive's finding
+        bad = (hs[rows] > 0) & (hl[rows] > 0) & (np.abs(residual[rows]) > tol)
+    for k in rows[bad]:
+        implied, rel = hs[k] - hl[k], residual[k]
+        yield ctx.pair_finding(
+            "fusion-enthalpy-mismatch",
+            k,
+            f"at {kelvin(at[k])} the curves imply dH_sub - dH_vap = {kj(implied)} against "
+            f"the reference dH_fus {kj(ref[k])}: a residual of {rel * 100:+.1f} % of "
+            f"dH_sub ({kj(hs[k])}), beyond {tol * 100:g} %.",
+            {
+                "at_K": at[k],
+                "implied_fusion_J_per_mol": implied,
+                "reference_fusion_J_per_mol": ref[k],
+                "sublimation_J_per_mol": hs[k],
+                "vaporization_J_per_mol": hl[k],
+                "residual_of_sublimation": rel,
+                "tolerance": tol,
+            },
+        )
 
 
 @check(

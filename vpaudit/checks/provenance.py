@@ -69,13 +69,24 @@ def duplicate_record(ctx: AuditContext):
         cols[c] = codes(rec[c])[0]
     for c in COEFFICIENTS:
         cols[c] = np.nan_to_num(rec[c].to_numpy(dtype=float, na_value=np.nan), nan=-1e308)
-    keys = pd.DataFrame(cols)
+    # One 64-bit hash per record finds the candidates fast; the exact comparison below
+    # then runs on those few rows only.
+    h = np.zeros(ctx.n, dtype=np.uint64)
+    with np.errstate(over="ignore"):
+        for v in cols.values():
+            bits = v.view(np.uint64) if v.dtype == np.float64 else v.astype(np.uint64)
+            h = (h ^ bits) * np.uint64(0x100000001B3)
     dup_id = rec["id"].duplicated(keep=False).to_numpy()
-    dup = keys.duplicated(keep=False).to_numpy() & ~dup_id
+    cand = np.flatnonzero(pd.Series(h).duplicated(keep=False).to_numpy() & ~dup_id)
+    if not cand.size:
+        return
+    keys = pd.DataFrame({k: v[cand] for k, v in cols.items()}, index=cand)
+    dup = np.zeros(ctx.n, dtype=bool)
+    dup[cand[keys.duplicated(keep=False).to_numpy()]] = True
     if not dup.any():
         return
-    rows = np.flatnonzero(dup)
-    for _, members in keys.iloc[rows].groupby(list(cols), sort=False):
+    keys = keys.loc[dup[cand]]
+    for _, members in keys.groupby(list(cols), sort=False):
         group = members.index.to_numpy()
         ids = tuple(ctx.id(r) for r in group)
         yield ctx.finding(

@@ -111,20 +111,24 @@ def _decode(path: str, data: bytes) -> str:
         ) from None
 
 
-def _csv_layout(path: str, text: str) -> tuple[int, str, list[str]]:
-    """Index of the header line (after ``#`` comments and blank lines), the delimiter and
-    the column names.
+def _csv_layout(path: str, data: bytes) -> tuple[int, int, str, list[str]]:
+    """Index of the header line (after ``#`` comments and blank lines), the byte offset
+    where the rows start, the delimiter and the column names.
     """
     start, pos = 0, 0
     while True:
-        nl = text.find("\n", pos)
-        line = text[pos:] if nl < 0 else text[pos : nl + 1]
-        if not (line.startswith("#") or not line.strip()):
+        nl = data.find(b"\n", pos)
+        raw_line = data[pos:] if nl < 0 else data[pos : nl + 1]
+        if not (raw_line.startswith(b"#") or not raw_line.strip()):
             break
         if nl < 0:
             raise _err(path, "file is empty: expected a header line naming the columns")
         start, pos = start + 1, nl + 1
-    header_line = line
+    try:
+        header_line = raw_line.decode("utf-8")
+    except UnicodeDecodeError:
+        _decode(path, data)  # raises with the byte offset
+        raise
     if "\r" in header_line.rstrip("\r\n"):
         header_line = header_line.splitlines()[0]  # bare CR line ends
     delimiter = (
@@ -138,32 +142,29 @@ def _csv_layout(path: str, text: str) -> tuple[int, str, list[str]]:
         header = next(csv.reader([header_line], delimiter=delimiter, strict=True))
     except csv.Error as exc:
         raise _err(path, f"cannot read the header: {exc}", start + 1) from None
-    return start, delimiter, _check_header(path, header, start + 1)
+    body_at = len(data) if nl < 0 else nl + 1
+    return start, body_at, delimiter, _check_header(path, header, start + 1)
 
 
-def _csv_bulk(text: str, start: int, delimiter: str, columns: list[str]):
+def _csv_bulk(data: bytes, start: int, body_at: int, delimiter: str, columns: list[str]):
     """Read the rows with pyarrow's multi-threaded CSV reader, every column as a string.
 
     Returns None when the file needs the exact path instead: anything pyarrow does not read
     as a plain table of one physical line per row (a blank line, a ragged row, a newline
-    inside quotes, an unbalanced quote, bare CR line ends); that path then reads it or
-    reports the problem with its line.
+    inside quotes, an unbalanced quote, bare CR line ends, invalid UTF-8); that path then
+    reads it or reports the problem with its line.
     """
     import pyarrow as pa
     import pyarrow.csv as pcsv
 
-    if text.count("\r") != text.count("\r\n"):
+    if b"\r" in data and data.count(b"\r") != data.count(b"\r\n"):
         return None  # bare CR line ends: the exact path counts those lines
-    pos = 0
-    for _ in range(start + 1):
-        nl = text.find("\n", pos)
-        pos = len(text) if nl < 0 else nl + 1
-    body = text[pos:]
-    if not body.strip():
+    body = memoryview(data)[body_at:]
+    if not bytes(body[:4096]).strip() and not bytes(body).strip():
         return {c: [] for c in columns}, []
     try:
         table = pcsv.read_csv(
-            pa.py_buffer(body.encode("utf-8")),
+            pa.py_buffer(body),
             read_options=pcsv.ReadOptions(column_names=columns, block_size=1 << 24),
             parse_options=pcsv.ParseOptions(
                 delimiter=delimiter,
@@ -185,7 +186,7 @@ def _csv_bulk(text: str, start: int, delimiter: str, columns: list[str]):
         return None
     n = table.num_rows
     lines = list(range(start + 2, start + 2 + n))
-    cells = {c: table.column(c).combine_chunks() for c in columns}
+    cells = {c: table.column(c) for c in columns}
     return cells, lines
 
 
@@ -198,15 +199,25 @@ def read_csv(path: str, data: bytes) -> RawFrame:
     files go through pyarrow's CSV reader (all columns typed as strings, so nothing is
     inferred); irregular ones through Python's csv module, which locates every problem.
     """
-    text = _decode(path, data)
-    start, delimiter, columns = _csv_layout(path, text)
-    bulk = _csv_bulk(text, start, delimiter, columns)
+    if len(data) > MAX_FILE_BYTES:
+        raise _err(path, f"file is {len(data)} bytes; the limit is {MAX_FILE_BYTES} bytes")
+    nul = data.find(b"\x00")
+    if nul >= 0:
+        raise _err(
+            path, f"NUL byte at byte offset {nul}: not a text file", data.count(b"\n", 0, nul) + 1
+        )
+    if data.startswith(b"\xef\xbb\xbf"):
+        data = data[3:]
+    if not data.strip():
+        raise _err(path, "file is empty: expected a header line naming the columns")
+    start, body_at, delimiter, columns = _csv_layout(path, data)
+    bulk = _csv_bulk(data, start, body_at, delimiter, columns)
     if bulk is not None:
         cells, lines = bulk
         if len(lines) > MAX_ROWS:
             raise _err(path, f"more than {MAX_ROWS} rows in one file")
         return RawFrame(path, columns, cells, lines)
-    return _read_csv_exact(path, text, start, delimiter, columns)
+    return _read_csv_exact(path, _decode(path, data), start, delimiter, columns)
 
 
 def _read_csv_exact(

@@ -156,8 +156,13 @@ def parse_number_texts(values):
     """:func:`parse_number_column`, plus the trimmed text of each cell (an Arrow string
     array, null where missing).
     """
-    arr = values if isinstance(values, pa.Array) else pa.array(values, type=pa.string())
-    trimmed = pc.utf8_trim(arr, characters=" \t")
+    arr = (
+        values
+        if isinstance(values, pa.Array | pa.ChunkedArray)
+        else pa.array(values, type=pa.string())
+    )
+    spaced = pc.any(pc.or_(pc.match_substring(arr, " "), pc.match_substring(arr, "\t")))
+    trimmed = pc.utf8_trim(arr, characters=" \t") if spaced.as_py() else arr
     missing = pc.fill_null(pc.equal(pc.utf8_length(trimmed), 0), True)
     matches = pc.fill_null(pc.match_substring_regex(trimmed, _ANCHORED), False)
     good = pc.and_(matches, pc.invert(missing))

@@ -61,6 +61,7 @@ class _Col:
     required: bool = False  # the column must exist and every cell be filled (a read error)
     choices: tuple[str, ...] = ()
     default: str | None = None
+    encode: bool = False  # a low-cardinality text column: dictionary-encode it once
 
 
 _TEXT_OPTIONAL = ("note", "entered_by", "entered_on", "source_locator", "modification")
@@ -69,7 +70,7 @@ RECORD_COLUMNS: tuple[_Col, ...] = (
     _Col("id", "text", True),
     _Col("substance", "text", True),
     _Col("phase", "choice", True, ("solid", "liquid")),
-    _Col("modification", "text"),
+    _Col("modification", "text", encode=True),
     _Col("form", "choice", True, tuple(FORMS)),
     _Col("log_base", "choice", True, ("e", "10")),
     _Col("pressure_unit", "choice", True, tuple(PRESSURE_UNITS)),
@@ -79,21 +80,21 @@ RECORD_COLUMNS: tuple[_Col, ...] = (
     _Col("p_crit", "number"),
     _Col("t_min", "number"),
     _Col("t_max", "number"),
-    _Col("source", "text"),
-    _Col("source_locator", "text"),
+    _Col("source", "text", encode=True),
+    _Col("source_locator", "text", encode=True),
     _Col("uncertainty", "number"),
     _Col("note", "text"),
-    _Col("entered_by", "text"),
+    _Col("entered_by", "text", encode=True),
     _Col("entered_on", "text"),
 )
 REFERENCE_COLUMNS: tuple[_Col, ...] = (
     _Col("substance", "text", True),
     _Col("quantity", "choice", True, tuple(QUANTITY_UNITS)),
     _Col("value", "number", True),
-    _Col("unit", "text", True),
+    _Col("unit", "text", True, encode=True),
     _Col("at_temperature", "number"),
     _Col("uncertainty", "number"),
-    _Col("source", "text"),
+    _Col("source", "text", encode=True),
     _Col("note", "text"),
 )
 POINT_COLUMNS: tuple[_Col, ...] = (
@@ -103,7 +104,7 @@ POINT_COLUMNS: tuple[_Col, ...] = (
     _Col("P", "number", True),
     _Col("temperature_unit", "choice", False, tuple(TEMPERATURE_UNITS), "K"),
     _Col("pressure_unit", "choice", False, tuple(PRESSURE_UNITS), "Pa"),
-    _Col("source", "text"),
+    _Col("source", "text", encode=True),
     _Col("uncertainty", "number"),
     _Col("note", "text"),
 )
@@ -143,9 +144,23 @@ def _text_column(raw: RawFrame, name: str, default: str | None = None) -> pa.Arr
     n = len(raw)
     if values is None:
         return pa.array([default] * n if default is not None else [None] * n, type=pa.string())
-    arr = values if isinstance(values, pa.Array) else pa.array(values, type=pa.string())
+    arr = (
+        values
+        if isinstance(values, pa.Array | pa.ChunkedArray)
+        else pa.array(values, type=pa.string())
+    )
     blank = pc.or_kleene(pc.is_null(arr), pc.equal(arr, ""))
     return pc.if_else(blank, pa.scalar(default, pa.string()), arr)
+
+
+def _categorical(arr) -> pd.Categorical:
+    """A low-cardinality text column, dictionary-encoded once (codes serve every join)."""
+    if isinstance(arr, pa.ChunkedArray):
+        arr = arr.combine_chunks()
+    enc = pc.dictionary_encode(arr)
+    idx = enc.indices.to_numpy(zero_copy_only=False)
+    idx = np.where(enc.indices.is_null().to_numpy(zero_copy_only=False), -1, idx)
+    return pd.Categorical.from_codes(idx.astype(np.int32), enc.dictionary.to_pylist())
 
 
 def _np(mask) -> np.ndarray:
@@ -155,7 +170,7 @@ def _np(mask) -> np.ndarray:
 
 def _original(raw: RawFrame, name: str, i: int) -> str:
     values = raw.cells[name]
-    return values[i].as_py() if isinstance(values, pa.Array) else values[i]
+    return values[i].as_py() if isinstance(values, pa.Array | pa.ChunkedArray) else values[i]
 
 
 def _parse_numbers(
@@ -269,11 +284,16 @@ def frame_from_raw(
                     col.name,
                     f"unknown {col.name} {arr[int(i)].as_py()!r}; valid: {', '.join(col.choices)}",
                 )
+        if col.kind == "choice" or col.encode:
+            arr = _categorical(arr)
         data[col.name] = arr
-    data["file"] = pa.array([raw.path], pa.string()).take(pa.array(np.zeros(n, np.int64)))
+    data["file"] = pd.Categorical.from_codes(np.zeros(n, dtype=np.int8), [raw.path])
     data["line"] = np.asarray(raw.lines, dtype=np.int64)
     frame = pd.DataFrame(
-        {k: text_series(v) if isinstance(v, pa.Array) else pd.Series(v) for k, v in data.items()}
+        {
+            k: text_series(v) if isinstance(v, pa.Array | pa.ChunkedArray) else pd.Series(v)
+            for k, v in data.items()
+        }
     )
     if kind == "records":
         _record_rules(frame, raw, out)
@@ -526,13 +546,17 @@ def _finish(parts: dict[str, list[pd.DataFrame]], out: _Collector, **kw) -> Tabl
     frames = {}
     for kind in KINDS:
         pieces = [p for p in parts[kind] if len(p)]
-        frames[kind] = (
-            pd.concat(pieces, ignore_index=True)
-            if len(pieces) > 1
-            else pieces[0].reset_index(drop=True)
-            if pieces
-            else _empty(kind)
-        )
+        if len(pieces) > 1:  # unify dictionaries so categorical columns stay categorical
+            for col in pieces[0].columns:
+                if all(isinstance(p[col].dtype, pd.CategoricalDtype) for p in pieces):
+                    cats = pd.api.types.union_categoricals([p[col] for p in pieces]).categories
+                    for p in pieces:
+                        p[col] = p[col].cat.set_categories(cats)
+            frames[kind] = pd.concat(pieces, ignore_index=True)
+        elif pieces:
+            frames[kind] = pieces[0].reset_index(drop=True)
+        else:
+            frames[kind] = _empty(kind)
     rec = frames["records"]
     if len(rec):
         dup = rec["id"].duplicated(keep=False).to_numpy() & ~pd.isna(rec["id"].to_numpy())

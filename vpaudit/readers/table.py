@@ -14,8 +14,10 @@ Only rows that fail get a per-row message. Two kinds of problem are kept apart:
 
 from __future__ import annotations
 
+import os
 import tomllib
 from collections.abc import Iterable
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -230,6 +232,44 @@ def _range_message(text: str) -> str:
     return f"{text!r} cannot be read"  # pragma: no cover - both paths agree by test
 
 
+_PARALLEL_ROWS = 200_000
+
+
+def _column(raw: RawFrame, col: _Col, normalize: bool) -> tuple[dict[str, object], _Collector]:
+    """Parse and validate one column; returns its entries and its own errors."""
+    out = _Collector()
+    n = len(raw)
+    present = col.name in raw.cells
+    if col.required and not present:
+        out.error(raw, None, col.name, f"required column {col.name!r} is missing")
+        if col.kind == "number":
+            return {col.name: np.full(n, np.nan), col.name + "_text": pa.nulls(n, pa.string())}, out
+        return {col.name: pa.nulls(n, pa.string())}, out
+    if col.kind == "number":
+        values, texts, missing = _parse_numbers(raw, col.name, out, normalize)
+        if col.required and present:
+            for i in np.flatnonzero(missing):
+                out.error(raw, int(i), col.name, f"{col.name} is empty")
+        return {col.name: values, col.name + "_text": texts}, out
+    arr = _text_column(raw, col.name, col.default)
+    none = _np(pc.is_null(arr))
+    if col.required and present:
+        for i in np.flatnonzero(none):
+            out.error(raw, int(i), col.name, f"{col.name} is empty")
+    if col.kind == "choice":
+        bad = ~none & ~_np(pc.is_in(arr, value_set=pa.array(col.choices, pa.string())))
+        for i in np.flatnonzero(bad):
+            out.error(
+                raw,
+                int(i),
+                col.name,
+                f"unknown {col.name} {arr[int(i)].as_py()!r}; valid: {', '.join(col.choices)}",
+            )
+    if col.kind == "choice" or col.encode:
+        arr = _categorical(arr)
+    return {col.name: arr}, out
+
+
 def frame_from_raw(
     raw: RawFrame, kind: str, out: _Collector, normalize: bool = False
 ) -> pd.DataFrame:
@@ -251,42 +291,18 @@ def frame_from_raw(
                 f"{', '.join(c.name for c in spec)}",
             )
     n = len(raw)
+    # Each column is parsed on its own (pyarrow's kernels release the GIL, so large tables
+    # use both cores); errors are merged back in column order, so output is deterministic.
+    if n >= _PARALLEL_ROWS and (os.cpu_count() or 1) > 1:
+        with ThreadPoolExecutor(max_workers=min(4, os.cpu_count() or 1)) as pool:
+            results = list(pool.map(lambda c: _column(raw, c, normalize), spec))
+    else:
+        results = [_column(raw, c, normalize) for c in spec]
     data: dict[str, object] = {}
-    for col in spec:
-        present = col.name in raw.cells
-        if col.required and not present:
-            out.error(raw, None, col.name, f"required column {col.name!r} is missing")
-            if col.kind == "number":
-                data[col.name] = np.full(n, np.nan)
-                data[col.name + "_text"] = pa.nulls(n, pa.string())
-            else:
-                data[col.name] = pa.nulls(n, pa.string())
-            continue
-        if col.kind == "number":
-            values, texts, missing = _parse_numbers(raw, col.name, out, normalize)
-            data[col.name] = values
-            data[col.name + "_text"] = texts
-            if col.required and present:
-                for i in np.flatnonzero(missing):
-                    out.error(raw, int(i), col.name, f"{col.name} is empty")
-            continue
-        arr = _text_column(raw, col.name, col.default)
-        none = _np(pc.is_null(arr))
-        if col.required and present:
-            for i in np.flatnonzero(none):
-                out.error(raw, int(i), col.name, f"{col.name} is empty")
-        if col.kind == "choice":
-            bad = ~none & ~_np(pc.is_in(arr, value_set=pa.array(col.choices, pa.string())))
-            for i in np.flatnonzero(bad):
-                out.error(
-                    raw,
-                    int(i),
-                    col.name,
-                    f"unknown {col.name} {arr[int(i)].as_py()!r}; valid: {', '.join(col.choices)}",
-                )
-        if col.kind == "choice" or col.encode:
-            arr = _categorical(arr)
-        data[col.name] = arr
+    for entries, local in results:
+        data.update(entries)
+        out.errors.extend(local.errors)
+        out.rewrites.extend(local.rewrites)
     data["file"] = pd.Categorical.from_codes(np.zeros(n, dtype=np.int8), [raw.path])
     data["line"] = np.asarray(raw.lines, dtype=np.int64)
     frame = pd.DataFrame(

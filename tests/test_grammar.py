@@ -129,3 +129,29 @@ def test_opt_in_normalisation_rewrites_look_alikes_and_says_so(text, expected):
 def test_normalisation_never_touches_decimal_commas():
     new, rewrites = normalize_typography("12,5")
     assert new == "12,5" and not rewrites
+
+
+def test_fast_column_path_rejects_what_the_cast_alone_would_accept():
+    # pyarrow's string-to-double cast takes these; the grammar does not (or they overflow)
+    cells = ["1.5", "inf", "NaN", "Infinity", "-inf", "1e400", "1e-400", "4.9e-324", "0.0", ""]
+    values, missing, invalid = parse_number_column(cells)
+    assert list(invalid) == [False, True, True, True, True, True, True, True, False, False]
+    assert list(missing) == [False] * 9 + [True]
+    assert values[0] == 1.5 and values[8] == 0.0 and np.isnan(values[1:8]).all()
+
+
+@given(st.lists(st.one_of(st.floats(allow_nan=False, allow_infinity=False).map(repr),
+                          st.sampled_from(["", "inf", "nan", "1e400", "+.5", "1."])),
+                max_size=20))
+def test_column_path_equals_scalar_path_cell_by_cell(cells):
+    values, missing, invalid = parse_number_column(cells)
+    for cell, v, m, bad in zip(cells, values, missing, invalid, strict=True):
+        if cell == "":
+            assert m
+            continue
+        try:
+            expected = parse_number(cell)
+        except NumberSyntaxError:
+            assert bad
+        else:
+            assert not bad and v == expected

@@ -7,6 +7,7 @@ array code.
 
 from __future__ import annotations
 
+import math
 from functools import cached_property
 from typing import TYPE_CHECKING
 
@@ -538,11 +539,12 @@ def ln_p_rows(curves: Curves, temperature: np.ndarray) -> np.ndarray:
 
 
 def _clean(evidence: dict) -> dict:
-    out = {}
+    """Evidence as JSON-ready Python values: numpy scalars unwrapped, non-finite as None."""
     for k, v in evidence.items():
-        if isinstance(v, np.generic):
+        if type(v) is float or type(v) is np.float64:
+            if not math.isfinite(v):
+                evidence[k] = None
+        elif isinstance(v, np.generic):
             v = v.item()
-        if isinstance(v, float) and not np.isfinite(v):
-            v = None
-        out[k] = v
-    return out
+            evidence[k] = None if isinstance(v, float) and not math.isfinite(v) else v
+    return evidence

@@ -14,6 +14,7 @@ import re
 from dataclasses import dataclass, field
 from pathlib import Path
 
+import numpy as np
 import yaml
 
 from ..errors import Location, TableError
@@ -49,7 +50,7 @@ class RawFrame:
         Column names in file order.
     cells : dict of str to list of (str or None), or to a pyarrow string array
         The cells of each column, verbatim; ``None`` or ``""`` for an empty cell.
-    lines : list of int
+    lines : list of int or ndarray
         The 1-based line where each row starts (the row number for Parquet).
     kind_hint : str or None
         ``records``, ``references`` or ``points`` when the file says so itself (a YAML or
@@ -59,7 +60,7 @@ class RawFrame:
     path: str
     columns: list[str]
     cells: dict[str, object]
-    lines: list[int]
+    lines: list[int] | np.ndarray
     kind_hint: str | None = None
     notes: list[str] = field(default_factory=list)
 
@@ -185,7 +186,7 @@ def _csv_bulk(data: bytes, start: int, body_at: int, delimiter: str, columns: li
     except (pa.ArrowInvalid, pa.ArrowException):
         return None
     n = table.num_rows
-    lines = list(range(start + 2, start + 2 + n))
+    lines = np.arange(start + 2, start + 2 + n, dtype=np.int64)
     cells = {c: table.column(c) for c in columns}
     return cells, lines
 

@@ -305,11 +305,13 @@ def frame_from_raw(
         out.rewrites.extend(local.rewrites)
     data["file"] = pd.Categorical.from_codes(np.zeros(n, dtype=np.int8), [raw.path])
     data["line"] = np.asarray(raw.lines, dtype=np.int64)
+    # copy=False keeps one block per column: no consolidation copy of the numbers
     frame = pd.DataFrame(
         {
-            k: text_series(v) if isinstance(v, pa.Array | pa.ChunkedArray) else pd.Series(v)
+            k: text_series(v).array if isinstance(v, pa.Array | pa.ChunkedArray) else v
             for k, v in data.items()
-        }
+        },
+        copy=False,
     )
     if kind == "records":
         _record_rules(frame, raw, out)
@@ -574,8 +576,9 @@ def _finish(parts: dict[str, list[pd.DataFrame]], out: _Collector, **kw) -> Tabl
         else:
             frames[kind] = _empty(kind)
     rec = frames["records"]
-    if len(rec):
-        dup = rec["id"].duplicated(keep=False).to_numpy() & ~pd.isna(rec["id"].to_numpy())
+    ids = pa.array(rec["id"]) if len(rec) else None
+    if len(rec) and len(pc.unique(ids)) < len(rec):  # the common case is decided at once
+        dup = rec["id"].duplicated(keep=False).to_numpy() & rec["id"].notna().to_numpy()
         rows = np.flatnonzero(dup)
         firsts = rec.loc[dup].groupby("id")["line"].transform("min")
         files = rec.loc[dup].groupby("id")["file"].transform("first")

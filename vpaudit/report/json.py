@@ -13,13 +13,16 @@ def _default(value):
     raise TypeError(f"not JSON serialisable: {type(value).__name__}")
 
 
+_ENCODER = json.JSONEncoder(default=_default, allow_nan=False)
+
+
 def render(result) -> str:
-    """Render an :class:`~vpaudit.audit.AuditResult` as one JSON object."""
-    # No indent: the C encoder is used only without one (10x faster on large audits);
-    # one finding per line keeps it readable and diff-friendly.
+    """Render an :class:`~vpaudit.audit.AuditResult` as one JSON object.
+
+    One finding per line: readable, diff-friendly, and written by the C encoder (which
+    Python's json uses only without ``indent``).
+    """
     data = result.to_dict()
-    findings = ",\n".join(
-        json.dumps(f, default=_default, allow_nan=False) for f in data["findings"]
-    )
-    summary = json.dumps(data["summary"])
+    findings = ",\n".join(map(_ENCODER.encode, data["findings"]))
+    summary = _ENCODER.encode(data["summary"])
     return f'{{"summary": {summary},\n"findings": [\n{findings}\n]}}\n'

@@ -134,7 +134,9 @@ def child_baseline(folder: str, out: str) -> None:
                     continue
                 mid = 0.5 * (x[change] + x[change + 1])
                 j = change[np.argmin(np.abs(mid - 1.0 / m))]
-                root = brentq(lambda xx: y(s, 1 / xx) - y(liq, 1 / xx), x[j], x[j + 1])
+                root = brentq(
+                    lambda xx, s=s, liq=liq: y(s, 1 / xx) - y(liq, 1 / xx), x[j], x[j + 1]
+                )
                 t = 1.0 / root
                 if not dy(s, t) - dy(liq, t) > 0:
                     flagged["crossing-orientation"].add(name)

@@ -140,9 +140,15 @@ def test_fast_column_path_rejects_what_the_cast_alone_would_accept():
     assert values[0] == 1.5 and values[8] == 0.0 and np.isnan(values[1:8]).all()
 
 
-@given(st.lists(st.one_of(st.floats(allow_nan=False, allow_infinity=False).map(repr),
-                          st.sampled_from(["", "inf", "nan", "1e400", "+.5", "1."])),
-                max_size=20))
+@given(
+    st.lists(
+        st.one_of(
+            st.floats(allow_nan=False, allow_infinity=False).map(repr),
+            st.sampled_from(["", "inf", "nan", "1e400", "+.5", "1."]),
+        ),
+        max_size=20,
+    )
+)
 def test_column_path_equals_scalar_path_cell_by_cell(cells):
     values, missing, invalid = parse_number_column(cells)
     for cell, v, m, bad in zip(cells, values, missing, invalid, strict=True):

@@ -5,13 +5,13 @@ from __future__ import annotations
 from pathlib import Path
 
 from .readers.table import Table, load_table
-from .store import connect, is_store, read_table
 
 __all__ = ["open_table"]
 
 
 def open_table(path: str | Path, normalize: bool = False) -> Table:
-    """Open a table directory, a single table file, or a ``.duckdb`` store.
+    """Open a table directory, a single table file, or a ``.duckdb`` store (verified against
+    its manifest, see :func:`vpaudit.store.verify`).
 
     Parameters
     ----------
@@ -20,10 +20,8 @@ def open_table(path: str | Path, normalize: bool = False) -> Table:
     normalize : bool
         Opt in to rewriting PDF look-alikes in numbers (text files only).
     """
-    if is_store(path):
-        con = connect(path, read_only=True)
-        try:
-            return read_table(con, str(path))
-        finally:
-            con.close()
+    if str(path).endswith((".duckdb", ".db")):
+        from .store import verify
+
+        return verify(path)
     return load_table(path, normalize=normalize)

@@ -90,15 +90,16 @@ def audit_cmd(table, fmt, output, fail_on, policy, only, substance, db, normaliz
         table_path=str(table),
     )
     if db:
-        from .store import checkpoint, connect, write_run, write_table
+        from .store import store_table
 
-        con = connect(db)
-        try:
-            write_table(con, t, str(table))
-            write_run(con, result, str(table))
-            checkpoint(con)
-        finally:
-            con.close()
+        if len(t.problems):
+            click.echo(
+                f"not stored in {db}: the table breaks rules of the format (see the "
+                "findings); 'vpaudit import' stores only clean tables",
+                err=True,
+            )
+        else:
+            store_table(t, db, str(table), result)
     _emit(RENDERERS[fmt](result), output)
     sys.exit(EXIT_FINDINGS if result.fails(fail_on) else EXIT_OK)
 
@@ -234,6 +235,45 @@ def export_cmd(db, to):
         f"exported {counts['records']} records, {counts['references']} references and "
         f"{counts['points']} points to {to}"
     )
+
+
+# --- query ---------------------------------------------------------------------------------
+
+
+@main.command("query")
+@click.argument("table", type=click.Path(exists=True))
+@click.argument("sql")
+@click.option(
+    "--format",
+    "fmt",
+    type=click.Choice(["table", "csv", "json"]),
+    default="table",
+    show_default=True,
+)
+@click.option(
+    "--timeout",
+    type=float,
+    default=10.0,
+    show_default=True,
+    help="Seconds before the query is stopped.",
+)
+def query_cmd(table, sql, fmt, timeout):
+    """Run one read-only SELECT over the tables records, references, points, problems.
+
+    The query cannot read or write files (DuckDB's external access is off and its
+    configuration locked) and is stopped after --timeout seconds.
+    """
+    from .api import open_table
+    from .store import query
+
+    source = table if str(table).endswith((".duckdb", ".db")) else open_table(table)
+    frame = query(source, sql, timeout)
+    if fmt == "csv":
+        click.echo(frame.to_csv(index=False), nl=False)
+    elif fmt == "json":
+        click.echo(frame.to_json(orient="records", indent=1))
+    else:
+        click.echo(frame.to_string(index=False) if len(frame) else "(no rows)")
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -7,11 +7,25 @@ An in-memory database is used when a command is given a table directory.
 Every import is one transaction: the whole table is parsed and validated first, then written
 at once; on any error nothing changes. After a write the database is checkpointed, so no
 ``.wal`` file is left beside it.
+
+Guarantees checked on every open (:func:`verify`):
+
+* a content manifest -- row counts and a SHA-256 digest per kind over every text cell (the
+  verbatim number text included), file and line -- is stored inside the database, in the
+  import's own transaction, and written beside it as ``<db>.manifest.json``; a database whose
+  content, inner manifest and outer manifest do not all agree is refused;
+* a stray ``<db>.wal`` (a store not closed cleanly, or copied without its log) is refused;
+* writers take an advisory lock ``<db>.lock`` with a bounded wait and a message naming the
+  holder; DuckDB's own lock conflict is reported in plain words.
 """
 
 from __future__ import annotations
 
+import hashlib
 import json
+import os
+import sys
+import time
 from pathlib import Path
 
 import duckdb
@@ -167,6 +181,10 @@ def write_table(con: duckdb.DuckDBPyConnection, table: Table, source: str | None
                 finally:
                     con.unregister("_incoming")
         con.execute("INSERT OR REPLACE INTO meta VALUES ('source', ?)", [source or ""])
+        con.execute(
+            "INSERT OR REPLACE INTO meta VALUES ('manifest', ?)",
+            [json.dumps(manifest(table), sort_keys=True)],
+        )
         con.execute("COMMIT")
     except BaseException:
         con.execute("ROLLBACK")
@@ -186,7 +204,7 @@ def read_table(con: duckdb.DuckDBPyConnection, path: str | None = None) -> Table
     """Read the table held by the store back into column-wise frames."""
     frames = {}
     for name in ("records", "references", "points", "problems"):
-        frame = _df(con, f'SELECT * FROM "{name}"')
+        frame = _df(con, f'SELECT * FROM "{name}" ORDER BY "file", "line"')
         for col in frame.columns:
             if frame[col].dtype == object or str(frame[col].dtype).startswith("str"):
                 frame[col] = frame[col].astype(object).where(frame[col].notna(), None)
@@ -263,8 +281,181 @@ def read_findings(con: duckdb.DuckDBPyConnection, run_id: int | None = None) -> 
     return con.execute('SELECT * FROM "findings" WHERE run_id = ?', [run_id]).df()
 
 
+def _hash_columns(kind: str) -> list[str]:
+    from .readers.table import _SPECS
+
+    cols = []
+    for c in _SPECS[kind]:
+        cols.append(c.name + "_text" if c.kind == "number" else c.name)
+    return cols + ["file", "line"]
+
+
+def digest(frame: pd.DataFrame, kind: str) -> str:
+    """SHA-256 over every text cell of a table frame (numbers as their verbatim text), its
+    file and line, in file-and-line order: the same for the text files and the store.
+    """
+    cols = _hash_columns(kind)
+    if not len(frame):
+        return hashlib.sha256(b"").hexdigest()
+    order = np.lexsort((frame["line"].to_numpy(), frame["file"].astype(str).to_numpy()))
+    h = hashlib.sha256()
+    for c in cols:
+        col = frame[c] if c in frame else pd.Series([None] * len(frame))
+        values = col.astype(object).to_numpy()[order]
+        text = np.where(pd.isna(values), "\x00", values.astype(str)).astype(object)
+        h.update(c.encode())
+        h.update(pd.util.hash_array(text).tobytes())
+    return h.hexdigest()
+
+
+def manifest(table: Table) -> dict:
+    """Row counts and content digests of the three kinds of a table."""
+    return {
+        "schema_version": SCHEMA_VERSION,
+        **{
+            kind: {
+                "rows": int(len(getattr(table, kind))),
+                "sha256": digest(getattr(table, kind), kind),
+            }
+            for kind in ("records", "references", "points")
+        },
+    }
+
+
+def _side(db: Path, suffix: str) -> Path:
+    return db.with_name(db.name + suffix)
+
+
+def verify(db: str | Path, table: Table | None = None) -> Table:
+    """Open a store for reading and prove it is what was imported.
+
+    Raises
+    ------
+    StoreError
+        On a stray ``.wal``, a missing or unreadable manifest, or content that does not match
+        the manifests; the message says how to rebuild the store.
+    """
+    db = Path(db)
+    rebuild = f"rebuild it from the table files with: vpaudit import TABLE --db {db}"
+    if not db.is_file():
+        raise StoreError(f"{db}: no such store")
+    if _side(db, ".wal").exists():
+        raise StoreError(
+            f"{db} has a stray {db.name}.wal: it was not closed cleanly, or "
+            f"was copied without its log, so its content is uncertain; {rebuild}"
+        )
+    side = _side(db, ".manifest.json")
+    try:
+        outer = json.loads(side.read_text(encoding="utf-8"))
+    except FileNotFoundError:
+        raise StoreError(f"{db} has no manifest ({side.name}) beside it; {rebuild}") from None
+    except (OSError, ValueError) as exc:
+        raise StoreError(f"{side} cannot be read ({exc}); {rebuild}") from None
+    con = connect(db, read_only=True)
+    try:
+        row = con.execute("SELECT value FROM meta WHERE key = 'manifest'").fetchone()
+        table = read_table(con, str(db))
+    finally:
+        con.close()
+    inner = json.loads(row[0]) if row else None
+    actual = manifest(table)
+    if inner != outer:
+        raise StoreError(
+            f"{db}: the manifest beside it does not match the one inside it (an "
+            f"import was interrupted, or the files were mixed up); {rebuild}"
+        )
+    if actual != inner:
+        bad = [k for k in ("records", "references", "points") if actual[k] != inner.get(k)]
+        raise StoreError(
+            f"{db}: the {', '.join(bad)} in the store differ from its manifest "
+            f"(it was changed outside vpaudit); {rebuild}"
+        )
+    return table
+
+
+class WriterLock:
+    """An advisory lock ``<db>.lock`` held while a vpaudit process writes the store.
+
+    Parameters
+    ----------
+    db : Path
+        The store.
+    timeout : float
+        Seconds to wait for another writer before giving up with a message naming it.
+    """
+
+    def __init__(self, db: str | Path, timeout: float = 30.0) -> None:
+        self.path = _side(Path(db), ".lock")
+        self.timeout = timeout
+        self._fh = None
+
+    def __enter__(self) -> WriterLock:
+        import fcntl
+
+        self._fh = open(self.path, "a+", encoding="utf-8")
+        deadline = time.monotonic() + self.timeout
+        while True:
+            try:
+                fcntl.flock(self._fh, fcntl.LOCK_EX | fcntl.LOCK_NB)
+                break
+            except BlockingIOError:
+                if time.monotonic() >= deadline:
+                    self._fh.seek(0)
+                    holder = self._fh.read().strip() or "another process"
+                    self._fh.close()
+                    raise StoreError(
+                        f"{self.path.with_suffix('')} is being written by {holder}; "
+                        f"waited {self.timeout:g} s, try again when it is done"
+                    ) from None
+                time.sleep(0.05)
+        self._fh.seek(0)
+        self._fh.truncate()
+        self._fh.write(
+            f"PID {os.getpid()} ({' '.join(sys.argv[:2]) or 'python'}) since "
+            f"{time.strftime('%Y-%m-%d %H:%M:%S')}"
+        )
+        self._fh.flush()
+        return self
+
+    def __exit__(self, *exc) -> None:
+        import fcntl
+
+        if self._fh is not None:
+            self._fh.seek(0)
+            self._fh.truncate()
+            fcntl.flock(self._fh, fcntl.LOCK_UN)
+            self._fh.close()
+
+
+def store_table(
+    table: Table, db: str | Path, source: str, result=None, lock_timeout: float = 30.0
+) -> None:
+    """Write a validated table (and optionally an audit run) into ``db``, all or nothing:
+    one transaction, a checkpoint so no ``.wal`` is left, then the manifest beside it
+    (written to a temporary file and renamed, so it is never half-written).
+    """
+    db = Path(db)
+    with WriterLock(db, lock_timeout):
+        con = connect(db)
+        try:
+            write_table(con, table, source)
+            if result is not None:
+                write_run(con, result, source)
+            checkpoint(con)
+        finally:
+            con.close()
+        side = _side(db, ".manifest.json")
+        tmp = _side(db, ".manifest.json.tmp")
+        tmp.write_text(json.dumps(manifest(table), sort_keys=True, indent=1), encoding="utf-8")
+        os.replace(tmp, side)
+
+
 def import_table(
-    path: str | Path, db: str | Path, normalize: bool = False, report=None
+    path: str | Path,
+    db: str | Path,
+    normalize: bool = False,
+    report=None,
+    lock_timeout: float = 30.0,
 ) -> dict[str, int]:
     """Read, validate and load a table into the store ``db``, all or nothing.
 
@@ -277,6 +468,8 @@ def import_table(
         Input that cannot be read as written.
     RecordRuleError
         Records that read fine but break a rule (range, source, duplicate id, pole).
+    StoreError
+        The store is locked by another writer beyond the wait, or cannot be written.
     """
     from .errors import RecordRuleError
     from .readers.table import load_table
@@ -289,14 +482,80 @@ def import_table(
         raise RecordRuleError(
             f"{p.file}:{p.line} [{p.column}] {p.message}" for p in table.problems.itertuples()
         )
-    con = connect(db)
-    try:
-        write_table(con, table, str(path))
-        checkpoint(con)
-    finally:
-        con.close()
+    store_table(table, db, str(path), lock_timeout=lock_timeout)
     return {
         "records": len(table.records),
         "references": len(table.references),
         "points": len(table.points),
     }
+
+
+# The lock-down of query connections; lock_configuration last, so nothing can undo it.
+_LOCKED = {
+    "enable_progress_bar": False,
+    "enable_external_access": False,
+    "autoload_known_extensions": False,
+    "autoinstall_known_extensions": False,
+    "lock_configuration": True,
+}
+
+
+def query(table: Table | str | Path, sql: str, timeout: float = 10.0) -> pd.DataFrame:
+    """Run one read-only SELECT over a table's records, references, points and problems.
+
+    The connection cannot read or write files outside the database (DuckDB's external access
+    off, extensions off, configuration locked) and the query is interrupted after
+    ``timeout`` seconds. Anything but a single SELECT is refused.
+
+    Parameters
+    ----------
+    table : Table, or path of a ``.duckdb`` store
+    sql : str
+    timeout : float
+        Seconds before the query is interrupted.
+    """
+    import threading
+
+    from .errors import VpauditError
+
+    try:
+        statements = duckdb.extract_statements(sql)
+    except duckdb.Error as exc:
+        raise VpauditError(f"the query does not parse: {str(exc).splitlines()[0]}") from None
+    if len(statements) != 1 or statements[0].type != duckdb.StatementType.SELECT:
+        kinds = ", ".join(str(st.type).split(".")[-1] for st in statements) or "nothing"
+        raise VpauditError(f"only a single SELECT statement is run (got: {kinds})")
+    if isinstance(table, str | Path):
+        verify(table)
+        con = duckdb.connect(
+            str(table),
+            read_only=True,
+            config={
+                k: v
+                for k, v in _LOCKED.items()
+                if k not in ("enable_progress_bar", "lock_configuration")
+            },
+        )
+        con.execute("SET enable_progress_bar = false")
+        con.execute("SET lock_configuration = true")
+    else:
+        con = duckdb.connect(":memory:")
+        for name in ("records", "references", "points", "problems"):
+            con.register(f"_{name}", getattr(table, name))
+            con.execute(f'CREATE TABLE "{name}" AS SELECT * FROM "_{name}"')
+            con.unregister(f"_{name}")
+        for key, value in _LOCKED.items():
+            con.execute(f"SET {key} = {str(value).lower()}")
+    timer = threading.Timer(timeout, con.interrupt)
+    timer.start()
+    try:
+        return con.execute(sql).df()
+    except duckdb.InterruptException:
+        raise VpauditError(f"the query ran longer than {timeout:g} s and was stopped") from None
+    except duckdb.PermissionException as exc:
+        raise VpauditError(f"refused: {str(exc).splitlines()[0]}") from None
+    except duckdb.Error as exc:
+        raise VpauditError(f"the query failed: {str(exc).splitlines()[0]}") from None
+    finally:
+        timer.cancel()
+        con.close()

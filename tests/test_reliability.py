@@ -1,0 +1,200 @@
+"""Nothing lost, nothing misread, nothing let in: store guarantees under crashes and abuse."""
+
+import json
+import os
+import random
+import shutil
+import signal
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import duckdb
+import pytest
+
+from vpaudit.errors import StoreError, VpauditError
+from vpaudit.readers import load_table
+from vpaudit.store import import_table, manifest, query, read_table, verify
+
+HERE = Path(__file__).resolve().parent
+sys.path.insert(0, str(HERE.parent / "benchmarks"))
+
+
+def _synthetic(folder: Path, n: int) -> Path:
+    from synth import generate
+
+    generate(folder, n, defect_rate=0.0, seed=7)
+    return folder
+
+
+def _content(db: Path) -> dict:
+    """The manifest of what the database holds, opened the plain DuckDB way (which replays
+    a WAL left by a crash), independent of vpaudit's checks."""
+    con = duckdb.connect(str(db))
+    try:
+        con.execute("CHECKPOINT")
+        return manifest(read_table(con))
+    finally:
+        con.close()
+
+
+def test_store_is_verified_on_open(tmp_path, clean_sample):
+    db = tmp_path / "s.duckdb"
+    import_table(clean_sample, db)
+    assert not (tmp_path / "s.duckdb.wal").exists()
+    table = verify(db)
+    assert manifest(table) == json.loads((tmp_path / "s.duckdb.manifest.json").read_text())
+    # changed outside vpaudit: refused
+    con = duckdb.connect(str(db))
+    con.execute("UPDATE records SET \"A_text\" = '99' WHERE id = 'ardenite-s1'")
+    con.close()
+    with pytest.raises(StoreError, match="differ from its manifest"):
+        verify(db)
+
+
+def test_stray_wal_and_missing_manifest_are_reported(tmp_path, clean_sample):
+    db = tmp_path / "s.duckdb"
+    import_table(clean_sample, db)
+    copy = tmp_path / "copy.duckdb"
+    shutil.copy(db, copy)
+    with pytest.raises(StoreError, match="no manifest"):
+        verify(copy)
+    (tmp_path / "s.duckdb.wal").write_bytes(b"\0" * 16)
+    with pytest.raises(StoreError, match="stray s.duckdb.wal"):
+        verify(db)
+
+
+CHILD = "import sys; from vpaudit.store import import_table; import_table(sys.argv[1], sys.argv[2])"
+
+
+def _spawn(table: Path, db: Path) -> subprocess.Popen:
+    return subprocess.Popen(
+        [sys.executable, "-c", CHILD, str(table), str(db)],
+        stdout=subprocess.DEVNULL,
+        stderr=subprocess.PIPE,
+        text=True,
+    )
+
+
+def _done(child: subprocess.Popen) -> tuple[int, str]:
+    _, err = child.communicate(timeout=120)
+    return child.returncode, err
+
+
+def test_sigkill_at_random_moments_leaves_old_or_new_state(tmp_path, clean_sample):
+    # ~20 trials: a child imports a 10^4-substance table over an existing store and is
+    # SIGKILLed at a random moment (before, during and after the commit, during the
+    # checkpoint, while writing the manifest). After each kill the store holds exactly the
+    # old or the new table, and verify() accepts it only when its manifest agrees.
+    new = _synthetic(tmp_path / "new", 10_000)
+    old_m = manifest(load_table(clean_sample))
+    new_m = manifest(load_table(new))
+    db = tmp_path / "s.duckdb"
+    t0 = time.perf_counter()
+    import_table(new, db)
+    full = time.perf_counter() - t0 + 0.5  # the child also starts Python
+    rng = random.Random(2026)
+    outcomes = {"old": 0, "new": 0}
+    for _ in range(20):
+        for p in tmp_path.glob("s.duckdb*"):
+            p.unlink()
+        import_table(clean_sample, db)
+        child = _spawn(new, db)
+        time.sleep(rng.uniform(0.0, full * 1.2))
+        child.send_signal(signal.SIGKILL)
+        _done(child)
+        state = _content(db)
+        assert state in (old_m, new_m)
+        outcomes["old" if state == old_m else "new"] += 1
+        for p in tmp_path.glob("s.duckdb.wal"):
+            p.unlink()  # _content checkpointed it into the file
+        side = json.loads((tmp_path / "s.duckdb.manifest.json").read_text())
+        try:
+            verify(db)
+            ok = True
+        except StoreError:
+            ok = False
+        assert ok == (side == state)
+    print(f"crash trials: {outcomes}")
+    assert sum(outcomes.values()) == 20
+
+
+def test_two_writers_one_waits_and_nothing_is_lost(tmp_path, clean_sample):
+    big = _synthetic(tmp_path / "big", 20_000)
+    db = tmp_path / "s.duckdb"
+    first = _spawn(big, db)
+    time.sleep(1.0)  # the first writer holds the lock while it imports
+    second = _spawn(clean_sample, db)
+    (rc1, err1), (rc2, err2) = _done(first), _done(second)
+    assert rc1 == 0 and rc2 == 0, err1 + err2
+    assert verify(db) is not None and _content(db) == manifest(load_table(clean_sample))
+
+
+def test_a_writer_that_cannot_wait_fails_cleanly_naming_the_holder(tmp_path, clean_sample):
+    from vpaudit.store import WriterLock
+
+    db = tmp_path / "s.duckdb"
+    import_table(clean_sample, db)
+    before = _content(db)
+    holder = subprocess.Popen(
+        [
+            sys.executable,
+            "-c",
+            (
+                "import sys, time; from vpaudit.store import WriterLock\n"
+                f"with WriterLock({str(db)!r}):\n    print('held', flush=True); time.sleep(30)"
+            ),
+        ],
+        stdout=subprocess.PIPE,
+        text=True,
+    )
+    assert holder.stdout.readline().strip() == "held"
+    try:
+        with pytest.raises(StoreError, match=r"is being written by PID \d+"):
+            with WriterLock(db, timeout=0.3):
+                pass
+        with pytest.raises(StoreError, match="being written"):
+            import_table(clean_sample, db, lock_timeout=0.3)
+    finally:
+        holder.kill()
+        holder.communicate()
+    assert _content(db) == before
+
+
+@pytest.mark.parametrize(
+    "sql, fragment",
+    [
+        ("select * from read_csv('/etc/passwd')", "refused"),
+        ("select * from read_text('/proc/self/environ')", "refused"),
+        ("select * from read_parquet('x.parquet')", "refused"),
+        ("copy records to 'out.csv'", "only a single SELECT"),
+        ("attach 'other.duckdb' as o", "only a single SELECT"),
+        ("install httpfs", "only a single SELECT"),
+        ("set enable_external_access = true", "only a single SELECT"),
+        ("select 1; drop table records", "only a single SELECT"),
+        ("pragma version", "only a single SELECT"),
+    ],
+)
+def test_queries_cannot_reach_outside_the_database(sql, fragment, tmp_path, clean_sample):
+    db = tmp_path / "s.duckdb"
+    import_table(clean_sample, db)
+    cwd = os.getcwd()
+    os.chdir(tmp_path)
+    try:
+        for source in (load_table(clean_sample), db):
+            with pytest.raises(VpauditError, match=fragment):
+                query(source, sql)
+        assert not (tmp_path / "out.csv").exists()
+    finally:
+        os.chdir(cwd)
+
+
+def test_queries_answer_and_are_stopped_after_the_time_limit(clean_sample):
+    t = load_table(clean_sample)
+    frame = query(t, "select count(*) as n from records")
+    assert int(frame["n"].iat[0]) == len(t.records)
+    t0 = time.perf_counter()
+    with pytest.raises(VpauditError, match="longer than 0.5 s"):
+        query(t, "select count(*) from range(1000000000000)", timeout=0.5)
+    assert time.perf_counter() - t0 < 10

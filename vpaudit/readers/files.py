@@ -158,6 +158,8 @@ def _csv_bulk(data: bytes, start: int, body_at: int, delimiter: str, columns: li
     import pyarrow as pa
     import pyarrow.csv as pcsv
 
+    if b'"' in data and data.count(b'"') % 2:
+        return None  # an unclosed quote: the exact path locates it
     if b"\r" in data and data.count(b"\r") != data.count(b"\r\n"):
         return None  # bare CR line ends: the exact path counts those lines
     body = memoryview(data)[body_at:]
@@ -251,7 +253,12 @@ def _read_csv_exact(
             if len(rows) > MAX_ROWS:
                 raise _err(path, f"more than {MAX_ROWS} rows in one file")
     except csv.Error as exc:
-        raise _err(path, f"malformed CSV: {exc}", start + reader.line_num) from None
+        hint = (
+            " (a double quote opened in this row is never closed)"
+            if "end of data" in str(exc)
+            else ""
+        )
+        raise _err(path, f"malformed CSV: {exc}{hint}", start + previous + 1) from None
     cells: dict[str, object] = {}
     for j, name in enumerate(columns):
         cells[name] = [r[j] if r[j] != "" else None for r in rows]

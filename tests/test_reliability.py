@@ -198,3 +198,49 @@ def test_queries_answer_and_are_stopped_after_the_time_limit(clean_sample):
     with pytest.raises(VpauditError, match="longer than 0.5 s"):
         query(t, "select count(*) from range(1000000000000)", timeout=0.5)
     assert time.perf_counter() - t0 < 10
+
+
+def test_a_reader_meeting_duckdbs_lock_gets_a_plain_message(tmp_path, clean_sample):
+    db = tmp_path / "s.duckdb"
+    import_table(clean_sample, db)
+    holder = subprocess.Popen([sys.executable, "-c", (
+        "import duckdb, sys, time\n"
+        f"con = duckdb.connect({str(db)!r})\nprint('open', flush=True)\ntime.sleep(30)")],
+        stdout=subprocess.PIPE, text=True)
+    assert holder.stdout.readline().strip() == "open"
+    try:
+        with pytest.raises(StoreError, match="in use by another process"):
+            verify(db)
+    finally:
+        holder.kill()
+        holder.communicate()
+
+
+def test_a_hostile_table_is_audited_cleanly():
+    # 10^4 substances with one record each, coefficients near the largest double, empty and
+    # zero-width ranges, a pole at the range end: every row is reported, no check crashes.
+    from refdata import table_from_rows
+
+    from vpaudit.audit import audit_table
+
+    rows = []
+    for i in range(10_000):
+        kind = i % 4
+        base = {"id": f"h{i}", "substance": f"h{i}", "phase": "liquid", "log_base": "e",
+                "pressure_unit": "Pa", "source": "hostile"}
+        if kind == 0:
+            rows.append({**base, "form": "three-term", "A": 1e300, "B": -1e300, "C": 1e300,
+                         "t_min": 300.0, "t_max": 600.0})
+        elif kind == 1:
+            rows.append({**base, "form": "two-term", "A": 25.0, "B": -1e4, "t_min": 500.0,
+                         "t_max": 500.0})
+        elif kind == 2:
+            rows.append({**base, "form": "antoine", "A": 9.0, "B": 1500.0, "C": -300.0,
+                         "t_min": 300.0, "t_max": 600.0})
+        else:
+            rows.append({**base, "form": "power-term", "A": 30.0, "B": -1e4, "C": -1.0,
+                         "D": 1e-300, "E": 300.0, "t_min": 1e-300, "t_max": 1e300})
+    result = audit_table(table_from_rows(rows))
+    assert not [f for f in result.findings if f.check == "internal-error"]
+    flagged = {f.records[0] for f in result.findings if f.records}
+    assert len(flagged) == 10_000  # every hostile row is reported

@@ -18,7 +18,7 @@ EXIT_OK = 0
 EXIT_FINDINGS = 1
 EXIT_USAGE = 2
 
-FORMATS = ("text", "json", "markdown", "csv")
+FORMATS = ("text", "json", "markdown", "csv", "sarif")
 
 
 class _Group(click.Group):
@@ -235,6 +235,57 @@ def export_cmd(db, to):
         f"exported {counts['records']} records, {counts['references']} references and "
         f"{counts['points']} points to {to}"
     )
+
+
+# --- gate / accept ---------------------------------------------------------------------------
+
+
+@main.command("gate")
+@click.argument("table", type=click.Path(exists=True))
+@click.option("--base", required=True, help="The git revision to compare with (e.g. origin/main).")
+@click.option("--format", "fmt", type=click.Choice(FORMATS), default="text", show_default=True)
+@click.option("--output", "-o", type=click.Path(dir_okay=False), help="Write the report here.")
+@click.option(
+    "--fail-on",
+    type=click.Choice(["error", "warning", "never"]),
+    default="error",
+    show_default=True,
+    help="Exit 1 when a NEW finding is at or above this severity.",
+)
+@click.option("--policy", help="A preset (evaluated, compilation) or a policy TOML file.")
+def gate_cmd(table, base, fmt, output, fail_on, policy):
+    """Report what a change to TABLE introduces since the git revision --base.
+
+    Findings that already existed at --base, or that are accepted in the table's
+    accepted.toml, do not fail the gate. Nothing is fetched: in a shallow CI checkout,
+    fetch the base revision first.
+    """
+    from .gate import gate
+    from .report import RENDERERS
+
+    result = gate(table, base, policy)
+    _emit(RENDERERS[fmt](result), output)
+    sys.exit(EXIT_FINDINGS if result.fails(fail_on) else EXIT_OK)
+
+
+@main.command("accept")
+@click.argument("finding")
+@click.option(
+    "--table",
+    type=click.Path(exists=True, file_okay=False),
+    default=".",
+    show_default=True,
+    help="The table directory holding accepted.toml.",
+)
+@click.option("--reason", required=True, help="Why the finding is accepted.")
+@click.option("--until", help="Expiry date, e.g. 2027-06-30.")
+@click.option("--by", help="Who accepts it (default: git user.name).")
+def accept_cmd(finding, table, reason, until, by):
+    """Accept FINDING (CHECK:RECORD[,RECORD]) in the table's accepted.toml."""
+    from .gate import accept
+
+    path = accept(table, finding, reason, until, by)
+    click.echo(f"accepted {finding} in {path}")
 
 
 # --- query ---------------------------------------------------------------------------------

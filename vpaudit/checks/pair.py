@@ -418,28 +418,30 @@ def fusion_entropy_implausible(ctx: AuditContext):
     (Threshold("max_gap", 0.03, "-", "largest gap to the melting point, relative to it"),),
 )
 def range_gap(ctx: AuditContext):
-    """Temperatures between the end of the solid range and the start of the liquid range
-    (around the reference melting point, else the crossing) are covered by no record.
+    """Temperatures between the end of the solid range and the start of the liquid range are
+    covered by no record: the gap t_min(liquid) - t_max(solid), relative to the melting point
+    (reference, else the crossing), against the limit. Ranges that meet or overlap leave no
+    gap, wherever the reference melting point lies (that is melting-point-mismatch's test).
     """
     pr = ctx.pairs
     lim = ctx.thresholds("range-gap")["max_gap"]
     at = np.where(np.isfinite(pr["tm"]), pr["tm"], pr["T"])
+    lo, hi = ctx.curves.t_max[pr["s"]], ctx.curves.t_min[pr["l"]]
     with np.errstate(invalid="ignore"):
-        gap_s = (at - ctx.curves.t_max[pr["s"]]) / at
-        gap_l = (ctx.curves.t_min[pr["l"]] - at) / at
-        bad = pr["checkable"] & np.isfinite(at) & ((gap_s > lim) | (gap_l > lim))
+        gap = (hi - lo) / at
+        bad = pr["checkable"] & np.isfinite(at) & (gap > lim)
     for k in np.flatnonzero(bad):
         yield ctx.pair_finding(
             "range-gap",
             k,
-            f"no record covers {kelvin(min(ctx.curves.t_max[pr['s'][k]], at[k]))}.."
-            f"{kelvin(max(ctx.curves.t_min[pr['l'][k]], at[k]))} around the melting point "
-            f"{kelvin(at[k])} (solid ends {gap_s[k] * 100:.1f} % below, liquid starts "
-            f"{gap_l[k] * 100:.1f} % above; limit {lim * 100:g} %).",
+            f"no record covers {kelvin(lo[k])}..{kelvin(hi[k])}: the solid's range ends "
+            f"{hi[k] - lo[k]:.4g} K ({gap[k] * 100:.1f} % of the melting point "
+            f"{kelvin(at[k])}) before the liquid's starts (limit {lim * 100:g} %).",
             {
                 "melting_point_K": at[k],
-                "solid_gap_fraction": gap_s[k],
-                "liquid_gap_fraction": gap_l[k],
+                "solid_t_max_K": lo[k],
+                "liquid_t_min_K": hi[k],
+                "gap_fraction": gap[k],
                 "limit": lim,
             },
         )

@@ -5,6 +5,7 @@
 from . import csv as _csv
 from . import json as _json
 from . import markdown as _markdown
+from . import sarif as _sarif
 from . import text as _text
 
 RENDERERS = {
@@ -12,6 +13,7 @@ RENDERERS = {
     "json": _json.render,
     "markdown": _markdown.render,
     "csv": _csv.render,
+    "sarif": _sarif.render,
 }
 
 __all__ = ["RENDERERS"]

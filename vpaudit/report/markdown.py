@@ -19,8 +19,18 @@ def render(result) -> str:
         "pairs audited.",
         "",
     ]
-    serious = [f for f in result.findings if f.severity.value != "note"]
-    notes = [f for f in result.findings if f.severity.value == "note"]
+    status_of = getattr(result, "status_of", None)
+    if status_of is not None:
+        new = [f for f in result.findings if status_of(f) == "new"]
+        rest = [f for f in result.findings if status_of(f) != "new"]
+        out[0] = (
+            f"## vpaudit gate: {len(new)} new finding(s) since `{result.base}` "
+            f"({sum(f.severity.value == 'error' for f in new)} error(s))"
+        )
+        serious, notes = new, rest
+    else:
+        serious = [f for f in result.findings if f.severity.value != "note"]
+        notes = [f for f in result.findings if f.severity.value == "note"]
     if serious:
         out += ["| severity | check | substance | records | finding |", "|---|---|---|---|---|"]
         for f in serious:
@@ -30,11 +40,13 @@ def render(result) -> str:
             )
         out.append("")
     if notes:
-        out += [f"<details><summary>{len(notes)} note(s)</summary>", ""]
+        label = "already there or accepted" if status_of else "note(s)"
+        out += [f"<details><summary>{len(notes)} {label}</summary>", ""]
         for f in notes:
+            tag = f" [{status_of(f)}]" if status_of else ""
             out.append(
-                f"- `{f.check}` {_cell(f.substance)} ({_cell(', '.join(f.records))}): "
-                f"{_cell(f.message)}"
+                f"- `{f.check}`{tag} {_cell(f.substance)} "
+                f"({_cell(', '.join(f.records))}): {_cell(f.message)}"
             )
         out += ["", "</details>", ""]
     out.append(f"> {CAUTION}")

@@ -22,12 +22,21 @@ def _counts(findings) -> str:
 def render(result, width: int = 100) -> str:
     """Render an :class:`~vpaudit.audit.AuditResult` for a terminal."""
     s = result.summary
-    lines = [
-        f"vpaudit audit of {result.table_path or 'table'}: {s['records']} records, "
-        f"{s['substances']} substances, {s['pairs']} solid/liquid pairs "
-        f"(policy: {result.policy_description.get('label', 'preset evaluated')})",
-        "",
-    ]
+    policy = result.policy_description.get("label", "preset evaluated")
+    if hasattr(result, "status_of"):
+        lines = [
+            f"vpaudit gate of {result.table_path or 'table'} against {result.base}: "
+            f"{result.affected} substance(s) changed; re-audited their {s['records']} "
+            f"records and {s['pairs']} solid/liquid pairs (policy: {policy})",
+            "",
+        ]
+    else:
+        lines = [
+            f"vpaudit audit of {result.table_path or 'table'}: {s['records']} records, "
+            f"{s['substances']} substances, {s['pairs']} solid/liquid pairs "
+            f"(policy: {policy})",
+            "",
+        ]
     groups = defaultdict(list)
     for f in result.findings:
         groups[f.substance].append(f)
@@ -37,16 +46,47 @@ def render(result, width: int = 100) -> str:
         return (-max(f.severity.rank for f in fs), -len(fs), name)
 
     wrap = textwrap.TextWrapper(width=width, initial_indent=" " * 6, subsequent_indent=" " * 6)
-    for name in sorted(groups, key=rank):
-        fs = groups[name]
-        lines.append(f"{name or '(table)'} -- {_counts(fs)}")
-        for f in fs:
-            where = f" ({f.file}:{f.line})" if f.file else ""
-            lines.append(f"  {_LABEL[f.severity.value]:<8}{f.check}: {', '.join(f.records)}{where}")
-            lines.extend(wrap.wrap(f.message))
-            if f.suggestion:
-                lines.extend(wrap.wrap(f"suggestion: {f.suggestion.get('explanation', '')}"))
-        lines.append("")
+    status_of = getattr(result, "status_of", None)
+
+    def block(findings) -> None:
+        groups.clear()
+        for f in findings:
+            groups[f.substance].append(f)
+        for name in sorted(groups, key=rank):
+            fs = groups[name]
+            lines.append(f"{name or '(table)'} -- {_counts(fs)}")
+            for f in fs:
+                where = f" ({f.file}:{f.line})" if f.file else ""
+                ident = (
+                    f"{f.check}:{','.join(f.records)}"
+                    if status_of
+                    else (f"{f.check}: {', '.join(f.records)}")
+                )
+                lines.append(f"  {_LABEL[f.severity.value]:<8}{ident}{where}")
+                lines.extend(wrap.wrap(f.message))
+                if f.suggestion:
+                    lines.extend(wrap.wrap(f"suggestion: {f.suggestion.get('explanation', '')}"))
+            lines.append("")
+
+    if status_of is None:
+        block(result.findings)
+    else:
+        for status, title in (
+            ("new", "New since {base}"),
+            ("existing", "Already there at {base}"),
+            ("accepted", "Accepted (accepted.toml)"),
+        ):
+            part = [f for f in result.findings if status_of(f) == status]
+            lines.append(f"== {title.format(base=result.base)}: {len(part)} finding(s)")
+            lines.append("")
+            block(part)
+        lines.append(
+            f"{result.affected} substance(s) changed since {result.base} were "
+            "re-audited; the others are unchanged."
+        )
+    groups.clear()
+    for f in result.findings:
+        groups[f.substance].append(f)
     flagged = len(groups)
     lines.append(
         f"Summary: {_counts(result.findings)} in {flagged} of {s['substances']} substances."

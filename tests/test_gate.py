@@ -1,0 +1,128 @@
+"""The pull-request gate on a scripted git repository, accepted findings, and SARIF."""
+
+import json
+import shutil
+import subprocess
+
+import pytest
+from click.testing import CliRunner
+
+from vpaudit.cli import main
+from vpaudit.gate import gate
+
+
+def git(repo, *args):
+    subprocess.run(["git", "-C", str(repo), *args], check=True, capture_output=True)
+
+
+@pytest.fixture
+def repo(tmp_path, sample_db):
+    """Base commit: the demo table (with its old, known problems)."""
+    root = tmp_path / "repo"
+    shutil.copytree(sample_db, root / "table", ignore=shutil.ignore_patterns("*.py"))
+    git(root.parent, "init", "-q", str(root))
+    git(root, "config", "user.email", "steward@example.invalid")
+    git(root, "config", "user.name", "Demo Steward")
+    git(root, "add", "-A")
+    git(root, "commit", "-qm", "base")
+    git(root, "tag", "base")
+    return root
+
+
+BAD = ("zorvane-l1,zorvane,liquid,,three-term,e,Pa,K,25.0,12000.0,-1.2,,,,,900,1500,"
+       "invented demo source,,0.03,,test,2026-12-01\n")
+
+
+def _head_change(repo):
+    """Head: one bad record added and one reference changed."""
+    metals = repo / "table" / "records" / "metals.csv"
+    metals.write_text(metals.read_text() + BAD)
+    refs = repo / "table" / "references" / "reference_values.csv"
+    text = refs.read_text().replace("ardenite,melting_point,1179.4,", "ardenite,melting_point,1259.4,")
+    assert text != refs.read_text()
+    refs.write_text(text)
+    git(repo, "commit", "-qam", "head")
+    return metals
+
+
+def run(*args):
+    return CliRunner().invoke(main, [str(a) for a in args], catch_exceptions=False)
+
+
+def test_gate_reports_exactly_the_new_findings(repo):
+    metals = _head_change(repo)
+    result = gate(repo / "table", "base")
+    new = {(f.check, f.substance) for f in result.findings if result.status_of(f) == "new"}
+    # the bad record (a lost minus sign on B) and the unchanged ardenite pair, whose
+    # reference melting point moved by 80 K
+    assert ("slope-not-positive", "zorvane") in new
+    assert ("melting-point-mismatch", "ardenite") in new
+    assert {s for _, s in new} == {"zorvane", "ardenite"}
+    assert result.affected == 2
+    assert result.fails("error")
+    line = len(metals.read_text().splitlines())
+    hit = [f for f in result.findings if f.check == "slope-not-positive"]
+    assert hit[0].line == line and hit[0].file.endswith("metals.csv")
+    r = run("gate", repo / "table", "--base", "base")
+    assert r.exit_code == 1 and "New since base" in r.output
+
+
+def test_accepting_the_new_findings_passes_the_gate(repo):
+    _head_change(repo)
+    result = gate(repo / "table", "base")
+    for f in result.findings:
+        if result.status_of(f) == "new":
+            r = run("accept", f"{f.check}:{','.join(f.records)}", "--table", repo / "table",
+                    "--reason", "checked against the lab notebook", "--until", "2099-12-31")
+            assert r.exit_code == 0, r.output
+    r = run("gate", repo / "table", "--base", "base", "--format", "json")
+    assert r.exit_code == 0, r.output
+    data = json.loads(r.output)
+    assert {f["status"] for f in data["findings"]} <= {"existing", "accepted"}
+    assert any(f["status"] == "accepted" for f in data["findings"])
+
+
+def test_expired_acceptance_is_reported_and_fails_again(repo):
+    _head_change(repo)
+    run("accept", "slope-not-positive:zorvane-l1", "--table", repo / "table", "--reason",
+        "temporary", "--until", "2020-01-01")
+    result = gate(repo / "table", "base")
+    checks = {f.check for f in result.findings if result.status_of(f) == "new"}
+    assert "acceptance-expired" in checks and "slope-not-positive" in checks
+
+
+def test_a_change_that_touches_nothing_relevant_passes(repo):
+    readme = repo / "table" / "README.md"
+    readme.write_text(readme.read_text() + "\nA note for stewards.\n")
+    git(repo, "commit", "-qam", "docs")
+    r = run("gate", repo / "table", "--base", "base")
+    assert r.exit_code == 0, r.output
+    assert "New since base: 0 finding(s)" in r.output
+
+
+def test_missing_base_revision_says_what_it_needs(repo):
+    r = run("gate", repo / "table", "--base", "no-such-rev")
+    assert r.exit_code == 2
+    assert "is not in this clone" in r.output and "git fetch" in r.output
+
+
+def test_sarif_is_valid_2_1_0_and_points_at_the_record_lines(repo, monkeypatch):
+    # validated with the independent pydantic models of sarif-pydantic (SARIF 2.1.0)
+    from sarif_pydantic import Sarif
+
+    metals = _head_change(repo)
+    monkeypatch.chdir(repo)
+    r = run("gate", "table", "--base", "base", "--format", "sarif")
+    log = json.loads(r.output)
+    Sarif.model_validate(log)
+    assert log["version"] == "2.1.0"
+    run_ = log["runs"][0]
+    rule_ids = {rule["id"] for rule in run_["tool"]["driver"]["rules"]}
+    assert "melting-point-mismatch" in rule_ids
+    bad = [x for x in run_["results"] if x["ruleId"] == "slope-not-positive"
+           and x["baselineState"] == "new"]
+    loc = bad[0]["locations"][0]["physicalLocation"]
+    assert loc["artifactLocation"]["uri"] == "table/records/metals.csv"
+    assert loc["region"]["startLine"] == len(metals.read_text().splitlines())
+    for x in run_["results"]:
+        assert x["ruleId"] in rule_ids

@@ -17,7 +17,7 @@ from scipy.constants import R
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests"))
 
-from refdata import alcock_table, table_from_rows, water_fusion, water_records  # noqa: E402
+from refdata import alcock_table, table_from_rows, water_records, water_references  # noqa: E402
 
 from vpaudit.audit import audit_table  # noqa: E402
 from vpaudit.checks._context import LN_P_STANDARD, AuditContext  # noqa: E402
@@ -76,32 +76,7 @@ if __name__ == "__main__":
     report(alcock_table(), "Alcock et al. (1984) metals, CRC melting points")
     s, l_, rs, rl = water_records()
     print(f"IAPWS water fits: max |residual| in ln P: ice {rs:.2e}, liquid {rl:.2e}")
-    water = table_from_rows(
-        [s, l_],
-        [
-            {
-                "substance": "water",
-                "quantity": "triple_point_temperature",
-                "value": 273.16,
-                "unit": "K",
-                "source": "IAPWS R14-08",
-            },
-            {
-                "substance": "water",
-                "quantity": "triple_point_pressure",
-                "value": 611.657,
-                "unit": "Pa",
-                "source": "IAPWS R14-08",
-            },
-            {
-                "substance": "water",
-                "quantity": "enthalpy_of_fusion",
-                "value": water_fusion(),
-                "unit": "J/mol",
-                "source": "IAPWS-95 and IAPWS R10-06 via iapws",
-            },
-        ],
-    )
+    water = table_from_rows([s, l_], water_references())
     report(water, "water (IAPWS fits)")
 
 

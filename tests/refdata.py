@@ -307,3 +307,32 @@ def compilation_table(limit: int | None = None) -> Table:
                 }
             )
     return table_from_rows(records, refs)
+
+
+def water_references() -> list[dict]:
+    """The IAPWS triple point (R14-08: 273.16 K, 611.657 Pa) and the enthalpy of fusion of
+    ice Ih there (IAPWS-95 and R10-06 via iapws), as reference rows."""
+    src = "IAPWS R14-08"
+    return [
+        {
+            "substance": "water",
+            "quantity": "triple_point_temperature",
+            "value": 273.16,
+            "unit": "K",
+            "source": src,
+        },
+        {
+            "substance": "water",
+            "quantity": "triple_point_pressure",
+            "value": 611.657,
+            "unit": "Pa",
+            "source": src,
+        },
+        {
+            "substance": "water",
+            "quantity": "enthalpy_of_fusion",
+            "value": water_fusion(),
+            "unit": "J/mol",
+            "source": "IAPWS-95 and IAPWS R10-06 via iapws",
+        },
+    ]

@@ -29,8 +29,10 @@ def repo(tmp_path, sample_db):
     return root
 
 
-BAD = ("zorvane-l1,zorvane,liquid,,three-term,e,Pa,K,25.0,12000.0,-1.2,,,,,900,1500,"
-       "invented demo source,,0.03,,test,2026-12-01\n")
+BAD = (
+    "zorvane-l1,zorvane,liquid,,three-term,e,Pa,K,25.0,12000.0,-1.2,,,,,900,1500,"
+    "invented demo source,,0.03,,test,2026-12-01\n"
+)
 
 
 def _head_change(repo):
@@ -38,7 +40,9 @@ def _head_change(repo):
     metals = repo / "table" / "records" / "metals.csv"
     metals.write_text(metals.read_text() + BAD)
     refs = repo / "table" / "references" / "reference_values.csv"
-    text = refs.read_text().replace("ardenite,melting_point,1179.4,", "ardenite,melting_point,1259.4,")
+    text = refs.read_text().replace(
+        "ardenite,melting_point,1179.4,", "ardenite,melting_point,1259.4,"
+    )
     assert text != refs.read_text()
     refs.write_text(text)
     git(repo, "commit", "-qam", "head")
@@ -72,8 +76,16 @@ def test_accepting_the_new_findings_passes_the_gate(repo):
     result = gate(repo / "table", "base")
     for f in result.findings:
         if result.status_of(f) == "new":
-            r = run("accept", f"{f.check}:{','.join(f.records)}", "--table", repo / "table",
-                    "--reason", "checked against the lab notebook", "--until", "2099-12-31")
+            r = run(
+                "accept",
+                f"{f.check}:{','.join(f.records)}",
+                "--table",
+                repo / "table",
+                "--reason",
+                "checked against the lab notebook",
+                "--until",
+                "2099-12-31",
+            )
             assert r.exit_code == 0, r.output
     r = run("gate", repo / "table", "--base", "base", "--format", "json")
     assert r.exit_code == 0, r.output
@@ -84,8 +96,16 @@ def test_accepting_the_new_findings_passes_the_gate(repo):
 
 def test_expired_acceptance_is_reported_and_fails_again(repo):
     _head_change(repo)
-    run("accept", "slope-not-positive:zorvane-l1", "--table", repo / "table", "--reason",
-        "temporary", "--until", "2020-01-01")
+    run(
+        "accept",
+        "slope-not-positive:zorvane-l1",
+        "--table",
+        repo / "table",
+        "--reason",
+        "temporary",
+        "--until",
+        "2020-01-01",
+    )
     result = gate(repo / "table", "base")
     checks = {f.check for f in result.findings if result.status_of(f) == "new"}
     assert "acceptance-expired" in checks and "slope-not-positive" in checks
@@ -119,8 +139,11 @@ def test_sarif_is_valid_2_1_0_and_points_at_the_record_lines(repo, monkeypatch):
     run_ = log["runs"][0]
     rule_ids = {rule["id"] for rule in run_["tool"]["driver"]["rules"]}
     assert "melting-point-mismatch" in rule_ids
-    bad = [x for x in run_["results"] if x["ruleId"] == "slope-not-positive"
-           and x["baselineState"] == "new"]
+    bad = [
+        x
+        for x in run_["results"]
+        if x["ruleId"] == "slope-not-positive" and x["baselineState"] == "new"
+    ]
     loc = bad[0]["locations"][0]["physicalLocation"]
     assert loc["artifactLocation"]["uri"] == "table/records/metals.csv"
     assert loc["region"]["startLine"] == len(metals.read_text().splitlines())

@@ -7,7 +7,13 @@ import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
-from refdata import alcock_table, table_from_rows, water_fusion, water_records
+from refdata import (
+    alcock_table,
+    table_from_rows,
+    water_fusion,
+    water_records,
+    water_references,
+)
 from scipy.constants import R
 
 from vpaudit.audit import audit_table
@@ -72,29 +78,7 @@ def test_water_triple_point_from_the_iapws_curves():
     # triple point 273.16 K (IAPWS) within the fits' error: measured residuals 2.6e-6 (ice)
     # and 6.0e-5 (liquid) in ln P, dln P/dT difference 0.0027 1/K, so about 0.02 K.
     solid, liquid, rs, rl = water_records()
-    refs = [
-        {
-            "substance": "water",
-            "quantity": "triple_point_temperature",
-            "value": 273.16,
-            "unit": "K",
-            "source": "IAPWS R14-08",
-        },
-        {
-            "substance": "water",
-            "quantity": "triple_point_pressure",
-            "value": 611.657,
-            "unit": "Pa",
-            "source": "IAPWS R14-08",
-        },
-        {
-            "substance": "water",
-            "quantity": "enthalpy_of_fusion",
-            "value": water_fusion(),
-            "unit": "J/mol",
-            "source": "IAPWS-95 and R10-06 via iapws",
-        },
-    ]
+    refs = water_references()
     table = table_from_rows([solid, liquid], refs)
     ctx = AuditContext(table, Policy())
     pr = ctx.pairs

@@ -15,7 +15,7 @@ import pytest
 
 from vpaudit.errors import StoreError, VpauditError
 from vpaudit.readers import load_table
-from vpaudit.store import import_table, manifest, query, read_table, verify
+from vpaudit.store import import_table, manifest, query, verify
 
 HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE.parent / "benchmarks"))
@@ -31,12 +31,9 @@ def _synthetic(folder: Path, n: int) -> Path:
 def _content(db: Path) -> dict:
     """The manifest of what the database holds, opened the plain DuckDB way (which replays
     a WAL left by a crash), independent of vpaudit's checks."""
-    con = duckdb.connect(str(db))
-    try:
-        con.execute("CHECKPOINT")
-        return manifest(read_table(con))
-    finally:
-        con.close()
+    from reliability import content
+
+    return content(db)
 
 
 def test_store_is_verified_on_open(tmp_path, clean_sample):
@@ -203,10 +200,18 @@ def test_queries_answer_and_are_stopped_after_the_time_limit(clean_sample):
 def test_a_reader_meeting_duckdbs_lock_gets_a_plain_message(tmp_path, clean_sample):
     db = tmp_path / "s.duckdb"
     import_table(clean_sample, db)
-    holder = subprocess.Popen([sys.executable, "-c", (
-        "import duckdb, sys, time\n"
-        f"con = duckdb.connect({str(db)!r})\nprint('open', flush=True)\ntime.sleep(30)")],
-        stdout=subprocess.PIPE, text=True)
+    holder = subprocess.Popen(
+        [
+            sys.executable,
+            "-c",
+            (
+                "import duckdb, sys, time\n"
+                f"con = duckdb.connect({str(db)!r})\nprint('open', flush=True)\ntime.sleep(30)"
+            ),
+        ],
+        stdout=subprocess.PIPE,
+        text=True,
+    )
     assert holder.stdout.readline().strip() == "open"
     try:
         with pytest.raises(StoreError, match="in use by another process"):
@@ -226,20 +231,56 @@ def test_a_hostile_table_is_audited_cleanly():
     rows = []
     for i in range(10_000):
         kind = i % 4
-        base = {"id": f"h{i}", "substance": f"h{i}", "phase": "liquid", "log_base": "e",
-                "pressure_unit": "Pa", "source": "hostile"}
+        base = {
+            "id": f"h{i}",
+            "substance": f"h{i}",
+            "phase": "liquid",
+            "log_base": "e",
+            "pressure_unit": "Pa",
+            "source": "hostile",
+        }
         if kind == 0:
-            rows.append({**base, "form": "three-term", "A": 1e300, "B": -1e300, "C": 1e300,
-                         "t_min": 300.0, "t_max": 600.0})
+            rows.append(
+                {
+                    **base,
+                    "form": "three-term",
+                    "A": 1e300,
+                    "B": -1e300,
+                    "C": 1e300,
+                    "t_min": 300.0,
+                    "t_max": 600.0,
+                }
+            )
         elif kind == 1:
-            rows.append({**base, "form": "two-term", "A": 25.0, "B": -1e4, "t_min": 500.0,
-                         "t_max": 500.0})
+            rows.append(
+                {**base, "form": "two-term", "A": 25.0, "B": -1e4, "t_min": 500.0, "t_max": 500.0}
+            )
         elif kind == 2:
-            rows.append({**base, "form": "antoine", "A": 9.0, "B": 1500.0, "C": -300.0,
-                         "t_min": 300.0, "t_max": 600.0})
+            rows.append(
+                {
+                    **base,
+                    "form": "antoine",
+                    "A": 9.0,
+                    "B": 1500.0,
+                    "C": -300.0,
+                    "t_min": 300.0,
+                    "t_max": 600.0,
+                }
+            )
         else:
-            rows.append({**base, "form": "power-term", "A": 30.0, "B": -1e4, "C": -1.0,
-                         "D": 1e-300, "E": 300.0, "t_min": 1e-300, "t_max": 1e300})
+            rows.append(
+                {
+                    **base,
+                    "form": "power-term",
+                    "A": 30.0,
+                    "B": -1e4,
+                    "C": -1.0,
+                    "D": 1e-300,
+                    "E": 300.0,
+                    "t_min": 1e-300,
+                    "t_max": 1e300,
+                }
+            )
     result = audit_table(table_from_rows(rows))
     assert not [f for f in result.findings if f.check == "internal-error"]
     flagged = {f.records[0] for f in result.findings if f.records}

@@ -89,7 +89,7 @@ def audit_table(
     policy = policy or load_policy(table.policy_path)
     names = [c.name for c in ordered()] if not only else [get_check(n).name for n in only]
     if substances:
-        table = _restrict(table, set(substances))
+        table = restrict(table, set(substances))
     ctx = AuditContext(table, policy)
     findings: list[Finding] = []
     for name in names:
@@ -126,11 +126,13 @@ def audit_table(
     return AuditResult(findings, summary, policy.describe(), table_path, names)
 
 
-def _restrict(table: Table, names: set[str]) -> Table:
+def restrict(table: Table, names: set[str]) -> Table:
+    """The part of ``table`` about the substances ``names``."""
+
     def keep(frame):
         if not len(frame):
             return frame
-        return frame[frame["substance"].isin(names)].reset_index(drop=True)
+        return frame[frame["substance"].astype(str).isin(names)].reset_index(drop=True)
 
     return Table(
         keep(table.records),

@@ -24,7 +24,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from .audit import AuditResult, audit_table
+from .audit import AuditResult, audit_table, restrict
 from .checks._registry import Severity
 from .checks.finding import Finding
 from .errors import VpauditError
@@ -156,24 +156,6 @@ def _substance_digests(table: Table) -> dict[str, int]:
     return out
 
 
-def _restrict(table: Table, names: set[str]) -> Table:
-    def keep(frame):
-        if not len(frame):
-            return frame
-        return frame[frame["substance"].astype(str).isin(names)].reset_index(drop=True)
-
-    return Table(
-        keep(table.records),
-        keep(table.references),
-        keep(table.points),
-        keep(table.problems),
-        table.rewrites,
-        table.policy_path,
-        table.root,
-        table.files,
-    )
-
-
 def load_accepted(path: Path) -> list[Acceptance]:
     """Read ``accepted.toml``: a list of ``[[accepted]]`` entries with check, records,
     reason, by and an optional until (a TOML date) and substance.
@@ -277,10 +259,10 @@ def gate(
     head_d = _substance_digests(head)
     base_d = _substance_digests(base_table) if base_table is not None else {}
     changed = {s for s in set(head_d) | set(base_d) if head_d.get(s) != base_d.get(s)}
-    head_result = audit_table(_restrict(head, changed), pol, table_path=str(table))
+    head_result = audit_table(restrict(head, changed), pol, table_path=str(table))
     base_keys = set()
     if base_table is not None and changed:
-        base_keys = {f.key for f in audit_table(_restrict(base_table, changed), pol).findings}
+        base_keys = {f.key for f in audit_table(restrict(base_table, changed), pol).findings}
     result = GateResult(
         head_result.findings,
         head_result.summary,

@@ -90,7 +90,10 @@ def _check_header(path: str, names: list[str], line: int) -> list[str]:
     return out
 
 
-def _decode(path: str, data: bytes) -> str:
+def _checked(path: str, data: bytes) -> bytes:
+    """The file's bytes after the checks every text format shares: size limit, no NUL byte,
+    a UTF-8 byte-order mark removed.
+    """
     if len(data) > MAX_FILE_BYTES:
         raise _err(path, f"file is {len(data)} bytes; the limit is {MAX_FILE_BYTES} bytes")
     nul = data.find(b"\x00")
@@ -98,8 +101,11 @@ def _decode(path: str, data: bytes) -> str:
         raise _err(
             path, f"NUL byte at byte offset {nul}: not a text file", data.count(b"\n", 0, nul) + 1
         )
-    if data.startswith(b"\xef\xbb\xbf"):
-        data = data[3:]
+    return data[3:] if data.startswith(b"\xef\xbb\xbf") else data
+
+
+def _decode(path: str, data: bytes) -> str:
+    data = _checked(path, data)
     try:
         return data.decode("utf-8")
     except UnicodeDecodeError as exc:
@@ -202,15 +208,7 @@ def read_csv(path: str, data: bytes) -> RawFrame:
     files go through pyarrow's CSV reader (all columns typed as strings, so nothing is
     inferred); irregular ones through Python's csv module, which locates every problem.
     """
-    if len(data) > MAX_FILE_BYTES:
-        raise _err(path, f"file is {len(data)} bytes; the limit is {MAX_FILE_BYTES} bytes")
-    nul = data.find(b"\x00")
-    if nul >= 0:
-        raise _err(
-            path, f"NUL byte at byte offset {nul}: not a text file", data.count(b"\n", 0, nul) + 1
-        )
-    if data.startswith(b"\xef\xbb\xbf"):
-        data = data[3:]
+    data = _checked(path, data)
     if not data.strip():
         raise _err(path, "file is empty: expected a header line naming the columns")
     start, body_at, delimiter, columns = _csv_layout(path, data)

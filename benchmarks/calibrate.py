@@ -57,7 +57,7 @@ def report(table, label):
     print("implied dS_fus at crossing [J/(mol K)]:", quantiles(R * pr["T"] * pr["slope_diff"]))
     ex = ctx.range_extrema
     for ph in ("solid", "liquid"):
-        m = ctx.phase == ph
+        m = ctx.liquid if ph == "liquid" else ctx.solid
         print(f"{ph}: max implied dCp over range [J/(mol K)]:", quantiles(ex["cp_max"][m]))
         print(f"{ph}: min implied dCp over range [J/(mol K)]:", quantiles(ex["cp_min"][m]))
         c = ctx.curves.take(np.flatnonzero(m))

@@ -19,6 +19,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests"))
 
 from refdata import alcock_table, table_from_rows, water_records, water_references  # noqa: E402
 
+from vpaudit._columns import eq  # noqa: E402
 from vpaudit.audit import audit_table  # noqa: E402
 from vpaudit.checks._context import LN_P_STANDARD, AuditContext  # noqa: E402
 from vpaudit.equations.engine import evaluate  # noqa: E402
@@ -105,7 +106,7 @@ def report_compilation():
     y = evaluate(ctx.curves.take(rows), tb[rows], 0)[0]
     d = y - LN_P_STANDARD
     for form in ("antoine", "wagner-3-6", "power-term"):
-        m = ctx.form[rows] == form
+        m = eq(table.records["form"], form)[rows]
         print(f"ln P(Tb,CRC) - ln 101325, {form}:", quantiles(np.abs(d[m])))
     result = audit_table(table, Policy("evaluated"), only=["sources-disagree"])
     z = [f.evidence["difference_lnP"] for f in result.findings]

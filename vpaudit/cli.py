@@ -288,6 +288,30 @@ def accept_cmd(finding, table, reason, until, by):
     click.echo(f"accepted {finding} in {path}")
 
 
+# --- plot ----------------------------------------------------------------------------------
+
+
+@main.command("plot")
+@click.argument("table", type=click.Path(exists=True))
+@click.argument("substance")
+@click.option(
+    "--output",
+    "-o",
+    required=True,
+    type=click.Path(dir_okay=False),
+    help="The picture: FILE.png or FILE.svg.",
+)
+@click.option("--unit", default="Pa", show_default=True, help="Pressure unit of the right axis.")
+def plot_cmd(table, substance, output, unit):
+    """Draw ln P against 1/T for SUBSTANCE: both phases, ranges, crossing, references."""
+    from .api import open_table
+    from .plot import plot_substance
+
+    drawn = plot_substance(open_table(table), substance, output, unit)
+    cross = ", ".join(f"{c['T_K']:.5g} K" for c in drawn["crossings"]) or "none"
+    click.echo(f"wrote {output}: {len(drawn['records'])} record(s), crossing(s): {cross}")
+
+
 # --- query ---------------------------------------------------------------------------------
 
 

@@ -1,0 +1,47 @@
+"""Pictures: the file is produced, and the plotted crossing is the audited one."""
+
+import numpy as np
+import pytest
+from click.testing import CliRunner
+
+from vpaudit.checks._context import AuditContext
+from vpaudit.cli import main
+from vpaudit.errors import VpauditError
+from vpaudit.plot import plot_substance
+from vpaudit.policy import Policy
+from vpaudit.readers import load_table
+
+pytest.importorskip("matplotlib")
+
+
+def test_png_and_svg_are_written_and_the_crossing_is_the_audited_one(tmp_path, sample_db):
+    table = load_table(sample_db)
+    drawn = plot_substance(table, "kestrium", tmp_path / "k.png", unit="Torr")
+    assert (tmp_path / "k.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    assert drawn["residual_panel"] and len(drawn["records"]) == 3
+    ctx = AuditContext(table, Policy())
+    pr = ctx.pairs
+    audited = {
+        (ctx.id(s), ctx.id(lq)): t
+        for s, lq, t in zip(pr["s"], pr["l"], pr["T"], strict=True)
+        if ctx.substance_of(s) == "kestrium" and np.isfinite(t)
+    }
+    plotted = {c["records"]: c["T_K"] for c in drawn["crossings"]}
+    assert plotted.keys() == audited.keys()
+    for key, t in plotted.items():
+        assert t == pytest.approx(audited[key], rel=1e-12)
+    svg = tmp_path / "e.svg"
+    plot_substance(table, "elmsite", svg)
+    text = svg.read_text()
+    assert text.startswith("<?xml") and "crossing" in text
+
+
+def test_plot_command_and_its_errors(tmp_path, sample_db):
+    r = CliRunner().invoke(
+        main, ["plot", str(sample_db), "ardenite", "-o", str(tmp_path / "a.png")]
+    )
+    assert r.exit_code == 0 and "crossing(s): 1179.4 K" in r.output
+    with pytest.raises(VpauditError, match=r"\.png or \.svg"):
+        plot_substance(load_table(sample_db), "ardenite", tmp_path / "a.pdf")
+    r = CliRunner().invoke(main, ["plot", str(sample_db), "ardenit", "-o", str(tmp_path / "a.png")])
+    assert r.exit_code == 2 and "did you mean ardenite" in r.output

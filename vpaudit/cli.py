@@ -312,6 +312,29 @@ def plot_cmd(table, substance, output, unit):
     click.echo(f"wrote {output}: {len(drawn['records'])} record(s), crossing(s): {cross}")
 
 
+# --- report --------------------------------------------------------------------------------
+
+
+@main.command("report")
+@click.argument("table", type=click.Path(exists=True))
+@click.option(
+    "--output", "-o", required=True, type=click.Path(dir_okay=False), help="The HTML file to write."
+)
+@click.option("--policy", help="A preset (evaluated, compilation) or a policy TOML file.")
+@click.option("--no-plots", is_flag=True, help="Leave out the pictures (faster).")
+def report_cmd(table, output, policy, no_plots):
+    """Write one self-contained HTML report of the audit of TABLE."""
+    from .api import open_table
+    from .audit import audit_table
+    from .policy import load_policy
+    from .report.html import render_report
+
+    t = open_table(table)
+    result = audit_table(t, load_policy(t.policy_path, policy), table_path=str(table))
+    Path(output).write_text(render_report(result, t, plots=not no_plots), encoding="utf-8")
+    click.echo(f"wrote {output}: {len(result.findings)} finding(s)")
+
+
 # --- query ---------------------------------------------------------------------------------
 
 

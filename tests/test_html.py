@@ -1,0 +1,107 @@
+"""The HTML report: self-contained, all table text escaped, and it works in a real browser
+(headless Chromium, Debian's package; the browser test skips when it is absent)."""
+
+import re
+import shutil
+import subprocess
+from pathlib import Path
+
+import pytest
+from refdata import table_from_rows
+
+from vpaudit.audit import audit_table
+from vpaudit.readers import load_table
+from vpaudit.report.html import render_report
+
+CHROMIUM = shutil.which("chromium") or shutil.which("chromium-browser")
+FLAGS = [
+    "--headless",
+    "--no-sandbox",
+    "--disable-gpu",
+    "--disable-quic",
+    "--no-first-run",
+    "--disable-background-networking",
+    "--disable-component-update",
+    "--disable-sync",
+    "--enable-logging=stderr",
+    "--v=0",
+]
+
+
+def _hostile_table():
+    base = {
+        "substance": "s<b>",
+        "form": "two-term",
+        "log_base": "e",
+        "pressure_unit": "Pa",
+        "source": "a & b <i>c</i>",
+    }
+    return table_from_rows(
+        [
+            {
+                **base,
+                "id": "x1",
+                "phase": "liquid",
+                "A": 25.0,
+                "B": 12000.0,
+                "t_min": 300.0,
+                "t_max": 600.0,
+                "note": "<script>alert('owned')</script>",
+            },
+        ]
+    )
+
+
+def test_all_table_text_is_escaped_and_nothing_is_fetched(tmp_path):
+    table = _hostile_table()
+    page = render_report(audit_table(table, table_path="t"), table, plots=True)
+    assert "<script>alert" not in page
+    assert "&lt;script&gt;alert(&#x27;owned&#x27;)&lt;/script&gt;" in page
+    assert "s&lt;b&gt;" in page and "a &amp; b &lt;i&gt;c&lt;/i&gt;" in page
+    # self-contained: no external scripts, styles, fonts or images
+    assert not re.search(r"(src|href)=['\"](https?:)?//", page)
+    assert page.count("<script>") == 1  # our own inline script only
+
+
+def _chromium(url: str, *extra: str, tmp: Path) -> subprocess.CompletedProcess:
+    return subprocess.run(
+        [CHROMIUM, *FLAGS, f"--user-data-dir={tmp / 'profile'}", *extra, url],
+        capture_output=True,
+        text=True,
+        timeout=120,
+    )
+
+
+def _console_errors(stderr: str) -> list[str]:
+    return [line for line in stderr.splitlines() if "CONSOLE" in line or "Uncaught" in line]
+
+
+@pytest.mark.skipif(
+    CHROMIUM is None,
+    reason="headless Chromium is not installed (.ci/run installs Debian's chromium package)",
+)
+def test_report_loads_without_console_errors_sorts_and_renders(tmp_path, sample_db):
+    table = load_table(sample_db)
+    page = tmp_path / "report.html"
+    page.write_text(
+        render_report(audit_table(table, table_path="sample_db"), table), encoding="utf-8"
+    )
+    # control: a page with a script error is caught by the same console check
+    bad = tmp_path / "bad.html"
+    bad.write_text("<html><body><script>undefinedFunction();</script></body></html>")
+    assert _console_errors(_chromium(bad.as_uri(), "--dump-dom", tmp=tmp_path).stderr)
+    # the report itself: no console errors
+    run = _chromium(page.as_uri(), "--dump-dom", tmp=tmp_path)
+    assert run.returncode == 0 and not _console_errors(run.stderr), run.stderr[-2000:]
+    # sorting: #sort=1 sorts by the check column on load (the same code as a header click)
+    dom = _chromium(page.as_uri() + "#sort=1", "--dump-dom", tmp=tmp_path).stdout
+    body = dom[dom.index("<tbody>") : dom.index("</tbody>")]
+    checks = re.findall(
+        r"<tr data-severity=\"\w+\"><td[^>]*>\w+</td><td><code>([^<]+)</code>", body
+    )
+    assert len(checks) == len(audit_table(table).findings)
+    assert checks == sorted(checks) and checks != [f.check for f in audit_table(table).findings]
+    assert 'class="sorted-asc"' in dom
+    shot = tmp_path / "report.png"
+    _chromium(page.as_uri(), f"--screenshot={shot}", "--window-size=1200,1600", tmp=tmp_path)
+    assert shot.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n" and shot.stat().st_size > 20_000

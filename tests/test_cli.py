@@ -105,3 +105,9 @@ def test_import_and_export(clean_sample, tmp_path):
     assert r.exit_code == 0 and (tmp_path / "out" / "records" / "records.csv").exists()
     r = run("audit", db, "--fail-on", "never")
     assert r.exit_code == 0 and "61 records" in r.output
+
+
+def test_quiet_and_jobs_options_keep_the_output_clean(sample_db, tmp_path):
+    r = run("audit", sample_db, "--format", "json", "--quiet", "--jobs", "1")
+    assert r.exit_code == 1
+    json.loads(r.output)  # nothing but the JSON document on stdout

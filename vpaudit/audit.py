@@ -68,6 +68,7 @@ def audit_table(
     only: list[str] | None = None,
     substances: list[str] | None = None,
     table_path: str = "",
+    progress=None,
 ) -> AuditResult:
     """Audit a table that has been read.
 
@@ -81,6 +82,8 @@ def audit_table(
         Run only these checks.
     substances : list of str, optional
         Audit only these substances.
+    progress : callable, optional
+        ``progress(done, total, check)`` before each check (for progress bars).
 
     Returns
     -------
@@ -92,7 +95,9 @@ def audit_table(
         table = restrict(table, set(substances))
     ctx = AuditContext(table, policy)
     findings: list[Finding] = []
-    for name in names:
+    for done, name in enumerate(names):
+        if progress is not None:
+            progress(done, len(names), name)
         if policy.severity(name) is None:
             continue
         spec = REGISTRY[name]

@@ -42,6 +42,31 @@ def main() -> None:
     """
 
 
+def _progress(quiet: bool, label: str, length: int = 1):
+    """A progress bar on stderr when it is a terminal (never in CI, pipes or --quiet)."""
+    import contextlib
+
+    if quiet or not sys.stderr.isatty():
+        return contextlib.nullcontext(None)
+    return click.progressbar(length=length, label=label.ljust(18), file=sys.stderr, show_eta=False)
+
+
+def _jobs(jobs: int | None) -> None:
+    if jobs is not None:
+        from .readers import table as _table
+
+        _table.JOBS = max(1, jobs)
+
+
+QUIET = click.option("--quiet", "-q", is_flag=True, help="No progress display.")
+JOBS = click.option(
+    "--jobs",
+    "-j",
+    type=int,
+    help="Threads for reading large files (default: one per core, at most 4).",
+)
+
+
 def _emit(text: str, output: str | None) -> None:
     if output:
         Path(output).write_text(text, encoding="utf-8")
@@ -73,22 +98,40 @@ def _emit(text: str, output: str | None) -> None:
     help="Rewrite PDF look-alikes in numbers (U+2212, thin spaces, 1.2D+03, x10^-3) "
     "and list each rewrite.",
 )
-def audit_cmd(table, fmt, output, fail_on, policy, only, substance, db, normalize_typography):
+@QUIET
+@JOBS
+def audit_cmd(
+    table, fmt, output, fail_on, policy, only, substance, db, normalize_typography, quiet, jobs
+):
     """Test every record and solid/liquid pair of TABLE against thermodynamics."""
     from .api import open_table
     from .audit import audit_table
     from .policy import load_policy
     from .report import RENDERERS
 
-    t = open_table(table, normalize=normalize_typography)
+    _jobs(jobs)
+    with _progress(quiet, "reading the table") as bar:
+        t = open_table(table, normalize=normalize_typography)
+        if bar is not None:
+            bar.update(1)
     _report_rewrites(t)
-    result = audit_table(
-        t,
-        load_policy(t.policy_path, policy),
-        only=[s.strip() for s in only.split(",")] if only else None,
-        substances=list(substance) or None,
-        table_path=str(table),
-    )
+    from .checks import REGISTRY
+
+    n_checks = len(only.split(",")) if only else len(REGISTRY)
+    with _progress(quiet, "auditing", n_checks) as bar:
+
+        def step(done, total, name):
+            if bar is not None:
+                bar.update(1)
+
+        result = audit_table(
+            t,
+            load_policy(t.policy_path, policy),
+            only=[s.strip() for s in only.split(",")] if only else None,
+            substances=list(substance) or None,
+            table_path=str(table),
+            progress=step,
+        )
     if db:
         from .store import store_table
 
@@ -203,19 +246,27 @@ def show_cmd(table, substance, policy):
     is_flag=True,
     help="Rewrite PDF look-alikes in numbers and list each rewrite.",
 )
-def import_cmd(table, db, normalize_typography):
+@QUIET
+@JOBS
+def import_cmd(table, db, normalize_typography, quiet, jobs):
     """Load TABLE into a DuckDB store, all or nothing."""
     from .store import import_table
 
-    counts = import_table(
-        table,
-        db,
-        normalize=normalize_typography,
-        report=lambda r: click.echo(
-            f"rewrote {r['file']}:{r['line']} [{r['column']}] {r['before']!r} -> {r['after']!r}",
-            err=True,
-        ),
-    )
+    _jobs(jobs)
+
+    with _progress(quiet, "importing") as bar:
+        counts = import_table(
+            table,
+            db,
+            normalize=normalize_typography,
+            report=lambda r: click.echo(
+                f"rewrote {r['file']}:{r['line']} [{r['column']}] {r['before']!r} -> "
+                f"{r['after']!r}",
+                err=True,
+            ),
+        )
+        if bar is not None:
+            bar.update(1)
     click.echo(
         f"imported {counts['records']} records, {counts['references']} references and "
         f"{counts['points']} points into {db}"

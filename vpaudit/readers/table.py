@@ -233,6 +233,8 @@ def _range_message(text: str) -> str:
 
 
 _PARALLEL_ROWS = 200_000
+#: Threads that parse the columns of one large file (``--jobs``); 0 means one per core.
+JOBS = 0
 
 
 def _column(raw: RawFrame, col: _Col, normalize: bool) -> tuple[dict[str, object], _Collector]:
@@ -293,8 +295,9 @@ def frame_from_raw(
     n = len(raw)
     # Each column is parsed on its own (pyarrow's kernels release the GIL, so large tables
     # use both cores); errors are merged back in column order, so output is deterministic.
-    if n >= _PARALLEL_ROWS and (os.cpu_count() or 1) > 1:
-        with ThreadPoolExecutor(max_workers=min(4, os.cpu_count() or 1)) as pool:
+    workers = JOBS or min(4, os.cpu_count() or 1)
+    if n >= _PARALLEL_ROWS and workers > 1:
+        with ThreadPoolExecutor(max_workers=workers) as pool:
             results = list(pool.map(lambda c: _column(raw, c, normalize), spec))
     else:
         results = [_column(raw, c, normalize) for c in spec]

@@ -111,3 +111,19 @@ def test_quiet_and_jobs_options_keep_the_output_clean(sample_db, tmp_path):
     r = run("audit", sample_db, "--format", "json", "--quiet", "--jobs", "1")
     assert r.exit_code == 1
     json.loads(r.output)  # nothing but the JSON document on stdout
+
+
+def test_markdown_shows_a_suggestion_when_there_is_one():
+    from dataclasses import replace
+
+    from vpaudit.audit import AuditResult
+    from vpaudit.checks import Finding, Severity
+    from vpaudit.report import RENDERERS
+
+    f = Finding("melting-point-mismatch", Severity.error, "x", ("x-s", "x-l"), "off by 2.3")
+    g = replace(f, suggestion={"kind": "log-base", "explanation": "entered as log10"})
+    result = AuditResult(
+        [f, g], {"records": 2, "substances": 1, "pairs": 1, "error": 2, "warning": 0, "note": 0}, {}
+    )
+    md = RENDERERS["markdown"](result)
+    assert md.count("**Suggestion:** entered as log10") == 1

@@ -9,6 +9,13 @@ def _cell(text: str) -> str:
     return str(text).replace("|", "\\|").replace("\n", " ")
 
 
+def _suggestion(f) -> str:
+    """The likely cause and fix, when the diagnosis found one."""
+    if not f.suggestion:
+        return ""
+    return f" **Suggestion:** {_cell(f.suggestion.get('explanation', ''))}"
+
+
 def render(result) -> str:
     """Render an :class:`~vpaudit.audit.AuditResult` as Markdown."""
     s = result.summary
@@ -36,7 +43,7 @@ def render(result) -> str:
         for f in serious:
             out.append(
                 f"| {f.severity.value} | `{f.check}` | {_cell(f.substance)} | "
-                f"{_cell(', '.join(f.records))} | {_cell(f.message)} |"
+                f"{_cell(', '.join(f.records))} | {_cell(f.message)}{_suggestion(f)} |"
             )
         out.append("")
     if notes:

@@ -355,3 +355,23 @@ def test_temperature_at_outside_the_range_is_nan_unless_extrapolating():
     target = 25.0 - 12000.0 / 700.0
     assert np.isnan(temperature_at(c, target)[0])
     assert temperature_at(c, target, 300.0, 1200.0)[0] == pytest.approx(700.0, rel=1e-12)
+
+
+@settings(max_examples=50, deadline=None)
+@given(t=st.floats(1e-3, 1e5), unit=st.sampled_from(["K", "degC", "degF"]))
+def test_temperature_units_round_trip(t, unit):
+    from vpaudit.units import from_kelvin, to_kelvin
+
+    assert to_kelvin(from_kelvin(t, unit), unit) == pytest.approx(t, rel=1e-13, abs=1e-9)
+
+
+def test_quantities_with_unit_suffixes():
+    from vpaudit.units import parse_pressure, parse_temperature
+
+    # degC to K is exact by definition (+273.15); 1 Torr = 101325/760 Pa (exact)
+    assert parse_temperature("926.85degC") == pytest.approx(1200.0, abs=1e-9)
+    assert parse_temperature("1200") == 1200.0
+    assert parse_pressure("0.01Torr") == pytest.approx(101325 / 760 / 100, rel=1e-15)
+    assert parse_pressure("1 bar") == 1e5
+    with pytest.raises(Exception, match="positive"):
+        parse_temperature("-300degC")

@@ -10,7 +10,7 @@ import numpy as np
 import pandas as pd
 import pyarrow as pa
 
-__all__ = ["TEXT", "text_series", "eq", "isin", "codes", "lookup", "pick", "empty"]
+__all__ = ["TEXT", "text_series", "eq", "isin", "codes", "lookup", "empty"]
 
 #: The dtype of every text column of a table frame (Arrow strings, nulls for empty cells).
 TEXT = pd.ArrowDtype(pa.string())
@@ -54,9 +54,3 @@ def lookup(series: pd.Series, mapping: Mapping, default=np.nan) -> np.ndarray:
     c, uniques = codes(series)
     table = np.array([mapping.get(u, default) for u in uniques] + [default], dtype=float)
     return table[np.where(c >= 0, c, len(uniques))]
-
-
-def pick(series: pd.Series, rows) -> np.ndarray:
-    """The cells of ``rows`` as Python objects (for messages: a few rows, not the bulk)."""
-    out = series.take(np.asarray(rows, dtype=np.int64)).to_numpy(dtype=object, na_value=None)
-    return out

@@ -40,7 +40,6 @@ __all__ = [
     "connect",
     "write_table",
     "read_table",
-    "is_store",
     "write_run",
     "read_findings",
 ]
@@ -77,11 +76,6 @@ _TABLES = {
     '"suggestion" VARCHAR, "file" VARCHAR, "line" BIGINT',
 }
 _DATA = ("records", "references", "points", "problems", "rewrites")
-
-
-def is_store(path: str | Path) -> bool:
-    """Whether ``path`` names a DuckDB file (by its ending)."""
-    return str(path).endswith((".duckdb", ".db"))
 
 
 def connect(path: str | Path | None = None, read_only: bool = False) -> duckdb.DuckDBPyConnection:

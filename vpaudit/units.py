@@ -35,7 +35,6 @@ __all__ = [
     "parse_quantity",
     "parse_temperature",
     "parse_pressure",
-    "format_pressure",
 ]
 
 #: Conventional millimetre of mercury in pascal (NIST SP 811, Appendix B.8).
@@ -199,10 +198,3 @@ def parse_pressure(text: str) -> float:
     if value <= 0:
         raise UnitError(f"{text!r}: a vapour pressure must be positive")
     return value * pressure_factor(unit)
-
-
-def format_pressure(pascal: float, unit: str = "Pa") -> str:
-    """Format a pressure given in pascal in ``unit`` with four significant digits."""
-    if not math.isfinite(pascal):
-        return "n/a"
-    return f"{pascal / pressure_factor(unit):.4g} {unit}"

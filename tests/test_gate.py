@@ -149,3 +149,39 @@ def test_sarif_is_valid_2_1_0_and_points_at_the_record_lines(repo, monkeypatch):
     assert loc["region"]["startLine"] == len(metals.read_text().splitlines())
     for x in run_["results"]:
         assert x["ruleId"] in rule_ids
+
+
+def test_changed_substances_are_found_from_the_diff(repo):
+    metals = repo / "table" / "records" / "metals.csv"
+    lines = metals.read_text().splitlines(keepends=True)
+    # delete the kestrium-l2 row (a second source): kestrium changes, nothing else does
+    kept = [ln for ln in lines if not ln.startswith("kestrium-l2,")]
+    assert len(kept) == len(lines) - 1
+    metals.write_text("".join(kept))
+    # an untracked new file with one more substance
+    extra = repo / "table" / "records" / "extra.csv"
+    extra.write_text(lines[0] + BAD)
+    result = gate(repo / "table", "base")
+    assert result.affected == 2  # kestrium and zorvane
+    new = {(f.check, f.substance) for f in result.findings if result.status_of(f) == "new"}
+    assert ("slope-not-positive", "zorvane") in new
+    assert {sub for _, sub in new} == {"zorvane"}  # kestrium's old finding is simply gone
+
+
+def test_a_policy_change_reaudits_everything(repo):
+    (repo / "table" / "vpaudit.toml").write_text(
+        'preset = "evaluated"\n[checks.melting-point-mismatch]\ntolerance = 0.01\n'
+    )
+    git(repo, "add", "-A")
+    git(repo, "commit", "-qm", "stricter")
+    result = gate(repo / "table", "base")
+    assert result.affected == 30  # every substance of the table
+
+
+def test_a_header_change_marks_every_row_of_the_file(repo):
+    refs = repo / "table" / "references" / "reference_values.csv"
+    text = refs.read_text().splitlines(keepends=True)
+    refs.write_text("# provenance: reference sheet RS-1\n" + "".join(text))
+    result = gate(repo / "table", "base")
+    assert result.affected == 30
+    assert not [f for f in result.findings if result.status_of(f) == "new"]

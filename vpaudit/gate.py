@@ -15,6 +15,7 @@ compared by content); findings of unchanged substances are, by construction, exi
 from __future__ import annotations
 
 import datetime as dt
+import re
 import subprocess
 import tempfile
 import tomllib
@@ -22,7 +23,6 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
-import pandas as pd
 
 from .audit import AuditResult, audit_table, restrict
 from .checks._registry import Severity
@@ -134,26 +134,79 @@ def _table_at(table: Path, ref: str, into: Path) -> Path:
     return copy
 
 
-def _substance_digests(table: Table) -> dict[str, int]:
-    """An order-independent content hash per substance over its records, references and
-    points (every text cell, numbers as their text; not file or line).
-    """
-    from .store import _hash_columns
+_HUNK = re.compile(r"^@@ -(\d+)(?:,(\d+))? \+(\d+)(?:,(\d+))? @@")
 
-    out: dict[str, int] = {}
-    for n, kind in enumerate(KINDS):
+
+def _diff_lines(root: Path, ref: str, rel: Path) -> tuple[dict, dict, set]:
+    """Changed lines per file between ``ref`` and the work tree (``git diff -U0``).
+
+    Returns (base_lines, head_lines, whole): line numbers per repository-relative file on
+    each side, and the files that changed as a whole (new, deleted, untracked).
+    """
+    text = _git(
+        root, "diff", "-U0", "--no-color", "--no-renames", "--no-ext-diff", ref, "--", str(rel)
+    )
+    base: dict[str, set[int]] = {}
+    head: dict[str, set[int]] = {}
+    whole: set[str] = set()
+    old = new = None
+    for line in text.splitlines():
+        if line.startswith("--- "):
+            old = None if line[4:] == "/dev/null" else line[6:]
+        elif line.startswith("+++ "):
+            new = None if line[4:] == "/dev/null" else line[6:]
+            if old is None or new is None:
+                whole.add(old or new)
+        elif line.startswith("@@") and old and new:
+            m = _HUNK.match(line)
+            a, b = int(m[1]), int(m[2] if m[2] is not None else 1)
+            c, d = int(m[3]), int(m[4] if m[4] is not None else 1)
+            # a pure insertion (b = 0) or deletion (d = 0) touches no line on that side
+            base.setdefault(old, set()).update(range(a, a + b))
+            head.setdefault(new, set()).update(range(c, c + d))
+    untracked = _git(root, "ls-files", "--others", "--exclude-standard", "--", str(rel))
+    whole.update(untracked.splitlines())
+    return base, head, whole
+
+
+def _touched(table: Table, to_key, lines: dict, whole: set) -> set[str]:
+    """Substances of the rows standing at the changed lines; a change outside any row (a
+    header, a comment) or a whole-file change marks every substance of that file.
+
+    ``to_key`` maps a frame's file name to its repository-relative path (None: not in it).
+    """
+    out: set[str] = set()
+    for kind in KINDS:
         frame = getattr(table, kind)
         if not len(frame):
             continue
-        cols = [c for c in _hash_columns(kind) if c not in ("file", "line") and c in frame]
-        text = frame[cols].astype(str)
-        h = pd.util.hash_pandas_object(text, index=False).to_numpy()
-        sums = (
-            pd.Series(h, dtype=np.uint64).groupby(frame["substance"].astype(str).to_numpy()).sum()
-        )
-        for name, value in sums.items():
-            out[name] = (out.get(name, 0) * 1000003 + int(value) + n) % (1 << 64)
+        files = frame["file"].astype(str).to_numpy()
+        subs_all = frame["substance"].astype(str).to_numpy()
+        line_all = frame["line"].to_numpy()
+        for name in np.unique(files):
+            key = to_key(name)
+            rows = np.flatnonzero(files == name)
+            subs = subs_all[rows]
+            if key is None or key in whole:
+                out.update(subs)
+                continue
+            changed = lines.get(key)
+            if not changed:
+                continue
+            order = np.argsort(line_all[rows])
+            starts, subs = line_all[rows][order], subs[order]
+            at = np.searchsorted(starts, np.fromiter(changed, dtype=np.int64), side="right") - 1
+            if (at < 0).any():
+                out.update(subs)  # a header or comment line changed
+            out.update(subs[at[at >= 0]])
     return out
+
+
+def _relative(path: str, start: Path) -> str | None:
+    try:
+        return Path(path).resolve().relative_to(start.resolve()).as_posix()
+    except ValueError:
+        return None
 
 
 def load_accepted(path: Path) -> list[Acceptance]:
@@ -256,9 +309,30 @@ def gate(
     with tempfile.TemporaryDirectory(prefix="vpaudit-gate-") as tmp:
         base_path = _table_at(table, base, Path(tmp))
         base_table = load_table(base_path) if base_path.exists() else None
-    head_d = _substance_digests(head)
-    base_d = _substance_digests(base_table) if base_table is not None else {}
-    changed = {s for s in set(head_d) | set(base_d) if head_d.get(s) != base_d.get(s)}
+    root = Path(
+        _git(
+            table.resolve() if table.is_dir() else table.resolve().parent,
+            "rev-parse",
+            "--show-toplevel",
+        ).strip()
+    )
+    rel = table.resolve().relative_to(root)
+    base_lines, head_lines, whole = _diff_lines(root, base, rel)
+    policy_files = {(rel / "vpaudit.toml").as_posix()}
+    if policy is None and (policy_files & (set(base_lines) | set(head_lines) | whole)):
+        # the thresholds themselves changed: every substance is affected
+        changed = set(head.records["substance"].astype(str))
+        if base_table is not None:
+            changed |= set(base_table.records["substance"].astype(str))
+    else:
+        changed = _touched(head, lambda n: _relative(n, root), head_lines, whole)
+        if base_table is not None:
+            changed |= _touched(
+                base_table,
+                lambda n: (rel / r).as_posix() if (r := _relative(n, base_path)) else None,
+                base_lines,
+                whole,
+            )
     head_result = audit_table(restrict(head, changed), pol, table_path=str(table))
     base_keys = set()
     if base_table is not None and changed:

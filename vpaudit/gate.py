@@ -8,8 +8,10 @@ git, never fetched), and classifies each finding of the current table:
 * ``existing`` -- it occurred at REF too;
 * ``accepted`` -- a steward accepted it in the table's ``accepted.toml``.
 
-Only substances whose rows changed are re-audited (their records, references and points are
-compared by content); findings of unchanged substances are, by construction, existing ones.
+Only substances whose rows changed are re-audited: ``git diff -U0 REF`` gives the changed
+lines, which map to rows and so to substances, on both sides (a changed header or comment,
+a new, deleted or untracked file, or a changed ``vpaudit.toml`` marks everything it can
+affect). Findings of unchanged substances are, by construction, existing ones.
 """
 
 from __future__ import annotations

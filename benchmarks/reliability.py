@@ -40,6 +40,41 @@ def content(db: Path) -> dict:
         con.close()
 
 
+def crash_trial(old: Path, new: Path, db: Path, delay: float) -> tuple[dict, bool]:
+    """Import ``old`` into ``db``, start importing ``new`` in a child process, SIGKILL it
+    after ``delay`` seconds. Returns the manifest of what the store then holds (opened the
+    plain DuckDB way) and whether vpaudit's verify() accepted the store exactly when the
+    manifest beside it matches that content."""
+    for p in db.parent.glob(db.name + "*"):
+        p.unlink()
+    import_table(old, db)
+    child = subprocess.Popen(
+        [sys.executable, "-c", CHILD, str(new), str(db)],
+        stdout=subprocess.DEVNULL,
+        stderr=subprocess.DEVNULL,
+    )
+    time.sleep(delay)
+    child.send_signal(signal.SIGKILL)
+    child.wait()
+    state = content(db)
+    for p in db.parent.glob(db.name + ".wal"):
+        p.unlink()  # content() checkpointed it into the file
+    side = json.loads(db.with_name(db.name + ".manifest.json").read_text())
+    try:
+        verify(db)
+        ok = True
+    except StoreError:
+        ok = False
+    return state, ok == (side == state)
+
+
+def import_seconds(table: Path, db: Path) -> float:
+    """Wall time of one import of ``table`` plus the child's Python start-up (about 0.5 s)."""
+    t0 = time.perf_counter()
+    import_table(table, db)
+    return time.perf_counter() - t0 + 0.5
+
+
 def crash_trials(work: Path, trials: int) -> None:
     old = work / "old"
     new = work / "new"
@@ -47,34 +82,13 @@ def crash_trials(work: Path, trials: int) -> None:
     generate(new, 20_000, seed=2, defect_rate=0.0)
     old_m, new_m = manifest(load_table(old)), manifest(load_table(new))
     db = work / "s.duckdb"
-    t0 = time.perf_counter()
-    import_table(new, db)
-    full = time.perf_counter() - t0 + 0.5
+    full = import_seconds(new, db)
     rng = random.Random(1)
     counts = {"old": 0, "new": 0, "neither": 0, "verify agreed": 0}
     for _ in range(trials):
-        for p in work.glob("s.duckdb*"):
-            p.unlink()
-        import_table(old, db)
-        child = subprocess.Popen(
-            [sys.executable, "-c", CHILD, str(new), str(db)],
-            stdout=subprocess.DEVNULL,
-            stderr=subprocess.DEVNULL,
-        )
-        time.sleep(rng.uniform(0.0, 1.2 * full))
-        child.send_signal(signal.SIGKILL)
-        child.wait()
-        state = content(db)
+        state, agreed = crash_trial(old, new, db, rng.uniform(0.0, 1.2 * full))
         counts["old" if state == old_m else "new" if state == new_m else "neither"] += 1
-        for p in work.glob("s.duckdb.wal"):
-            p.unlink()
-        side = json.loads((work / "s.duckdb.manifest.json").read_text())
-        try:
-            verify(db)
-            ok = True
-        except StoreError:
-            ok = False
-        counts["verify agreed"] += ok == (side == state)
+        counts["verify agreed"] += agreed
     print(
         f"crash trials (SIGKILL at random moments of a {new_m['records']['rows']}-record "
         f"import): {trials}; store left in the old state {counts['old']}, the new state "

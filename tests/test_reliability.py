@@ -1,10 +1,10 @@
 """Nothing lost, nothing misread, nothing let in: store guarantees under crashes and abuse."""
 
+import contextlib
 import json
 import os
 import random
 import shutil
-import signal
 import subprocess
 import sys
 import time
@@ -34,6 +34,21 @@ def _content(db: Path) -> dict:
     from reliability import content
 
     return content(db)
+
+
+@contextlib.contextmanager
+def _holding(code: str):
+    """Run ``code`` in a child Python that prints 'ready' once it holds what it holds, and
+    kill it afterwards."""
+    child = subprocess.Popen(
+        [sys.executable, "-c", "import time\n" + code], stdout=subprocess.PIPE, text=True
+    )
+    try:
+        assert child.stdout.readline().strip() == "ready"
+        yield child
+    finally:
+        child.kill()
+        child.communicate()
 
 
 def test_store_is_verified_on_open(tmp_path, clean_sample):
@@ -87,32 +102,17 @@ def test_sigkill_at_random_moments_leaves_old_or_new_state(tmp_path, clean_sampl
     new = _synthetic(tmp_path / "new", 10_000)
     old_m = manifest(load_table(clean_sample))
     new_m = manifest(load_table(new))
+    from reliability import crash_trial, import_seconds
+
     db = tmp_path / "s.duckdb"
-    t0 = time.perf_counter()
-    import_table(new, db)
-    full = time.perf_counter() - t0 + 0.5  # the child also starts Python
+    full = import_seconds(new, db)
     rng = random.Random(2026)
     outcomes = {"old": 0, "new": 0}
     for _ in range(20):
-        for p in tmp_path.glob("s.duckdb*"):
-            p.unlink()
-        import_table(clean_sample, db)
-        child = _spawn(new, db)
-        time.sleep(rng.uniform(0.0, full * 1.2))
-        child.send_signal(signal.SIGKILL)
-        _done(child)
-        state = _content(db)
+        state, agreed = crash_trial(clean_sample, new, db, rng.uniform(0.0, full * 1.2))
         assert state in (old_m, new_m)
         outcomes["old" if state == old_m else "new"] += 1
-        for p in tmp_path.glob("s.duckdb.wal"):
-            p.unlink()  # _content checkpointed it into the file
-        side = json.loads((tmp_path / "s.duckdb.manifest.json").read_text())
-        try:
-            verify(db)
-            ok = True
-        except StoreError:
-            ok = False
-        assert ok == (side == state)
+        assert agreed  # verify() accepts the store exactly when its manifest agrees
     print(f"crash trials: {outcomes}")
     assert sum(outcomes.values()) == 20
 
@@ -136,28 +136,16 @@ def test_a_writer_that_cannot_wait_fails_cleanly_naming_the_holder(tmp_path, cle
     db = tmp_path / "s.duckdb"
     import_table(clean_sample, db)
     before = _content(db)
-    holder = subprocess.Popen(
-        [
-            sys.executable,
-            "-c",
-            (
-                "import sys, time; from vpaudit.store import WriterLock\n"
-                f"with WriterLock({str(db)!r}):\n    print('held', flush=True); time.sleep(30)"
-            ),
-        ],
-        stdout=subprocess.PIPE,
-        text=True,
+    code = (
+        f"from vpaudit.store import WriterLock\nwith WriterLock({str(db)!r}):\n"
+        "    print('ready', flush=True); time.sleep(30)"
     )
-    assert holder.stdout.readline().strip() == "held"
-    try:
+    with _holding(code):
         with pytest.raises(StoreError, match=r"is being written by PID \d+"):
             with WriterLock(db, timeout=0.3):
                 pass
         with pytest.raises(StoreError, match="being written"):
             import_table(clean_sample, db, lock_timeout=0.3)
-    finally:
-        holder.kill()
-        holder.communicate()
     assert _content(db) == before
 
 
@@ -202,25 +190,13 @@ def test_queries_answer_and_are_stopped_after_the_time_limit(clean_sample):
 def test_a_reader_meeting_duckdbs_lock_gets_a_plain_message(tmp_path, clean_sample):
     db = tmp_path / "s.duckdb"
     import_table(clean_sample, db)
-    holder = subprocess.Popen(
-        [
-            sys.executable,
-            "-c",
-            (
-                "import duckdb, sys, time\n"
-                f"con = duckdb.connect({str(db)!r})\nprint('open', flush=True)\ntime.sleep(30)"
-            ),
-        ],
-        stdout=subprocess.PIPE,
-        text=True,
+    code = (
+        f"import duckdb\ncon = duckdb.connect({str(db)!r})\n"
+        "print('ready', flush=True)\ntime.sleep(30)"
     )
-    assert holder.stdout.readline().strip() == "open"
-    try:
+    with _holding(code):
         with pytest.raises(StoreError, match="in use by another process"):
             verify(db)
-    finally:
-        holder.kill()
-        holder.communicate()
 
 
 def test_a_hostile_table_is_audited_cleanly():

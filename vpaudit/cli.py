@@ -67,6 +67,36 @@ JOBS = click.option(
 )
 
 
+def _report_options(fail_help: str):
+    """--format, --output, --fail-on and --policy, shared by the commands that report."""
+
+    def wrap(func):
+        for option in reversed(
+            (
+                click.option(
+                    "--format", "fmt", type=click.Choice(FORMATS), default="text", show_default=True
+                ),
+                click.option(
+                    "--output", "-o", type=click.Path(dir_okay=False), help="Write the report here."
+                ),
+                click.option(
+                    "--fail-on",
+                    type=click.Choice(["error", "warning", "never"]),
+                    default="error",
+                    show_default=True,
+                    help=fail_help,
+                ),
+                click.option(
+                    "--policy", help="A preset (evaluated, compilation) or a policy TOML file."
+                ),
+            )
+        ):
+            func = option(func)
+        return func
+
+    return wrap
+
+
 def _emit(text: str, output: str | None) -> None:
     if output:
         Path(output).write_text(text, encoding="utf-8")
@@ -79,16 +109,7 @@ def _emit(text: str, output: str | None) -> None:
 
 @main.command("audit")
 @click.argument("table", type=click.Path(exists=True))
-@click.option("--format", "fmt", type=click.Choice(FORMATS), default="text", show_default=True)
-@click.option("--output", "-o", type=click.Path(dir_okay=False), help="Write the report here.")
-@click.option(
-    "--fail-on",
-    type=click.Choice(["error", "warning", "never"]),
-    default="error",
-    show_default=True,
-    help="Exit 1 when anything is at or above this severity.",
-)
-@click.option("--policy", help="A preset (evaluated, compilation) or a policy TOML file.")
+@_report_options("Exit 1 when anything is at or above this severity.")
 @click.option("--only", help="Comma-separated check names to run.")
 @click.option("--substance", multiple=True, help="Audit only this substance (repeatable).")
 @click.option("--db", type=click.Path(dir_okay=False), help="Store the run in this DuckDB file.")
@@ -294,16 +315,7 @@ def export_cmd(db, to):
 @main.command("gate")
 @click.argument("table", type=click.Path(exists=True))
 @click.option("--base", required=True, help="The git revision to compare with (e.g. origin/main).")
-@click.option("--format", "fmt", type=click.Choice(FORMATS), default="text", show_default=True)
-@click.option("--output", "-o", type=click.Path(dir_okay=False), help="Write the report here.")
-@click.option(
-    "--fail-on",
-    type=click.Choice(["error", "warning", "never"]),
-    default="error",
-    show_default=True,
-    help="Exit 1 when a NEW finding is at or above this severity.",
-)
-@click.option("--policy", help="A preset (evaluated, compilation) or a policy TOML file.")
+@_report_options("Exit 1 when a NEW finding is at or above this severity.")
 def gate_cmd(table, base, fmt, output, fail_on, policy):
     """Report what a change to TABLE introduces since the git revision --base.
 

@@ -84,11 +84,14 @@ class AuditContext:
         problems = table.problems
         if len(problems):
             bad = problems.loc[problems["rule"].isin(["range", "pole"])]
-            ok[self.rows_of(bad["file"], bad["line"])] = False
+            rows = self.rows_of(bad["file"], bad["line"])
+            ok[rows[rows >= 0]] = False
         self.evaluable = ok
 
     def rows_of(self, files, lines) -> np.ndarray:
-        """The record rows standing at (file, line) pairs (few; for rule problems)."""
+        """The record row standing at each (file, line) pair, -1 where there is none (for
+        rule problems, which the readers locate by file and line).
+        """
         files = list(files)
         lines = np.asarray(list(lines), dtype=np.int64)
         if not files:
@@ -96,7 +99,7 @@ class AuditContext:
         cand = np.flatnonzero(np.isin(self.line, lines))
         index = {(self._files[self.file_code[i]], int(self.line[i])): int(i) for i in cand}
         found = [index.get((f, int(n)), -1) for f, n in zip(files, lines, strict=True)]
-        return np.asarray([r for r in found if r >= 0], dtype=np.int64)
+        return np.asarray(found, dtype=np.int64)
 
     @cached_property
     def _id_values(self) -> np.ndarray:

@@ -32,10 +32,10 @@ def range_invalid(ctx: AuditContext):
     if not len(problems):
         return
     bad = problems.loc[problems["rule"].isin(["range", "pole"])]
-    for pr in bad.itertuples(index=False):
-        rows = ctx.rows_of([pr.file], [pr.line])
-        if rows.size:
-            yield ctx.finding("range-invalid", int(rows[0]), f"{pr.message}.", {"field": pr.column})
+    rows = ctx.rows_of(bad["file"], bad["line"])  # one lookup for all problems
+    for pr, row in zip(bad.itertuples(index=False), rows, strict=True):
+        if row >= 0:
+            yield ctx.finding("range-invalid", int(row), f"{pr.message}.", {"field": pr.column})
 
 
 @check(
@@ -481,7 +481,7 @@ def points_misfit(ctx: AuditContext):
     g = frame.groupby("row")
     stats = pd.DataFrame(
         {
-            "rms": g["r"].apply(lambda v: float(np.sqrt(np.mean(v * v)))),
+            "rms": np.sqrt(frame.assign(r2=frame["r"] ** 2).groupby("row")["r2"].mean()),
             "zmax": g["z"].max(),
             "n": g["r"].size(),
         }

@@ -37,21 +37,18 @@ def render(result, width: int = 100) -> str:
             f"(policy: {policy})",
             "",
         ]
-    groups = defaultdict(list)
-    for f in result.findings:
-        groups[f.substance].append(f)
-
-    def rank(name):
-        fs = groups[name]
-        return (-max(f.severity.rank for f in fs), -len(fs), name)
-
     wrap = textwrap.TextWrapper(width=width, initial_indent=" " * 6, subsequent_indent=" " * 6)
     status_of = getattr(result, "status_of", None)
 
     def block(findings) -> None:
-        groups.clear()
+        groups = defaultdict(list)
         for f in findings:
             groups[f.substance].append(f)
+
+        def rank(name):
+            fs = groups[name]
+            return (-max(f.severity.rank for f in fs), -len(fs), name)
+
         for name in sorted(groups, key=rank):
             fs = groups[name]
             lines.append(f"{name or '(table)'} -- {_counts(fs)}")
@@ -84,10 +81,7 @@ def render(result, width: int = 100) -> str:
             f"{result.affected} substance(s) changed since {result.base} were "
             "re-audited; the others are unchanged."
         )
-    groups.clear()
-    for f in result.findings:
-        groups[f.substance].append(f)
-    flagged = len(groups)
+    flagged = len({f.substance for f in result.findings})
     lines.append(
         f"Summary: {_counts(result.findings)} in {flagged} of {s['substances']} substances."
     )

@@ -20,7 +20,7 @@ from .checks.finding import Finding
 from .policy import Policy, load_policy
 from .readers.table import Table
 
-__all__ = ["AuditResult", "audit", "audit_table", "CAUTION"]
+__all__ = ["AuditResult", "audit", "audit_table", "run_checks", "CAUTION"]
 
 #: The caution every report carries (physics notes, section 10).
 CAUTION = (
@@ -69,6 +69,7 @@ def audit_table(
     substances: list[str] | None = None,
     table_path: str = "",
     progress=None,
+    diagnose: bool = True,
 ) -> AuditResult:
     """Audit a table that has been read.
 
@@ -84,6 +85,9 @@ def audit_table(
         Audit only these substances.
     progress : callable, optional
         ``progress(done, total, check)`` before each check (for progress bars).
+    diagnose : bool
+        Look for the likely slip behind each error and warning and attach it as the
+        finding's ``suggestion`` (:mod:`vpaudit.diagnose`).
 
     Returns
     -------
@@ -94,6 +98,30 @@ def audit_table(
     if substances:
         table = restrict(table, set(substances))
     ctx = AuditContext(table, policy)
+    findings = run_checks(ctx, names, progress)
+    if diagnose:
+        from .diagnose import attach_suggestions
+
+        findings = attach_suggestions(ctx, findings)
+    findings.sort(key=_sort_key)
+    summary = {
+        "records": int(len(table.records)),
+        "substances": int(table.records["substance"].nunique()) if len(table.records) else 0,
+        "pairs": int(len(ctx.pairs["s"]))
+        if any(REGISTRY[n].scope.value == "pair" for n in names)
+        else 0,
+        "error": sum(f.severity is Severity.error for f in findings),
+        "warning": sum(f.severity is Severity.warning for f in findings),
+        "note": sum(f.severity is Severity.note for f in findings),
+    }
+    return AuditResult(findings, summary, policy.describe(), table_path, names)
+
+
+def run_checks(ctx: AuditContext, names: list[str], progress=None) -> list[Finding]:
+    """Run the checks ``names`` over one prepared context; a check that raises becomes an
+    ``internal-error`` finding and the others still run.
+    """
+    policy = ctx.policy
     findings: list[Finding] = []
     for done, name in enumerate(names):
         if progress is not None:
@@ -117,18 +145,7 @@ def audit_table(
                     evidence={"check": name, "traceback": traceback.format_exc(limit=3)},
                 )
             )
-    findings.sort(key=_sort_key)
-    summary = {
-        "records": int(len(table.records)),
-        "substances": int(table.records["substance"].nunique()) if len(table.records) else 0,
-        "pairs": int(len(ctx.pairs["s"]))
-        if any(REGISTRY[n].scope.value == "pair" for n in names)
-        else 0,
-        "error": sum(f.severity is Severity.error for f in findings),
-        "warning": sum(f.severity is Severity.warning for f in findings),
-        "note": sum(f.severity is Severity.note for f in findings),
-    }
-    return AuditResult(findings, summary, policy.describe(), table_path, names)
+    return findings
 
 
 def restrict(table: Table, names: set[str]) -> Table:

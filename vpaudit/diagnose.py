@@ -1,0 +1,815 @@
+"""Diagnosis: the likely transcription slip behind a suspect record, and its fix.
+
+Most bad entries carry one slip, and each slip leaves a fingerprint (physics notes,
+section 8). For every record involved in an error or warning, each hypothesis below is
+tested by applying the inverse of the slip and re-running the checks on the corrected
+record together with everything that bears on it: its partner phase, the other sources of
+its substance, its reference values and its measured points.
+
+========================  ==================================================================
+kind                      hypothesis
+========================  ==================================================================
+``log-base``              the coefficients are in the other log base than the record says
+``pressure-unit``         the pressure unit is another one of the supported units
+``temperature-unit``      degC/degF/K confusion (Antoine)
+``sign``                  one coefficient's sign was lost or added
+``phase-swap``            the solid and liquid labels of a pair are swapped
+``decimal-shift``         one coefficient is off by a power of ten (10^-3 .. 10^3)
+``coefficient-swap``      two coefficients were entered in each other's columns
+``digit-transposition``   two adjacent digits of one coefficient are swapped
+========================  ==================================================================
+
+How it is computed
+------------------
+All candidates are audited at once: each becomes a *variant* substance in one synthetic
+table (the substance's records with one slip undone, its references and points copied), so
+the registered checks run over whole arrays exactly as in the audit, never once per
+candidate. Each variant gets a misfit score
+
+    S = sum over findings (3 per error, 1 per warning)
+        + sum of min(rho(z), cap) over the continuous evidence (z = residual / its scale),
+
+with rho(z) = 2 (sqrt(1 + z^2) - 1), a robust (soft-L1) cost, capped per piece of
+evidence (each residual is either consistent, or off for a reason of its own by an amount
+no slip predicts -- a mixture likelihood, so one broken piece of evidence weighs as much
+as any other whatever its size): the ln P difference of the
+solid and liquid curves at the reference melting point, the Hess residual of the fusion
+enthalpy, ln P at the reference normal boiling point, the distance of the implied entropy
+of the phase change from its plausible band, the differences between sources, and the
+residuals of measured points. Candidates are weighed as hypotheses:
+
+    posterior(c)  ~  prior(c) exp(-S_c / (2 T)),
+    posterior(no single slip)  ~  P0 exp(-S_0 / (2 T)),
+
+where S_0 is the misfit of the records as written, so that a correction must bring
+several pieces of evidence to consistency, not merely improve one, to win;
+
+where the prior of each kind is shared equally among its variants (a kind with 40 possible
+digit transpositions gives each a fortieth: the penalty for how unlikely one particular
+slip is) and among the suspect records. Corrections that give the same curve and range
+(Torr and mmHg differ by 1.4e-7) are one fix and their weights add. The confidence of a
+suggestion is its posterior; T and P0 were calibrated on corrupted real data
+(``benchmarks/diagnosis_accuracy.py``, docs/diagnosis.md) so that a confidence c is right
+about a fraction c of the time. When the evidence does not single out one fix the
+suggestion is ``None``; when the runner-up is close it is reported too.
+"""
+
+from __future__ import annotations
+
+import math
+from collections import defaultdict
+from dataclasses import dataclass, replace
+from decimal import Decimal, InvalidOperation
+
+import numpy as np
+import pandas as pd
+from scipy.constants import R
+from scipy.special import logsumexp
+
+from ._columns import TEXT
+from .checks._context import LN_P_STANDARD, AuditContext, match, same_key_pairs
+from .checks._registry import REGISTRY, Severity
+from .checks.finding import Finding
+from .equations.engine import evaluate
+from .equations.forms import FORMS
+from .readers.files import RawFrame
+from .readers.table import Table, _Collector, _record_rules
+from .units import PRESSURE_UNITS, TEMPERATURE_UNITS
+
+__all__ = [
+    "KINDS",
+    "Candidate",
+    "Change",
+    "attach_suggestions",
+    "candidates_for",
+    "choose",
+    "diagnose",
+    "hypotheses",
+    "CALIBRATION",
+]
+
+#: The slip kinds, in reporting order, with the hypothesis each tests.
+KINDS: dict[str, str] = {
+    "log-base": "the coefficients are in the other log base than the record says",
+    "pressure-unit": "the pressure unit is another one of the supported units",
+    "temperature-unit": "degC/degF/K confusion (Antoine)",
+    "sign": "one coefficient's sign was lost or added",
+    "phase-swap": "the solid and liquid labels of a pair are swapped",
+    "decimal-shift": "one coefficient is off by a power of ten",
+    "coefficient-swap": "two coefficients were entered in each other's columns",
+    "digit-transposition": "two adjacent digits of one coefficient are swapped",
+}
+
+#: Calibrated constants of the scoring (benchmarks/diagnosis_accuracy.py): the temperature
+#: T dividing the misfit, the prior of "no single slip explains it", and the lowest
+#: confidence reported as a suggestion.
+CALIBRATION = {
+    "temperature": 1.0,
+    "prior_none": 0.3,
+    "loss": "quadratic",
+    "component_cap": 8.0,
+    "error_cost": 3.0,
+    "warning_cost": 1.0,
+    "min_confidence": 0.15,
+    "require_clear": True,
+}
+
+#: Checks that say nothing about the numbers of a record (they are the same in every variant).
+_NOT_EVIDENCE = frozenset({"missing-source", "duplicate-record", "internal-error"})
+_DECIMAL_SHIFTS = (-3, -2, -1, 1, 2, 3)
+#: Variant rows audited at once (bounds the memory of the synthetic tables).
+_CHUNK_ROWS = 200_000
+
+
+@dataclass(frozen=True)
+class Change:
+    """One cell of a corrected record: ``field`` of record ``row`` becomes ``value``
+    (``text`` is the number as it would be written in the table).
+    """
+
+    row: int
+    field: str
+    value: object
+    text: str | None = None
+
+
+@dataclass(frozen=True)
+class Candidate:
+    """One hypothesis: the slip ``kind`` in record ``row``, undone by ``changes``."""
+
+    kind: str
+    row: int
+    changes: tuple[Change, ...]
+    log_prior: float
+    label: str
+
+
+# --- candidates ------------------------------------------------------------------------------
+
+
+def _flip_sign(text: str) -> str:
+    t = text.strip()
+    if t.startswith("-"):
+        return t[1:]
+    if t.startswith("+"):
+        return "-" + t[1:]
+    return "-" + t
+
+
+def _shift_text(text: str, k: int) -> str | None:
+    try:
+        d = Decimal(text.strip()).scaleb(k)
+    except InvalidOperation:
+        return None
+    s = format(d, "f") if abs(d.adjusted()) < 16 else str(d)
+    return s
+
+
+def _transpositions(text: str) -> list[tuple[int, str]]:
+    t = text.strip()
+    out = []
+    mantissa_end = next((i for i, ch in enumerate(t) if ch in "eE"), len(t))
+    for i in range(mantissa_end - 1):
+        a, b = t[i], t[i + 1]
+        if a.isdigit() and b.isdigit() and a != b:
+            out.append((i, t[:i] + b + a + t[i + 2 :]))
+    return out
+
+
+def _fmt(value) -> str:
+    return str(value) if isinstance(value, str) else f"{value:g}"
+
+
+def candidates_for(rec: dict, row: int, partners: list[tuple[int, str]]) -> list[Candidate]:
+    """Every single-slip correction of one record.
+
+    Parameters
+    ----------
+    rec : dict
+        The record's fields as read (``form``, ``log_base``, ``A`` and ``A_text``, ...).
+    row : int
+        Its row in the table.
+    partners : list of (int, str)
+        Rows and ids of the records of the other phase of the same substance (for
+        ``phase-swap``).
+
+    Returns
+    -------
+    list of Candidate
+        Log priors are relative within each kind (``-ln`` of the number of variants); the
+        caller adds the kind's prior.
+    """
+    spec = FORMS[rec["form"]]
+    by_kind: dict[str, list[tuple[tuple[Change, ...], str]]] = defaultdict(list)
+    base = rec["log_base"]
+    other = "10" if base == "e" else "e"
+    word = {"e": "ln P", "10": "log10 P"}
+    by_kind["log-base"].append(
+        (
+            (Change(row, "log_base", other),),
+            f"the coefficients are for {word[other]}, not {word[base]} "
+            f"(log_base {base} -> {other})",
+        )
+    )
+    unit = rec["pressure_unit"]
+    for u in PRESSURE_UNITS:
+        if u != unit:
+            by_kind["pressure-unit"].append(
+                (
+                    (Change(row, "pressure_unit", u),),
+                    f"the coefficients give P in {u}, not {unit} (pressure_unit {unit} -> {u})",
+                )
+            )
+    if spec.family == "antoine":
+        tu = rec.get("temperature_unit") or "K"
+        s1, o1 = TEMPERATURE_UNITS[tu]
+        for v in spec.temperature_units:
+            if v == tu:
+                continue
+            s2, o2 = TEMPERATURE_UNITS[v]
+            by_kind["temperature-unit"].append(
+                (
+                    (Change(row, "temperature_unit", v),),
+                    f"the Antoine constants and the range are for theta in {v}, not {tu} "
+                    f"(temperature_unit {tu} -> {v})",
+                )
+            )
+            # the range was converted to the record's unit but the constants were not
+            changes = [Change(row, "temperature_unit", v)]
+            for f in ("t_min", "t_max"):
+                val = rec.get(f)
+                if val is not None and np.isfinite(val):
+                    new = round(((val * s1 + o1) - o2) / s2, 10)
+                    changes.append(Change(row, f, float(new), repr(float(new))))
+            by_kind["temperature-unit"].append(
+                (
+                    tuple(changes),
+                    f"the Antoine constants are for theta in {v}, not {tu}; the range was "
+                    f"already in {tu} (temperature_unit {tu} -> {v}, range converted)",
+                )
+            )
+    coeffs = [c for c in spec.coefficients if rec.get(c + "_text")]
+    for c in coeffs:
+        text = str(rec[c + "_text"])
+        v = float(rec[c])
+        if v != 0.0:
+            new = _flip_sign(text)
+            by_kind["sign"].append(
+                ((Change(row, c, -v, new),), f"the sign of {c} was lost or added ({text} -> {new})")
+            )
+        for k in _DECIMAL_SHIFTS:
+            new = _shift_text(text, k)
+            if new is None or v == 0.0:
+                continue
+            by_kind["decimal-shift"].append(
+                (
+                    (Change(row, c, float(new), new),),
+                    f"{c} is off by a factor {10.0**-k:g} ({text} -> {new})",
+                )
+            )
+        for _, new in _transpositions(text):
+            by_kind["digit-transposition"].append(
+                (
+                    (Change(row, c, float(new), new),),
+                    f"two adjacent digits of {c} are transposed ({text} -> {new})",
+                )
+            )
+    for i, a in enumerate(coeffs):
+        for b in coeffs[i + 1 :]:
+            ta, tb = str(rec[a + "_text"]), str(rec[b + "_text"])
+            if float(rec[a]) == float(rec[b]):
+                continue
+            by_kind["coefficient-swap"].append(
+                (
+                    (Change(row, a, float(rec[b]), tb), Change(row, b, float(rec[a]), ta)),
+                    f"{a} and {b} were entered in each other's columns ({a} {ta} <-> {b} {tb})",
+                )
+            )
+    phase = rec["phase"]
+    flip = "liquid" if phase == "solid" else "solid"
+    for prow, pid in partners:
+        by_kind["phase-swap"].append(
+            (
+                (Change(row, "phase", flip), Change(prow, "phase", phase)),
+                f"the solid and liquid labels of {rec['id']} and {pid} are swapped "
+                f"({rec['id']} is the {flip}, {pid} the {phase})",
+            )
+        )
+    out = []
+    for kind, items in by_kind.items():
+        lp = -math.log(len(items))
+        out.extend(Candidate(kind, row, ch, lp, label) for ch, label in items)
+    return out
+
+
+# --- variants: all candidates audited at once ------------------------------------------------
+
+
+def _quiet(func):
+    """Run ``func`` with numpy's floating-point warnings off: candidate corrections are
+    wrong on purpose, and their overflows become evidence, never warnings.
+    """
+    import functools
+
+    @functools.wraps(func)
+    def wrapper(*args, **kwargs):
+        with np.errstate(all="ignore"):
+            return func(*args, **kwargs)
+
+    return wrapper
+
+
+def _key(f: Finding) -> tuple[str, tuple[str, ...]]:
+    """A finding's identity across variants (whose substances are renamed): check and ids."""
+    return (f.check, tuple(sorted(f.records)))
+
+
+def _rho(z: np.ndarray) -> np.ndarray:
+    """The robust (soft-L1) cost of a standardized residual."""
+    return 2.0 * (np.sqrt(1.0 + z * z) - 1.0)
+
+
+def _groups(codes: np.ndarray) -> dict[int, np.ndarray]:
+    order = np.argsort(codes, kind="stable")
+    sc = codes[order]
+    cut = np.flatnonzero(np.diff(sc)) + 1
+    return {
+        int(sc[g[0]]): order_part
+        for g, order_part in zip(
+            np.split(np.arange(sc.size), cut), np.split(order, cut), strict=True
+        )
+        if g.size and sc[g[0]] >= 0
+    }
+
+
+_TEXT_FIELDS = ("phase", "log_base", "pressure_unit", "temperature_unit")
+
+
+def _variant_table(
+    table: Table, ctx: AuditContext, units: list[tuple[int, tuple[Change, ...]]]
+) -> Table:
+    """One table holding every unit (a substance code and the changes applied to it) as its
+    own substance, named by the unit's index.
+    """
+    rec_g = _groups(ctx.codes)
+    ref_g = _groups(ctx.ref_codes)
+    pt_g = _groups(ctx.point_codes)
+    empty = np.empty(0, dtype=np.int64)
+
+    def replicate(frame: pd.DataFrame, groups) -> tuple[pd.DataFrame, np.ndarray]:
+        parts = [groups.get(code, empty) for code, _ in units]
+        idx = np.concatenate(parts) if parts else empty
+        unit_of = np.repeat(np.arange(len(units)), [p.size for p in parts])
+        out = frame.iloc[idx].reset_index(drop=True)
+        out["substance"] = pd.Series(unit_of.astype(str), dtype=TEXT)
+        return out, idx
+
+    recs, src_rows = replicate(table.records, rec_g)
+    # where each (unit, original row) landed
+    starts = np.concatenate(([0], np.cumsum([rec_g.get(c, empty).size for c, _ in units])))
+    pos: dict[tuple[int, int], int] = {}
+    for u, (code, changes) in enumerate(units):
+        if changes:
+            rows = rec_g[code]
+            for k, r in enumerate(rows):
+                pos[(u, int(r))] = int(starts[u] + k)
+    edits: dict[str, list[tuple[int, object, str | None]]] = defaultdict(list)
+    for u, (_, changes) in enumerate(units):
+        for ch in changes:
+            edits[ch.field].append((pos[(u, ch.row)], ch.value, ch.text))
+    for field, items in edits.items():
+        at = np.array([i for i, _, _ in items], dtype=np.int64)
+        if field in _TEXT_FIELDS:
+            col = recs[field].astype(object).to_numpy(copy=True)
+            col[at] = [v for _, v, _ in items]
+            recs[field] = pd.Series(col, dtype=TEXT)
+        else:
+            col = recs[field].to_numpy(dtype=float, copy=True)
+            col[at] = [float(v) for _, v, _ in items]  # type: ignore[arg-type]
+            recs[field] = col
+            txt = recs[field + "_text"].astype(object).to_numpy(copy=True)
+            txt[at] = [t for _, _, t in items]
+            recs[field + "_text"] = pd.Series(txt, dtype=TEXT)
+    for field in _TEXT_FIELDS:  # categoricals of the original file cannot take new values
+        if isinstance(recs[field].dtype, pd.CategoricalDtype):
+            recs[field] = recs[field].astype(object).astype(TEXT)
+    recs["file"] = pd.Categorical.from_codes(np.zeros(len(recs), dtype=np.int8), ["<variant>"])
+    recs["line"] = np.arange(1, len(recs) + 1, dtype=np.int64)
+    refs, _ = replicate(table.references, ref_g)
+    pts, _ = replicate(table.points, pt_g)
+    out = _Collector()
+    raw = RawFrame("<variant>", list(recs.columns), {}, recs["line"].tolist())
+    _record_rules(recs, raw, out)
+    problems = pd.DataFrame(
+        out.problems, columns=["file", "line", "column", "rule", "message", "id", "substance"]
+    )
+    return Table(recs, refs, pts, problems)
+
+
+def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
+    """|z| of every piece of continuous evidence: (substance code, |z|) arrays."""
+    policy = ctx.policy
+    out_codes: list[np.ndarray] = []
+    out_cost: list[np.ndarray] = []
+
+    def add(codes: np.ndarray, z: np.ndarray) -> None:
+        z = np.asarray(z, dtype=float)
+        # a residual that cannot be computed counts as the worst (it is capped later)
+        out_codes.append(np.asarray(codes, dtype=np.int64))
+        out_cost.append(np.where(np.isfinite(z), np.abs(z), np.inf))
+
+    # a correction that makes a curve unusable over its range (an Antoine pole moved into it)
+    # must not escape the evidence that the other checks would weigh
+    unusable = ctx.codes[~ctx.evaluable & (ctx.codes >= 0)]
+    add(unusable, np.full(unusable.size, np.inf))
+    # solid/liquid pairs at the reference melting point, and Hess's law at the crossing
+    pr = ctx.pairs
+    tol = policy.thresholds("melting-point-mismatch")["tolerance"]
+    has_tm = np.isfinite(pr["tm"])
+    if has_tm.any():
+        s, lq, tm = pr["s"][has_tm], pr["l"][has_tm], pr["tm"][has_tm]
+        d = (
+            evaluate(ctx.curves.take(s), tm, order=0)[0]
+            - evaluate(ctx.curves.take(lq), tm, order=0)[0]
+        )
+        add(ctx.codes[s], d / (0.5 * tol))
+        # a solid range usually ends, and a liquid range starts, at the melting point
+        gap = np.abs(ctx.curves.t_max[s] - tm) + np.abs(ctx.curves.t_min[lq] - tm)
+        add(ctx.codes[s], gap / (0.05 * tm))
+    hfus = ctx.reference("enthalpy_of_fusion", pr["s"])
+    cross = np.isfinite(pr["T"]) & np.isfinite(hfus)
+    if cross.any():
+        s, t = pr["s"][cross], pr["T"][cross]
+        _, ys1, _ = evaluate(ctx.curves.take(s), t, order=1)
+        h_sub = R * t * t * ys1
+        resid = (R * t * t * pr["slope_diff"][cross] - hfus[cross]) / np.abs(h_sub)
+        hess = policy.thresholds("fusion-enthalpy-mismatch")
+        add(ctx.codes[s], resid / (0.5 * hess.get("tolerance", 0.03)))
+    rows = np.flatnonzero(ctx.evaluable)
+    # the normal boiling point, in ln P, looser the farther it lies outside the range
+    tb = ctx.reference("normal_boiling_point", rows)
+    liq = ctx.liquid[rows] & np.isfinite(tb)
+    if liq.any():
+        r = rows[liq]
+        c = ctx.curves.take(r)
+        t = tb[liq]
+        d = evaluate(c, t, order=0)[0] - LN_P_STANDARD
+        dist = np.maximum(c.t_min - t, t - c.t_max).clip(min=0.0) / t
+        tol_b = policy.thresholds("boiling-point-mismatch")["tolerance"]
+        add(ctx.codes[r], d / (0.5 * tol_b * (1.0 + 20.0 * dist)))
+    # the entropy of the phase change (Trouton's rule generalised), outside its band
+    th = policy.thresholds("enthalpy-implausible")
+    if rows.size:
+        c = ctx.curves.take(rows)
+        t = 2.0 / (1.0 / c.t_min + 1.0 / c.t_max)
+        y, y1, _ = evaluate(c, t, order=1)
+        ds = R * t * y1 + R * (y - LN_P_STANDARD)
+        liquid = ctx.liquid[rows]
+        lo = np.where(liquid, th["liquid_min"], th["solid_min"])
+        hi = np.where(liquid, th["liquid_max"], th["solid_max"])
+        add(ctx.codes[rows], np.maximum(lo - ds, 0.0) / 10.0 + np.maximum(ds - hi, 0.0) / 10.0)
+    # other sources of the same substance and phase, at the middle of the common range
+    key = np.where(ctx.evaluable, ctx.codes * 2 + ctx.liquid, -1)
+    ev = np.flatnonzero(key >= 0)
+    i, j = same_key_pairs(key, ev, ev)
+    keep = i < j
+    i, j = i[keep], j[keep]
+    if i.size:
+        lo = np.maximum(ctx.curves.t_min[i], ctx.curves.t_min[j])
+        hi = np.minimum(ctx.curves.t_max[i], ctx.curves.t_max[j])
+        lo, hi = np.where(lo < hi, lo, hi), np.where(lo < hi, hi, lo)  # no overlap: the gap
+        t = 2.0 / (1.0 / lo + 1.0 / hi)
+        d = evaluate(ctx.curves.take(i), t, 0)[0] - evaluate(ctx.curves.take(j), t, 0)[0]
+        u_def = policy.thresholds("sources-disagree")["default_uncertainty"]
+        ui = np.nan_to_num(ctx.uncertainty[i], nan=u_def)
+        uj = np.nan_to_num(ctx.uncertainty[j], nan=u_def)
+        add(ctx.codes[i], d / np.sqrt(ui**2 + uj**2))
+    # measured points of the same substance and phase within the range
+    pts = ctx.table.points
+    if len(pts):
+        pt_key = np.where(
+            ctx.point_codes >= 0,
+            ctx.point_codes * 2 + (pts["phase"].astype(object) == "liquid").to_numpy(),
+            -1,
+        )
+        r, p = match(key, pt_key)
+        if r.size:
+            t = pts["T_K"].to_numpy(dtype=float)[p]
+            c = ctx.curves.take(r)
+            inside = (t >= c.t_min * 0.98) & (t <= c.t_max * 1.02)
+            res = np.log(pts["P_Pa"].to_numpy(dtype=float)[p]) - evaluate(c, t, 0)[0]
+            u_def = policy.thresholds("points-misfit")["default_uncertainty"]
+            u_pt = np.nan_to_num(
+                pts["uncertainty"].to_numpy(dtype=float, na_value=np.nan)[p], nan=u_def
+            )
+            z2 = np.where(inside, (res / u_pt) ** 2, 0.0)
+            n = np.bincount(r, weights=inside.astype(float), minlength=ctx.n)
+            ss = np.bincount(r, weights=z2, minlength=ctx.n)
+            has = np.flatnonzero(n > 0)
+            # the RMS standardized residual counts as two pieces of evidence
+            add(
+                np.repeat(ctx.codes[has], 2),
+                np.repeat(np.sqrt(ss[has] / n[has]), 2),
+            )
+    if not out_codes:
+        return np.empty(0, dtype=np.int64), np.empty(0)
+    return np.concatenate(out_codes), np.concatenate(out_cost)
+
+
+@dataclass
+class _Outcome:
+    findings: list[Finding]
+    z: np.ndarray  # |standardized residual| of each piece of continuous evidence
+
+    def score(self, cal: dict) -> float:
+        """The misfit S: capped evidence costs plus the cost of each finding."""
+        fc = {"error": cal["error_cost"], "warning": cal["warning_cost"], "note": 0.0}
+        with np.errstate(invalid="ignore", over="ignore"):
+            cost = self.z * self.z if cal["loss"] == "quadratic" else _rho(self.z)
+        cost = np.where(np.isnan(cost), np.inf, cost)
+        return float(np.minimum(cost, cal["component_cap"]).sum()) + sum(
+            fc[f.severity.value] for f in self.findings
+        )
+
+
+def _audit_units(
+    table: Table, ctx: AuditContext, units: list[tuple[int, tuple[Change, ...]]]
+) -> list[_Outcome]:
+    from .audit import run_checks
+
+    names = [n for n in REGISTRY if n not in _NOT_EVIDENCE]
+    outcomes: list[_Outcome] = []
+    sizes = np.bincount(ctx.codes[ctx.codes >= 0], minlength=len(ctx.names))
+    a = 0
+    while a < len(units):  # chunks of at most _CHUNK_ROWS variant records
+        b, rows = a, 0
+        while b < len(units) and (b == a or rows + sizes[units[b][0]] <= _CHUNK_ROWS):
+            rows += sizes[units[b][0]]
+            b += 1
+        part = units[a:b]
+        vt = _variant_table(table, ctx, part)
+        vctx = AuditContext(vt, ctx.policy)
+        with np.errstate(all="ignore"):
+            found = run_checks(vctx, names)
+            mis = _misfit(vctx)
+        by_unit: dict[int, list[Finding]] = defaultdict(list)
+        for f in found:
+            if f.substance:
+                by_unit[int(f.substance)].append(f)
+        unit_of_code = np.array([int(n) for n in vctx.names], dtype=np.int64)
+        mc, cost = mis
+        mu = unit_of_code[mc] if mc.size else mc
+        order = np.argsort(mu, kind="stable")
+        split = np.searchsorted(mu[order], np.arange(len(part) + 1))
+        costs = [cost[order[split[u] : split[u + 1]]] for u in range(len(part))]
+        outcomes.extend(_Outcome(by_unit[u], costs[u]) for u in range(len(part)))
+        a = b
+    return outcomes
+
+
+# --- scoring and suggestions -----------------------------------------------------------------
+
+
+def _curve_key(ctx: AuditContext, cand: Candidate, table: Table) -> tuple:
+    """What a correction amounts to: the corrected records' curves at five temperatures and
+    their ranges and phases, rounded (equal keys are one fix written two ways).
+    """
+    rows = sorted({ch.row for ch in cand.changes})
+    sub = table.records.iloc[rows].copy()
+    for f in _TEXT_FIELDS:
+        sub[f] = sub[f].astype(object)
+    for ch in cand.changes:
+        sub.at[sub.index[rows.index(ch.row)], ch.field] = ch.value
+    from .equations.engine import curves_from_frame
+
+    c = curves_from_frame(sub)
+    frac = np.linspace(0.0, 1.0, 5)[None, :]
+    t = c.t_min[:, None] + (c.t_max - c.t_min)[:, None] * frac
+    with np.errstate(all="ignore"):
+        y = evaluate(c, t, 0)[0]
+    return (
+        tuple(rows),
+        tuple(sub["phase"].tolist()),
+        tuple(np.round(c.t_min, 6)),
+        tuple(np.round(c.t_max, 6)),
+        tuple(np.round(np.nan_to_num(y, nan=1e300), 6).ravel()),
+    )
+
+
+def _record(table: Table, row: int) -> dict:
+    r = table.records.iloc[row]
+    return {k: (None if (v is pd.NA or v is None) else v) for k, v in r.items()}
+
+
+@_quiet
+def hypotheses(ctx: AuditContext, findings: list[Finding]) -> dict[str, tuple]:
+    """Every single-slip candidate of every suspect record, audited (the costly part).
+
+    Returns
+    -------
+    dict
+        Substance -> (outcome as written, candidates, their outcomes), for :func:`choose`.
+    """
+    table = ctx.table
+    suspects: dict[str, set[str]] = defaultdict(set)
+    for f in findings:
+        if f.severity.rank >= 1 and f.check not in _NOT_EVIDENCE and f.substance:
+            suspects[f.substance].update(f.records)
+    if not suspects:
+        return {}
+    ids = table.records["id"].astype(object).to_numpy()
+    wanted = {i for s in suspects.values() for i in s}
+    row_of: dict[str, int] = {}
+    for r in np.flatnonzero(table.records["id"].isin(list(wanted)).to_numpy()):
+        row_of.setdefault(str(ids[r]), int(r))
+    code_of = {str(n): k for k, n in enumerate(ctx.names)}
+    cal = CALIBRATION
+    prior_kind = math.log((1.0 - cal["prior_none"]) / len(KINDS))
+    units: list[tuple[int, tuple[Change, ...]]] = []
+    plan: dict[str, tuple[int, list[Candidate]]] = {}
+    for name, rids in suspects.items():
+        rows = sorted(row_of[i] for i in rids if i in row_of)
+        if not rows:
+            continue
+        code = code_of[name]
+        cands: list[Candidate] = []
+        seen: set = set()
+        sub_rows = np.flatnonzero(ctx.codes == code) if len(rows) else []
+        for row in rows:
+            rec = _record(table, row)
+            if rec.get("form") not in FORMS:
+                continue
+            partners = [
+                (int(p), str(ids[p]))
+                for p in sub_rows
+                if p != row and str(table.records["phase"].iat[p]) != rec["phase"]
+            ]
+            for c in candidates_for(rec, row, partners):
+                key = (c.kind, frozenset(c.changes))
+                if key in seen:  # a phase swap is proposed from both of its records
+                    continue
+                seen.add(key)
+                cands.append(replace(c, log_prior=c.log_prior + prior_kind - math.log(len(rows))))
+        plan[name] = (len(units), cands)
+        units.append((code, ()))
+        units.extend((code, c.changes) for c in cands)
+    outcomes = _audit_units(table, ctx, units)
+    return {
+        name: (outcomes[start], cands, outcomes[start + 1 : start + 1 + len(cands)], {})
+        for name, (start, cands) in plan.items()
+    }
+
+
+@_quiet
+def diagnose(
+    ctx: AuditContext, findings: list[Finding], calibration: dict | None = None
+) -> dict[str, dict]:
+    """The best single-slip fix for each substance with errors or warnings.
+
+    Parameters
+    ----------
+    ctx : AuditContext
+        The audit's context (the table, its curves and the policy).
+    findings : list of Finding
+        The audit's findings.
+    calibration : dict, optional
+        Scoring constants; :data:`CALIBRATION` by default.
+
+    Returns
+    -------
+    dict
+        Substance -> ``{"suggestion": dict or None, "clears": set of finding keys}``.
+    """
+    return {name: choose(ctx, h, calibration) for name, h in hypotheses(ctx, findings).items()}
+
+
+@_quiet
+def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None) -> dict:
+    """Weigh the audited candidates of one substance (from :func:`hypotheses`) and return
+    ``{"suggestion": dict or None, "clears": set of finding keys, "none": float}``.
+    """
+    cal = {**CALIBRATION, **(calibration or {})}
+    table = ctx.table
+    base, cands, outs, keys = hypothesis
+    T = cal["temperature"]
+    before = {_key(f) for f in base.findings if f.severity.rank >= 1}
+    if not cands:
+        return {"suggestion": None, "clears": set(), "none": 1.0}
+    # hypotheses: no single slip (the record as written), and each candidate; a candidate
+    # that does not lower the misfit explains nothing and cannot win
+    logw = np.array(
+        [math.log(cal["prior_none"]) - base.score(cal) / (2 * T)]
+        + [c.log_prior - o.score(cal) / (2 * T) for c, o in zip(cands, outs, strict=True)]
+    )
+    post = np.exp(logw - logsumexp(logw))
+    # merge equivalent corrections (same curves, ranges and phases)
+    order = np.argsort(-post[1:])
+    groups: dict[tuple, list[int]] = {}
+    for k in order[:12]:  # only the leading ones can matter
+        if post[1 + k] < 1e-4:
+            break
+        if k not in keys:  # memoized: it does not depend on the calibration
+            keys[k] = _curve_key(ctx, cands[k], table)
+        groups.setdefault(keys[k], []).append(int(k))
+    ranked = sorted(
+        ((sum(post[1 + k] for k in ks), ks) for ks in groups.values()),
+        key=lambda g: -g[0],
+    )
+    if not ranked or ranked[0][0] < max(cal["min_confidence"], post[0]):
+        return {"suggestion": None, "clears": set(), "none": float(post[0])}
+    conf, ks = ranked[0]
+    best = max(ks, key=lambda k: (cands[k].log_prior, -list(KINDS).index(cands[k].kind)))
+    after = {_key(f) for f in outs[best].findings if f.severity.rank >= 1}
+    cleared = before - after
+    if cal["require_clear"]:
+        # a fix must clear the errors on the record it corrects: one that leaves them is at
+        # best part of the story, and is not suggested
+        rid = str(table.records["id"].iat[cands[best].row])
+        if any(
+            f.severity is Severity.error and rid in f.records and _key(f) in before
+            for f in outs[best].findings
+        ):
+            return {"suggestion": None, "clears": set(), "none": float(post[0])}
+    sug = _suggestion(ctx, table, cands[best], outs[best], base, conf, cleared, before, ks, cands)
+    if len(ranked) > 1 and ranked[1][0] >= 0.5 * conf:
+        c2, ks2 = ranked[1]
+        k2 = ks2[0]
+        sug["runner_up"] = _suggestion(
+            ctx,
+            table,
+            cands[k2],
+            outs[k2],
+            base,
+            c2,
+            before - {_key(f) for f in outs[k2].findings if f.severity.rank >= 1},
+            before,
+            ks2,
+            cands,
+        )
+        sug["explanation"] += f" Close runner-up ({c2:.2f}): {cands[k2].label}."
+    return {"suggestion": sug, "clears": cleared, "none": float(post[0])}
+
+
+def _suggestion(
+    ctx, table, cand: Candidate, out: _Outcome, base: _Outcome, conf, cleared, before, group, cands
+) -> dict:
+    ids = table.records["id"].astype(object)
+    rid = str(ids.iat[cand.row])
+    corrected = {ch.field: ch.value for ch in cand.changes if ch.row == cand.row}
+    texts = {ch.field: ch.text for ch in cand.changes if ch.row == cand.row and ch.text}
+    sug: dict = {
+        "kind": cand.kind,
+        "record": rid,
+        "corrected": corrected,
+        "confidence": round(float(conf), 3),
+        "explanation": "",
+    }
+    if texts:
+        sug["corrected_text"] = texts
+    others = [ch for ch in cand.changes if ch.row != cand.row]
+    if others:
+        sug["also"] = [
+            {"record": str(ids.iat[ch.row]), "corrected": {ch.field: ch.value}} for ch in others
+        ]
+    remaining = {_key(f) for f in out.findings if f.severity.rank >= 1}
+    n_before = len(before)
+    if conf >= 0.8:
+        lead = "Almost certainly"
+    elif conf >= 0.5:
+        lead = "Probably"
+    else:
+        lead = "Possibly (the evidence does not single out one fix)"
+    text = f"{lead} {cand.label} [{cand.kind}, confidence {conf:.2f}]."
+    if n_before:
+        text += (
+            f" With that fixed, {len(cleared)} of the {n_before} error(s) and warning(s) on "
+            f"{table.records['substance'].astype(object).iat[cand.row]} clear"
+            + (f"; {len(remaining)} remain." if remaining else " and none remain.")
+        )
+    alt = sorted({cands[k].label for k in group if cands[k].label != cand.label})
+    if alt:
+        text += f" Equivalent: {alt[0]}."
+    sug["explanation"] = text
+    return sug
+
+
+@_quiet
+def attach_suggestions(ctx: AuditContext, findings: list[Finding]) -> list[Finding]:
+    """Findings with the diagnosis attached: each error or warning that the best fix of its
+    substance clears, or that names the corrected record, carries it as ``suggestion``.
+    """
+    diag = diagnose(ctx, findings)
+    if not diag:
+        return findings
+    out = []
+    for f in findings:
+        d = diag.get(f.substance)
+        sug = d["suggestion"] if d else None
+        if (
+            sug is not None
+            and f.severity.rank >= 1
+            and (_key(f) in d["clears"] or sug["record"] in f.records)
+        ):
+            f = replace(f, suggestion=sug)
+        out.append(f)
+    return out

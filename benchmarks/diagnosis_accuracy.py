@@ -61,9 +61,11 @@ def summary(rows):
     wrong = np.mean([not r[3] for r in confident]) if confident else 0.0
     given = [r for r in rows if r[1] and r[2] is not None]
     eps = 1e-6
-    loss = -np.mean(
-        [np.log(np.clip(r[2] if r[3] else 1 - r[2], eps, 1)) for r in given]
-    ) if given else float("nan")
+    loss = (
+        -np.mean([np.log(np.clip(r[2] if r[3] else 1 - r[2], eps, 1)) for r in given])
+        if given
+        else float("nan")
+    )
     return acc, wrong, len(confident), loss
 
 
@@ -94,12 +96,17 @@ def main() -> None:
         for loss_, T, p0, cap, err in itertools.product(
             ("quadratic",), (0.75, 1.0, 1.5), (0.1, 0.3), (8.0, 12.0), (True, False)
         ):
-            cal = {"temperature": T, "prior_none": p0, "component_cap": cap, "require_clear": err,
-                   "loss": loss_}
+            cal = {
+                "temperature": T,
+                "prior_none": p0,
+                "component_cap": cap,
+                "require_clear": err,
+                "loss": loss_,
+            }
             acc, wrong, n, loss = summary(evaluate_cases(cases, flagged, hyps, ctx, cal))
             print(
-                f"{loss_:10s} {T:5.1f} {p0:4.1f} {cap:4.0f} {err!s:6}  {acc:8.3f}  {wrong:15.3f} ({n:4d})"
-                f"  {loss:8.3f}"
+                f"{loss_:10s} {T:5.1f} {p0:4.1f} {cap:4.0f} {err!s:6}  {acc:8.3f}  "
+                f"{wrong:15.3f} ({n:4d})  {loss:8.3f}"
             )
 
     rows = evaluate_cases(cases, flagged, hyps, ctx, None)
@@ -114,7 +121,10 @@ def main() -> None:
         fl = [r for r in rs if r[1]]
         sg = [r for r in fl if r[2] is not None]
         right = sum(bool(r[3]) for r in fl)
-        print(f"{kind:20s} {len(rs):6d} {len(fl):8d} {len(sg):10d} {right:6d}  ({right / max(1, len(fl)):.0%})")
+        print(
+            f"{kind:20s} {len(rs):6d} {len(fl):8d} {len(sg):10d} {right:6d}  "
+            f"({right / max(1, len(fl)):.0%})"
+        )
     print(
         f"\nTop suggestion is the true slip: {acc:.1%} of flagged corrupted records\n"
         f"Confident suggestions (>= 0.8) that are wrong: {wrong:.1%} of {n}\n"

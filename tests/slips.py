@@ -23,8 +23,8 @@ from dataclasses import dataclass, field
 from decimal import Decimal
 
 import numpy as np
-
 from refdata import ALCOCK, CRC, POLING, alcock_pairs, table_from_rows
+
 from vpaudit.equations.convert import convert_record
 from vpaudit.equations.engine import curves_from_frame, evaluate
 from vpaudit.units import PRESSURE_UNITS

@@ -69,7 +69,7 @@ def audit_table(
     substances: list[str] | None = None,
     table_path: str = "",
     progress=None,
-    diagnose: bool = True,
+    diagnose: int | bool = True,
 ) -> AuditResult:
     """Audit a table that has been read.
 
@@ -85,9 +85,11 @@ def audit_table(
         Audit only these substances.
     progress : callable, optional
         ``progress(done, total, check)`` before each check (for progress bars).
-    diagnose : bool
+    diagnose : bool or int
         Look for the likely slip behind each error and warning and attach it as the
-        finding's ``suggestion`` (:mod:`vpaudit.diagnose`).
+        finding's ``suggestion`` (:mod:`vpaudit.diagnose`); an integer is the most
+        substances diagnosed (default :data:`vpaudit.diagnose.DIAGNOSE_LIMIT`), 0 or False
+        none.
 
     Returns
     -------
@@ -99,10 +101,12 @@ def audit_table(
         table = restrict(table, set(substances))
     ctx = AuditContext(table, policy)
     findings = run_checks(ctx, names, progress)
+    skipped = 0
     if diagnose:
-        from .diagnose import attach_suggestions
+        from .diagnose import DIAGNOSE_LIMIT, attach_suggestions
 
-        findings = attach_suggestions(ctx, findings)
+        limit = DIAGNOSE_LIMIT if diagnose is True else int(diagnose)
+        findings, skipped = attach_suggestions(ctx, findings, limit)
     findings.sort(key=_sort_key)
     summary = {
         "records": int(len(table.records)),
@@ -114,6 +118,8 @@ def audit_table(
         "warning": sum(f.severity is Severity.warning for f in findings),
         "note": sum(f.severity is Severity.note for f in findings),
     }
+    if skipped:
+        summary["not_diagnosed"] = skipped
     return AuditResult(findings, summary, policy.describe(), table_path, names)
 
 

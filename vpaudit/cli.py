@@ -119,10 +119,29 @@ def _emit(text: str, output: str | None) -> None:
     help="Rewrite PDF look-alikes in numbers (U+2212, thin spaces, 1.2D+03, x10^-3) "
     "and list each rewrite.",
 )
+@click.option(
+    "--diagnose-limit",
+    type=click.IntRange(min=0),
+    default=1000,
+    show_default=True,
+    help="Look for the likely slip behind the errors and warnings of at most this many "
+    "substances (worst first); 0 turns the diagnosis off.",
+)
 @QUIET
 @JOBS
 def audit_cmd(
-    table, fmt, output, fail_on, policy, only, substance, db, normalize_typography, quiet, jobs
+    table,
+    fmt,
+    output,
+    fail_on,
+    policy,
+    only,
+    substance,
+    db,
+    normalize_typography,
+    diagnose_limit,
+    quiet,
+    jobs,
 ):
     """Test every record and solid/liquid pair of TABLE against thermodynamics."""
     from .api import open_table
@@ -152,6 +171,7 @@ def audit_cmd(
             substances=list(substance) or None,
             table_path=str(table),
             progress=step,
+            diagnose=diagnose_limit,
         )
     if db:
         from .store import store_table

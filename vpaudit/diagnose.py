@@ -86,6 +86,7 @@ __all__ = [
     "diagnose",
     "hypotheses",
     "CALIBRATION",
+    "DIAGNOSE_LIMIT",
 ]
 
 #: The slip kinds, in reporting order, with the hypothesis each tests.
@@ -520,6 +521,7 @@ def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
 class _Outcome:
     findings: list[Finding]
     z: np.ndarray  # |standardized residual| of each piece of continuous evidence
+    key: bytes = b""  # what the correction amounts to (curves, ranges, phases), rounded
 
     def score(self, cal: dict) -> float:
         """The misfit S: capped evidence costs plus the cost of each finding."""
@@ -562,7 +564,8 @@ def _audit_units(
         order = np.argsort(mu, kind="stable")
         split = np.searchsorted(mu[order], np.arange(len(part) + 1))
         costs = [cost[order[split[u] : split[u + 1]]] for u in range(len(part))]
-        outcomes.extend(_Outcome(by_unit[u], costs[u]) for u in range(len(part)))
+        keys = _unit_keys(vctx, len(part))
+        outcomes.extend(_Outcome(by_unit[u], costs[u], keys[u]) for u in range(len(part)))
         a = b
     return outcomes
 
@@ -570,30 +573,21 @@ def _audit_units(
 # --- scoring and suggestions -----------------------------------------------------------------
 
 
-def _curve_key(ctx: AuditContext, cand: Candidate, table: Table) -> tuple:
-    """What a correction amounts to: the corrected records' curves at five temperatures and
-    their ranges and phases, rounded (equal keys are one fix written two ways).
+def _unit_keys(vctx: AuditContext, n_units: int) -> list[bytes]:
+    """What each unit's records amount to: their curves at five temperatures over their
+    ranges, the ranges and the phases, rounded (equal keys are one fix written two ways,
+    such as Torr and mmHg). Rows of a unit are contiguous and in the same order in every
+    unit of a substance.
     """
-    rows = sorted({ch.row for ch in cand.changes})
-    sub = table.records.iloc[rows].copy()
-    for f in _TEXT_FIELDS:
-        sub[f] = sub[f].astype(object)
-    for ch in cand.changes:
-        sub.at[sub.index[rows.index(ch.row)], ch.field] = ch.value
-    from .equations.engine import curves_from_frame
-
-    c = curves_from_frame(sub)
+    c = vctx.curves
     frac = np.linspace(0.0, 1.0, 5)[None, :]
     t = c.t_min[:, None] + (c.t_max - c.t_min)[:, None] * frac
-    with np.errstate(all="ignore"):
-        y = evaluate(c, t, 0)[0]
-    return (
-        tuple(rows),
-        tuple(sub["phase"].tolist()),
-        tuple(np.round(c.t_min, 6)),
-        tuple(np.round(c.t_max, 6)),
-        tuple(np.round(np.nan_to_num(y, nan=1e300), 6).ravel()),
-    )
+    y = evaluate(c, t, 0)[0]
+    parts = np.column_stack([y, c.t_min, c.t_max, vctx.liquid.astype(float)])
+    parts = np.round(np.nan_to_num(parts, nan=1e300, posinf=1e300, neginf=-1e300), 6)
+    unit = np.array([int(n) for n in vctx.names], dtype=np.int64)[vctx.codes]
+    bounds = np.searchsorted(unit, np.arange(n_units + 1))
+    return [parts[bounds[u] : bounds[u + 1]].tobytes() for u in range(n_units)]
 
 
 def _record(table: Table, row: int) -> dict:
@@ -601,9 +595,30 @@ def _record(table: Table, row: int) -> dict:
     return {k: (None if (v is pd.NA or v is None) else v) for k, v in r.items()}
 
 
+def _suspects(findings: list[Finding], limit: int | None) -> tuple[dict[str, set[str]], int]:
+    """The records of each substance with errors or warnings, worst substances first, at
+    most ``limit`` substances; returns them and how many were left out.
+    """
+    suspects: dict[str, set[str]] = defaultdict(set)
+    weight: dict[str, tuple[int, int]] = defaultdict(lambda: (0, 0))
+    for f in findings:
+        if f.severity.rank >= 1 and f.check not in _NOT_EVIDENCE and f.substance:
+            suspects[f.substance].update(f.records)
+            w = weight[f.substance]
+            weight[f.substance] = (max(w[0], f.severity.rank), w[1] + 1)
+    if limit is None or len(suspects) <= limit:
+        return dict(suspects), 0
+    order = sorted(suspects, key=lambda n: (-weight[n][0], -weight[n][1], n))
+    return {n: suspects[n] for n in order[:limit]}, len(order) - limit
+
+
 @_quiet
-def hypotheses(ctx: AuditContext, findings: list[Finding]) -> dict[str, tuple]:
+def hypotheses(
+    ctx: AuditContext, findings: list[Finding], limit: int | None = None
+) -> dict[str, tuple]:
     """Every single-slip candidate of every suspect record, audited (the costly part).
+
+    ``limit`` bounds the substances diagnosed (worst first).
 
     Returns
     -------
@@ -611,10 +626,7 @@ def hypotheses(ctx: AuditContext, findings: list[Finding]) -> dict[str, tuple]:
         Substance -> (outcome as written, candidates, their outcomes), for :func:`choose`.
     """
     table = ctx.table
-    suspects: dict[str, set[str]] = defaultdict(set)
-    for f in findings:
-        if f.severity.rank >= 1 and f.check not in _NOT_EVIDENCE and f.substance:
-            suspects[f.substance].update(f.records)
+    suspects = _suspects(findings, limit)[0]
     if not suspects:
         return {}
     ids = table.records["id"].astype(object).to_numpy()
@@ -655,14 +667,17 @@ def hypotheses(ctx: AuditContext, findings: list[Finding]) -> dict[str, tuple]:
         units.extend((code, c.changes) for c in cands)
     outcomes = _audit_units(table, ctx, units)
     return {
-        name: (outcomes[start], cands, outcomes[start + 1 : start + 1 + len(cands)], {})
+        name: (outcomes[start], cands, outcomes[start + 1 : start + 1 + len(cands)])
         for name, (start, cands) in plan.items()
     }
 
 
 @_quiet
 def diagnose(
-    ctx: AuditContext, findings: list[Finding], calibration: dict | None = None
+    ctx: AuditContext,
+    findings: list[Finding],
+    calibration: dict | None = None,
+    limit: int | None = None,
 ) -> dict[str, dict]:
     """The best single-slip fix for each substance with errors or warnings.
 
@@ -674,6 +689,8 @@ def diagnose(
         The audit's findings.
     calibration : dict, optional
         Scoring constants; :data:`CALIBRATION` by default.
+    limit : int, optional
+        Diagnose at most this many substances, those with errors and most findings first.
 
     Returns
     -------
@@ -690,7 +707,7 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
     """
     cal = {**CALIBRATION, **(calibration or {})}
     table = ctx.table
-    base, cands, outs, keys = hypothesis
+    base, cands, outs = hypothesis
     T = cal["temperature"]
     before = {_key(f) for f in base.findings if f.severity.rank >= 1}
     if not cands:
@@ -704,13 +721,11 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
     post = np.exp(logw - logsumexp(logw))
     # merge equivalent corrections (same curves, ranges and phases)
     order = np.argsort(-post[1:])
-    groups: dict[tuple, list[int]] = {}
-    for k in order[:12]:  # only the leading ones can matter
+    groups: dict[bytes, list[int]] = {}
+    for k in order:
         if post[1 + k] < 1e-4:
             break
-        if k not in keys:  # memoized: it does not depend on the calibration
-            keys[k] = _curve_key(ctx, cands[k], table)
-        groups.setdefault(keys[k], []).append(int(k))
+        groups.setdefault(outs[k].key, []).append(int(k))
     ranked = sorted(
         ((sum(post[1 + k] for k in ks), ks) for ks in groups.values()),
         key=lambda g: -g[0],
@@ -793,14 +808,24 @@ def _suggestion(
     return sug
 
 
+#: Substances diagnosed in one audit by default: about 3 ms each, so a table whose every
+#: substance is broken still finishes in seconds; the rest are counted in the summary.
+DIAGNOSE_LIMIT = 1000
+
+
 @_quiet
-def attach_suggestions(ctx: AuditContext, findings: list[Finding]) -> list[Finding]:
-    """Findings with the diagnosis attached: each error or warning that the best fix of its
-    substance clears, or that names the corrected record, carries it as ``suggestion``.
+def attach_suggestions(
+    ctx: AuditContext, findings: list[Finding], limit: int = DIAGNOSE_LIMIT
+) -> tuple[list[Finding], int]:
+    """Findings with the diagnosis attached, and the number of substances left undiagnosed.
+
+    Each error or warning that the best fix of its substance clears, or that names the
+    corrected record, carries it as ``suggestion``.
     """
-    diag = diagnose(ctx, findings)
+    diag = diagnose(ctx, findings, limit=limit)
+    skipped = _suspects(findings, limit)[1]
     if not diag:
-        return findings
+        return findings, skipped
     out = []
     for f in findings:
         d = diag.get(f.substance)
@@ -812,4 +837,4 @@ def attach_suggestions(ctx: AuditContext, findings: list[Finding]) -> list[Findi
         ):
             f = replace(f, suggestion=sug)
         out.append(f)
-    return out
+    return out, skipped

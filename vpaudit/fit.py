@@ -175,7 +175,7 @@ def _columns(form: str, t: np.ndarray, fixed: dict) -> np.ndarray:
 
 
 def _model(form: str, p: np.ndarray, t: np.ndarray, fixed: dict):
-    """y = ln(P/Pa) and its gradient with respect to the coefficients, shape (m, k)."""
+    """Y = ln(P/Pa) and its gradient with respect to the coefficients, shape (m, k)."""
     if form == "antoine":
         a, b, c = p
         s = t + c

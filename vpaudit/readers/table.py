@@ -328,18 +328,27 @@ def frame_from_raw(
 def _problem(
     out: _Collector, frame: pd.DataFrame, rows: np.ndarray, rule: str, column: str, messages
 ) -> None:
+    if not len(rows):
+        return
     if isinstance(messages, str):
         messages = [messages] * len(rows)
-    for i, msg in zip(rows, messages, strict=True):
+    rows = np.asarray(rows, dtype=np.int64)
+
+    def pick(name):  # the cells of these rows only, one column access each
+        return frame[name].take(rows).astype(object).tolist()
+
+    files, lines, subs = pick("file"), frame["line"].to_numpy()[rows], pick("substance")
+    ids = pick("id") if "id" in frame else [None] * len(rows)
+    for k, msg in enumerate(messages):
         out.problems.append(
             {
-                "file": frame["file"].iat[i],
-                "line": int(frame["line"].iat[i]),
+                "file": files[k],
+                "line": int(lines[k]),
                 "column": column,
                 "rule": rule,
                 "message": msg,
-                "id": frame["id"].iat[i] if "id" in frame else None,
-                "substance": frame["substance"].iat[i],
+                "id": None if ids[k] is pd.NA else ids[k],
+                "substance": None if subs[k] is pd.NA else subs[k],
             }
         )
 

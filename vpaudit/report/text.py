@@ -81,6 +81,11 @@ def render(result, width: int = 100) -> str:
             f"{result.affected} substance(s) changed since {result.base} were "
             "re-audited; the others are unchanged."
         )
+    if s.get("not_diagnosed"):
+        lines.append(
+            f"{s['not_diagnosed']} further substance(s) with errors or warnings were not "
+            "diagnosed (the diagnosis stops at --diagnose-limit substances, worst first)."
+        )
     flagged = len({f.substance for f in result.findings})
     lines.append(
         f"Summary: {_counts(result.findings)} in {flagged} of {s['substances']} substances."

@@ -418,6 +418,336 @@ def report_cmd(table, output, policy, no_plots):
     click.echo(f"wrote {output}: {len(result.findings)} finding(s)")
 
 
+# --- fit / convert ---------------------------------------------------------------------------
+
+
+def _audit_new(t, records: list[dict], substance: str):
+    from .audit import audit_table
+    from .policy import load_policy
+    from .readers.table import records_table
+
+    new = records_table(records, like=t)
+    result = audit_table(new, load_policy(t.policy_path), substances=[substance])
+    return result.findings
+
+
+@main.command("fit")
+@click.argument("table", type=click.Path(exists=True))
+@click.option("--substance", required=True, help="The substance whose points are fitted.")
+@click.option(
+    "--form",
+    default="three-term",
+    show_default=True,
+    type=click.Choice(
+        [
+            "two-term",
+            "three-term",
+            "four-term-t",
+            "four-term-cube",
+            "power-term",
+            "antoine",
+            "wagner-3-6",
+            "wagner-2.5-5",
+        ]
+    ),
+)
+@click.option("--phase", type=click.Choice(["solid", "liquid"]), help="Fit this phase's points.")
+@click.option("--robust", is_flag=True, help="Soft-L1 loss; points beyond 3 sigma are rejected.")
+@click.option(
+    "--pair", is_flag=True, help="Fit solid and liquid together, meeting at the triple point."
+)
+@click.option("--triple-point", help="Impose the triple point, e.g. 1234.5K (pair fits).")
+@click.option("--triple-pressure", help="Also impose its pressure, e.g. 3.2Pa (pair fits).")
+@click.option("--fusion-enthalpy", type=float, help="Also impose dH_fus there [J/mol] (pair fits).")
+@click.option(
+    "--no-references", is_flag=True, help="Pair fits: ignore the table's triple point and dH_fus."
+)
+@click.option(
+    "--t-crit", help="Wagner forms: critical temperature (default: the table's reference)."
+)
+@click.option("--p-crit", help="Wagner forms: critical pressure (default: the table's reference).")
+@click.option("--id", "record_id", help="Id of the new record.")
+@click.option(
+    "--write",
+    "write_to",
+    type=click.Path(dir_okay=False),
+    help="Append the new record(s) to this records CSV file.",
+)
+def fit_cmd(
+    table,
+    substance,
+    form,
+    phase,
+    robust,
+    pair,
+    triple_point,
+    triple_pressure,
+    fusion_enthalpy,
+    no_references,
+    t_crit,
+    p_crit,
+    record_id,
+    write_to,
+):
+    """Fit an equation to the measured points of TABLE and audit the new record.
+
+    The record carries the points' sources as provenance; --write appends it to a records
+    file without touching the file's other lines.
+    """
+    from .api import open_table
+    from .fit import fit_table, fit_table_pair
+    from .report.fit import render_fit, render_pair
+    from .units import parse_pressure, parse_temperature
+
+    t = open_table(table)
+    if pair:
+        res, recs = fit_table_pair(
+            t,
+            substance,
+            form,
+            triple_temperature=parse_temperature(triple_point) if triple_point else None,
+            triple_pressure=parse_pressure(triple_pressure) if triple_pressure else None,
+            fusion_enthalpy=fusion_enthalpy,
+            use_references=not no_references,
+        )
+        text = render_pair(res, recs, _audit_new(t, recs, substance))
+    else:
+        res, rec = fit_table(
+            t,
+            substance,
+            form,
+            phase,
+            robust=robust,
+            t_crit=parse_temperature(t_crit) if t_crit else None,
+            p_crit=parse_pressure(p_crit) if p_crit else None,
+            record_id=record_id,
+        )
+        recs = [rec]
+        text = render_fit(res, rec, _audit_new(t, recs, substance))
+    click.echo(text, nl=False)
+    if write_to:
+        from .writers import append_records
+
+        line = append_records(write_to, recs)
+        click.echo(f"appended {len(recs)} record(s) to {write_to} at line {line}")
+
+
+@main.command("convert")
+@click.argument("table", type=click.Path(exists=True))
+@click.argument("record")
+@click.option("--form", help="Target equation form (a refit unless it is the same form).")
+@click.option("--log-base", type=click.Choice(["e", "10"]))
+@click.option("--pressure-unit", help="Target pressure unit, e.g. Torr.")
+@click.option("--temperature-unit", type=click.Choice(["K", "degC", "degF"]))
+@click.option(
+    "--max-deviation",
+    type=float,
+    default=1e-3,
+    show_default=True,
+    help="Largest ln P deviation a refit may have over the range.",
+)
+@click.option("--t-crit", help="Wagner targets: critical temperature.")
+@click.option("--p-crit", help="Wagner targets: critical pressure.")
+@click.option(
+    "--format", "fmt", type=click.Choice(["csv", "json"]), default="csv", show_default=True
+)
+def convert_cmd(
+    table,
+    record,
+    form,
+    log_base,
+    pressure_unit,
+    temperature_unit,
+    max_deviation,
+    t_crit,
+    p_crit,
+    fmt,
+):
+    """Write RECORD in another form, log base or unit: exactly where possible, else refitted."""
+    from .api import open_table
+    from .fit import convert_or_refit
+    from .lookup import record_dict
+    from .units import parse_pressure, parse_temperature, pressure_factor
+    from .writers import records_csv
+
+    if pressure_unit:
+        pressure_factor(pressure_unit)
+    rec = record_dict(open_table(table), record)
+    out, dev, exact = convert_or_refit(
+        rec,
+        form=form,
+        log_base=log_base,
+        pressure_unit=pressure_unit,
+        temperature_unit=temperature_unit,
+        max_deviation=max_deviation,
+        t_crit=parse_temperature(t_crit) if t_crit else None,
+        p_crit=parse_pressure(p_crit) if p_crit else None,
+    )
+    if fmt == "json":
+        clean = {
+            k: v for k, v in out.items() if not k.endswith("_text") and k not in ("file", "line")
+        }
+        click.echo(
+            json.dumps(
+                {"record": clean, "exact": exact, "max_deviation_lnP": dev}, indent=2, default=str
+            )
+        )
+        return
+    how = "exact conversion" if exact else f"refit; max deviation {dev:.3g} in ln P over the range"
+    click.echo(f"# {record}: {how}")
+    click.echo(records_csv([out]), nl=False)
+
+
+# --- apply / review / history ------------------------------------------------------------------
+
+
+def _table_dir(table: str) -> None:
+    if str(table).endswith((".duckdb", ".db")):
+        raise click.UsageError(
+            "corrections are written to the table's text files, the source of truth: give the "
+            "table directory, then rebuild the store with 'vpaudit import'"
+        )
+
+
+def _reimport(table, db) -> None:
+    if db:
+        from .store import import_table
+
+        counts = import_table(table, db)
+        click.echo(f"re-imported {counts['records']} records into {db}")
+
+
+def _show_entry(e: dict) -> None:
+    changes = ", ".join(f"{k}: {e['before'].get(k)!r} -> {v!r}" for k, v in e["after"].items())
+    click.echo(
+        f"revised {e['record']} (revision {e['revision']}) in {e['file']}:{e['line']}: {changes}"
+    )
+
+
+@main.command("apply")
+@click.argument("table", type=click.Path(exists=True))
+@click.argument("finding")
+@click.option("--reason", help="Why (default: the suggestion's explanation).")
+@click.option("--by", help="Who (default: git user.name).")
+@click.option("--db", type=click.Path(dir_okay=False), help="Also rebuild this DuckDB store.")
+def apply_cmd(table, finding, reason, by, db):
+    """Apply the suggested fix of FINDING (CHECK:RECORD[,RECORD]) as a new revision.
+
+    The record's line in its table file is rewritten (nothing else in the file changes) and
+    the old revision is kept in the table's history (see 'vpaudit history').
+    """
+    from .api import open_table
+    from .audit import audit_table
+    from .policy import load_policy
+    from .revisions import apply_suggestion, find_finding, parse_finding
+
+    _table_dir(table)
+    check, ids = parse_finding(finding)
+    t = open_table(table)
+    subs = sorted(set(t.records.loc[t.records["id"].isin(ids), "substance"].astype(object)))
+    result = audit_table(t, load_policy(t.policy_path), substances=subs or None)
+    f = find_finding(result, check, ids)
+    for e in apply_suggestion(table, t, f, reason, by):
+        _show_entry(e)
+    after = audit_table(open_table(table), load_policy(t.policy_path), substances=subs or None)
+    left = [g for g in after.findings if g.severity.rank >= 1]
+    click.echo(
+        f"re-audited {', '.join(subs)}: "
+        + (
+            "clean (no errors or warnings)"
+            if not left
+            else f"{len(left)} error(s)/warning(s) remain"
+        )
+    )
+    _reimport(table, db)
+
+
+@main.command("review")
+@click.argument("table", type=click.Path(exists=True))
+@click.option("--by", help="Who (default: git user.name).")
+@click.option("--db", type=click.Path(dir_okay=False), help="Also rebuild this DuckDB store.")
+@click.option(
+    "--min-confidence",
+    type=float,
+    default=0.0,
+    show_default=True,
+    help="Only offer suggestions at least this confident.",
+)
+def review_cmd(table, by, db, min_confidence):
+    """Walk the suggested fixes of TABLE one by one and apply, skip or stop at each."""
+    from .api import open_table
+    from .audit import audit_table
+    from .policy import load_policy
+    from .revisions import apply_suggestion
+
+    _table_dir(table)
+    t = open_table(table)
+    result = audit_table(t, load_policy(t.policy_path), table_path=str(table))
+    seen, offers = set(), []
+    for f in result.findings:
+        s = f.suggestion
+        if s and s["confidence"] >= min_confidence and s["record"] not in seen:
+            seen.add(s["record"])
+            offers.append(f)
+    if not offers:
+        click.echo("no suggested fixes to review")
+        return
+    applied = 0
+    for k, f in enumerate(offers, 1):
+        s = f.suggestion
+        click.echo(f"\n[{k}/{len(offers)}] {f.substance}: {f.check} on {', '.join(f.records)}")
+        click.echo(f"  {f.message}")
+        click.echo(f"  suggestion for {s['record']}: {s['explanation']}")
+        click.echo(f"  corrected: {json.dumps(s.get('corrected_text') or s['corrected'])}")
+        answer = click.prompt(
+            "  apply it? [a]pply, [s]kip, [q]uit",
+            default="s",
+            type=click.Choice(["a", "s", "q"]),
+            show_choices=False,
+        )
+        if answer == "q":
+            break
+        if answer == "a":
+            for e in apply_suggestion(table, t, f, None, by):
+                _show_entry(e)
+            applied += 1
+    click.echo(f"\napplied {applied} of {len(offers)} suggested fix(es)")
+    if applied:
+        _reimport(table, db)
+
+
+@main.command("history")
+@click.argument("table", type=click.Path(exists=True))
+@click.argument("record")
+@click.option(
+    "--format", "fmt", type=click.Choice(["text", "json"]), default="text", show_default=True
+)
+def history_cmd(table, record, fmt):
+    """Every revision of RECORD: as first entered, and each correction with who, when, why."""
+    from .revisions import history
+
+    entries = history(table, record)
+    if fmt == "json":
+        click.echo(json.dumps(entries, indent=2))
+        return
+    if not entries:
+        click.echo(f"{record}: no revisions (the record is as first entered)")
+        return
+    for e in entries:
+        if e["revision"] == 0:
+            click.echo(f"revision 0 (as entered), {e['file']}:{e['line']}")
+            click.echo(f"  {e['line_after'].rstrip()}")
+            continue
+        click.echo(
+            f"revision {e['revision']}, {e['when']} by {e['by']}"
+            + (f", answering {e['finding']}" if e.get("finding") else "")
+        )
+        click.echo(f"  why: {e['why']}")
+        for k, v in e["after"].items():
+            click.echo(f"  {k}: {e['before'].get(k)!r} -> {v!r}")
+        click.echo(f"  {e['line_after'].rstrip()}")
+
+
 # --- query ---------------------------------------------------------------------------------
 
 

@@ -8,6 +8,7 @@ import math
 from typing import Any
 
 import numpy as np
+import pandas as pd
 from scipy.constants import R
 
 from .equations.engine import curves_from_frame, evaluate, temperature_at
@@ -171,3 +172,26 @@ def _stable_phase(phases, p, t, at_temperature: bool, in_range) -> str | None:
     if at_temperature:
         return min(values, key=values.get)
     return max(values, key=values.get)
+
+
+def record_dict(table: Table, record_id: str) -> dict:
+    """One record as a plain dict of its fields (numbers as floats, ``<field>_text`` beside
+    each); an unknown id is an error that names a few valid ones.
+    """
+    from .errors import EquationError
+
+    ids = table.records["id"].astype(object)
+    rows = (ids == record_id).to_numpy().nonzero()[0]
+    if len(rows) == 0:
+        some = ", ".join(map(str, ids.head(5)))
+        raise EquationError(f"no record {record_id!r} in the table (records include {some})")
+    row = table.records.iloc[int(rows[0])]
+    out = {}
+    for k, v in row.items():
+        if v is None or v is pd.NA or (isinstance(v, float) and v != v):
+            out[k] = None
+        elif isinstance(v, np.generic):
+            out[k] = v.item()
+        else:
+            out[k] = v
+    return out

@@ -701,3 +701,35 @@ def read_policy_file(path: Path) -> dict:
         raise PolicyError(f"{path}: not valid TOML: {exc}") from None
     except OSError as exc:
         raise PolicyError(f"{path}: cannot be read: {exc}") from None
+
+
+def records_table(rows: list[dict], like: Table | None = None, path: str = "<new>") -> Table:
+    """A table of the records ``rows`` (plain dicts, numbers as values or text), read through
+    the same column-wise path as files; references and points come from ``like``.
+    """
+    cols: list[str] = []
+    for r in rows:
+        for k in r:
+            if k not in cols and not k.endswith("_text"):
+                cols.append(k)
+
+    def text(r, c):
+        v = r.get(c)
+        if v is None or (isinstance(v, float) and v != v):
+            return None
+        if r.get(c + "_text"):
+            return str(r[c + "_text"])
+        if isinstance(v, float | int | np.floating) and not isinstance(v, bool):
+            return repr(float(v))
+        return str(v)
+
+    cells = {c: [text(r, c) for r in rows] for c in cols}
+    raw = RawFrame(path, cols, cells, list(range(1, len(rows) + 1)))
+    out = _Collector()
+    frame = frame_from_raw(raw, "records", out)
+    if out.errors:
+        raise TableErrors(out.errors)
+    problems = pd.DataFrame(out.problems, columns=_PROBLEM_COLUMNS)
+    if like is None:
+        return Table(frame, _empty("references"), _empty("points"), problems)
+    return Table(frame, like.references, like.points, problems, policy_path=like.policy_path)

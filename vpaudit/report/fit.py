@@ -1,0 +1,89 @@
+"""Terminal report of a fit: coefficients, uncertainties, residuals, band, audit of the result."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ..audit import CAUTION
+from ..writers import records_csv
+
+
+def _coefficients(fit) -> list[str]:
+    se = fit.standard_errors
+    lines = ["coefficient          value     standard error"]
+    for n, v, s in zip(fit.names, fit.values, se, strict=True):
+        lines.append(f"  {n:<8} {v:>16.10g} {s:>16.4g}")
+    with np.errstate(invalid="ignore", divide="ignore"):
+        corr = fit.covariance / np.outer(se, se)
+    lines.append("covariance (upper) and correlation (lower):")
+    for i, n in enumerate(fit.names):
+        row = [
+            f"{fit.covariance[i, j]:>11.3e}" if j >= i else f"{corr[i, j]:>11.4f}"
+            for j in range(len(fit.names))
+        ]
+        lines.append(f"  {n:<6}" + "".join(row))
+    return lines
+
+
+def _fit_lines(fit, label: str) -> list[str]:
+    t_w, r_w = fit.worst
+    kind = "stated uncertainties" if fit.absolute_sigma else "scaled by the reduced chi-square"
+    lines = [
+        f"{label}: form {fit.form}, {fit.residuals.size} points, "
+        f"{fit.t_min:.6g}..{fit.t_max:.6g} K (ln P in Pa, T in K)",
+        *_coefficients(fit),
+        f"residuals: RMS {fit.rms:.3g} in ln P; worst {r_w:+.3g} at {t_w:.6g} K; "
+        f"chi-square {fit.chi2:.4g} on {fit.dof} degrees of freedom (covariance: {kind})",
+    ]
+    ts = np.linspace(fit.t_min, fit.t_max, 5)
+    band = fit.band(ts)
+    lines.append(
+        "95 % band of ln P: "
+        + ", ".join(f"+/-{b:.2g} at {t:.5g} K" for t, b in zip(ts, band, strict=True))
+    )
+    if len(fit.rejected):
+        lines.append(
+            f"rejected as outliers (points #{', #'.join(str(int(i) + 1) for i in fit.rejected)} "
+            "of the selection): left out of the final fit"
+        )
+    return lines
+
+
+def _findings(findings) -> list[str]:
+    if not findings:
+        return ["audit of the new record(s): nothing found"]
+    out = ["audit of the new record(s):"]
+    for f in findings:
+        out.append(f"  {f.severity.value.upper():<8}{f.check}: {f.message}")
+    return out
+
+
+def render_fit(fit, record: dict, findings) -> str:
+    """One fit, the record it makes, and what the audit says of that record."""
+    lines = _fit_lines(fit, f"{record['substance']} ({record['phase']})")
+    lines += ["", "new record:", records_csv([record]).rstrip("\n"), "", *_findings(findings)]
+    lines += ["", f"Caution: {CAUTION}"]
+    return "\n".join(lines) + "\n"
+
+
+def render_pair(res, records: list[dict], findings) -> str:
+    """A pair fit: both curves, the triple point and what the constraint cost."""
+    lines = [
+        f"triple point: {res.triple_temperature:.10g} K, {res.triple_pressure:.6g} Pa; implied "
+        f"enthalpy of fusion {res.fusion_enthalpy / 1000:.4g} kJ/mol",
+        f"cost of the constraint: chi-square {res.chi2_free:.5g} (separate fits) -> "
+        f"{res.chi2:.5g} (together); RMS solid {res.rms_free[0]:.3g} -> {res.rms[0]:.3g}, "
+        f"liquid {res.rms_free[1]:.3g} -> {res.rms[1]:.3g} in ln P",
+        "",
+        *_fit_lines(res.solid, "solid"),
+        "",
+        *_fit_lines(res.liquid, "liquid"),
+        "",
+        "new records:",
+        records_csv(records).rstrip("\n"),
+        "",
+        *_findings(findings),
+        "",
+        f"Caution: {CAUTION}",
+    ]
+    return "\n".join(lines) + "\n"

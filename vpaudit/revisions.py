@@ -1,0 +1,392 @@
+"""Revisions: a record is never overwritten without its history.
+
+Applying a correction edits the record where it stands in its table file and appends one
+entry to the table's revision log, ``history/revisions.jsonl`` in the table directory (or
+``<file>.history.jsonl`` beside a single table file). Each entry says who, when, why, which
+finding it answers, which cells changed from what to what, and keeps the record's whole line
+as it was and as it became, so every earlier revision can be shown again
+(:func:`history`).
+
+File edits keep the file's format, order and every unrelated byte: in a CSV file only the
+changed cells of the record's own line are rewritten (the other cells keep their exact
+text and quoting, the line keeps its ending); in YAML and JSON files only the value of each
+changed key inside the record's mapping. Parquet files are binary and are not edited.
+"""
+
+from __future__ import annotations
+
+import csv
+import datetime as _dt
+import getpass
+import io
+import json
+import re
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+from .errors import Location, TableError, VpauditError
+
+__all__ = [
+    "RevisionError",
+    "apply_correction",
+    "apply_suggestion",
+    "find_finding",
+    "history",
+    "history_path",
+    "parse_finding",
+]
+
+
+class RevisionError(VpauditError):
+    """A correction that cannot be written as asked (the message says why)."""
+
+
+def history_path(table: str | Path) -> Path:
+    """Where the revision log of ``table`` (a directory or a single file) lives."""
+    p = Path(table)
+    return (
+        p / "history" / "revisions.jsonl" if p.is_dir() else p.with_name(p.name + ".history.jsonl")
+    )
+
+
+def _who(by: str | None) -> str:
+    if by:
+        return by
+    try:
+        from .gate import _git_user
+
+        user = _git_user()
+    except Exception:  # pragma: no cover - git missing
+        user = None
+    return user or getpass.getuser()
+
+
+# --- CSV: cells as raw spans of one physical line ------------------------------------------
+
+
+def _csv_spans(line: str, delimiter: str) -> list[tuple[int, int]]:
+    """(start, end) of each cell's raw text in one CSV line (quotes included)."""
+    spans = []
+    i, n = 0, len(line.rstrip("\r\n"))
+    while True:
+        start = i
+        if i < n and line[i] == '"':
+            i += 1
+            while i < n:
+                if line[i] == '"':
+                    if i + 1 < n and line[i + 1] == '"':
+                        i += 2
+                        continue
+                    i += 1
+                    break
+                i += 1
+        while i < n and line[i] != delimiter:
+            i += 1
+        spans.append((start, i))
+        if i >= n:
+            return spans
+        i += 1
+
+
+def _csv_cell(text: str, delimiter: str) -> str:
+    buf = io.StringIO()
+    csv.writer(buf, delimiter=delimiter, lineterminator="").writerow([text])
+    return buf.getvalue()
+
+
+def _edit_csv(lines: list[str], index: int, record_id: str, changes: dict[str, str], path):
+    header_at = next(
+        k for k, ln in enumerate(lines) if ln.strip() and not ln.lstrip().startswith("#")
+    )
+    head = lines[header_at].rstrip("\r\n")
+    delimiter = "," if "," in head else (";" if ";" in head else "\t")
+    columns = next(csv.reader([head], delimiter=delimiter))
+    line = lines[index]
+    cells = next(csv.reader([line.rstrip("\r\n")], delimiter=delimiter))
+    if "id" not in columns or cells[columns.index("id")] != record_id:
+        raise RevisionError(
+            f"{path}:{index + 1}: expected record {record_id!r} on this line; the file changed "
+            "since it was read -- run the audit again"
+        )
+    missing = [f for f in changes if f not in columns]
+    if missing:
+        raise RevisionError(
+            f"{path}: the file has no column {', '.join(map(repr, missing))}; add the column "
+            "(an empty cell in every row) and apply again, so that the edit touches one line"
+        )
+    spans = _csv_spans(line, delimiter)
+    new = line
+    for field in sorted(changes, key=lambda f: -spans[columns.index(f)][0]):  # right to left
+        a, b = spans[columns.index(field)]
+        new = new[:a] + _csv_cell(changes[field], delimiter) + new[b:]
+    return new, {f: cells[columns.index(f)] for f in changes}
+
+
+# --- YAML and JSON: the value of one key inside the record's mapping -------------------------
+
+
+def _edit_mapping(lines, index, record_id, changes, path, json_style: bool):
+    # the mapping runs from its first line to the next record's first line (or the end)
+    end = len(lines)
+    opener = re.compile(r"^\s*-\s" if not json_style else r"^\s*\{")
+    for k in range(index + 1, len(lines)):
+        if opener.match(lines[k]):
+            end = k
+            break
+    block = "".join(lines[index:end])
+    before: dict[str, str] = {}
+    for field, text in changes.items():
+        if json_style:
+            key = re.escape(field)
+            pat = re.compile(r'("' + key + r'"\s*:\s*)("(?:[^"\\]|\\.)*"|[^,\s}\]]+)')
+        else:
+            pat = re.compile(
+                r"((?:^|[\s{,-])"
+                + re.escape(field)
+                + r"\s*:[ \t]*)([^\n,}#]*?)(?=[ \t]*(?:#|,|}|$))",
+                re.M,
+            )
+        found = list(pat.finditer(block))
+        if len(found) != 1:
+            raise RevisionError(
+                f"{path}:{index + 1}: cannot find exactly one {field!r} in record "
+                f"{record_id!r}; edit it by hand"
+            )
+        m = found[0]
+        old = m.group(2)
+        before[field] = old.strip().strip("\"'")
+        value = json.dumps(text) if json_style and not _is_number(text) else text
+        if not json_style and not _is_number(text):
+            value = json.dumps(text) if old.strip().startswith('"') else text
+        block = block[: m.start(2)] + value + block[m.end(2) :]
+    if f"{record_id}" not in block:
+        raise RevisionError(f"{path}:{index + 1}: record {record_id!r} is not here any more")
+    return block, before, end
+
+
+def _is_number(text: str) -> bool:
+    try:
+        float(text)
+    except ValueError:
+        return False
+    return True
+
+
+@dataclass
+class Edit:
+    """One applied correction."""
+
+    file: str
+    line: int
+    before: dict[str, str]
+    after: dict[str, str]
+    line_before: str
+    line_after: str
+
+
+def _edit_file(path: Path, line: int, record_id: str, changes: dict[str, str]) -> Edit:
+    raw = path.read_bytes()
+    bom = raw.startswith(b"\xef\xbb\xbf")
+    text = raw[3:].decode("utf-8") if bom else raw.decode("utf-8")
+    lines = text.splitlines(keepends=True)
+    index = line - 1
+    if not 0 <= index < len(lines):
+        raise RevisionError(f"{path}: has no line {line}; run the audit again")
+    suffix = path.suffix.lower()
+    if suffix in (".csv", ".tsv", ".txt"):
+        new, before = _edit_csv(lines, index, record_id, changes, path)
+        old_block, new_block, end = lines[index], new, index + 1
+    elif suffix in (".yaml", ".yml", ".json"):
+        new_block, before, end = _edit_mapping(
+            lines, index, record_id, changes, path, suffix == ".json"
+        )
+        old_block = "".join(lines[index:end])
+    else:
+        raise RevisionError(
+            f"{path}: {suffix} files are not edited in place (binary); write the corrected "
+            "record to a CSV, YAML or JSON file instead"
+        )
+    out = "".join(lines[:index]) + new_block + "".join(lines[end:])
+    tmp = path.with_name(path.name + ".vpaudit-tmp")
+    tmp.write_bytes((b"\xef\xbb\xbf" if bom else b"") + out.encode("utf-8"))
+    tmp.replace(path)  # atomic on POSIX: the file is either old or new
+    return Edit(str(path), line, before, dict(changes), old_block, new_block)
+
+
+def _text(value: Any) -> str:
+    if isinstance(value, str):
+        return value
+    return repr(float(value))
+
+
+def apply_correction(
+    table: str | Path,
+    record: str,
+    file: str,
+    line: int,
+    corrected: dict[str, Any],
+    corrected_text: dict[str, str] | None = None,
+    *,
+    reason: str,
+    finding: str | None = None,
+    by: str | None = None,
+    suggestion: dict | None = None,
+) -> dict:
+    """Write a corrected record as a new revision.
+
+    Parameters
+    ----------
+    table : path
+        The table directory (or single table file).
+    record : str
+        The record's id.
+    file, line : str, int
+        Where the record stands (from the finding or the table).
+    corrected : dict
+        Field -> new value.
+    corrected_text : dict, optional
+        Field -> the exact text to write (numbers); ``repr`` of the value otherwise.
+    reason : str
+        Why (kept in the log).
+    finding : str, optional
+        The finding it answers (``check:id,id``).
+    by : str, optional
+        Who (default: git user.name, else the login name).
+    suggestion : dict, optional
+        The diagnosis suggestion applied, kept in the log.
+
+    Returns
+    -------
+    dict
+        The log entry written.
+    """
+    texts = {f: (corrected_text or {}).get(f) or _text(v) for f, v in corrected.items()}
+    edit = _edit_file(Path(file), int(line), record, texts)
+    log = history_path(table)
+    entries = _read_log(log)
+    revision = 1 + sum(1 for e in entries if e["record"] == record)
+    entry = {
+        "record": record,
+        "revision": revision,
+        "when": _dt.datetime.now(_dt.UTC).isoformat(timespec="seconds"),
+        "by": _who(by),
+        "why": reason,
+        "finding": finding,
+        "file": edit.file,
+        "line": edit.line,
+        "before": edit.before,
+        "after": edit.after,
+        "line_before": edit.line_before,
+        "line_after": edit.line_after,
+        "suggestion": suggestion,
+    }
+    log.parent.mkdir(parents=True, exist_ok=True)
+    with open(log, "a", encoding="utf-8") as fh:
+        fh.write(json.dumps(entry, sort_keys=True) + "\n")
+    return entry
+
+
+def _read_log(log: Path) -> list[dict]:
+    if not log.is_file():
+        return []
+    out = []
+    for k, ln in enumerate(log.read_text(encoding="utf-8").splitlines(), 1):
+        if ln.strip():
+            try:
+                out.append(json.loads(ln))
+            except json.JSONDecodeError as exc:
+                raise TableError(f"not a JSON line: {exc}", Location(str(log), k)) from None
+    return out
+
+
+def history(table: str | Path, record: str) -> list[dict]:
+    """Every revision of ``record``: revision 0 (as first entered, from the log) and each
+    applied correction, oldest first. A record never corrected has no entries.
+    """
+    entries = [e for e in _read_log(history_path(table)) if e["record"] == record]
+    if not entries:
+        return []
+    first = entries[0]
+    origin = {
+        "record": record,
+        "revision": 0,
+        "when": None,
+        "by": None,
+        "why": "as entered",
+        "finding": None,
+        "file": first["file"],
+        "line": first["line"],
+        "before": {},
+        "after": {},
+        "line_before": None,
+        "line_after": first["line_before"],
+    }
+    return [origin, *entries]
+
+
+def parse_finding(spec: str) -> tuple[str, list[str]]:
+    """``CHECK:RECORD[,RECORD...]`` -> (check, record ids)."""
+    if ":" not in spec:
+        raise RevisionError(
+            f"name the finding as CHECK:RECORD[,RECORD] (as the audit prints it), not {spec!r}"
+        )
+    check, records = spec.split(":", 1)
+    ids = [r.strip() for r in records.split(",") if r.strip()]
+    if not ids:
+        raise RevisionError(f"{spec!r} names no record")
+    return check.strip(), ids
+
+
+def find_finding(result, check: str, ids: list[str]):
+    """The finding of ``result`` with this check and these record ids (in any order)."""
+    want = sorted(ids)
+    for f in result.findings:
+        if f.check == check and sorted(f.records) == want:
+            return f
+    near = [
+        f"{f.check}:{','.join(f.records)}" for f in result.findings if set(ids) & set(f.records)
+    ]
+    hint = f"; findings on these records: {', '.join(near)}" if near else ""
+    raise RevisionError(f"no finding {check}:{','.join(ids)} in the audit{hint}")
+
+
+def apply_suggestion(
+    table_path: str | Path, table, finding, reason: str | None = None, by: str | None = None
+) -> list[dict]:
+    """Apply the diagnosis suggestion of ``finding`` to the table files, one revision per
+    record it corrects (a phase swap corrects two). Returns the log entries.
+    """
+    sug = finding.suggestion
+    if not sug:
+        raise RevisionError(
+            f"finding {finding.check}:{','.join(finding.records)} carries no suggestion "
+            "(the evidence does not single out one fix); correct the record by hand"
+        )
+    spec = f"{finding.check}:{','.join(finding.records)}"
+    why = reason or f"{sug['kind']} (confidence {sug['confidence']:.2f}): {sug['explanation']}"
+    rec = table.records
+    ids = rec["id"].astype(object)
+    edits = [(sug["record"], sug["corrected"], sug.get("corrected_text"))]
+    edits += [(a["record"], a["corrected"], None) for a in sug.get("also", [])]
+    entries = []
+    for rid, corrected, texts in edits:
+        rows = (ids == rid).to_numpy().nonzero()[0]
+        if len(rows) != 1:
+            raise RevisionError(f"record {rid!r} is not exactly once in the table")
+        r = int(rows[0])
+        entries.append(
+            apply_correction(
+                table_path,
+                rid,
+                str(rec["file"].iat[r]),
+                int(rec["line"].iat[r]),
+                corrected,
+                texts,
+                reason=why,
+                finding=spec,
+                by=by,
+                suggestion=sug,
+            )
+        )
+    return entries

@@ -733,7 +733,9 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
     if not ranked or ranked[0][0] < max(cal["min_confidence"], post[0]):
         return {"suggestion": None, "clears": set(), "none": float(post[0])}
     conf, ks = ranked[0]
-    best = max(ks, key=lambda k: (cands[k].log_prior, -list(KINDS).index(cands[k].kind)))
+    # equivalent fixes: the one the evidence fits best (to rounding), then the likelier kind,
+    # then the first generated (Torr before mmHg)
+    best = min(ks, key=lambda k: (round(outs[k].score(cal), 3), -cands[k].log_prior, k))
     after = {_key(f) for f in outs[best].findings if f.severity.rank >= 1}
     cleared = before - after
     if cal["require_clear"]:

@@ -1,0 +1,173 @@
+"""Fitting: recovery of known curves, uncertainties, IAPWS water, pairs, conversion."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+from numpy.testing import assert_allclose
+from scipy.constants import R
+from scipy.optimize import brentq
+
+from vpaudit.errors import EquationError
+from vpaudit.fit import convert_or_refit, fit_pair, fit_points
+
+
+def _curve(dh0, dcp, t0, lnp0):
+    """ln P of the exact constant-dCp integral of Clausius-Clapeyron through (t0, lnp0):
+    y = A + B/T + C ln T with C = dCp/R, B = -(dH0 - dCp t0)/R."""
+    c = dcp / R
+    b = -(dh0 - dcp * t0) / R
+    a = lnp0 - b / t0 - c * np.log(t0)
+    return np.array([a, b, c])
+
+
+@settings(max_examples=40, deadline=None)
+@given(
+    dh=st.floats(30e3, 500e3),
+    dcp=st.floats(-60.0, -1.0),
+    t0=st.floats(250.0, 2500.0),
+    seed=st.integers(0, 2**32 - 1),
+)
+def test_fit_recovers_known_coefficients_from_noisy_points(dh, dcp, t0, seed):
+    true = _curve(dh, dcp, t0, np.log(10.0))
+    t = np.linspace(0.7 * t0, 1.3 * t0, 25)
+    y = true[0] + true[1] / t + true[2] * np.log(t)
+    rng = np.random.default_rng(seed)
+    f = fit_points(t, np.exp(y + rng.normal(0, 1e-3, t.size)), "three-term", 1e-3)
+    # each coefficient within 5 standard errors of the truth (a 6e-7 chance to fail per
+    # coefficient for a correct fit and correct standard errors)
+    assert np.all(np.abs(f.values - true) <= 5 * f.standard_errors)
+    assert f.rms < 3e-3
+
+
+def test_standard_errors_agree_with_monte_carlo():
+    rng = np.random.default_rng(20261202)
+    t = np.linspace(600.0, 1200.0, 40)
+    true = np.array([30.0, -30000.0, -1.0])
+    y = true[0] + true[1] / t + true[2] * np.log(t)
+    fits = [
+        fit_points(t, np.exp(y + rng.normal(0, 0.01, t.size)), "three-term", 0.01)
+        for _ in range(400)
+    ]
+    spread = np.std([f.values for f in fits], axis=0, ddof=1)
+    # 400 samples: the relative error of a standard deviation is about 1/sqrt(800) = 3.5 %
+    assert_allclose(spread, fits[0].standard_errors, rtol=0.12)
+    # the 95 % band is pointwise: at each temperature it covers the true ln P in about 95 %
+    # of the fits (400 fits: a standard error of 1.1 %)
+    for k in (0, 20, 39):
+        covered = [
+            abs(f.ln_pressure(t[k : k + 1])[0] - y[k]) <= f.band(t[k : k + 1])[0] for f in fits
+        ]
+        assert 0.91 <= np.mean(covered) <= 0.99
+
+
+def test_fit_to_iapws_if97_saturation_is_within_its_stated_uncertainty():
+    # IAPWS-IF97 saturation pressure (region 4) via the iapws package, 273.16-373.15 K. The
+    # saturation pressure of IAPWS-95 is uncertain by about 0.025 % in this range (Wagner &
+    # Pruss, J. Phys. Chem. Ref. Data 31 (2002) 387; value from memory): a four-term fit must
+    # reproduce the standard well within that.
+    from iapws.iapws97 import _PSat_T
+
+    t = np.linspace(273.16, 373.15, 120)
+    p = np.array([_PSat_T(x) for x in t]) * 1e6
+    f = fit_points(t, p, "four-term-t")
+    assert np.max(np.abs(f.residuals)) < 2.5e-4
+    # and the Wagner form with the IAPWS-95 critical point (647.096 K, 22.064 MPa, IAPWS
+    # R6-95) over 273.16-640 K within 0.1 %
+    t = np.linspace(273.16, 640.0, 200)
+    p = np.array([_PSat_T(x) for x in t]) * 1e6
+    w = fit_points(t, p, "wagner-3-6", t_crit=647.096, p_crit=22.064e6)
+    assert np.max(np.abs(w.residuals)) < 1e-3
+
+
+def test_antoine_fit_recovers_poling_constants():
+    # Poling et al. Antoine constants of benzene (71-43-2), via chemicals: points computed
+    # from them are fitted back to the same constants
+    from chemicals.vapor_pressure import Psat_data_AntoinePoling as ant
+
+    a = ant.loc["71-43-2"]
+    t = np.linspace(a["Tmin"], a["Tmax"], 30)
+    ln10 = np.log(10.0)
+    y = ln10 * (a["A"] - a["B"] / (t + a["C"]))
+    f = fit_points(t, np.exp(y), "antoine")
+    assert_allclose(f.values, [ln10 * a["A"], ln10 * a["B"], a["C"]], rtol=1e-7)
+
+
+def test_robust_fit_lists_and_leaves_out_outliers():
+    rng = np.random.default_rng(3)
+    t = np.linspace(600.0, 1200.0, 40)
+    y = 30.0 - 30000.0 / t - np.log(t)
+    p = np.exp(y + rng.normal(0, 0.01, t.size))
+    p[[5, 20]] *= [1.5, 0.6]
+    plain = fit_points(t, p, "three-term", 0.01)
+    robust = fit_points(t, p, "three-term", 0.01, robust=True)
+    # both planted outliers go; a genuine 3-sigma point among 40 may go too (p = 0.1)
+    assert {5, 20} <= set(robust.rejected.tolist()) and len(robust.rejected) <= 3
+    assert robust.rms < 0.015 < plain.rms
+
+
+def test_wagner_needs_its_critical_point():
+    with pytest.raises(EquationError, match="critical point"):
+        fit_points([300.0, 310.0, 320.0, 330.0, 340.0], [1e3] * 5, "wagner-3-6")
+
+
+def _pair_points(seed=1):
+    rng = np.random.default_rng(seed)
+    ts = np.linspace(600.0, 1000.0, 20)
+    tl = np.linspace(1000.0, 1500.0, 20)
+    s = _curve(300e3, -5.0, 1000.0, np.log(2.0))
+    lq = _curve(285e3, -12.0, 1000.0, np.log(2.0))
+    ys = s[0] + s[1] / ts + s[2] * np.log(ts)
+    yl = lq[0] + lq[1] / tl + lq[2] * np.log(tl)
+    return (
+        (ts, np.exp(ys + rng.normal(0, 0.01, ts.size)), 0.01),
+        (tl, np.exp(yl + rng.normal(0, 0.01, tl.size)), 0.01),
+    )
+
+
+def test_pair_refit_meets_the_imposed_triple_point():
+    sol, liq = _pair_points()
+    res = fit_pair(sol, liq, triple_temperature=1003.0, fusion_enthalpy=15e3)
+    crossing = brentq(
+        lambda x: res.solid.ln_pressure([x])[0] - res.liquid.ln_pressure([x])[0],
+        900.0,
+        1100.0,
+        xtol=1e-13,
+    )
+    assert abs(crossing - 1003.0) < 1e-9
+    assert_allclose(res.fusion_enthalpy, 15e3, rtol=1e-9)
+    # the constraint costs: chi-square can only grow
+    assert res.chi2 >= res.chi2_free - 1e-9
+
+
+def test_pair_refit_finds_the_triple_point_when_not_given():
+    sol, liq = _pair_points()
+    res = fit_pair(sol, liq)
+    assert 990.0 < res.triple_temperature < 1010.0  # the curves were built to meet at 1000 K
+    assert res.fusion_enthalpy > 0
+
+
+def test_convert_is_exact_when_it_can_be_and_refits_otherwise():
+    rec = {
+        "id": "x",
+        "form": "three-term",
+        "log_base": "e",
+        "pressure_unit": "Pa",
+        "temperature_unit": "K",
+        "A": 30.0,
+        "B": -30000.0,
+        "C": -1.0,
+        "t_min": 800.0,
+        "t_max": 1200.0,
+    }
+    out, dev, exact = convert_or_refit(rec, log_base="10", pressure_unit="Torr")
+    assert exact and dev == 0.0
+    two, dev, exact = convert_or_refit(rec, form="two-term", max_deviation=0.05)
+    assert not exact and 0 < dev < 0.05
+    t = np.linspace(800.0, 1200.0, 50)
+    y = 30.0 - 30000.0 / t - np.log(t)
+    assert np.max(np.abs(two["A"] + two["B"] / t - y)) <= dev * (1 + 1e-9)
+    with pytest.raises(EquationError, match="deviates"):
+        convert_or_refit(rec, form="two-term", max_deviation=1e-6)

@@ -1,0 +1,144 @@
+"""Revisions: apply a suggested fix, keep the history, touch only the intended lines."""
+
+from __future__ import annotations
+
+import json
+import shutil
+from pathlib import Path
+
+import pytest
+from click.testing import CliRunner
+
+from vpaudit.cli import main
+from vpaudit.revisions import RevisionError, apply_correction, history
+
+SAMPLE = Path(__file__).resolve().parents[1] / "sample_db"
+
+
+@pytest.fixture
+def table(tmp_path):
+    dest = tmp_path / "db"
+    shutil.copytree(SAMPLE, dest)
+    return dest
+
+
+def _lines(p: Path) -> list[bytes]:
+    return p.read_bytes().splitlines(keepends=True)
+
+
+def test_apply_then_history_shows_both_and_only_the_line_changes(table):
+    before = _lines(table / "records" / "metals.csv")
+    run = CliRunner().invoke(
+        main, ["apply", str(table), "slope-not-positive:dorvane-s1", "--by", "tester"]
+    )
+    assert run.exit_code == 0, run.output
+    assert "B: '9842.23737' -> '-9842.23737'" in run.output
+    assert "re-audited dorvane: clean" in run.output
+    after = _lines(table / "records" / "metals.csv")
+    changed = [k for k, (a, b) in enumerate(zip(before, after, strict=True)) if a != b]
+    assert changed == [7]  # line 8, the record's own line, and nothing else
+    assert after[7] == before[7].replace(b",9842.23737,", b",-9842.23737,")
+    entries = history(table, "dorvane-s1")
+    assert [e["revision"] for e in entries] == [0, 1]
+    assert entries[0]["line_after"].encode() == before[7]
+    assert entries[1]["by"] == "tester" and entries[1]["finding"] == "slope-not-positive:dorvane-s1"
+    assert entries[1]["suggestion"]["kind"] == "sign"
+    shown = CliRunner().invoke(main, ["history", str(table), "dorvane-s1"])
+    assert "revision 0 (as entered)" in shown.output and "revision 1" in shown.output
+    assert "B: '9842.23737' -> '-9842.23737'" in shown.output
+
+
+def test_every_planted_fix_applies_and_the_audit_is_then_clean(table):
+    fixes = [
+        "enthalpy-implausible:bellorium-l1",
+        "melting-point-mismatch:cassine-s1,cassine-l1",
+        "slope-not-positive:dorvane-s1",
+        "crossing-orientation:elmsite-s1,elmsite-l1",
+        "melting-point-mismatch:galdrite-s1,galdrite-l1",
+        "heat-capacity-sign:lanthorne-l1",
+        "boiling-point-mismatch:selmane-l1",
+    ]
+    for f in fixes:
+        run = CliRunner().invoke(main, ["apply", str(table), f, "--by", "tester"])
+        assert run.exit_code == 0, run.output
+        assert ": clean" in run.output
+    run = CliRunner().invoke(main, ["audit", str(table), "--format", "json", "-q"])
+    left = {f["substance"] for f in json.loads(run.output)["findings"] if f["severity"] != "note"}
+    assert left == {"kestrium", "islingite", "norrane"}  # the three planted non-slips
+
+
+def test_a_finding_without_suggestion_is_refused(table):
+    run = CliRunner().invoke(main, ["apply", str(table), "missing-source:norrane-s1"])
+    assert run.exit_code == 2
+    assert "carries no suggestion" in run.output
+
+
+def test_review_walks_the_suggestions(table):
+    # apply the first, skip the second, stop at the third
+    run = CliRunner().invoke(main, ["review", str(table), "--by", "tester"], input="a\ns\nq\n")
+    assert run.exit_code == 0, run.output
+    assert "[1/" in run.output and "applied 1 of" in run.output
+    log = table / "history" / "revisions.jsonl"
+    assert len(log.read_text().splitlines()) == 1
+
+
+def test_second_revision_is_numbered_and_old_ones_kept(table):
+    f = table / "records" / "metals.csv"
+    rec = "galdrite-l1"
+    apply_correction(table, rec, str(f), 15, {"A": 10.7706297}, reason="first", by="a")
+    apply_correction(table, rec, str(f), 15, {"A": 10.7706298}, reason="second", by="b")
+    h = history(table, rec)
+    assert [e["revision"] for e in h] == [0, 1, 2]
+    assert h[1]["after"] == {"A": "10.7706297"} and h[2]["before"] == {"A": "10.7706297"}
+    assert "1.07706297" in h[0]["line_after"]
+
+
+def test_a_stale_location_is_refused(table):
+    f = table / "records" / "metals.csv"
+    with pytest.raises(RevisionError, match="expected record"):
+        apply_correction(table, "galdrite-l1", str(f), 14, {"A": 1.0}, reason="x")
+
+
+def test_yaml_and_json_edits_touch_only_the_value(tmp_path):
+    yaml_text = (
+        "# provenance header\n"
+        "- id: y1\n  substance: s\n  phase: liquid\n  form: two-term\n  log_base: e\n"
+        "  pressure_unit: Pa   # as printed\n  A: 25.0\n  B: -1.0e4\n"
+        "  t_min: 400\n  t_max: 600\n  source: book\n"
+        "- id: y2\n  substance: s\n  phase: solid\n  form: two-term\n  log_base: e\n"
+        "  pressure_unit: Pa\n  A: 26.0\n  B: -1.1e4\n  t_min: 300\n  t_max: 400\n  source: book\n"
+    )
+    y = tmp_path / "r.yaml"
+    y.write_text(yaml_text)
+    apply_correction(tmp_path, "y1", str(y), 2, {"pressure_unit": "kPa"}, reason="t")
+    new = y.read_text().splitlines()
+    old = yaml_text.splitlines()
+    diff = [k for k, (a, b) in enumerate(zip(old, new, strict=True)) if a != b]
+    assert diff == [6] and new[6] == "  pressure_unit: kPa   # as printed"
+    js = tmp_path / "r.json"
+    js.write_text(
+        '[\n  {"id": "j1", "substance": "s", "phase": "liquid", "form": "two-term",\n'
+        '   "log_base": "e", "pressure_unit": "Pa", "A": 25.0, "B": -10000.0,\n'
+        '   "t_min": 400, "t_max": 600, "source": "book"}\n]\n'
+    )
+    before = js.read_text()
+    apply_correction(tmp_path, "j1", str(js), 2, {"B": 10000.0}, {"B": "10000.0"}, reason="t")
+    assert js.read_text() == before.replace('"B": -10000.0', '"B": 10000.0')
+    from vpaudit.readers import load_table
+
+    load_table(js)  # still a valid table file
+
+
+def test_fit_writes_a_record_that_reads_back(table):
+    out = table / "records" / "fitted.csv"
+    run = CliRunner().invoke(
+        main,
+        ["fit", str(table), "--substance", "ardenite", "--form", "two-term", "--write", str(out)],
+    )
+    assert run.exit_code == 0, run.output
+    assert "standard error" in run.output and "95 % band" in run.output
+    assert "Harrowgate effusion cell runs EC-3" in out.read_text()  # provenance kept
+    from vpaudit.readers import load_table
+
+    t = load_table(table)
+    assert "ardenite-l-fit" in set(t.records["id"].astype(object))

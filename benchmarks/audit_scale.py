@@ -5,7 +5,10 @@ For each N (substances; two records each, a solid and a liquid, ~3 % planted def
 prints, from one run on this machine:
 
 * ``floor``: DuckDB ``read_csv`` (all columns as text) of the same CSV files into tables;
-* ``vpaudit``: ``vpaudit audit DIR --format json`` end to end (CSV files to findings);
+* ``vpaudit``: ``vpaudit audit DIR --format json --diagnose-limit 0`` end to end (CSV files
+  to findings; the checks alone, as the baseline has them);
+* ``+diag``: the same with the default diagnosis (the likely slip behind the errors and
+  warnings of up to 1000 substances, worst first);
 * ``baseline``: a per-record Python audit (pydantic per record, a 50-point grid per record,
   ``scipy.optimize.brentq`` per pair) of five checks both implement;
 * the ratios, the peak memory of each process, and vpaudit's time per substance.
@@ -64,11 +67,24 @@ def child_floor(folder: str) -> None:
     print(json.dumps({"rows": n, "peak_mb": _peak_mb()}), file=sys.stderr)
 
 
-def child_vpaudit(folder: str, out: str) -> None:
+def child_vpaudit(folder: str, out: str, limit: str = "1000") -> None:
     from vpaudit.cli import main
 
     try:
-        main(["audit", folder, "--format", "json", "--output", out, "--fail-on", "never"])
+        main(
+            [
+                "audit",
+                folder,
+                "--format",
+                "json",
+                "--output",
+                out,
+                "--fail-on",
+                "never",
+                "--diagnose-limit",
+                limit,
+            ]
+        )
     except SystemExit as exc:
         if exc.code not in (0, None):
             raise
@@ -173,14 +189,15 @@ def main() -> None:
     )
     print(
         f"{'N':>9} {'floor s':>8} {'vpaudit s':>9} {'baseline s':>10} {'vp/floor':>8} "
-        f"{'base/vp':>7} {'us/subst':>8} {'vp MB':>7} {'base MB':>7}  agree"
+        f"{'base/vp':>7} {'us/subst':>8} {'vp MB':>7} {'base MB':>7}  agree {'+diag s':>8}"
     )
     for n in sizes:
         folder = work / f"n{n}"
         if not (folder / "records" / "records.csv").exists():
             generate(folder, n)
         floor, fi = _run("--child-floor", str(folder))
-        vp, vi = _run("--child-vpaudit", str(folder), str(folder / "vpaudit.json"))
+        vp, vi = _run("--child-vpaudit", str(folder), str(folder / "vpaudit.json"), "0")
+        diag, _ = _run("--child-vpaudit", str(folder), str(folder / "diagnosed.json"), "1000")
         base, bi = _run("--child-baseline", str(folder), str(folder / "baseline.json"))
         found = json.loads((folder / "vpaudit.json").read_text())["findings"]
         ours = {c: sorted({f["substance"] for f in found if f["check"] == c}) for c in SHARED}
@@ -189,7 +206,7 @@ def main() -> None:
         print(
             f"{n:>9} {floor:>8.2f} {vp:>9.2f} {base:>10.2f} {vp / floor:>8.2f} "
             f"{base / vp:>7.1f} {vp / n * 1e6:>8.2f} {vi['peak_mb']:>7.0f} "
-            f"{bi['peak_mb']:>7.0f}  {'yes' if agree else 'NO'}",
+            f"{bi['peak_mb']:>7.0f}  {'yes' if agree else 'NO':>5} {diag:>8.2f}",
             flush=True,
         )
         if not agree:
@@ -207,7 +224,7 @@ if __name__ == "__main__":
     if len(sys.argv) > 1 and sys.argv[1] == "--child-floor":
         child_floor(sys.argv[2])
     elif len(sys.argv) > 1 and sys.argv[1] == "--child-vpaudit":
-        child_vpaudit(sys.argv[2], sys.argv[3])
+        child_vpaudit(sys.argv[2], sys.argv[3], *sys.argv[4:5])
     elif len(sys.argv) > 1 and sys.argv[1] == "--child-baseline":
         child_baseline(sys.argv[2], sys.argv[3])
     else:

@@ -69,15 +69,9 @@ def summary(rows):
     return acc, wrong, len(confident), loss
 
 
-def main() -> None:
-    ap = argparse.ArgumentParser()
-    ap.add_argument("--grid", action="store_true", help="search the scoring constants")
-    ap.add_argument("--per-kind", type=int, default=None, help="substances per kind (all)")
-    ap.add_argument("--poling", type=int, default=40, help="Poling liquids used")
-    args = ap.parse_args()
-
+def prepare(seed, per_kind, poling):
     t0 = time.perf_counter()
-    cases = labelled_cases(per_kind=args.per_kind, poling=args.poling)
+    cases = labelled_cases(seed=seed, per_kind=per_kind, poling=poling)
     table = cases_table(cases)
     policy = Policy()
     result = audit_table(table, policy, diagnose=False)
@@ -85,11 +79,55 @@ def main() -> None:
     ctx = AuditContext(table, policy)
     hyps = hypotheses(ctx, result.findings)
     n_cand = sum(len(h[1]) for h in hyps.values())
-    t1 = time.perf_counter()
     print(
-        f"{len(cases)} labelled cases ({len(table.records)} records), {len(flagged)} flagged; "
-        f"{n_cand} candidate corrections audited in {t1 - t0:.1f} s"
+        f"seed {seed}: {len(cases)} labelled cases ({len(table.records)} records), "
+        f"{len(flagged)} flagged; {n_cand} candidate corrections audited in "
+        f"{time.perf_counter() - t0:.1f} s"
     )
+    return cases, flagged, hyps, ctx
+
+
+def fit_confidence(args) -> None:
+    """Platt scaling of the stated confidence, fitted on an independent labelled set (another
+    seed: other substances drawn, other slips), by maximum likelihood of right/wrong.
+    """
+    from scipy.optimize import minimize
+
+    cases, flagged, hyps, ctx = prepare(args.seed + 1, args.per_kind, args.poling)
+    raw = {"logit_scale": 1.0, "logit_shift": 0.0}
+    rows = [r for r in evaluate_cases(cases, flagged, hyps, ctx, raw) if r[2] is not None]
+    p = np.clip(np.array([r[2] for r in rows]), 1e-9, 1 - 1e-9)
+    y = np.array([bool(r[3]) for r in rows], dtype=float)
+    z = np.log(p / (1 - p))
+
+    def nll(ab):
+        q = 1 / (1 + np.exp(-(ab[0] * z + ab[1])))
+        q = np.clip(q, 1e-12, 1 - 1e-12)
+        return -np.sum(y * np.log(q) + (1 - y) * np.log(1 - q))
+
+    a, b = minimize(nll, [1.0, 0.0], method="Nelder-Mead").x
+    print(
+        f"Platt scaling fitted on seed {args.seed + 1} ({len(rows)} suggestions): "
+        f"logit_scale {a:.3f}, logit_shift {b:.3f}"
+    )
+
+
+def main() -> None:
+    ap = argparse.ArgumentParser()
+    ap.add_argument("--grid", action="store_true", help="search the scoring constants")
+    ap.add_argument("--per-kind", type=int, default=None, help="substances per kind (all)")
+    ap.add_argument("--poling", type=int, default=40, help="Poling liquids used")
+    ap.add_argument(
+        "--fit-confidence",
+        action="store_true",
+        help="fit the Platt scaling of the confidence on a second, independent labelled set",
+    )
+    ap.add_argument("--seed", type=int, default=20261202, help="seed of the reported set")
+    args = ap.parse_args()
+
+    cases, flagged, hyps, ctx = prepare(args.seed, args.per_kind, args.poling)
+    if args.fit_confidence:
+        fit_confidence(args)
 
     if args.grid:
         print("\nloss          T   P0  cap  clear  accuracy  confident-wrong (n)  log-loss")

@@ -23,7 +23,7 @@ def test_audit_scale_runs_and_vpaudit_agrees_with_the_baseline(tmp_path):
     )
     assert proc.returncode == 0, proc.stderr
     last = proc.stdout.strip().splitlines()[-1].split()
-    assert last[0] == "500" and last[-1] == "yes"
+    assert last[0] == "500" and last[-2] == "yes"
 
 
 def test_calibration_report_runs():

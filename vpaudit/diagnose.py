@@ -113,6 +113,8 @@ CALIBRATION = {
     "warning_cost": 1.0,
     "min_confidence": 0.15,
     "require_clear": True,
+    "logit_scale": 1.691,
+    "logit_shift": 0.156,
 }
 
 #: Checks that say nothing about the numbers of a record (they are the same in every variant).
@@ -733,6 +735,7 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
     if not ranked or ranked[0][0] < max(cal["min_confidence"], post[0]):
         return {"suggestion": None, "clears": set(), "none": float(post[0])}
     conf, ks = ranked[0]
+    conf = _stated(conf, cal)
     # equivalent fixes: the one the evidence fits best (to rounding), then the likelier kind,
     # then the first generated (Torr before mmHg)
     best = min(ks, key=lambda k: (round(outs[k].score(cal), 3), -cands[k].log_prior, k))
@@ -750,6 +753,7 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
     sug = _suggestion(ctx, table, cands[best], outs[best], base, conf, cleared, before, ks, cands)
     if len(ranked) > 1 and ranked[1][0] >= 0.5 * conf:
         c2, ks2 = ranked[1]
+        c2 = _stated(c2, cal)
         k2 = ks2[0]
         sug["runner_up"] = _suggestion(
             ctx,
@@ -765,6 +769,15 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
         )
         sug["explanation"] += f" Close runner-up ({c2:.2f}): {cands[k2].label}."
     return {"suggestion": sug, "clears": cleared, "none": float(post[0])}
+
+
+def _stated(p: float, cal: dict) -> float:
+    """The confidence stated for a posterior ``p``: logit(c) = a logit(p) + b, with a and b
+    fitted on held-out labelled cases (Platt scaling) so that c means what it says.
+    """
+    p = min(max(float(p), 1e-12), 1 - 1e-12)
+    z = cal["logit_scale"] * math.log(p / (1 - p)) + cal["logit_shift"]
+    return 1.0 / (1.0 + math.exp(-z))
 
 
 def _suggestion(

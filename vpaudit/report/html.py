@@ -26,7 +26,7 @@ table{border-collapse:collapse;width:100%;font-size:.92em}
 th,td{border:1px solid #bbb;padding:.25em .45em;vertical-align:top;text-align:left}
 th{background:#eee;cursor:pointer;user-select:none}th.sorted-asc:after{content:" \\25B2"}
 th.sorted-desc:after{content:" \\25BC"}
-td.sev-error{font-weight:bold}td.sev-warning{font-style:italic}
+td.sev-error{font-weight:bold}td.sev-warning{font-style:italic}.fix{color:#2f5d34}
 .controls{margin:.6em 0}.controls input[type=search]{width:22em;padding:.2em}
 code{font-size:.95em}figure{margin:.5em 0}svg{max-width:100%;height:auto}
 @media print{.controls{display:none}th{cursor:auto}}
@@ -131,7 +131,7 @@ def render_report(result, table=None, plots: bool = True, max_sections: int = 10
             f"<tr data-severity='{sev}'><td class='sev-{sev}' data-key='{_RANK[sev]}'>{sev}"
             f"</td><td><code>{_e(f.check)}</code></td><td><a href='#s-{_e(f.substance)}'>"
             f"{_e(f.substance)}</a></td><td>{_e(', '.join(f.records))}</td>"
-            f"<td>{_e(f.message)}</td><td>{_e(where)}</td>"
+            f"<td>{_e(f.message)}{_suggestion(f)}</td><td>{_e(where)}</td>"
             + (f"<td>{_e(status_of(f))}</td>" if status_of else "")
             + "</tr>"
         )
@@ -171,7 +171,7 @@ def _sections(result, table, plots: bool, max_sections: int) -> list[str]:
             if f.substance == name:
                 out.append(
                     f"<li><b>{_e(f.severity.value)}</b> <code>{_e(f.check)}</code>: "
-                    f"{_e(f.message)}</li>"
+                    f"{_e(f.message)}{_suggestion(f)}</li>"
                 )
         out.append("</ul>")
         if plots:
@@ -180,3 +180,11 @@ def _sections(result, table, plots: bool, max_sections: int) -> list[str]:
             except Exception as exc:  # a picture that cannot be drawn never hides the report
                 out.append(f"<p>(no picture: {_e(exc)})</p>")
     return out
+
+
+def _suggestion(f) -> str:
+    """The diagnosis of a finding, escaped, or nothing."""
+    s = f.suggestion
+    if not s:
+        return ""
+    return f"<br><span class='fix'>Suggested fix: {_e(s.get('explanation', ''))}</span>"

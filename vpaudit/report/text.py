@@ -52,6 +52,7 @@ def render(result, width: int = 100) -> str:
         for name in sorted(groups, key=rank):
             fs = groups[name]
             lines.append(f"{name or '(table)'} -- {_counts(fs)}")
+            shown_apply = False
             for f in fs:
                 where = f" ({f.file}:{f.line})" if f.file else ""
                 ident = (
@@ -63,6 +64,12 @@ def render(result, width: int = 100) -> str:
                 lines.extend(wrap.wrap(f.message))
                 if f.suggestion:
                     lines.extend(wrap.wrap(f"suggestion: {f.suggestion.get('explanation', '')}"))
+                    if not shown_apply and not status_of:
+                        shown_apply = True
+                        lines.append(
+                            f"      to apply it: vpaudit apply {result.table_path or 'TABLE'} "
+                            f"{f.check}:{','.join(f.records)}"
+                        )
             lines.append("")
 
     if status_of is None:

@@ -120,6 +120,8 @@ CALIBRATION = {
 #: Checks that say nothing about the numbers of a record (they are the same in every variant).
 _NOT_EVIDENCE = frozenset({"missing-source", "duplicate-record", "internal-error"})
 _DECIMAL_SHIFTS = (-3, -2, -1, 1, 2, 3)
+#: Candidates per substance that go on from the screening to the full checks.
+_VERIFIED = 10
 #: Variant rows audited at once (bounds the memory of the synthetic tables).
 _CHUNK_ROWS = 200_000
 
@@ -332,17 +334,16 @@ def _rho(z: np.ndarray) -> np.ndarray:
     return 2.0 * (np.sqrt(1.0 + z * z) - 1.0)
 
 
-def _groups(codes: np.ndarray) -> dict[int, np.ndarray]:
+def _groups(codes: np.ndarray, wanted=None) -> dict[int, np.ndarray]:
+    """The rows of each code in ``wanted`` (all non-negative codes by default)."""
     order = np.argsort(codes, kind="stable")
     sc = codes[order]
-    cut = np.flatnonzero(np.diff(sc)) + 1
-    return {
-        int(sc[g[0]]): order_part
-        for g, order_part in zip(
-            np.split(np.arange(sc.size), cut), np.split(order, cut), strict=True
-        )
-        if g.size and sc[g[0]] >= 0
-    }
+    if wanted is None:
+        wanted = np.unique(sc[sc >= 0])
+    wanted = np.asarray(sorted(set(int(w) for w in wanted)), dtype=np.int64)
+    lo = np.searchsorted(sc, wanted, side="left")
+    hi = np.searchsorted(sc, wanted, side="right")
+    return {int(c): order[a:b] for c, a, b in zip(wanted, lo, hi, strict=True) if b > a}
 
 
 _TEXT_FIELDS = ("phase", "log_base", "pressure_unit", "temperature_unit")
@@ -354,9 +355,10 @@ def _variant_table(
     """One table holding every unit (a substance code and the changes applied to it) as its
     own substance, named by the unit's index.
     """
-    rec_g = _groups(ctx.codes)
-    ref_g = _groups(ctx.ref_codes)
-    pt_g = _groups(ctx.point_codes)
+    wanted = {code for code, _ in units}
+    rec_g = _groups(ctx.codes, wanted)
+    ref_g = _groups(ctx.ref_codes, wanted)
+    pt_g = _groups(ctx.point_codes, wanted)
     empty = np.empty(0, dtype=np.int64)
 
     def replicate(frame: pd.DataFrame, groups) -> tuple[pd.DataFrame, np.ndarray]:
@@ -524,21 +526,90 @@ class _Outcome:
     findings: list[Finding]
     z: np.ndarray  # |standardized residual| of each piece of continuous evidence
     key: bytes = b""  # what the correction amounts to (curves, ranges, phases), rounded
+    floor: tuple[int, int] = (0, 0)  # screening only: errors, warnings the checks must give
 
     def score(self, cal: dict) -> float:
         """The misfit S: capped evidence costs plus the cost of each finding."""
+        key = (cal["loss"], cal["component_cap"], cal["error_cost"], cal["warning_cost"])
+        cache = self.__dict__.setdefault("_scores", {})
+        if key not in cache:
+            cache[key] = self._score(cal)
+        return cache[key]
+
+    def _score(self, cal: dict) -> float:
         fc = {"error": cal["error_cost"], "warning": cal["warning_cost"], "note": 0.0}
         with np.errstate(invalid="ignore", over="ignore"):
             cost = self.z * self.z if cal["loss"] == "quadratic" else _rho(self.z)
         cost = np.where(np.isnan(cost), np.inf, cost)
-        return float(np.minimum(cost, cal["component_cap"]).sum()) + sum(
-            fc[f.severity.value] for f in self.findings
+        floor = self.floor[0] * fc["error"] + self.floor[1] * fc["warning"]
+        return (
+            float(np.minimum(cost, cal["component_cap"]).sum())
+            + floor
+            + sum(fc[f.severity.value] for f in self.findings)
         )
 
 
+def _hard_failures(vctx: AuditContext, unit_of_code: np.ndarray, n: int) -> list:
+    """Errors and warnings that some checks must report for each unit (pressure-not-finite,
+    slope-not-positive, heat-capacity-sign, no-crossing, melting-point-mismatch), counted
+    from the same arrays as those checks without building findings: a lower bound of each
+    unit's findings cost.
+    """
+    ex = vctx.range_extrema
+    ev = vctx.evaluable
+    lim = vctx.thresholds("pressure-not-finite")["max_abs_lnP"]
+    th = vctx.thresholds("heat-capacity-sign")
+    factor = np.where(vctx.antoine, th["antoine_factor"], 1.0)
+    with np.errstate(invalid="ignore"):
+        finite = (
+            np.isfinite(ex["y_min"])
+            & np.isfinite(ex["y_max"])
+            & (np.abs(ex["y_min"]) <= lim)
+            & (np.abs(ex["y_max"]) <= lim)
+        )
+        errors = (ev & ~finite).astype(int) * (vctx.severity("pressure-not-finite") is not None)
+        errors += (ev & ~(ex["h_min"] > 0)).astype(int) * (
+            vctx.severity("slope-not-positive") is not None
+        )
+        cp_on = vctx.severity("heat-capacity-sign") is not None
+        cp_err = ev & (ex["cp_max"] > th["error_above"] * factor) & cp_on
+        cp_warn = ev & (ex["cp_max"] > th["tolerance"] * factor) & ~cp_err & cp_on
+    errors = (errors + cp_err).astype(float)
+    warnings = cp_warn.astype(float)
+    # the pair checks no-crossing and melting-point-mismatch, counted at the solid record
+    pr = vctx.pairs
+    tol = vctx.thresholds("melting-point-mismatch")["tolerance"]
+    with np.errstate(invalid="ignore"):
+        fails = {"no-crossing": pr["checkable"] & (pr["crossings"] == 0)}
+        at = np.flatnonzero(pr["checkable"] & np.isfinite(pr["tm"]))
+        d = (
+            evaluate(vctx.curves.take(pr["s"][at]), pr["tm"][at], 0)[0]
+            - evaluate(vctx.curves.take(pr["l"][at]), pr["tm"][at], 0)[0]
+        )
+        mm = np.zeros(pr["s"].size, dtype=bool)
+        mm[at] = ~(np.abs(d) <= tol)
+        fails["melting-point-mismatch"] = mm
+    for name, bad in fails.items():
+        sev = vctx.severity(name)
+        if sev is not None and sev.rank >= 1:
+            target = errors if sev is Severity.error else warnings
+            np.add.at(target, pr["s"][bad], 1.0)
+    unit = np.where(vctx.codes >= 0, unit_of_code[np.maximum(vctx.codes, 0)], -1)
+    ok = unit >= 0
+    e = np.bincount(unit[ok], weights=errors[ok], minlength=n).astype(int)
+    w = np.bincount(unit[ok], weights=warnings[ok], minlength=n).astype(int)
+    return list(zip(e.tolist(), w.tolist(), strict=True))
+
+
 def _audit_units(
-    table: Table, ctx: AuditContext, units: list[tuple[int, tuple[Change, ...]]]
+    table: Table,
+    ctx: AuditContext,
+    units: list[tuple[int, tuple[Change, ...]]],
+    checks: bool = True,
 ) -> list[_Outcome]:
+    """Audit every unit (a substance with one correction); without ``checks`` only the
+    continuous evidence is computed (the screening stage: no findings are built).
+    """
     from .audit import run_checks
 
     names = [n for n in REGISTRY if n not in _NOT_EVIDENCE]
@@ -554,7 +625,7 @@ def _audit_units(
         vt = _variant_table(table, ctx, part)
         vctx = AuditContext(vt, ctx.policy)
         with np.errstate(all="ignore"):
-            found = run_checks(vctx, names)
+            found = run_checks(vctx, names) if checks else []
             mis = _misfit(vctx)
         by_unit: dict[int, list[Finding]] = defaultdict(list)
         for f in found:
@@ -567,7 +638,11 @@ def _audit_units(
         split = np.searchsorted(mu[order], np.arange(len(part) + 1))
         costs = [cost[order[split[u] : split[u + 1]]] for u in range(len(part))]
         keys = _unit_keys(vctx, len(part))
-        outcomes.extend(_Outcome(by_unit[u], costs[u], keys[u]) for u in range(len(part)))
+        floors = _hard_failures(vctx, unit_of_code, len(part)) if not checks else None
+        outcomes.extend(
+            _Outcome(by_unit[u], costs[u], keys[u], floors[u] if floors else (0, 0))
+            for u in range(len(part))
+        )
         a = b
     return outcomes
 
@@ -631,11 +706,11 @@ def hypotheses(
     suspects = _suspects(findings, limit)[0]
     if not suspects:
         return {}
-    ids = table.records["id"].astype(object).to_numpy()
     wanted = {i for s in suspects.values() for i in s}
     row_of: dict[str, int] = {}
     for r in np.flatnonzero(table.records["id"].isin(list(wanted)).to_numpy()):
-        row_of.setdefault(str(ids[r]), int(r))
+        row_of.setdefault(ctx.id(r), int(r))
+    members = _groups(ctx.codes)  # the record rows of each substance, found once
     code_of = {str(n): k for k, n in enumerate(ctx.names)}
     cal = CALIBRATION
     prior_kind = math.log((1.0 - cal["prior_none"]) / len(KINDS))
@@ -648,15 +723,15 @@ def hypotheses(
         code = code_of[name]
         cands: list[Candidate] = []
         seen: set = set()
-        sub_rows = np.flatnonzero(ctx.codes == code) if len(rows) else []
+        sub_rows = members.get(code, np.empty(0, dtype=np.int64))
         for row in rows:
             rec = _record(table, row)
             if rec.get("form") not in FORMS:
                 continue
             partners = [
-                (int(p), str(ids[p]))
+                (int(p), ctx.id(p))
                 for p in sub_rows
-                if p != row and str(table.records["phase"].iat[p]) != rec["phase"]
+                if p != row and ctx.phase_of(p) != rec["phase"]
             ]
             for c in candidates_for(rec, row, partners):
                 key = (c.kind, frozenset(c.changes))
@@ -667,10 +742,29 @@ def hypotheses(
         plan[name] = (len(units), cands)
         units.append((code, ()))
         units.extend((code, c.changes) for c in cands)
-    outcomes = _audit_units(table, ctx, units)
+    # Screening: the continuous evidence of every candidate (arrays only, no findings); the
+    # checks then run on the best few of each substance. A screened-out candidate still
+    # counts in the normalization with its evidence alone -- an upper bound on its weight, so
+    # the confidence of the chosen fix can only be understated by the screening.
+    screened = _audit_units(table, ctx, units, checks=False)
+    cal = CALIBRATION
+    units2: list[tuple[int, tuple[Change, ...]]] = []
+    plan2: dict[str, tuple[int, list[Candidate], list]] = {}
+    for name, (start, cands) in plan.items():
+        outs = screened[start + 1 : start + 1 + len(cands)]
+        rank = sorted(
+            range(len(cands)),
+            key=lambda k: -(cands[k].log_prior - outs[k].score(cal) / (2 * cal["temperature"])),
+        )
+        keep = sorted(rank[:_VERIFIED])
+        dropped = [(cands[k].log_prior, outs[k]) for k in rank[_VERIFIED:]]
+        plan2[name] = (len(units2), [cands[k] for k in keep], dropped)
+        units2.append(units[start])
+        units2.extend(units[start + 1 + k] for k in keep)
+    outcomes = _audit_units(table, ctx, units2)
     return {
-        name: (outcomes[start], cands, outcomes[start + 1 : start + 1 + len(cands)])
-        for name, (start, cands) in plan.items()
+        name: (outcomes[start], cands, outcomes[start + 1 : start + 1 + len(cands)], dropped)
+        for name, (start, cands, dropped) in plan2.items()
     }
 
 
@@ -699,7 +793,9 @@ def diagnose(
     dict
         Substance -> ``{"suggestion": dict or None, "clears": set of finding keys}``.
     """
-    return {name: choose(ctx, h, calibration) for name, h in hypotheses(ctx, findings).items()}
+    return {
+        name: choose(ctx, h, calibration) for name, h in hypotheses(ctx, findings, limit).items()
+    }
 
 
 @_quiet
@@ -709,7 +805,7 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
     """
     cal = {**CALIBRATION, **(calibration or {})}
     table = ctx.table
-    base, cands, outs = hypothesis
+    base, cands, outs, dropped = hypothesis
     T = cal["temperature"]
     before = {_key(f) for f in base.findings if f.severity.rank >= 1}
     if not cands:
@@ -720,7 +816,22 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
         [math.log(cal["prior_none"]) - base.score(cal) / (2 * T)]
         + [c.log_prior - o.score(cal) / (2 * T) for c, o in zip(cands, outs, strict=True)]
     )
-    post = np.exp(logw - logsumexp(logw))
+    # Screened-out candidates: one whose correction is equivalent to a verified one (same
+    # curves, ranges and phases, so the same evidence) takes that one's score and joins its
+    # group; the others enter the normalization with an upper bound of their weight.
+    verified = {}
+    for k, o in enumerate(outs):
+        verified.setdefault(o.key, logw[1 + k] - cands[k].log_prior)
+    joined: dict[bytes, list[float]] = defaultdict(list)
+    rest = []
+    for lp, o in dropped:
+        if o.key in verified:
+            joined[o.key].append(lp + verified[o.key])
+        else:
+            rest.append(lp - o.score(cal) / (2 * T))
+    extra = [w for ws in joined.values() for w in ws]
+    z = logsumexp(np.concatenate([logw, rest, extra]))
+    post = np.exp(logw - z)
     # merge equivalent corrections (same curves, ranges and phases)
     order = np.argsort(-post[1:])
     groups: dict[bytes, list[int]] = {}
@@ -729,7 +840,10 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
             break
         groups.setdefault(outs[k].key, []).append(int(k))
     ranked = sorted(
-        ((sum(post[1 + k] for k in ks), ks) for ks in groups.values()),
+        (
+            (sum(post[1 + k] for k in ks) + sum(math.exp(w - z) for w in joined[key]), ks)
+            for key, ks in groups.items()
+        ),
         key=lambda g: -g[0],
     )
     if not ranked or ranked[0][0] < max(cal["min_confidence"], post[0]):
@@ -744,7 +858,7 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
     if cal["require_clear"]:
         # a fix must clear the errors on the record it corrects: one that leaves them is at
         # best part of the story, and is not suggested
-        rid = str(table.records["id"].iat[cands[best].row])
+        rid = ctx.id(cands[best].row)
         if any(
             f.severity is Severity.error and rid in f.records and _key(f) in before
             for f in outs[best].findings
@@ -783,8 +897,7 @@ def _stated(p: float, cal: dict) -> float:
 def _suggestion(
     ctx, table, cand: Candidate, out: _Outcome, base: _Outcome, conf, cleared, before, group, cands
 ) -> dict:
-    ids = table.records["id"].astype(object)
-    rid = str(ids.iat[cand.row])
+    rid = ctx.id(cand.row)
     corrected = {ch.field: ch.value for ch in cand.changes if ch.row == cand.row}
     texts = {ch.field: ch.text for ch in cand.changes if ch.row == cand.row and ch.text}
     sug: dict = {
@@ -799,7 +912,7 @@ def _suggestion(
     others = [ch for ch in cand.changes if ch.row != cand.row]
     if others:
         sug["also"] = [
-            {"record": str(ids.iat[ch.row]), "corrected": {ch.field: ch.value}} for ch in others
+            {"record": ctx.id(ch.row), "corrected": {ch.field: ch.value}} for ch in others
         ]
     remaining = {_key(f) for f in out.findings if f.severity.rank >= 1}
     n_before = len(before)
@@ -813,7 +926,7 @@ def _suggestion(
     if n_before:
         text += (
             f" With that fixed, {len(cleared)} of the {n_before} error(s) and warning(s) on "
-            f"{table.records['substance'].astype(object).iat[cand.row]} clear"
+            f"{ctx.substance_of(cand.row)} clear"
             + (f"; {len(remaining)} remain." if remaining else " and none remain.")
         )
     alt = sorted({cands[k].label for k in group if cands[k].label != cand.label})

@@ -78,11 +78,12 @@ def prepare(seed, per_kind, poling):
     flagged = {f.substance for f in result.findings if f.severity.rank >= 1}
     ctx = AuditContext(table, policy)
     hyps = hypotheses(ctx, result.findings)
-    n_cand = sum(len(h[1]) for h in hyps.values())
+    n_ver = sum(len(h[1]) for h in hyps.values())
+    n_all = n_ver + sum(len(h[3]) for h in hyps.values())
     print(
         f"seed {seed}: {len(cases)} labelled cases ({len(table.records)} records), "
-        f"{len(flagged)} flagged; {n_cand} candidate corrections audited in "
-        f"{time.perf_counter() - t0:.1f} s"
+        f"{len(flagged)} flagged; {n_all} candidate corrections screened, {n_ver} verified "
+        f"by the full checks, in {time.perf_counter() - t0:.1f} s"
     )
     return cases, flagged, hyps, ctx
 

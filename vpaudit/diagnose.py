@@ -23,8 +23,10 @@ How it is computed
 ------------------
 All candidates are audited at once: each becomes a *variant* substance in one synthetic
 table (the substance's records with one slip undone, its references and points copied), so
-the registered checks run over whole arrays exactly as in the audit, never once per
-candidate. Each variant gets a misfit score
+the work runs over whole arrays, never once per candidate. A screening pass computes the
+continuous evidence and the errors the hard checks must give (no findings are built); the
+ten best candidates of each substance then run through every registered check exactly as
+in the audit. Each variant gets a misfit score
 
     S = sum over findings (3 per error, 1 per warning)
         + sum of min(rho(z), cap) over the continuous evidence (z = residual / its scale),
@@ -48,9 +50,9 @@ where the prior of each kind is shared equally among its variants (a kind with 4
 digit transpositions gives each a fortieth: the penalty for how unlikely one particular
 slip is) and among the suspect records. Corrections that give the same curve and range
 (Torr and mmHg differ by 1.4e-7) are one fix and their weights add. The confidence of a
-suggestion is its posterior; T and P0 were calibrated on corrupted real data
-(``benchmarks/diagnosis_accuracy.py``, docs/diagnosis.md) so that a confidence c is right
-about a fraction c of the time. When the evidence does not single out one fix the
+suggestion is its posterior through a Platt scaling; T, P0 and the cap were chosen, and the
+scaling fitted, on corrupted real data (``benchmarks/diagnosis_accuracy.py``,
+docs/diagnosis.md) so that a confidence c is right about a fraction c of the time. When the evidence does not single out one fix the
 suggestion is ``None``; when the runner-up is close it is reported too.
 """
 
@@ -113,8 +115,8 @@ CALIBRATION = {
     "warning_cost": 1.0,
     "min_confidence": 0.15,
     "require_clear": True,
-    "logit_scale": 1.691,
-    "logit_shift": 0.156,
+    "logit_scale": 1.802,
+    "logit_shift": 0.570,
 }
 
 #: Checks that say nothing about the numbers of a record (they are the same in every variant).
@@ -936,7 +938,7 @@ def _suggestion(
     return sug
 
 
-#: Substances diagnosed in one audit by default: about 3 ms each, so a table whose every
+#: Substances diagnosed in one audit by default: about 5 ms each, so a table whose every
 #: substance is broken still finishes in seconds; the rest are counted in the summary.
 DIAGNOSE_LIMIT = 1000
 

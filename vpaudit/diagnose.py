@@ -52,8 +52,9 @@ slip is) and among the suspect records. Corrections that give the same curve and
 (Torr and mmHg differ by 1.4e-7) are one fix and their weights add. The confidence of a
 suggestion is its posterior through a Platt scaling; T, P0 and the cap were chosen, and the
 scaling fitted, on corrupted real data (``benchmarks/diagnosis_accuracy.py``,
-docs/diagnosis.md) so that a confidence c is right about a fraction c of the time. When the evidence does not single out one fix the
-suggestion is ``None``; when the runner-up is close it is reported too.
+docs/diagnosis.md) so that a confidence c is right about a fraction c of the time. When the
+evidence does not single out one fix the suggestion is ``None``; when the runner-up is
+close it is reported too.
 """
 
 from __future__ import annotations

@@ -807,14 +807,12 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
     ``{"suggestion": dict or None, "clears": set of finding keys, "none": float}``.
     """
     cal = {**CALIBRATION, **(calibration or {})}
-    table = ctx.table
     base, cands, outs, dropped = hypothesis
     T = cal["temperature"]
-    before = {_key(f) for f in base.findings if f.severity.rank >= 1}
+    before = _errors_and_warnings(base)
     if not cands:
         return {"suggestion": None, "clears": set(), "none": 1.0}
-    # hypotheses: no single slip (the record as written), and each candidate; a candidate
-    # that does not lower the misfit explains nothing and cannot win
+    # hypotheses: no single slip (the records as written), and each verified candidate
     logw = np.array(
         [math.log(cal["prior_none"]) - base.score(cal) / (2 * T)]
         + [c.log_prior - o.score(cal) / (2 * T) for c, o in zip(cands, outs, strict=True)]
@@ -851,13 +849,11 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
     )
     if not ranked or ranked[0][0] < max(cal["min_confidence"], post[0]):
         return {"suggestion": None, "clears": set(), "none": float(post[0])}
-    conf, ks = ranked[0]
-    conf = _stated(conf, cal)
+    raw, ks = ranked[0]
     # equivalent fixes: the one the evidence fits best (to rounding), then the likelier kind,
     # then the first generated (Torr before mmHg)
     best = min(ks, key=lambda k: (round(outs[k].score(cal), 3), -cands[k].log_prior, k))
-    after = {_key(f) for f in outs[best].findings if f.severity.rank >= 1}
-    cleared = before - after
+    cleared = before - _errors_and_warnings(outs[best])
     if cal["require_clear"]:
         # a fix must clear the errors on the record it corrects: one that leaves them is at
         # best part of the story, and is not suggested
@@ -867,23 +863,13 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
             for f in outs[best].findings
         ):
             return {"suggestion": None, "clears": set(), "none": float(post[0])}
-    sug = _suggestion(ctx, table, cands[best], outs[best], base, conf, cleared, before, ks, cands)
-    if len(ranked) > 1 and ranked[1][0] >= 0.5 * conf:
-        c2, ks2 = ranked[1]
-        c2 = _stated(c2, cal)
+    sug = _suggestion(ctx, cands[best], outs[best], _stated(raw, cal), cleared, before, ks, cands)
+    if len(ranked) > 1 and ranked[1][0] >= 0.5 * raw:  # a close runner-up is reported too
+        raw2, ks2 = ranked[1]
         k2 = ks2[0]
-        sug["runner_up"] = _suggestion(
-            ctx,
-            table,
-            cands[k2],
-            outs[k2],
-            base,
-            c2,
-            before - {_key(f) for f in outs[k2].findings if f.severity.rank >= 1},
-            before,
-            ks2,
-            cands,
-        )
+        c2 = _stated(raw2, cal)
+        cleared2 = before - _errors_and_warnings(outs[k2])
+        sug["runner_up"] = _suggestion(ctx, cands[k2], outs[k2], c2, cleared2, before, ks2, cands)
         sug["explanation"] += f" Close runner-up ({c2:.2f}): {cands[k2].label}."
     return {"suggestion": sug, "clears": cleared, "none": float(post[0])}
 
@@ -897,9 +883,22 @@ def _stated(p: float, cal: dict) -> float:
     return 1.0 / (1.0 + math.exp(-z))
 
 
+def _errors_and_warnings(out: _Outcome) -> set:
+    """The identities of an outcome's errors and warnings."""
+    return {_key(f) for f in out.findings if f.severity.rank >= 1}
+
+
 def _suggestion(
-    ctx, table, cand: Candidate, out: _Outcome, base: _Outcome, conf, cleared, before, group, cands
+    ctx: AuditContext,
+    cand: Candidate,
+    out: _Outcome,
+    conf: float,
+    cleared: set,
+    before: set,
+    group: list[int],
+    cands: list[Candidate],
 ) -> dict:
+    """The suggestion of one fix, in the output contract's form."""
     rid = ctx.id(cand.row)
     corrected = {ch.field: ch.value for ch in cand.changes if ch.row == cand.row}
     texts = {ch.field: ch.text for ch in cand.changes if ch.row == cand.row and ch.text}
@@ -917,7 +916,7 @@ def _suggestion(
         sug["also"] = [
             {"record": ctx.id(ch.row), "corrected": {ch.field: ch.value}} for ch in others
         ]
-    remaining = {_key(f) for f in out.findings if f.severity.rank >= 1}
+    remaining = _errors_and_warnings(out)
     n_before = len(before)
     if conf >= 0.8:
         lead = "Almost certainly"

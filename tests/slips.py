@@ -190,6 +190,26 @@ def _alcock_cases(rng: random.Random, per_kind: int | None) -> list[Case]:
     return cases
 
 
+def poling_record(a, record_id: str, substance: str) -> dict:
+    """A liquid Antoine record from one row of Poling et al.'s table (via chemicals)."""
+    return {
+        "id": record_id,
+        "substance": substance,
+        "phase": "liquid",
+        "form": "antoine",
+        "log_base": "10",
+        "pressure_unit": "Pa",
+        "temperature_unit": "K",
+        "A": float(a["A"]),
+        "B": float(a["B"]),
+        "C": float(a["C"]),
+        "t_min": float(a["Tmin"]),
+        "t_max": float(a["Tmax"]),
+        "source": POLING,
+        "uncertainty": 0.02,
+    }
+
+
 def _poling_cases(rng: random.Random, n: int, per_kind: int | None) -> list[Case]:
     from chemicals import Tb
     from chemicals.vapor_pressure import Psat_data_AntoinePoling as ant
@@ -212,22 +232,7 @@ def _poling_cases(rng: random.Random, n: int, per_kind: int | None) -> list[Case
         for cas, a, tb in chosen:
             sub = f"{cas}#{k}"
             k += 1
-            rec = {
-                "id": f"{cas}-poling#{k}",
-                "substance": sub,
-                "phase": "liquid",
-                "form": "antoine",
-                "log_base": "10",
-                "pressure_unit": "Pa",
-                "temperature_unit": "K",
-                "A": float(a["A"]),
-                "B": float(a["B"]),
-                "C": float(a["C"]),
-                "t_min": float(a["Tmin"]),
-                "t_max": float(a["Tmax"]),
-                "source": POLING,
-                "uncertainty": 0.02,
-            }
+            rec = poling_record(a, f"{cas}-poling#{k}", sub)
             rf = [
                 {
                     "substance": sub,
@@ -300,5 +305,6 @@ __all__ = [
     "cases_table",
     "corrupt",
     "labelled_cases",
+    "poling_record",
     "reproduces",
 ]

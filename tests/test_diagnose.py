@@ -12,8 +12,8 @@ import random
 from decimal import Decimal
 
 import pytest
-from refdata import CRC, POLING, alcock_pairs, table_from_rows
-from slips import Case, cases_table, corrupt, labelled_cases, reproduces
+from refdata import CRC, alcock_pairs, table_from_rows
+from slips import Case, cases_table, corrupt, labelled_cases, poling_record, reproduces
 
 from vpaudit.audit import audit, audit_table
 from vpaudit.diagnose import KINDS
@@ -121,22 +121,7 @@ def test_antoine_constants_in_degc_marked_k(ranges_in):
     # normal boiling point 351.39 K (CRC Handbook, from memory; only used as the reference)
     from chemicals.vapor_pressure import Psat_data_AntoinePoling as ant
 
-    a = ant.loc["64-17-5"]
-    rec = {
-        "id": "ethanol-l",
-        "substance": "ethanol",
-        "phase": "liquid",
-        "form": "antoine",
-        "log_base": "10",
-        "pressure_unit": "Pa",
-        "temperature_unit": "K",
-        "A": float(a["A"]),
-        "B": float(a["B"]),
-        "C": float(a["C"]),
-        "t_min": float(a["Tmin"]),
-        "t_max": float(a["Tmax"]),
-        "source": POLING,
-    }
+    rec = poling_record(ant.loc["64-17-5"], "ethanol-l", "ethanol")
     from vpaudit.equations.convert import convert_record
 
     conv = convert_record(rec, temperature_unit="degC")

@@ -272,7 +272,8 @@ def candidates_for(rec: dict, row: int, partners: list[tuple[int, str]]) -> list
             by_kind["decimal-shift"].append(
                 (
                     (Change(row, c, float(new), new),),
-                    f"{c} is off by a factor {10.0**-k:g} ({text} -> {new})",
+                    f"{c} was entered {10.0 ** abs(k):g} times too "
+                    f"{'small' if k > 0 else 'large'} ({text} -> {new})",
                 )
             )
         for _, new in _transpositions(text):

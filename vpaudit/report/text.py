@@ -37,7 +37,12 @@ def render(result, width: int = 100) -> str:
             f"(policy: {policy})",
             "",
         ]
-    wrap = textwrap.TextWrapper(width=width, initial_indent=" " * 6, subsequent_indent=" " * 6)
+    wrap = textwrap.TextWrapper(
+        width=width,
+        initial_indent=" " * 6,
+        subsequent_indent=" " * 6,
+        break_on_hyphens=False,  # check names and kinds stay whole
+    )
     status_of = getattr(result, "status_of", None)
 
     def block(findings) -> None:
@@ -52,7 +57,7 @@ def render(result, width: int = 100) -> str:
         for name in sorted(groups, key=rank):
             fs = groups[name]
             lines.append(f"{name or '(table)'} -- {_counts(fs)}")
-            shown_apply = False
+            shown: set = set()  # each substance's fix is explained once
             for f in fs:
                 where = f" ({f.file}:{f.line})" if f.file else ""
                 ident = (
@@ -63,9 +68,14 @@ def render(result, width: int = 100) -> str:
                 lines.append(f"  {_LABEL[f.severity.value]:<8}{ident}{where}")
                 lines.extend(wrap.wrap(f.message))
                 if f.suggestion:
-                    lines.extend(wrap.wrap(f"suggestion: {f.suggestion.get('explanation', '')}"))
-                    if not shown_apply and not status_of:
-                        shown_apply = True
+                    sug = f.suggestion
+                    fix = (sug.get("record"), sug.get("kind"), repr(sug.get("corrected")))
+                    if fix in shown:
+                        lines.append(f"      suggestion: the same fix ({sug.get('kind')}, above)")
+                        continue
+                    shown.add(fix)
+                    lines.extend(wrap.wrap(f"suggestion: {sug.get('explanation', '')}"))
+                    if not status_of:
                         lines.append(
                             f"      to apply it: vpaudit apply {result.table_path or 'TABLE'} "
                             f"{f.check}:{','.join(f.records)}"

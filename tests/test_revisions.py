@@ -6,6 +6,7 @@ import json
 import shutil
 from pathlib import Path
 
+import numpy as np
 import pytest
 from click.testing import CliRunner
 
@@ -142,3 +143,34 @@ def test_fit_writes_a_record_that_reads_back(table):
 
     t = load_table(table)
     assert "ardenite-l-fit" in set(t.records["id"].astype(object))
+
+
+def test_convert_and_pair_fit_commands(table, tmp_path):
+    run = CliRunner().invoke(
+        main, ["convert", str(table), "ardenite-l1", "--log-base", "10", "--pressure-unit", "Torr"]
+    )
+    assert run.exit_code == 0 and "exact conversion" in run.output
+    assert ",three-term,10,Torr,K," in run.output
+    run = CliRunner().invoke(main, ["convert", str(table), "ardenite-l1", "--form", "two-term"])
+    assert run.exit_code == 2 and "deviates by up to" in run.output
+    # a pair fit needs points of both phases: points generated from the demo's own curves
+    from vpaudit.api import open_table
+    from vpaudit.fit import fit_table_pair
+    from vpaudit.lookup import record_dict
+
+    t = open_table(table)
+    rows = []
+    for rid in ("ardenite-s1", "ardenite-l1"):
+        r = record_dict(t, rid)
+        for temp in np.linspace(r["t_min"], r["t_max"], 8):
+            y = r["A"] + r["B"] / temp + r["C"] * np.log(temp)
+            rows.append(f"ardenite,{r['phase']},{float(temp)!r},{float(np.exp(y))!r},0.01")
+    pts = table / "points" / "pair.csv"
+    pts.write_text(
+        "substance,phase,T,P,uncertainty,source\n" + "".join(f"{x},demo\n" for x in rows)
+    )
+    res, recs = fit_table_pair(open_table(table), "ardenite")
+    assert abs(res.triple_temperature - 1179.4) < 1.0  # the demo pair meets at its melting point
+    run = CliRunner().invoke(main, ["fit", str(table), "--substance", "ardenite", "--pair"])
+    assert run.exit_code == 0, run.output
+    assert "triple point:" in run.output and "cost of the constraint" in run.output

@@ -588,7 +588,7 @@ def _points(table, substance: str, phase: str | None):
         raise EquationError("the table has no measured points to fit")
     m = eq(pts["substance"], substance)
     if phase:
-        m &= eq(pts["phase"], phase)
+        m = m & eq(pts["phase"], phase)  # eq may hand back a read-only view
     if not m.any():
         have = sorted(set(pts["substance"].astype(object).dropna()))
         raise EquationError(

@@ -75,6 +75,7 @@ from .checks._registry import REGISTRY, Severity
 from .checks.finding import Finding
 from .equations.engine import evaluate
 from .equations.forms import FORMS
+from .lookup import record_at
 from .readers.files import RawFrame
 from .readers.table import Table, _Collector, _record_rules
 from .units import PRESSURE_UNITS, TEMPERATURE_UNITS
@@ -671,11 +672,6 @@ def _unit_keys(vctx: AuditContext, n_units: int) -> list[bytes]:
     return [parts[bounds[u] : bounds[u + 1]].tobytes() for u in range(n_units)]
 
 
-def _record(table: Table, row: int) -> dict:
-    r = table.records.iloc[row]
-    return {k: (None if (v is pd.NA or v is None) else v) for k, v in r.items()}
-
-
 def _suspects(findings: list[Finding], limit: int | None) -> tuple[dict[str, set[str]], int]:
     """The records of each substance with errors or warnings, worst substances first, at
     most ``limit`` substances; returns them and how many were left out.
@@ -729,7 +725,7 @@ def hypotheses(
         seen: set = set()
         sub_rows = members.get(code, np.empty(0, dtype=np.int64))
         for row in rows:
-            rec = _record(table, row)
+            rec = record_at(table, row)
             if rec.get("form") not in FORMS:
                 continue
             partners = [

@@ -767,15 +767,13 @@ def convert_or_refit(
             temperature_unit=temperature_unit,
         )
         return out, 0.0, True
-    import pandas as pd
+    from .readers.table import RECORD_COLUMNS, records_table
 
-    frame = pd.DataFrame([{k: v for k, v in record.items() if not k.endswith("_text")}])
-    for c in ("A", "B", "C", "D", "E", "t_crit", "p_crit", "t_min", "t_max"):
-        if c not in frame:
-            frame[c] = np.nan
-        frame[c] = pd.to_numeric(frame[c])
-    frame["temperature_unit"] = frame.get("temperature_unit", "K")
-    curve = curves_from_frame(frame.fillna({"temperature_unit": "K"}))
+    names = {c.name for c in RECORD_COLUMNS}
+    fields = {k: v for k, v in record.items() if k in names or k[:-5] in names}
+    # the curve needs only the equation's fields; the reader also asks for these
+    fields = {"id": "x", "substance": "x", "phase": "liquid", "source": "x", **fields}
+    curve = curves_from_frame(records_table([fields]).records)  # the reader's own path
     lo, hi = float(curve.t_min[0]), float(curve.t_max[0])
     t = 1.0 / np.linspace(1.0 / hi, 1.0 / lo, 200)
     y = evaluate(curve, t, 0)[0].reshape(-1)

@@ -185,9 +185,15 @@ def record_dict(table: Table, record_id: str) -> dict:
     if len(rows) == 0:
         some = ", ".join(map(str, ids.head(5)))
         raise EquationError(f"no record {record_id!r} in the table (records include {some})")
-    row = table.records.iloc[int(rows[0])]
+    return record_at(table, int(rows[0]))
+
+
+def record_at(table: Table, row: int) -> dict:
+    """Record ``row`` of ``table`` as a plain dict (numbers as floats, empty cells as None,
+    ``<field>_text`` beside each number).
+    """
     out = {}
-    for k, v in row.items():
+    for k, v in table.records.iloc[row].items():
         if v is None or v is pd.NA or (isinstance(v, float) and v != v):
             out[k] = None
         elif isinstance(v, np.generic):

@@ -214,3 +214,57 @@ def test_no_value_is_ever_different_from_the_text(sample_db):
         assert np.array_equal(
             t.records[col].to_numpy()[mask], np.array([float(x) for x in text[mask]])
         )
+
+
+STREAM_CASES = {
+    "plain": csv_text(),
+    "bom-crlf": ("\ufeff" + csv_text()).replace("\n", "\r\n"),
+    "comments-and-blank-lines": "# source: invented\n\n# second comment, \"quoted\"\n"
+    + csv_text()
+    + ROW.format(A="1").replace("r1", "r2")
+    + "\n",
+    "quoted-cells": HEADER + '\n"r1","zinc-demo",solid,three-term,e,Pa,"25.5",-15000,-1.2,300,'
+    '600,"a ""quoted"" source, with comma"\n',
+    "ragged": csv_text(extra=",surplus"),
+    "blank-line-between-rows": csv_text() + "\n" + ROW.format(A="2").replace("r1", "r2") + "\n",
+    "unclosed-quote": csv_text().replace("demo source", '"demo source'),
+    "bare-cr": csv_text().replace("\n", "\r"),
+    "nul": csv_text() + "r2\x00\n",
+    "header-only": HEADER + "\n",
+    "semicolons": csv_text().replace(",", ";"),
+}
+
+
+@pytest.mark.parametrize("case", sorted(STREAM_CASES))
+def test_streamed_large_file_path_reads_exactly_as_the_whole_file_path(tmp_path, monkeypatch, case):
+    """Files above STREAM_BYTES are checked block by block and read by pyarrow from the file;
+    forcing that path on small files must give the same frame or the same located errors."""
+    from vpaudit.readers import files
+
+    path = write(tmp_path / "r.csv", STREAM_CASES[case].encode("utf-8"))
+
+    def outcome():
+        try:
+            t = read_file(path)
+        except TableError as exc:
+            errs = exc.errors if isinstance(exc, TableErrors) else [exc]
+            return None, [str(e) for e in errs]
+        return t.records, []
+
+    whole, whole_errors = outcome()
+    monkeypatch.setattr(files, "STREAM_BYTES", 0)
+    monkeypatch.setattr(files, "_BLOCK", 7)  # blocks split lines, quotes and CR LF pairs
+    taken = []
+    real = files._read_csv_streamed
+    monkeypatch.setattr(files, "_read_csv_streamed", lambda p: taken.append(real(p)) or taken[-1])
+    streamed, streamed_errors = outcome()
+    # the regular files really take the streamed path; the others fall back to the whole file
+    plain = case in {"plain", "bom-crlf", "comments-and-blank-lines", "quoted-cells", "semicolons"}
+    assert (taken[0] is not None) == plain
+    assert streamed_errors == whole_errors
+    if whole is None:
+        assert streamed is None
+    else:
+        import pandas as pd
+
+        pd.testing.assert_frame_equal(streamed, whole)

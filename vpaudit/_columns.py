@@ -35,6 +35,11 @@ def isin(series: pd.Series, values: Iterable[str]) -> np.ndarray:
 
 def empty(series: pd.Series) -> np.ndarray:
     """Boolean array: the cell is empty (null, or only spaces)."""
+    if isinstance(series.dtype, pd.CategoricalDtype):  # decided once per distinct value
+        cats = series.cat.categories
+        blank = np.asarray(pd.Series(cats, dtype=object).str.strip() == "", dtype=bool)
+        c = series.cat.codes.to_numpy()
+        return (c < 0) | np.append(blank, True)[np.where(c >= 0, c, len(cats))]
     return np.asarray(
         series.isna() | (series.astype(TEXT).str.strip() == "").fillna(True), dtype=bool
     )

@@ -40,6 +40,9 @@ def main() -> None:
     TABLE is a table directory (records/, references/, points/), a single table file, or a
     .duckdb store made by 'vpaudit import'.
     """
+    from ._memory import keep_freed_memory
+
+    keep_freed_memory()
 
 
 def _progress(quiet: bool, label: str, length: int = 1):

@@ -87,6 +87,7 @@ class AuditContext:
             rows = self.rows_of(bad["file"], bad["line"])
             ok[rows[rows >= 0]] = False
         self.evaluable = ok
+        self._severities: dict[str, Severity] = {}
 
     def rows_of(self, files, lines) -> np.ndarray:
         """The record row standing at each (file, line) pair, -1 where there is none (for
@@ -177,7 +178,9 @@ class AuditContext:
         severity: Severity | None = None,
     ) -> Finding:
         """A finding about record ``row`` (and ``records`` when several are involved)."""
-        sev = severity or self.severity(check) or REGISTRY[check].severity
+        sev = severity or self._severities.get(check)
+        if sev is None:
+            sev = self._severities[check] = self.severity(check) or REGISTRY[check].severity
         return Finding(
             check=check,
             severity=sev,
@@ -224,7 +227,7 @@ class AuditContext:
         rows = np.flatnonzero(self.evaluable)
         if rows.size == 0:
             return out
-        c = self.curves.take(rows)
+        c = self.curves if rows.size == n else self.curves.take(rows)  # no copy when all are
         for part in _blocks(c.family):
             cp_ = c.take(part)
             h, ts, y, _ = self._sampled(cp_, cp_.t_min, cp_.t_max)

@@ -39,7 +39,10 @@ class Severity(StrEnum):
     @property
     def rank(self) -> int:
         """2 for error, 1 for warning, 0 for note (for sorting and ``--fail-on``)."""
-        return {"error": 2, "warning": 1, "note": 0}[self.value]
+        return _RANK[str(self)]
+
+
+_RANK = {"error": 2, "warning": 1, "note": 0}
 
 
 class Scope(StrEnum):

@@ -76,8 +76,20 @@ def duplicate_record(ctx: AuditContext):
         for v in cols.values():
             bits = v.view(np.uint64) if v.dtype == np.float64 else v.astype(np.uint64)
             h = (h ^ bits) * np.uint64(0x100000001B3)
-    dup_id = rec["id"].duplicated(keep=False).to_numpy()
-    cand = np.flatnonzero(pd.Series(h).duplicated(keep=False).to_numpy() & ~dup_id)
+    # records whose id is repeated are reported above (the reader found them)
+    dup_id = np.zeros(ctx.n, dtype=bool)
+    problems = ctx.table.problems
+    if len(problems):
+        rep = problems.loc[problems["rule"] == "duplicate-id"]
+        rows = ctx.rows_of(rep["file"], rep["line"])
+        dup_id[rows[rows >= 0]] = True
+    order = np.argsort(h, kind="stable")
+    hs = h[order]
+    same = hs[1:] == hs[:-1]
+    repeated = np.zeros(ctx.n, dtype=bool)
+    repeated[order[1:][same]] = True
+    repeated[order[:-1][same]] = True
+    cand = np.flatnonzero(repeated & ~dup_id)
     if not cand.size:
         return
     keys = pd.DataFrame({k: v[cand] for k, v in cols.items()}, index=cand)

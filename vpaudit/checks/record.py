@@ -128,7 +128,7 @@ def enthalpy_implausible(ctx: AuditContext):
     rows = np.flatnonzero(ctx.evaluable)
     if rows.size == 0:
         return
-    c = ctx.curves.take(rows)
+    c = ctx.curves if rows.size == ctx.n else ctx.curves.take(rows)  # no copy when all are
     t_mid = 2.0 / (1.0 / c.t_min + 1.0 / c.t_max)
     tb = ctx.reference("normal_boiling_point", rows)
     use_tb = ctx.liquid[rows] & (tb >= c.t_min) & (tb <= c.t_max)

@@ -153,27 +153,22 @@ def _csv_layout(path: str, data: bytes) -> tuple[int, int, str, list[str]]:
     return start, body_at, delimiter, _check_header(path, header, start + 1)
 
 
-def _csv_bulk(data: bytes, start: int, body_at: int, delimiter: str, columns: list[str]):
+def _csv_bulk(source, start: int, columns: list[str], delimiter: str):
     """Read the rows with pyarrow's multi-threaded CSV reader, every column as a string.
 
-    Returns None when the file needs the exact path instead: anything pyarrow does not read
-    as a plain table of one physical line per row (a blank line, a ragged row, a newline
-    inside quotes, an unbalanced quote, bare CR line ends, invalid UTF-8); that path then
-    reads it or reports the problem with its line.
+    ``source`` is the rows' bytes, or a pyarrow file positioned at the first row. Returns
+    None when the file needs the exact path instead: anything pyarrow does not read as a
+    plain table of one physical line per row (a blank line, a ragged row, a newline inside
+    quotes, invalid UTF-8); that path then reads it or reports the problem with its line.
+    The callers have already sent files with an unclosed quote or bare CR line ends there.
     """
     import pyarrow as pa
+    import pyarrow.compute as pc
     import pyarrow.csv as pcsv
 
-    if b'"' in data and data.count(b'"') % 2:
-        return None  # an unclosed quote: the exact path locates it
-    if b"\r" in data and data.count(b"\r") != data.count(b"\r\n"):
-        return None  # bare CR line ends: the exact path counts those lines
-    body = memoryview(data)[body_at:]
-    if not bytes(body[:4096]).strip() and not bytes(body).strip():
-        return {c: [] for c in columns}, []
     try:
         table = pcsv.read_csv(
-            pa.py_buffer(body),
+            pa.py_buffer(source) if isinstance(source, bytes | memoryview) else source,
             read_options=pcsv.ReadOptions(column_names=columns, block_size=1 << 24),
             parse_options=pcsv.ParseOptions(
                 delimiter=delimiter,
@@ -193,10 +188,19 @@ def _csv_bulk(data: bytes, start: int, body_at: int, delimiter: str, columns: li
         )
     except (pa.ArrowInvalid, pa.ArrowException):
         return None
+    if table.num_rows and pc.any(pc.equal(table.column(0), "")).as_py():
+        return None  # maybe a blank line, which pyarrow reads as a row: the exact path skips it
     n = table.num_rows
     lines = np.arange(start + 2, start + 2 + n, dtype=np.int64)
     cells = {c: table.column(c) for c in columns}
     return cells, lines
+
+
+def _regular(data: bytes) -> bool:
+    """No unclosed quote and no bare CR line end: pyarrow may read it."""
+    if b'"' in data and data.count(b'"') % 2:
+        return False
+    return not (b"\r" in data and data.count(b"\r") != data.count(b"\r\n"))
 
 
 def read_csv(path: str, data: bytes) -> RawFrame:
@@ -212,13 +216,72 @@ def read_csv(path: str, data: bytes) -> RawFrame:
     if not data.strip():
         raise _err(path, "file is empty: expected a header line naming the columns")
     start, body_at, delimiter, columns = _csv_layout(path, data)
-    bulk = _csv_bulk(data, start, body_at, delimiter, columns)
+    body = memoryview(data)[body_at:]
+    if not bytes(body).strip():
+        bulk = ({c: [] for c in columns}, [])
+    else:
+        bulk = _csv_bulk(body, start, columns, delimiter) if _regular(data) else None
     if bulk is not None:
         cells, lines = bulk
         if len(lines) > MAX_ROWS:
             raise _err(path, f"more than {MAX_ROWS} rows in one file")
         return RawFrame(path, columns, cells, lines)
     return _read_csv_exact(path, _decode(path, data), start, delimiter, columns)
+
+
+#: Files above this size are checked in blocks and handed to pyarrow by path, so their
+#: bytes are never held whole in memory.
+STREAM_BYTES = 32 * 1024**2
+_BLOCK = 16 * 1024**2
+_HEAD = 1024**2  # the header line must begin within this many bytes
+
+
+def _read_csv_streamed(path: str) -> RawFrame | None:
+    """:func:`read_csv` for a large file without holding its bytes: the checks that
+    :func:`_checked` and :func:`_regular` make on the whole file run block by block, the
+    header is read from the head, and pyarrow reads the rows from the file itself.
+
+    Returns None when the file is not plain (a NUL byte, an unclosed quote, a bare CR line
+    end, a header not within the first megabyte, no rows): the whole-file path then reads it and
+    locates any problem.
+    """
+    import pyarrow as pa
+
+    quotes = cr = crlf = 0
+    with open(path, "rb") as fh:
+        head = fh.read(_HEAD)
+        fh.seek(0)
+        block, prev_cr = fh.read(_BLOCK), False
+        while block:
+            if b"\x00" in block:
+                return None
+            if b'"' in block:  # a search is far faster than a count: count only if present
+                quotes += block.count(b'"')
+            if b"\r" in block or prev_cr:
+                cr += block.count(b"\r")
+                crlf += block.count(b"\r\n") + (prev_cr and block.startswith(b"\n"))
+            prev_cr = block.endswith(b"\r")
+            block = fh.read(_BLOCK)
+    if quotes % 2 or cr != crlf:
+        return None
+    skipped = 3 if head.startswith(b"\xef\xbb\xbf") else 0  # bytes before the header
+    start = 0  # lines before the header
+    nl = head.find(b"\n", skipped)
+    while nl >= 0 and (head.startswith(b"#", skipped) or not head[skipped : nl + 1].strip()):
+        skipped, start = nl + 1, start + 1  # comment and blank lines
+        nl = head.find(b"\n", skipped)
+    if nl < 0:
+        return None
+    _, body_at, delimiter, columns = _csv_layout(path, head[skipped : nl + 1])
+    with pa.OSFile(path) as source:
+        source.seek(skipped + body_at)
+        bulk = _csv_bulk(source, start, columns, delimiter)
+    if bulk is None or not len(bulk[1]):
+        return None
+    cells, lines = bulk
+    if len(lines) > MAX_ROWS:
+        raise _err(path, f"more than {MAX_ROWS} rows in one file")
+    return RawFrame(path, columns, cells, lines)
 
 
 def _read_csv_exact(
@@ -533,6 +596,11 @@ def read_raw(path: str | Path) -> RawFrame:
         raise _err(str(path), "no such file")
     if fmt == "parquet":
         return read_parquet(str(path))
-    if p.stat().st_size > MAX_FILE_BYTES:
+    size = p.stat().st_size
+    if size > MAX_FILE_BYTES:
         raise _err(str(path), f"file is larger than the limit of {MAX_FILE_BYTES} bytes")
+    if fmt == "csv" and size > STREAM_BYTES:
+        frame = _read_csv_streamed(str(path))
+        if frame is not None:
+            return frame
     return _READERS[fmt](str(path), p.read_bytes())

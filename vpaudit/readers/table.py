@@ -648,7 +648,13 @@ def _load(paths: list[Path], kinds: dict[Path, str | None], normalize: bool, **k
             )
             continue
         parts[kind].append(frame_from_raw(raw, kind, out, normalize))
-    return _finish(parts, out, files=[str(p) for p in paths], **kw)
+        del raw
+    table = _finish(parts, out, files=[str(p) for p in paths], **kw)
+    if sum(len(p) for kind in KINDS for p in parts[kind]) >= _PARALLEL_ROWS:
+        from .._memory import release_scratch
+
+        release_scratch()  # the reading's scratch space, before the audit allocates its own
+    return table
 
 
 def load_table(path: str | Path, normalize: bool = False) -> Table:

@@ -219,7 +219,7 @@ def test_no_value_is_ever_different_from_the_text(sample_db):
 STREAM_CASES = {
     "plain": csv_text(),
     "bom-crlf": ("\ufeff" + csv_text()).replace("\n", "\r\n"),
-    "comments-and-blank-lines": "# source: invented\n\n# second comment, \"quoted\"\n"
+    "comments-and-blank-lines": '# source: invented\n\n# second comment, "quoted"\n'
     + csv_text()
     + ROW.format(A="1").replace("r1", "r2")
     + "\n",

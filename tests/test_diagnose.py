@@ -11,7 +11,10 @@ from __future__ import annotations
 import random
 from decimal import Decimal
 
+import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from refdata import CRC, alcock_pairs, table_from_rows
 from slips import Case, cases_table, corrupt, labelled_cases, poling_record, reproduces
 
@@ -257,3 +260,15 @@ def _right(c: Case, sug) -> bool:
         return sug["kind"] == "phase-swap"
     bad = next(r for r in c.records if r["id"] == sug["record"])
     return sug["record"] == c.record and reproduces(c.original, bad, sug)
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.lists(st.floats(-1e3, 1e3) | st.just(-np.inf), min_size=1, max_size=20))
+def test_log_sum_exp_equals_scipy(values):
+    """The posterior normaliser: equal to scipy.special.logsumexp (the reference library)."""
+    from scipy.special import logsumexp
+
+    from vpaudit.diagnose import _logsumexp
+
+    x = np.array(values)
+    assert _logsumexp(x) == pytest.approx(float(logsumexp(x)), rel=1e-12, abs=1e-12)

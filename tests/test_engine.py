@@ -375,3 +375,17 @@ def test_quantities_with_unit_suffixes():
     assert parse_pressure("1 bar") == 1e5
     with pytest.raises(Exception, match="positive"):
         parse_temperature("-300degC")
+
+
+def test_constants_equal_scipy_codata_values():
+    """vpaudit writes its exact SI constants out (no scipy import at start-up); each must
+    equal scipy.constants (CODATA 2018; all these are exact by definition)."""
+    import scipy.constants as sc
+
+    from vpaudit import constants as vc
+
+    assert vc.R == sc.R
+    assert vc.ATM == sc.atm and vc.BAR == sc.bar and vc.TORR == sc.torr
+    assert vc.PSI == pytest.approx(sc.psi, rel=1e-15)
+    assert vc.ZERO_CELSIUS == sc.zero_Celsius and vc.CALORIE == sc.calorie
+    assert PRESSURE_UNITS["psi"] == pytest.approx(sc.psi, rel=1e-15)

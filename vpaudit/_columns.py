@@ -10,7 +10,7 @@ import numpy as np
 import pandas as pd
 import pyarrow as pa
 
-__all__ = ["TEXT", "text_series", "eq", "isin", "codes", "lookup", "empty"]
+__all__ = ["TEXT", "text_series", "eq", "isin", "codes", "text_codes", "lookup", "empty"]
 
 #: The dtype of every text column of a table frame (Arrow strings, nulls for empty cells).
 TEXT = pd.ArrowDtype(pa.string())
@@ -51,6 +51,17 @@ def codes(series: pd.Series) -> tuple[np.ndarray, np.ndarray]:
     if isinstance(uniques, pd.Index):
         uniques = uniques.array
     values = np.asarray(pd.array(uniques).to_numpy(dtype=object, na_value=None))
+    return np.asarray(c, dtype=np.int64), values
+
+
+def text_codes(series: pd.Series) -> tuple[np.ndarray, pa.Array]:
+    """:func:`codes` of a text column with the distinct values kept as an Arrow array (no
+    Python object per distinct value: a million substance names stay one buffer).
+    """
+    c, uniques = pd.factorize(series.astype(TEXT), use_na_sentinel=True)
+    values = pa.array(uniques, type=pa.string())
+    if isinstance(values, pa.ChunkedArray):
+        values = values.combine_chunks()
     return np.asarray(c, dtype=np.int64), values
 
 

@@ -37,9 +37,9 @@ from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
-from scipy.constants import R
 from scipy.optimize import least_squares, minimize_scalar
 
+from .constants import R
 from .equations.forms import FORMS, WAGNER
 from .errors import EquationError
 

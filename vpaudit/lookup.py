@@ -9,8 +9,8 @@ from typing import Any
 
 import numpy as np
 import pandas as pd
-from scipy.constants import R
 
+from .constants import R
 from .equations.engine import curves_from_frame, evaluate, temperature_at
 from .errors import VpauditError
 from .readers.table import Table

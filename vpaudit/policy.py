@@ -21,11 +21,8 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from pydantic import ValidationError
-
 from .checks._registry import REGISTRY, Severity, get_check
 from .errors import PolicyError, UnknownCheckError
-from .schema import PolicyFile
 
 __all__ = ["PRESETS", "Policy", "load_policy"]
 
@@ -121,6 +118,10 @@ class Policy:
 
 
 def _from_mapping(data: dict, origin: str) -> Policy:
+    from pydantic import ValidationError  # imported only when a policy file is read
+
+    from .schema import PolicyFile
+
     try:
         model = PolicyFile.model_validate(data)
     except ValidationError as exc:

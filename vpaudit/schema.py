@@ -15,7 +15,12 @@ from typing import Annotated, Literal
 from pydantic import BaseModel, ConfigDict, Field, field_validator, model_validator
 
 from .equations.forms import COEFFICIENTS, FORMS
-from .units import ENTHALPY_UNITS, MOLAR_MASS_UNITS, PRESSURE_UNITS, TEMPERATURE_UNITS, to_kelvin
+from .units import (
+    PRESSURE_UNITS,
+    QUANTITY_UNITS,
+    TEMPERATURE_UNITS,
+    to_kelvin,
+)
 
 __all__ = [
     "Phase",
@@ -58,21 +63,6 @@ class Quantity(StrEnum):
     enthalpy_of_sublimation = "enthalpy_of_sublimation"
     molar_mass = "molar_mass"
 
-
-_T_UNITS = {"K": 1.0, "degC": 1.0}
-#: Accepted units per quantity, with their kind (``temperature``, ``pressure``, ...).
-QUANTITY_UNITS: dict[str, tuple[str, tuple[str, ...]]] = {
-    "melting_point": ("temperature", tuple(_T_UNITS)),
-    "triple_point_temperature": ("temperature", tuple(_T_UNITS)),
-    "normal_boiling_point": ("temperature", tuple(_T_UNITS)),
-    "critical_temperature": ("temperature", tuple(_T_UNITS)),
-    "triple_point_pressure": ("pressure", tuple(PRESSURE_UNITS)),
-    "critical_pressure": ("pressure", tuple(PRESSURE_UNITS)),
-    "enthalpy_of_fusion": ("enthalpy", tuple(ENTHALPY_UNITS)),
-    "enthalpy_of_vaporization": ("enthalpy", tuple(ENTHALPY_UNITS)),
-    "enthalpy_of_sublimation": ("enthalpy", tuple(ENTHALPY_UNITS)),
-    "molar_mass": ("molar_mass", tuple(MOLAR_MASS_UNITS)),
-}
 
 _STRICT = ConfigDict(extra="forbid", allow_inf_nan=False, str_strip_whitespace=False)
 

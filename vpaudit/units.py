@@ -5,10 +5,10 @@ converted only at the edges (readers, command options, reporters).
 
 Notes
 -----
-Pressure factors come from :mod:`scipy.constants` (CODATA; atm, bar and Torr are exact by
-definition). The conventional millimetre of mercury is kept distinct from the torr:
+Pressure factors are exact by definition (:mod:`vpaudit.constants`, tested against
+:mod:`scipy.constants`). The conventional millimetre of mercury is kept distinct from the torr:
 1 mmHg = 133.322387415 Pa (NIST SP 811, Appendix B.8), which is 1.4e-7 relative above
-1 Torr = 101325/760 Pa. scipy's ``mmHg`` constant equals its ``torr`` and is not used.
+1 Torr = 101325/760 Pa (scipy's ``mmHg`` constant equals its ``torr``).
 """
 
 from __future__ import annotations
@@ -18,8 +18,8 @@ import re
 from typing import Final
 
 import numpy as np
-import scipy.constants as sc
 
+from .constants import ATM, BAR, CALORIE, PSI, TORR, ZERO_CELSIUS
 from .errors import UnitError
 
 __all__ = [
@@ -28,6 +28,7 @@ __all__ = [
     "ENTHALPY_UNITS",
     "MOLAR_MASS_UNITS",
     "MMHG_PA",
+    "QUANTITY_UNITS",
     "pressure_factor",
     "to_kelvin",
     "from_kelvin",
@@ -43,33 +44,48 @@ MMHG_PA: Final[float] = 133.322387415
 #: Pressure units accepted in tables and options, with their value in pascal.
 PRESSURE_UNITS: Final[dict[str, float]] = {
     "Pa": 1.0,
-    "kPa": sc.kilo,
-    "MPa": sc.mega,
-    "bar": sc.bar,
-    "mbar": sc.bar / 1000.0,
-    "atm": sc.atm,
-    "Torr": sc.torr,
+    "kPa": 1e3,
+    "MPa": 1e6,
+    "bar": BAR,
+    "mbar": BAR / 1000.0,
+    "atm": ATM,
+    "Torr": TORR,
     "mmHg": MMHG_PA,
-    "psi": sc.psi,
+    "psi": PSI,
 }
 
 #: Temperature units: (scale, offset) with T[K] = scale * theta + offset.
 TEMPERATURE_UNITS: Final[dict[str, tuple[float, float]]] = {
     "K": (1.0, 0.0),
-    "degC": (1.0, sc.zero_Celsius),
-    "degF": (5.0 / 9.0, sc.zero_Celsius - 32.0 * 5.0 / 9.0),
+    "degC": (1.0, ZERO_CELSIUS),
+    "degF": (5.0 / 9.0, ZERO_CELSIUS - 32.0 * 5.0 / 9.0),
 }
 
 #: Enthalpy units in J/mol (thermochemical calorie, 4.184 J exactly).
 ENTHALPY_UNITS: Final[dict[str, float]] = {
     "J/mol": 1.0,
     "kJ/mol": 1000.0,
-    "cal/mol": sc.calorie,
-    "kcal/mol": 1000.0 * sc.calorie,
+    "cal/mol": CALORIE,
+    "kcal/mol": 1000.0 * CALORIE,
 }
 
 #: Molar-mass units in kg/mol.
 MOLAR_MASS_UNITS: Final[dict[str, float]] = {"g/mol": 1e-3, "kg/mol": 1.0}
+
+_REFERENCE_T_UNITS = ("K", "degC")
+#: Accepted units per quantity, with their kind (``temperature``, ``pressure``, ...).
+QUANTITY_UNITS: Final[dict[str, tuple[str, tuple[str, ...]]]] = {
+    "melting_point": ("temperature", _REFERENCE_T_UNITS),
+    "triple_point_temperature": ("temperature", _REFERENCE_T_UNITS),
+    "normal_boiling_point": ("temperature", _REFERENCE_T_UNITS),
+    "critical_temperature": ("temperature", _REFERENCE_T_UNITS),
+    "triple_point_pressure": ("pressure", tuple(PRESSURE_UNITS)),
+    "critical_pressure": ("pressure", tuple(PRESSURE_UNITS)),
+    "enthalpy_of_fusion": ("enthalpy", tuple(ENTHALPY_UNITS)),
+    "enthalpy_of_vaporization": ("enthalpy", tuple(ENTHALPY_UNITS)),
+    "enthalpy_of_sublimation": ("enthalpy", tuple(ENTHALPY_UNITS)),
+    "molar_mass": ("molar_mass", tuple(MOLAR_MASS_UNITS)),
+}
 
 
 def _unknown(kind: str, unit: str, valid: dict) -> UnitError:

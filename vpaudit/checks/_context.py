@@ -13,9 +13,10 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 import pandas as pd
-from scipy.constants import R
+import pyarrow as pa
 
-from .._columns import TEXT, codes, eq
+from .._columns import TEXT, codes, eq, text_codes
+from ..constants import R
 from ..equations.engine import (
     Curves,
     bracketed_root,
@@ -73,11 +74,13 @@ class AuditContext:
         # join below is on these, with numpy.
         parts = [rec["substance"], table.references["substance"], table.points["substance"]]
         sizes = [len(p) for p in parts]
-        all_codes, names = codes(pd.concat([p.astype(TEXT) for p in parts], ignore_index=True))
+        all_codes, names = text_codes(pd.concat([p.astype(TEXT) for p in parts], ignore_index=True))
         self.codes = all_codes[: sizes[0]]
         self.ref_codes = all_codes[sizes[0] : sizes[0] + sizes[1]]
         self.point_codes = all_codes[sizes[0] + sizes[1] :]
-        self.names = names
+        self._names = names
+        #: Number of distinct substances (records, references and points together).
+        self.n_names = len(names)
         lo, hi = self.curves.t_min, self.curves.t_max
         with np.errstate(invalid="ignore"):
             ok = np.isfinite(lo) & np.isfinite(hi) & (lo > 0) & (lo < hi)
@@ -103,16 +106,24 @@ class AuditContext:
         return np.asarray(found, dtype=np.int64)
 
     @cached_property
-    def _id_values(self) -> np.ndarray:
-        return self._ids.to_numpy(dtype=object, na_value=None)
+    def names(self) -> np.ndarray:
+        """The substance of each code, as Python strings (built on first use: the findings
+        look names up one at a time instead).
+        """
+        return np.asarray(self._names.to_pylist(), dtype=object)
+
+    @cached_property
+    def _id_values(self) -> pa.Array:
+        ids = pa.array(self._ids.array, type=pa.string())
+        return ids.combine_chunks() if isinstance(ids, pa.ChunkedArray) else ids
 
     def id(self, row: int) -> str:
         """The id of record ``row``."""
-        return str(self._id_values[int(row)])
+        return str(self._id_values[int(row)].as_py())
 
     def substance_of(self, row: int) -> str:
         """The substance of record ``row``."""
-        return str(self.names[self.codes[int(row)]])
+        return str(self._names[int(self.codes[int(row)])].as_py())
 
     def phase_of(self, row: int) -> str:
         """The phase of record ``row``."""
@@ -132,7 +143,7 @@ class AuditContext:
         for k, q in enumerate(q_names):
             m = (q_code == k) & (ref_codes >= 0)
             first_codes, first = np.unique(ref_codes[m], return_index=True)
-            arr = np.full(len(self.names), np.nan)
+            arr = np.full(self.n_names, np.nan)
             arr[first_codes] = value[m][first]
             out[q] = arr
         return out
@@ -228,11 +239,13 @@ class AuditContext:
         if rows.size == 0:
             return out
         c = self.curves if rows.size == n else self.curves.take(rows)  # no copy when all are
-        for part in _blocks(c.family):
-            cp_ = c.take(part)
-            h, ts, y, _ = self._sampled(cp_, cp_.t_min, cp_.t_max)
-            k = np.arange(part.size)
+        ln_p_max = np.log(self.policy.thresholds("heat-capacity-sign")["max_pressure"])
+        t_07 = 0.7 * self.critical_temperature()[rows]
+        for part in _blocks(c.family):  # one block at a time: temporaries stay block-sized
+            cb = c.take(part)
             r = rows[part]
+            h, ts, y, _ = self._sampled(cb, cb.t_min, cb.t_max)
+            k = np.arange(part.size)
             with np.errstate(invalid="ignore"):
                 hm = np.argmin(np.where(np.isnan(h), np.inf, h), axis=1)
                 out["h_min"][r] = np.where(np.isnan(h).any(axis=1), np.nan, h[k, hm])
@@ -241,32 +254,30 @@ class AuditContext:
                 finite = np.isfinite(y).all(axis=1)
                 out["y_min"][r] = np.where(finite, y.min(axis=1), np.nan)
                 out["y_max"][r] = np.where(finite, y.max(axis=1), np.nan)
-        # The near-ideal part of the range for dCp.
-        p_max = self.policy.thresholds("heat-capacity-sign")["max_pressure"]
-        y_lo = evaluate(c, c.t_min, order=0)[0]
-        y_hi = evaluate(c, c.t_max, order=0)[0]
-        hi = c.t_max.copy()
-        with np.errstate(invalid="ignore"):
-            straddle = np.flatnonzero((y_lo <= np.log(p_max)) & (y_hi > np.log(p_max)))
-        if straddle.size:  # only these need the temperature where P reaches the limit
-            t_cut = temperature_at(c.take(straddle), np.log(p_max))
-            hi[straddle] = np.where(np.isfinite(t_cut), t_cut, c.t_max[straddle])
-        hi = np.fmin(hi, 0.7 * self.critical_temperature()[rows])
-        with np.errstate(invalid="ignore"):
-            ideal = (y_lo <= np.log(p_max)) & (hi > c.t_min)
-        sub = np.flatnonzero(ideal)
-        for part in _blocks(c.family[sub]):
-            part = sub[part]
-            cs = c.take(part)
-            _, tcp, _, cp = self._sampled(cs, cs.t_min, hi[part])
-            j = np.arange(part.size)
+            # The near-ideal part of the range, for dCp.
+            y_lo = evaluate(cb, cb.t_min, order=0)[0]
+            y_hi = evaluate(cb, cb.t_max, order=0)[0]
+            hi = cb.t_max.copy()
+            with np.errstate(invalid="ignore"):
+                straddle = np.flatnonzero((y_lo <= ln_p_max) & (y_hi > ln_p_max))
+            if straddle.size:  # only these need the temperature where P reaches the limit
+                t_cut = temperature_at(cb.take(straddle), ln_p_max)
+                hi[straddle] = np.where(np.isfinite(t_cut), t_cut, cb.t_max[straddle])
+            hi = np.fmin(hi, t_07[part])
+            with np.errstate(invalid="ignore"):
+                sub = np.flatnonzero((y_lo <= ln_p_max) & (hi > cb.t_min))
+            if not sub.size:
+                continue
+            cs = cb.take(sub)
+            _, tcp, _, cp = self._sampled(cs, cs.t_min, hi[sub])
+            j = np.arange(sub.size)
             with np.errstate(invalid="ignore"):
                 lo_i = np.argmin(np.where(np.isnan(cp), np.inf, cp), axis=1)
                 hi_i = np.argmax(np.where(np.isnan(cp), -np.inf, cp), axis=1)
-            r = rows[part]
-            out["cp_min"][r], out["cp_min_T"][r] = cp[j, lo_i], tcp[j, lo_i]
-            out["cp_max"][r], out["cp_max_T"][r] = cp[j, hi_i], tcp[j, hi_i]
-            out["cp_lo"][r], out["cp_hi"][r] = cs.t_min, hi[part]
+            rs = r[sub]
+            out["cp_min"][rs], out["cp_min_T"][rs] = cp[j, lo_i], tcp[j, lo_i]
+            out["cp_max"][rs], out["cp_max_T"][rs] = cp[j, hi_i], tcp[j, hi_i]
+            out["cp_lo"][rs], out["cp_hi"][rs] = cs.t_min, hi[sub]
         return out
 
     @staticmethod
@@ -325,7 +336,7 @@ class AuditContext:
         # Keep, per substance, the solids whose range reaches the melting region; a solid
         # modification that ends far below it (it transforms before melting) is not paired.
         if s.size:
-            best = np.full(len(self.names), -np.inf)
+            best = np.full(self.n_names, -np.inf)
             np.maximum.at(best, self.codes[s], t_max_s)
             keep = (t_max_s >= best[self.codes[s]] - 1e-9) | (t_max_s >= anchor * (1 - reach))
             s, lq, anchor, tm = s[keep], lq[keep], anchor[keep], tm[keep]
@@ -336,61 +347,24 @@ class AuditContext:
         ext_l = np.maximum(ext_l, np.maximum(0.0, anchor - self.curves.t_max[lq]) / anchor)
         extrapolation = np.maximum(ext_s, ext_l)
         checkable = extrapolation <= reach
-        # Crossings in the window [anchor/(1+w), anchor*(1+w)], searched in x = 1/T.
+        # Crossings in the window [anchor/(1+w), anchor*(1+w)], searched in x = 1/T, one
+        # block of pairs at a time: every temporary stays block-sized.
         w = p["window"]
         k = s.size
-        grid = int(p["grid"])
-        x_hi = (1.0 + w) / anchor
-        x_lo = 1.0 / (anchor * (1.0 + w))
-        cs, cl = self.curves.take(s), self.curves.take(lq)
         tol = self.policy.thresholds("melting-point-mismatch")["tolerance"]
         count = np.zeros(k, dtype=np.int64)
         significant = np.zeros(k, dtype=np.int64)
-        lo_b = np.full(k, np.nan)
-        hi_b = np.full(k, np.nan)
-        simple, diff = _difference_curves(cs, cl)
-        for a in range(0, k, CHUNK):  # chunks keep the (pairs x grid) temporaries small
-            r = slice(a, min(k, a + CHUNK))  # slices: views, no copies
-            count[r], significant[r], lo_b[r], hi_b[r] = _scan_crossings(
-                cs.take(r),
-                cl.take(r),
-                simple[r],
-                diff.take(r),
-                x_lo[r],
-                x_hi[r],
-                1.0 / anchor[r],
-                grid,
+        t_cross, y_cross, slope_diff = (np.full(k, np.nan) for _ in range(3))
+        for a in range(0, k, CHUNK):
+            r = slice(a, min(k, a + CHUNK))
+            count[r], significant[r], t_cross[r], y_cross[r], slope_diff[r] = _crossings(
+                self.curves.take(s[r]),
+                self.curves.take(lq[r]),
+                anchor[r],
+                w,
+                int(p["grid"]),
                 tol,
             )
-        has = count > 0
-
-        d_a, d_b, d_c = (np.ascontiguousarray(diff.params[:, i]) for i in range(3))
-
-        def fun(x, r):
-            t = 1.0 / x
-            g = np.empty(r.size)
-            dg = np.empty(r.size)
-            easy = simple[r]
-            if easy.any():  # the difference curve in x = 1/T: A + B x - C ln x
-                re, xe = r[easy], x[easy]
-                g[easy] = d_a[re] + d_b[re] * xe - d_c[re] * np.log(xe)
-                dg[easy] = d_b[re] - d_c[re] / xe
-            if (~easy).any():
-                rr, tt = r[~easy], t[~easy]
-                ys, ys1, _ = evaluate(cs.take(rr), tt, order=1)
-                yl, yl1, _ = evaluate(cl.take(rr), tt, order=1)
-                g[~easy], dg[~easy] = ys - yl, -(ys1 - yl1) * tt * tt
-            return g, dg
-
-        root = np.full(k, np.nan)
-        if has.any():
-            hr = np.flatnonzero(has)
-            sub = bracketed_root(lambda x, r: fun(x, hr[r]), lo_b[hr], hi_b[hr])
-            root[hr] = sub
-        with np.errstate(divide="ignore", invalid="ignore"):
-            t_cross = 1.0 / root
-            ys, ys1, _ = evaluate(cs, np.where(np.isnan(t_cross), anchor, t_cross), order=1)
-            _, yl1, _ = evaluate(cl, np.where(np.isnan(t_cross), anchor, t_cross), order=1)
         return {
             "s": s,
             "l": lq,
@@ -401,8 +375,8 @@ class AuditContext:
             "crossings": count,
             "significant_crossings": significant,
             "T": t_cross,
-            "y": np.where(np.isnan(t_cross), np.nan, ys),
-            "slope_diff": np.where(np.isnan(t_cross), np.nan, ys1 - yl1),
+            "y": y_cross,
+            "slope_diff": slope_diff,
         }
 
     def pair_finding(
@@ -419,6 +393,57 @@ class AuditContext:
             records=(self.id(s), self.id(lq)),
             severity=severity,
         )
+
+
+def _crossings(cs: Curves, cl: Curves, anchor: np.ndarray, w: float, grid: int, tol: float):
+    """The crossing of each solid curve ``cs`` with its liquid curve ``cl`` nearest the
+    anchor, in the window [anchor/(1+w), anchor (1+w)]: sign changes of y_s - y_l on a grid
+    in x = 1/T, then safeguarded Newton on the bracket nearest the anchor.
+
+    Returns the number of sign changes, the number of significant ones, and at the
+    crossing its temperature [K], ln P and d(y_s - y_l)/dT [1/K] (NaN without one).
+    """
+    x_hi = (1.0 + w) / anchor
+    x_lo = 1.0 / (anchor * (1.0 + w))
+    simple, diff = _difference_curves(cs, cl)
+    count, significant, lo_b, hi_b = _scan_crossings(
+        cs, cl, simple, diff, x_lo, x_hi, 1.0 / anchor, grid, tol
+    )
+    d_a, d_b, d_c = (np.ascontiguousarray(diff.params[:, i]) for i in range(3))
+
+    def fun(x, r):
+        t = 1.0 / x
+        g = np.empty(r.size)
+        dg = np.empty(r.size)
+        easy = simple[r]
+        if easy.any():  # the difference curve in x = 1/T: A + B x - C ln x
+            re, xe = r[easy], x[easy]
+            g[easy] = d_a[re] + d_b[re] * xe - d_c[re] * np.log(xe)
+            dg[easy] = d_b[re] - d_c[re] / xe
+        if (~easy).any():
+            rr, tt = r[~easy], t[~easy]
+            ys, ys1, _ = evaluate(cs.take(rr), tt, order=1)
+            yl, yl1, _ = evaluate(cl.take(rr), tt, order=1)
+            g[~easy], dg[~easy] = ys - yl, -(ys1 - yl1) * tt * tt
+        return g, dg
+
+    root = np.full(anchor.size, np.nan)
+    has = np.flatnonzero(count > 0)
+    if has.size:
+        root[has] = bracketed_root(lambda x, r: fun(x, has[r]), lo_b[has], hi_b[has])
+    with np.errstate(divide="ignore", invalid="ignore"):
+        t_cross = 1.0 / root
+        at = np.where(np.isnan(t_cross), anchor, t_cross)
+        ys, ys1, _ = evaluate(cs, at, order=1)
+        _, yl1, _ = evaluate(cl, at, order=1)
+    none = np.isnan(t_cross)
+    return (
+        count,
+        significant,
+        t_cross,
+        np.where(none, np.nan, ys),
+        np.where(none, np.nan, ys1 - yl1),
+    )
 
 
 def match(key_a: np.ndarray, key_b: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

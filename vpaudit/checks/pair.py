@@ -7,9 +7,9 @@ is the steeper one (d(y_s - y_l)/dT = dH_fus/(R T^2) > 0), and dH_sub = dH_fus +
 from __future__ import annotations
 
 import numpy as np
-from scipy.constants import R
 
-from ..equations.engine import evaluate
+from ..constants import R
+from ..equations.engine import evaluate_rows
 from ._context import AuditContext
 from ._registry import Scope, Severity, Threshold, check
 from ._text import jk, kelvin, kj, ln_ratio, pressure
@@ -76,8 +76,8 @@ def no_crossing(ctx: AuditContext):
     rows = np.flatnonzero(pr["checkable"] & (pr["crossings"] == 0))
     at = pr["anchor"][rows]
     diff = (
-        evaluate(ctx.curves.take(pr["s"][rows]), at, 0)[0]
-        - evaluate(ctx.curves.take(pr["l"][rows]), at, 0)[0]
+        evaluate_rows(ctx.curves, pr["s"][rows], at, 0)[0]
+        - evaluate_rows(ctx.curves, pr["l"][rows], at, 0)[0]
     )
     for k, a, d in zip(rows, at, diff, strict=True):
         yield ctx.pair_finding(
@@ -206,8 +206,8 @@ def crossing_outside_range(ctx: AuditContext):
         edge = np.where(over_s >= over_l, np.clip(t, s_lo, s_hi), np.clip(t, l_lo, l_hi))
     edge = np.where(np.isfinite(edge), edge, pr["anchor"])
     d = (
-        evaluate(ctx.curves.take(pr["s"]), edge, 0)[0]
-        - evaluate(ctx.curves.take(pr["l"]), edge, 0)[0]
+        evaluate_rows(ctx.curves, pr["s"], edge, 0)[0]
+        - evaluate_rows(ctx.curves, pr["l"], edge, 0)[0]
     )
     with np.errstate(invalid="ignore"):
         bad = _crossed(ctx) & (worst > lim) & (np.abs(d) > tol)
@@ -233,9 +233,8 @@ def crossing_outside_range(ctx: AuditContext):
 
 def _fusion_enthalpy(ctx: AuditContext, at: np.ndarray) -> np.ndarray:
     pr = ctx.pairs
-    cs, cl = ctx.curves.take(pr["s"]), ctx.curves.take(pr["l"])
-    _, s1, _ = evaluate(cs, at, 1)
-    _, l1, _ = evaluate(cl, at, 1)
+    _, s1, _ = evaluate_rows(ctx.curves, pr["s"], at, 1)
+    _, l1, _ = evaluate_rows(ctx.curves, pr["l"], at, 1)
     return R * at * at * s1, R * at * at * l1
 
 
@@ -261,9 +260,8 @@ def melting_point_mismatch(ctx: AuditContext):
     rows = np.flatnonzero(pr["checkable"] & np.isfinite(tm))
     if rows.size == 0:
         return
-    cs, cl = ctx.curves.take(pr["s"][rows]), ctx.curves.take(pr["l"][rows])
-    ys, s1, _ = evaluate(cs, tm[rows], 1)
-    yl, l1, _ = evaluate(cl, tm[rows], 1)
+    ys, s1, _ = evaluate_rows(ctx.curves, pr["s"][rows], tm[rows], 1)
+    yl, l1, _ = evaluate_rows(ctx.curves, pr["l"][rows], tm[rows], 1)
     d = ys - yl
     bad = ~(np.abs(d) <= tol)
     hfus_ref = ctx.reference("enthalpy_of_fusion", pr["s"][rows])

@@ -4,9 +4,9 @@ from __future__ import annotations
 
 import numpy as np
 import pandas as pd
-from scipy.constants import R
 
 from .._columns import eq
+from ..constants import R
 from ..equations.engine import evaluate, temperature_at
 from ._context import LN_P_STANDARD, AuditContext, match
 from ._registry import Scope, Severity, Threshold, check

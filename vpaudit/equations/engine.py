@@ -28,9 +28,9 @@ from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
-from scipy.constants import R
 
 from .._columns import codes, eq, lookup
+from ..constants import R
 from ..units import PRESSURE_UNITS, TEMPERATURE_UNITS
 from .forms import FORMS, WAGNER
 
@@ -39,6 +39,7 @@ __all__ = [
     "Curves",
     "curves_from_frame",
     "evaluate",
+    "evaluate_rows",
     "ln_pressure",
     "enthalpy",
     "heat_capacity_change",
@@ -49,6 +50,8 @@ __all__ = [
 FAMILY_CODES = {"log-linear": 0, "antoine": 1, "wagner": 2}
 LN10 = float(np.log(10.0))
 NPARAM = 8
+#: Curves per block when :func:`evaluate` gets one temperature per curve.
+_BLOCK = 65536
 
 
 @dataclass(frozen=True)
@@ -231,6 +234,8 @@ def evaluate(curves: Curves, temperature, order: int = 2):
     y = np.empty(t.shape)
     y1 = np.empty(t.shape) if order else None
     y2 = np.empty(t.shape) if order else None
+    if t.ndim == 1 and n > _BLOCK:  # long inputs a block at a time: small temporaries
+        return _blockwise(curves, np.arange(n), t, order, (y, y1, y2), lambda a, b: slice(a, b))
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         for code, fn in enumerate(_FAMILIES):
             rows = np.flatnonzero(curves.family == code)
@@ -247,6 +252,44 @@ def evaluate(curves: Curves, temperature, order: int = 2):
             if order:
                 y1[rows], y2[rows] = b, c
     return y, y1, y2
+
+
+def _blockwise(curves: Curves, rows: np.ndarray, t: np.ndarray, order: int, out, select):
+    y, y1, y2 = out
+    for a in range(0, rows.size, _BLOCK):
+        part = slice(a, a + _BLOCK)
+        b = evaluate(curves.take(select(a, a + _BLOCK)), t[part], order)
+        y[part] = b[0]
+        if order:
+            y1[part], y2[part] = b[1], b[2]
+    return y, y1, y2
+
+
+def evaluate_rows(curves: Curves, rows: np.ndarray, temperature, order: int = 2):
+    """:func:`evaluate` for the curves ``curves[rows]`` without copying them all at once.
+
+    Parameters
+    ----------
+    curves : Curves
+        All curves.
+    rows : ndarray of int, shape (k,)
+        The curves wanted (repeats allowed, e.g. the solid of every pair).
+    temperature : array_like, shape (k,)
+        One temperature per wanted curve. [K]
+    order : int
+        As for :func:`evaluate`.
+
+    Returns
+    -------
+    y, dy, d2y : ndarray, shape (k,)
+        As for :func:`evaluate`; the work runs in blocks, so temporaries stay small.
+    """
+    rows = np.asarray(rows, dtype=np.int64)
+    t = np.broadcast_to(np.asarray(temperature, dtype=float), rows.shape)
+    if rows.size <= _BLOCK:
+        return evaluate(curves.take(rows), t, order)
+    out = (np.empty(rows.size), *(np.empty(rows.size) if order else None for _ in range(2)))
+    return _blockwise(curves, rows, t, order, out, lambda a, b: rows[a:b])
 
 
 def ln_pressure(curves: Curves, temperature) -> np.ndarray:

@@ -30,11 +30,11 @@ from .._columns import empty as blank
 from .._columns import eq, isin, lookup, text_series
 from ..equations.forms import COEFFICIENTS, FORMS
 from ..errors import Location, PolicyError, TableError, TableErrors
-from ..schema import QUANTITY_UNITS
 from ..units import (
     ENTHALPY_UNITS,
     MOLAR_MASS_UNITS,
     PRESSURE_UNITS,
+    QUANTITY_UNITS,
     TEMPERATURE_UNITS,
 )
 from .files import SUFFIXES, RawFrame, read_raw

@@ -5,10 +5,10 @@ from __future__ import annotations
 import math
 
 import numpy as np
-from scipy.constants import R
 
 from ..audit import CAUTION
 from ..checks._context import AuditContext
+from ..constants import R
 from ..units import pressure_factor
 
 

@@ -240,8 +240,10 @@ class AuditContext:
             return out
         c = self.curves if rows.size == n else self.curves.take(rows)  # no copy when all are
         ln_p_max = np.log(self.policy.thresholds("heat-capacity-sign")["max_pressure"])
-        t_07 = 0.7 * self.critical_temperature()[rows]
-        for part in _blocks(c.family):  # one block at a time: temporaries stay block-sized
+        y_lo = np.empty(rows.size)
+        y_hi = np.empty(rows.size)
+        blocks = list(_blocks(c.family))
+        for part in blocks:  # one block at a time: temporaries stay block-sized
             cb = c.take(part)
             r = rows[part]
             h, ts, y, _ = self._sampled(cb, cb.t_min, cb.t_max)
@@ -254,27 +256,30 @@ class AuditContext:
                 finite = np.isfinite(y).all(axis=1)
                 out["y_min"][r] = np.where(finite, y.min(axis=1), np.nan)
                 out["y_max"][r] = np.where(finite, y.max(axis=1), np.nan)
-            # The near-ideal part of the range, for dCp.
-            y_lo = evaluate(cb, cb.t_min, order=0)[0]
-            y_hi = evaluate(cb, cb.t_max, order=0)[0]
-            hi = cb.t_max.copy()
-            with np.errstate(invalid="ignore"):
-                straddle = np.flatnonzero((y_lo <= ln_p_max) & (y_hi > ln_p_max))
-            if straddle.size:  # only these need the temperature where P reaches the limit
-                t_cut = temperature_at(cb.take(straddle), ln_p_max)
-                hi[straddle] = np.where(np.isfinite(t_cut), t_cut, cb.t_max[straddle])
-            hi = np.fmin(hi, t_07[part])
-            with np.errstate(invalid="ignore"):
-                sub = np.flatnonzero((y_lo <= ln_p_max) & (hi > cb.t_min))
+            y_lo[part] = evaluate(cb, cb.t_min, order=0)[0]
+            y_hi[part] = evaluate(cb, cb.t_max, order=0)[0]
+        # The near-ideal part of the range, for dCp: up to where P reaches the limit (solved
+        # for all records at once: the root finder's cost is per call, not per record).
+        hi = c.t_max.copy()
+        with np.errstate(invalid="ignore"):
+            straddle = np.flatnonzero((y_lo <= ln_p_max) & (y_hi > ln_p_max))
+        if straddle.size:
+            t_cut = temperature_at(c.take(straddle), ln_p_max)
+            hi[straddle] = np.where(np.isfinite(t_cut), t_cut, c.t_max[straddle])
+        hi = np.fmin(hi, 0.7 * self.critical_temperature()[rows])
+        with np.errstate(invalid="ignore"):
+            ideal = (y_lo <= ln_p_max) & (hi > c.t_min)
+        for part in blocks:
+            sub = part[ideal[part]]
             if not sub.size:
                 continue
-            cs = cb.take(sub)
+            cs = c.take(sub)
             _, tcp, _, cp = self._sampled(cs, cs.t_min, hi[sub])
             j = np.arange(sub.size)
             with np.errstate(invalid="ignore"):
                 lo_i = np.argmin(np.where(np.isnan(cp), np.inf, cp), axis=1)
                 hi_i = np.argmax(np.where(np.isnan(cp), -np.inf, cp), axis=1)
-            rs = r[sub]
+            rs = rows[sub]
             out["cp_min"][rs], out["cp_min_T"][rs] = cp[j, lo_i], tcp[j, lo_i]
             out["cp_max"][rs], out["cp_max_T"][rs] = cp[j, hi_i], tcp[j, hi_i]
             out["cp_lo"][rs], out["cp_hi"][rs] = cs.t_min, hi[sub]
@@ -395,10 +400,23 @@ class AuditContext:
         )
 
 
-def _crossings(cs: Curves, cl: Curves, anchor: np.ndarray, w: float, grid: int, tol: float):
+def _crossings(
+    cs: Curves,
+    cl: Curves,
+    anchor: np.ndarray,
+    w: float,
+    grid: int,
+    tol: float,
+    exact: bool = True,
+):
     """The crossing of each solid curve ``cs`` with its liquid curve ``cl`` nearest the
     anchor, in the window [anchor/(1+w), anchor (1+w)]: sign changes of y_s - y_l on a grid
     in x = 1/T, then safeguarded Newton on the bracket nearest the anchor.
+
+    Where y_s - y_l = A + B x - C ln x (both curves log-linear without a D term, the common
+    case) the grid's verdicts follow from four of its points (:func:`_convex_crossings`),
+    with the same results; ``exact=False`` scans every grid point (for the test that
+    compares the two).
 
     Returns the number of sign changes, the number of significant ones, and at the
     crossing its temperature [K], ln P and d(y_s - y_l)/dT [1/K] (NaN without one).
@@ -406,10 +424,41 @@ def _crossings(cs: Curves, cl: Curves, anchor: np.ndarray, w: float, grid: int, 
     x_hi = (1.0 + w) / anchor
     x_lo = 1.0 / (anchor * (1.0 + w))
     simple, diff = _difference_curves(cs, cl)
-    count, significant, lo_b, hi_b = _scan_crossings(
-        cs, cl, simple, diff, x_lo, x_hi, 1.0 / anchor, grid, tol
-    )
     d_a, d_b, d_c = (np.ascontiguousarray(diff.params[:, i]) for i in range(3))
+    k = anchor.size
+    count = np.zeros(k, dtype=np.int64)
+    significant = np.zeros(k, dtype=np.int64)
+    lo_b = np.full(k, np.nan)
+    hi_b = np.full(k, np.nan)
+    root = np.full(k, np.nan)
+    with np.errstate(invalid="ignore"):
+        fast = (
+            simple
+            & np.isfinite(diff.params[:, :3]).all(axis=1)
+            & (x_lo > 0)
+            & (x_hi > x_lo)
+            & np.isfinite(x_hi)
+        )
+    if not exact:
+        fast[:] = False
+    if fast.any():
+        f = np.flatnonzero(fast)
+        count[f], significant[f], root[f] = _convex_crossings(
+            diff.take(f), x_lo[f], x_hi[f], 1.0 / anchor[f], grid, tol
+        )
+    slow = np.flatnonzero(~fast)
+    if slow.size:
+        count[slow], significant[slow], lo_b[slow], hi_b[slow] = _scan_crossings(
+            cs.take(slow),
+            cl.take(slow),
+            simple[slow],
+            diff.take(slow),
+            x_lo[slow],
+            x_hi[slow],
+            1.0 / anchor[slow],
+            grid,
+            tol,
+        )
 
     def fun(x, r):
         t = 1.0 / x
@@ -427,8 +476,7 @@ def _crossings(cs: Curves, cl: Curves, anchor: np.ndarray, w: float, grid: int, 
             g[~easy], dg[~easy] = ys - yl, -(ys1 - yl1) * tt * tt
         return g, dg
 
-    root = np.full(anchor.size, np.nan)
-    has = np.flatnonzero(count > 0)
+    has = slow[count[slow] > 0]
     if has.size:
         root[has] = bracketed_root(lambda x, r: fun(x, has[r]), lo_b[has], hi_b[has])
     with np.errstate(divide="ignore", invalid="ignore"):
@@ -492,6 +540,75 @@ def _blocks(family: np.ndarray):
     for group in (np.flatnonzero(family != 2), np.flatnonzero(family == 2)):
         for a in range(0, group.size, CHUNK):
             yield group[a : a + CHUNK]
+
+
+def _convex_crossings(diff: Curves, x_lo, x_hi, x_anchor, grid: int, tol: float):
+    """:func:`_scan_crossings` and the root nearest the anchor, for difference curves
+    g(x) = A + B x - C ln x, from four grid points instead of all.
+
+    g'' = C / x^2 keeps one sign, so g is convex (C >= 0) or concave (C < 0) and so is
+    its sampled sequence. A convex sequence falls to its smallest value and then rises:
+    it changes sign at most once on each side of that point, its points below -tol form one
+    block, and those above +tol lie before and after it. So the grid's counts follow from
+    its two ends and its extreme point, which lies at one of the two grid points beside the
+    stationary point x* = C/B (or at an end). Each sign change is then solved on its side
+    of the extreme point, and the one whose grid cell is nearest the anchor is kept, as the
+    scan keeps the bracket nearest it. Exact zeros at grid points, which the scan does not
+    count as sign changes, are the one case that can differ (a test compares both paths).
+
+    Returns
+    -------
+    count, significant : ndarray of int
+    root : ndarray
+        x = 1/T of the crossing nearest the anchor, NaN where there is none. [1/K]
+    """
+    k = x_lo.size
+    a, b, c = (np.ascontiguousarray(diff.params[:, i]) for i in range(3))
+    span = x_hi - x_lo
+    last = grid - 1
+    frac = np.linspace(0.0, 1.0, grid)
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        u = (c / b - x_lo) / span * last  # x* in grid steps
+    u = np.where(np.isfinite(u), np.clip(u, 0, last), 0.0)
+    idx = np.column_stack([np.zeros(k), np.full(k, float(last)), np.floor(u), np.ceil(u)]).astype(
+        np.int64
+    )
+    xs = x_lo[:, None] + span[:, None] * frac[idx]  # the grid's own points, bit for bit
+    with np.errstate(divide="ignore", invalid="ignore"):
+        f = ln_p_rows(diff, 1.0 / xs)  # as the scan evaluates them
+    convex = c >= 0
+    pick = np.where(convex, np.argmin(f, axis=1), np.argmax(f, axis=1))
+    rows = np.arange(k)
+    f_ext = f[rows, pick]
+    f0, f1 = f[:, 0], f[:, 1]
+    left = np.sign(f0) * np.sign(f_ext) < 0
+    right = np.sign(f_ext) * np.sign(f1) < 0
+    count = left.astype(np.int64) + right
+    with np.errstate(invalid="ignore"):
+        significant = np.where(
+            convex,
+            (f_ext < -tol) * ((f0 > tol).astype(np.int64) + (f1 > tol)),
+            (f_ext > tol) * ((f0 < -tol).astype(np.int64) + (f1 < -tol)),
+        )
+    x_ext = xs[rows, pick]
+
+    def fun(x, r):
+        return a[r] + b[r] * x - c[r] * np.log(x), b[r] - c[r] / x
+
+    roots = np.full((k, 2), np.nan)
+    for side, has, lo, hi in ((0, left, x_lo, x_ext), (1, right, x_ext, x_hi)):
+        h = np.flatnonzero(has)
+        if h.size:
+            roots[h, side] = bracketed_root(lambda x, r, h=h: fun(x, h[r]), lo[h], hi[h])
+    # the grid cell of each root, and the distance of that cell's middle to the anchor
+    with np.errstate(invalid="ignore"):
+        cell = np.clip(np.floor((roots - x_lo[:, None]) / span[:, None] * last), 0, last - 1)
+    cell = np.where(np.isfinite(cell), cell, 0).astype(np.int64)
+    x_a = x_lo[:, None] + span[:, None] * frac[cell]
+    x_b = x_lo[:, None] + span[:, None] * frac[cell + 1]
+    dist = np.where(np.isfinite(roots), np.abs(0.5 * (x_b + x_a) - x_anchor[:, None]), np.inf)
+    root = np.where(dist[:, 1] < dist[:, 0], roots[:, 1], roots[:, 0])
+    return count, significant, root
 
 
 def _difference_curves(cs: Curves, cl: Curves) -> tuple[np.ndarray, Curves]:

@@ -6,6 +6,8 @@ is the steeper one (d(y_s - y_l)/dT = dH_fus/(R T^2) > 0), and dH_sub = dH_fus +
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 
 from ..constants import R
@@ -79,7 +81,7 @@ def no_crossing(ctx: AuditContext):
         evaluate_rows(ctx.curves, pr["s"][rows], at, 0)[0]
         - evaluate_rows(ctx.curves, pr["l"][rows], at, 0)[0]
     )
-    for k, a, d in zip(rows, at, diff, strict=True):
+    for k, a, d in zip(rows.tolist(), at.tolist(), diff.tolist(), strict=True):
         yield ctx.pair_finding(
             "no-crossing",
             k,
@@ -141,10 +143,17 @@ def crossing_orientation(ctx: AuditContext):
     pr = ctx.pairs
     above = pr["checkable"] & (ctx.curves.t_min[pr["s"]] >= ctx.curves.t_max[pr["l"]])
     wrong = _crossed(ctx) & ~(pr["slope_diff"] > 0)
-    for k in np.flatnonzero(wrong | above):
-        t = pr["T"][k]
-        hfus = R * t * t * pr["slope_diff"][k]
-        if wrong[k]:
+    sel = np.flatnonzero(wrong | above)
+    for k, t, slope, is_wrong, is_above in zip(
+        sel.tolist(),
+        pr["T"][sel].tolist(),
+        pr["slope_diff"][sel].tolist(),
+        wrong[sel].tolist(),
+        above[sel].tolist(),
+        strict=True,
+    ):
+        hfus = R * t * t * slope
+        if is_wrong:
             msg = (
                 f"at the crossing ({kelvin(t)}) the solid curve is the flatter one, implying "
                 f"an enthalpy of fusion of {kj(hfus)} (must be positive): the solid and "
@@ -163,7 +172,7 @@ def crossing_orientation(ctx: AuditContext):
             {
                 "crossing_K": t,
                 "implied_fusion_enthalpy_J_per_mol": hfus,
-                "solid_range_above_liquid": bool(above[k]),
+                "solid_range_above_liquid": is_above,
             },
         )
 
@@ -211,22 +220,32 @@ def crossing_outside_range(ctx: AuditContext):
     )
     with np.errstate(invalid="ignore"):
         bad = _crossed(ctx) & (worst > lim) & (np.abs(d) > tol)
-    for k in np.flatnonzero(bad):
-        which = "solid" if over_s[k] >= over_l[k] else "liquid"
+    sel = np.flatnonzero(bad)
+    solid_side = (over_s >= over_l)[sel].tolist()
+    for k, tk, wk, ek, dk, on_solid in zip(
+        sel.tolist(),
+        t[sel].tolist(),
+        worst[sel].tolist(),
+        edge[sel].tolist(),
+        d[sel].tolist(),
+        solid_side,
+        strict=True,
+    ):
+        which = "solid" if on_solid else "liquid"
         yield ctx.pair_finding(
             "crossing-outside-range",
             k,
-            f"the curves cross at {kelvin(t[k])}, {worst[k] * 100:.1f} % beyond the {which} "
+            f"the curves cross at {kelvin(tk)}, {wk * 100:.1f} % beyond the {which} "
             f"record's range (limit {lim * 100:g} %), and where that range ends "
-            f"({kelvin(edge[k])}) they differ by {ln_ratio(d[k])}: the triple point rests on an "
+            f"({kelvin(ek)}) they differ by {ln_ratio(dk)}: the triple point rests on an "
             "extrapolation.",
             {
-                "crossing_K": t[k],
-                "extrapolation_fraction": worst[k],
+                "crossing_K": tk,
+                "extrapolation_fraction": wk,
                 "record": which,
                 "limit": lim,
-                "range_end_K": edge[k],
-                "difference_lnP_at_range_end": d[k],
+                "range_end_K": ek,
+                "difference_lnP_at_range_end": dk,
             },
         )
 
@@ -268,27 +287,34 @@ def melting_point_mismatch(ctx: AuditContext):
     hfus_imp = R * tm[rows] ** 2 * (s1 - l1)
     hfus = np.where(np.isfinite(hfus_ref) & (hfus_ref > 0), hfus_ref, np.abs(hfus_imp))
     k_tol = tol * R * tm[rows] ** 2 / hfus
-    for j in np.flatnonzero(bad):
-        k = rows[j]
-        t = pr["T"][k]
+    sel = np.flatnonzero(bad)
+    ks = rows[sel]
+    for k, t, tmk, dj, ktol in zip(
+        ks.tolist(),
+        pr["T"][ks].tolist(),
+        tm[ks].tolist(),
+        d[sel].tolist(),
+        k_tol[sel].tolist(),
+        strict=True,
+    ):
         cross = (
-            f"they cross at {kelvin(t)}, {t - tm[k]:+.4g} K from it"
-            if np.isfinite(t)
+            f"they cross at {kelvin(t)}, {t - tmk:+.4g} K from it"
+            if math.isfinite(t)
             else "they do not cross nearby"
         )
         yield ctx.pair_finding(
             "melting-point-mismatch",
             k,
-            f"at the reference melting point {kelvin(tm[k])} the solid and liquid curves "
-            f"differ by {ln_ratio(d[j])}, beyond the tolerance of {tol:g}; {cross} (the "
-            f"tolerance in kelvin is about +/-{k_tol[j]:.3g} K).",
+            f"at the reference melting point {kelvin(tmk)} the solid and liquid curves "
+            f"differ by {ln_ratio(dj)}, beyond the tolerance of {tol:g}; {cross} (the "
+            f"tolerance in kelvin is about +/-{ktol:.3g} K).",
             {
-                "melting_point_K": tm[k],
-                "difference_lnP": d[j],
+                "melting_point_K": tmk,
+                "difference_lnP": dj,
                 "tolerance_lnP": tol,
                 "crossing_K": t,
-                "crossing_minus_melting_K": t - tm[k],
-                "tolerance_K": k_tol[j],
+                "crossing_minus_melting_K": t - tmk,
+                "tolerance_K": ktol,
             },
         )
 
@@ -355,20 +381,29 @@ def fusion_enthalpy_mismatch(ctx: AuditContext):
         residual = (hs - hl - ref) / hs
         # a non-positive slope is slope-not-positive's finding
         bad = (hs[rows] > 0) & (hl[rows] > 0) & (np.abs(residual[rows]) > tol)
-    for k in rows[bad]:
-        implied, rel = hs[k] - hl[k], residual[k]
+    ks = rows[bad]
+    for k, atk, hsk, hlk, refk, rel in zip(
+        ks.tolist(),
+        at[ks].tolist(),
+        hs[ks].tolist(),
+        hl[ks].tolist(),
+        ref[ks].tolist(),
+        residual[ks].tolist(),
+        strict=True,
+    ):
+        implied = hsk - hlk
         yield ctx.pair_finding(
             "fusion-enthalpy-mismatch",
             k,
-            f"at {kelvin(at[k])} the curves imply dH_sub - dH_vap = {kj(implied)} against "
-            f"the reference dH_fus {kj(ref[k])}: a residual of {rel * 100:+.1f} % of "
-            f"dH_sub ({kj(hs[k])}), beyond {tol * 100:g} %.",
+            f"at {kelvin(atk)} the curves imply dH_sub - dH_vap = {kj(implied)} against "
+            f"the reference dH_fus {kj(refk)}: a residual of {rel * 100:+.1f} % of "
+            f"dH_sub ({kj(hsk)}), beyond {tol * 100:g} %.",
             {
-                "at_K": at[k],
+                "at_K": atk,
                 "implied_fusion_J_per_mol": implied,
-                "reference_fusion_J_per_mol": ref[k],
-                "sublimation_J_per_mol": hs[k],
-                "vaporization_J_per_mol": hl[k],
+                "reference_fusion_J_per_mol": refk,
+                "sublimation_J_per_mol": hsk,
+                "vaporization_J_per_mol": hlk,
                 "residual_of_sublimation": rel,
                 "tolerance": tol,
             },
@@ -397,13 +432,14 @@ def fusion_entropy_implausible(ctx: AuditContext):
     ds = R * pr["T"] * pr["slope_diff"]
     with np.errstate(invalid="ignore"):
         bad = ok & ~((ds >= th["min"]) & (ds <= th["max"]))
-    for k in np.flatnonzero(bad):
+    sel = np.flatnonzero(bad)
+    for k, t, dsk in zip(sel.tolist(), pr["T"][sel].tolist(), ds[sel].tolist(), strict=True):
         yield ctx.pair_finding(
             "fusion-entropy-implausible",
             k,
-            f"the implied entropy of fusion at the crossing ({kelvin(pr['T'][k])}) is "
-            f"{jk(ds[k])}, outside the usual {th['min']:g}..{th['max']:g} J/(mol K).",
-            {"fusion_entropy_J_per_mol_K": ds[k], "crossing_K": pr["T"][k]},
+            f"the implied entropy of fusion at the crossing ({kelvin(t)}) is "
+            f"{jk(dsk)}, outside the usual {th['min']:g}..{th['max']:g} J/(mol K).",
+            {"fusion_entropy_J_per_mol_K": dsk, "crossing_K": t},
         )
 
 

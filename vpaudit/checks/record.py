@@ -90,8 +90,9 @@ def slope_not_positive(ctx: AuditContext):
     ex = ctx.range_extrema
     with np.errstate(invalid="ignore"):
         bad = ctx.evaluable & ~(ex["h_min"] > 0)
-    for i in np.flatnonzero(bad):
-        h, t = ex["h_min"][i], ex["h_min_T"][i]
+    sel = np.flatnonzero(bad)
+    h_min, h_min_t = ex["h_min"][sel].tolist(), ex["h_min_T"][sel].tolist()
+    for i, h, t in zip(sel.tolist(), h_min, h_min_t, strict=True):
         yield ctx.finding(
             "slope-not-positive",
             i,
@@ -140,26 +141,35 @@ def enthalpy_implausible(ctx: AuditContext):
     hi = np.where(liquid, th["liquid_max"], th["solid_max"])
     with np.errstate(invalid="ignore"):
         bad = ~((ds >= lo) & (ds <= hi))
-    for k in np.flatnonzero(bad):
-        i = rows[k]
-        what = "vaporization" if liquid[k] else "sublimation"
-        hint = (
-            " Usual causes: log10 coefficients read as ln or the reverse (dH off by a "
-            "factor 2.3), or a wrong pressure unit (dS shifted by R ln of the factor)."
-        )
+    hint = (
+        " Usual causes: log10 coefficients read as ln or the reverse (dH off by a "
+        "factor 2.3), or a wrong pressure unit (dS shifted by R ln of the factor)."
+    )
+    sel = np.flatnonzero(bad)
+    for i, is_liquid, dsk, tk, hk, lok, hik, at_tb in zip(
+        rows[sel].tolist(),
+        liquid[sel].tolist(),
+        ds[sel].tolist(),
+        t[sel].tolist(),
+        (R * t[sel] ** 2 * y1[sel]).tolist(),
+        lo[sel].tolist(),
+        hi[sel].tolist(),
+        use_tb[sel].tolist(),
+        strict=True,
+    ):
+        what = "vaporization" if is_liquid else "sublimation"
         yield ctx.finding(
             "enthalpy-implausible",
             i,
-            f"the implied entropy of {what} is {jk(ds[k])} at {kelvin(t[k])} (dH = "
-            f"{kj(R * t[k] ** 2 * y1[k])}), outside the plausible {lo[k]:g}..{hi[k]:g} "
-            f"J/(mol K).{hint}",
+            f"the implied entropy of {what} is {jk(dsk)} at {kelvin(tk)} (dH = "
+            f"{kj(hk)}), outside the plausible {lok:g}..{hik:g} J/(mol K).{hint}",
             {
-                "entropy_J_per_mol_K": ds[k],
-                "at_K": t[k],
-                "enthalpy_J_per_mol": R * t[k] ** 2 * y1[k],
-                "band_min": lo[k],
-                "band_max": hi[k],
-                "at_boiling_point": bool(use_tb[k]),
+                "entropy_J_per_mol_K": dsk,
+                "at_K": tk,
+                "enthalpy_J_per_mol": hk,
+                "band_min": lok,
+                "band_max": hik,
+                "at_boiling_point": at_tb,
             },
         )
 

@@ -41,6 +41,8 @@ _NUMBER = re.compile(NUMBER_PATTERN)
 _ANCHORED = "^[ \t]*" + NUMBER_PATTERN + "[ \t]*$"
 _ALLOWED = set("0123456789+-.eE \t")
 _SMALLEST_NORMAL = sys.float_info.min
+#: A zero as written: no digit but 0 in the mantissa (an exponent changes nothing).
+_ZERO_LITERAL = r"^[+-]?(0+\.?0*|\.0+)([eE][+-]?[0-9]+)?$"
 
 _HINTS = {
     "\u2212": "use '-'",
@@ -159,7 +161,8 @@ def _parse_fast(arr):
     fails on it: a space, a comma, a Unicode minus, ...); a test compares both paths.
     """
     blank = pc.fill_null(pc.equal(arr, ""), True)
-    cleaned = pc.if_else(blank, pa.scalar(None, pa.string()), arr)
+    # the common column has no empty cell: then it is used as it is, without a copy
+    cleaned = pc.if_else(blank, pa.scalar(None, pa.string()), arr) if pc.any(blank).as_py() else arr
     try:
         cast = pc.cast(cleaned, pa.float64())
     except (pa.ArrowInvalid, pa.ArrowNotImplementedError):
@@ -169,6 +172,10 @@ def _parse_fast(arr):
     invalid = np.zeros(out.size, dtype=bool)
     with np.errstate(invalid="ignore"):
         suspicious = ~missing_np & (~np.isfinite(out) | (np.abs(out) < _SMALLEST_NORMAL))
+    zeros = np.flatnonzero(suspicious & (out == 0.0))
+    if zeros.size:  # a zero written as one ("0", "0.0", "-0e5") is no underflow
+        literal = pc.match_substring_regex(cleaned.take(pa.array(zeros)), _ZERO_LITERAL)
+        suspicious[zeros[literal.to_numpy(zero_copy_only=False).astype(bool)]] = False
     for i in np.flatnonzero(suspicious):
         try:
             out[i] = parse_number(cleaned[int(i)].as_py())

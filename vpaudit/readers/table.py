@@ -152,6 +152,8 @@ def _text_column(raw: RawFrame, name: str, default: str | None = None) -> pa.Arr
         else pa.array(values, type=pa.string())
     )
     blank = pc.or_kleene(pc.is_null(arr), pc.equal(arr, ""))
+    if not pc.any(blank).as_py():
+        return arr  # nothing to replace: no copy
     return pc.if_else(blank, pa.scalar(default, pa.string()), arr)
 
 
@@ -258,17 +260,20 @@ def _column(raw: RawFrame, col: _Col, normalize: bool) -> tuple[dict[str, object
     if col.required and present:
         for i in np.flatnonzero(none):
             out.error(raw, int(i), col.name, f"{col.name} is empty")
-    if col.kind == "choice":
-        bad = ~none & ~_np(pc.is_in(arr, value_set=pa.array(col.choices, pa.string())))
-        for i in np.flatnonzero(bad):
-            out.error(
-                raw,
-                int(i),
-                col.name,
-                f"unknown {col.name} {arr[int(i)].as_py()!r}; valid: {', '.join(col.choices)}",
-            )
     if col.kind == "choice" or col.encode:
-        arr = _categorical(arr)
+        cat = _categorical(arr)
+        if col.kind == "choice":  # decided once per distinct value, then by code
+            allowed = np.isin(np.asarray(cat.categories, dtype=object), list(col.choices))
+            c = cat.codes
+            bad = (c >= 0) & ~np.append(allowed, True)[np.where(c >= 0, c, allowed.size)]
+            for i in np.flatnonzero(bad):
+                out.error(
+                    raw,
+                    int(i),
+                    col.name,
+                    f"unknown {col.name} {arr[int(i)].as_py()!r}; valid: {', '.join(col.choices)}",
+                )
+        arr = cat
     return {col.name: arr}, out
 
 

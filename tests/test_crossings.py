@@ -1,0 +1,108 @@
+"""The crossing search: the four-point path for log-linear pairs gives the grid scan's
+results (issue: the vectorized checks must equal the straightforward ones)."""
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from vpaudit.checks._context import _crossings
+from vpaudit.equations.engine import Curves
+
+TOL = 0.05  # the default melting-point tolerance in ln P
+GRID = 32  # the default grid of the no-crossing check
+WINDOW = 0.3
+
+
+def _pairs(liquid: np.ndarray, diff: np.ndarray) -> tuple[Curves, Curves]:
+    """Three-term curves (A, B, C in ln P = A + B/T + C ln T): the liquid, and the solid
+    whose difference from it is ``diff``."""
+    k = len(liquid)
+    params_l = np.zeros((k, 8))
+    params_l[:, :3] = liquid
+    params_s = params_l.copy()
+    params_s[:, :3] += diff
+    fam = np.zeros(k, dtype=np.int8)
+    lo, hi = np.full(k, 100.0), np.full(k, 5000.0)
+    return Curves(fam, params_s, lo, hi), Curves(fam, params_l, lo, hi)
+
+
+def _both(cs, cl, anchor):
+    fast = _crossings(cs, cl, anchor, WINDOW, GRID, TOL, exact=True)
+    scan = _crossings(cs, cl, anchor, WINDOW, GRID, TOL, exact=False)
+    return fast, scan
+
+
+def _difference_near(rng_or_values, anchor):
+    """Difference curves A + B x - C ln x (x = 1/T) with their stationary point and
+    their value at the anchor spread around the window, so that 0, 1 and 2 crossings,
+    near-tangent ones and ones beyond the window all occur."""
+    c, s, delta = rng_or_values
+    x_a = 1.0 / anchor
+    b = c / (x_a * (1.0 + s))
+    a = delta - b * x_a + c * np.log(x_a)
+    return np.column_stack([a, b, c])
+
+
+def test_four_point_path_equals_the_grid_scan_on_many_random_pairs():
+    rng = np.random.default_rng(7)
+    k = 40000
+    anchor = rng.uniform(250.0, 3500.0, k)
+    c = rng.choice([-1.0, 1.0], k) * 10 ** rng.uniform(-2, 2.5, k)
+    c[rng.random(k) < 0.05] = 0.0  # straight lines in 1/T
+    s = rng.uniform(-0.6, 0.6, k)
+    delta = rng.normal(0.0, 0.4, k)
+    diff = _difference_near((c, s, delta), anchor)
+    diff[rng.random(k) < 0.05, 1] = 0.0  # B = 0: no stationary point
+    liquid = np.column_stack(
+        [rng.uniform(15, 30, k), -rng.uniform(2e3, 6e4, k), rng.uniform(-5, 1, k)]
+    )
+    cs, cl = _pairs(liquid, diff)
+    fast, scan = _both(cs, cl, anchor)
+    count, sig, t, y, slope = fast
+    assert np.array_equal(count, scan[0])
+    assert np.array_equal(sig, scan[1])
+    # the same crossing: the roots come from different brackets, so they agree to the
+    # root finder's tolerance, not bit for bit
+    assert np.array_equal(np.isnan(t), np.isnan(scan[2]))
+    np.testing.assert_allclose(t, scan[2], rtol=1e-9)
+    np.testing.assert_allclose(y, scan[3], rtol=1e-9, atol=1e-9)
+    np.testing.assert_allclose(slope, scan[4], rtol=1e-6, atol=1e-12)
+    # and the sample holds every case the shortcut must get right
+    assert {0, 1, 2} <= set(count.tolist()) and {0, 1, 2} <= set(sig.tolist())
+
+
+@settings(max_examples=300, deadline=None)
+@given(
+    anchor=st.floats(200.0, 4000.0),
+    c=st.floats(-300.0, 300.0),
+    s=st.floats(-0.9, 0.9),
+    delta=st.floats(-2.0, 2.0),
+)
+def test_four_point_path_equals_the_grid_scan(anchor, c, s, delta):
+    diff = _difference_near((np.array([c]), np.array([s]), np.array([delta])), anchor)
+    cs, cl = _pairs(np.array([[20.0, -2e4, -1.0]]), diff)
+    fast, scan = _both(cs, cl, np.array([anchor]))
+    assert fast[0][0] == scan[0][0] and fast[1][0] == scan[1][0]
+    if np.isnan(scan[2][0]):
+        assert np.isnan(fast[2][0])
+    else:
+        assert fast[2][0] == pytest.approx(scan[2][0], rel=1e-9)
+
+
+def test_pairs_outside_the_shortcut_still_take_the_scan():
+    """An Antoine liquid (family 1) cannot use the shortcut; its result comes from the scan
+    and must not be disturbed by log-linear neighbours in the same block."""
+    liquid = np.array([[21.0, -4000.0, -1.0], [21.0, -4000.0, -1.0]])
+    diff = np.array([[0.0, -800.0, 0.0], [0.0, -800.0, 0.0]])
+    cs, cl = _pairs(liquid, diff)
+    anchor = np.array([1000.0, 1000.0])
+    ref = _crossings(cs, cl, anchor, WINDOW, GRID, TOL, exact=False)
+    fam = cl.family.copy()
+    fam[1] = 1  # pretend the second liquid is an Antoine curve: A - B/(T + C) with C = 0
+    p = cl.params.copy()
+    p[1] = [21.0, 4000.0, 0.0, 0, 0, 0, 0, 0]  # the same curve written as Antoine
+    cl2 = Curves(fam, p, cl.t_min, cl.t_max)
+    got = _crossings(cs, cl2, anchor, WINDOW, GRID, TOL, exact=True)
+    for a, b in zip(got, ref, strict=True):
+        np.testing.assert_allclose(a, b, rtol=1e-9)

@@ -40,9 +40,10 @@ def main() -> None:
     TABLE is a table directory (records/, references/, points/), a single table file, or a
     .duckdb store made by 'vpaudit import'.
     """
-    from ._memory import keep_freed_memory
+    from ._memory import keep_freed_memory, no_huge_page_advice
 
     keep_freed_memory()
+    no_huge_page_advice()
 
 
 def _progress(quiet: bool, label: str, length: int = 1):

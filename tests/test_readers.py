@@ -104,7 +104,13 @@ def test_degc_on_a_log_linear_form_is_refused(tmp_path):
     assert "needs an absolute temperature" in msg
 
 
-def test_rule_problems_are_reported_not_raised(tmp_path):
+@pytest.mark.parametrize("bulk", [False, True], ids=["small-file", "bulk-path"])
+def test_rule_problems_are_reported_not_raised(tmp_path, monkeypatch, bulk):
+    if bulk:  # large files count their ids while the columns are parsed, on two threads
+        from vpaudit.readers import table
+
+        monkeypatch.setattr(table, "_PARALLEL_ROWS", 1)
+        monkeypatch.setattr(table, "JOBS", 2)
     text = (
         HEADER
         + "\n"

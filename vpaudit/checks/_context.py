@@ -256,8 +256,9 @@ class AuditContext:
                 finite = np.isfinite(y).all(axis=1)
                 out["y_min"][r] = np.where(finite, y.min(axis=1), np.nan)
                 out["y_max"][r] = np.where(finite, y.max(axis=1), np.nan)
-            y_lo[part] = evaluate(cb, cb.t_min, order=0)[0]
-            y_hi[part] = evaluate(cb, cb.t_max, order=0)[0]
+            wagner = cb.family[0] == 2  # a block holds Wagner curves only, or none
+            y_lo[part] = y[:, 0]  # the ends are sampled first (a grid: first and last)
+            y_hi[part] = y[:, -1] if wagner else y[:, 1]
         # The near-ideal part of the range, for dCp: up to where P reaches the limit (solved
         # for all records at once: the root finder's cost is per call, not per record).
         hi = c.t_max.copy()
@@ -288,14 +289,17 @@ class AuditContext:
     @staticmethod
     def _sampled(c: Curves, lo: np.ndarray, hi: np.ndarray):
         """dH, the temperatures, ln P and dCp at the candidate extrema of each curve in
-        [lo, hi]: ends and analytic stationary points (4 columns); Wagner curves get a grid
-        (66 columns) and are evaluated apart, so other forms do not pay for it.
+        [lo, hi]: the ends (columns 0 and 1, or first and last for a grid) and the analytic
+        stationary points; Wagner curves get a grid (66 columns) and are evaluated apart, so
+        other forms do not pay for it. Where no curve has a stationary point in its form (a
+        log-linear curve without a D term: dH = R(C T - B) is linear in T) the ends alone
+        are evaluated.
         """
         m = c.family.size
         wag = c.family == 2
-        width = _WAGNER_GRID + 2 if wag.any() else 4
-        ts = np.empty((m, width))
         if wag.any():
+            width = _WAGNER_GRID + 2
+            ts = np.empty((m, width))
             frac = np.linspace(0.0, 1.0, width)[None, :]
             ts[wag] = lo[wag, None] + (hi - lo)[wag, None] * frac
         rest = ~wag
@@ -307,10 +311,15 @@ class AuditContext:
                 t_h = np.where((fam == 0) & (dee != 0), (-p[:, 2] / dee) ** (1.0 / p[:, 4]), np.nan)
                 t_cp = np.where(fam == 1, p[:, 2] / 2.0, np.nan)
             l_r, h_r = lo[rest], hi[rest]
-            cand = np.column_stack([l_r, h_r, t_h, t_cp])
-            cand = np.where(np.isfinite(cand), cand, l_r[:, None])
-            cand = np.clip(cand, l_r[:, None], h_r[:, None])
-            ts[rest] = np.pad(cand, ((0, 0), (0, width - 4)), mode="edge") if width > 4 else cand
+            inner = [t for t in (t_h, t_cp) if not np.isnan(t).all()]
+            cand = np.column_stack([l_r, h_r, *inner])
+            if inner:
+                cand = np.where(np.isfinite(cand), cand, l_r[:, None])
+                cand = np.clip(cand, l_r[:, None], h_r[:, None])
+            if wag.any():
+                ts[rest] = np.pad(cand, ((0, 0), (0, ts.shape[1] - cand.shape[1])), mode="edge")
+            else:
+                ts = cand
         y, y1, y2 = evaluate(c, ts)
         return R * ts * ts * y1, ts, y, R * (2.0 * ts * y1 + ts * ts * y2)
 

@@ -301,11 +301,21 @@ def frame_from_raw(
     # Each column is parsed on its own (pyarrow's kernels release the GIL, so large tables
     # use both cores); errors are merged back in column order, so output is deterministic.
     workers = JOBS or min(4, os.cpu_count() or 1)
+    ids = raw.cells.get("id") if kind == "records" else None
+    distinct: list[int] = []
+
+    def count_ids() -> None:  # for the duplicate-id rule, beside the columns' work
+        if isinstance(ids, pa.Array | pa.ChunkedArray):
+            distinct.append(len(pc.unique(ids)))
+
     if n >= _PARALLEL_ROWS and workers > 1:
         with ThreadPoolExecutor(max_workers=workers) as pool:
+            counted = pool.submit(count_ids)
             results = list(pool.map(lambda c: _column(raw, c, normalize), spec))
+            counted.result()
     else:
         results = [_column(raw, c, normalize) for c in spec]
+        count_ids()
     data: dict[str, object] = {}
     for entries, local in results:
         data.update(entries)
@@ -321,6 +331,8 @@ def frame_from_raw(
         },
         copy=False,
     )
+    if distinct:
+        frame.attrs["distinct_ids"] = distinct[0]  # cells as written, empty ones included
     if kind == "records":
         _record_rules(frame, raw, out)
     elif kind == "references":
@@ -593,8 +605,10 @@ def _finish(parts: dict[str, list[pd.DataFrame]], out: _Collector, **kw) -> Tabl
         else:
             frames[kind] = _empty(kind)
     rec = frames["records"]
-    ids = pa.array(rec["id"]) if len(rec) else None
-    if len(rec) and len(pc.unique(ids)) < len(rec):  # the common case is decided at once
+    pieces = [p for p in parts["records"] if len(p)]
+    # one records file whose ids were counted while reading: decided without a second pass
+    known = len(pieces) == 1 and pieces[0].attrs.get("distinct_ids") == len(rec)
+    if len(rec) and not known and len(pc.unique(pa.array(rec["id"]))) < len(rec):
         dup = rec["id"].duplicated(keep=False).to_numpy() & rec["id"].notna().to_numpy()
         rows = np.flatnonzero(dup)
         firsts = rec.loc[dup].groupby("id")["line"].transform("min")

@@ -1,8 +1,8 @@
 """Synthetic tables for benchmarks: N invented substances, a solid and a liquid record each.
 
-The curves are consistent by construction (constant-dCp Clausius-Clapeyron integrals that
-meet at the melting point); a fraction of substances carries one planted defect. All values
-are invented.
+The curves are consistent by construction (constant-dCp Clausius-Clapeyron integrals, or
+for a share of the liquids Antoine equations with the same slope, that meet at the melting
+point); a fraction of substances carries one planted defect. All values are invented.
 """
 
 from __future__ import annotations
@@ -39,9 +39,27 @@ def coefficients(tm, dh, dcp, lnp):
     return a, b, c
 
 
-def generate(folder: Path, n: int, defect_rate: float = 0.03, seed: int = 1) -> dict:
+def antoine(tm, dh, lnp, pole_fraction):
+    """Antoine constants ln P = A - B / (T + C) (T in K) with slope dH/(R Tm^2) and value lnp
+    at Tm, and the pole -C at ``pole_fraction`` * Tm, below the range (which starts at Tm).
+
+    A fraction of 0.03-0.08 gives an implied dCp of about -15 to -40 J/(mol K) at Tm, near
+    the three-term liquids'; with 0.1-0.3 (dCp to -190) the extrapolated liquid bends back
+    across the solid inside the crossing window and draws multiple-crossings warnings.
+    """
+    c = -pole_fraction * tm
+    b = dh * (tm + c) ** 2 / (R * tm * tm)
+    a = lnp + b / (tm + c)
+    return a, b, c
+
+
+def generate(
+    folder: Path, n: int, defect_rate: float = 0.03, seed: int = 1, antoine_share: float = 0.1
+) -> dict:
     """Write ``records/records.csv`` and ``references/references.csv`` for ``n`` substances;
-    returns {substance: defect} for the planted ones."""
+    returns {substance: defect} for the planted ones. A share ``antoine_share`` of the
+    liquids is written in the Antoine form (the rest, and every solid, in the three-term
+    form), so the audit meets two equation forms and pairs of mixed forms."""
     rng = np.random.default_rng(seed)
     tm = rng.uniform(300.0, 2500.0, n)
     hvap = tm * rng.uniform(180.0, 260.0, n)
@@ -51,13 +69,16 @@ def generate(folder: Path, n: int, defect_rate: float = 0.03, seed: int = 1) -> 
     dcp_l = -rng.uniform(5.0, 15.0, n)
     dcp_s = -rng.uniform(2.0, 8.0, n)
     al, bl, cl = coefficients(tm, hvap, dcp_l, lnp)
+    is_ant = rng.random(n) < antoine_share
+    aa, ba, ca = antoine(tm, hvap, lnp, rng.uniform(0.03, 0.08, n))
+    al, bl, cl = np.where(is_ant, aa, al), np.where(is_ant, ba, bl), np.where(is_ant, ca, cl)
     as_, bs, cs = coefficients(tm, hvap + hfus, dcp_s, lnp)
     defect = np.full(n, "", dtype=object)
     pick = rng.random(n) < defect_rate
     defect[pick] = rng.choice(DEFECTS, pick.sum())
     bs = np.where(defect == "sign-B", -bs, bs)
     al_w = np.where(defect == "log-base", al / math.log(10), al)
-    bl_w = np.where(defect == "log-base", bl / math.log(10), bl)
+    bl_w = np.where(defect == "log-base", bl / math.log(10), bl)  # C stays: ln T, or T + C
     as_ = np.where(defect == "pressure-unit", as_ - math.log(133.322), as_)
     al_w = np.where(defect == "decimal-A", al_w * 10.0, al_w)
     names = np.char.add("sub", np.arange(n).astype(str))
@@ -75,7 +96,7 @@ def generate(folder: Path, n: int, defect_rate: float = 0.03, seed: int = 1) -> 
                     names[i],
                     ps,
                     "three-term",
-                    "10" if defect[i] == "log-base" and False else "e",
+                    "e",
                     "Pa",
                     f"{as_[i]:.9g}",
                     f"{bs[i]:.9g}",
@@ -91,7 +112,7 @@ def generate(folder: Path, n: int, defect_rate: float = 0.03, seed: int = 1) -> 
                     f"{names[i]}-l",
                     names[i],
                     pl,
-                    "three-term",
+                    "antoine" if is_ant[i] else "three-term",
                     "e",
                     "Pa",
                     f"{al_w[i]:.9g}",

@@ -111,7 +111,9 @@ def audit_table(
     findings.sort(key=_sort_key)
     summary = {
         "records": int(len(table.records)),
-        "substances": int(table.records["substance"].nunique()) if len(table.records) else 0,
+        "substances": int(np.count_nonzero(np.bincount(ctx.codes[ctx.codes >= 0])))
+        if len(table.records)
+        else 0,
         "pairs": int(len(ctx.pairs["s"]))
         if any(REGISTRY[n].scope.value == "pair" for n in names)
         else 0,

@@ -40,10 +40,11 @@ def main() -> None:
     TABLE is a table directory (records/, references/, points/), a single table file, or a
     .duckdb store made by 'vpaudit import'.
     """
-    from ._memory import keep_freed_memory, no_huge_page_advice
+    from ._memory import fewer_gc_passes, keep_freed_memory, no_huge_page_advice
 
     keep_freed_memory()
     no_huge_page_advice()
+    fewer_gc_passes()
 
 
 def _progress(quiet: bool, label: str, length: int = 1):

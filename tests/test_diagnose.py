@@ -272,3 +272,24 @@ def test_log_sum_exp_equals_scipy(values):
 
     x = np.array(values)
     assert _logsumexp(x) == pytest.approx(float(logsumexp(x)), rel=1e-12, abs=1e-12)
+
+
+def test_scores_of_many_outcomes_at_once_equal_one_at_a_time():
+    """The screening scores all candidates in one pass; each must equal the outcome's own
+    score (evidence costs capped, NaN as the cap, floors and findings added)."""
+    from vpaudit.checks._registry import Severity
+    from vpaudit.checks.finding import Finding
+    from vpaudit.diagnose import CALIBRATION, _Outcome, _prime_scores
+
+    rng = np.random.default_rng(3)
+    outs = []
+    for k in range(300):
+        z = rng.normal(0.0, 3.0, int(rng.integers(0, 8)))
+        if k % 7 == 0 and z.size:
+            z[0] = np.nan
+        sev = [Severity.error, Severity.warning, Severity.note][k % 3]
+        found = [Finding("no-crossing", sev, "x", ("r",), "m")] * int(rng.integers(0, 3))
+        outs.append(_Outcome(found, z, floor=(int(rng.integers(0, 3)), int(rng.integers(0, 3)))))
+    one_by_one = [o._score(CALIBRATION) for o in outs]
+    _prime_scores(outs, CALIBRATION)
+    assert [o.score(CALIBRATION) for o in outs] == pytest.approx(one_by_one, rel=1e-12)

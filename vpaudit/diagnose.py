@@ -74,7 +74,7 @@ from .checks.finding import Finding
 from .constants import R
 from .equations.engine import evaluate
 from .equations.forms import FORMS
-from .lookup import record_at
+from .lookup import records_at
 from .readers.files import RawFrame
 from .readers.table import Table, _Collector, _record_rules
 from .units import PRESSURE_UNITS, TEMPERATURE_UNITS
@@ -198,7 +198,9 @@ def _fmt(value) -> str:
     return str(value) if isinstance(value, str) else f"{value:g}"
 
 
-def candidates_for(rec: dict, row: int, partners: list[tuple[int, str]]) -> list[Candidate]:
+def candidates_for(
+    rec: dict, row: int, partners: list[tuple[int, str]], log_prior: float = 0.0
+) -> list[Candidate]:
     """Every single-slip correction of one record.
 
     Parameters
@@ -210,6 +212,8 @@ def candidates_for(rec: dict, row: int, partners: list[tuple[int, str]]) -> list
     partners : list of (int, str)
         Rows and ids of the records of the other phase of the same substance (for
         ``phase-swap``).
+    log_prior : float
+        Added to every candidate's log prior (its kind's share is added here).
 
     Returns
     -------
@@ -316,7 +320,7 @@ def candidates_for(rec: dict, row: int, partners: list[tuple[int, str]]) -> list
         )
     out = []
     for kind, items in by_kind.items():
-        lp = -math.log(len(items))
+        lp = log_prior - math.log(len(items))
         out.extend(Candidate(kind, row, ch, lp, label) for ch, label in items)
     return out
 
@@ -350,11 +354,15 @@ def _rho(z: np.ndarray) -> np.ndarray:
 
 def _groups(codes: np.ndarray, wanted=None) -> dict[int, np.ndarray]:
     """The rows of each code in ``wanted`` (all non-negative codes by default)."""
-    order = np.argsort(codes, kind="stable")
-    sc = codes[order]
     if wanted is None:
+        order = np.argsort(codes, kind="stable")
+        sc = codes[order]
         wanted = np.unique(sc[sc >= 0])
-    wanted = np.asarray(sorted(set(int(w) for w in wanted)), dtype=np.int64)
+    else:  # a few codes of a large table: sort only their rows
+        wanted = np.asarray(sorted(set(int(w) for w in wanted)), dtype=np.int64)
+        rows = np.flatnonzero(np.isin(codes, wanted))
+        order = rows[np.argsort(codes[rows], kind="stable")]
+        sc = codes[order]
     lo = np.searchsorted(sc, wanted, side="left")
     hi = np.searchsorted(sc, wanted, side="right")
     return {int(c): order[a:b] for c, a, b in zip(wanted, lo, hi, strict=True) if b > a}
@@ -563,6 +571,27 @@ class _Outcome:
         )
 
 
+def _prime_scores(outcomes: list[_Outcome], cal: dict) -> None:
+    """:meth:`_Outcome.score` of many outcomes at once (one pass over all their evidence
+    instead of a few numpy calls on a short array each); fills each outcome's cache.
+    """
+    if not outcomes:
+        return
+    key = (cal["loss"], cal["component_cap"], cal["error_cost"], cal["warning_cost"])
+    sizes = np.fromiter((o.z.size for o in outcomes), dtype=np.int64, count=len(outcomes))
+    z = np.concatenate([np.asarray(o.z, dtype=float).ravel() for o in outcomes])
+    with np.errstate(invalid="ignore", over="ignore"):
+        cost = z * z if cal["loss"] == "quadratic" else _rho(z)
+    cost = np.minimum(np.where(np.isnan(cost), np.inf, cost), cal["component_cap"])
+    owner = np.repeat(np.arange(len(outcomes)), sizes)
+    evidence = np.bincount(owner, weights=cost, minlength=len(outcomes))
+    fc = {"error": cal["error_cost"], "warning": cal["warning_cost"], "note": 0.0}
+    for o, e in zip(outcomes, evidence.tolist(), strict=True):
+        floor = o.floor[0] * fc["error"] + o.floor[1] * fc["warning"]
+        total = e + floor + sum(fc[str(f.severity)] for f in o.findings)
+        o.__dict__.setdefault("_scores", {})[key] = total
+
+
 def _hard_failures(vctx: AuditContext, unit_of_code: np.ndarray, n: int) -> list:
     """Errors and warnings that some checks must report for each unit (pressure-not-finite,
     slope-not-positive, heat-capacity-sign, no-crossing, melting-point-mismatch), counted
@@ -700,11 +729,15 @@ def _suspects(findings: list[Finding], limit: int | None) -> tuple[dict[str, set
 
 @_quiet
 def hypotheses(
-    ctx: AuditContext, findings: list[Finding], limit: int | None = None
+    ctx: AuditContext,
+    findings: list[Finding],
+    limit: int | None = None,
+    suspects: dict[str, set[str]] | None = None,
 ) -> dict[str, tuple]:
     """Every single-slip candidate of every suspect record, audited (the costly part).
 
-    ``limit`` bounds the substances diagnosed (worst first).
+    ``limit`` bounds the substances diagnosed (worst first); ``suspects`` are those
+    substances' records when the caller has found them already (:func:`_suspects`).
 
     Returns
     -------
@@ -712,15 +745,23 @@ def hypotheses(
         Substance -> (outcome as written, candidates, their outcomes), for :func:`choose`.
     """
     table = ctx.table
-    suspects = _suspects(findings, limit)[0]
+    if suspects is None:
+        suspects = _suspects(findings, limit)[0]
     if not suspects:
         return {}
     wanted = {i for s in suspects.values() for i in s}
     row_of: dict[str, int] = {}
     for r in np.flatnonzero(table.records["id"].isin(list(wanted)).to_numpy()):
         row_of.setdefault(ctx.id(r), int(r))
-    members = _groups(ctx.codes)  # the record rows of each substance, found once
-    code_of = {str(n): k for k, n in enumerate(ctx.names)}
+    # the substance code of each suspect (from one of its rows), and the rows of those codes
+    code_of = {
+        name: int(ctx.codes[row_of[i]])
+        for name, rids in suspects.items()
+        for i in rids
+        if i in row_of
+    }
+    members = _groups(ctx.codes, set(code_of.values()))
+    as_written = dict(zip(row_of.values(), records_at(table, row_of.values()), strict=True))
     cal = CALIBRATION
     prior_kind = math.log((1.0 - cal["prior_none"]) / len(KINDS))
     units: list[tuple[int, tuple[Change, ...]]] = []
@@ -734,7 +775,7 @@ def hypotheses(
         seen: set = set()
         sub_rows = members.get(code, np.empty(0, dtype=np.int64))
         for row in rows:
-            rec = record_at(table, row)
+            rec = as_written[row]
             if rec.get("form") not in FORMS:
                 continue
             partners = [
@@ -742,12 +783,12 @@ def hypotheses(
                 for p in sub_rows
                 if p != row and ctx.phase_of(p) != rec["phase"]
             ]
-            for c in candidates_for(rec, row, partners):
+            for c in candidates_for(rec, row, partners, prior_kind - math.log(len(rows))):
                 key = (c.kind, frozenset(c.changes))
                 if key in seen:  # a phase swap is proposed from both of its records
                     continue
                 seen.add(key)
-                cands.append(replace(c, log_prior=c.log_prior + prior_kind - math.log(len(rows))))
+                cands.append(c)
         plan[name] = (len(units), cands)
         units.append((code, ()))
         units.extend((code, c.changes) for c in cands)
@@ -757,6 +798,7 @@ def hypotheses(
     # the confidence of the chosen fix can only be understated by the screening.
     screened = _audit_units(table, ctx, units, checks=False)
     cal = CALIBRATION
+    _prime_scores(screened, cal)
     units2: list[tuple[int, tuple[Change, ...]]] = []
     plan2: dict[str, tuple[int, list[Candidate], list]] = {}
     for name, (start, cands) in plan.items():
@@ -783,6 +825,7 @@ def diagnose(
     findings: list[Finding],
     calibration: dict | None = None,
     limit: int | None = None,
+    suspects: dict[str, set[str]] | None = None,
 ) -> dict[str, dict]:
     """The best single-slip fix for each substance with errors or warnings.
 
@@ -796,6 +839,8 @@ def diagnose(
         Scoring constants; :data:`CALIBRATION` by default.
     limit : int, optional
         Diagnose at most this many substances, those with errors and most findings first.
+    suspects : dict, optional
+        Those substances' suspect record ids, when already found (:func:`_suspects`).
 
     Returns
     -------
@@ -803,7 +848,8 @@ def diagnose(
         Substance -> ``{"suggestion": dict or None, "clears": set of finding keys}``.
     """
     return {
-        name: choose(ctx, h, calibration) for name, h in hypotheses(ctx, findings, limit).items()
+        name: choose(ctx, h, calibration)
+        for name, h in hypotheses(ctx, findings, limit, suspects).items()
     }
 
 
@@ -958,8 +1004,8 @@ def attach_suggestions(
     Each error or warning that the best fix of its substance clears, or that names the
     corrected record, carries it as ``suggestion``.
     """
-    diag = diagnose(ctx, findings, limit=limit)
-    skipped = _suspects(findings, limit)[1]
+    suspects, skipped = _suspects(findings, limit)
+    diag = diagnose(ctx, findings, limit=limit, suspects=suspects)
     if not diag:
         return findings, skipped
     out = []

@@ -192,12 +192,16 @@ def record_at(table: Table, row: int) -> dict:
     """Record ``row`` of ``table`` as a plain dict (numbers as floats, empty cells as None,
     ``<field>_text`` beside each number).
     """
-    out = {}
-    for k, v in table.records.iloc[row].items():
+    return records_at(table, [row])[0]
+
+
+def records_at(table: Table, rows) -> list[dict]:
+    """:func:`record_at` for many rows at once (one take from the frame, not one per row)."""
+
+    def plain(v):
         if v is None or v is pd.NA or (isinstance(v, float) and v != v):
-            out[k] = None
-        elif isinstance(v, np.generic):
-            out[k] = v.item()
-        else:
-            out[k] = v
-    return out
+            return None
+        return v.item() if isinstance(v, np.generic) else v
+
+    frame = table.records.iloc[np.asarray(list(rows), dtype=np.int64)]
+    return [{k: plain(v) for k, v in d.items()} for d in frame.to_dict("records")]

@@ -79,6 +79,7 @@ class AuditContext:
         self.ref_codes = all_codes[sizes[0] : sizes[0] + sizes[1]]
         self.point_codes = all_codes[sizes[0] + sizes[1] :]
         self._names = names
+        self._name_cache: dict[int, str] = {}
         #: Number of distinct substances (records, references and points together).
         self.n_names = len(names)
         lo, hi = self.curves.t_min, self.curves.t_max
@@ -123,7 +124,11 @@ class AuditContext:
 
     def substance_of(self, row: int) -> str:
         """The substance of record ``row``."""
-        return str(self._names[int(self.codes[int(row)])].as_py())
+        code = int(self.codes[int(row)])
+        name = self._name_cache.get(code)
+        if name is None:  # each substance is looked up once, whatever its findings
+            name = self._name_cache[code] = str(self._names[code].as_py())
+        return name
 
     def phase_of(self, row: int) -> str:
         """The phase of record ``row``."""

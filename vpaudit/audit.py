@@ -102,8 +102,14 @@ def audit_table(
         table = restrict(table, set(substances))
     ctx = AuditContext(table, policy)
     findings = run_checks(ctx, names, progress)
+    n_pairs = len(ctx.pairs["s"]) if any(REGISTRY[n].scope.value == "pair" for n in names) else 0
+    ctx.drop_shared()  # not needed any more: the diagnosis and the output use their memory
     skipped = 0
     if diagnose:
+        if ctx.n >= PARALLEL_RECORDS:  # the diagnosis' Arrow columns cannot reuse numpy's
+            from ._memory import release_scratch
+
+            release_scratch()
         from .diagnose import DIAGNOSE_LIMIT, attach_suggestions
 
         limit = DIAGNOSE_LIMIT if diagnose is True else int(diagnose)
@@ -114,9 +120,7 @@ def audit_table(
         "substances": int(np.count_nonzero(np.bincount(ctx.codes[ctx.codes >= 0])))
         if len(table.records)
         else 0,
-        "pairs": int(len(ctx.pairs["s"]))
-        if any(REGISTRY[n].scope.value == "pair" for n in names)
-        else 0,
+        "pairs": int(n_pairs),
         "error": sum(f.severity is Severity.error for f in findings),
         "warning": sum(f.severity is Severity.warning for f in findings),
         "note": sum(f.severity is Severity.note for f in findings),

@@ -93,6 +93,13 @@ class AuditContext:
         self.evaluable = ok
         self._severities: dict[str, Severity] = {}
 
+    def drop_shared(self) -> None:
+        """Forget the range extrema and the pairs (a few hundred bytes per record); they
+        are computed again if asked for.
+        """
+        self.__dict__.pop("range_extrema", None)
+        self.__dict__.pop("pairs", None)
+
     def rows_of(self, files, lines) -> np.ndarray:
         """The record row standing at each (file, line) pair, -1 where there is none (for
         rule problems, which the readers locate by file and line).

@@ -167,8 +167,9 @@ PARALLEL_RECORDS = 200_000
 
 
 def _prefetch(ctx: AuditContext, names: list[str]) -> None:
-    """Compute the two costly shared pieces, the range extrema (record checks) and the
-    solid/liquid crossings (pair checks), at once on two threads for large tables.
+    """Compute the costly shared pieces, the range extrema (record checks), the
+    solid/liquid crossings (pair checks) and the equation hashes (duplicate-record), on two
+    threads for large tables.
 
     Both are numpy work on large arrays, which releases the GIL, so a second core that is
     free cuts the audit's time by about their smaller share (measured by
@@ -179,8 +180,15 @@ def _prefetch(ctx: AuditContext, names: list[str]) -> None:
 
     if ctx.n < PARALLEL_RECORDS or (_reading.JOBS or os.cpu_count() or 1) < 2:
         return  # small tables, one core, or --jobs 1
+    pieces = []
     scopes = {REGISTRY[n].scope.value for n in names}
-    if "pair" not in scopes or "record" not in scopes:
+    if "record" in scopes:
+        pieces.append("range_extrema")
+    if "pair" in scopes:
+        pieces.append("pairs")
+    if "duplicate-record" in names:
+        pieces.append("equation_hashes")
+    if len(pieces) < 2:
         return
     from concurrent.futures import ThreadPoolExecutor
 
@@ -192,7 +200,7 @@ def _prefetch(ctx: AuditContext, names: list[str]) -> None:
             pass
 
     with ThreadPoolExecutor(max_workers=2) as pool:
-        list(pool.map(compute, ("range_extrema", "pairs")))
+        list(pool.map(compute, pieces))
 
 
 def restrict(table: Table, names: set[str]) -> Table:

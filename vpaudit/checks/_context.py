@@ -93,6 +93,13 @@ class AuditContext:
         self.evaluable = ok
         self._severities: dict[str, Severity] = {}
 
+    @cached_property
+    def equation_hashes(self) -> np.ndarray:
+        """A 64-bit hash of each record's equation, for ``duplicate-record``."""
+        from .provenance import equation_hashes
+
+        return equation_hashes(self)
+
     def drop_shared(self) -> None:
         """Forget the range extrema and the pairs (a few hundred bytes per record); they
         are computed again if asked for.

@@ -48,6 +48,30 @@ def missing_source(ctx: AuditContext):
     yield from _problem_findings(ctx, "missing-source", ["source"])
 
 
+def _equation_columns(ctx: AuditContext, rows=slice(None)):
+    """What makes two records the same equation: substance, phase, form, units and the
+    coefficients (integer codes and floats), one column at a time, for ``rows``.
+    """
+    rec = ctx.table.records
+    yield "substance", ctx.codes[rows]
+    for c in ("phase", "form", "log_base", "pressure_unit", "temperature_unit"):
+        yield c, codes(rec[c])[0][rows]
+    for c in COEFFICIENTS:
+        yield c, np.nan_to_num(rec[c].to_numpy(dtype=float, na_value=np.nan)[rows], nan=-1e308)
+
+
+def equation_hashes(ctx: AuditContext) -> np.ndarray:
+    """One 64-bit hash per record of :func:`_equation_columns`: equal equations hash alike,
+    so the exact comparison runs on the few rows whose hashes repeat.
+    """
+    h = np.zeros(ctx.n, dtype=np.uint64)
+    with np.errstate(over="ignore"):
+        for _, v in _equation_columns(ctx):
+            bits = v.view(np.uint64) if v.dtype == np.float64 else v.astype(np.uint64)
+            h = (h ^ bits) * np.uint64(0x100000001B3)
+    return h
+
+
 @check(
     "duplicate-record",
     Severity.error,
@@ -64,18 +88,7 @@ def duplicate_record(ctx: AuditContext):
     rec = ctx.table.records
     if not len(rec):
         return
-    cols = {"substance": ctx.codes}
-    for c in ("phase", "form", "log_base", "pressure_unit", "temperature_unit"):
-        cols[c] = codes(rec[c])[0]
-    for c in COEFFICIENTS:
-        cols[c] = np.nan_to_num(rec[c].to_numpy(dtype=float, na_value=np.nan), nan=-1e308)
-    # One 64-bit hash per record finds the candidates fast; the exact comparison below
-    # then runs on those few rows only.
-    h = np.zeros(ctx.n, dtype=np.uint64)
-    with np.errstate(over="ignore"):
-        for v in cols.values():
-            bits = v.view(np.uint64) if v.dtype == np.float64 else v.astype(np.uint64)
-            h = (h ^ bits) * np.uint64(0x100000001B3)
+    h = ctx.equation_hashes
     # records whose id is repeated are reported above (the reader found them)
     dup_id = np.zeros(ctx.n, dtype=bool)
     problems = ctx.table.problems
@@ -90,7 +103,8 @@ def duplicate_record(ctx: AuditContext):
     cand = np.flatnonzero(np.isin(h, twice) & ~dup_id)
     if not cand.size:
         return
-    keys = pd.DataFrame({k: v[cand] for k, v in cols.items()}, index=cand)
+    cols = dict(_equation_columns(ctx, cand))  # the exact comparison, on the candidates
+    keys = pd.DataFrame(cols, index=cand)
     dup = np.zeros(ctx.n, dtype=bool)
     dup[cand[keys.duplicated(keep=False).to_numpy()]] = True
     if not dup.any():

@@ -106,3 +106,28 @@ def test_pairs_outside_the_shortcut_still_take_the_scan():
     got = _crossings(cs, cl2, anchor, WINDOW, GRID, TOL, exact=True)
     for a, b in zip(got, ref, strict=True):
         np.testing.assert_allclose(a, b, rtol=1e-9)
+
+
+def test_closed_form_range_ends_equal_the_general_evaluation():
+    """Range extrema of log-linear curves without a D term are taken in closed form
+    (dH = R (C T - B), dCp = R C); they must equal the engine's analytic derivatives
+    (dH = R T^2 y', dCp = R (2 T y' + T^2 y'')) at the same temperatures."""
+    from vpaudit.checks._context import AuditContext
+    from vpaudit.constants import R
+    from vpaudit.equations.engine import evaluate
+
+    rng = np.random.default_rng(11)
+    k = 5000
+    params = np.zeros((k, 8))
+    params[:, 0] = rng.uniform(10, 40, k)
+    params[:, 1] = -rng.uniform(1e3, 8e4, k)
+    params[:, 2] = rng.uniform(-6, 3, k)
+    lo = rng.uniform(100, 2000, k)
+    hi = lo * rng.uniform(1.05, 3.0, k)
+    curves = Curves(np.zeros(k, dtype=np.int8), params, lo, hi)
+    h, ts, y, cp = AuditContext._sampled(curves, lo, hi)
+    yy, y1, y2 = evaluate(curves, ts)
+    assert np.array_equal(y, yy)  # the same operations: the same bits
+    np.testing.assert_allclose(h, R * ts * ts * y1, rtol=1e-9)
+    np.testing.assert_allclose(cp, R * (2 * ts * y1 + ts * ts * y2), rtol=1e-6, atol=1e-9)
+    assert np.array_equal(ts[:, 0], lo) and np.array_equal(ts[:, 1], hi)

@@ -261,11 +261,11 @@ class AuditContext:
         ln_p_max = np.log(self.policy.thresholds("heat-capacity-sign")["max_pressure"])
         y_lo = np.empty(rows.size)
         y_hi = np.empty(rows.size)
-        blocks = list(_blocks(c.family))
+        blocks = list(_blocks(c))
         for part in blocks:  # one block at a time: temporaries stay block-sized
             cb = c.take(part)
             r = rows[part]
-            h, ts, y, _ = self._sampled(cb, cb.t_min, cb.t_max)
+            h, ts, y, _ = self._sampled(cb, cb.t_min, cb.t_max, need_cp=False)
             k = np.arange(part.size)
             with np.errstate(invalid="ignore"):
                 hm = np.argmin(np.where(np.isnan(h), np.inf, h), axis=1)
@@ -275,7 +275,7 @@ class AuditContext:
                 finite = np.isfinite(y).all(axis=1)
                 out["y_min"][r] = np.where(finite, y.min(axis=1), np.nan)
                 out["y_max"][r] = np.where(finite, y.max(axis=1), np.nan)
-            wagner = cb.family[0] == 2  # a block holds Wagner curves only, or none
+            wagner = cb.family[0] == 2  # a block holds one kind of curve (_blocks)
             y_lo[part] = y[:, 0]  # the ends are sampled first (a grid: first and last)
             y_hi[part] = y[:, -1] if wagner else y[:, 1]
         # The near-ideal part of the range, for dCp: up to where P reaches the limit (solved
@@ -294,7 +294,7 @@ class AuditContext:
             if not sub.size:
                 continue
             cs = c.take(sub)
-            _, tcp, _, cp = self._sampled(cs, cs.t_min, hi[sub])
+            _, tcp, _, cp = self._sampled(cs, cs.t_min, hi[sub], need_h=False)
             j = np.arange(sub.size)
             with np.errstate(invalid="ignore"):
                 lo_i = np.argmin(np.where(np.isnan(cp), np.inf, cp), axis=1)
@@ -306,15 +306,29 @@ class AuditContext:
         return out
 
     @staticmethod
-    def _sampled(c: Curves, lo: np.ndarray, hi: np.ndarray):
+    def _sampled(
+        c: Curves, lo: np.ndarray, hi: np.ndarray, need_h: bool = True, need_cp: bool = True
+    ):
         """dH, the temperatures, ln P and dCp at the candidate extrema of each curve in
         [lo, hi]: the ends (columns 0 and 1, or first and last for a grid) and the analytic
         stationary points; Wagner curves get a grid (66 columns) and are evaluated apart, so
-        other forms do not pay for it. Where no curve has a stationary point in its form (a
-        log-linear curve without a D term: dH = R(C T - B) is linear in T) the ends alone
-        are evaluated.
+        other forms do not pay for it.
+
+        Where no curve has a stationary point in its form (a log-linear curve without a D
+        term, the common case) the ends alone are taken, in closed form: dH = R (C T - B)
+        is linear in T and dCp = R C constant, so nothing but ln P needs a logarithm. The
+        quantities not asked for (``need_h``, ``need_cp``) are None on that path.
         """
         m = c.family.size
+        p = c.params
+        if m and not (c.family != 0).any() and not p[:, 3].any():
+            ts = np.column_stack([lo, hi])
+            a, b, cc = (p[:, i : i + 1] for i in range(3))
+            with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+                y = a + b * (1.0 / ts) + cc * np.log(ts)  # as the engine evaluates it
+                h = R * (cc * ts - b) if need_h else None
+                cp = np.broadcast_to(R * cc, ts.shape) if need_cp else None
+            return h, ts, y, cp
         wag = c.family == 2
         if wag.any():
             width = _WAGNER_GRID + 2
@@ -323,7 +337,7 @@ class AuditContext:
             ts[wag] = lo[wag, None] + (hi - lo)[wag, None] * frac
         rest = ~wag
         if rest.any():
-            p = c.params[rest]
+            p = p[rest]
             fam = c.family[rest]
             with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
                 dee = p[:, 3] * p[:, 4] * (p[:, 4] + 1.0)
@@ -563,9 +577,14 @@ def same_key_pairs(keys: np.ndarray, a: np.ndarray, b: np.ndarray) -> tuple[np.n
     return ia.astype(np.int64), ib.astype(np.int64)
 
 
-def _blocks(family: np.ndarray):
-    """Index blocks of at most CHUNK rows, Wagner curves (which get a grid) apart."""
-    for group in (np.flatnonzero(family != 2), np.flatnonzero(family == 2)):
+def _blocks(c: Curves):
+    """Index blocks of at most CHUNK rows of one kind each: log-linear curves without a D
+    term (taken in closed form), the other log-linear and Antoine curves (ends and
+    stationary points), Wagner curves (a grid).
+    """
+    plain = (c.family == 0) & (c.params[:, 3] == 0)
+    wagner = c.family == 2
+    for group in (np.flatnonzero(plain), np.flatnonzero(~plain & ~wagner), np.flatnonzero(wagner)):
         for a in range(0, group.size, CHUNK):
             yield group[a : a + CHUNK]
 

@@ -238,6 +238,8 @@ STREAM_CASES = {
     "nul": csv_text() + "r2\x00\n",
     "header-only": HEADER + "\n",
     "semicolons": csv_text().replace(",", ";"),
+    "comment-then-bad-header": "# a comment\n" + HEADER + ",A\n" + ROW.format(A="1") + "\n",
+    "comment-then-invalid-utf8-header": "# a comment\nid,subst\udce9nce\n",
 }
 
 
@@ -247,7 +249,7 @@ def test_streamed_large_file_path_reads_exactly_as_the_whole_file_path(tmp_path,
     forcing that path on small files must give the same frame or the same located errors."""
     from vpaudit.readers import files
 
-    path = write(tmp_path / "r.csv", STREAM_CASES[case].encode("utf-8"))
+    path = write(tmp_path / "r.csv", STREAM_CASES[case].encode("utf-8", "surrogateescape"))
 
     def outcome():
         try:

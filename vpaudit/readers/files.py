@@ -217,7 +217,7 @@ def read_csv(path: str, data: bytes) -> RawFrame:
         raise _err(path, "file is empty: expected a header line naming the columns")
     start, body_at, delimiter, columns = _csv_layout(path, data)
     body = memoryview(data)[body_at:]
-    if not bytes(body).strip():
+    if not bytes(body[:4096]).strip() and not bytes(body).strip():  # copies only if blank
         bulk = ({c: [] for c in columns}, [])
     else:
         bulk = _csv_bulk(body, start, columns, delimiter) if _regular(data) else None
@@ -242,8 +242,8 @@ def _read_csv_streamed(path: str) -> RawFrame | None:
     header is read from the head, and pyarrow reads the rows from the file itself.
 
     Returns None when the file is not plain (a NUL byte, an unclosed quote, a bare CR line
-    end, a header not within the first megabyte, no rows): the whole-file path then reads it and
-    locates any problem.
+    end, a header not within the first megabyte or not valid, no rows): the whole-file path
+    then reads it and locates any problem.
     """
     import pyarrow as pa
 
@@ -272,7 +272,11 @@ def _read_csv_streamed(path: str) -> RawFrame | None:
         nl = head.find(b"\n", skipped)
     if nl < 0:
         return None
-    _, body_at, delimiter, columns = _csv_layout(path, head[skipped : nl + 1])
+    try:
+        head[skipped : nl + 1].decode("utf-8")
+        _, body_at, delimiter, columns = _csv_layout(path, head[skipped : nl + 1])
+    except (UnicodeDecodeError, TableError):
+        return None  # the whole-file path reports it with the right line and offset
     with pa.OSFile(path) as source:
         source.seek(skipped + body_at)
         bulk = _csv_bulk(source, start, columns, delimiter)

@@ -162,7 +162,7 @@ def run_checks(ctx: AuditContext, names: list[str], progress=None) -> list[Findi
     return findings
 
 
-#: Records from which the two shared array computations run on two threads.
+#: Records from which the shared array computations run on two threads.
 PARALLEL_RECORDS = 200_000
 
 
@@ -171,9 +171,9 @@ def _prefetch(ctx: AuditContext, names: list[str]) -> None:
     solid/liquid crossings (pair checks) and the equation hashes (duplicate-record), on two
     threads for large tables.
 
-    Both are numpy work on large arrays, which releases the GIL, so a second core that is
-    free cuts the audit's time by about their smaller share (measured by
-    ``benchmarks/audit_scale.py``). An error here is left for the check that needs the
+    All are numpy work on large arrays, which releases the GIL, so a second core that is
+    free takes the smaller ones off the critical path (about 0.5 s at 10^6 substances,
+    measured by ``benchmarks/audit_scale.py``). An error here is left for the check that needs the
     piece to meet and report, so it surfaces as that check's ``internal-error``.
     """
     from .readers import table as _reading

@@ -68,7 +68,8 @@ JOBS = click.option(
     "--jobs",
     "-j",
     type=int,
-    help="Threads for reading large files (default: one per core, at most 4).",
+    help="Threads for reading large files and for the audit's shared array work "
+    "(default: one per core, at most 4; 1 runs everything on one thread).",
 )
 
 

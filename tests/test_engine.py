@@ -389,3 +389,28 @@ def test_constants_equal_scipy_codata_values():
     assert vc.PSI == pytest.approx(sc.psi, rel=1e-15)
     assert vc.ZERO_CELSIUS == sc.zero_Celsius and vc.CALORIE == sc.calorie
     assert PRESSURE_UNITS["psi"] == pytest.approx(sc.psi, rel=1e-15)
+
+
+def test_blockwise_evaluation_equals_one_pass(monkeypatch):
+    """Long inputs are evaluated in blocks (evaluate) and picked rows without copying all
+    curves (evaluate_rows); both must give the one-pass values bit for bit."""
+    from vpaudit.equations import engine
+
+    rng = np.random.default_rng(5)
+    n = 3 * engine._BLOCK + 17
+    fam = rng.integers(0, 2, n).astype(np.int8)  # log-linear and Antoine mixed
+    params = np.zeros((n, 8))
+    params[:, 0] = rng.uniform(15, 30, n)
+    params[:, 1] = np.where(fam == 0, -1, 1) * rng.uniform(2e3, 5e4, n)
+    params[:, 2] = np.where(fam == 0, rng.uniform(-4, 1, n), -rng.uniform(10, 60, n))
+    curves = engine.Curves(fam, params, np.full(n, 300.0), np.full(n, 900.0))
+    t = rng.uniform(300, 900, n)
+    rows = rng.integers(0, n, n + 5)  # repeats, as the solid of every pair
+    tr = rng.uniform(300, 900, rows.size)
+    blocked = engine.evaluate(curves, t)
+    picked = engine.evaluate_rows(curves, rows, tr)
+    monkeypatch.setattr(engine, "_BLOCK", 10**9)  # one pass
+    for a, b in zip(blocked, engine.evaluate(curves, t), strict=True):
+        assert np.array_equal(a, b)
+    for a, b in zip(picked, engine.evaluate(curves.take(rows), tr), strict=True):
+        assert np.array_equal(a, b)

@@ -235,7 +235,7 @@ def evaluate(curves: Curves, temperature, order: int = 2):
     y1 = np.empty(t.shape) if order else None
     y2 = np.empty(t.shape) if order else None
     if t.ndim == 1 and n > _BLOCK:  # long inputs a block at a time: small temporaries
-        return _blockwise(curves, np.arange(n), t, order, (y, y1, y2), lambda a, b: slice(a, b))
+        return _blockwise(curves, n, t, order, (y, y1, y2), lambda a, b: slice(a, b))
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         for code, fn in enumerate(_FAMILIES):
             rows = np.flatnonzero(curves.family == code)
@@ -254,9 +254,12 @@ def evaluate(curves: Curves, temperature, order: int = 2):
     return y, y1, y2
 
 
-def _blockwise(curves: Curves, rows: np.ndarray, t: np.ndarray, order: int, out, select):
+def _blockwise(curves: Curves, size: int, t: np.ndarray, order: int, out, select):
+    """Fill ``out`` (y, y', y'') block by block; ``select(a, b)`` picks the curves of
+    positions a..b (a slice, or an index array's part).
+    """
     y, y1, y2 = out
-    for a in range(0, rows.size, _BLOCK):
+    for a in range(0, size, _BLOCK):
         part = slice(a, a + _BLOCK)
         b = evaluate(curves.take(select(a, a + _BLOCK)), t[part], order)
         y[part] = b[0]
@@ -289,7 +292,7 @@ def evaluate_rows(curves: Curves, rows: np.ndarray, temperature, order: int = 2)
     if rows.size <= _BLOCK:
         return evaluate(curves.take(rows), t, order)
     out = (np.empty(rows.size), *(np.empty(rows.size) if order else None for _ in range(2)))
-    return _blockwise(curves, rows, t, order, out, lambda a, b: rows[a:b])
+    return _blockwise(curves, rows.size, t, order, out, lambda a, b: rows[a:b])
 
 
 def ln_pressure(curves: Curves, temperature) -> np.ndarray:

@@ -131,3 +131,12 @@ def test_closed_form_range_ends_equal_the_general_evaluation():
     np.testing.assert_allclose(h, R * ts * ts * y1, rtol=1e-9)
     np.testing.assert_allclose(cp, R * (2 * ts * y1 + ts * ts * y2), rtol=1e-6, atol=1e-9)
     assert np.array_equal(ts[:, 0], lo) and np.array_equal(ts[:, 1], hi)
+
+
+def test_range_sampling_of_no_curves_is_empty():
+    """An empty block of curves gives empty samples, not an error."""
+    from vpaudit.checks._context import AuditContext
+
+    c = Curves(np.zeros(0, np.int8), np.zeros((0, 8)), np.zeros(0), np.zeros(0))
+    h, ts, y, cp = AuditContext._sampled(c, c.t_min, c.t_max)
+    assert h.shape == ts.shape == y.shape == cp.shape == (0, 2)

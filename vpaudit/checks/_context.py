@@ -321,7 +321,7 @@ class AuditContext:
         """
         m = c.family.size
         p = c.params
-        if m and not (c.family != 0).any() and not p[:, 3].any():
+        if not (c.family != 0).any() and not p[:, 3].any():  # also the empty case
             ts = np.column_stack([lo, hi])
             a, b, cc = (p[:, i : i + 1] for i in range(3))
             with np.errstate(divide="ignore", invalid="ignore", over="ignore"):

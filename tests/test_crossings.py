@@ -140,3 +140,55 @@ def test_range_sampling_of_no_curves_is_empty():
     c = Curves(np.zeros(0, np.int8), np.zeros((0, 8)), np.zeros(0), np.zeros(0))
     h, ts, y, cp = AuditContext._sampled(c, c.t_min, c.t_max)
     assert h.shape == ts.shape == y.shape == cp.shape == (0, 2)
+
+
+def test_range_extrema_in_closed_form_equal_the_blockwise_reductions():
+    """Plain log-linear records are reduced over whole columns (_plain_extrema); every key
+    of the range extrema must equal, to the bit, what the block path gives the same records
+    (ties of dH at both ends with C = 0, base-10 and mmHg records, ranges crossing the
+    10 kPa limit, a critical temperature cutting the ideal part, Antoine records beside)."""
+    from tests.refdata import table_from_rows
+    from vpaudit.checks._context import AuditContext
+    from vpaudit.policy import Policy
+
+    rng = np.random.default_rng(5)
+    records, refs = [], []
+    for i in range(600):
+        lo = float(rng.uniform(150, 1500))
+        rec = {
+            "id": f"r{i}",
+            "substance": f"s{i // 2}",
+            "phase": "solid" if i % 2 == 0 else "liquid",
+            "form": "three-term",
+            "A": float(rng.uniform(15, 35)),
+            "B": float(-rng.uniform(2e3, 6e4)),
+            "C": 0.0 if i % 7 == 0 else float(rng.uniform(-4, 2)),
+            "t_min": lo,
+            "t_max": lo * float(rng.uniform(1.05, 3.0)),
+            "log_base": "e",
+            "pressure_unit": "Pa",
+            "source": "invented for this test",
+        }
+        if i % 5 == 0:
+            rec.update(log_base="10", pressure_unit="mmHg", A=rec["A"] / 2.3, B=rec["B"] / 2.3)
+        if i % 11 == 0:
+            rec.update(form="antoine", A=21.0, B=3000.0, C=-40.0, temperature_unit="K")
+        records.append(rec)
+        if i % 6 == 0:
+            refs.append(
+                {
+                    "substance": rec["substance"],
+                    "quantity": "critical_temperature",
+                    "value": lo * 1.6,
+                    "unit": "K",
+                    "source": "invented for this test",
+                }
+            )
+    ctx = AuditContext(table_from_rows(records, refs), Policy())
+    with np.errstate(all="ignore"):
+        fast = ctx.extrema_over_ranges(closed_form=True)
+        blocks = ctx.extrema_over_ranges(closed_form=False)
+    assert np.isfinite(fast["cp_hi"]).sum() > 100  # the dCp part is exercised
+    assert (fast["cp_hi"] < ctx.curves.t_max).sum() > 50  # cut by 10 kPa or 0.7 Tc
+    for key in blocks:
+        np.testing.assert_array_equal(fast[key], blocks[key], err_msg=key)

@@ -225,6 +225,10 @@ class AuditContext:
     # --- per-record quantities over the validity range -----------------------------------
     @cached_property
     def range_extrema(self) -> dict[str, np.ndarray]:
+        """:meth:`extrema_over_ranges`, computed once."""
+        return self.extrema_over_ranges()
+
+    def extrema_over_ranges(self, closed_form: bool = True) -> dict[str, np.ndarray]:
         """Exact extrema of dH(T), dCp(T) and ln P over each record's range.
 
         dH and ln P are taken over the whole range. dCp is taken only over the part where the
@@ -235,7 +239,10 @@ class AuditContext:
 
         Log-linear and Antoine curves: ends of the range plus the analytic stationary points
         (dH is stationary where dCp = 0: T^E = -C/(D E (E+1)); the Antoine dCp where
-        T = C'/2). Wagner curves: a 64-point grid plus the ends.
+        T = C'/2). Wagner curves: a 64-point grid plus the ends. Log-linear curves without a
+        D term (the common case) are reduced in closed form over whole columns
+        (:func:`_plain_extrema`); ``closed_form=False`` sends them through the blocks like the
+        others (for the test that compares the two).
         """
         n = self.n
         out = {
@@ -261,7 +268,12 @@ class AuditContext:
         ln_p_max = np.log(self.policy.thresholds("heat-capacity-sign")["max_pressure"])
         y_lo = np.empty(rows.size)
         y_hi = np.empty(rows.size)
-        blocks = list(_blocks(c))
+        plain = np.flatnonzero((c.family == 0) & (c.params[:, 3] == 0)) if closed_form else None
+        if plain is not None:  # in blocks too: fresh pages cost more than the arithmetic
+            for a in range(0, plain.size, CHUNK):
+                part = plain[a : a + CHUNK]
+                y_lo[part], y_hi[part] = _plain_extrema(c, part, rows[part], out)
+        blocks = list(_blocks(c, plain=not closed_form))
         for part in blocks:  # one block at a time: temporaries stay block-sized
             cb = c.take(part)
             r = rows[part]
@@ -289,6 +301,14 @@ class AuditContext:
         hi = np.fmin(hi, 0.7 * self.critical_temperature()[rows])
         with np.errstate(invalid="ignore"):
             ideal = (y_lo <= ln_p_max) & (hi > c.t_min)
+        if plain is not None and plain.size:  # dCp = R C: the same at every temperature
+            sub = plain[ideal[plain]]
+            rs = rows[sub]
+            cp = R * c.params[sub, 2]
+            lo_t = c.t_min[sub]
+            out["cp_min"][rs] = out["cp_max"][rs] = cp
+            out["cp_min_T"][rs] = out["cp_max_T"][rs] = lo_t  # the first, as argmin takes
+            out["cp_lo"][rs], out["cp_hi"][rs] = lo_t, hi[sub]
         for part in blocks:
             sub = part[ideal[part]]
             if not sub.size:
@@ -577,16 +597,50 @@ def same_key_pairs(keys: np.ndarray, a: np.ndarray, b: np.ndarray) -> tuple[np.n
     return ia.astype(np.int64), ib.astype(np.int64)
 
 
-def _blocks(c: Curves):
+def _blocks(c: Curves, plain: bool = True):
     """Index blocks of at most CHUNK rows of one kind each: log-linear curves without a D
-    term (taken in closed form), the other log-linear and Antoine curves (ends and
-    stationary points), Wagner curves (a grid).
+    term (taken in closed form; left out with ``plain=False``), the other log-linear and
+    Antoine curves (ends and stationary points), Wagner curves (a grid).
     """
-    plain = (c.family == 0) & (c.params[:, 3] == 0)
+    simple = (c.family == 0) & (c.params[:, 3] == 0)
     wagner = c.family == 2
-    for group in (np.flatnonzero(plain), np.flatnonzero(~plain & ~wagner), np.flatnonzero(wagner)):
+    groups = [np.flatnonzero(~simple & ~wagner), np.flatnonzero(wagner)]
+    if plain:
+        groups.insert(0, np.flatnonzero(simple))
+    for group in groups:
         for a in range(0, group.size, CHUNK):
             yield group[a : a + CHUNK]
+
+
+def _plain_extrema(c: Curves, part: np.ndarray, rows: np.ndarray, out: dict):
+    """Range extrema of the log-linear curves ``part`` of ``c`` (no D term), whose records
+    are ``rows``, written into ``out``; returns ln P at the two ends of the ranges.
+
+    y = A + B/T + C ln T has dH = R (C T - B), linear in T, so dH and ln P (monotone
+    wherever dH keeps its sign, and taken at the ends as for the other forms) have their
+    extrema at the range ends. These are the reductions the blocks make over two sampled
+    columns, done over whole 1-D columns: the same values, to the bit, at a fraction of
+    the cost (a test compares the two paths).
+    """
+    a, b, cc = (c.params[part, i] for i in range(3))
+    lo, hi = c.t_min[part], c.t_max[part]
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        y_lo = a + b * (1.0 / lo) + cc * np.log(lo)  # as the engine evaluates it
+        y_hi = a + b * (1.0 / hi) + cc * np.log(hi)
+        h_lo = R * (cc * lo - b)
+        h_hi = R * (cc * hi - b)
+        nan_lo, nan_hi = np.isnan(h_lo), np.isnan(h_hi)
+        # argmin over (lo, hi) with NaN as +inf: the high end only where strictly lower
+        at_hi = np.where(nan_hi, np.inf, h_hi) < np.where(nan_lo, np.inf, h_lo)
+        out["h_min"][rows] = np.where(nan_lo | nan_hi, np.nan, np.where(at_hi, h_hi, h_lo))
+        out["h_min_T"][rows] = np.where(at_hi, hi, lo)
+        out["h_max"][rows] = np.maximum(
+            np.where(nan_lo, -np.inf, h_lo), np.where(nan_hi, -np.inf, h_hi)
+        )
+        finite = np.isfinite(y_lo) & np.isfinite(y_hi)
+        out["y_min"][rows] = np.where(finite, np.minimum(y_lo, y_hi), np.nan)
+        out["y_max"][rows] = np.where(finite, np.maximum(y_lo, y_hi), np.nan)
+    return y_lo, y_hi
 
 
 def _convex_crossings(diff: Curves, x_lo, x_hi, x_anchor, grid: int, tol: float):

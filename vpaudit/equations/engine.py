@@ -321,6 +321,11 @@ def heat_capacity_change(curves: Curves, temperature) -> np.ndarray:
     return R * (2.0 * tt * y1 + tt * tt * y2)
 
 
+#: Relative size of a Newton step below which a change of direction is taken for
+#: rounding noise (:func:`bracketed_root`).
+_NOISE_STEP = 1e-10
+
+
 def bracketed_root(
     fun: Callable[[np.ndarray, np.ndarray], tuple[np.ndarray, np.ndarray]],
     lo: np.ndarray,
@@ -351,6 +356,9 @@ def bracketed_root(
     Each step takes the Newton step from the current point when it stays strictly inside the
     bracket, and bisects otherwise; the bracket shrinks at every step, so the iteration
     converges for any continuous g with a sign change, quadratically near a simple root.
+    Two cases that used to run to tens of steps end in a few: a Newton step that lands just
+    past an end (a root at the end of the bracket) goes to that end instead of bisecting,
+    and a tiny step back (Newton cycling in the rounding noise of g) ends the search.
     """
     a = np.array(lo, dtype=float)
     b = np.array(hi, dtype=float)
@@ -370,6 +378,7 @@ def bracketed_root(
     a_act, b_act = a[active].copy(), b[active].copy()
     a_act[flip], b_act[flip] = b[active][flip], a[active][flip]
     x = 0.5 * (a_act + b_act)
+    last = np.zeros_like(x)  # the previous step
     for _ in range(iterations):
         if active.size == 0:
             break
@@ -380,19 +389,30 @@ def bracketed_root(
         with np.errstate(divide="ignore", invalid="ignore"):
             newton = x - g / dg
         lo_b, hi_b = np.minimum(a_act, b_act), np.maximum(a_act, b_act)
-        inside = np.isfinite(newton) & (newton > lo_b) & (newton < hi_b)
-        x_new = np.where(inside, newton, 0.5 * (a_act + b_act))
+        # A Newton step that lands on an end or just past it (by rounding, or by a
+        # thousandth of the step: near a root at the end of the bracket, Newton overshoots
+        # by the square of its step) goes to that end instead of being traded for a
+        # bisection, which would approach such a root one halving at a time.
+        slack = xtol * np.abs(x) + 1e-3 * np.abs(newton - x)
+        inside = np.isfinite(newton) & (newton >= lo_b - slack) & (newton <= hi_b + slack)
+        x_new = np.where(inside, np.clip(newton, lo_b, hi_b), 0.5 * (a_act + b_act))
         x_new = np.where(g == 0, x, x_new)
+        step = x_new - x
         done = (
-            (np.abs(x_new - x) <= xtol * np.abs(x))
+            (np.abs(step) <= xtol * np.abs(x))
             | (g == 0)
             | (np.abs(hi_b - lo_b) <= xtol * np.abs(x))
+            # Newton steps near a simple root keep one direction; a tiny step back is
+            # rounding noise in g, where the iterates would cycle until the cap
+            | (inside & (step * last < 0) & (np.abs(step) <= _NOISE_STEP * np.abs(x)))
         )
         x = x_new
+        last = step
         if done.any():
             root[active[done]] = x[done]
             keep = ~done
             active, x, a_act, b_act = active[keep], x[keep], a_act[keep], b_act[keep]
+            last = last[keep]
     if active.size:
         root[active] = x
     return root

@@ -114,37 +114,54 @@ def curves_from_frame(records: pd.DataFrame) -> Curves:
     scale = lookup(tunit, {u: v[0] for u, v in TEMPERATURE_UNITS.items()}, 1.0)
     offset = lookup(tunit, {u: v[1] for u, v in TEMPERATURE_UNITS.items()}, 0.0)
     form_code, form_names = codes(records["form"])
-    A, B, C, D, E = (np.nan_to_num(_column(records, c)) for c in "ABCDE")
-    family = np.zeros(n, dtype=np.int8)
+    # What each form needs, as small tables indexed by form code (the last entry for an
+    # empty or unknown form, whose curve stays all zeros and family 0).
+    specs = [FORMS.get(name) for name in form_names] + [None]
+    known_t = np.array([sp is not None for sp in specs])
+    family_t = np.array([FAMILY_CODES[sp.family] if sp else 0 for sp in specs], dtype=np.int8)
+    has_d_t = np.array(
+        [bool(sp) and sp.family == "log-linear" and "D" in sp.coefficients for sp in specs]
+    )
+    exponent_t = np.array(
+        [np.nan if not sp or sp.exponent is None else sp.exponent for sp in specs]
+    )
+    e3_t, e4_t = (
+        np.array([WAGNER.get(sp.name if sp else "", (0.0, 0.0))[i] for sp in specs]) for i in (0, 1)
+    )
+    k = np.where(form_code >= 0, form_code, len(form_names))
+    family = family_t[k]
+    A, B, C, D, E = (_column(records, c) for c in "ABCDE")
+    wagner_any = bool((family_t[:-1] == 2).any())
+    if wagner_any:
+        t_crit, p_crit = _column(records, "t_crit"), _column(records, "p_crit")
     params = np.zeros((n, NPARAM))
-    for k, name in enumerate(form_names):
-        spec = FORMS.get(name)
-        if spec is None:
-            continue
-        m = form_code == k
-        family[m] = FAMILY_CODES[spec.family]
-        if spec.family == "log-linear":
-            params[m, 0] = lnb[m] * A[m] + lnf[m]
-            params[m, 1] = lnb[m] * B[m]
-            params[m, 2] = C[m]
-            params[m, 3] = lnb[m] * D[m]
-            params[m, 4] = E[m] if spec.exponent is None else spec.exponent
-            if "D" not in spec.coefficients:
-                params[m, 3:5] = 0.0
-        elif spec.family == "antoine":
-            params[m, 0] = lnb[m] * A[m] + lnf[m]
-            params[m, 1] = lnb[m] * scale[m] * B[m]
-            params[m, 2] = scale[m] * C[m] - offset[m]
-        else:
-            e3, e4 = WAGNER[name]
-            params[m, 0] = lnb[m] * A[m]
-            params[m, 1] = lnb[m] * B[m]
-            params[m, 2] = lnb[m] * C[m]
-            params[m, 3] = lnb[m] * D[m]
-            params[m, 4] = e3
-            params[m, 5] = e4
-            params[m, 6] = _column(records, "t_crit")[m]  # Wagner forms are written in K
-            params[m, 7] = np.log(_column(records, "p_crit")[m]) + lnf[m]
+    # Block by block, so that every temporary stays small and is reused (a fresh page costs
+    # more than the arithmetic here); each element gets the same operations as it would
+    # form by form.
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        for a in range(0, n, _BLOCK):
+            sl = slice(a, a + _BLOCK)
+            kk, lb, lf = k[sl], lnb[sl], lnf[sl]
+            fam = family[sl]
+            a_, b_, c_, d_, e_ = (np.nan_to_num(col[sl]) for col in (A, B, C, D, E))
+            ant, wag = fam == 1, fam == 2
+            with_d = has_d_t[kk]
+            p = params[sl]
+            p[:, 0] = np.where(wag, lb * a_, lb * a_ + lf)
+            p[:, 1] = lb * np.where(ant, scale[sl], 1.0) * b_
+            p[:, 2] = np.where(ant, scale[sl] * c_ - offset[sl], np.where(wag, lb * c_, c_))
+            p[:, 3] = np.where(wag | with_d, lb * d_, 0.0)
+            expo = exponent_t[kk]
+            p[:, 4] = np.where(
+                wag, e3_t[kk], np.where(with_d, np.where(np.isnan(expo), e_, expo), 0.0)
+            )
+            if wagner_any:  # Wagner forms are written in K
+                p[:, 5] = np.where(wag, e4_t[kk], 0.0)
+                p[:, 6] = np.where(wag, t_crit[sl], 0.0)
+                p[:, 7] = np.where(wag, np.log(p_crit[sl]) + lf, 0.0)
+            unknown = ~known_t[kk]
+            if unknown.any():
+                p[unknown] = 0.0
     t_min = _column(records, "t_min") * scale + offset
     t_max = _column(records, "t_max") * scale + offset
     return Curves(family, params, t_min, t_max)

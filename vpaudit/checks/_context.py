@@ -7,6 +7,7 @@ array code.
 
 from __future__ import annotations
 
+import itertools
 import math
 from functools import cached_property
 from typing import TYPE_CHECKING
@@ -22,6 +23,7 @@ from ..equations.engine import (
     bracketed_root,
     curves_from_frame,
     evaluate,
+    evaluate_rows,
     temperature_at,
 )
 from ..readers.table import Table
@@ -106,6 +108,7 @@ class AuditContext:
         """
         self.__dict__.pop("range_extrema", None)
         self.__dict__.pop("pairs", None)
+        self.__dict__.pop("melting_slopes", None)
 
     def rows_of(self, files, lines) -> np.ndarray:
         """The record row standing at each (file, line) pair, -1 where there is none (for
@@ -221,6 +224,71 @@ class AuditContext:
             file=str(self._files[self.file_code[int(row)]]),
             line=int(self.line[row]),
         )
+
+    def findings(
+        self,
+        check: str,
+        rows: np.ndarray,
+        messages: list[str],
+        evidence: dict,
+        records: list[tuple[str, ...]] | None = None,
+        severity: Severity | None = None,
+    ) -> list[Finding]:
+        """One finding per record in ``rows``, built together: what :meth:`finding` does
+        one at a time (the substance, the record id, the file and line), taken for all
+        rows in a few array operations, for checks that report thousands of records.
+
+        ``messages`` holds one sentence per row. ``evidence`` maps each key to a column
+        (an array, one value per row; or a list, taken as it is) or to one value shared by
+        all rows; float arrays become Python floats, with None where not finite.
+        """
+        rows = np.asarray(rows, dtype=np.int64)
+        if rows.size == 0:
+            return []
+        sev = severity or self._severities.get(check)
+        if sev is None:
+            sev = self._severities[check] = self.severity(check) or REGISTRY[check].severity
+        codes = self.codes[rows]
+        subs = self._names.take(pa.array(np.maximum(codes, 0))).to_pylist()
+        for i in np.flatnonzero(codes < 0).tolist():  # a record without a substance
+            subs[i] = ""
+        if records is None:
+            records = [(i,) for i in self.ids(rows)]
+        files = self._files[self.file_code[rows]].tolist()
+        lines = self.line[rows].tolist()
+        return [
+            Finding(check, sev, sub, rec, msg, ev, None, str(f), ln)
+            for sub, rec, msg, ev, f, ln in zip(
+                subs,
+                records,
+                messages,
+                _evidence_rows(evidence, rows.size),
+                files,
+                lines,
+                strict=True,
+            )
+        ]
+
+    def pair_findings(
+        self,
+        check: str,
+        ks: np.ndarray,
+        messages: list[str],
+        evidence: dict,
+        severity: Severity | None = None,
+    ) -> list[Finding]:
+        """:meth:`findings` about the pairs ``ks`` (both record ids, located at the solid
+        record), as :meth:`pair_finding` makes them one at a time.
+        """
+        pr = self.pairs
+        ks = np.asarray(ks, dtype=np.int64)
+        s, lq = pr["s"][ks], pr["l"][ks]
+        records = list(zip(self.ids(s), self.ids(lq), strict=True))
+        return self.findings(check, s, messages, evidence, records, severity)
+
+    def ids(self, rows: np.ndarray) -> list[str]:
+        """The ids of records ``rows``, as Python strings."""
+        return self._id_values.take(pa.array(np.asarray(rows, dtype=np.int64))).to_pylist()
 
     # --- per-record quantities over the validity range -----------------------------------
     @cached_property
@@ -445,6 +513,20 @@ class AuditContext:
             "y": y_cross,
             "slope_diff": slope_diff,
         }
+
+    @cached_property
+    def melting_slopes(self) -> dict[str, np.ndarray]:
+        """Both curves of every pair, ln P (``ys``, ``yl``) and d ln P/dT (``s1``, ``l1``),
+        at ``at``: the reference melting point, else the crossing (1 K where there is
+        neither; the user masks those).
+        Shared by ``melting-point-mismatch`` and ``fusion-enthalpy-mismatch``.
+        """
+        pr = self.pairs
+        at = np.where(np.isfinite(pr["tm"]), pr["tm"], pr["T"])
+        at = np.where(np.isfinite(at), at, 1.0)
+        ys, s1, _ = evaluate_rows(self.curves, pr["s"], at, 1)
+        yl, l1, _ = evaluate_rows(self.curves, pr["l"], at, 1)
+        return {"at": at, "ys": ys, "s1": s1, "yl": yl, "l1": l1}
 
     def pair_finding(
         self, check: str, k: int, message: str, evidence: dict, severity: Severity | None = None
@@ -835,6 +917,26 @@ def _scan_crossings(
 def ln_p_rows(curves: Curves, temperature: np.ndarray) -> np.ndarray:
     """Ln P of curve i at the temperatures of row i of ``temperature`` (shape (n, m))."""
     return evaluate(curves, temperature, order=0)[0]
+
+
+def _evidence_rows(evidence: dict, n: int) -> list[dict]:
+    """``n`` evidence dicts from columns (see :meth:`AuditContext.findings`)."""
+    if not evidence:
+        return [{} for _ in range(n)]
+    columns = []
+    for value in evidence.values():
+        if isinstance(value, np.ndarray):
+            col = value.tolist()
+            if value.dtype.kind == "f":
+                for i in np.flatnonzero(~np.isfinite(value)).tolist():
+                    col[i] = None
+        elif isinstance(value, list):
+            col = value
+        else:
+            col = itertools.repeat(_clean({"v": value})["v"], n)
+        columns.append(col)
+    keys = list(evidence)
+    return [dict(zip(keys, vals, strict=True)) for vals in zip(*columns, strict=True)]
 
 
 def _clean(evidence: dict) -> dict:

@@ -81,19 +81,23 @@ def no_crossing(ctx: AuditContext):
         evaluate_rows(ctx.curves, pr["s"][rows], at, 0)[0]
         - evaluate_rows(ctx.curves, pr["l"][rows], at, 0)[0]
     )
-    for k, a, d in zip(rows.tolist(), at.tolist(), diff.tolist(), strict=True):
-        yield ctx.pair_finding(
-            "no-crossing",
-            k,
-            f"the solid and liquid curves do not cross between {kelvin(a / (1 + w))} and "
-            f"{kelvin(a * (1 + w))}; at {kelvin(a)} they differ by {ln_ratio(d)}.",
-            {
-                "window_min_K": a / (1 + w),
-                "window_max_K": a * (1 + w),
-                "anchor_K": a,
-                "difference_lnP_at_anchor": d,
-            },
-        )
+    lo, hi = at / (1 + w), at * (1 + w)
+    messages = [
+        f"the solid and liquid curves do not cross between {kelvin(a / (1 + w))} and "
+        f"{kelvin(a * (1 + w))}; at {kelvin(a)} they differ by {ln_ratio(d)}."
+        for a, d in zip(at.tolist(), diff.tolist(), strict=True)
+    ]
+    yield from ctx.pair_findings(
+        "no-crossing",
+        rows,
+        messages,
+        {
+            "window_min_K": lo,
+            "window_max_K": hi,
+            "anchor_K": at,
+            "difference_lnP_at_anchor": diff,
+        },
+    )
 
 
 @check(
@@ -144,37 +148,38 @@ def crossing_orientation(ctx: AuditContext):
     above = pr["checkable"] & (ctx.curves.t_min[pr["s"]] >= ctx.curves.t_max[pr["l"]])
     wrong = _crossed(ctx) & ~(pr["slope_diff"] > 0)
     sel = np.flatnonzero(wrong | above)
-    for k, t, slope, is_wrong, is_above in zip(
-        sel.tolist(),
-        pr["T"][sel].tolist(),
-        pr["slope_diff"][sel].tolist(),
-        wrong[sel].tolist(),
-        above[sel].tolist(),
-        strict=True,
-    ):
-        hfus = R * t * t * slope
-        if is_wrong:
-            msg = (
-                f"at the crossing ({kelvin(t)}) the solid curve is the flatter one, implying "
-                f"an enthalpy of fusion of {kj(hfus)} (must be positive): the solid and "
-                "liquid labels look swapped."
-            )
-        else:
-            msg = (
-                f"the solid's range ({kelvin(ctx.curves.t_min[pr['s'][k]])}..) lies above "
-                f"the liquid's (..{kelvin(ctx.curves.t_max[pr['l'][k]])}): the phase labels "
-                "look swapped."
-            )
-        yield ctx.pair_finding(
-            "crossing-orientation",
-            k,
-            msg,
-            {
-                "crossing_K": t,
-                "implied_fusion_enthalpy_J_per_mol": hfus,
-                "solid_range_above_liquid": is_above,
-            },
+    t = pr["T"][sel]
+    hfus = R * t * t * pr["slope_diff"][sel]
+    messages = [
+        (
+            f"at the crossing ({kelvin(tk)}) the solid curve is the flatter one, implying "
+            f"an enthalpy of fusion of {kj(hk)} (must be positive): the solid and "
+            "liquid labels look swapped."
         )
+        if is_wrong
+        else (
+            f"the solid's range ({kelvin(s_lo)}..) lies above the liquid's "
+            f"(..{kelvin(l_hi)}): the phase labels look swapped."
+        )
+        for tk, hk, is_wrong, s_lo, l_hi in zip(
+            t.tolist(),
+            hfus.tolist(),
+            wrong[sel].tolist(),
+            ctx.curves.t_min[pr["s"][sel]].tolist(),
+            ctx.curves.t_max[pr["l"][sel]].tolist(),
+            strict=True,
+        )
+    ]
+    yield from ctx.pair_findings(
+        "crossing-orientation",
+        sel,
+        messages,
+        {
+            "crossing_K": t,
+            "implied_fusion_enthalpy_J_per_mol": hfus,
+            "solid_range_above_liquid": above[sel],
+        },
+    )
 
 
 @check(
@@ -214,47 +219,40 @@ def crossing_outside_range(ctx: AuditContext):
         worst = np.fmax(over_s, over_l)
         edge = np.where(over_s >= over_l, np.clip(t, s_lo, s_hi), np.clip(t, l_lo, l_hi))
     edge = np.where(np.isfinite(edge), edge, pr["anchor"])
-    d = (
-        evaluate_rows(ctx.curves, pr["s"], edge, 0)[0]
-        - evaluate_rows(ctx.curves, pr["l"], edge, 0)[0]
+    with np.errstate(invalid="ignore"):
+        far = np.flatnonzero(_crossed(ctx) & (worst > lim))
+    d = np.full(t.size, np.nan)  # the curves are compared only where the crossing is far
+    d[far] = (
+        evaluate_rows(ctx.curves, pr["s"][far], edge[far], 0)[0]
+        - evaluate_rows(ctx.curves, pr["l"][far], edge[far], 0)[0]
     )
     with np.errstate(invalid="ignore"):
         bad = _crossed(ctx) & (worst > lim) & (np.abs(d) > tol)
     sel = np.flatnonzero(bad)
-    solid_side = (over_s >= over_l)[sel].tolist()
-    for k, tk, wk, ek, dk, on_solid in zip(
-        sel.tolist(),
-        t[sel].tolist(),
-        worst[sel].tolist(),
-        edge[sel].tolist(),
-        d[sel].tolist(),
-        solid_side,
-        strict=True,
-    ):
-        which = "solid" if on_solid else "liquid"
-        yield ctx.pair_finding(
-            "crossing-outside-range",
-            k,
-            f"the curves cross at {kelvin(tk)}, {wk * 100:.1f} % beyond the {which} "
-            f"record's range (limit {lim * 100:g} %), and where that range ends "
-            f"({kelvin(ek)}) they differ by {ln_ratio(dk)}: the triple point rests on an "
-            "extrapolation.",
-            {
-                "crossing_K": tk,
-                "extrapolation_fraction": wk,
-                "record": which,
-                "limit": lim,
-                "range_end_K": ek,
-                "difference_lnP_at_range_end": dk,
-            },
+    which = ["solid" if on_solid else "liquid" for on_solid in (over_s >= over_l)[sel].tolist()]
+    t, worst, edge, d = t[sel], worst[sel], edge[sel], d[sel]
+    messages = [
+        f"the curves cross at {kelvin(tk)}, {wk * 100:.1f} % beyond the {wh} "
+        f"record's range (limit {lim * 100:g} %), and where that range ends "
+        f"({kelvin(ek)}) they differ by {ln_ratio(dk)}: the triple point rests on an "
+        "extrapolation."
+        for tk, wk, ek, dk, wh in zip(
+            t.tolist(), worst.tolist(), edge.tolist(), d.tolist(), which, strict=True
         )
-
-
-def _fusion_enthalpy(ctx: AuditContext, at: np.ndarray) -> np.ndarray:
-    pr = ctx.pairs
-    _, s1, _ = evaluate_rows(ctx.curves, pr["s"], at, 1)
-    _, l1, _ = evaluate_rows(ctx.curves, pr["l"], at, 1)
-    return R * at * at * s1, R * at * at * l1
+    ]
+    yield from ctx.pair_findings(
+        "crossing-outside-range",
+        sel,
+        messages,
+        {
+            "crossing_K": t,
+            "extrapolation_fraction": worst,
+            "record": which,
+            "limit": lim,
+            "range_end_K": edge,
+            "difference_lnP_at_range_end": d,
+        },
+    )
 
 
 @check(
@@ -279,8 +277,8 @@ def melting_point_mismatch(ctx: AuditContext):
     rows = np.flatnonzero(pr["checkable"] & np.isfinite(tm))
     if rows.size == 0:
         return
-    ys, s1, _ = evaluate_rows(ctx.curves, pr["s"][rows], tm[rows], 1)
-    yl, l1, _ = evaluate_rows(ctx.curves, pr["l"][rows], tm[rows], 1)
+    at = ctx.melting_slopes  # at the reference melting point where there is one
+    ys, s1, yl, l1 = (at[key][rows] for key in ("ys", "s1", "yl", "l1"))
     d = ys - yl
     bad = ~(np.abs(d) <= tol)
     hfus_ref = ctx.reference("enthalpy_of_fusion", pr["s"][rows])
@@ -289,34 +287,33 @@ def melting_point_mismatch(ctx: AuditContext):
     k_tol = tol * R * tm[rows] ** 2 / hfus
     sel = np.flatnonzero(bad)
     ks = rows[sel]
-    for k, t, tmk, dj, ktol in zip(
-        ks.tolist(),
-        pr["T"][ks].tolist(),
-        tm[ks].tolist(),
-        d[sel].tolist(),
-        k_tol[sel].tolist(),
-        strict=True,
-    ):
-        cross = (
-            f"they cross at {kelvin(t)}, {t - tmk:+.4g} K from it"
-            if math.isfinite(t)
+    t, tm, d, k_tol = pr["T"][ks], tm[ks], d[sel], k_tol[sel]
+    messages = [
+        f"at the reference melting point {kelvin(tmk)} the solid and liquid curves "
+        f"differ by {ln_ratio(dj)}, beyond the tolerance of {tol:g}; "
+        + (
+            f"they cross at {kelvin(tk)}, {tk - tmk:+.4g} K from it"
+            if math.isfinite(tk)
             else "they do not cross nearby"
         )
-        yield ctx.pair_finding(
-            "melting-point-mismatch",
-            k,
-            f"at the reference melting point {kelvin(tmk)} the solid and liquid curves "
-            f"differ by {ln_ratio(dj)}, beyond the tolerance of {tol:g}; {cross} (the "
-            f"tolerance in kelvin is about +/-{ktol:.3g} K).",
-            {
-                "melting_point_K": tmk,
-                "difference_lnP": dj,
-                "tolerance_lnP": tol,
-                "crossing_K": t,
-                "crossing_minus_melting_K": t - tmk,
-                "tolerance_K": ktol,
-            },
+        + f" (the tolerance in kelvin is about +/-{ktol:.3g} K)."
+        for tk, tmk, dj, ktol in zip(
+            t.tolist(), tm.tolist(), d.tolist(), k_tol.tolist(), strict=True
         )
+    ]
+    yield from ctx.pair_findings(
+        "melting-point-mismatch",
+        ks,
+        messages,
+        {
+            "melting_point_K": tm,
+            "difference_lnP": d,
+            "tolerance_lnP": tol,
+            "crossing_K": t,
+            "crossing_minus_melting_K": t - tm,
+            "tolerance_K": k_tol,
+        },
+    )
 
 
 @check(
@@ -376,38 +373,43 @@ def fusion_enthalpy_mismatch(ctx: AuditContext):
     rows = np.flatnonzero(pr["checkable"] & np.isfinite(ref) & np.isfinite(at))
     if rows.size == 0:
         return
-    hs, hl = _fusion_enthalpy(ctx, np.where(np.isfinite(at), at, 1.0))
+    ms = ctx.melting_slopes  # at the reference melting point, else at the crossing
+    a = ms["at"]
+    hs, hl = R * a * a * ms["s1"], R * a * a * ms["l1"]
     with np.errstate(invalid="ignore", divide="ignore"):
         residual = (hs - hl - ref) / hs
         # a non-positive slope is slope-not-positive's finding
         bad = (hs[rows] > 0) & (hl[rows] > 0) & (np.abs(residual[rows]) > tol)
     ks = rows[bad]
-    for k, atk, hsk, hlk, refk, rel in zip(
-        ks.tolist(),
-        at[ks].tolist(),
-        hs[ks].tolist(),
-        hl[ks].tolist(),
-        ref[ks].tolist(),
-        residual[ks].tolist(),
-        strict=True,
-    ):
-        implied = hsk - hlk
-        yield ctx.pair_finding(
-            "fusion-enthalpy-mismatch",
-            k,
-            f"at {kelvin(atk)} the curves imply dH_sub - dH_vap = {kj(implied)} against "
-            f"the reference dH_fus {kj(refk)}: a residual of {rel * 100:+.1f} % of "
-            f"dH_sub ({kj(hsk)}), beyond {tol * 100:g} %.",
-            {
-                "at_K": atk,
-                "implied_fusion_J_per_mol": implied,
-                "reference_fusion_J_per_mol": refk,
-                "sublimation_J_per_mol": hsk,
-                "vaporization_J_per_mol": hlk,
-                "residual_of_sublimation": rel,
-                "tolerance": tol,
-            },
+    at, hs, hl, ref, residual = at[ks], hs[ks], hl[ks], ref[ks], residual[ks]
+    implied = hs - hl
+    messages = [
+        f"at {kelvin(atk)} the curves imply dH_sub - dH_vap = {kj(imp)} against "
+        f"the reference dH_fus {kj(refk)}: a residual of {rel * 100:+.1f} % of "
+        f"dH_sub ({kj(hsk)}), beyond {tol * 100:g} %."
+        for atk, imp, refk, rel, hsk in zip(
+            at.tolist(),
+            implied.tolist(),
+            ref.tolist(),
+            residual.tolist(),
+            hs.tolist(),
+            strict=True,
         )
+    ]
+    yield from ctx.pair_findings(
+        "fusion-enthalpy-mismatch",
+        ks,
+        messages,
+        {
+            "at_K": at,
+            "implied_fusion_J_per_mol": implied,
+            "reference_fusion_J_per_mol": ref,
+            "sublimation_J_per_mol": hs,
+            "vaporization_J_per_mol": hl,
+            "residual_of_sublimation": residual,
+            "tolerance": tol,
+        },
+    )
 
 
 @check(
@@ -433,14 +435,18 @@ def fusion_entropy_implausible(ctx: AuditContext):
     with np.errstate(invalid="ignore"):
         bad = ok & ~((ds >= th["min"]) & (ds <= th["max"]))
     sel = np.flatnonzero(bad)
-    for k, t, dsk in zip(sel.tolist(), pr["T"][sel].tolist(), ds[sel].tolist(), strict=True):
-        yield ctx.pair_finding(
-            "fusion-entropy-implausible",
-            k,
-            f"the implied entropy of fusion at the crossing ({kelvin(t)}) is "
-            f"{jk(dsk)}, outside the usual {th['min']:g}..{th['max']:g} J/(mol K).",
-            {"fusion_entropy_J_per_mol_K": dsk, "crossing_K": t},
-        )
+    t, ds = pr["T"][sel], ds[sel]
+    messages = [
+        f"the implied entropy of fusion at the crossing ({kelvin(tk)}) is "
+        f"{jk(dsk)}, outside the usual {th['min']:g}..{th['max']:g} J/(mol K)."
+        for tk, dsk in zip(t.tolist(), ds.tolist(), strict=True)
+    ]
+    yield from ctx.pair_findings(
+        "fusion-entropy-implausible",
+        sel,
+        messages,
+        {"fusion_entropy_J_per_mol_K": ds, "crossing_K": t},
+    )
 
 
 @check(

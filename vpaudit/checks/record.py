@@ -91,15 +91,18 @@ def slope_not_positive(ctx: AuditContext):
     with np.errstate(invalid="ignore"):
         bad = ctx.evaluable & ~(ex["h_min"] > 0)
     sel = np.flatnonzero(bad)
-    h_min, h_min_t = ex["h_min"][sel].tolist(), ex["h_min_T"][sel].tolist()
-    for i, h, t in zip(sel.tolist(), h_min, h_min_t, strict=True):
-        yield ctx.finding(
-            "slope-not-positive",
-            i,
-            f"the implied enthalpy falls to {kj(h)} at {kelvin(t)}: vapour pressure must rise "
-            "with temperature; a sign of the 1/T coefficient is the usual cause.",
-            {"enthalpy_min_J_per_mol": h, "at_K": t},
-        )
+    h_min, h_min_t = ex["h_min"][sel], ex["h_min_T"][sel]
+    messages = [
+        f"the implied enthalpy falls to {kj(h)} at {kelvin(t)}: vapour pressure must rise "
+        "with temperature; a sign of the 1/T coefficient is the usual cause."
+        for h, t in zip(h_min.tolist(), h_min_t.tolist(), strict=True)
+    ]
+    yield from ctx.findings(
+        "slope-not-positive",
+        sel,
+        messages,
+        {"enthalpy_min_J_per_mol": h_min, "at_K": h_min_t},
+    )
 
 
 @check(
@@ -146,32 +149,35 @@ def enthalpy_implausible(ctx: AuditContext):
         "factor 2.3), or a wrong pressure unit (dS shifted by R ln of the factor)."
     )
     sel = np.flatnonzero(bad)
-    for i, is_liquid, dsk, tk, hk, lok, hik, at_tb in zip(
-        rows[sel].tolist(),
-        liquid[sel].tolist(),
-        ds[sel].tolist(),
-        t[sel].tolist(),
-        (R * t[sel] ** 2 * y1[sel]).tolist(),
-        lo[sel].tolist(),
-        hi[sel].tolist(),
-        use_tb[sel].tolist(),
-        strict=True,
-    ):
-        what = "vaporization" if is_liquid else "sublimation"
-        yield ctx.finding(
-            "enthalpy-implausible",
-            i,
-            f"the implied entropy of {what} is {jk(dsk)} at {kelvin(tk)} (dH = "
-            f"{kj(hk)}), outside the plausible {lok:g}..{hik:g} J/(mol K).{hint}",
-            {
-                "entropy_J_per_mol_K": dsk,
-                "at_K": tk,
-                "enthalpy_J_per_mol": hk,
-                "band_min": lok,
-                "band_max": hik,
-                "at_boiling_point": at_tb,
-            },
+    ds, t, lo, hi = ds[sel], t[sel], lo[sel], hi[sel]
+    h = R * t**2 * y1[sel]
+    messages = [
+        f"the implied entropy of {'vaporization' if is_liquid else 'sublimation'} is "
+        f"{jk(dsk)} at {kelvin(tk)} (dH = {kj(hk)}), outside the plausible "
+        f"{lok:g}..{hik:g} J/(mol K).{hint}"
+        for is_liquid, dsk, tk, hk, lok, hik in zip(
+            liquid[sel].tolist(),
+            ds.tolist(),
+            t.tolist(),
+            h.tolist(),
+            lo.tolist(),
+            hi.tolist(),
+            strict=True,
         )
+    ]
+    yield from ctx.findings(
+        "enthalpy-implausible",
+        rows[sel],
+        messages,
+        {
+            "entropy_J_per_mol_K": ds,
+            "at_K": t,
+            "enthalpy_J_per_mol": h,
+            "band_min": lo,
+            "band_max": hi,
+            "at_boiling_point": use_tb[sel],
+        },
+    )
 
 
 @check(

@@ -127,3 +127,42 @@ def test_markdown_shows_a_suggestion_when_there_is_one():
     )
     md = RENDERERS["markdown"](result)
     assert md.count("**Suggestion:** entered as log10") == 1
+
+
+def _console(*args, cwd=None):
+    """The ``vpaudit`` console command (cli.run) in its own process."""
+    import os
+    import subprocess
+    import sys
+
+    code = "import sys; from vpaudit.cli import run; sys.argv[0] = 'vpaudit'; run()"
+    env = {k: v for k, v in os.environ.items() if k != "PYTHONUNBUFFERED"}  # buffered, as usual
+    return subprocess.run(
+        [sys.executable, "-c", code, *map(str, args)],
+        capture_output=True,
+        text=True,
+        cwd=cwd,
+        env=env,
+    )
+
+
+def test_console_command_writes_everything_before_its_quick_exit(sample_db, clean_sample, tmp_path):
+    # The console command skips the interpreter's teardown after an audit without a store:
+    # the report on stdout and in a file must be complete, and the exit code the same as
+    # in-process.
+    expected = run("audit", sample_db, "--format", "json")
+    piped = _console("audit", sample_db, "--format", "json")
+    assert piped.returncode == expected.exit_code == 1
+    assert json.loads(piped.stdout) == json.loads(expected.output)
+    out = tmp_path / "report.json"
+    written = _console("audit", sample_db, "--format", "json", "--output", out)
+    assert written.returncode == 1 and json.loads(out.read_text()) == json.loads(expected.output)
+    text = _console("audit", sample_db)
+    assert text.stdout == run("audit", sample_db).output  # to its last line
+    # with a store, and on errors, the usual exit
+    db = tmp_path / "run.duckdb"
+    stored = _console("audit", clean_sample, "--format", "json", "--db", db)
+    assert stored.returncode in (0, 1) and db.exists()
+    assert run("query", db, "SELECT count(*) AS n FROM records").exit_code == 0
+    missing = _console("audit", tmp_path / "nowhere")
+    assert missing.returncode == 2 and "nowhere" in missing.stderr

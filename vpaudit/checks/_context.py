@@ -44,6 +44,36 @@ _WAGNER_GRID = 64
 CHUNK = 32768
 
 
+#: Records from which the context's own preparation uses a second thread.
+_THREAD_RECORDS = 200_000
+
+
+def _in_thread(func, *args):
+    """Start ``func(*args)`` on a thread; returns a function that waits and returns its
+    result (or raises its exception).
+    """
+    import threading
+
+    box: dict = {}
+
+    def target() -> None:
+        try:
+            box["value"] = func(*args)
+        except BaseException as exc:  # noqa: BLE001  (raised again by the waiter)
+            box["error"] = exc
+
+    thread = threading.Thread(target=target, name="vpaudit-codes", daemon=True)
+    thread.start()
+
+    def wait():
+        thread.join()
+        if "error" in box:
+            raise box["error"]
+        return box["value"]
+
+    return wait
+
+
 class AuditContext:
     """Arrays of one table, prepared for the checks.
 
@@ -64,6 +94,14 @@ class AuditContext:
         self.policy = policy
         rec = table.records
         self.n = len(rec)
+        # Integer codes of the substances of records, references and points together: every
+        # join below is on these, with numpy. The hashing of the names (a third of a second
+        # for 3 x 10^6 of them) releases the GIL: a large table does it on a second thread
+        # while this one builds the curves.
+        parts = [rec["substance"], table.references["substance"], table.points["substance"]]
+        sizes = [len(p) for p in parts]
+        names_of = pd.concat([p.astype(TEXT) for p in parts], ignore_index=True)
+        coding = _in_thread(text_codes, names_of) if self.n >= _THREAD_RECORDS else None
         self._ids = rec["id"]
         self.line = rec["line"].to_numpy()
         self.file_code, self._files = codes(rec["file"])
@@ -72,11 +110,7 @@ class AuditContext:
         self.solid = eq(rec["phase"], "solid")
         self.antoine = eq(rec["form"], "antoine")
         self.curves: Curves = curves_from_frame(rec)
-        # Integer codes of the substances of records, references and points together: every
-        # join below is on these, with numpy.
-        parts = [rec["substance"], table.references["substance"], table.points["substance"]]
-        sizes = [len(p) for p in parts]
-        all_codes, names = text_codes(pd.concat([p.astype(TEXT) for p in parts], ignore_index=True))
+        all_codes, names = coding() if coding is not None else text_codes(names_of)
         self.codes = all_codes[: sizes[0]]
         self.ref_codes = all_codes[sizes[0] : sizes[0] + sizes[1]]
         self.point_codes = all_codes[sizes[0] + sizes[1] :]

@@ -276,3 +276,20 @@ def test_streamed_large_file_path_reads_exactly_as_the_whole_file_path(tmp_path,
         import pandas as pd
 
         pd.testing.assert_frame_equal(streamed, whole)
+
+
+def test_absent_optional_columns_read_as_written_empty_or_default(tmp_path):
+    # An absent column is built without a list of cells (its default, or empty,
+    # throughout): the frame must be the one a file writing that column out gives.
+    full_header = HEADER + ",temperature_unit,modification,note,entered_by"
+    rows = [ROW.format(A=str(20 + i)).replace("r1", f"r{i}") for i in range(5)]
+    short = read_file(write(tmp_path / "a.csv", HEADER + "\n" + "\n".join(rows) + "\n"))
+    spelled = read_file(
+        write(tmp_path / "b.csv", full_header + "\n" + "\n".join(r + ",K,,," for r in rows) + "\n")
+    )
+    for col in ("temperature_unit", "modification", "note", "entered_by"):
+        a, b = short.records[col], spelled.records[col]
+        assert a.dtype == b.dtype, col
+        assert a.isna().tolist() == b.isna().tolist(), col
+        assert a.dropna().astype(str).tolist() == b.dropna().astype(str).tolist(), col
+    assert short.records["temperature_unit"].astype(str).tolist() == ["K"] * 5

@@ -144,8 +144,10 @@ def _text_column(raw: RawFrame, name: str, default: str | None = None) -> pa.Arr
     """
     values = raw.cells.get(name)
     n = len(raw)
-    if values is None:
-        return pa.array([default] * n if default is not None else [None] * n, type=pa.string())
+    if values is None:  # an absent column: one value throughout, without a list of cells
+        if default is None:
+            return pa.nulls(n, pa.string())
+        return pa.repeat(pa.scalar(default, pa.string()), n)
     arr = (
         values
         if isinstance(values, pa.Array | pa.ChunkedArray)
@@ -255,6 +257,11 @@ def _column(raw: RawFrame, col: _Col, normalize: bool) -> tuple[dict[str, object
             for i in np.flatnonzero(missing):
                 out.error(raw, int(i), col.name, f"{col.name} is empty")
         return {col.name: values, col.name + "_text": texts}, out
+    if not present and (col.kind == "choice" or col.encode):
+        # an absent column is its default (or empty) throughout: its codes are known
+        cats = [col.default] if col.default is not None else []
+        fill = 0 if cats else -1
+        return {col.name: pd.Categorical.from_codes(np.full(n, fill, dtype=np.int8), cats)}, out
     arr = _text_column(raw, col.name, col.default)
     none = _np(pc.is_null(arr))
     if col.required and present:

@@ -29,3 +29,53 @@ def test_an_error_on_the_second_thread_reaches_the_caller():
     with pytest.raises(ValueError, match="no codes"):
         wait()
     assert context._in_thread(lambda a, b: a + b, 2, 3)() == 5
+
+
+def _checks_of(table, monkeypatch, beside: bool):
+    import importlib
+
+    from vpaudit.checks._registry import ordered
+
+    audit_module = importlib.import_module("vpaudit.audit")  # the package exports audit()
+
+    monkeypatch.setattr(audit_module, "PARALLEL_RECORDS", 0 if beside else 10**12)
+    seen = []
+    ctx = context.AuditContext(table, Policy())
+    names = [c.name for c in ordered()]
+    found = audit_module.run_checks(ctx, names, lambda done, total, name: seen.append(name))
+    return found, seen, names
+
+
+def test_pairs_made_beside_the_other_checks_give_the_same_findings_in_order(monkeypatch, sample_db):
+    # Large tables compute the pairs on a second thread while the other checks run; the
+    # findings, and their order, must be those of the one-thread run, and progress must
+    # still be told of every check. The invented demo table draws findings from record,
+    # pair and source checks alike.
+    from vpaudit.readers import load_table
+
+    table = load_table(sample_db)
+    one, seen_one, names = _checks_of(table, monkeypatch, beside=False)
+    two, seen_two, _ = _checks_of(table, monkeypatch, beside=True)
+    checks = [f.check for f in one]
+    assert "no-crossing" in checks and "missing-source" in checks
+    assert two == one
+    assert seen_one == names and sorted(seen_two) == sorted(names)
+    assert seen_two != seen_one  # reordered: the pair checks last
+
+
+def test_an_error_while_making_the_pairs_becomes_each_pair_checks_internal_error(monkeypatch):
+    from refdata import alcock_table
+
+    from vpaudit.checks._registry import REGISTRY
+
+    def broken(self):
+        raise RuntimeError("pairs broke")
+
+    monkeypatch.setattr(
+        context.AuditContext, "pairs", property(broken)
+    )  # every access fails, on either thread
+    found, _, names = _checks_of(alcock_table(), monkeypatch, beside=True)
+    internal = [f for f in found if f.check == "internal-error"]
+    pair_checks = [n for n in names if REGISTRY[n].scope.value == "pair"]
+    assert sorted(f.evidence["check"] for f in internal) == sorted(pair_checks)
+    assert all("pairs broke" in f.message for f in internal)

@@ -132,72 +132,85 @@ def audit_table(
 
 def run_checks(ctx: AuditContext, names: list[str], progress=None) -> list[Finding]:
     """Run the checks ``names`` over one prepared context; a check that raises becomes an
-    ``internal-error`` finding and the others still run.
+    ``internal-error`` finding and the others still run. The findings come in the order of
+    ``names``.
+
+    On a large table the solid/liquid pairs are computed on a second thread while this one
+    runs the checks that do not need them (:func:`_pairs_beside`).
     """
     policy = ctx.policy
-    findings: list[Finding] = []
-    _prefetch(ctx, [n for n in names if policy.severity(n) is not None])
-    for done, name in enumerate(names):
-        if progress is not None:
-            progress(done, len(names), name)
-        if policy.severity(name) is None:
-            continue
-        spec = REGISTRY[name]
-        try:
-            # overflow and NaN are handled explicitly by the checks (a non-finite value is a
-            # finding, never a crash), so numpy's floating-point warnings are silenced here
-            with np.errstate(all="ignore"):
-                findings.extend(spec.func(ctx))
-        except Exception as exc:  # one broken check never hides the others
-            findings.append(
-                Finding(
-                    check="internal-error",
-                    severity=Severity.error,
-                    substance="",
-                    records=(),
-                    message=f"check {name!r} failed: {type(exc).__name__}: {exc}",
-                    evidence={"check": name, "traceback": traceback.format_exc(limit=3)},
-                )
+    active = [n for n in names if policy.severity(n) is not None]
+    waiting = _pairs_beside(ctx, active)
+    order = names
+    if waiting is not None:  # the checks without pairs first, while the pairs are made
+        order = [n for n in names if REGISTRY[n].scope.value != "pair"]
+        order += [n for n in names if REGISTRY[n].scope.value == "pair"]
+    found: dict[str, list[Finding]] = {}
+    try:
+        for done, name in enumerate(order):
+            if progress is not None:
+                progress(done, len(names), name)
+            if policy.severity(name) is None:
+                continue
+            if waiting is not None and REGISTRY[name].scope.value == "pair":
+                waiting()
+                waiting = None
+            found[name] = _run_one(ctx, name)
+    finally:
+        if waiting is not None:
+            waiting()
+    return [f for name in active for f in found[name]]
+
+
+def _run_one(ctx: AuditContext, name: str) -> list[Finding]:
+    """The findings of one check, or its ``internal-error`` finding."""
+    try:
+        # overflow and NaN are handled explicitly by the checks (a non-finite value is a
+        # finding, never a crash), so numpy's floating-point warnings are silenced here
+        with np.errstate(all="ignore"):
+            return list(REGISTRY[name].func(ctx))
+    except Exception as exc:  # one broken check never hides the others
+        return [
+            Finding(
+                check="internal-error",
+                severity=Severity.error,
+                substance="",
+                records=(),
+                message=f"check {name!r} failed: {type(exc).__name__}: {exc}",
+                evidence={"check": name, "traceback": traceback.format_exc(limit=3)},
             )
-    return findings
+        ]
 
 
-#: Records from which the shared array computations run on two threads.
+#: Records from which the pairs are computed on a second thread.
 PARALLEL_RECORDS = 200_000
 
 
-def _prefetch(ctx: AuditContext, names: list[str]) -> None:
-    """Compute the costly shared pieces on two threads for large tables: the range extrema
-    (record checks) and the equation hashes (duplicate-record) on one, the solid/liquid
-    pairs with their crossings and both curves at the melting point (pair checks) on the
-    other.
+def _pairs_beside(ctx: AuditContext, names: list[str]):
+    """Start computing the solid/liquid pairs, their crossings and both curves at the
+    melting point on a second thread, and return a function that waits for them (None
+    when nothing was started: a small table, one core, ``--jobs 1``, or no pair check or
+    no other check to run meanwhile).
 
-    All are numpy work on large arrays, which releases the GIL, so a second core that is
-    free takes half of it off the critical path (0.8 s of 1.9 s at 10^6 substances,
-    measured by ``benchmarks/audit_scale.py``). Running the record checks themselves beside
-    the pairs was tried and gained nothing: their Python holds the GIL that the numpy work
-    needs between its operations. An error here is left for the check that needs the piece
-    to meet and report, so it surfaces as that check's ``internal-error``.
+    That work is numpy over large arrays, which releases the GIL, so a second core that
+    is free does it while this thread computes the range extrema and the equation hashes
+    and runs every check that needs no pair. At 10^6 substances that hides about a second
+    of the pairs' 1.1-1.4 s (measured by ``benchmarks/audit_scale.py``). An error there is
+    left for the first pair check to meet and report as its ``internal-error``.
     """
     from .readers import table as _reading
 
     if ctx.n < PARALLEL_RECORDS or (_reading.JOBS or os.cpu_count() or 1) < 2:
-        return  # small tables, one core, or --jobs 1
-    scopes = {REGISTRY[n].scope.value for n in names}
-    first, second = [], []
-    if "record" in scopes:
-        first.append("range_extrema")
-    if "duplicate-record" in names:
-        first.append("equation_hashes")
-    if "pair" in scopes:
-        second.append("pairs")
-        if {"melting-point-mismatch", "fusion-enthalpy-mismatch"} & set(names):
-            second.append("melting_slopes")
-    if not first or not second:
-        return
-    from concurrent.futures import ThreadPoolExecutor
+        return None  # small tables, one core, or --jobs 1
+    scopes = [REGISTRY[n].scope.value for n in names]
+    if "pair" not in scopes or all(s == "pair" for s in scopes):
+        return None
+    pieces = ["pairs"]
+    if {"melting-point-mismatch", "fusion-enthalpy-mismatch"} & set(names):
+        pieces.append("melting_slopes")
+    import threading
 
-    def compute(pieces: list[str]) -> None:
+    def compute() -> None:
         for piece in pieces:
             try:
                 with np.errstate(all="ignore"):
@@ -205,8 +218,9 @@ def _prefetch(ctx: AuditContext, names: list[str]) -> None:
             except Exception:  # noqa: BLE001  (reported by the check that needs it)
                 return
 
-    with ThreadPoolExecutor(max_workers=2) as pool:
-        list(pool.map(compute, (first, second)))
+    thread = threading.Thread(target=compute, name="vpaudit-pairs", daemon=True)
+    thread.start()
+    return thread.join
 
 
 def restrict(table: Table, names: set[str]) -> Table:

@@ -38,7 +38,10 @@ def _checks_of(table, monkeypatch, beside: bool):
 
     audit_module = importlib.import_module("vpaudit.audit")  # the package exports audit()
 
+    from vpaudit.readers import table as reading
+
     monkeypatch.setattr(audit_module, "PARALLEL_RECORDS", 0 if beside else 10**12)
+    monkeypatch.setattr(reading, "JOBS", 2)  # two threads whatever the machine or --jobs
     seen = []
     ctx = context.AuditContext(table, Policy())
     names = [c.name for c in ordered()]

@@ -210,6 +210,11 @@ def _pairs_beside(ctx: AuditContext, names: list[str]):
         pieces.append("melting_slopes")
     import threading
 
+    try:  # the references per substance serve both threads: made once, before they part
+        ctx._refs_by_code  # noqa: B018
+    except Exception:  # noqa: BLE001  (reported by the checks that need them)
+        pass
+
     def compute() -> None:
         for piece in pieces:
             try:

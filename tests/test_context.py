@@ -82,3 +82,62 @@ def test_an_error_while_making_the_pairs_becomes_each_pair_checks_internal_error
     pair_checks = [n for n in names if REGISTRY[n].scope.value == "pair"]
     assert sorted(f.evidence["check"] for f in internal) == sorted(pair_checks)
     assert all("pairs broke" in f.message for f in internal)
+
+
+def test_shared_blocks_are_each_done_once_by_whichever_thread_takes_them():
+    import threading
+
+    n, size = 1000, 7
+    done = np.zeros(n, dtype=int)
+    by = {}
+    others = threading.Event()
+
+    def work(r):
+        if r.start == 0:  # the thread with the first block waits: another must do the rest
+            assert others.wait(timeout=10)
+        else:
+            others.set()
+        done[r] += 1
+        by[r.start] = threading.current_thread().name
+
+    shared = context.SharedBlocks(n, size, work)
+    other = threading.Thread(target=shared.run, name="other")
+    other.start()
+    shared.run()
+    shared.wait()
+    other.join()
+    assert (done == 1).all()
+    assert set(by.values()) == {"MainThread", "other"}
+
+
+def test_an_error_in_a_shared_block_is_raised_by_wait_after_the_others_are_done():
+    done = []
+
+    def work(r):
+        if r.start == 20:
+            raise ValueError("block 20")
+        done.append(r.start)
+
+    shared = context.SharedBlocks(50, 10, work)
+    shared.run()
+    with pytest.raises(ValueError, match="block 20"):
+        shared.wait()
+    assert sorted(done) == [0, 10, 30, 40]
+
+
+def test_pairs_made_while_another_thread_lends_a_hand_equal_pairs_made_alone(monkeypatch):
+    import threading
+
+    table = alcock_table()
+    alone = context.AuditContext(table, Policy()).pairs
+    monkeypatch.setattr(context, "CHUNK", 2)  # many blocks, so that both threads take some
+    ctx = context.AuditContext(table, Policy())
+    maker = threading.Thread(target=lambda: ctx.pairs)
+    maker.start()
+    for _ in range(200):
+        ctx.lend_a_hand()
+    maker.join()
+    shared = ctx.pairs
+    assert set(shared) == set(alone)
+    for key in alone:
+        assert np.array_equal(shared[key], alone[key], equal_nan=True), key

@@ -153,6 +153,7 @@ def run_checks(ctx: AuditContext, names: list[str], progress=None) -> list[Findi
             if policy.severity(name) is None:
                 continue
             if waiting is not None and REGISTRY[name].scope.value == "pair":
+                ctx.lend_a_hand()  # the rest of the crossing search, on both threads
                 waiting()
                 waiting = None
             found[name] = _run_one(ctx, name)

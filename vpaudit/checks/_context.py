@@ -44,6 +44,50 @@ _WAGNER_GRID = 64
 CHUNK = 32768
 
 
+class SharedBlocks:
+    """Blocks ``[a, a + size)`` of ``range(n)`` that threads take in turn, each calling
+    ``work(slice)`` on the blocks it takes; the blocks write disjoint parts of their
+    outputs, so no two threads touch the same element.
+
+    :meth:`run` takes blocks until none is left; :meth:`wait` returns once every block
+    taken by any thread is done, and raises the first error a block raised.
+    """
+
+    def __init__(self, n: int, size: int, work) -> None:
+        import threading
+
+        self._starts = iter(range(0, n, size))
+        self._n, self._size, self._work = n, size, work
+        self._lock = threading.Condition()
+        self._busy = 0
+        self.error: BaseException | None = None
+
+    def run(self) -> None:
+        """Do blocks until none is left."""
+        while True:
+            with self._lock:
+                a = next(self._starts, None)
+                if a is None:
+                    return
+                self._busy += 1
+            try:
+                self._work(slice(a, min(self._n, a + self._size)))
+            except BaseException as exc:  # noqa: BLE001  (raised again by wait)
+                self.error = self.error or exc
+            finally:
+                with self._lock:
+                    self._busy -= 1
+                    self._lock.notify_all()
+
+    def wait(self) -> None:
+        """Return when every block taken is done; raise the first error of any."""
+        with self._lock:
+            while self._busy:
+                self._lock.wait()
+        if self.error is not None:
+            raise self.error
+
+
 #: Records from which the context's own preparation uses a second thread.
 _THREAD_RECORDS = 200_000
 
@@ -128,6 +172,7 @@ class AuditContext:
             ok[rows[rows >= 0]] = False
         self.evaluable = ok
         self._severities: dict[str, Severity] = {}
+        self._pair_blocks: SharedBlocks | None = None
 
     @cached_property
     def equation_hashes(self) -> np.ndarray:
@@ -524,8 +569,8 @@ class AuditContext:
         count = np.zeros(k, dtype=np.int64)
         significant = np.zeros(k, dtype=np.int64)
         t_cross, y_cross, slope_diff = (np.full(k, np.nan) for _ in range(3))
-        for a in range(0, k, CHUNK):
-            r = slice(a, min(k, a + CHUNK))
+
+        def block(r: slice) -> None:
             count[r], significant[r], t_cross[r], y_cross[r], slope_diff[r] = _crossings(
                 self.curves.take(s[r]),
                 self.curves.take(lq[r]),
@@ -534,6 +579,14 @@ class AuditContext:
                 int(p["grid"]),
                 tol,
             )
+
+        # The blocks are open to another thread while they last (lend_a_hand).
+        work = self._pair_blocks = SharedBlocks(k, CHUNK, block)
+        try:
+            work.run()
+            work.wait()
+        finally:
+            self._pair_blocks = None
         return {
             "s": s,
             "l": lq,
@@ -547,6 +600,14 @@ class AuditContext:
             "y": y_cross,
             "slope_diff": slope_diff,
         }
+
+    def lend_a_hand(self) -> None:
+        """Take blocks of the pairs' crossing search while another thread is making the
+        pairs; return when none is left (at once when none is being made).
+        """
+        work = self._pair_blocks
+        if work is not None:
+            work.run()
 
     @cached_property
     def melting_slopes(self) -> dict[str, np.ndarray]:

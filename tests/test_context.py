@@ -141,3 +141,22 @@ def test_pairs_made_while_another_thread_lends_a_hand_equal_pairs_made_alone(mon
     assert set(shared) == set(alone)
     for key in alone:
         assert np.array_equal(shared[key], alone[key], equal_nan=True), key
+
+
+def test_curves_at_the_melting_point_taken_in_the_pair_blocks_equal_the_engine(monkeypatch):
+    # melting_slopes is filled block by block while the crossings are searched; it must
+    # equal the engine's evaluation of every pair's two curves at the reference melting
+    # point (else the crossing, else 1 K), to the bit, whatever the block size.
+    from vpaudit.equations.engine import evaluate_rows
+
+    monkeypatch.setattr(context, "CHUNK", 5)
+    ctx = context.AuditContext(alcock_table(), Policy())
+    pr, ms = ctx.pairs, ctx.melting_slopes
+    at = np.where(np.isfinite(pr["tm"]), pr["tm"], pr["T"])
+    at = np.where(np.isfinite(at), at, 1.0)
+    ys, s1, _ = evaluate_rows(ctx.curves, pr["s"], at, 1)
+    yl, l1, _ = evaluate_rows(ctx.curves, pr["l"], at, 1)
+    for key, want in (("at", at), ("ys", ys), ("s1", s1), ("yl", yl), ("l1", l1)):
+        assert np.array_equal(ms[key], want, equal_nan=True), key
+    ctx.drop_shared()  # made again, with the pairs
+    assert np.array_equal(ctx.melting_slopes["s1"], s1, equal_nan=True)

@@ -23,7 +23,6 @@ from ..equations.engine import (
     bracketed_root,
     curves_from_frame,
     evaluate,
-    evaluate_rows,
     temperature_at,
 )
 from ..readers.table import Table
@@ -173,6 +172,7 @@ class AuditContext:
         self.evaluable = ok
         self._severities: dict[str, Severity] = {}
         self._pair_blocks: SharedBlocks | None = None
+        self._melting: dict[str, np.ndarray] | None = None
 
     @cached_property
     def equation_hashes(self) -> np.ndarray:
@@ -188,6 +188,7 @@ class AuditContext:
         self.__dict__.pop("range_extrema", None)
         self.__dict__.pop("pairs", None)
         self.__dict__.pop("melting_slopes", None)
+        self._melting = None
 
     def rows_of(self, files, lines) -> np.ndarray:
         """The record row standing at each (file, line) pair, -1 where there is none (for
@@ -570,15 +571,19 @@ class AuditContext:
         significant = np.zeros(k, dtype=np.int64)
         t_cross, y_cross, slope_diff = (np.full(k, np.nan) for _ in range(3))
 
+        # both curves at the reference melting point, else at the crossing (melting_slopes),
+        # taken in the same blocks while their curves are at hand
+        melt = {key: np.empty(k) for key in ("at", "ys", "s1", "yl", "l1")}
+
         def block(r: slice) -> None:
+            cs, cl = self.curves.take(s[r]), self.curves.take(lq[r])
             count[r], significant[r], t_cross[r], y_cross[r], slope_diff[r] = _crossings(
-                self.curves.take(s[r]),
-                self.curves.take(lq[r]),
-                anchor[r],
-                w,
-                int(p["grid"]),
-                tol,
+                cs, cl, anchor[r], w, int(p["grid"]), tol
             )
+            at = np.where(np.isfinite(tm[r]), tm[r], t_cross[r])
+            melt["at"][r] = at = np.where(np.isfinite(at), at, 1.0)
+            melt["ys"][r], melt["s1"][r], _ = evaluate(cs, at, order=1)
+            melt["yl"][r], melt["l1"][r], _ = evaluate(cl, at, order=1)
 
         # The blocks are open to another thread while they last (lend_a_hand).
         work = self._pair_blocks = SharedBlocks(k, CHUNK, block)
@@ -587,6 +592,7 @@ class AuditContext:
             work.wait()
         finally:
             self._pair_blocks = None
+        self._melting = melt
         return {
             "s": s,
             "l": lq,
@@ -616,12 +622,8 @@ class AuditContext:
         neither; the user masks those).
         Shared by ``melting-point-mismatch`` and ``fusion-enthalpy-mismatch``.
         """
-        pr = self.pairs
-        at = np.where(np.isfinite(pr["tm"]), pr["tm"], pr["T"])
-        at = np.where(np.isfinite(at), at, 1.0)
-        ys, s1, _ = evaluate_rows(self.curves, pr["s"], at, 1)
-        yl, l1, _ = evaluate_rows(self.curves, pr["l"], at, 1)
-        return {"at": at, "ys": ys, "s1": s1, "yl": yl, "l1": l1}
+        self.pairs  # noqa: B018  (made with the pairs, block by block)
+        return self._melting
 
     def pair_finding(
         self, check: str, k: int, message: str, evidence: dict, severity: Severity | None = None

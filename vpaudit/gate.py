@@ -26,6 +26,7 @@ from pathlib import Path
 
 import numpy as np
 
+from ._columns import codes
 from .audit import AuditResult, audit_table, restrict
 from .checks._registry import Severity
 from .checks.finding import Finding
@@ -182,25 +183,28 @@ def _touched(table: Table, to_key, lines: dict, whole: set) -> set[str]:
         frame = getattr(table, kind)
         if not len(frame):
             continue
-        files = frame["file"].astype(str).to_numpy()
-        subs_all = frame["substance"].astype(str).to_numpy()
+        file_code, file_names = codes(frame["file"])
         line_all = frame["line"].to_numpy()
-        for name in np.unique(files):
-            key = to_key(name)
-            rows = np.flatnonzero(files == name)
-            subs = subs_all[rows]
+
+        def substances(rows: np.ndarray, frame=frame) -> list[str]:
+            # as text only for the rows asked for (all of a file only when it all changed)
+            return frame["substance"].iloc[rows].astype(str).tolist()
+
+        for k, name in enumerate(file_names):
+            key = to_key(str(name))
+            rows = np.flatnonzero(file_code == k)
             if key is None or key in whole:
-                out.update(subs)
+                out.update(substances(rows))
                 continue
             changed = lines.get(key)
             if not changed:
                 continue
             order = np.argsort(line_all[rows])
-            starts, subs = line_all[rows][order], subs[order]
+            starts, rows = line_all[rows][order], rows[order]
             at = np.searchsorted(starts, np.fromiter(changed, dtype=np.int64), side="right") - 1
             if (at < 0).any():
-                out.update(subs)  # a header or comment line changed
-            out.update(subs[at[at >= 0]])
+                out.update(substances(rows))  # a header or comment line changed
+            out.update(substances(rows[at[at >= 0]]))
     return out
 
 

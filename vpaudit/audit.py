@@ -208,9 +208,6 @@ def _pairs_beside(ctx: AuditContext, names: list[str]):
     scopes = [REGISTRY[n].scope.value for n in names]
     if "pair" not in scopes or all(s == "pair" for s in scopes):
         return None
-    pieces = ["pairs"]
-    if {"melting-point-mismatch", "fusion-enthalpy-mismatch"} & set(names):
-        pieces.append("melting_slopes")
     import threading
 
     try:  # the references per substance serve both threads: made once, before they part
@@ -218,13 +215,12 @@ def _pairs_beside(ctx: AuditContext, names: list[str]):
     except Exception:  # noqa: BLE001  (reported by the checks that need them)
         pass
 
-    def compute() -> None:
-        for piece in pieces:
-            try:
-                with np.errstate(all="ignore"):
-                    getattr(ctx, piece)
-            except Exception:  # noqa: BLE001  (reported by the check that needs it)
-                return
+    def compute() -> None:  # the pairs bring both curves at the melting point with them
+        try:
+            with np.errstate(all="ignore"):
+                ctx.pairs  # noqa: B018
+        except Exception:  # noqa: BLE001  (reported by the check that needs it)
+            return
 
     thread = threading.Thread(target=compute, name="vpaudit-pairs", daemon=True)
     thread.start()

@@ -83,9 +83,11 @@ def no_crossing(ctx: AuditContext):
     )
     lo, hi = at / (1 + w), at * (1 + w)
     messages = [
-        f"the solid and liquid curves do not cross between {kelvin(a / (1 + w))} and "
-        f"{kelvin(a * (1 + w))}; at {kelvin(a)} they differ by {ln_ratio(d)}."
-        for a, d in zip(at.tolist(), diff.tolist(), strict=True)
+        f"the solid and liquid curves do not cross between {kelvin(a_lo)} and "
+        f"{kelvin(a_hi)}; at {kelvin(a)} they differ by {ln_ratio(d)}."
+        for a_lo, a_hi, a, d in zip(
+            lo.tolist(), hi.tolist(), at.tolist(), diff.tolist(), strict=True
+        )
     ]
     yield from ctx.pair_findings(
         "no-crossing",

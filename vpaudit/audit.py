@@ -59,8 +59,13 @@ class AuditResult:
         return {"summary": dict(self.summary), "findings": [f.to_dict() for f in self.findings]}
 
 
+#: Sorting position of each severity: errors first (a dict lookup, cheaper than the
+#: ``rank`` property over ~90 000 findings).
+_FIRST = {s: -s.rank for s in Severity}
+
+
 def _sort_key(f: Finding):
-    return (-f.severity.rank, f.substance, f.check, f.records)
+    return (_FIRST[f.severity], f.substance, f.check, f.records)
 
 
 def audit_table(

@@ -269,8 +269,15 @@ class AuditContext:
     def critical_temperature(self) -> np.ndarray:
         """Critical temperature per record: reference, else the Wagner record's own. [K]"""
         tc = self.reference("critical_temperature")
+        if not self.any_critical:
+            return tc  # all NaN
         own = np.where(self.curves.family == 2, self.curves.params[:, 6], np.nan)
         return np.where(np.isnan(tc), own, tc)
+
+    @cached_property
+    def any_critical(self) -> bool:
+        """Whether any record has a critical temperature (a reference, or its Wagner form)."""
+        return "critical_temperature" in self._refs_by_code or bool((self.curves.family == 2).any())
 
     # --- findings ------------------------------------------------------------------------
     def severity(self, check: str) -> Severity | None:
@@ -416,12 +423,13 @@ class AuditContext:
         ln_p_max = np.log(self.policy.thresholds("heat-capacity-sign")["max_pressure"])
         y_lo = np.empty(rows.size)
         y_hi = np.empty(rows.size)
-        plain = np.flatnonzero((c.family == 0) & (c.params[:, 3] == 0)) if closed_form else None
+        simple = (c.family == 0) & (c.params[:, 3] == 0)  # log-linear without a D term
+        plain = np.flatnonzero(simple) if closed_form else None
         if plain is not None:  # in blocks too: fresh pages cost more than the arithmetic
             for a in range(0, plain.size, CHUNK):
                 part = plain[a : a + CHUNK]
                 y_lo[part], y_hi[part] = _plain_extrema(c, part, rows[part], out)
-        blocks = list(_blocks(c, plain=not closed_form))
+        blocks = list(_blocks(c, simple, plain=not closed_form))
         for part in blocks:  # one block at a time: temporaries stay block-sized
             cb = c.take(part)
             r = rows[part]
@@ -446,7 +454,8 @@ class AuditContext:
         if straddle.size:
             t_cut = temperature_at(c.take(straddle), ln_p_max)
             hi[straddle] = np.where(np.isfinite(t_cut), t_cut, c.t_max[straddle])
-        hi = np.fmin(hi, 0.7 * self.critical_temperature()[rows])
+        if self.any_critical:  # else every Tc is NaN and fmin keeps hi
+            hi = np.fmin(hi, 0.7 * self.critical_temperature()[rows])
         with np.errstate(invalid="ignore"):
             ideal = (y_lo <= ln_p_max) & (hi > c.t_min)
         if plain is not None and plain.size:  # dCp = R C: the same at every temperature
@@ -776,12 +785,11 @@ def same_key_pairs(keys: np.ndarray, a: np.ndarray, b: np.ndarray) -> tuple[np.n
     return ia.astype(np.int64), ib.astype(np.int64)
 
 
-def _blocks(c: Curves, plain: bool = True):
+def _blocks(c: Curves, simple: np.ndarray, plain: bool = True):
     """Index blocks of at most CHUNK rows of one kind each: log-linear curves without a D
-    term (taken in closed form; left out with ``plain=False``), the other log-linear and
-    Antoine curves (ends and stationary points), Wagner curves (a grid).
+    term (``simple``; taken in closed form, left out with ``plain=False``), the other
+    log-linear and Antoine curves (ends and stationary points), Wagner curves (a grid).
     """
-    simple = (c.family == 0) & (c.params[:, 3] == 0)
     wagner = c.family == 2
     groups = [np.flatnonzero(~simple & ~wagner), np.flatnonzero(wagner)]
     if plain:

@@ -10,9 +10,15 @@ from ._registry import Severity
 __all__ = ["Finding"]
 
 
-@dataclass(frozen=True)
+@dataclass
 class Finding:
     """One suspect entry, with the numbers behind the verdict.
+
+    Treat a finding as a value: the diagnosis attaches its suggestion with
+    :func:`dataclasses.replace`, never by assignment. The class is not frozen because a
+    frozen dataclass sets each field through ``object.__setattr__``: making the ~90 000
+    findings of a million-substance table took 0.20 s frozen against 0.05 s (best of three
+    runs on this project's machine).
 
     Attributes
     ----------

@@ -55,7 +55,11 @@ def _equation_columns(ctx: AuditContext, rows=slice(None)):
     rec = ctx.table.records
     yield "substance", ctx.codes[rows]
     for c in ("phase", "form", "log_base", "pressure_unit", "temperature_unit"):
-        yield c, codes(rec[c])[0][rows]
+        col = rec[c]
+        if isinstance(col.dtype, pd.CategoricalDtype):  # the codes it has (-1 for empty)
+            yield c, col.cat.codes.to_numpy()[rows]
+        else:
+            yield c, codes(col)[0][rows]
     for c in COEFFICIENTS:
         yield c, np.nan_to_num(rec[c].to_numpy(dtype=float, na_value=np.nan)[rows], nan=-1e308)
 
@@ -68,7 +72,8 @@ def equation_hashes(ctx: AuditContext) -> np.ndarray:
     with np.errstate(over="ignore"):
         for _, v in _equation_columns(ctx):
             bits = v.view(np.uint64) if v.dtype == np.float64 else v.astype(np.uint64)
-            h = (h ^ bits) * np.uint64(0x100000001B3)
+            np.bitwise_xor(h, bits, out=h)  # in place: no fresh 16 MB per column
+            np.multiply(h, np.uint64(0x100000001B3), out=h)
     return h
 
 

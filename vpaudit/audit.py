@@ -56,7 +56,18 @@ class AuditResult:
 
     def to_dict(self) -> dict[str, Any]:
         """The JSON output contract."""
-        return {"summary": dict(self.summary), "findings": [f.to_dict() for f in self.findings]}
+        return {
+            "summary": self.summary_dict(),
+            "findings": [self.finding_dict(f) for f in self.findings],
+        }
+
+    def summary_dict(self) -> dict[str, Any]:
+        """The ``summary`` of :meth:`to_dict`."""
+        return dict(self.summary)
+
+    def finding_dict(self, f: Finding) -> dict[str, Any]:
+        """One finding of :meth:`to_dict`."""
+        return f.to_dict()
 
 
 #: Sorting position of each severity: errors first (a dict lookup, cheaper than the

@@ -80,18 +80,22 @@ class GateResult(AuditResult):
         level = Severity(fail_on).rank
         return any(self.status_of(f) == "new" and f.severity.rank >= level for f in self.findings)
 
-    def to_dict(self) -> dict:
-        """The audit's JSON contract, each finding with its ``status``."""
-        out = super().to_dict()
-        for f, d in zip(self.findings, out["findings"], strict=True):
-            d["status"] = self.status_of(f)
-        out["summary"] = {
-            **out["summary"],
-            "new": sum(d["status"] == "new" for d in out["findings"]),
+    def finding_dict(self, f: Finding) -> dict:
+        """The audit's JSON form of a finding, with its ``status``."""
+        d = f.to_dict()
+        d["status"] = self.status_of(f)
+        return d
+
+    def summary_dict(self) -> dict:
+        """The audit's summary, with the count of new findings, the base and the number
+        of substances re-audited.
+        """
+        return {
+            **self.summary,
+            "new": sum(self.status_of(f) == "new" for f in self.findings),
             "base": self.base,
             "substances_reaudited": self.affected,
         }
-        return out
 
 
 def _git(root: Path, *args: str) -> str:

@@ -20,7 +20,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests"))
 from refdata import alcock_table, table_from_rows, water_records, water_references  # noqa: E402
 
 from vpaudit._columns import eq  # noqa: E402
-from vpaudit.audit import audit_table  # noqa: E402
+from vpaudit.auditing import audit_table  # noqa: E402
 from vpaudit.checks._context import LN_P_STANDARD, AuditContext  # noqa: E402
 from vpaudit.equations.engine import evaluate  # noqa: E402
 from vpaudit.policy import Policy  # noqa: E402

@@ -25,7 +25,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests"))
 
 from slips import cases_table, labelled_cases, reproduces  # noqa: E402
 
-from vpaudit.audit import audit_table  # noqa: E402
+from vpaudit.auditing import audit_table  # noqa: E402
 from vpaudit.checks._context import AuditContext  # noqa: E402
 from vpaudit.diagnose import CALIBRATION, choose, hypotheses  # noqa: E402
 from vpaudit.policy import Policy  # noqa: E402

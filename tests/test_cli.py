@@ -116,7 +116,7 @@ def test_quiet_and_jobs_options_keep_the_output_clean(sample_db, tmp_path):
 def test_markdown_shows_a_suggestion_when_there_is_one():
     from dataclasses import replace
 
-    from vpaudit.audit import AuditResult
+    from vpaudit.auditing import AuditResult
     from vpaudit.checks import Finding, Severity
     from vpaudit.report import RENDERERS
 

@@ -32,12 +32,8 @@ def test_an_error_on_the_second_thread_reaches_the_caller():
 
 
 def _checks_of(table, monkeypatch, beside: bool):
-    import importlib
-
+    from vpaudit import auditing as audit_module
     from vpaudit.checks._registry import ordered
-
-    audit_module = importlib.import_module("vpaudit.audit")  # the package exports audit()
-
     from vpaudit.readers import table as reading
 
     monkeypatch.setattr(audit_module, "PARALLEL_RECORDS", 0 if beside else 10**12)

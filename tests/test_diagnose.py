@@ -18,7 +18,7 @@ from hypothesis import strategies as st
 from refdata import CRC, alcock_pairs, table_from_rows
 from slips import Case, cases_table, corrupt, labelled_cases, poling_record, reproduces
 
-from vpaudit.audit import audit, audit_table
+from vpaudit.auditing import audit, audit_table
 from vpaudit.diagnose import KINDS
 
 _ALCOCK = None

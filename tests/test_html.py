@@ -9,7 +9,7 @@ from pathlib import Path
 import pytest
 from refdata import table_from_rows
 
-from vpaudit.audit import audit_table
+from vpaudit.auditing import audit_table
 from vpaudit.readers import load_table
 from vpaudit.report.html import render_report
 

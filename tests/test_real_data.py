@@ -16,7 +16,7 @@ from refdata import (
 )
 from scipy.constants import R
 
-from vpaudit.audit import audit_table
+from vpaudit.auditing import audit_table
 from vpaudit.checks._context import AuditContext
 from vpaudit.equations.engine import evaluate
 from vpaudit.policy import Policy

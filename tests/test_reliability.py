@@ -204,7 +204,7 @@ def test_a_hostile_table_is_audited_cleanly():
     # zero-width ranges, a pole at the range end: every row is reported, no check crashes.
     from refdata import table_from_rows
 
-    from vpaudit.audit import audit_table
+    from vpaudit.auditing import audit_table
 
     rows = []
     for i in range(10_000):

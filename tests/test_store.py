@@ -7,7 +7,7 @@ import pytest
 from conftest import write
 
 from vpaudit.api import open_table
-from vpaudit.audit import audit_table
+from vpaudit.auditing import audit_table
 from vpaudit.errors import RecordRuleError, TableErrors
 from vpaudit.readers import load_table
 from vpaudit.store import connect, import_table, read_findings, write_run

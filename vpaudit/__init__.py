@@ -6,12 +6,17 @@ The public API; the CLI only wraps these. Typical use::
     result = vpaudit.audit("sample_db")          # a table directory, file or .duckdb store
     for finding in result.findings:
         print(finding.severity, finding.check, finding.message)
+
+The names below are imported on first use (PEP 562), so that importing the package, or
+starting the command line, does not import pandas and the checks before they are needed:
+``vpaudit audit`` reads the table's files meanwhile (:mod:`vpaudit.readers.ahead`).
 """
 
-from .api import open_table
-from .audit import AuditResult, audit, audit_table
-from .checks import Finding, Severity
-from .equations import Curves, curves_from_frame, enthalpy, heat_capacity_change, ln_pressure
+from __future__ import annotations
+
+from importlib import import_module
+from typing import TYPE_CHECKING
+
 from .errors import (
     EquationError,
     PolicyError,
@@ -23,11 +28,51 @@ from .errors import (
     UnknownCheckError,
     VpauditError,
 )
-from .lookup import eval_substance
-from .policy import Policy, load_policy
-from .readers import Table, load_table
 
 __version__ = "0.1.0"
+
+#: Where each public name is defined, for :func:`__getattr__`.
+_HOME = {
+    "open_table": ".api",
+    "AuditResult": ".auditing",
+    "audit": ".auditing",
+    "audit_table": ".auditing",
+    "Finding": ".checks",
+    "Severity": ".checks",
+    "Curves": ".equations",
+    "curves_from_frame": ".equations",
+    "enthalpy": ".equations",
+    "heat_capacity_change": ".equations",
+    "ln_pressure": ".equations",
+    "eval_substance": ".lookup",
+    "Policy": ".policy",
+    "load_policy": ".policy",
+    "Table": ".readers",
+    "load_table": ".readers",
+}
+
+if TYPE_CHECKING:
+    from .api import open_table
+    from .auditing import AuditResult, audit, audit_table
+    from .checks import Finding, Severity
+    from .equations import Curves, curves_from_frame, enthalpy, heat_capacity_change, ln_pressure
+    from .lookup import eval_substance
+    from .policy import Policy, load_policy
+    from .readers import Table, load_table
+
+
+def __getattr__(name: str):
+    home = _HOME.get(name)
+    if home is None:
+        raise AttributeError(f"module 'vpaudit' has no attribute {name!r}")
+    value = getattr(import_module(home, __name__), name)
+    globals()[name] = value  # found directly from now on
+    return value
+
+
+def __dir__() -> list[str]:
+    return sorted(set(globals()) | set(_HOME))
+
 
 __all__ = [
     "AuditResult",

@@ -175,8 +175,12 @@ def audit_cmd(
     jobs,
 ):
     """Test every record and solid/liquid pair of TABLE against thermodynamics."""
+    if jobs != 1:  # the files are read while pandas and the checks are imported
+        from .readers.files import read_ahead
+
+        read_ahead(table)
     from .api import open_table
-    from .audit import audit_table
+    from .auditing import audit_table
     from .policy import load_policy
     from .report import RENDERERS
 
@@ -290,7 +294,7 @@ def eval_cmd(table, substance, at, pressure, unit, extrapolate, fmt):
 def show_cmd(table, substance, policy):
     """Everything about one substance: records, crossings, references and findings."""
     from .api import open_table
-    from .audit import audit_table
+    from .auditing import audit_table
     from .policy import load_policy
     from .report.lookup import render_show
 
@@ -441,7 +445,7 @@ def plot_cmd(table, substance, output, unit):
 def report_cmd(table, output, policy, no_plots):
     """Write one self-contained HTML report of the audit of TABLE."""
     from .api import open_table
-    from .audit import audit_table
+    from .auditing import audit_table
     from .policy import load_policy
     from .report.html import render_report
 
@@ -455,7 +459,7 @@ def report_cmd(table, output, policy, no_plots):
 
 
 def _audit_new(t, records: list[dict], substance: str):
-    from .audit import audit_table
+    from .auditing import audit_table
     from .policy import load_policy
     from .readers.table import records_table
 
@@ -670,7 +674,7 @@ def apply_cmd(table, finding, reason, by, db):
     the old revision is kept in the table's history (see 'vpaudit history').
     """
     from .api import open_table
-    from .audit import audit_table
+    from .auditing import audit_table
     from .policy import load_policy
     from .revisions import apply_suggestion, find_finding, parse_finding
 
@@ -709,7 +713,7 @@ def apply_cmd(table, finding, reason, by, db):
 def review_cmd(table, by, db, min_confidence):
     """Walk the suggested fixes of TABLE one by one and apply, skip or stop at each."""
     from .api import open_table
-    from .audit import audit_table
+    from .auditing import audit_table
     from .policy import load_policy
     from .revisions import apply_suggestion
 

@@ -653,7 +653,7 @@ def _audit_units(
     """Audit every unit (a substance with one correction); without ``checks`` only the
     continuous evidence is computed (the screening stage: no findings are built).
     """
-    from .audit import run_checks
+    from .auditing import run_checks
 
     names = [n for n in REGISTRY if n not in _NOT_EVIDENCE]
     outcomes: list[_Outcome] = []

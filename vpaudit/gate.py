@@ -27,7 +27,7 @@ from pathlib import Path
 import numpy as np
 
 from ._columns import codes
-from .audit import AuditResult, audit_table, restrict
+from .auditing import AuditResult, audit_table, restrict
 from .checks._registry import Severity
 from .checks.finding import Finding
 from .errors import VpauditError

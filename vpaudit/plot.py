@@ -193,7 +193,7 @@ def plot_substance(table: Table, substance: str, path: str | Path, unit: str = "
 
 
 def _only(table: Table, substance: str) -> Table:
-    from .audit import restrict
+    from .auditing import restrict
 
     return restrict(table, {substance})
 

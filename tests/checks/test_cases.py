@@ -8,7 +8,7 @@ import yaml
 from refdata import table_from_rows
 from scipy.constants import R
 
-from vpaudit.audit import audit_table
+from vpaudit.auditing import audit_table
 from vpaudit.checks import REGISTRY
 
 CASES = Path(__file__).parent / "cases"

@@ -2,10 +2,46 @@
 
 No library infers a type here: every cell is read as text and numbers are parsed by the
 one strict grammar of :mod:`vpaudit.readers.grammar`.
+
+The names below are imported on first use (PEP 562): :mod:`vpaudit.readers.files` and
+:mod:`vpaudit.readers.ahead` need neither pandas nor the grammar, and the command line
+starts reading with them before it imports the rest.
 """
 
-from .grammar import NumberSyntaxError, normalize_typography, parse_number, parse_number_column
-from .table import KINDS, RawFrame, Table, load_table, read_file
+from __future__ import annotations
+
+from importlib import import_module
+from typing import TYPE_CHECKING
+
+_HOME = {
+    "NumberSyntaxError": ".grammar",
+    "normalize_typography": ".grammar",
+    "parse_number": ".grammar",
+    "parse_number_column": ".grammar",
+    "KINDS": ".table",
+    "RawFrame": ".table",
+    "Table": ".table",
+    "load_table": ".table",
+    "read_file": ".table",
+}
+
+if TYPE_CHECKING:
+    from .grammar import NumberSyntaxError, normalize_typography, parse_number, parse_number_column
+    from .table import KINDS, RawFrame, Table, load_table, read_file
+
+
+def __getattr__(name: str):
+    home = _HOME.get(name)
+    if home is None:
+        raise AttributeError(f"module 'vpaudit.readers' has no attribute {name!r}")
+    value = getattr(import_module(home, __name__), name)
+    globals()[name] = value
+    return value
+
+
+def __dir__() -> list[str]:
+    return sorted(set(globals()) | set(_HOME))
+
 
 __all__ = [
     "KINDS",

@@ -11,6 +11,7 @@ import csv
 import io
 import json
 import re
+import threading
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -19,7 +20,15 @@ import yaml
 
 from ..errors import Location, TableError
 
-__all__ = ["RawFrame", "read_raw", "MAX_FILE_BYTES", "MAX_ROWS", "SUFFIXES"]
+__all__ = [
+    "RawFrame",
+    "read_raw",
+    "read_ahead",
+    "table_files",
+    "MAX_FILE_BYTES",
+    "MAX_ROWS",
+    "SUFFIXES",
+]
 
 #: Largest table file read, in bytes (a clear error above it).
 MAX_FILE_BYTES = 2 * 1024**3
@@ -36,6 +45,8 @@ SUFFIXES = {
     ".pq": "parquet",
 }
 _KIND_KEYS = ("records", "references", "points")
+#: The folders of a table directory, in the order they are read.
+KINDS = _KIND_KEYS
 
 
 @dataclass
@@ -580,8 +591,95 @@ def read_parquet(path: str, data: bytes | None = None) -> RawFrame:
 _READERS = {"csv": read_csv, "yaml": read_yaml, "json": read_json, "parquet": read_parquet}
 
 
+def table_files(root: Path) -> list[tuple[Path, str]]:
+    """The table files of the directory ``root`` with the kind of each, in reading order:
+    ``records/``, ``references/``, ``points/``, each folder's files (at any depth) sorted.
+    """
+    found = []
+    for kind in KINDS:
+        folder = root / kind
+        if folder.is_dir():
+            for f in sorted(folder.rglob("*")):
+                if f.is_file() and f.suffix.lower() in SUFFIXES:
+                    found.append((f, kind))
+    return found
+
+
+class _Ahead:
+    """One file being read ahead: its stamp when it was started, then its frame or error."""
+
+    def __init__(self, path: Path, stamp: tuple[int, int]) -> None:
+        self.path = path
+        self.stamp = stamp
+        self.done = threading.Event()
+        self.frame: RawFrame | None = None
+        self.error: BaseException | None = None
+
+
+#: Files being read ahead, by path, until :func:`read_raw` takes them.
+_AHEAD: dict[str, _Ahead] = {}
+
+
+def _stamp(path: Path) -> tuple[int, int] | None:
+    try:
+        st = path.stat()
+    except OSError:
+        return None
+    return (st.st_size, st.st_mtime_ns)
+
+
+def read_ahead(path: str | Path) -> None:
+    """Start reading the table files at ``path`` (a table directory or one file) on a
+    daemon thread, one after another, for :func:`read_raw` to take.
+
+    For the command line: ``vpaudit audit`` calls it before it imports pandas, the checks
+    and the reporters (about 0.3 s), so that the files are read meanwhile, and the next
+    file is read while the frame of the last one is built. :func:`read_raw` takes a file's
+    result only while the file's size and modification time are those it had when its read
+    began (else it reads the file again), and raises a read's error itself. A ``.duckdb``
+    store, a missing path or a directory without table files starts nothing; what is never
+    taken is dropped with the process.
+
+    This module needs only numpy, pyarrow and yaml, which are imported here, on the calling
+    thread, before the thread starts: the thread then imports nothing.
+    """
+    p = Path(path)
+    if p.is_dir():
+        paths = [f for f, _ in table_files(p)]
+    elif p.is_file() and p.suffix.lower() in SUFFIXES:
+        paths = [p]
+    else:
+        return
+    import pyarrow  # noqa: F401  (imported here: see above)
+    import pyarrow.compute  # noqa: F401
+    import pyarrow.csv  # noqa: F401
+
+    if any(SUFFIXES[f.suffix.lower()] == "parquet" for f in paths):
+        import pyarrow.parquet  # noqa: F401
+
+    jobs = []
+    for f in paths:
+        stamp = _stamp(f)
+        if stamp is not None and str(f) not in _AHEAD:
+            jobs.append(_AHEAD.setdefault(str(f), _Ahead(f, stamp)))
+    if not jobs:
+        return
+
+    def work() -> None:
+        for job in jobs:
+            try:
+                job.frame = _read_raw(job.path)
+            except BaseException as exc:  # noqa: BLE001  (raised by read_raw, which takes it)
+                job.error = exc
+            finally:
+                job.done.set()
+
+    threading.Thread(target=work, name="vpaudit-read-ahead", daemon=True).start()
+
+
 def read_raw(path: str | Path) -> RawFrame:
-    """Read any supported table file into a :class:`RawFrame`.
+    """Read any supported table file into a :class:`RawFrame` (or take the one
+    :func:`read_ahead` read, waiting for it).
 
     Raises
     ------
@@ -589,6 +687,17 @@ def read_raw(path: str | Path) -> RawFrame:
         For an unknown file ending, a file that cannot be read, or malformed content; the
         message names the file and line.
     """
+    job = _AHEAD.pop(str(path), None)
+    if job is not None:
+        job.done.wait()
+        if job.stamp == _stamp(Path(path)):  # the file has not changed since
+            if job.error is not None:
+                raise job.error
+            return job.frame
+    return _read_raw(path)
+
+
+def _read_raw(path: str | Path) -> RawFrame:
     p = Path(path)
     fmt = SUFFIXES.get(p.suffix.lower())
     if fmt is None:

@@ -37,7 +37,7 @@ from ..units import (
     QUANTITY_UNITS,
     TEMPERATURE_UNITS,
 )
-from .files import SUFFIXES, RawFrame, read_raw
+from .files import KINDS, RawFrame, read_raw, table_files
 from .grammar import explain, normalize_typography, parse_number_column, parse_number_texts
 
 __all__ = [
@@ -52,8 +52,6 @@ __all__ = [
     "POINT_COLUMNS",
     "detect_kind",
 ]
-
-KINDS = ("records", "references", "points")
 
 
 @dataclass(frozen=True)
@@ -704,15 +702,9 @@ def load_table(path: str | Path, normalize: bool = False) -> Table:
         return read_file(p, normalize=normalize)
     if not p.is_dir():
         raise TableError("no such table directory or file", Location(str(path)))
-    paths: list[Path] = []
-    kinds: dict[Path, str | None] = {}
-    for kind in KINDS:
-        folder = p / kind
-        if folder.is_dir():
-            for f in sorted(folder.rglob("*")):
-                if f.is_file() and f.suffix.lower() in SUFFIXES:
-                    paths.append(f)
-                    kinds[f] = kind
+    found = table_files(p)
+    paths = [f for f, _ in found]
+    kinds: dict[Path, str | None] = dict(found)
     policy = p / "vpaudit.toml"
     if not paths:
         raise TableError(

@@ -20,7 +20,7 @@ COLUMNS = [
 
 
 def render(result) -> str:
-    """Render an :class:`~vpaudit.audit.AuditResult` as CSV, one finding per row."""
+    """Render an :class:`~vpaudit.auditing.AuditResult` as CSV, one finding per row."""
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(COLUMNS)

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..audit import CAUTION
+from ..auditing import CAUTION
 from ..writers import records_csv
 
 

@@ -11,7 +11,7 @@ import html
 import io
 from pathlib import Path
 
-from ..audit import CAUTION
+from ..auditing import CAUTION
 
 __all__ = ["render_report"]
 

@@ -21,7 +21,7 @@ def _encode(value) -> bytes:
 
 
 def render(result) -> str:
-    """Render an :class:`~vpaudit.audit.AuditResult` as one JSON object.
+    """Render an :class:`~vpaudit.auditing.AuditResult` as one JSON object.
 
     One finding per line: readable and diff-friendly. Written with orjson, about six times
     faster than the standard library's encoder (0.1 s instead of 0.6 s for the 87 000

@@ -6,7 +6,7 @@ import math
 
 import numpy as np
 
-from ..audit import CAUTION
+from ..auditing import CAUTION
 from ..checks._context import AuditContext
 from ..constants import R
 from ..units import pressure_factor

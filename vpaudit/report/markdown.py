@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from ..audit import CAUTION
+from ..auditing import CAUTION
 
 
 def _cell(text: str) -> str:
@@ -17,7 +17,7 @@ def _suggestion(f) -> str:
 
 
 def render(result) -> str:
-    """Render an :class:`~vpaudit.audit.AuditResult` as Markdown."""
+    """Render an :class:`~vpaudit.auditing.AuditResult` as Markdown."""
     s = result.summary
     out = [
         f"## vpaudit: {s['error']} error(s), {s['warning']} warning(s), {s['note']} note(s)",

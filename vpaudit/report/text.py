@@ -5,7 +5,7 @@ from __future__ import annotations
 import textwrap
 from collections import defaultdict
 
-from ..audit import CAUTION
+from ..auditing import CAUTION
 
 _LABEL = {"error": "ERROR", "warning": "WARNING", "note": "note"}
 
@@ -20,7 +20,7 @@ def _counts(findings) -> str:
 
 
 def render(result, width: int = 100) -> str:
-    """Render an :class:`~vpaudit.audit.AuditResult` for a terminal."""
+    """Render an :class:`~vpaudit.auditing.AuditResult` for a terminal."""
     s = result.summary
     policy = result.policy_description.get("label", "preset evaluated")
     if hasattr(result, "status_of"):

@@ -156,3 +156,54 @@ def test_curves_at_the_melting_point_taken_in_the_pair_blocks_equal_the_engine(m
         assert np.array_equal(ms[key], want, equal_nan=True), key
     ctx.drop_shared()  # made again, with the pairs
     assert np.array_equal(ctx.melting_slopes["s1"], s1, equal_nan=True)
+
+
+def test_the_critical_temperature_cut_is_skipped_only_where_it_cuts_nothing():
+    """The range extrema skip the 0.7 Tc cut of the dCp range when no record can have a
+    critical temperature; forcing the cut there must change nothing, and a table with a
+    reference Tc must take it (physics notes, section 2: above ~0.7 Tc the slope no longer
+    gives dCp). Invented three-term records whose pressure stays below the 10 kPa limit."""
+    from refdata import table_from_rows
+
+    records = [
+        {
+            "id": f"r{i}",
+            "substance": f"s{i}",
+            "phase": "liquid",
+            "form": "three-term",
+            "A": 20.0,
+            "B": -8000.0 - 100.0 * i,
+            "C": -1.5,
+            "t_min": 300.0,
+            "t_max": 500.0,
+            "log_base": "e",
+            "pressure_unit": "Pa",
+            "source": "invented for this test",
+        }
+        for i in range(6)
+    ]
+    tc = {
+        "substance": "s2",
+        "quantity": "critical_temperature",
+        "value": 600.0,
+        "unit": "K",
+        "source": "invented for this test",
+    }
+    boiling = dict(tc, quantity="normal_boiling_point", value=450.0)
+    ctx = context.AuditContext(table_from_rows(records, [boiling]), Policy())
+    assert not ctx.any_critical
+    with np.errstate(all="ignore"):
+        skipped = ctx.extrema_over_ranges()
+        ctx.__dict__["any_critical"] = True  # the cut taken with every Tc unknown
+        taken = ctx.extrema_over_ranges()
+    assert np.isfinite(skipped["cp_hi"]).all()
+    for key in skipped:
+        np.testing.assert_array_equal(skipped[key], taken[key], err_msg=key)
+
+    ctx = context.AuditContext(table_from_rows(records, [boiling, tc]), Policy())
+    assert ctx.any_critical
+    with np.errstate(all="ignore"):
+        cut = ctx.extrema_over_ranges()
+    assert cut["cp_hi"][2] == pytest.approx(0.7 * 600.0)
+    others = [0, 1, 3, 4, 5]
+    np.testing.assert_array_equal(cut["cp_hi"][others], skipped["cp_hi"][others])

@@ -214,8 +214,10 @@ def _pairs_beside(ctx: AuditContext, names: list[str]):
     and runs every check that needs no pair, then takes what is left of the crossing
     search (:meth:`AuditContext.lend_a_hand`). At 10^6 substances all the checks took
     1.9 s this way against 2.3 s with the range extrema and the pairs made side by side
-    before any check ran (measured). An error there is left for the first pair check to
-    meet and report as its ``internal-error``.
+    before any check ran (measured). The pairs need the substance codes, which may still
+    be being hashed on a third thread (:class:`AuditContext`): this thread does not wait
+    for them, as the range extrema need none. An error there is left for the first pair
+    check to meet and report as its ``internal-error``.
     """
     from .readers import table as _reading
 
@@ -226,13 +228,11 @@ def _pairs_beside(ctx: AuditContext, names: list[str]):
         return None
     import threading
 
-    try:  # the references per substance serve both threads: made once, before they part
-        ctx._refs_by_code  # noqa: B018
-    except Exception:  # noqa: BLE001  (reported by the checks that need them)
-        pass
-
     def compute() -> None:  # the pairs bring both curves at the melting point with them
         try:
+            # first the substance codes (still being hashed when the table is large) and the
+            # references per substance, which serve both threads
+            ctx._refs_by_code  # noqa: B018
             with np.errstate(all="ignore"):
                 ctx.pairs  # noqa: B018
         except Exception:  # noqa: BLE001  (reported by the check that needs it)

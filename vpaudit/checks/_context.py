@@ -138,13 +138,18 @@ class AuditContext:
         rec = table.records
         self.n = len(rec)
         # Integer codes of the substances of records, references and points together: every
-        # join below is on these, with numpy. The hashing of the names (a third of a second
-        # for 3 x 10^6 of them) releases the GIL: a large table does it on a second thread
-        # while this one builds the curves.
+        # join below is on these, with numpy. The hashing of the names (0.4-0.6 s for the
+        # 4 x 10^6 of a million-substance table) releases the GIL: a large table does it on
+        # a second thread while this one builds the curves and goes on to the range
+        # extrema, which need no codes; the first use of a code waits for them (_coded).
         parts = [rec["substance"], table.references["substance"], table.points["substance"]]
-        sizes = [len(p) for p in parts]
+        self._sizes = [len(p) for p in parts]
         names_of = pd.concat([p.astype(TEXT) for p in parts], ignore_index=True)
-        coding = _in_thread(text_codes, names_of) if self.n >= _THREAD_RECORDS else None
+        if self.n >= _THREAD_RECORDS:
+            self._coding = _in_thread(text_codes, names_of)
+        else:
+            done = text_codes(names_of)
+            self._coding = lambda: done
         self._ids = rec["id"]
         self.line = rec["line"].to_numpy()
         self.file_code, self._files = codes(rec["file"])
@@ -153,14 +158,7 @@ class AuditContext:
         self.solid = eq(rec["phase"], "solid")
         self.antoine = eq(rec["form"], "antoine")
         self.curves: Curves = curves_from_frame(rec)
-        all_codes, names = coding() if coding is not None else text_codes(names_of)
-        self.codes = all_codes[: sizes[0]]
-        self.ref_codes = all_codes[sizes[0] : sizes[0] + sizes[1]]
-        self.point_codes = all_codes[sizes[0] + sizes[1] :]
-        self._names = names
         self._name_cache: dict[int, str] = {}
-        #: Number of distinct substances (records, references and points together).
-        self.n_names = len(names)
         lo, hi = self.curves.t_min, self.curves.t_max
         with np.errstate(invalid="ignore"):
             ok = np.isfinite(lo) & np.isfinite(hi) & (lo > 0) & (lo < hi)
@@ -173,6 +171,47 @@ class AuditContext:
         self._severities: dict[str, Severity] = {}
         self._pair_blocks: SharedBlocks | None = None
         self._melting: dict[str, np.ndarray] | None = None
+
+    # --- substance codes ------------------------------------------------------------------
+    def _coded(self) -> tuple[np.ndarray, np.ndarray, np.ndarray, pa.Array]:
+        """The codes of records, references and points, and the distinct names, once the
+        hashing is done (waiting for it on first use; see ``__init__``).
+        """
+        got = self.__dict__.get("_coded_parts")
+        if got is None:  # two threads may both get here: they store the same arrays
+            all_codes, names = self._coding()
+            a, b = self._sizes[0], self._sizes[0] + self._sizes[1]
+            got = self.__dict__["_coded_parts"] = (
+                all_codes[:a],
+                all_codes[a:b],
+                all_codes[b:],
+                names,
+            )
+        return got
+
+    @property
+    def codes(self) -> np.ndarray:
+        """The substance code of each record (-1 where it names none)."""
+        return self._coded()[0]
+
+    @property
+    def ref_codes(self) -> np.ndarray:
+        """The substance code of each reference value."""
+        return self._coded()[1]
+
+    @property
+    def point_codes(self) -> np.ndarray:
+        """The substance code of each measured point."""
+        return self._coded()[2]
+
+    @property
+    def _names(self) -> pa.Array:
+        return self._coded()[3]
+
+    @property
+    def n_names(self) -> int:
+        """Number of distinct substances (records, references and points together)."""
+        return len(self._coded()[3])
 
     @cached_property
     def equation_hashes(self) -> np.ndarray:
@@ -276,8 +315,13 @@ class AuditContext:
 
     @cached_property
     def any_critical(self) -> bool:
-        """Whether any record has a critical temperature (a reference, or its Wagner form)."""
-        return "critical_temperature" in self._refs_by_code or bool((self.curves.family == 2).any())
+        """Whether any record may have a critical temperature: the table has a reference
+        value of one, or a Wagner record (asked without the substance codes, which the
+        range extrema do not wait for).
+        """
+        refs = self.table.references
+        given = bool(len(refs)) and bool(eq(refs["quantity"], "critical_temperature").any())
+        return given or bool((self.curves.family == 2).any())
 
     # --- findings ------------------------------------------------------------------------
     def severity(self, check: str) -> Severity | None:

@@ -9,14 +9,15 @@ The public API; the CLI only wraps these. Typical use::
 
 The names below are imported on first use (PEP 562), so that importing the package, or
 starting the command line, does not import pandas and the checks before they are needed:
-``vpaudit audit`` reads the table's files meanwhile (:mod:`vpaudit.readers.ahead`).
+``vpaudit audit`` reads the table's files meanwhile
+(:func:`vpaudit.readers.files.read_ahead`).
 """
 
 from __future__ import annotations
 
-from importlib import import_module
 from typing import TYPE_CHECKING
 
+from ._lazy import lazy_names
 from .errors import (
     EquationError,
     PolicyError,
@@ -61,18 +62,7 @@ if TYPE_CHECKING:
     from .readers import Table, load_table
 
 
-def __getattr__(name: str):
-    home = _HOME.get(name)
-    if home is None:
-        raise AttributeError(f"module 'vpaudit' has no attribute {name!r}")
-    value = getattr(import_module(home, __name__), name)
-    globals()[name] = value  # found directly from now on
-    return value
-
-
-def __dir__() -> list[str]:
-    return sorted(set(globals()) | set(_HOME))
-
+__getattr__, __dir__ = lazy_names(__name__, globals(), _HOME)
 
 __all__ = [
     "AuditResult",

@@ -3,15 +3,16 @@
 No library infers a type here: every cell is read as text and numbers are parsed by the
 one strict grammar of :mod:`vpaudit.readers.grammar`.
 
-The names below are imported on first use (PEP 562): :mod:`vpaudit.readers.files` and
-:mod:`vpaudit.readers.ahead` need neither pandas nor the grammar, and the command line
-starts reading with them before it imports the rest.
+The names below are imported on first use (PEP 562): :mod:`vpaudit.readers.files` needs
+neither pandas nor the grammar, and the command line starts reading the table's files with
+it (:func:`~vpaudit.readers.files.read_ahead`) before it imports the rest.
 """
 
 from __future__ import annotations
 
-from importlib import import_module
 from typing import TYPE_CHECKING
+
+from .._lazy import lazy_names
 
 _HOME = {
     "NumberSyntaxError": ".grammar",
@@ -30,18 +31,7 @@ if TYPE_CHECKING:
     from .table import KINDS, RawFrame, Table, load_table, read_file
 
 
-def __getattr__(name: str):
-    home = _HOME.get(name)
-    if home is None:
-        raise AttributeError(f"module 'vpaudit.readers' has no attribute {name!r}")
-    value = getattr(import_module(home, __name__), name)
-    globals()[name] = value
-    return value
-
-
-def __dir__() -> list[str]:
-    return sorted(set(globals()) | set(_HOME))
-
+__getattr__, __dir__ = lazy_names(__name__, globals(), _HOME)
 
 __all__ = [
     "KINDS",

@@ -175,7 +175,7 @@ def audit_cmd(
     jobs,
 ):
     """Test every record and solid/liquid pair of TABLE against thermodynamics."""
-    if jobs != 1:  # the files are read while pandas and the checks are imported
+    if jobs is None or jobs > 1:  # the files are read while pandas and the rest are imported
         from .readers.files import read_ahead
 
         read_ahead(table)

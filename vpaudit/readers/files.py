@@ -44,9 +44,9 @@ SUFFIXES = {
     ".parquet": "parquet",
     ".pq": "parquet",
 }
-_KIND_KEYS = ("records", "references", "points")
-#: The folders of a table directory, in the order they are read.
-KINDS = _KIND_KEYS
+#: The kinds of table file: the folders of a table directory, in the order they are read,
+#: and the keys a YAML or JSON file may name its kind by.
+KINDS = ("records", "references", "points")
 
 
 @dataclass
@@ -361,7 +361,7 @@ def _yaml_items(path: str, node: yaml.Node) -> tuple[list[yaml.MappingNode], str
     hint = None
     if isinstance(node, yaml.MappingNode):
         keys = [k.value for k, _ in node.value]
-        if len(keys) == 1 and keys[0] in _KIND_KEYS:
+        if len(keys) == 1 and keys[0] in KINDS:
             hint = keys[0]
             node = node.value[0][1]
         else:
@@ -633,15 +633,16 @@ def read_ahead(path: str | Path) -> None:
     daemon thread, one after another, for :func:`read_raw` to take.
 
     For the command line: ``vpaudit audit`` calls it before it imports pandas, the checks
-    and the reporters (about 0.3 s), so that the files are read meanwhile, and the next
+    and the reporters (about 0.4 s), so that the files are read meanwhile, and the next
     file is read while the frame of the last one is built. :func:`read_raw` takes a file's
     result only while the file's size and modification time are those it had when its read
     began (else it reads the file again), and raises a read's error itself. A ``.duckdb``
     store, a missing path or a directory without table files starts nothing; what is never
     taken is dropped with the process.
 
-    This module needs only numpy, pyarrow and yaml, which are imported here, on the calling
-    thread, before the thread starts: the thread then imports nothing.
+    This module needs only numpy, pyarrow and yaml. The pyarrow modules the readers use are
+    imported here, on the calling thread, before the thread starts: the thread then imports
+    nothing, so it never imports beside the calling thread's imports of pandas and the rest.
     """
     p = Path(path)
     if p.is_dir():

@@ -207,3 +207,26 @@ def test_the_critical_temperature_cut_is_skipped_only_where_it_cuts_nothing():
     assert cut["cp_hi"][2] == pytest.approx(0.7 * 600.0)
     others = [0, 1, 3, 4, 5]
     np.testing.assert_array_equal(cut["cp_hi"][others], skipped["cp_hi"][others])
+
+
+def test_jobs_1_hashes_the_codes_on_this_thread(monkeypatch):
+    """``--jobs 1`` runs vpaudit's own work on one thread: no thread for the codes."""
+    from vpaudit.readers import table as reading
+
+    table = alcock_table()
+    started = []
+
+    def here(func, *args):  # stands in for _in_thread, noting the call
+        started.append(func)
+        result = func(*args)
+        return lambda: result
+
+    monkeypatch.setattr(context, "_THREAD_RECORDS", 0)
+    monkeypatch.setattr(context, "_in_thread", here)
+    monkeypatch.setattr(reading, "JOBS", 1)
+    one = context.AuditContext(table, Policy())
+    assert not started
+    monkeypatch.setattr(reading, "JOBS", 2)
+    two = context.AuditContext(table, Policy())
+    assert started
+    assert np.array_equal(one.codes, two.codes) and one.n_names == two.n_names > 30

@@ -6,7 +6,6 @@ on: one broken check never hides the others' results.
 
 from __future__ import annotations
 
-import os
 import traceback
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -15,7 +14,7 @@ from typing import Any
 import numpy as np
 
 from . import checks as _checks  # noqa: F401  (registers every check)
-from .checks._context import AuditContext
+from .checks._context import AuditContext, threads_allowed
 from .checks._registry import REGISTRY, Severity, get_check, ordered
 from .checks.finding import Finding
 from .policy import Policy, load_policy
@@ -219,9 +218,7 @@ def _pairs_beside(ctx: AuditContext, names: list[str]):
     for them, as the range extrema need none. An error there is left for the first pair
     check to meet and report as its ``internal-error``.
     """
-    from .readers import table as _reading
-
-    if ctx.n < PARALLEL_RECORDS or (_reading.JOBS or os.cpu_count() or 1) < 2:
+    if ctx.n < PARALLEL_RECORDS or not threads_allowed():
         return None  # small tables, one core, or --jobs 1
     scopes = [REGISTRY[n].scope.value for n in names]
     if "pair" not in scopes or all(s == "pair" for s in scopes):

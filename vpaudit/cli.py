@@ -94,7 +94,8 @@ JOBS = click.option(
     "-j",
     type=int,
     help="Threads for reading large files and for the audit's shared array work "
-    "(default: one per core, at most 4; 1 runs everything on one thread).",
+    "(default: one per core, at most 4; 1 runs vpaudit's own work on one thread, while "
+    "pyarrow's CSV reader keeps its own thread pool).",
 )
 
 

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import itertools
 import math
+import os
 from functools import cached_property
 from typing import TYPE_CHECKING
 
@@ -25,6 +26,7 @@ from ..equations.engine import (
     evaluate,
     temperature_at,
 )
+from ..readers import table as _reading
 from ..readers.table import Table
 from ._registry import REGISTRY, Severity
 from .finding import Finding
@@ -91,6 +93,13 @@ class SharedBlocks:
 _THREAD_RECORDS = 200_000
 
 
+def threads_allowed() -> bool:
+    """Whether ``--jobs`` (``readers.table.JOBS``; 0 for one per core) and the machine
+    allow a second thread.
+    """
+    return (_reading.JOBS or os.cpu_count() or 1) >= 2
+
+
 def _in_thread(func, *args):
     """Start ``func(*args)`` on a thread; returns a function that waits and returns its
     result (or raises its exception).
@@ -145,7 +154,7 @@ class AuditContext:
         parts = [rec["substance"], table.references["substance"], table.points["substance"]]
         self._sizes = [len(p) for p in parts]
         names_of = pd.concat([p.astype(TEXT) for p in parts], ignore_index=True)
-        if self.n >= _THREAD_RECORDS:
+        if self.n >= _THREAD_RECORDS and threads_allowed():
             self._coding = _in_thread(text_codes, names_of)
         else:
             done = text_codes(names_of)

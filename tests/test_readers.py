@@ -293,3 +293,40 @@ def test_absent_optional_columns_read_as_written_empty_or_default(tmp_path):
         assert a.isna().tolist() == b.isna().tolist(), col
         assert a.dropna().astype(str).tolist() == b.dropna().astype(str).tolist(), col
     assert short.records["temperature_unit"].astype(str).tolist() == ["K"] * 5
+
+
+def test_optional_text_columns_present_in_one_file_and_absent_in_another(tmp_path):
+    # With pandas 3, a column of text in one file and absent (or empty) in another stopped
+    # every command: "dtype of categories must be the same".
+    full = HEADER + ",modification,entered_by,source_locator"
+    (tmp_path / "records").mkdir()
+    write(tmp_path / "records" / "a.csv", full + "\n" + ROW.format(A="25.5") + ",alpha,ann,p. 4\n")
+    write(
+        tmp_path / "records" / "b.csv",
+        HEADER + "\n" + ROW.format(A="26.5").replace("r1,zinc-demo", "r2,tin-demo") + "\n",
+    )
+    write(
+        tmp_path / "records" / "c.csv",
+        full + "\n" + ROW.format(A="27.5").replace("r1,zinc-demo", "r3,lead-demo") + ",,,\n",
+    )
+    rec = load_table(tmp_path).records
+    assert list(rec["id"]) == ["r1", "r2", "r3"]
+    assert rec["modification"].astype(object).tolist()[0] == "alpha"
+    assert rec["entered_by"].isna().tolist() == [False, True, True]
+    assert rec["source_locator"].astype(object).tolist()[0] == "p. 4"
+
+
+def test_a_note_with_line_separators_does_not_move_line_numbers(tmp_path):
+    # U+2028, U+0085 and form feed are no line ends for any reader (readers.lines)
+    note = "see\u2028table\x85two\x0cthree"
+    text = HEADER + ",note\n" + ROW.format(A="25.5") + f",{note}\n"
+    text += ROW.format(A="bad").replace("r1", "r2") + ",x\n"
+    path = write(tmp_path / "r.csv", text)
+    (msg,) = errors_of(path)
+    assert "r.csv:3 [A]" in msg
+    yaml_text = f'- id: r1\n  note: "{note[:-6]}"\n  A: 1\n- id: r2\n  A: 2\n'  # YAML: no FF
+    from vpaudit.readers.files import read_json, read_yaml
+
+    assert read_yaml("t.yaml", yaml_text.encode()).lines == [1, 4]
+    json_text = f'[{{"id": "r1", "note": "{note[:-6]}"}},\n {{"id": "r2"}}]'
+    assert read_json("t.json", json_text.encode()).lines == [1, 2]

@@ -76,7 +76,7 @@ from .equations.engine import evaluate
 from .equations.forms import FORMS
 from .lookup import records_at
 from .readers.files import RawFrame
-from .readers.table import Table, _Collector, _record_rules
+from .readers.table import Table, _Collector, _record_rules, text_categorical
 from .units import PRESSURE_UNITS, TEMPERATURE_UNITS
 
 __all__ = [
@@ -420,7 +420,7 @@ def _variant_table(
     for field in _TEXT_FIELDS:  # categoricals of the original file cannot take new values
         if isinstance(recs[field].dtype, pd.CategoricalDtype):
             recs[field] = recs[field].astype(object).astype(TEXT)
-    recs["file"] = pd.Categorical.from_codes(np.zeros(len(recs), dtype=np.int8), ["<variant>"])
+    recs["file"] = text_categorical(np.zeros(len(recs), dtype=np.int8), ["<variant>"])
     recs["line"] = np.arange(1, len(recs) + 1, dtype=np.int64)
     refs, _ = replicate(table.references, ref_g)
     pts, _ = replicate(table.points, pt_g)

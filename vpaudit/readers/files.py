@@ -19,6 +19,7 @@ import numpy as np
 import yaml
 
 from ..errors import Location, TableError
+from .lines import line_at, line_starts, split_lines
 
 __all__ = [
     "RawFrame",
@@ -129,26 +130,28 @@ def _decode(path: str, data: bytes) -> str:
         ) from None
 
 
+_LINE_END = re.compile(rb"\r\n|\r|\n")  # as readers.lines counts them
+
+
 def _csv_layout(path: str, data: bytes) -> tuple[int, int, str, list[str]]:
     """Index of the header line (after ``#`` comments and blank lines), the byte offset
     where the rows start, the delimiter and the column names.
     """
     start, pos = 0, 0
     while True:
-        nl = data.find(b"\n", pos)
-        raw_line = data[pos:] if nl < 0 else data[pos : nl + 1]
+        m = _LINE_END.search(data, pos)
+        end = len(data) if m is None else m.end()
+        raw_line = data[pos:end]
         if not (raw_line.startswith(b"#") or not raw_line.strip()):
             break
-        if nl < 0:
+        if m is None:
             raise _err(path, "file is empty: expected a header line naming the columns")
-        start, pos = start + 1, nl + 1
+        start, pos = start + 1, end
     try:
-        header_line = raw_line.decode("utf-8")
+        header_line = raw_line.decode("utf-8").rstrip("\r\n")
     except UnicodeDecodeError:
         _decode(path, data)  # raises with the byte offset
         raise
-    if "\r" in header_line.rstrip("\r\n"):
-        header_line = header_line.splitlines()[0]  # bare CR line ends
     delimiter = (
         ","
         if "," in header_line
@@ -158,20 +161,70 @@ def _csv_layout(path: str, data: bytes) -> tuple[int, int, str, list[str]]:
     )
     try:
         header = next(csv.reader([header_line], delimiter=delimiter, strict=True))
-    except csv.Error as exc:
+    except (csv.Error, StopIteration) as exc:
         raise _err(path, f"cannot read the header: {exc}", start + 1) from None
-    body_at = len(data) if nl < 0 else nl + 1
-    return start, body_at, delimiter, _check_header(path, header, start + 1)
+    return start, end, delimiter, _check_header(path, header, start + 1)
 
 
-def _csv_bulk(source, start: int, columns: list[str], delimiter: str):
+class _QuoteCheck:
+    """Whether pyarrow reads the file's quotes as Python's strict ``csv`` reader does.
+
+    Python's strict reader refuses text after a closing quote (``"12.5"3``), where pyarrow
+    joins it onto the quoted part (12.53). In a file whose quotes all sit where quoting puts
+    them, the quote number k (from 0, counted from the first row) opens a field when k is
+    even and closes it, or begins an escaped ``""``, when k is odd. So every even quote must
+    stand at the start of a field (after the delimiter, a line end or the start of the rows)
+    or right after the odd quote it escapes, and every odd quote must be followed by another
+    quote, the delimiter, a line end or the end of the file. A file that breaks either rule
+    is read by the strict reader, which names the line, or reads a literal quote inside an
+    unquoted cell as written. Feed the rows' bytes in order, in blocks of any size.
+    """
+
+    def __init__(self, delimiter: str) -> None:
+        self._ends = np.zeros(256, dtype=bool)
+        for ch in (delimiter, "\r", "\n", '"'):
+            self._ends[ord(ch)] = True
+        self._starts = self._ends.copy()  # a quote may open a field after one of these
+        self._count = 0
+        self._last = ord("\n")  # the byte before the block: the rows start a field
+        self.pending = False  # the last block ended on an odd quote
+        self.ok = True
+
+    def feed(self, block) -> None:
+        if not len(block) or not self.ok:
+            return
+        if isinstance(block, bytes) and not self.pending and b'"' not in block:
+            self._last = block[-1]
+            return
+        arr = np.frombuffer(block, dtype=np.uint8)
+        if self.pending:
+            self.ok = bool(self._ends[arr[0]])
+            self.pending = False
+        at = np.flatnonzero(arr == 34)
+        odd = (self._count + np.arange(at.size)) % 2 == 1
+        self._count += at.size
+        before = np.where(at > 0, arr[np.maximum(at - 1, 0)], self._last)
+        self._last = int(arr[-1])
+        after = at[odd] + 1
+        inside = after < arr.size
+        self.ok = (
+            self.ok
+            and bool(self._starts[before[~odd]].all())
+            and bool(self._ends[arr[after[inside]]].all())
+        )
+        self.pending = not inside.all()
+
+
+def _csv_bulk(source, start: int, columns: list[str], delimiter: str, newlines: int, ends_nl: bool):
     """Read the rows with pyarrow's multi-threaded CSV reader, every column as a string.
 
-    ``source`` is the rows' bytes, or a pyarrow file positioned at the first row. Returns
+    ``source`` is the rows' bytes, or a pyarrow file positioned at the first row;
+    ``newlines`` the number of LF bytes in the rows and ``ends_nl`` whether they end with
+    one, from which each row's first line follows (a quoted cell may span lines). Returns
     None when the file needs the exact path instead: anything pyarrow does not read as a
-    plain table of one physical line per row (a blank line, a ragged row, a newline inside
-    quotes, invalid UTF-8); that path then reads it or reports the problem with its line.
-    The callers have already sent files with an unclosed quote or bare CR line ends there.
+    plain table (a blank line, a ragged row, invalid UTF-8); that path then reads it or
+    reports the problem with its line. The callers have already sent files with an unclosed
+    quote, text after a closing quote or bare CR line ends there.
     """
     import pyarrow as pa
     import pyarrow.compute as pc
@@ -186,7 +239,7 @@ def _csv_bulk(source, start: int, columns: list[str], delimiter: str):
                 quote_char='"',
                 double_quote=True,
                 escape_char=False,
-                newlines_in_values=False,
+                newlines_in_values=newlines > 0,
                 ignore_empty_lines=False,
             ),
             convert_options=pcsv.ConvertOptions(
@@ -203,6 +256,11 @@ def _csv_bulk(source, start: int, columns: list[str], delimiter: str):
         return None  # maybe a blank line, which pyarrow reads as a row: the exact path skips it
     n = table.num_rows
     lines = np.arange(start + 2, start + 2 + n, dtype=np.int64)
+    if newlines > n - (0 if ends_nl else 1):  # a row spans more than one line
+        spans = np.zeros(n, dtype=np.int64)
+        for c in columns:
+            spans += pc.count_substring(table.column(c), "\n").to_numpy(zero_copy_only=False)
+        lines[1:] += np.cumsum(spans)[:-1]
     cells = {c: table.column(c) for c in columns}
     return cells, lines
 
@@ -230,8 +288,14 @@ def read_csv(path: str, data: bytes) -> RawFrame:
     body = memoryview(data)[body_at:]
     if not bytes(body[:4096]).strip() and not bytes(body).strip():  # copies only if blank
         bulk = ({c: [] for c in columns}, [])
+    elif _regular(data):
+        quotes = _QuoteCheck(delimiter)
+        if b'"' in data:
+            quotes.feed(body)
+        newlines, ends_nl = data.count(b"\n", body_at), data.endswith(b"\n")
+        bulk = _csv_bulk(body, start, columns, delimiter, newlines, ends_nl) if quotes.ok else None
     else:
-        bulk = _csv_bulk(body, start, columns, delimiter) if _regular(data) else None
+        bulk = None
     if bulk is not None:
         cells, lines = bulk
         if len(lines) > MAX_ROWS:
@@ -258,23 +322,8 @@ def _read_csv_streamed(path: str) -> RawFrame | None:
     """
     import pyarrow as pa
 
-    quotes = cr = crlf = 0
     with open(path, "rb") as fh:
         head = fh.read(_HEAD)
-        fh.seek(0)
-        block, prev_cr = fh.read(_BLOCK), False
-        while block:
-            if b"\x00" in block:
-                return None
-            if b'"' in block:  # a search is far faster than a count: count only if present
-                quotes += block.count(b'"')
-            if b"\r" in block or prev_cr:
-                cr += block.count(b"\r")
-                crlf += block.count(b"\r\n") + (prev_cr and block.startswith(b"\n"))
-            prev_cr = block.endswith(b"\r")
-            block = fh.read(_BLOCK)
-    if quotes % 2 or cr != crlf:
-        return None
     skipped = 3 if head.startswith(b"\xef\xbb\xbf") else 0  # bytes before the header
     start = 0  # lines before the header
     nl = head.find(b"\n", skipped)
@@ -288,9 +337,30 @@ def _read_csv_streamed(path: str) -> RawFrame | None:
         _, body_at, delimiter, columns = _csv_layout(path, head[skipped : nl + 1])
     except (UnicodeDecodeError, TableError):
         return None  # the whole-file path reports it with the right line and offset
+    body_at += skipped
+    quotes, check = 0, _QuoteCheck(delimiter)
+    cr = crlf = newlines = offset = 0
+    with open(path, "rb") as fh:
+        block, prev_cr, ends_nl = fh.read(_BLOCK), False, False
+        while block:
+            if b"\x00" in block:
+                return None
+            rows = block[max(0, body_at - offset) :] if offset < body_at else block
+            if b'"' in block:  # a search is far faster than a count: count only if present
+                quotes += block.count(b'"')
+            check.feed(rows)
+            if b"\r" in block or prev_cr:
+                cr += block.count(b"\r")
+                crlf += block.count(b"\r\n") + (prev_cr and block.startswith(b"\n"))
+            newlines += rows.count(b"\n")
+            prev_cr, ends_nl = block.endswith(b"\r"), block.endswith(b"\n")
+            offset += len(block)
+            block = fh.read(_BLOCK)
+    if quotes % 2 or cr != crlf or not check.ok:
+        return None
     with pa.OSFile(path) as source:
-        source.seek(skipped + body_at)
-        bulk = _csv_bulk(source, start, columns, delimiter)
+        source.seek(body_at)
+        bulk = _csv_bulk(source, start, columns, delimiter, newlines, ends_nl)
     if bulk is None or not len(bulk[1]):
         return None
     cells, lines = bulk
@@ -303,8 +373,7 @@ def _read_csv_exact(
     path: str, text: str, start: int, delimiter: str, columns: list[str]
 ) -> RawFrame:
     """Python's csv module, row by row, with the physical line of every row."""
-    lines = text.splitlines(keepends=True)
-    body = io.StringIO("".join(lines[start:]), newline="")
+    body = io.StringIO("".join(split_lines(text)[start:]), newline="")
     reader = csv.reader(body, delimiter=delimiter, quotechar='"', doublequote=True, strict=True)
     next(reader)
     ncol = len(columns)
@@ -344,7 +413,7 @@ def _read_csv_exact(
 # --- YAML: composed node by node, so scalars stay text and duplicates are seen ------------
 
 
-def _yaml_scalar(path: str, node: yaml.Node, key: str) -> str | None:
+def _yaml_scalar(path: str, node: yaml.Node, key: str, at) -> str | None:
     if isinstance(node, yaml.ScalarNode):
         if node.value == "" and node.style is None:
             return None
@@ -352,12 +421,12 @@ def _yaml_scalar(path: str, node: yaml.Node, key: str) -> str | None:
     raise _err(
         path,
         f"field {key!r} holds a {node.id}; expected a single value",
-        node.start_mark.line + 1,
+        at(node.start_mark),
         key,
     )
 
 
-def _yaml_items(path: str, node: yaml.Node) -> tuple[list[yaml.MappingNode], str | None]:
+def _yaml_items(path: str, node: yaml.Node, at) -> tuple[list[yaml.MappingNode], str | None]:
     hint = None
     if isinstance(node, yaml.MappingNode):
         keys = [k.value for k, _ in node.value]
@@ -369,17 +438,17 @@ def _yaml_items(path: str, node: yaml.Node) -> tuple[list[yaml.MappingNode], str
                 path,
                 "expected a list of items, or a mapping with one key "
                 "'records', 'references' or 'points' holding that list",
-                node.start_mark.line + 1,
+                at(node.start_mark),
             )
     if not isinstance(node, yaml.SequenceNode):
-        raise _err(path, "expected a list of items", node.start_mark.line + 1)
+        raise _err(path, "expected a list of items", at(node.start_mark))
     items = []
     for item in node.value:
         if not isinstance(item, yaml.MappingNode):
             raise _err(
                 path,
                 "each item must be a mapping of field names to values",
-                item.start_mark.line + 1,
+                at(item.start_mark),
             )
         items.append(item)
     return items, hint
@@ -404,6 +473,11 @@ def read_yaml(path: str, data: bytes) -> RawFrame:
     text = _decode(path, data)
     if not text.strip():
         raise _err(path, "file is empty: expected a list of items")
+    starts = line_starts(text)
+
+    def at(mark) -> int:  # PyYAML's own line count also breaks at U+2028 and U+0085
+        return line_at(starts, mark.index)
+
     try:
         loader = _NoAliasComposer(text)
         try:
@@ -412,14 +486,12 @@ def read_yaml(path: str, data: bytes) -> RawFrame:
             loader.dispose()
     except yaml.MarkedYAMLError as exc:
         mark = exc.problem_mark
-        raise _err(
-            path, f"malformed YAML: {exc.problem}", mark.line + 1 if mark else None
-        ) from None
+        raise _err(path, f"malformed YAML: {exc.problem}", at(mark) if mark else None) from None
     except yaml.YAMLError as exc:
         raise _err(path, f"malformed YAML: {exc}") from None
     if root is None:
         raise _err(path, "file is empty: expected a list of items")
-    items, hint = _yaml_items(path, root)
+    items, hint = _yaml_items(path, root, at)
     columns: list[str] = []
     records: list[dict[str, str | None]] = []
     lines = []
@@ -428,19 +500,19 @@ def read_yaml(path: str, data: bytes) -> RawFrame:
         for knode, vnode in item.value:
             key = knode.value if isinstance(knode, yaml.ScalarNode) else None
             if not key:
-                raise _err(path, "field names must be plain text", knode.start_mark.line + 1)
+                raise _err(path, "field names must be plain text", at(knode.start_mark))
             if key in row:
                 raise _err(
                     path,
                     f"field {key!r} is given twice in one item",
-                    knode.start_mark.line + 1,
+                    at(knode.start_mark),
                     key,
                 )
-            row[key] = _yaml_scalar(path, vnode, key)
+            row[key] = _yaml_scalar(path, vnode, key, at)
             if key not in columns:
                 columns.append(key)
         records.append(row)
-        lines.append(item.start_mark.line + 1)
+        lines.append(at(item.start_mark))
     cells = {c: [r.get(c) for r in records] for c in columns}
     return RawFrame(path, columns, cells, lines, hint)
 
@@ -468,6 +540,7 @@ def read_json(path: str, data: bytes) -> RawFrame:
     item's line is where its object starts.
     """
     text = _decode(path, data)
+    starts = line_starts(text)
     decoder = json.JSONDecoder(
         parse_float=str, parse_int=str, parse_constant=_no_constant, object_pairs_hook=_pairs
     )
@@ -503,7 +576,7 @@ def read_json(path: str, data: bytes) -> RawFrame:
                 i = ws.match(text, i).end()
                 obj, end = decoder.raw_decode(text, i)
                 items.append(obj)
-                lines.append(text.count("\n", 0, i) + 1)
+                lines.append(line_at(starts, i))
                 i = ws.match(text, end).end()
                 if i < n and text[i] == ",":
                     i += 1
@@ -521,9 +594,9 @@ def read_json(path: str, data: bytes) -> RawFrame:
         if i != n:
             raise json.JSONDecodeError("unexpected text after the list", text, i)
     except json.JSONDecodeError as exc:
-        raise _err(path, f"malformed JSON: {exc.msg}", exc.lineno) from None
+        raise _err(path, f"malformed JSON: {exc.msg}", line_at(starts, exc.pos)) from None
     except ValueError as exc:
-        raise _err(path, f"malformed JSON: {exc}", text.count("\n", 0, i) + 1) from None
+        raise _err(path, f"malformed JSON: {exc}", line_at(starts, i)) from None
     columns: list[str] = []
     for obj, line in zip(items, lines, strict=True):
         if not isinstance(obj, dict):

@@ -157,6 +157,18 @@ def _text_column(raw: RawFrame, name: str, default: str | None = None) -> pa.Arr
     return pc.if_else(blank, pa.scalar(default, pa.string()), arr)
 
 
+def text_categorical(codes: np.ndarray, categories: list) -> pd.Categorical:
+    """A categorical of text from its codes, its categories always of object dtype.
+
+    pandas 3 infers a string dtype for a list of text but object for an empty list, and
+    refuses to join categoricals whose categories differ in dtype: so a column present in
+    one file and absent from another would stop the load. One dtype for every piece.
+    """
+    return pd.Categorical.from_codes(
+        codes, dtype=pd.CategoricalDtype(pd.Index(categories, dtype=object))
+    )
+
+
 def _categorical(arr) -> pd.Categorical:
     """A low-cardinality text column, dictionary-encoded once (codes serve every join)."""
     if isinstance(arr, pa.ChunkedArray):
@@ -164,7 +176,7 @@ def _categorical(arr) -> pd.Categorical:
     enc = pc.dictionary_encode(arr)
     idx = enc.indices.to_numpy(zero_copy_only=False)
     idx = np.where(enc.indices.is_null().to_numpy(zero_copy_only=False), -1, idx)
-    return pd.Categorical.from_codes(idx.astype(np.int32), enc.dictionary.to_pylist())
+    return text_categorical(idx.astype(np.int32), enc.dictionary.to_pylist())
 
 
 def _np(mask) -> np.ndarray:
@@ -259,7 +271,7 @@ def _column(raw: RawFrame, col: _Col, normalize: bool) -> tuple[dict[str, object
         # an absent column is its default (or empty) throughout: its codes are known
         cats = [col.default] if col.default is not None else []
         fill = 0 if cats else -1
-        return {col.name: pd.Categorical.from_codes(np.full(n, fill, dtype=np.int8), cats)}, out
+        return {col.name: text_categorical(np.full(n, fill, dtype=np.int8), cats)}, out
     arr = _text_column(raw, col.name, col.default)
     none = _np(pc.is_null(arr))
     if col.required and present:
@@ -326,7 +338,7 @@ def frame_from_raw(
         data.update(entries)
         out.errors.extend(local.errors)
         out.rewrites.extend(local.rewrites)
-    data["file"] = pd.Categorical.from_codes(np.zeros(n, dtype=np.int8), [raw.path])
+    data["file"] = text_categorical(np.zeros(n, dtype=np.int8), [raw.path])
     data["line"] = np.asarray(raw.lines, dtype=np.int64)
     # copy=False keeps one block per column: no consolidation copy of the numbers
     frame = pd.DataFrame(

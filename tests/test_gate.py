@@ -178,10 +178,70 @@ def test_a_policy_change_reaudits_everything(repo):
     assert result.affected == 30  # every substance of the table
 
 
-def test_a_header_change_marks_every_row_of_the_file(repo):
+def test_rows_are_compared_by_content_not_by_the_lines_a_diff_names(repo):
     refs = repo / "table" / "references" / "reference_values.csv"
     text = refs.read_text().splitlines(keepends=True)
+    # a comment line moves every row but changes none: nothing to re-audit
     refs.write_text("# provenance: reference sheet RS-1\n" + "".join(text))
-    result = gate(repo / "table", "base")
-    assert result.affected == 30
-    assert not [f for f in result.findings if result.status_of(f) == "new"]
+    assert gate(repo / "table", "base").affected == 0
+    # a header that swaps two columns changes what every row of the file says
+    header = text[0].replace("value", "VALUE").replace("unit", "value").replace("VALUE", "unit")
+    refs.write_text(header + "".join(text[1:]))
+    from vpaudit.errors import TableErrors
+
+    with pytest.raises(TableErrors):  # the head is read as written: units are not numbers
+        gate(repo / "table", "base")
+
+
+@pytest.mark.parametrize(
+    "name, config",
+    [
+        ("nouveautés.csv", ()),  # git quotes non-ASCII names in its diff headers
+        ("new file.csv", ()),  # git appends a TAB to a header naming a path with a space
+        ("new.csv", ("-c", "diff.noprefix=true")),  # no a/ and b/ in the headers
+        ("new.csv", ("-c", "diff.mnemonicPrefix=true")),
+    ],
+)
+def test_no_file_name_or_git_setting_lets_a_bad_record_through(repo, name, config, monkeypatch):
+    # each of these gave "0 substance(s) changed" and exit 0 while the diff headers were parsed
+    if config:
+        git(repo, "config", config[1].split("=")[0], config[1].split("=")[1])
+    header = (repo / "table" / "records" / "metals.csv").read_text().splitlines()[0]
+    (repo / "table" / "records" / name).write_text(header + "\n" + BAD)
+    git(repo, "add", "-A")
+    git(repo, "commit", "-qm", "a new file with a bad record")
+    out = run("gate", repo / "table", "--base", "base")
+    assert out.exit_code == 1, out.output
+    assert "zorvane" in out.output
+
+
+def test_a_row_below_a_two_line_note_is_the_one_re_audited(repo):
+    # a quoted note spanning two lines once shifted every later row's line by one, and the
+    # gate re-audited the record above the changed one: a sign flip passed with exit 0
+    metals = repo / "table" / "records" / "metals.csv"
+    lines = metals.read_text().splitlines(keepends=True)
+    lines[1] = lines[1].replace(",,demo generator", ',"measured twice;\nsee log",demo generator')
+    metals.write_text("".join(lines))
+    git(repo, "commit", "-qam", "a two-line note")
+    git(repo, "tag", "-f", "base")
+    text = metals.read_text()
+    flipped = text.replace(",-14361.1213,", ",14361.1213,")  # bellorium-l1 loses its sign
+    assert flipped != text
+    metals.write_text(flipped)
+    out = run("gate", repo / "table", "--base", "base")
+    assert out.exit_code == 1, out.output
+    assert "bellorium" in out.output
+
+
+def test_a_change_that_mends_an_unreadable_base_audits_the_head(repo):
+    metals = repo / "table" / "records" / "metals.csv"
+    good = metals.read_text()
+    metals.write_text(good.replace(",29.4857321,", ",29,48573,"))  # a ragged row
+    git(repo, "commit", "-qam", "broken")
+    git(repo, "tag", "-f", "base")
+    metals.write_text(good)
+    out = run("gate", repo / "table", "--base", "base", "--fail-on", "never")
+    assert out.exit_code == 0, out.output
+    assert "could not be read at base" in out.output
+    assert "base:table/records/metals.csv:2" in out.output
+    assert "vpaudit-gate-" not in out.output  # no deleted temporary path

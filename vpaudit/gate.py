@@ -17,7 +17,6 @@ affect). Findings of unchanged substances are, by construction, existing ones.
 from __future__ import annotations
 
 import datetime as dt
-import re
 import subprocess
 import tempfile
 import tomllib
@@ -26,11 +25,10 @@ from pathlib import Path
 
 import numpy as np
 
-from ._columns import codes
 from .auditing import AuditResult, audit_table, restrict
 from .checks._registry import Severity
 from .checks.finding import Finding
-from .errors import VpauditError
+from .errors import TableError, TableErrors, VpauditError
 from .policy import Policy, load_policy
 from .readers.files import SUFFIXES
 from .readers.table import KINDS, Table, load_table
@@ -126,7 +124,12 @@ def _table_at(table: Path, ref: str, into: Path) -> Path:
             f"shallow CI checkout fetch it first, e.g. 'git fetch --depth=1 origin {ref}'"
         )
     rel = table.relative_to(root)
-    names = _git(root, "ls-tree", "-r", "--name-only", ref, "--", str(rel)).splitlines()
+    # -z: names exactly as stored (no quoting of non-ASCII or special characters)
+    names = [
+        n
+        for n in _git(root, "ls-tree", "-r", "-z", "--name-only", ref, "--", str(rel)).split("\0")
+        if n
+    ]
     copy = into / rel
     for name in names:
         path = Path(name)
@@ -141,82 +144,51 @@ def _table_at(table: Path, ref: str, into: Path) -> Path:
     return copy
 
 
-_HUNK = re.compile(r"^@@ -(\d+)(?:,(\d+))? \+(\d+)(?:,(\d+))? @@")
+def _row_hashes(frame) -> np.ndarray:
+    """A 64-bit hash of each row's content: every field but where the row stands."""
+    import pandas as pd
+
+    cols = [c for c in frame.columns if c not in ("file", "line")]
+    return pd.util.hash_pandas_object(frame[cols], index=False).to_numpy()
 
 
-def _diff_lines(root: Path, ref: str, rel: Path) -> tuple[dict, dict, set]:
-    """Changed lines per file between ``ref`` and the work tree (``git diff -U0``).
+def _policy_text(table: Table | None) -> str | None:
+    """The table's own policy file as text (None: it has none)."""
+    path = table.policy_path if table is not None else None
+    return path.read_text(encoding="utf-8") if path is not None and path.is_file() else None
 
-    Returns (base_lines, head_lines, whole): line numbers per repository-relative file on
-    each side, and the files that changed as a whole (new, deleted, untracked).
+
+def _changed_substances(head: Table, base: Table) -> set[str]:
+    """Substances whose rows differ between the two tables, of any kind.
+
+    Rows are compared by content, as the readers read them, never by what a diff's headers
+    say: no file name, path quoting, git setting or moved line can hide a change. A row
+    added, removed or changed in any field marks its substance (on either side); a row that
+    only moved, within its file or to another one, marks nothing.
     """
-    text = _git(
-        root, "diff", "-U0", "--no-color", "--no-renames", "--no-ext-diff", ref, "--", str(rel)
-    )
-    base: dict[str, set[int]] = {}
-    head: dict[str, set[int]] = {}
-    whole: set[str] = set()
-    old = new = None
-    for line in text.splitlines():
-        if line.startswith("--- "):
-            old = None if line[4:] == "/dev/null" else line[6:]
-        elif line.startswith("+++ "):
-            new = None if line[4:] == "/dev/null" else line[6:]
-            if old is None or new is None:
-                whole.add(old or new)
-        elif line.startswith("@@") and old and new:
-            m = _HUNK.match(line)
-            a, b = int(m[1]), int(m[2] if m[2] is not None else 1)
-            c, d = int(m[3]), int(m[4] if m[4] is not None else 1)
-            # a pure insertion (b = 0) or deletion (d = 0) touches no line on that side
-            base.setdefault(old, set()).update(range(a, a + b))
-            head.setdefault(new, set()).update(range(c, c + d))
-    untracked = _git(root, "ls-files", "--others", "--exclude-standard", "--", str(rel))
-    whole.update(untracked.splitlines())
-    return base, head, whole
+    import pandas as pd
 
-
-def _touched(table: Table, to_key, lines: dict, whole: set) -> set[str]:
-    """Substances of the rows standing at the changed lines; a change outside any row (a
-    header, a comment) or a whole-file change marks every substance of that file.
-
-    ``to_key`` maps a frame's file name to its repository-relative path (None: not in it).
-    """
     out: set[str] = set()
     for kind in KINDS:
-        frame = getattr(table, kind)
-        if not len(frame):
+        sides = []
+        for sign, table in ((1, head), (-1, base)):
+            frame = getattr(table, kind)
+            if len(frame):
+                sides.append(
+                    pd.DataFrame(
+                        {
+                            "substance": frame["substance"].astype(object).to_numpy(),
+                            "row": _row_hashes(frame),
+                            "sign": sign,
+                        }
+                    )
+                )
+        if not sides:
             continue
-        file_code, file_names = codes(frame["file"])
-        line_all = frame["line"].to_numpy()
-
-        def substances(rows: np.ndarray, frame=frame) -> list[str]:
-            # as text only for the rows asked for (all of a file only when it all changed)
-            return frame["substance"].iloc[rows].astype(str).tolist()
-
-        for k, name in enumerate(file_names):
-            key = to_key(str(name))
-            rows = np.flatnonzero(file_code == k)
-            if key is None or key in whole:
-                out.update(substances(rows))
-                continue
-            changed = lines.get(key)
-            if not changed:
-                continue
-            order = np.argsort(line_all[rows])
-            starts, rows = line_all[rows][order], rows[order]
-            at = np.searchsorted(starts, np.fromiter(changed, dtype=np.int64), side="right") - 1
-            if (at < 0).any():
-                out.update(substances(rows))  # a header or comment line changed
-            out.update(substances(rows[at[at >= 0]]))
+        rows = pd.concat(sides, ignore_index=True)
+        net = rows.groupby(["substance", "row"], sort=False, dropna=False)["sign"].sum()
+        out.update(str(s) for s in net[net != 0].index.get_level_values("substance"))
     return out
-
-
-def _relative(path: str, start: Path) -> str | None:
-    try:
-        return Path(path).resolve().relative_to(start.resolve()).as_posix()
-    except ValueError:
-        return None
 
 
 def load_accepted(path: Path) -> list[Acceptance]:
@@ -316,33 +288,28 @@ def gate(
     table = Path(table)
     head = load_table(table)
     pol: Policy = load_policy(head.policy_path, policy)
+    unreadable: str | None = None
     with tempfile.TemporaryDirectory(prefix="vpaudit-gate-") as tmp:
         base_path = _table_at(table, base, Path(tmp))
-        base_table = load_table(base_path) if base_path.exists() else None
-    root = Path(
-        _git(
-            table.resolve() if table.is_dir() else table.resolve().parent,
-            "rev-parse",
-            "--show-toplevel",
-        ).strip()
-    )
-    rel = table.resolve().relative_to(root)
-    base_lines, head_lines, whole = _diff_lines(root, base, rel)
-    policy_files = {(rel / "vpaudit.toml").as_posix()}
-    if policy is None and (policy_files & (set(base_lines) | set(head_lines) | whole)):
+        try:
+            base_table = load_table(base_path) if base_path.exists() else None
+        except TableError as exc:  # say where at the base, not in a deleted temporary copy
+            errors = exc.errors if isinstance(exc, TableErrors) else [exc]
+            unreadable = str(errors[0]).replace(str(Path(tmp)) + "/", f"{base}:")
+            if len(errors) > 1:
+                unreadable += f" (and {len(errors) - 1} more problem(s))"
+            base_table = None
+        base_policy = _policy_text(base_table)
+    if base_table is None:  # the table did not exist (or could not be read) at the base
+        changed = set(head.records["substance"].astype(str))
+        for kind in ("references", "points"):
+            changed |= set(getattr(head, kind)["substance"].astype(str))
+    elif policy is None and _policy_text(head) != base_policy:
         # the thresholds themselves changed: every substance is affected
         changed = set(head.records["substance"].astype(str))
-        if base_table is not None:
-            changed |= set(base_table.records["substance"].astype(str))
+        changed |= set(base_table.records["substance"].astype(str))
     else:
-        changed = _touched(head, lambda n: _relative(n, root), head_lines, whole)
-        if base_table is not None:
-            changed |= _touched(
-                base_table,
-                lambda n: (rel / r).as_posix() if (r := _relative(n, base_path)) else None,
-                base_lines,
-                whole,
-            )
+        changed = _changed_substances(head, base_table)
     head_result = audit_table(restrict(head, changed), pol, table_path=str(table))
     base_keys = set()
     if base_table is not None and changed:
@@ -358,6 +325,20 @@ def gate(
     )
     for f in result.findings:
         result.status[id(f)] = "existing" if f.key in base_keys else "new"
+    if unreadable is not None:
+        result.findings.append(
+            Finding(
+                "base-unreadable",
+                Severity.note,
+                "",
+                (),
+                f"the table could not be read at {base}, so every finding counts as new: "
+                f"{unreadable}",
+                {"base": base},
+                None,
+                None,
+            )
+        )
     root = table if table.is_dir() else table.parent
     _apply_acceptances(
         result, load_accepted(root / ACCEPTED_FILE), root / ACCEPTED_FILE, today or dt.date.today()

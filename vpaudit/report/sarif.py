@@ -16,6 +16,7 @@ _EXTRA_RULES = {
     "internal-error": "A check failed to run; the others still ran.",
     "acceptance-expired": "An accepted finding's acceptance has expired.",
     "acceptance-unused": "An accepted finding no longer occurs.",
+    "base-unreadable": "The table could not be read at the gate's base revision.",
 }
 
 

@@ -65,6 +65,28 @@ def test_store_is_verified_on_open(tmp_path, clean_sample):
         verify(db)
 
 
+@pytest.mark.parametrize(
+    "statement",
+    [
+        "UPDATE records SET A = 99 WHERE id = 'ardenite-l1'",  # once read 9.6e29 Pa, not 95.6
+        "UPDATE records SET t_max = 5000 WHERE id = 'ardenite-l1'",
+        "UPDATE \"references\" SET value_si = 1 WHERE quantity = 'melting_point'",
+        "UPDATE points SET P_Pa = P_Pa * 2",
+        "UPDATE records SET line = line + 1 WHERE id = 'ardenite-l1'",
+        "INSERT INTO problems VALUES ('f.csv', 1, 'A', 'range', 'made up', 'x', 'y')",
+    ],
+)
+def test_a_changed_value_in_any_stored_column_is_refused(tmp_path, clean_sample, statement):
+    db = tmp_path / "s.duckdb"
+    import_table(clean_sample, db)
+    verify(db)
+    con = duckdb.connect(str(db))
+    con.execute(statement)
+    con.close()
+    with pytest.raises(StoreError, match="differ from its manifest"):
+        verify(db)
+
+
 def test_stray_wal_and_missing_manifest_are_reported(tmp_path, clean_sample):
     db = tmp_path / "s.duckdb"
     import_table(clean_sample, db)

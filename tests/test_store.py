@@ -4,11 +4,13 @@ import shutil
 
 import duckdb
 import pytest
+from click.testing import CliRunner
 from conftest import write
 
 from vpaudit.api import open_table
 from vpaudit.auditing import audit_table
-from vpaudit.errors import RecordRuleError, TableErrors
+from vpaudit.cli import main
+from vpaudit.errors import RecordRuleError, StoreError, TableErrors
 from vpaudit.readers import load_table
 from vpaudit.store import connect, import_table, read_findings, write_run
 from vpaudit.writers import export_table
@@ -85,3 +87,21 @@ def test_audit_runs_and_findings_are_stored(tmp_path, sample_db):
         assert set(stored["check"]) == {f.check for f in result.findings}
     finally:
         con.close()
+
+
+def test_a_db_path_that_is_not_a_store_is_refused_and_left_alone(tmp_path, clean_sample):
+    # DuckDB opens a CSV file as an in-memory database: the import once reported success
+    # and stored nothing
+    other = tmp_path / "existing.csv"
+    other.write_text("a,b\n1,2\n")
+    with pytest.raises(StoreError, match="not a vpaudit store"):
+        import_table(clean_sample, other)
+    assert other.read_text() == "a,b\n1,2\n"
+    foreign = tmp_path / "other.duckdb"
+    con = duckdb.connect(str(foreign))
+    con.execute("CREATE TABLE parts (x INTEGER)")
+    con.close()
+    with pytest.raises(StoreError, match="not a vpaudit store"):
+        import_table(clean_sample, foreign)
+    out = CliRunner().invoke(main, ["import", str(clean_sample), "--db", str(other)])
+    assert out.exit_code == 2 and "not a vpaudit store" in out.output

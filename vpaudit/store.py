@@ -10,10 +10,11 @@ at once; on any error nothing changes. After a write the database is checkpointe
 
 Guarantees checked on every open (:func:`verify`):
 
-* a content manifest -- row counts and a SHA-256 digest per kind over every text cell (the
-  verbatim number text included), file and line -- is stored inside the database, in the
-  import's own transaction, and written beside it as ``<db>.manifest.json``; a database whose
-  content, inner manifest and outer manifest do not all agree is refused;
+* a content manifest -- row counts and a SHA-256 digest per kind over every stored cell
+  (each number's verbatim text and its value, SI values, file and line included) -- is stored
+  inside the database, in the import's own transaction, and written beside it as
+  ``<db>.manifest.json``; a database whose content, inner manifest and outer manifest do not
+  all agree is refused;
 * a stray ``<db>.wal`` (a store not closed cleanly, or copied without its log) is refused;
 * writers take an advisory lock ``<db>.lock`` with a bounded wait and a message naming the
   holder; DuckDB's own lock conflict is reported in plain words.
@@ -45,29 +46,46 @@ __all__ = [
 ]
 
 #: Version of the store's table layout; a store of another version is refused.
-SCHEMA_VERSION = 1
+SCHEMA_VERSION = 2  # 2: the manifest covers every stored column, values included
 
 
-def _ddl(columns, extra: list[tuple[str, str]]) -> str:
-    parts = []
+def _columns(columns, extra: list[tuple[str, str]]) -> list[tuple[str, str]]:
+    out = []
     for c in columns:
         if c.kind == "number":
-            parts += [f'"{c.name}" DOUBLE', f'"{c.name}_text" VARCHAR']
+            out += [(c.name, "DOUBLE"), (c.name + "_text", "VARCHAR")]
         else:
-            parts.append(f'"{c.name}" VARCHAR')
-    parts += [f'"{n}" {t}' for n, t in extra]
-    parts += ['"file" VARCHAR', '"line" BIGINT']
-    return ", ".join(parts)
+            out.append((c.name, "VARCHAR"))
+    return out + extra + [("file", "VARCHAR"), ("line", "BIGINT")]
 
 
+#: Every column of the tables the store keeps for a table, with its SQL type.
+_COLUMNS: dict[str, list[tuple[str, str]]] = {
+    "records": _columns(RECORD_COLUMNS, []),
+    "references": _columns(REFERENCE_COLUMNS, [("value_si", "DOUBLE")]),
+    "points": _columns(POINT_COLUMNS, [("T_K", "DOUBLE"), ("P_Pa", "DOUBLE")]),
+    "problems": [
+        ("file", "VARCHAR"),
+        ("line", "BIGINT"),
+        ("column", "VARCHAR"),
+        ("rule", "VARCHAR"),
+        ("message", "VARCHAR"),
+        ("id", "VARCHAR"),
+        ("substance", "VARCHAR"),
+    ],
+    "rewrites": [
+        ("file", "VARCHAR"),
+        ("line", "BIGINT"),
+        ("column", "VARCHAR"),
+        ("before", "VARCHAR"),
+        ("after", "VARCHAR"),
+        ("rewrites", "VARCHAR"),
+    ],
+}
+#: What the manifest covers: every table the tool reads a table back from.
+_MANIFEST_KINDS = tuple(_COLUMNS)
 _TABLES = {
-    "records": _ddl(RECORD_COLUMNS, []),
-    "references": _ddl(REFERENCE_COLUMNS, [("value_si", "DOUBLE")]),
-    "points": _ddl(POINT_COLUMNS, [("T_K", "DOUBLE"), ("P_Pa", "DOUBLE")]),
-    "problems": '"file" VARCHAR, "line" BIGINT, "column" VARCHAR, "rule" VARCHAR, '
-    '"message" VARCHAR, "id" VARCHAR, "substance" VARCHAR',
-    "rewrites": '"file" VARCHAR, "line" BIGINT, "column" VARCHAR, "before" VARCHAR, '
-    '"after" VARCHAR, "rewrites" VARCHAR',
+    **{kind: ", ".join(f'"{n}" {t}' for n, t in cols) for kind, cols in _COLUMNS.items()},
     "runs": '"run_id" BIGINT, "started_at" TIMESTAMP, "table_path" VARCHAR, "policy" VARCHAR, '
     '"records" BIGINT, "substances" BIGINT, "pairs" BIGINT, "errors" BIGINT, '
     '"warnings" BIGINT, "notes" BIGINT',
@@ -75,7 +93,6 @@ _TABLES = {
     '"records" VARCHAR[], "message" VARCHAR, "evidence" VARCHAR, '
     '"suggestion" VARCHAR, "file" VARCHAR, "line" BIGINT',
 }
-_DATA = ("records", "references", "points", "problems", "rewrites")
 
 
 def connect(path: str | Path | None = None, read_only: bool = False) -> duckdb.DuckDBPyConnection:
@@ -90,6 +107,8 @@ def connect(path: str | Path | None = None, read_only: bool = False) -> duckdb.D
         When the file is locked by another process, is not a DuckDB file, or has another
         schema version.
     """
+    if path is not None:
+        _refuse_foreign(Path(path))
     try:
         con = duckdb.connect(":memory:" if path is None else str(path), read_only=read_only)
     except duckdb.IOException as exc:
@@ -110,7 +129,32 @@ def connect(path: str | Path | None = None, read_only: bool = False) -> duckdb.D
     return con
 
 
+def _refuse_foreign(path: Path) -> None:
+    """Refuse a path that holds something other than a DuckDB database.
+
+    DuckDB opens some other files (a CSV file becomes an in-memory view) without complaint,
+    so an import into ``--db table.csv`` would report success and store nothing.
+    """
+    if path.is_dir():
+        raise StoreError(f"{path} is a directory; --db takes a store file (.duckdb)")
+    if not path.is_file() or path.stat().st_size == 0:
+        return
+    with open(path, "rb") as fh:
+        head = fh.read(12)
+    if head[8:12] != b"DUCK":  # DuckDB's file header: its magic bytes at offset 8
+        raise StoreError(
+            f"{path} is not a vpaudit store (not a DuckDB database file): give the name of "
+            "an existing store or of a new file, e.g. --db table.duckdb"
+        )
+
+
 def _ensure_schema(con: duckdb.DuckDBPyConnection, path) -> None:
+    tables = {r[0] for r in con.execute("SELECT table_name FROM duckdb_tables()").fetchall()}
+    if tables and "meta" not in tables:
+        raise StoreError(
+            f"{path} is a DuckDB database but not a vpaudit store (it holds "
+            f"{', '.join(sorted(tables)[:5])}); give a new file name for the store"
+        )
     con.execute('CREATE TABLE IF NOT EXISTS meta ("key" VARCHAR PRIMARY KEY, "value" VARCHAR)')
     row = con.execute("SELECT value FROM meta WHERE key = 'schema_version'").fetchone()
     if row is None:
@@ -118,7 +162,8 @@ def _ensure_schema(con: duckdb.DuckDBPyConnection, path) -> None:
     elif int(row[0]) != SCHEMA_VERSION:
         raise StoreError(
             f"{path} has store schema version {row[0]}; this vpaudit reads "
-            f"version {SCHEMA_VERSION}: rebuild it with 'vpaudit import'"
+            f"version {SCHEMA_VERSION}: remove it (and {Path(str(path)).name}.manifest.json) "
+            "and import the table again"
         )
     for name, ddl in _TABLES.items():
         con.execute(f'CREATE TABLE IF NOT EXISTS "{name}" ({ddl})')
@@ -132,7 +177,8 @@ def _check_version(con, path) -> None:
     if row is None or int(row[0]) != SCHEMA_VERSION:
         raise StoreError(
             f"{path} has store schema version {row and row[0]}; this vpaudit "
-            f"reads version {SCHEMA_VERSION}"
+            f"reads version {SCHEMA_VERSION}: remove it (and {Path(str(path)).name}.manifest.json) "
+            "and import the table again"
         )
 
 
@@ -154,18 +200,10 @@ def write_table(con: duckdb.DuckDBPyConnection, table: Table, source: str | None
     source : str, optional
         Where the table was read from, kept in ``meta``.
     """
-    frames = {
-        "records": table.records,
-        "references": table.references,
-        "points": table.points,
-        "problems": table.problems,
-        "rewrites": pd.DataFrame(
-            table.rewrites, columns=["file", "line", "column", "before", "after", "rewrites"]
-        ),
-    }
+    frames = _frames(table)
     con.execute("BEGIN TRANSACTION")
     try:
-        for name in _DATA:
+        for name in _MANIFEST_KINDS:
             con.execute(f'DELETE FROM "{name}"')
             incoming = _frame_for(con, name, frames[name])
             if len(incoming):
@@ -275,44 +313,52 @@ def read_findings(con: duckdb.DuckDBPyConnection, run_id: int | None = None) -> 
     return con.execute('SELECT * FROM "findings" WHERE run_id = ?', [run_id]).df()
 
 
-def _hash_columns(kind: str) -> list[str]:
-    from .readers.table import _SPECS
-
-    cols = []
-    for c in _SPECS[kind]:
-        cols.append(c.name + "_text" if c.kind == "number" else c.name)
-    return cols + ["file", "line"]
-
-
 def digest(frame: pd.DataFrame, kind: str) -> str:
-    """SHA-256 over every text cell of a table frame (numbers as their verbatim text), its
-    file and line, in file-and-line order: the same for the text files and the store.
+    """SHA-256 over every cell of a table frame that the store keeps -- each text cell, each
+    number as its verbatim text *and* as the value the checks use (SI values included) --
+    in file-and-line order: the same for the text files and the store.
     """
-    cols = _hash_columns(kind)
     if not len(frame):
         return hashlib.sha256(b"").hexdigest()
-    order = np.lexsort((frame["line"].to_numpy(), frame["file"].astype(str).to_numpy()))
+    files = frame["file"].astype(str).to_numpy() if "file" in frame else np.zeros(len(frame))
+    lines = frame["line"].to_numpy() if "line" in frame else np.zeros(len(frame))
+    order = np.lexsort((lines, files))
     h = hashlib.sha256()
-    for c in cols:
-        col = frame[c] if c in frame else pd.Series([None] * len(frame))
-        values = col.astype(object).to_numpy()[order]
-        text = np.where(pd.isna(values), "\x00", values.astype(str)).astype(object)
+    for c, sql_type in _COLUMNS[kind]:
         h.update(c.encode())
-        h.update(pd.util.hash_array(text).tobytes())
+        if c not in frame:
+            h.update(b"\x00absent")
+            continue
+        if sql_type == "DOUBLE":  # the value's bits, every NaN alike
+            values = pd.to_numeric(frame[c], errors="coerce").to_numpy(np.float64)[order]
+            h.update(np.where(np.isnan(values), np.nan, values).tobytes())
+        elif sql_type == "BIGINT":
+            h.update(frame[c].to_numpy(np.int64)[order].tobytes())
+        else:
+            values = frame[c].astype(object).to_numpy()[order]
+            text = np.where(pd.isna(values), "\x00", values.astype(str)).astype(object)
+            h.update(pd.util.hash_array(text).tobytes())
     return h.hexdigest()
 
 
 def manifest(table: Table) -> dict:
-    """Row counts and content digests of the three kinds of a table."""
+    """Row counts and content digests of the tables the store keeps for a table."""
     return {
         "schema_version": SCHEMA_VERSION,
         **{
-            kind: {
-                "rows": int(len(getattr(table, kind))),
-                "sha256": digest(getattr(table, kind), kind),
-            }
-            for kind in ("records", "references", "points")
+            kind: {"rows": int(len(frame)), "sha256": digest(frame, kind)}
+            for kind, frame in _frames(table).items()
         },
+    }
+
+
+def _frames(table: Table) -> dict[str, pd.DataFrame]:
+    return {
+        "records": table.records,
+        "references": table.references,
+        "points": table.points,
+        "problems": table.problems,
+        "rewrites": pd.DataFrame(table.rewrites, columns=[c for c, _ in _COLUMNS["rewrites"]]),
     }
 
 
@@ -359,7 +405,7 @@ def verify(db: str | Path, table: Table | None = None) -> Table:
             f"import was interrupted, or the files were mixed up); {rebuild}"
         )
     if actual != inner:
-        bad = [k for k in ("records", "references", "points") if actual[k] != inner.get(k)]
+        bad = [k for k in _MANIFEST_KINDS if actual[k] != inner.get(k)]
         raise StoreError(
             f"{db}: the {', '.join(bad)} in the store differ from its manifest "
             f"(it was changed outside vpaudit); {rebuild}"

@@ -80,7 +80,7 @@ def test_review_walks_the_suggestions(table):
     assert run.exit_code == 0, run.output
     assert "[1/" in run.output and "applied 1 of" in run.output
     log = table / "history" / "revisions.jsonl"
-    assert len(log.read_text().splitlines()) == 1
+    assert sum('"record"' in ln for ln in log.read_text().splitlines()) == 1  # one revision
 
 
 def test_second_revision_is_numbered_and_old_ones_kept(table):
@@ -174,3 +174,90 @@ def test_convert_and_pair_fit_commands(table, tmp_path):
     run = CliRunner().invoke(main, ["fit", str(table), "--substance", "ardenite", "--pair"])
     assert run.exit_code == 0, run.output
     assert "triple point:" in run.output and "cost of the constraint" in run.output
+
+
+def _with_note(table, rid: str, note: str) -> Path:
+    f = table / "records" / "metals.csv"
+    lines = f.read_text(encoding="utf-8").split("\n")
+    header = lines[0].split(",")
+    k = next(i for i, ln in enumerate(lines) if ln.startswith(rid + ","))
+    cells = next(__import__("csv").reader([lines[k]]))
+    cells[header.index("note")] = note
+    lines[k] = ",".join(f'"{c}"' if any(ch in c for ch in ',"\n') else c for c in cells)
+    f.write_text("\n".join(lines), encoding="utf-8")
+    return f
+
+
+def test_apply_edits_the_record_it_names_past_line_separators_in_a_note(table):
+    # str.splitlines() broke at U+2028, so apply reported "revised bellorium-l1" but edited
+    # bellorium-s1's line; the readers count only LF, CR LF and CR
+    f = _with_note(table, "ardenite-l1", "two\u2028parts\x85and\x0cmore")
+    before = f.read_text(encoding="utf-8")
+    run = CliRunner().invoke(
+        main, ["apply", str(table), "enthalpy-implausible:bellorium-l1", "--by", "t"]
+    )
+    assert run.exit_code == 0, run.output
+    after = f.read_text(encoding="utf-8")
+    changed = [
+        (a.split(",")[0], b.split(",")[0])
+        for a, b in zip(before.split("\n"), after.split("\n"), strict=True)
+        if a != b
+    ]
+    assert changed == [("bellorium-l1", "bellorium-l1")]
+    h = history(table, "bellorium-l1")
+    assert h[0]["line_after"].startswith("bellorium-l1,")
+
+
+def test_apply_rewrites_a_record_whose_note_spans_two_lines(table):
+    # a multi-line note before the fixed field once gave an IndexError
+    f = _with_note(table, "dorvane-s1", "first line\nsecond line")
+    run = CliRunner().invoke(main, ["apply", str(table), "slope-not-positive:dorvane-s1"])
+    assert run.exit_code == 0, run.output
+    text = f.read_text(encoding="utf-8")
+    assert ",-9842.23737," in text and '"first line\nsecond line"' in text
+    (entry,) = history(table, "dorvane-s1")[1:]
+    assert entry["line_before"].count("\n") == 2 and entry["after"] == {"B": "-9842.23737"}
+
+
+def test_a_revision_killed_half_way_is_settled_from_the_file(table, monkeypatch):
+    from vpaudit import revisions
+
+    f = table / "records" / "metals.csv"
+    original = f.read_bytes()
+    real = revisions.append_line
+    calls = []
+
+    def dies_after_the_intent(log, line):  # a kill after the intent was written
+        calls.append(line)
+        if len(calls) == 2:
+            raise KeyboardInterrupt
+        real(log, line)
+
+    monkeypatch.setattr(revisions, "append_line", dies_after_the_intent)
+    with pytest.raises(KeyboardInterrupt):
+        apply_correction(table, "galdrite-l1", str(f), 15, {"A": 10.7706297}, reason="x")
+    monkeypatch.setattr(revisions, "append_line", real)
+    # the file was changed, the completion never written: history shows the revision
+    assert f.read_bytes() != original
+    assert [e["revision"] for e in history(table, "galdrite-l1")] == [0, 1]
+    # an intent whose file write never happened does not count
+    f.write_bytes(original)
+    assert history(table, "galdrite-l1") == []
+    # the next apply settles the log and numbers its revision after the real ones
+    apply_correction(table, "galdrite-l1", str(f), 15, {"A": 10.7706298}, reason="y")
+    assert [e["revision"] for e in history(table, "galdrite-l1")] == [0, 1]
+    log = (table / "history" / "revisions.jsonl").read_text().splitlines()
+    assert sum('"abandoned"' in ln for ln in log) == 1
+
+
+def test_a_second_apply_waits_for_the_first(table):
+    from vpaudit._atomic import file_lock
+    from vpaudit.errors import VpauditError
+
+    lock = table / "history" / "revisions.jsonl.lock"
+    with file_lock(lock):
+        with pytest.raises(VpauditError, match="another vpaudit process"):
+            with file_lock(lock, timeout=0.2):
+                pass
+    f = table / "records" / "metals.csv"
+    apply_correction(table, "galdrite-l1", str(f), 15, {"A": 10.7706297}, reason="x")

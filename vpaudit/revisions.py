@@ -21,11 +21,14 @@ import getpass
 import io
 import json
 import re
+import uuid
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
+from ._atomic import append_line, file_lock, write_atomic
 from .errors import Location, TableError, VpauditError
+from .readers.lines import split_lines
 
 __all__ = [
     "RevisionError",
@@ -96,15 +99,23 @@ def _csv_cell(text: str, delimiter: str) -> str:
 
 
 def _edit_csv(lines: list[str], index: int, record_id: str, changes: dict[str, str], path):
+    """The record's block (its first line and any lines a quoted cell carries it over) with
+    the changed cells rewritten, the cells it had, and the index after the block.
+    """
     header_at = next(
         k for k, ln in enumerate(lines) if ln.strip() and not ln.lstrip().startswith("#")
     )
     head = lines[header_at].rstrip("\r\n")
     delimiter = "," if "," in head else (";" if ";" in head else "\t")
     columns = next(csv.reader([head], delimiter=delimiter))
-    line = lines[index]
-    cells = next(csv.reader([line.rstrip("\r\n")], delimiter=delimiter))
-    if "id" not in columns or cells[columns.index("id")] != record_id:
+    reader = csv.reader(iter(lines[index:]), delimiter=delimiter)
+    try:
+        cells = next(reader)
+    except (csv.Error, StopIteration):
+        cells = []
+    end = index + reader.line_num
+    block = "".join(lines[index:end])
+    if "id" not in columns or len(cells) != len(columns) or cells[columns.index("id")] != record_id:
         raise RevisionError(
             f"{path}:{index + 1}: expected record {record_id!r} on this line; the file changed "
             "since it was read -- run the audit again"
@@ -115,12 +126,12 @@ def _edit_csv(lines: list[str], index: int, record_id: str, changes: dict[str, s
             f"{path}: the file has no column {', '.join(map(repr, missing))}; add the column "
             "(an empty cell in every row) and apply again, so that the edit touches one line"
         )
-    spans = _csv_spans(line, delimiter)
-    new = line
+    spans = _csv_spans(block, delimiter)
+    new = block
     for field in sorted(changes, key=lambda f: -spans[columns.index(f)][0]):  # right to left
         a, b = spans[columns.index(field)]
         new = new[:a] + _csv_cell(changes[field], delimiter) + new[b:]
-    return new, {f: cells[columns.index(f)] for f in changes}
+    return new, {f: cells[columns.index(f)] for f in changes}, end
 
 
 # --- YAML and JSON: the value of one key inside the record's mapping -------------------------
@@ -183,20 +194,24 @@ class Edit:
     after: dict[str, str]
     line_before: str
     line_after: str
+    data: bytes  # the whole file as it becomes
 
 
 def _edit_file(path: Path, line: int, record_id: str, changes: dict[str, str]) -> Edit:
+    """The edit of the record at ``line`` of ``path``, with the file's new bytes (not yet
+    written).
+    """
     raw = path.read_bytes()
     bom = raw.startswith(b"\xef\xbb\xbf")
     text = raw[3:].decode("utf-8") if bom else raw.decode("utf-8")
-    lines = text.splitlines(keepends=True)
+    lines = split_lines(text)  # as the readers count lines
     index = line - 1
     if not 0 <= index < len(lines):
         raise RevisionError(f"{path}: has no line {line}; run the audit again")
     suffix = path.suffix.lower()
     if suffix in (".csv", ".tsv", ".txt"):
-        new, before = _edit_csv(lines, index, record_id, changes, path)
-        old_block, new_block, end = lines[index], new, index + 1
+        new_block, before, end = _edit_csv(lines, index, record_id, changes, path)
+        old_block = "".join(lines[index:end])
     elif suffix in (".yaml", ".yml", ".json"):
         new_block, before, end = _edit_mapping(
             lines, index, record_id, changes, path, suffix == ".json"
@@ -208,10 +223,8 @@ def _edit_file(path: Path, line: int, record_id: str, changes: dict[str, str]) -
             "record to a CSV, YAML or JSON file instead"
         )
     out = "".join(lines[:index]) + new_block + "".join(lines[end:])
-    tmp = path.with_name(path.name + ".vpaudit-tmp")
-    tmp.write_bytes((b"\xef\xbb\xbf" if bom else b"") + out.encode("utf-8"))
-    tmp.replace(path)  # atomic on POSIX: the file is either old or new
-    return Edit(str(path), line, before, dict(changes), old_block, new_block)
+    data = (b"\xef\xbb\xbf" if bom else b"") + out.encode("utf-8")
+    return Edit(str(path), line, before, dict(changes), old_block, new_block, data)
 
 
 def _text(value: Any) -> str:
@@ -262,47 +275,98 @@ def apply_correction(
         The log entry written.
     """
     texts = {f: (corrected_text or {}).get(f) or _text(v) for f, v in corrected.items()}
-    edit = _edit_file(Path(file), int(line), record, texts)
     log = history_path(table)
-    entries = _read_log(log)
-    revision = 1 + sum(1 for e in entries if e["record"] == record)
-    entry = {
-        "record": record,
-        "revision": revision,
-        "when": _dt.datetime.now(_dt.UTC).isoformat(timespec="seconds"),
-        "by": _who(by),
-        "why": reason,
-        "finding": finding,
-        "file": edit.file,
-        "line": edit.line,
-        "before": edit.before,
-        "after": edit.after,
-        "line_before": edit.line_before,
-        "line_after": edit.line_after,
-        "suggestion": suggestion,
-    }
-    log.parent.mkdir(parents=True, exist_ok=True)
-    with open(log, "a", encoding="utf-8") as fh:
-        fh.write(json.dumps(entry, sort_keys=True) + "\n")
+    with file_lock(log.with_name(log.name + ".lock"), what=f"the table {table}"):
+        _settle(log)
+        edit = _edit_file(Path(file), int(line), record, texts)
+        revision = 1 + sum(1 for e in _read_log(log) if e["record"] == record)
+        entry = {
+            "record": record,
+            "revision": revision,
+            "when": _dt.datetime.now(_dt.UTC).isoformat(timespec="seconds"),
+            "by": _who(by),
+            "why": reason,
+            "finding": finding,
+            "file": edit.file,
+            "line": edit.line,
+            "before": edit.before,
+            "after": edit.after,
+            "line_before": edit.line_before,
+            "line_after": edit.line_after,
+            "suggestion": suggestion,
+        }
+        # Write-ahead: the intent is on disk before the table file changes, and its
+        # completion after, so a process killed in between leaves an entry that the next
+        # apply or history settles from what the file shows.
+        txn = uuid.uuid4().hex
+        append_line(log, json.dumps({**entry, "txn": txn, "state": "pending"}, sort_keys=True))
+        write_atomic(edit.file, edit.data)
+        append_line(log, json.dumps({"txn": txn, "state": "done"}, sort_keys=True))
     return entry
 
 
-def _read_log(log: Path) -> list[dict]:
+def _log_lines(log: Path) -> list[dict]:
     if not log.is_file():
         return []
+    lines = split_lines(log.read_text(encoding="utf-8"))
     out = []
-    for k, ln in enumerate(log.read_text(encoding="utf-8").splitlines(), 1):
+    for k, ln in enumerate(lines, 1):
         if ln.strip():
             try:
                 out.append(json.loads(ln))
             except json.JSONDecodeError as exc:
+                if k == len(lines) and not ln.endswith("\n"):
+                    continue  # a last line cut short by a kill: its revision never began
                 raise TableError(f"not a JSON line: {exc}", Location(str(log), k)) from None
     return out
 
 
+def _applied(entry: dict) -> bool:
+    """Whether the table file shows a pending revision's change: the record's line(s), where
+    the revision put them, as it made them.
+    """
+    try:
+        raw = Path(entry["file"]).read_bytes()
+    except OSError:
+        return False
+    text = raw.decode("utf-8", "replace").removeprefix("\ufeff")
+    lines = split_lines(text)
+    return "".join(lines[entry["line"] - 1 :]).startswith(entry["line_after"])
+
+
+def _read_log(log: Path) -> list[dict]:
+    """The revisions of the log, oldest first: completed ones, and pending ones (a process
+    killed between writing the table file and the log's completion) whose change the file
+    shows; a pending one the file does not show never happened and is left out.
+    """
+    lines = _log_lines(log)
+    settled = {e["txn"]: e["state"] for e in lines if "record" not in e and "txn" in e}
+    out = []
+    for e in lines:
+        if "record" not in e:
+            continue
+        state = settled.get(e.get("txn"), "done" if "txn" not in e else e.get("state"))
+        if state == "pending":
+            state = "done" if _applied(e) else "abandoned"
+        if state == "done":
+            out.append({k: v for k, v in e.items() if k not in ("txn", "state")})
+    return out
+
+
+def _settle(log: Path) -> None:
+    """Write the outcome of every pending revision into the log (under the apply lock)."""
+    lines = _log_lines(log)
+    settled = {e["txn"] for e in lines if "record" not in e and "txn" in e}
+    for e in lines:
+        if e.get("state") == "pending" and e["txn"] not in settled:
+            state = "done" if _applied(e) else "abandoned"
+            append_line(log, json.dumps({"txn": e["txn"], "state": state}, sort_keys=True))
+
+
 def history(table: str | Path, record: str) -> list[dict]:
     """Every revision of ``record``: revision 0 (as first entered, from the log) and each
-    applied correction, oldest first. A record never corrected has no entries.
+    applied correction, oldest first. A record never corrected has no entries; a revision
+    whose process was killed half-way counts if the table file shows its change.
     """
     entries = [e for e in _read_log(history_path(table)) if e["record"] == record]
     if not entries:

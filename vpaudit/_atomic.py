@@ -1,0 +1,85 @@
+"""Writes that are whole or not at all, and a lock that makes writers take turns.
+
+Every file vpaudit writes for a user (a table file edited by ``apply``, ``accepted.toml``,
+a records file that ``fit --write`` extends, an export, a store's manifest) is written to a
+temporary file beside it, flushed to disk, and renamed over the old one: a reader, or a
+process killed at any moment, sees the old file or the new one, never a mix.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import fcntl
+import os
+import time
+from collections.abc import Iterator
+from pathlib import Path
+
+from .errors import VpauditError
+
+__all__ = ["append_line", "file_lock", "write_atomic"]
+
+
+def _sync_dir(folder: Path) -> None:
+    fd = os.open(folder, os.O_RDONLY)
+    try:
+        os.fsync(fd)
+    finally:
+        os.close(fd)
+
+
+def write_atomic(path: str | Path, data: bytes | str) -> None:
+    """Replace ``path`` with ``data`` (text is written as UTF-8), all or nothing."""
+    path = Path(path)
+    blob = data.encode("utf-8") if isinstance(data, str) else data
+    tmp = path.with_name(f".{path.name}.vpaudit-tmp-{os.getpid()}")
+    try:
+        with open(tmp, "wb") as fh:
+            fh.write(blob)
+            fh.flush()
+            os.fsync(fh.fileno())
+        os.replace(tmp, path)
+    finally:
+        tmp.unlink(missing_ok=True)
+    _sync_dir(path.parent)
+
+
+def append_line(path: str | Path, line: str) -> None:
+    """Append one line (a newline is added) and flush it to disk before returning."""
+    path = Path(path)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    with open(path, "a", encoding="utf-8") as fh:
+        fh.write(line + "\n")
+        fh.flush()
+        os.fsync(fh.fileno())
+
+
+@contextlib.contextmanager
+def file_lock(path: str | Path, timeout: float = 30.0, what: str = "the table") -> Iterator[None]:
+    """Hold an advisory lock on ``path`` (created if missing) while the block runs.
+
+    A second vpaudit process waits up to ``timeout`` seconds, then fails with a message
+    naming the process that holds the lock.
+    """
+    path = Path(path)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    fd = os.open(path, os.O_RDWR | os.O_CREAT, 0o644)
+    try:
+        deadline = time.monotonic() + timeout
+        while True:
+            try:
+                fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+                break
+            except BlockingIOError:
+                if time.monotonic() > deadline:
+                    holder = os.pread(fd, 64, 0).decode("ascii", "replace").strip() or "?"
+                    raise VpauditError(
+                        f"{what} is being changed by another vpaudit process (PID {holder}, "
+                        f"lock {path}); wait for it to finish and try again"
+                    ) from None
+                time.sleep(0.05)
+        os.ftruncate(fd, 0)
+        os.pwrite(fd, str(os.getpid()).encode(), 0)
+        yield
+    finally:
+        os.close(fd)  # closing the descriptor releases the lock

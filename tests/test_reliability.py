@@ -285,3 +285,10 @@ def test_a_hostile_table_is_audited_cleanly():
     assert not [f for f in result.findings if f.check == "internal-error"]
     flagged = {f.records[0] for f in result.findings if f.records}
     assert len(flagged) == 10_000  # every hostile row is reported
+
+
+@pytest.mark.parametrize("timeout", [0, -1, float("inf"), float("nan"), 1e9])
+def test_a_query_time_limit_that_would_not_limit_is_refused(timeout, clean_sample):
+    # 0, -1, inf and nan once removed the limit altogether
+    with pytest.raises(VpauditError, match="time limit must be more than 0"):
+        query(load_table(clean_sample), "select 1", timeout)

@@ -24,7 +24,9 @@ from __future__ import annotations
 
 import hashlib
 import json
+import math
 import os
+import re
 import sys
 import time
 from pathlib import Path
@@ -540,6 +542,10 @@ _LOCKED = {
 }
 
 
+#: The longest time limit a query may be given, in seconds.
+MAX_QUERY_SECONDS = 3600.0
+
+
 def query(table: Table | str | Path, sql: str, timeout: float = 10.0) -> pd.DataFrame:
     """Run one read-only SELECT over a table's records, references, points and problems.
 
@@ -562,9 +568,19 @@ def query(table: Table | str | Path, sql: str, timeout: float = 10.0) -> pd.Data
         statements = duckdb.extract_statements(sql)
     except duckdb.Error as exc:
         raise VpauditError(f"the query does not parse: {str(exc).splitlines()[0]}") from None
+    if not (math.isfinite(timeout) and 0 < timeout <= MAX_QUERY_SECONDS):
+        raise VpauditError(
+            f"the query's time limit must be more than 0 and at most {MAX_QUERY_SECONDS:g} "
+            f"seconds, not {timeout!r}"
+        )
     if len(statements) != 1 or statements[0].type != duckdb.StatementType.SELECT:
         kinds = ", ".join(str(st.type).split(".")[-1] for st in statements) or "nothing"
         raise VpauditError(f"only a single SELECT statement is run (got: {kinds})")
+    # older DuckDB releases parse PRAGMA as a SELECT of a table function: read the keyword
+    first = re.match(r"[\s(]*([A-Za-z]+)", re.sub(r"--[^\n]*|/\*.*?\*/", " ", sql, flags=re.S))
+    if first is None or first[1].upper() not in ("SELECT", "WITH", "FROM", "VALUES", "TABLE"):
+        word = first[1].upper() if first else "nothing"
+        raise VpauditError(f"only a single SELECT statement is run (got: {word})")
     if isinstance(table, str | Path):
         verify(table)
         con = duckdb.connect(

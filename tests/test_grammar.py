@@ -161,3 +161,29 @@ def test_column_path_equals_scalar_path_cell_by_cell(cells):
             assert bad
         else:
             assert not bad and v == expected
+
+
+_SUP = str.maketrans("0123456789-", "⁰¹²³⁴⁵⁶⁷⁸⁹⁻")
+
+
+@given(
+    mantissa=st.integers(min_value=1, max_value=999),
+    exponent=st.integers(min_value=-30, max_value=30),
+    sign=st.sampled_from(["×", "x", "·", "*"]),
+    marker=st.sampled_from(["^", "**", "superscript"]),
+)
+@example(mantissa=3, exponent=0, sign="x", marker="^")
+def test_a_marked_power_of_ten_is_rewritten_to_its_exact_value(mantissa, exponent, sign, marker):
+    power = str(exponent).translate(_SUP) if marker == "superscript" else f"{marker}{exponent}"
+    new, rewrites = normalize_typography(f"{mantissa}{sign}10{power}")
+    assert rewrites and parse_number(new) == float(f"{mantissa}e{exponent}")
+
+
+@pytest.mark.parametrize("text", ["3x100", "3x1000", "2×105", "3x10", "1.5·1012"])
+def test_an_unmarked_power_of_ten_is_left_for_the_reader_to_refuse(text):
+    # "3x100" was rewritten to 3 (3e0), not 300: without ^, ** or superscript digits the
+    # exponent cannot be told from the digits of a factor
+    new, rewrites = normalize_typography(text)
+    assert new == text and not rewrites
+    with pytest.raises(NumberSyntaxError):
+        parse_number(new)

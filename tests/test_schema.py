@@ -148,3 +148,15 @@ def test_policy_model_rejects_unknown_keys():
         _from_mapping({"checks": {"melting-point-mismatch": {"tolerence": 0.1}}}, "x.toml")
     with pytest.raises(PolicyError, match="unknown check"):
         _from_mapping({"checks": {"no-such-check": {"severity": "off"}}}, "x.toml")
+
+
+@pytest.mark.parametrize("text", ["nan", "inf", "-inf", "-1", "-0.5"])
+def test_policy_thresholds_that_would_switch_a_check_off_silently_are_refused(tmp_path, text):
+    # TOML reads nan and inf as floats: a tolerance of nan once made every comparison false
+    from vpaudit.errors import PolicyError
+    from vpaudit.policy import load_policy
+
+    path = tmp_path / "vpaudit.toml"
+    path.write_text(f"[checks.melting-point-mismatch]\ntolerance = {text}\n")
+    with pytest.raises(PolicyError, match="tolerance must be a finite number, 0 or more"):
+        load_policy(path)

@@ -17,6 +17,7 @@ each other far less well. The calibration behind both is in ``docs/calibration.m
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -78,6 +79,11 @@ class Policy:
                     )
                 if isinstance(value, bool) or not isinstance(value, int | float):
                     raise PolicyError(f"{self.origin}: [checks.{name}] {key} must be a number")
+                if not (math.isfinite(value) and value >= 0):  # every threshold is a size
+                    raise PolicyError(
+                        f"{self.origin}: [checks.{name}] {key} must be a finite number, 0 or "
+                        f"more, not {value!r} ({spec.thresholds[key].description})"
+                    )
 
     def threshold(self, check: str, name: str) -> float:
         """The value of threshold ``name`` of ``check`` under this policy."""

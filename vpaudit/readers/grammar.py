@@ -221,7 +221,12 @@ def parse_number_texts(values):
 _MINUS_LIKE = "\u2212\u2013\u2012\u2010\u2011\ufe63\uff0d"
 _SPACE_LIKE = "\u00a0\u2009\u202f\u2007\u200a\u2008\u2002\u2003\u2004\u2005\u2006"
 _SUPERSCRIPT = str.maketrans("⁰¹²³⁴⁵⁶⁷⁸⁹⁻⁺", "0123456789-+")
-_TIMES_TEN = re.compile(r"^(?P<m>[+-]?[0-9.]+)\s*[×x·*]\s*10(?:\^|\*\*)?(?P<e>[-+]?[0-9]+)$")
+# the exponent must be marked (^, ** or superscript digits): "3x100" is 3 x 100 or a lost
+# superscript, and is left for the reader to refuse rather than guessed
+_TIMES_TEN = re.compile(
+    r"^(?P<m>[+-]?[0-9.]+)\s*[×x·*]\s*10"
+    r"(?:(?:\^|\*\*)(?P<e>[-+]?[0-9]+)|(?P<s>[⁺⁻]?[⁰¹²³⁴⁵⁶⁷⁸⁹]+))$"
+)
 _FORTRAN = re.compile(r"^(?P<m>[+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+))[dD](?P<e>[+-]?[0-9]+)$")
 
 
@@ -260,9 +265,8 @@ def normalize_typography(text: str) -> tuple[str, list[str]]:
         out = f"{m['m']}e{m['e']}"
         rewrites.append("Fortran exponent D -> e")
     else:
-        translated = stripped.translate(_SUPERSCRIPT)
-        m = _TIMES_TEN.match(translated)
+        m = _TIMES_TEN.match(stripped)
         if m:
-            out = f"{m['m']}e{m['e']}"
+            out = f"{m['m']}e{m['e'] or m['s'].translate(_SUPERSCRIPT)}"
             rewrites.append("power of ten written as an exponent")
     return out, rewrites

@@ -330,3 +330,19 @@ def test_a_note_with_line_separators_does_not_move_line_numbers(tmp_path):
     assert read_yaml("t.yaml", yaml_text.encode()).lines == [1, 4]
     json_text = f'[{{"id": "r1", "note": "{note[:-6]}"}},\n {{"id": "r2"}}]'
     assert read_json("t.json", json_text.encode()).lines == [1, 2]
+
+
+@pytest.mark.parametrize("null", ["null", "~", "Null", "NULL", ""])
+def test_a_yaml_null_source_is_a_missing_source_not_a_citation(tmp_path, null):
+    # "source: null" was kept as the text "null" and counted as a citation
+    text = (
+        "- id: r1\n  substance: zinc-demo\n  phase: solid\n  form: two-term\n  log_base: e\n"
+        f"  pressure_unit: Pa\n  A: 25.5\n  B: -15000\n  t_min: 300\n  t_max: 600\n"
+        f"  source: {null}\n"
+    )
+    t = read_file(write(tmp_path / "r.yaml", text))
+    assert t.records["source"].isna().all()
+    assert list(t.problems["rule"]) == ["source"]
+    text = text.replace(f"source: {null}", 'source: "null"')
+    quoted = read_file(write(tmp_path / "q.yaml", text))
+    assert quoted.records["source"].astype(object).tolist() == ["null"]

@@ -413,10 +413,14 @@ def _read_csv_exact(
 # --- YAML: composed node by node, so scalars stay text and duplicates are seen ------------
 
 
+#: The plain scalars YAML 1.1 and 1.2 both read as null; quoted, they stay text.
+_YAML_NULLS = frozenset({"", "~", "null", "Null", "NULL"})
+
+
 def _yaml_scalar(path: str, node: yaml.Node, key: str, at) -> str | None:
     if isinstance(node, yaml.ScalarNode):
-        if node.value == "" and node.style is None:
-            return None
+        if node.style is None and node.value in _YAML_NULLS:
+            return None  # an unquoted null is a missing value, as JSON's null is
         return node.value
     raise _err(
         path,

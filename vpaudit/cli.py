@@ -22,6 +22,15 @@ EXIT_USAGE = 2
 FORMATS = ("text", "json", "markdown", "csv", "sarif")
 
 
+def _say(message: object = "", **kwargs) -> None:
+    """``click.echo`` for lines a person reads: table text's control characters are shown
+    as escapes, never sent to the terminal (machine formats are echoed as they are).
+    """
+    from .report._escape import visible
+
+    click.echo(visible(message, keep="\n"), **kwargs)
+
+
 #: Set by ``audit`` once its report is out and no store was written: nothing is left to
 #: do but exit (see :func:`run`).
 _DONE_WITHOUT_STORE = False
@@ -53,7 +62,7 @@ class _Group(click.Group):
         try:
             return super().invoke(ctx)
         except VpauditError as exc:
-            click.echo(f"{type(exc).__name__}: {exc}", err=True)
+            _say(f"{type(exc).__name__}: {exc}", err=True)
             ctx.exit(EXIT_USAGE)
 
 
@@ -213,7 +222,7 @@ def audit_cmd(
         from .store import store_table
 
         if len(t.problems):
-            click.echo(
+            _say(
                 f"not stored in {db}: the table breaks rules of the format (see the "
                 "findings); 'vpaudit import' stores only clean tables",
                 err=True,
@@ -228,7 +237,7 @@ def audit_cmd(
 
 def _report_rewrites(table) -> None:
     for r in table.rewrites:
-        click.echo(
+        _say(
             f"rewrote {r['file']}:{r['line']} [{r['column']}] {r['before']!r} -> "
             f"{r['after']!r} ({r['rewrites']})",
             err=True,
@@ -250,9 +259,7 @@ def checks_cmd(fmt):
     """List the checks with their severity, thresholds and the rule behind each."""
     from .docs import checks_json, checks_markdown, checks_text
 
-    click.echo(
-        {"text": checks_text, "json": checks_json, "markdown": checks_markdown}[fmt](), nl=False
-    )
+    _say({"text": checks_text, "json": checks_json, "markdown": checks_markdown}[fmt](), nl=False)
 
 
 # --- eval ----------------------------------------------------------------------------------
@@ -282,7 +289,7 @@ def eval_cmd(table, substance, at, pressure, unit, extrapolate, fmt):
     if fmt == "json":
         click.echo(json.dumps(answer, indent=2))
     else:
-        click.echo(render_eval(answer, unit), nl=False)
+        _say(render_eval(answer, unit), nl=False)
 
 
 # --- show ----------------------------------------------------------------------------------
@@ -306,7 +313,7 @@ def show_cmd(table, substance, policy):
     result = audit_table(
         t, load_policy(t.policy_path, policy), substances=[substance], table_path=str(table)
     )
-    click.echo(render_show(t, substance, result), nl=False)
+    _say(render_show(t, substance, result), nl=False)
 
 
 # --- import / export -----------------------------------------------------------------------
@@ -338,7 +345,7 @@ def import_cmd(table, db, normalize_typography, quiet, jobs):
             table,
             db,
             normalize=normalize_typography,
-            report=lambda r: click.echo(
+            report=lambda r: _say(
                 f"rewrote {r['file']}:{r['line']} [{r['column']}] {r['before']!r} -> "
                 f"{r['after']!r}",
                 err=True,
@@ -346,7 +353,7 @@ def import_cmd(table, db, normalize_typography, quiet, jobs):
         )
         if bar is not None:
             bar.update(1)
-    click.echo(
+    _say(
         f"imported {counts['records']} records, {counts['references']} references and "
         f"{counts['points']} points into {db}"
     )
@@ -361,7 +368,7 @@ def export_cmd(db, to):
     from .writers import export_table
 
     counts = export_table(open_table(db), to)
-    click.echo(
+    _say(
         f"exported {counts['records']} records, {counts['references']} references and "
         f"{counts['points']} points to {to}"
     )
@@ -406,7 +413,7 @@ def accept_cmd(finding, table, reason, until, by):
     from .gate import accept
 
     path = accept(table, finding, reason, until, by)
-    click.echo(f"accepted {finding} in {path}")
+    _say(f"accepted {finding} in {path}")
 
 
 # --- plot ----------------------------------------------------------------------------------
@@ -430,7 +437,7 @@ def plot_cmd(table, substance, output, unit):
 
     drawn = plot_substance(open_table(table), substance, output, unit)
     cross = ", ".join(f"{c['T_K']:.5g} K" for c in drawn["crossings"]) or "none"
-    click.echo(f"wrote {output}: {len(drawn['records'])} record(s), crossing(s): {cross}")
+    _say(f"wrote {output}: {len(drawn['records'])} record(s), crossing(s): {cross}")
 
 
 # --- report --------------------------------------------------------------------------------
@@ -453,7 +460,7 @@ def report_cmd(table, output, policy, no_plots):
     t = open_table(table)
     result = audit_table(t, load_policy(t.policy_path, policy), table_path=str(table))
     Path(output).write_text(render_report(result, t, plots=not no_plots), encoding="utf-8")
-    click.echo(f"wrote {output}: {len(result.findings)} finding(s)")
+    _say(f"wrote {output}: {len(result.findings)} finding(s)")
 
 
 # --- fit / convert ---------------------------------------------------------------------------
@@ -567,7 +574,7 @@ def fit_cmd(
         from .writers import append_records
 
         line = append_records(write_to, recs)
-        click.echo(f"appended {len(recs)} record(s) to {write_to} at line {line}")
+        _say(f"appended {len(recs)} record(s) to {write_to} at line {line}")
 
 
 @main.command("convert")
@@ -625,14 +632,14 @@ def convert_cmd(
         clean = {
             k: v for k, v in out.items() if not k.endswith("_text") and k not in ("file", "line")
         }
-        click.echo(
+        _say(
             json.dumps(
                 {"record": clean, "exact": exact, "max_deviation_lnP": dev}, indent=2, default=str
             )
         )
         return
     how = "exact conversion" if exact else f"refit; max deviation {dev:.3g} in ln P over the range"
-    click.echo(f"# {record}: {how}")
+    _say(f"# {record}: {how}")
     click.echo(records_csv([out]), nl=False)
 
 
@@ -652,14 +659,12 @@ def _reimport(table, db) -> None:
         from .store import import_table
 
         counts = import_table(table, db)
-        click.echo(f"re-imported {counts['records']} records into {db}")
+        _say(f"re-imported {counts['records']} records into {db}")
 
 
 def _show_entry(e: dict) -> None:
     changes = ", ".join(f"{k}: {e['before'].get(k)!r} -> {v!r}" for k, v in e["after"].items())
-    click.echo(
-        f"revised {e['record']} (revision {e['revision']}) in {e['file']}:{e['line']}: {changes}"
-    )
+    _say(f"revised {e['record']} (revision {e['revision']}) in {e['file']}:{e['line']}: {changes}")
 
 
 @main.command("apply")
@@ -689,7 +694,7 @@ def apply_cmd(table, finding, reason, by, db):
         _show_entry(e)
     after = audit_table(open_table(table), load_policy(t.policy_path), substances=subs or None)
     left = [g for g in after.findings if g.severity.rank >= 1]
-    click.echo(
+    _say(
         f"re-audited {', '.join(subs)}: "
         + (
             "clean (no errors or warnings)"
@@ -728,15 +733,15 @@ def review_cmd(table, by, db, min_confidence):
             seen.add(s["record"])
             offers.append(f)
     if not offers:
-        click.echo("no suggested fixes to review")
+        _say("no suggested fixes to review")
         return
     applied = 0
     for k, f in enumerate(offers, 1):
         s = f.suggestion
-        click.echo(f"\n[{k}/{len(offers)}] {f.substance}: {f.check} on {', '.join(f.records)}")
-        click.echo(f"  {f.message}")
-        click.echo(f"  suggestion for {s['record']}: {s['explanation']}")
-        click.echo(f"  corrected: {json.dumps(s.get('corrected_text') or s['corrected'])}")
+        _say(f"\n[{k}/{len(offers)}] {f.substance}: {f.check} on {', '.join(f.records)}")
+        _say(f"  {f.message}")
+        _say(f"  suggestion for {s['record']}: {s['explanation']}")
+        _say(f"  corrected: {json.dumps(s.get('corrected_text') or s['corrected'])}")
         answer = click.prompt(
             "  apply it? [a]pply, [s]kip, [q]uit",
             default="s",
@@ -749,7 +754,7 @@ def review_cmd(table, by, db, min_confidence):
             for e in apply_suggestion(table, t, f, None, by):
                 _show_entry(e)
             applied += 1
-    click.echo(f"\napplied {applied} of {len(offers)} suggested fix(es)")
+    _say(f"\napplied {applied} of {len(offers)} suggested fix(es)")
     if applied:
         _reimport(table, db)
 
@@ -769,21 +774,21 @@ def history_cmd(table, record, fmt):
         click.echo(json.dumps(entries, indent=2))
         return
     if not entries:
-        click.echo(f"{record}: no revisions (the record is as first entered)")
+        _say(f"{record}: no revisions (the record is as first entered)")
         return
     for e in entries:
         if e["revision"] == 0:
-            click.echo(f"revision 0 (as entered), {e['file']}:{e['line']}")
-            click.echo(f"  {e['line_after'].rstrip()}")
+            _say(f"revision 0 (as entered), {e['file']}:{e['line']}")
+            _say(f"  {e['line_after'].rstrip()}")
             continue
-        click.echo(
+        _say(
             f"revision {e['revision']}, {e['when']} by {e['by']}"
             + (f", answering {e['finding']}" if e.get("finding") else "")
         )
-        click.echo(f"  why: {e['why']}")
+        _say(f"  why: {e['why']}")
         for k, v in e["after"].items():
-            click.echo(f"  {k}: {e['before'].get(k)!r} -> {v!r}")
-        click.echo(f"  {e['line_after'].rstrip()}")
+            _say(f"  {k}: {e['before'].get(k)!r} -> {v!r}")
+        _say(f"  {e['line_after'].rstrip()}")
 
 
 # --- query ---------------------------------------------------------------------------------
@@ -822,7 +827,7 @@ def query_cmd(table, sql, fmt, timeout):
     elif fmt == "json":
         click.echo(frame.to_json(orient="records", indent=1))
     else:
-        click.echo(frame.to_string(index=False) if len(frame) else "(no rows)")
+        _say(frame.to_string(index=False) if len(frame) else "(no rows)")
 
 
 if __name__ == "__main__":  # pragma: no cover

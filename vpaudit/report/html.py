@@ -12,6 +12,7 @@ import io
 from pathlib import Path
 
 from ..auditing import CAUTION
+from ._escape import visible
 
 __all__ = ["render_report"]
 
@@ -63,7 +64,7 @@ _RANK = {"error": 2, "warning": 1, "note": 0}
 
 
 def _e(text) -> str:
-    return html.escape("" if text is None else str(text), quote=True)
+    return html.escape(visible(text), quote=True)
 
 
 def _svg(table, substance: str) -> str:

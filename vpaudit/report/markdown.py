@@ -3,10 +3,7 @@
 from __future__ import annotations
 
 from ..auditing import CAUTION
-
-
-def _cell(text: str) -> str:
-    return str(text).replace("|", "\\|").replace("\n", " ")
+from ._escape import markdown_text as _cell
 
 
 def _suggestion(f) -> str:
@@ -31,7 +28,7 @@ def render(result) -> str:
         new = [f for f in result.findings if status_of(f) == "new"]
         rest = [f for f in result.findings if status_of(f) != "new"]
         out[0] = (
-            f"## vpaudit gate: {len(new)} new finding(s) since `{result.base}` "
+            f"## vpaudit gate: {len(new)} new finding(s) since {_cell(result.base)} "
             f"({sum(f.severity.value == 'error' for f in new)} error(s))"
         )
         serious, notes = new, rest

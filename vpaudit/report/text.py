@@ -6,6 +6,7 @@ import textwrap
 from collections import defaultdict
 
 from ..auditing import CAUTION
+from ._escape import visible
 
 _LABEL = {"error": "ERROR", "warning": "WARNING", "note": "note"}
 
@@ -107,5 +108,6 @@ def render(result, width: int = 100) -> str:
     lines.append(
         f"Summary: {_counts(result.findings)} in {flagged} of {s['substances']} substances."
     )
+    lines = [visible(line) for line in lines]  # table text shown, never obeyed
     lines.append(textwrap.fill(f"Caution: {CAUTION}", width=width))
     return "\n".join(lines) + "\n"

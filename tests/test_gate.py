@@ -1,5 +1,6 @@
 """The pull-request gate on a scripted git repository, accepted findings, and SARIF."""
 
+import datetime as dt
 import json
 import shutil
 import subprocess
@@ -104,9 +105,9 @@ def test_expired_acceptance_is_reported_and_fails_again(repo):
         "--reason",
         "temporary",
         "--until",
-        "2020-01-01",
+        (dt.date.today() + dt.timedelta(days=30)).isoformat(),
     )
-    result = gate(repo / "table", "base")
+    result = gate(repo / "table", "base", today=dt.date.today() + dt.timedelta(days=31))
     checks = {f.check for f in result.findings if result.status_of(f) == "new"}
     assert "acceptance-expired" in checks and "slope-not-positive" in checks
 
@@ -245,3 +246,53 @@ def test_a_change_that_mends_an_unreadable_base_audits_the_head(repo):
     assert "could not be read at base" in out.output
     assert "base:table/records/metals.csv:2" in out.output
     assert "vpaudit-gate-" not in out.output  # no deleted temporary path
+
+
+@pytest.mark.parametrize(
+    "args, message",
+    [
+        (["--until", "20270630"], "not a date written like 2027-06-30"),
+        (["--until", "2027-W26-3"], "not a date written like 2027-06-30"),
+        (["--until", "2027-02-30"], "not a date of the calendar"),
+        (["--until", "2020-01-01"], "is in the past"),
+        (["--reason", "why \udc8d"], "unpaired surrogate"),
+    ],
+)
+def test_accept_refuses_what_it_cannot_write_and_leaves_the_file_valid(repo, args, message):
+    # each of these once wrote an accepted.toml that no later accept or gate could read
+    table = repo / "table"
+    ok = run("accept", "range-gap:ardenite-s1", "--table", table, "--reason", "checked")
+    assert ok.exit_code == 0, ok.output
+    before = (table / "accepted.toml").read_bytes()
+    base = ["accept", "sources-disagree:kestrium-l1,kestrium-l2", "--table", table]
+    out = run(*base, *(args if "--reason" in args else ["--reason", "x", *args]))
+    assert out.exit_code == 2 and message in out.output, out.output
+    assert (table / "accepted.toml").read_bytes() == before
+    from vpaudit.gate import load_accepted
+
+    assert len(load_accepted(table / "accepted.toml")) == 1
+
+
+def test_accept_writes_any_reason_that_reads_back_exactly(repo):
+    table = repo / "table"
+    reason = 'quoted "text", a back\\slash, a tab\t, an emoji \U0001f600 and a new\nline'
+    out = run("accept", "range-gap:ardenite-s1", "--table", table, "--reason", reason)
+    assert out.exit_code == 0, out.output
+    from vpaudit.gate import load_accepted
+
+    (entry,) = load_accepted(table / "accepted.toml")
+    assert entry.reason == reason
+
+
+@pytest.mark.parametrize(
+    "text",
+    [
+        "accepted = [1, 2]\n",
+        '[[accepted]]\ncheck="c"\nrecords=["r"]\nreason="x"\nby="y"\nuntil = 2027-06-30T10:00:00\n',
+        '[[accepted]]\ncheck="c"\nrecords="r"\nreason="x"\nby="y"\n',
+    ],
+)
+def test_a_malformed_accepted_file_is_a_located_error_not_a_crash(repo, text):
+    (repo / "table" / "accepted.toml").write_text(text)
+    out = run("gate", repo / "table", "--base", "base")
+    assert out.exit_code == 2 and "accepted.toml" in out.output, out.output

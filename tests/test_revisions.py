@@ -254,7 +254,7 @@ def test_a_second_apply_waits_for_the_first(table):
     from vpaudit._atomic import file_lock
     from vpaudit.errors import VpauditError
 
-    lock = table / "history" / "revisions.jsonl.lock"
+    lock = table
     with file_lock(lock):
         with pytest.raises(VpauditError, match="another vpaudit process"):
             with file_lock(lock, timeout=0.2):

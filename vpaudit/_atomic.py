@@ -56,14 +56,14 @@ def append_line(path: str | Path, line: str) -> None:
 
 @contextlib.contextmanager
 def file_lock(path: str | Path, timeout: float = 30.0, what: str = "the table") -> Iterator[None]:
-    """Hold an advisory lock on ``path`` (created if missing) while the block runs.
+    """Hold an advisory lock on ``path`` (a file or a directory that exists) while the block
+    runs; nothing is created.
 
-    A second vpaudit process waits up to ``timeout`` seconds, then fails with a message
-    naming the process that holds the lock.
+    vpaudit locks the table directory itself while ``apply`` or ``accept`` writes into it,
+    so no lock file is left in a folder under version control. A second vpaudit process
+    waits up to ``timeout`` seconds, then fails with a message saying what is locked.
     """
-    path = Path(path)
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fd = os.open(path, os.O_RDWR | os.O_CREAT, 0o644)
+    fd = os.open(path, os.O_RDONLY)
     try:
         deadline = time.monotonic() + timeout
         while True:
@@ -72,14 +72,12 @@ def file_lock(path: str | Path, timeout: float = 30.0, what: str = "the table") 
                 break
             except BlockingIOError:
                 if time.monotonic() > deadline:
-                    holder = os.pread(fd, 64, 0).decode("ascii", "replace").strip() or "?"
                     raise VpauditError(
-                        f"{what} is being changed by another vpaudit process (PID {holder}, "
-                        f"lock {path}); wait for it to finish and try again"
+                        f"{what} is being changed by another vpaudit process (waited "
+                        f"{timeout:g} s for its lock on {path}); wait for it to finish and "
+                        "try again"
                     ) from None
                 time.sleep(0.05)
-        os.ftruncate(fd, 0)
-        os.pwrite(fd, str(os.getpid()).encode(), 0)
         yield
     finally:
         os.close(fd)  # closing the descriptor releases the lock

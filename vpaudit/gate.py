@@ -17,6 +17,7 @@ affect). Findings of unchanged substances are, by construction, existing ones.
 from __future__ import annotations
 
 import datetime as dt
+import re
 import subprocess
 import tempfile
 import tomllib
@@ -25,6 +26,7 @@ from pathlib import Path
 
 import numpy as np
 
+from ._atomic import file_lock, write_atomic
 from .auditing import AuditResult, audit_table, restrict
 from .checks._registry import Severity
 from .checks.finding import Finding
@@ -197,17 +199,33 @@ def load_accepted(path: Path) -> list[Acceptance]:
     """
     if not path.is_file():
         return []
+    return _parse_accepted(path.read_text(encoding="utf-8"), path)
+
+
+def _parse_accepted(text: str, path: Path) -> list[Acceptance]:
     try:
-        data = tomllib.loads(path.read_text(encoding="utf-8"))
+        data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise VpauditError(f"{path}: not valid TOML: {exc}") from None
     out = []
-    for i, entry in enumerate(data.get("accepted", []), start=1):
+    entries = data.get("accepted", [])
+    if not isinstance(entries, list):
+        raise VpauditError(f"{path}: 'accepted' must be a list of [[accepted]] entries")
+    for i, entry in enumerate(entries, start=1):
+        if not isinstance(entry, dict):
+            raise VpauditError(
+                f"{path}: accepted entry {i} is {entry!r}, not an [[accepted]] table with "
+                "check, records, reason and by"
+            )
         missing = [k for k in ("check", "records", "reason", "by") if k not in entry]
         if missing:
             raise VpauditError(f"{path}: accepted entry {i} lacks {', '.join(missing)}")
+        if not isinstance(entry["records"], list) or not all(
+            isinstance(r, str) for r in entry["records"]
+        ):
+            raise VpauditError(f"{path}: accepted entry {i}: records must be a list of ids")
         until = entry.get("until")
-        if until is not None and not isinstance(until, dt.date):
+        if until is not None and (not isinstance(until, dt.date) or isinstance(until, dt.datetime)):
             raise VpauditError(f"{path}: accepted entry {i}: until must be a date (2027-06-30)")
         out.append(
             Acceptance(
@@ -365,7 +383,6 @@ def accept(
         ``CHECK:RECORD[,RECORD...]``, as the gate's text report prints it.
     """
     import getpass
-    import json
 
     if ":" not in finding:
         raise VpauditError(
@@ -374,33 +391,62 @@ def accept(
         )
     check, records = finding.split(":", 1)
     ids = [r.strip() for r in records.split(",") if r.strip()]
-    if until:
+    if until is not None:
+        if not re.fullmatch(r"\d{4}-\d{2}-\d{2}", until):
+            raise VpauditError(f"--until {until!r} is not a date written like 2027-06-30")
         try:
-            dt.date.fromisoformat(until)
+            day = dt.date.fromisoformat(until)
         except ValueError:
-            raise VpauditError(f"--until {until!r} is not a date like 2027-06-30") from None
+            raise VpauditError(f"--until {until!r} is not a date of the calendar") from None
+        if day < dt.date.today():
+            raise VpauditError(
+                f"--until {until} is in the past: the acceptance would expire at once"
+            )
     who = by or _git_user() or getpass.getuser()
     root = Path(table) if Path(table).is_dir() else Path(table).parent
     path = root / ACCEPTED_FILE
     entry = [
         "",
         "[[accepted]]",
-        f"check = {json.dumps(check)}",
-        f"records = {json.dumps(ids)}",
-        f"reason = {json.dumps(reason)}",
-        f"by = {json.dumps(who)}",
+        f"check = {_toml_string(check.strip(), 'the check')}",
+        f"records = [{', '.join(_toml_string(i, 'a record id') for i in ids)}]",
+        f"reason = {_toml_string(reason, '--reason')}",
+        f"by = {_toml_string(who, '--by')}",
         f"accepted_on = {dt.date.today().isoformat()}",
     ]
     if until:
         entry.append(f"until = {until}")
-    text = (
-        path.read_text(encoding="utf-8")
-        if path.exists()
-        else ("# Findings accepted by the table's stewards (vpaudit accept writes this file).\n")
-    )
-    path.write_text(text.rstrip("\n") + "\n" + "\n".join(entry) + "\n", encoding="utf-8")
-    load_accepted(path)  # the file must stay valid
+    with file_lock(root, what=f"the table {root}"):
+        text = (
+            path.read_text(encoding="utf-8")
+            if path.exists()
+            else (
+                "# Findings accepted by the table's stewards (vpaudit accept writes this file).\n"
+            )
+        )
+        new = text.rstrip("\n") + "\n" + "\n".join(entry) + "\n"
+        _parse_accepted(new, path)  # the file must stay valid: checked before it is written
+        write_atomic(path, new)
     return path
+
+
+def _toml_string(text: str, what: str) -> str:
+    """``text`` as a TOML basic string; refuses what no UTF-8 file can hold."""
+    bad = next((ch for ch in text if 0xD800 <= ord(ch) <= 0xDFFF), None)
+    if bad is not None:
+        raise VpauditError(
+            f"{what} holds an unpaired surrogate (U+{ord(bad):04X}), which no text file can "
+            "hold: type the character itself, or leave it out"
+        )
+    out = []
+    for ch in text:
+        if ch in ('"', "\\"):
+            out.append("\\" + ch)
+        elif ord(ch) < 0x20 or ord(ch) == 0x7F:
+            out.append(f"\\u{ord(ch):04X}")
+        else:
+            out.append(ch)
+    return '"' + "".join(out) + '"'
 
 
 def _git_user() -> str | None:

@@ -18,7 +18,6 @@ from __future__ import annotations
 import csv
 import datetime as _dt
 import getpass
-import io
 import json
 import re
 import uuid
@@ -29,6 +28,7 @@ from typing import Any
 from ._atomic import append_line, file_lock, write_atomic
 from .errors import Location, TableError, VpauditError
 from .readers.lines import split_lines
+from .writers import csv_cell
 
 __all__ = [
     "RevisionError",
@@ -51,6 +51,12 @@ def history_path(table: str | Path) -> Path:
     return (
         p / "history" / "revisions.jsonl" if p.is_dir() else p.with_name(p.name + ".history.jsonl")
     )
+
+
+def _root(table: str | Path) -> Path:
+    """The folder that holds the table (itself, for a directory): what writers lock."""
+    p = Path(table)
+    return p if p.is_dir() else p.parent
 
 
 def _who(by: str | None) -> str:
@@ -92,12 +98,6 @@ def _csv_spans(line: str, delimiter: str) -> list[tuple[int, int]]:
         i += 1
 
 
-def _csv_cell(text: str, delimiter: str) -> str:
-    buf = io.StringIO()
-    csv.writer(buf, delimiter=delimiter, lineterminator="").writerow([text])
-    return buf.getvalue()
-
-
 def _edit_csv(lines: list[str], index: int, record_id: str, changes: dict[str, str], path):
     """The record's block (its first line and any lines a quoted cell carries it over) with
     the changed cells rewritten, the cells it had, and the index after the block.
@@ -130,7 +130,7 @@ def _edit_csv(lines: list[str], index: int, record_id: str, changes: dict[str, s
     new = block
     for field in sorted(changes, key=lambda f: -spans[columns.index(f)][0]):  # right to left
         a, b = spans[columns.index(field)]
-        new = new[:a] + _csv_cell(changes[field], delimiter) + new[b:]
+        new = new[:a] + csv_cell(changes[field], delimiter) + new[b:]
     return new, {f: cells[columns.index(f)] for f in changes}, end
 
 
@@ -276,7 +276,7 @@ def apply_correction(
     """
     texts = {f: (corrected_text or {}).get(f) or _text(v) for f, v in corrected.items()}
     log = history_path(table)
-    with file_lock(log.with_name(log.name + ".lock"), what=f"the table {table}"):
+    with file_lock(_root(table), what=f"the table {table}"):
         _settle(log)
         edit = _edit_file(Path(file), int(line), record, texts)
         revision = 1 + sum(1 for e in _read_log(log) if e["record"] == record)

@@ -346,3 +346,53 @@ def test_a_yaml_null_source_is_a_missing_source_not_a_citation(tmp_path, null):
     text = text.replace(f"source: {null}", 'source: "null"')
     quoted = read_file(write(tmp_path / "q.yaml", text))
     assert quoted.records["source"].astype(object).tolist() == ["null"]
+
+
+def test_a_parquet_file_is_measured_before_it_is_decoded(tmp_path, monkeypatch):
+    # a 440 KB file under the row limit decoded to 4.5 GB before failing with MemoryError
+    from vpaudit.readers import files
+
+    path = tmp_path / "r.parquet"
+    pq.write_table(pa.table({"note": ["x" * 1000] * 2000}), path, compression="zstd")
+    monkeypatch.setattr(files, "MAX_FILE_BYTES", 1_000_000)
+    (msg,) = errors_of(path)
+    assert "decode to more than 1000000 bytes" in msg  # stopped batch by batch
+    monkeypatch.setattr(files, "MAX_ROWS", 100)
+    monkeypatch.setattr(files, "MAX_FILE_BYTES", 10**9)
+    decoded = []
+    monkeypatch.setattr(pq.ParquetFile, "iter_batches", lambda *a, **k: decoded.append(1))
+    (msg,) = errors_of(path)
+    assert "2000 rows; the limit is 100" in msg and not decoded  # from the metadata alone
+
+
+@pytest.mark.parametrize("suffix", [".csv", ".parquet", ".json", ".yaml"])
+def test_a_file_of_a_million_columns_is_refused_before_it_is_parsed(tmp_path, suffix):
+    # a 10 MB header of 10^6 columns took 32 s and 4.9 GB before its one-line error
+    import time
+
+    n = 1_000_000 if suffix == ".csv" else 5_000
+    names = [f"c{i}" for i in range(n)]
+    path = tmp_path / f"r{suffix}"
+    if suffix == ".csv":
+        path.write_text(",".join(names) + "\n" + ",".join("1" for _ in names) + "\n")
+    elif suffix == ".parquet":
+        pq.write_table(pa.table({c: ["1"] for c in names}), path)
+    elif suffix == ".json":
+        import json
+
+        path.write_text(json.dumps([dict.fromkeys(names, "1")]))
+    else:
+        path.write_text("- " + "\n  ".join(f"{c}: 1" for c in names) + "\n")
+    t0 = time.perf_counter()
+    (msg,) = errors_of(path)
+    assert "at most 200" in msg or "more than 200 fields" in msg
+    assert time.perf_counter() - t0 < 5
+
+
+@pytest.mark.parametrize(
+    "name, text",
+    [("deep.json", "[" * 1000 + "]" * 1000), ("deep.yaml", "- " + "[" * 400 + "]" * 400 + "\n")],
+)
+def test_deep_nesting_is_a_located_error_not_a_recursion_error(tmp_path, name, text):
+    (msg,) = errors_of(write(tmp_path / name, text))
+    assert "malformed" in msg or "expected" in msg

@@ -35,6 +35,9 @@ __all__ = [
 MAX_FILE_BYTES = 2 * 1024**3
 #: Largest number of rows read from one file.
 MAX_ROWS = 20_000_000
+#: Most columns a table file may have (the table format has fewer than 30; unknown columns
+#: are an error anyway). Checked before a header is parsed.
+MAX_COLUMNS = 200
 #: File endings recognised as table files.
 SUFFIXES = {
     ".csv": "csv",
@@ -147,6 +150,14 @@ def _csv_layout(path: str, data: bytes) -> tuple[int, int, str, list[str]]:
         if m is None:
             raise _err(path, "file is empty: expected a header line naming the columns")
         start, pos = start + 1, end
+    width = max(raw_line.count(d) for d in (b",", b";", b"\t")) + 1
+    if width > MAX_COLUMNS:  # before a header of a million columns is parsed
+        raise _err(
+            path,
+            f"the header line has {width} or more columns; the table format has at most "
+            f"{MAX_COLUMNS}",
+            start + 1,
+        )
     try:
         header_line = raw_line.decode("utf-8").rstrip("\r\n")
     except UnicodeDecodeError:
@@ -493,6 +504,8 @@ def read_yaml(path: str, data: bytes) -> RawFrame:
         raise _err(path, f"malformed YAML: {exc.problem}", at(mark) if mark else None) from None
     except yaml.YAMLError as exc:
         raise _err(path, f"malformed YAML: {exc}") from None
+    except RecursionError:
+        raise _err(path, "malformed YAML: nested too deeply for a table file") from None
     if root is None:
         raise _err(path, "file is empty: expected a list of items")
     items, hint = _yaml_items(path, root, at)
@@ -515,6 +528,14 @@ def read_yaml(path: str, data: bytes) -> RawFrame:
             row[key] = _yaml_scalar(path, vnode, key, at)
             if key not in columns:
                 columns.append(key)
+                if len(columns) > MAX_COLUMNS:
+                    raise _err(
+                        path,
+                        f"the items name more than {MAX_COLUMNS} fields; the table format "
+                        "has fewer",
+                        at(knode.start_mark),
+                        key,
+                    )
         records.append(row)
         lines.append(at(item.start_mark))
     cells = {c: [r.get(c) for r in records] for c in columns}
@@ -601,6 +622,10 @@ def read_json(path: str, data: bytes) -> RawFrame:
         raise _err(path, f"malformed JSON: {exc.msg}", line_at(starts, exc.pos)) from None
     except ValueError as exc:
         raise _err(path, f"malformed JSON: {exc}", line_at(starts, i)) from None
+    except RecursionError:
+        raise _err(
+            path, "malformed JSON: nested too deeply for a table file", line_at(starts, i)
+        ) from None
     columns: list[str] = []
     for obj, line in zip(items, lines, strict=True):
         if not isinstance(obj, dict):
@@ -608,6 +633,14 @@ def read_json(path: str, data: bytes) -> RawFrame:
         for k, v in obj.items():
             if k not in columns:
                 columns.append(k)
+                if len(columns) > MAX_COLUMNS:
+                    raise _err(
+                        path,
+                        f"the objects name more than {MAX_COLUMNS} fields; the table format "
+                        "has fewer",
+                        line,
+                        k,
+                    )
             if isinstance(v, bool) or isinstance(v, list | dict):
                 raise _err(
                     path,
@@ -630,11 +663,32 @@ def read_parquet(path: str, data: bytes | None = None) -> RawFrame:
     import pyarrow.parquet as pq
 
     try:
-        table = pq.read_table(path)
+        parquet = pq.ParquetFile(path)
+        meta = parquet.metadata
     except Exception as exc:  # pyarrow raises several types for broken files
         raise _err(path, f"cannot read the Parquet file: {exc}") from None
-    if table.num_rows > MAX_ROWS:
-        raise _err(path, f"{table.num_rows} rows; the limit is {MAX_ROWS} per file")
+    # the limits are checked on the file's own metadata before anything is decoded, and on
+    # the decoded size batch by batch: a small file can hold columns that decode to gigabytes
+    if meta.num_columns > MAX_COLUMNS:
+        raise _err(path, f"{meta.num_columns} columns; the table format has at most {MAX_COLUMNS}")
+    if meta.num_rows > MAX_ROWS:
+        raise _err(path, f"{meta.num_rows} rows; the limit is {MAX_ROWS} per file")
+    batches, decoded = [], 0
+    try:
+        for batch in parquet.iter_batches(batch_size=1 << 16):
+            decoded += batch.nbytes
+            if decoded > MAX_FILE_BYTES:
+                raise _err(
+                    path,
+                    f"the data decode to more than {MAX_FILE_BYTES} bytes; the limit is "
+                    f"{MAX_FILE_BYTES} bytes",
+                )
+            batches.append(batch)
+        table = pa.Table.from_batches(batches, schema=parquet.schema_arrow)
+    except TableError:
+        raise
+    except Exception as exc:  # pyarrow raises several types for broken files
+        raise _err(path, f"cannot read the Parquet file: {exc}") from None
     cells: dict[str, object] = {}
     columns = _check_header(path, list(table.column_names), 1)
     for name, col in zip(columns, table.columns, strict=True):

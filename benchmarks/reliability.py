@@ -10,6 +10,7 @@ import argparse
 import csv
 import json
 import random
+import shutil
 import signal
 import subprocess
 import sys
@@ -97,6 +98,123 @@ def crash_trials(work: Path, trials: int) -> None:
     )
 
 
+# A child that imports vpaudit, says it is ready, and writes when told to: so a kill lands
+# inside the write itself, not in the interpreter's start-up.
+WRITER = """
+import sys
+from vpaudit.gate import accept
+from vpaudit.revisions import apply_correction
+table, what = sys.argv[1], sys.argv[2]
+print("ready", flush=True)
+sys.stdin.readline()
+if what == "apply":
+    apply_correction(table, "dorvane-s1", table + "/records/metals.csv", 8,
+                     {"B": -9842.23737}, {"B": "-9842.23737"}, reason="trial", by="trial")
+else:
+    accept(table, "range-gap:ardenite-s1", "trial", by="trial")
+print("done", flush=True)
+"""
+
+
+def write_once(table: Path, what: str, delay: float | None) -> float:
+    """Run one ``apply`` or ``accept`` in a child; SIGKILL it ``delay`` seconds after it was
+    told to write (None: let it finish). Returns the seconds from the word to the end."""
+    with subprocess.Popen(
+        [sys.executable, "-c", WRITER, str(table), what],
+        stdin=subprocess.PIPE,
+        stdout=subprocess.PIPE,
+        stderr=subprocess.DEVNULL,
+        text=True,
+    ) as child:
+        assert child.stdout.readline().strip() == "ready"
+        t0 = time.perf_counter()
+        child.stdin.write("go\n")
+        child.stdin.flush()
+        if delay is None:
+            assert child.stdout.readline().strip() == "done"
+            elapsed = time.perf_counter() - t0
+            child.wait()
+            return elapsed
+        while time.perf_counter() - t0 < delay:
+            pass  # a busy wait: sleep() is too coarse for a window of milliseconds
+        child.send_signal(signal.SIGKILL)
+        child.wait()
+        return time.perf_counter() - t0
+
+
+def write_trial(demo: Path, work: Path, what: str, delay: float | None) -> str:
+    """One kill trial of ``apply`` or ``accept`` on a fresh copy of the demo table.
+
+    Returns "old", "new" or "torn": the file written is byte for byte as before or as after,
+    and (for apply) the revision log agrees with it: one revision exactly when the record
+    changed, and the next apply still works.
+    """
+    from vpaudit.gate import load_accepted
+    from vpaudit.revisions import apply_correction, history
+
+    table = work / f"t-{what}"
+    if table.exists():
+        shutil.rmtree(table)
+    shutil.copytree(demo, table, ignore=shutil.ignore_patterns("*.py", "*.md", "PLANTED*"))
+    target = table / ("records/metals.csv" if what == "apply" else "accepted.toml")
+    old = target.read_bytes() if target.exists() else None
+    write_once(table, what, delay)
+    now = target.read_bytes() if target.exists() else None
+    if what == "accept":
+        try:
+            n = len(load_accepted(target))
+        except Exception:  # noqa: BLE001  (a torn file is what is counted)
+            return "torn"
+        return "old" if now == old and n == 0 else "new" if n == 1 else "torn"
+    revised = now != old
+    if revised and b",-9842.23737," not in now:
+        return "torn"
+    try:
+        if len(history(table, "dorvane-s1")) != (2 if revised else 0):
+            return "torn"
+        apply_correction(
+            table,
+            "galdrite-l1",
+            str(table / "records/metals.csv"),
+            15,
+            {"A": 10.7706297},
+            reason="after the trial",
+        )
+    except Exception:  # noqa: BLE001
+        return "torn"
+    return "new" if revised else "old"
+
+
+def write_trials(work: Path, trials: int, seed: int = 1) -> dict[str, dict[str, int]]:
+    """SIGKILL ``apply`` and ``accept`` at random moments of their write; the window is 1.2
+    times the write's own duration, measured first in the same way."""
+    demo = ROOT / "sample_db"
+    rng = random.Random(seed)
+    out = {}
+    for what in ("apply", "accept"):
+        table = work / f"t-{what}"
+        window = 0.0
+        for _ in range(3):  # the longest of three whole writes
+            if table.exists():
+                shutil.rmtree(table)
+            shutil.copytree(demo, table, ignore=shutil.ignore_patterns("*.py", "*.md", "PLANTED*"))
+            window = max(window, write_once(table, what, None))
+        counts = {"old": 0, "new": 0, "torn": 0, "window_ms": round(1200 * window, 1)}
+        for _ in range(trials):
+            counts[write_trial(demo, work, what, rng.uniform(0.0, 1.2 * window))] += 1
+        out[what] = counts
+    return out
+
+
+def write_report(work: Path, trials: int) -> None:
+    for what, c in write_trials(work, trials).items():
+        print(
+            f"kill trials of {what} (SIGKILL at random moments of a {c['window_ms']} ms window "
+            f"around its write): {trials}; left as before {c['old']}, as after {c['new']}, "
+            f"anything else {c['torn']}"
+        )
+
+
 def hostile() -> None:
     corpus = ROOT / "tests" / "data" / "hostile"
     with open(corpus / "expected.csv", encoding="utf-8") as fh:
@@ -144,6 +262,7 @@ def main() -> None:
     args = ap.parse_args()
     with tempfile.TemporaryDirectory() as tmp:
         crash_trials(Path(tmp), args.trials)
+        write_report(Path(tmp), args.trials)
         hostile()
         queries(Path(tmp))
 

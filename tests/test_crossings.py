@@ -147,7 +147,8 @@ def test_range_extrema_in_closed_form_equal_the_blockwise_reductions():
     of the range extrema must equal, to the bit, what the block path gives the same records
     (ties of dH at both ends with C = 0, base-10 and mmHg records, ranges crossing the
     10 kPa limit, a critical temperature cutting the ideal part, Antoine records beside)."""
-    from tests.refdata import table_from_rows
+    from refdata import table_from_rows
+
     from vpaudit.checks._context import AuditContext
     from vpaudit.policy import Policy
 

@@ -721,7 +721,7 @@ def review_cmd(table, by, db, min_confidence):
     from .api import open_table
     from .auditing import audit_table
     from .policy import load_policy
-    from .revisions import apply_suggestion
+    from .revisions import apply_suggestion, suggestion_edits
 
     _table_dir(table)
     t = open_table(table)
@@ -741,7 +741,11 @@ def review_cmd(table, by, db, min_confidence):
         _say(f"\n[{k}/{len(offers)}] {f.substance}: {f.check} on {', '.join(f.records)}")
         _say(f"  {f.message}")
         _say(f"  suggestion for {s['record']}: {s['explanation']}")
-        _say(f"  corrected: {json.dumps(s.get('corrected_text') or s['corrected'])}")
+        for edit in suggestion_edits(s):  # every field and line that applying it changes
+            for field, new in edit.after.items():
+                _say(f"  {field}: {edit.before.get(field)!r} -> {new!r}")
+            _say(f"  {edit.file}:{edit.line}\n  - {edit.line_before.rstrip()}")
+            _say(f"  + {edit.line_after.rstrip()}")
         answer = click.prompt(
             "  apply it? [a]pply, [s]kip, [q]uit",
             default="s",

@@ -960,13 +960,19 @@ def _suggestion(
         "corrected": corrected,
         "confidence": round(float(conf), 3),
         "explanation": "",
+        "location": ctx.location(cand.row),
     }
     if texts:
         sug["corrected_text"] = texts
     others = [ch for ch in cand.changes if ch.row != cand.row]
     if others:
         sug["also"] = [
-            {"record": ctx.id(ch.row), "corrected": {ch.field: ch.value}} for ch in others
+            {
+                "record": ctx.id(ch.row),
+                "corrected": {ch.field: ch.value},
+                "location": ctx.location(ch.row),
+            }
+            for ch in others
         ]
     remaining = _errors_and_warnings(out)
     n_before = len(before)

@@ -415,6 +415,28 @@ def find_finding(result, check: str, ids: list[str]):
     raise RevisionError(f"no finding {check}:{','.join(ids)} in the audit{hint}")
 
 
+def suggestion_edits(suggestion: dict) -> list[Edit]:
+    """The edits applying ``suggestion`` would make, one per record it corrects, computed
+    from the files as they are and written nowhere: what ``review`` shows before it asks,
+    and the exact replacements a SARIF fix carries.
+
+    Raises
+    ------
+    RevisionError
+        When the suggestion carries no location, or its record is no longer where it was.
+    """
+    parts = [(suggestion, suggestion.get("corrected_text"))]
+    parts += [(a, None) for a in suggestion.get("also", [])]
+    edits = []
+    for part, texts in parts:
+        where = part.get("location")
+        if not where:
+            raise RevisionError(f"the suggestion for {part['record']!r} says not where it stands")
+        changes = {f: (texts or {}).get(f) or _text(v) for f, v in part["corrected"].items()}
+        edits.append(_edit_file(Path(where["file"]), int(where["line"]), part["record"], changes))
+    return edits
+
+
 def apply_suggestion(
     table_path: str | Path, table, finding, reason: str | None = None, by: str | None = None
 ) -> list[dict]:

@@ -267,6 +267,10 @@ class AuditContext:
         """The id of record ``row``."""
         return str(self._id_values[int(row)].as_py())
 
+    def location(self, row: int) -> dict:
+        """Where record ``row`` stands: ``{"file", "line"}``."""
+        return {"file": str(self._files[self.file_code[int(row)]]), "line": int(self.line[row])}
+
     def substance_of(self, row: int) -> str:
         """The substance of record ``row``."""
         code = int(self.codes[int(row)])

@@ -30,6 +30,35 @@ def _uri(path: str | None) -> str | None:
         return p.as_posix()
 
 
+def _fix(suggestion: dict) -> dict | None:
+    """A SARIF fix: the suggestion's explanation and the exact replacement of each record's
+    line(s) that ``vpaudit apply`` would write (None when the files no longer hold them).
+    """
+    from ..errors import VpauditError
+    from ..readers.lines import split_lines
+    from ..revisions import suggestion_edits
+
+    try:
+        edits = suggestion_edits(suggestion)
+    except (VpauditError, OSError):
+        return None
+    changes = []
+    for e in edits:
+        last = e.line + len(split_lines(e.line_before)) - 1  # the block's last line
+        changes.append(
+            {
+                "artifactLocation": {"uri": _uri(e.file)},
+                "replacements": [
+                    {
+                        "deletedRegion": {"startLine": e.line, "endLine": last},
+                        "insertedContent": {"text": e.line_after.rstrip("\r\n")},
+                    }
+                ],
+            }
+        )
+    return {"description": {"text": suggestion.get("explanation", "")}, "artifactChanges": changes}
+
+
 def render(result) -> str:
     """Render an audit or gate result as a SARIF 2.1.0 log."""
     rules = [
@@ -84,7 +113,9 @@ def render(result) -> str:
                     }
                 ]
         if f.suggestion:
-            r["fixes"] = [{"description": {"text": f.suggestion.get("explanation", "")}}]
+            fix = _fix(f.suggestion)
+            if fix is not None:
+                r["fixes"] = [fix]
         results.append(r)
     log = {
         "$schema": SCHEMA,

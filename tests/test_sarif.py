@@ -1,0 +1,96 @@
+"""Every SARIF log vpaudit writes validates against the SARIF 2.1.0 JSON schemas (vendored in
+tests/data/sarif/, origin in its README) and the independent models of sarif-pydantic; its
+fixes carry the exact replacement that ``vpaudit apply`` writes."""
+
+from __future__ import annotations
+
+import json
+import shutil
+import subprocess
+from pathlib import Path
+
+import jsonschema
+import pytest
+from click.testing import CliRunner
+
+from vpaudit.cli import main
+
+SCHEMAS = Path(__file__).parent / "data" / "sarif"
+
+
+def validate(log: dict) -> None:
+    from sarif_pydantic import Sarif
+
+    for name, cls in (
+        ("sarif-2.1.0-rtm.5.json", jsonschema.Draft4Validator),
+        ("sarif-2.1.0.json", jsonschema.Draft202012Validator),
+    ):
+        schema = json.loads((SCHEMAS / name).read_text(encoding="utf-8"))
+        errors = sorted(cls(schema).iter_errors(log), key=lambda e: list(e.path))
+        assert not errors, f"{name}: {errors[0].message} at {list(errors[0].path)}"
+    Sarif.model_validate(log)
+
+
+@pytest.fixture
+def table(tmp_path, sample_db):
+    out = tmp_path / "t"
+    shutil.copytree(sample_db, out, ignore=shutil.ignore_patterns("*.py", "*.md", "PLANTED*"))
+    return out
+
+
+def test_the_audit_sarif_with_suggestions_validates(table, monkeypatch):
+    # suggestions once gave fixes without artifactChanges: 23 schema errors
+    monkeypatch.chdir(table.parent)
+    out = CliRunner().invoke(main, ["audit", "t", "--format", "sarif", "--fail-on", "never"])
+    log = json.loads(out.output)
+    validate(log)
+    fixes = [r for r in log["runs"][0]["results"] if r.get("fixes")]
+    assert len(fixes) >= 7
+
+
+def test_a_fix_is_the_replacement_apply_writes(table, monkeypatch):
+    monkeypatch.chdir(table.parent)
+    out = CliRunner().invoke(main, ["audit", "t", "--format", "sarif", "--fail-on", "never"])
+    log = json.loads(out.output)
+    result = next(
+        r
+        for r in log["runs"][0]["results"]
+        if r["ruleId"] == "slope-not-positive" and r.get("fixes")
+    )
+    (change,) = result["fixes"][0]["artifactChanges"]
+    (rep,) = change["replacements"]
+    path = table.parent / change["artifactLocation"]["uri"]
+    lines = path.read_text(encoding="utf-8").split("\n")
+    start, end = rep["deletedRegion"]["startLine"], rep["deletedRegion"]["endLine"]
+    expected = lines[: start - 1] + [rep["insertedContent"]["text"]] + lines[end:]
+    applied = CliRunner().invoke(main, ["apply", "t", "slope-not-positive:dorvane-s1"])
+    assert applied.exit_code == 0, applied.output
+    assert path.read_text(encoding="utf-8").split("\n") == expected
+
+
+def test_the_gate_sarif_validates(table, monkeypatch):
+    root = table.parent
+    for args in (["init", "-q"], ["add", "-A"]):
+        subprocess.run(["git", "-C", str(root), *args], check=True, capture_output=True)
+    subprocess.run(
+        [
+            "git",
+            "-C",
+            str(root),
+            "-c",
+            "user.name=t",
+            "-c",
+            "user.email=t@example.invalid",
+            "commit",
+            "-qm",
+            "base",
+        ],
+        check=True,
+        capture_output=True,
+    )
+    metals = table / "records" / "metals.csv"
+    metals.write_text(metals.read_text().replace(",-30871.5273,", ",30871.5273,"))
+    monkeypatch.chdir(root)
+    out = CliRunner().invoke(main, ["gate", "t", "--base", "HEAD", "--format", "sarif"])
+    assert out.exit_code == 1, out.output
+    validate(json.loads(out.output))

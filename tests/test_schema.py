@@ -39,6 +39,7 @@ def test_public_api_is_explicit():
             "UnitError",
             "UnknownCheckError",
             "VpauditError",
+            "WriteError",
             "__version__",
             "audit",
             "audit_table",

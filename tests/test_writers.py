@@ -8,7 +8,7 @@ import pytest
 from click.testing import CliRunner
 
 from vpaudit.cli import main
-from vpaudit.errors import TableError
+from vpaudit.errors import WriteError
 from vpaudit.readers import load_table
 from vpaudit.writers import append_records, csv_cell, export_table
 
@@ -110,5 +110,5 @@ def test_append_records_reports_the_line_the_readers_give(tmp_path):
     line = append_records(target, [record])
     t = load_table(target)
     assert t.records["line"].tolist() == [2, line] == [2, 4]
-    with pytest.raises(TableError, match="already holds"):
+    with pytest.raises(WriteError, match="already holds"):
         append_records(target, [record])

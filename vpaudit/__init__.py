@@ -28,6 +28,7 @@ from .errors import (
     UnitError,
     UnknownCheckError,
     VpauditError,
+    WriteError,
 )
 
 __version__ = "0.1.0"
@@ -80,6 +81,7 @@ __all__ = [
     "UnitError",
     "UnknownCheckError",
     "VpauditError",
+    "WriteError",
     "__version__",
     "audit",
     "audit_table",

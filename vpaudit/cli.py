@@ -1,6 +1,7 @@
 """The ``vpaudit`` command line: click only. Parse options, call the library, render, exit.
 
-Exit status: 0 clean, 1 findings at or above ``--fail-on``, 2 usage or input error.
+Exit status: 0 clean, 1 findings at or above ``--fail-on``, 2 usage or input error (a table
+that cannot be read, a missing file or folder, an unknown name), 3 a fault of vpaudit itself.
 """
 
 from __future__ import annotations
@@ -18,8 +19,58 @@ from .errors import VpauditError
 EXIT_OK = 0
 EXIT_FINDINGS = 1
 EXIT_USAGE = 2
+EXIT_INTERNAL = 3
 
 FORMATS = ("text", "json", "markdown", "csv", "sarif")
+
+
+class Quantity(click.ParamType):
+    """A quantity with a unit suffix (``1200K``, ``0.01Torr``, ``12.47kJ/mol``), read by
+    vpaudit's number grammar and converted to SI; a bare number is in the SI unit.
+    """
+
+    def __init__(self, kind: str) -> None:
+        self.kind = kind
+        self.name = {"temperature": "TEMPERATURE", "pressure": "PRESSURE", "enthalpy": "ENTHALPY"}[
+            kind
+        ]
+
+    def convert(self, value, param, ctx):  # noqa: D102
+        if isinstance(value, float):
+            return value
+        from . import units
+
+        parse = {
+            "temperature": units.parse_temperature,
+            "pressure": units.parse_pressure,
+            "enthalpy": units.parse_enthalpy,
+        }[self.kind]
+        try:
+            return parse(value)
+        except VpauditError as exc:
+            self.fail(str(exc), param, ctx)
+
+
+class UnitName(click.ParamType):
+    """The name of a pressure unit (``Pa``, ``Torr``, ...), with a hint for a near miss."""
+
+    name = "UNIT"
+
+    def convert(self, value, param, ctx):  # noqa: D102
+        from .units import pressure_factor
+
+        try:
+            pressure_factor(value)
+        except VpauditError as exc:
+            self.fail(str(exc), param, ctx)
+        return value
+
+
+TEMPERATURE, PRESSURE, ENTHALPY = (
+    Quantity("temperature"),
+    Quantity("pressure"),
+    Quantity("enthalpy"),
+)
 
 
 def _say(message: object = "", **kwargs) -> None:
@@ -56,14 +107,36 @@ def run() -> None:
 
 
 class _Group(click.Group):
-    """Catch vpaudit's own errors: print ``ErrorName: message`` and exit 2."""
+    """One plain line for every failure, never a traceback.
+
+    vpaudit's own errors and the operating system's (a missing folder, a file that cannot
+    be written) print ``vpaudit: <what went wrong>: <message>`` and exit 2. Anything else is
+    a fault of vpaudit itself: one line that says so and exit 3 (``VPAUDIT_DEBUG=1`` shows
+    the traceback).
+    """
 
     def invoke(self, ctx):  # noqa: D102
         try:
             return super().invoke(ctx)
         except VpauditError as exc:
-            _say(f"{type(exc).__name__}: {exc}", err=True)
+            _say(f"vpaudit: {exc.kind}: {exc}", err=True)
             ctx.exit(EXIT_USAGE)
+        except OSError as exc:
+            where = f"{exc.filename}: " if exc.filename else ""
+            _say(f"vpaudit: cannot read or write a file: {where}{exc.strerror or exc}", err=True)
+            ctx.exit(EXIT_USAGE)
+        except (click.exceptions.Exit, click.ClickException, click.Abort, SystemExit):
+            raise
+        except Exception as exc:  # noqa: BLE001  (a bug: said in one line, not a traceback)
+            if os.environ.get("VPAUDIT_DEBUG"):
+                raise
+            _say(
+                f"vpaudit: internal error ({type(exc).__name__}: {exc}). This is a fault of "
+                "vpaudit, not of your table; please report it with the command that caused it "
+                "(VPAUDIT_DEBUG=1 shows the traceback).",
+                err=True,
+            )
+            ctx.exit(EXIT_INTERNAL)
 
 
 @click.group(cls=_Group, context_settings={"help_option_names": ["-h", "--help"]})
@@ -101,7 +174,7 @@ QUIET = click.option("--quiet", "-q", is_flag=True, help="No progress display.")
 JOBS = click.option(
     "--jobs",
     "-j",
-    type=int,
+    type=click.IntRange(min=0),
     help="Threads for reading large files and for the audit's shared array work "
     "(default: one per core, at most 4; 1 runs vpaudit's own work on one thread, while "
     "pyarrow's CSV reader keeps its own thread pool).",
@@ -200,6 +273,7 @@ def audit_cmd(
         if bar is not None:
             bar.update(1)
     _report_rewrites(t)
+    _has_records(t, table)
     from .checks import REGISTRY
 
     n_checks = len(only.split(",")) if only else len(REGISTRY)
@@ -235,6 +309,16 @@ def audit_cmd(
     sys.exit(EXIT_FINDINGS if result.fails(fail_on) else EXIT_OK)
 
 
+def _has_records(t, where) -> None:
+    """A table without a coefficient record has nothing to audit: say so, not "nothing found"."""
+    if not len(t.records):
+        raise VpauditError(
+            f"{where} holds no coefficient records ({len(t.references)} reference value(s), "
+            f"{len(t.points)} measured point(s)): there is nothing to audit. Records go in "
+            "records/ (CSV, YAML, JSON or Parquet files with a 'form' column)."
+        )
+
+
 def _report_rewrites(table) -> None:
     for r in table.rewrites:
         _say(
@@ -268,9 +352,13 @@ def checks_cmd(fmt):
 @main.command("eval")
 @click.argument("table", type=click.Path(exists=True))
 @click.argument("substance")
-@click.option("--at", "at", help="Temperature, e.g. 1200K, 926.85degC (bare number: K).")
-@click.option("--pressure", help="Pressure, e.g. 1Pa, 0.01Torr (bare number: Pa).")
-@click.option("--unit", default="Pa", show_default=True, help="Pressure unit of the output.")
+@click.option(
+    "--at", "at", type=TEMPERATURE, help="Temperature, e.g. 1200K, 926.85degC (bare number: K)."
+)
+@click.option("--pressure", type=PRESSURE, help="Pressure, e.g. 1Pa, 0.01Torr (bare number: Pa).")
+@click.option(
+    "--unit", type=UnitName(), default="Pa", show_default=True, help="Pressure unit of the output."
+)
 @click.option("--extrapolate", is_flag=True, help="With --pressure, search beyond the ranges.")
 @click.option(
     "--format", "fmt", type=click.Choice(["text", "json"]), default="text", show_default=True
@@ -280,12 +368,8 @@ def eval_cmd(table, substance, at, pressure, unit, extrapolate, fmt):
     from .api import open_table
     from .lookup import eval_substance
     from .report.lookup import render_eval
-    from .units import parse_pressure, parse_temperature, pressure_factor
 
-    pressure_factor(unit)
-    t = parse_temperature(at) if at else None
-    p = parse_pressure(pressure) if pressure else None
-    answer = eval_substance(open_table(table), substance, t, p, extrapolate)
+    answer = eval_substance(open_table(table), substance, at, pressure, extrapolate)
     if fmt == "json":
         click.echo(json.dumps(answer, indent=2))
     else:
@@ -501,16 +585,30 @@ def _audit_new(t, records: list[dict], substance: str):
 @click.option(
     "--pair", is_flag=True, help="Fit solid and liquid together, meeting at the triple point."
 )
-@click.option("--triple-point", help="Impose the triple point, e.g. 1234.5K (pair fits).")
-@click.option("--triple-pressure", help="Also impose its pressure, e.g. 3.2Pa (pair fits).")
-@click.option("--fusion-enthalpy", type=float, help="Also impose dH_fus there [J/mol] (pair fits).")
+@click.option(
+    "--triple-point", type=TEMPERATURE, help="Impose the triple point, e.g. 1234.5K (pair fits)."
+)
+@click.option(
+    "--triple-pressure", type=PRESSURE, help="Also impose its pressure, e.g. 3.2Pa (pair fits)."
+)
+@click.option(
+    "--fusion-enthalpy",
+    type=ENTHALPY,
+    help="Also impose dH_fus there, e.g. 12.47kJ/mol (bare number: J/mol; pair fits).",
+)
 @click.option(
     "--no-references", is_flag=True, help="Pair fits: ignore the table's triple point and dH_fus."
 )
 @click.option(
-    "--t-crit", help="Wagner forms: critical temperature (default: the table's reference)."
+    "--t-crit",
+    type=TEMPERATURE,
+    help="Wagner forms: critical temperature (default: the table's reference).",
 )
-@click.option("--p-crit", help="Wagner forms: critical pressure (default: the table's reference).")
+@click.option(
+    "--p-crit",
+    type=PRESSURE,
+    help="Wagner forms: critical pressure (default: the table's reference).",
+)
 @click.option("--id", "record_id", help="Id of the new record.")
 @click.option(
     "--write",
@@ -542,7 +640,6 @@ def fit_cmd(
     from .api import open_table
     from .fit import fit_table, fit_table_pair
     from .report.fit import render_fit, render_pair
-    from .units import parse_pressure, parse_temperature
 
     t = open_table(table)
     if pair:
@@ -550,8 +647,8 @@ def fit_cmd(
             t,
             substance,
             form,
-            triple_temperature=parse_temperature(triple_point) if triple_point else None,
-            triple_pressure=parse_pressure(triple_pressure) if triple_pressure else None,
+            triple_temperature=triple_point,
+            triple_pressure=triple_pressure,
             fusion_enthalpy=fusion_enthalpy,
             use_references=not no_references,
         )
@@ -563,8 +660,8 @@ def fit_cmd(
             form,
             phase,
             robust=robust,
-            t_crit=parse_temperature(t_crit) if t_crit else None,
-            p_crit=parse_pressure(p_crit) if p_crit else None,
+            t_crit=t_crit,
+            p_crit=p_crit,
             record_id=record_id,
         )
         recs = [rec]
@@ -582,17 +679,17 @@ def fit_cmd(
 @click.argument("record")
 @click.option("--form", help="Target equation form (a refit unless it is the same form).")
 @click.option("--log-base", type=click.Choice(["e", "10"]))
-@click.option("--pressure-unit", help="Target pressure unit, e.g. Torr.")
+@click.option("--pressure-unit", type=UnitName(), help="Target pressure unit, e.g. Torr.")
 @click.option("--temperature-unit", type=click.Choice(["K", "degC", "degF"]))
 @click.option(
     "--max-deviation",
-    type=float,
+    type=click.FloatRange(min=0, min_open=True, max=10),
     default=1e-3,
     show_default=True,
     help="Largest ln P deviation a refit may have over the range.",
 )
-@click.option("--t-crit", help="Wagner targets: critical temperature.")
-@click.option("--p-crit", help="Wagner targets: critical pressure.")
+@click.option("--t-crit", type=TEMPERATURE, help="Wagner targets: critical temperature.")
+@click.option("--p-crit", type=PRESSURE, help="Wagner targets: critical pressure.")
 @click.option(
     "--format", "fmt", type=click.Choice(["csv", "json"]), default="csv", show_default=True
 )
@@ -612,11 +709,8 @@ def convert_cmd(
     from .api import open_table
     from .fit import convert_or_refit
     from .lookup import record_dict
-    from .units import parse_pressure, parse_temperature, pressure_factor
     from .writers import records_csv
 
-    if pressure_unit:
-        pressure_factor(pressure_unit)
     rec = record_dict(open_table(table), record)
     out, dev, exact = convert_or_refit(
         rec,
@@ -625,8 +719,8 @@ def convert_cmd(
         pressure_unit=pressure_unit,
         temperature_unit=temperature_unit,
         max_deviation=max_deviation,
-        t_crit=parse_temperature(t_crit) if t_crit else None,
-        p_crit=parse_pressure(p_crit) if p_crit else None,
+        t_crit=t_crit,
+        p_crit=p_crit,
     )
     if fmt == "json":
         clean = {
@@ -771,9 +865,13 @@ def review_cmd(table, by, db, min_confidence):
 )
 def history_cmd(table, record, fmt):
     """Every revision of RECORD: as first entered, and each correction with who, when, why."""
+    from .api import open_table
+    from .lookup import check_records
     from .revisions import history
 
     entries = history(table, record)
+    if not entries:
+        check_records(open_table(table), [record])
     if fmt == "json":
         click.echo(json.dumps(entries, indent=2))
         return

@@ -1,12 +1,15 @@
 """The exception tree of vpaudit.
 
 Every error the library raises on purpose derives from :class:`VpauditError`; the CLI
-catches only that class, prints ``ErrorName: message`` and exits with status 2::
+catches that class, prints ``vpaudit: <what went wrong, in words>: <message>`` (each class's
+``kind``) and exits with status 2 (an operating-system error, such as a missing output
+folder, too)::
 
     VpauditError
     ├── TableError            input that cannot be read as written (file, line, column)
     │   └── TableErrors       several TableError at once, all of them listed
     ├── RecordRuleError       records that read fine but break a rule (import rejects them)
+    ├── WriteError            a file that cannot be written as asked (nothing is written)
     ├── UnitError             an unknown unit or a quantity that does not parse
     ├── EquationError         an equation that cannot be evaluated or converted exactly
     ├── PolicyError           a policy file or override that is not valid
@@ -25,6 +28,7 @@ __all__ = [
     "TableErrors",
     "RecordRuleError",
     "UnitError",
+    "WriteError",
     "EquationError",
     "PolicyError",
     "StoreError",
@@ -35,6 +39,9 @@ __all__ = [
 
 class VpauditError(Exception):
     """Base class of every error vpaudit raises on purpose."""
+
+    #: What went wrong, in words, for the command line's one-line message.
+    kind = "error"
 
 
 @dataclass(frozen=True)
@@ -75,6 +82,8 @@ class TableError(VpauditError):
         File, line and column of the offending value.
     """
 
+    kind = "cannot read the table"
+
     def __init__(self, message: str, location: Location | None = None) -> None:
         self.message = message
         self.location = location
@@ -99,6 +108,8 @@ class TableErrors(TableError):
 class RecordRuleError(VpauditError):
     """Records that read fine but break a rule of the table format."""
 
+    kind = "the table breaks a rule of its format"
+
     def __init__(self, problems: Iterable[str], limit: int = 50) -> None:
         self.problems = list(problems)
         shown = self.problems[:limit]
@@ -111,21 +122,37 @@ class RecordRuleError(VpauditError):
         super().__init__(text)
 
 
+class WriteError(VpauditError):
+    """A file vpaudit was asked to write that it cannot write as asked (nothing is written)."""
+
+    kind = "cannot write"
+
+
 class UnitError(VpauditError):
     """An unknown unit, or a quantity with a unit suffix that does not parse."""
+
+    kind = "cannot read a quantity"
 
 
 class EquationError(VpauditError):
     """An equation that cannot be evaluated, inverted or converted exactly."""
 
+    kind = "cannot evaluate or convert the equation"
+
 
 class PolicyError(VpauditError):
     """A policy file, preset or override that is not valid."""
+
+    kind = "the policy is not valid"
 
 
 class StoreError(VpauditError):
     """The DuckDB store cannot be opened, read or written."""
 
+    kind = "cannot use the store"
+
 
 class UnknownCheckError(VpauditError):
     """A check name that is not registered; the message lists the valid names."""
+
+    kind = "unknown check"

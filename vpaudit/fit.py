@@ -203,6 +203,11 @@ def _model(form: str, p: np.ndarray, t: np.ndarray, fixed: dict):
 
 # --- linear algebra ----------------------------------------------------------------------------
 
+_SINGULAR = (
+    "the fit cannot determine the coefficients: its equations are singular for these "
+    "points or this range"
+)
+
 
 def _wls(x: np.ndarray, y: np.ndarray, w: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Weighted least squares (w = 1/sigma^2): coefficients and (X^T W X)^-1, from a QR of
@@ -212,9 +217,14 @@ def _wls(x: np.ndarray, y: np.ndarray, w: np.ndarray) -> tuple[np.ndarray, np.nd
     xw = x * sw[:, None]
     scale = np.abs(xw).max(axis=0)
     scale[scale == 0] = 1.0
-    q, r = np.linalg.qr(xw / scale)
-    beta = np.linalg.solve(r, q.T @ (y * sw)) / scale
-    rinv = np.linalg.inv(r)
+    if not (np.isfinite(xw).all() and np.isfinite(y).all()):
+        raise EquationError(_SINGULAR + " (a term overflows at these temperatures)")
+    try:
+        q, r = np.linalg.qr(xw / scale)
+        beta = np.linalg.solve(r, q.T @ (y * sw)) / scale
+        rinv = np.linalg.inv(r)
+    except np.linalg.LinAlgError:
+        raise EquationError(_SINGULAR) from None
     cov = (rinv @ rinv.T) / np.outer(scale, scale)
     return beta, cov
 
@@ -449,7 +459,10 @@ def _constrained(xs, ys, ws, xl, yl, wl, c, d):
     kkt[:k, k:] = csc.T
     kkt[k:, :k] = csc
     rhs = np.concatenate([xsc.T @ (w * y), d])
-    inv = np.linalg.inv(kkt)
+    try:
+        inv = np.linalg.inv(kkt)
+    except np.linalg.LinAlgError:
+        raise EquationError(_SINGULAR) from None
     sol = inv @ rhs
     beta = sol[:k] / scale
     cov = inv[:k, :k] / np.outer(scale, scale)

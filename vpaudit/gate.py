@@ -105,6 +105,19 @@ def _git(root: Path, *args: str) -> str:
     return proc.stdout
 
 
+def _fetch_hint(root: Path, ref: str) -> str:
+    """The command that fetches ``ref``: a remote-tracking name such as ``origin/main`` is
+    fetched as branch ``main`` of remote ``origin``.
+    """
+    remotes = subprocess.run(
+        ["git", "-C", str(root), "remote"], capture_output=True, text=True
+    ).stdout.split()
+    remote, _, branch = ref.partition("/")
+    if branch and remote in remotes:
+        return f"git fetch --depth=1 {remote} {branch}"
+    return f"git fetch --depth=1 {remotes[0] if remotes else 'origin'} {ref}"
+
+
 def _table_at(table: Path, ref: str, into: Path) -> Path:
     """Write the table's files as they were at ``ref`` into ``into``; returns the copy."""
     table = table.resolve()
@@ -123,7 +136,7 @@ def _table_at(table: Path, ref: str, into: Path) -> Path:
     if check.returncode != 0:
         raise VpauditError(
             f"the base revision {ref!r} is not in this clone. vpaudit fetches nothing; in a "
-            f"shallow CI checkout fetch it first, e.g. 'git fetch --depth=1 origin {ref}'"
+            f"shallow CI checkout fetch it first, e.g. '{_fetch_hint(root, ref)}'"
         )
     rel = table.relative_to(root)
     # -z: names exactly as stored (no quoting of non-ASCII or special characters)
@@ -390,7 +403,15 @@ def accept(
             "sources-disagree:kestrium-l1,kestrium-l2"
         )
     check, records = finding.split(":", 1)
+    check = check.strip()
     ids = [r.strip() for r in records.split(",") if r.strip()]
+    if not ids:
+        raise VpauditError(f"{finding!r} names no record: write CHECK:RECORD[,RECORD]")
+    from .checks._registry import get_check
+    from .lookup import check_records
+
+    get_check(check)  # an unknown check is an error that lists the valid names
+    check_records(load_table(table), ids)
     if until is not None:
         if not re.fullmatch(r"\d{4}-\d{2}-\d{2}", until):
             raise VpauditError(f"--until {until!r} is not a date written like 2027-06-30")
@@ -408,7 +429,7 @@ def accept(
     entry = [
         "",
         "[[accepted]]",
-        f"check = {_toml_string(check.strip(), 'the check')}",
+        f"check = {_toml_string(check, 'the check')}",
         f"records = [{', '.join(_toml_string(i, 'a record id') for i in ids)}]",
         f"reason = {_toml_string(reason, '--reason')}",
         f"by = {_toml_string(who, '--by')}",

@@ -51,22 +51,42 @@ def evaporation_flux(pressure, temperature, molar_mass, alpha: float = 1.0):
     return alpha * p * np.sqrt(molar_mass / (2.0 * math.pi * R * t))
 
 
+def _near(wanted: str, names: list[str]) -> str:
+    """A hint naming the names close to ``wanted`` (case, containment, spelling)."""
+    import difflib
+
+    low = wanted.lower()
+    close = [n for n in names if n.lower() == low]
+    close += [n for n in names if n not in close and (low in n.lower() or n.lower() in low)]
+    close += [n for n in difflib.get_close_matches(wanted, names, n=3) if n not in close]
+    if close:
+        return f"; did you mean {', '.join(close[:5])}?"
+    if not names:
+        return "; the table has none"
+    return f"; the table has {len(names)}, e.g. {', '.join(names[:5])}"
+
+
+def check_substances(table: Table, substances) -> None:
+    """Raise when a substance named is not in the table's records, naming near matches."""
+    known = set(table.records["substance"].astype(object).dropna())
+    for name in substances:
+        if name not in known:
+            raise VpauditError(f"no records for substance {name!r}{_near(name, sorted(known))}")
+
+
+def check_records(table: Table, ids) -> None:
+    """Raise when a record id named is not in the table, naming near matches."""
+    known = set(table.records["id"].astype(object).dropna())
+    for rid in ids:
+        if rid not in known:
+            raise VpauditError(f"no record with id {rid!r}{_near(rid, sorted(known))}")
+
+
 def substance_records(table: Table, substance: str):
     """The records of ``substance``; an unknown name lists near matches."""
+    check_substances(table, [substance])
     rec = table.records
-    rows = rec[rec["substance"] == substance]
-    if not len(rows):
-        names = sorted(set(rec["substance"]))
-        close = [
-            n for n in names if substance.lower() in n.lower() or n.lower() in substance.lower()
-        ][:5]
-        hint = (
-            f"; did you mean {', '.join(close)}?"
-            if close
-            else (f"; the table has {len(names)} substances, e.g. {', '.join(names[:5])}")
-        )
-        raise VpauditError(f"no records for substance {substance!r}{hint}")
-    return rows.reset_index(drop=True)
+    return rec[rec["substance"] == substance].reset_index(drop=True)
 
 
 def eval_substance(

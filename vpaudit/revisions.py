@@ -44,6 +44,8 @@ __all__ = [
 class RevisionError(VpauditError):
     """A correction that cannot be written as asked (the message says why)."""
 
+    kind = "cannot revise the record"
+
 
 def history_path(table: str | Path) -> Path:
     """Where the revision log of ``table`` (a directory or a single file) lives."""

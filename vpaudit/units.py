@@ -13,7 +13,6 @@ Pressure factors are exact by definition (:mod:`vpaudit.constants`, tested again
 
 from __future__ import annotations
 
-import math
 import re
 from typing import Final
 
@@ -29,6 +28,7 @@ __all__ = [
     "MOLAR_MASS_UNITS",
     "MMHG_PA",
     "QUANTITY_UNITS",
+    "parse_enthalpy",
     "pressure_factor",
     "to_kelvin",
     "from_kelvin",
@@ -88,8 +88,35 @@ QUANTITY_UNITS: Final[dict[str, tuple[str, tuple[str, ...]]]] = {
 }
 
 
+#: What people type for a unit vpaudit spells otherwise (a hint, never a silent rewrite).
+_SPELLED = {
+    "°C": "degC",
+    "C": "degC",
+    "°F": "degF",
+    "F": "degF",
+    "°K": "K",
+    "hPa": "mbar (1 hPa = 1 mbar = 100 Pa)",
+    "mmhg": "mmHg",
+    "torr": "Torr",
+    "j/mol": "J/mol",
+    "kj/mol": "kJ/mol",
+    "kelvin": "K",
+    "celsius": "degC",
+    "fahrenheit": "degF",
+    "pascal": "Pa",
+}
+
+
 def _unknown(kind: str, unit: str, valid: dict) -> UnitError:
-    return UnitError(f"unknown {kind} unit {unit!r}; valid units: {', '.join(valid)}")
+    """An unknown unit, with the likely intended one when there is one."""
+    hint = (
+        _SPELLED.get(unit)
+        or _SPELLED.get(unit.lower())
+        or next((name for name in valid if name.lower() == unit.lower()), None)
+    )
+    what = f"unknown {kind} unit" if kind else "unknown unit"
+    did = f" (did you mean {hint}?)" if hint else ""
+    return UnitError(f"{what} {unit!r}{did}; valid units: {', '.join(valid)}")
 
 
 def pressure_factor(unit: str) -> float:
@@ -151,7 +178,7 @@ def from_kelvin(value, unit: str):
 
 
 _QUANTITY = re.compile(
-    r"^\s*([+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?)\s*([A-Za-z/]*)\s*$"
+    r"^\s*([+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?)\s*([^\s0-9.+-][^\s]*)?\s*$"
 )
 
 
@@ -178,12 +205,15 @@ def parse_quantity(text: str, default_unit: str, units: dict[str, object]) -> tu
             f"cannot read {text!r} as a quantity: write a number and a unit, e.g. "
             f"'1200K' or '0.01Torr'"
         )
-    value = float(m.group(1))
+    from .readers.grammar import NumberSyntaxError, parse_number
+
+    try:  # the table's own grammar: no overflow, no subnormal, no NaN
+        value = parse_number(m.group(1))
+    except NumberSyntaxError as exc:
+        raise UnitError(f"cannot read {text!r}: {exc}") from None
     unit = m.group(2) or default_unit
     if unit not in units:
         raise _unknown("", unit, units)
-    if not math.isfinite(value):
-        raise UnitError(f"{text!r} is not a finite number")
     return value, unit
 
 
@@ -200,6 +230,20 @@ def parse_temperature(text: str) -> float:
     if kelvin <= 0:
         raise UnitError(f"{text!r} is {kelvin:g} K: an absolute temperature must be positive")
     return kelvin
+
+
+def parse_enthalpy(text: str) -> float:
+    """Parse ``12.47kJ/mol`` or ``12470`` (bare numbers are J/mol) into J/mol.
+
+    Raises
+    ------
+    UnitError
+        If the text does not parse or the enthalpy is not positive.
+    """
+    value, unit = parse_quantity(text, "J/mol", ENTHALPY_UNITS)
+    if value <= 0:
+        raise UnitError(f"{text!r}: an enthalpy of fusion must be positive")
+    return value * ENTHALPY_UNITS[unit]
 
 
 def parse_pressure(text: str) -> float:

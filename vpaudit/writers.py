@@ -56,7 +56,7 @@ def _read_back(path: Path, text: str, names: list[str], rows: list[list[str]], s
     """Refuse to write ``text`` unless the CSV reader reads ``rows`` back from it exactly
     (after its first ``skip`` rows).
     """
-    from .errors import Location, TableError
+    from .errors import WriteError
     from .readers.files import read_csv
 
     raw = read_csv(str(path), text.encode("utf-8"))
@@ -65,10 +65,9 @@ def _read_back(path: Path, text: str, names: list[str], rows: list[list[str]], s
         got = cells if isinstance(cells, list) else cells.to_pylist()
         want = [r[j] or None for r in rows]
         if [g or None for g in got[skip:]] != want:
-            raise TableError(
-                f"vpaudit would write column {name!r} in a form it cannot read back; "
-                "nothing was written",
-                Location(str(path)),
+            raise WriteError(
+                f"{path}: vpaudit would write column {name!r} in a form it cannot read "
+                "back; nothing was written"
             )
 
 
@@ -111,19 +110,18 @@ def append_records(path: str | Path, records: list[dict]) -> int:
 
     Raises
     ------
-    TableError
+    WriteError
         When the file is not a CSV file, lacks a column the records need, or already holds
         one of their ids.
     """
-    from .errors import Location, TableError
+    from .errors import WriteError
     from .readers.files import read_csv
 
     p = Path(path)
     if p.suffix.lower() not in (".csv", ".tsv"):
-        raise TableError(
-            f"new records are appended to a CSV records file, and this is a {p.suffix or 'bare'} "
-            "file; give a .csv file (a new one is created with its header)",
-            Location(str(p)),
+        raise WriteError(
+            f"{p}: new records are appended to a CSV records file, and this is a "
+            f"{p.suffix or 'bare'} file; give a .csv file (a new one is created with its header)"
         )
     raw_bytes = p.read_bytes() if p.exists() else b""
     bom = raw_bytes.startswith(b"\xef\xbb\xbf")
@@ -151,19 +149,18 @@ def append_records(path: str | Path, records: list[dict]) -> int:
         known = set(ids if isinstance(ids, list) else ids.to_pylist()) if ids is not None else set()
         clash = sorted(known & {str(r.get("id")) for r in records})
         if clash:
-            raise TableError(
-                f"the file already holds a record with id {', '.join(map(repr, clash))}; "
-                "give the new record another id",
-                Location(str(p)),
+            raise WriteError(
+                f"{p} already holds a record with id {', '.join(map(repr, clash))}; "
+                "give the new record another id"
             )
     needed = {
         k for r in records for k, v in r.items() if v not in (None, "") and not k.endswith("_text")
     }
     missing = sorted(needed - set(names))
     if missing:
-        raise TableError(
-            f"the file has no column {', '.join(missing)} for the new record; add it first",
-            Location(str(p), (header_at or 0) + 1),
+        raise WriteError(
+            f"{p}:{(header_at or 0) + 1}: the file has no column {', '.join(missing)} for the "
+            "new record; add it first"
         )
     first = len(split_lines(text)) + 1
     rows = [[_cell(r, n) for n in names] for r in records]

@@ -425,6 +425,24 @@ def _read_csv_exact(
 
 
 #: The plain scalars YAML 1.1 and 1.2 both read as null; quoted, they stay text.
+_SURROGATE = re.compile("[\ud800-\udfff]")
+
+
+def _no_surrogate(path: str, text: str, line: int | None, key: str) -> None:
+    r"""Refuse a lone surrogate (an escape such as ``\ud83d`` without its pair): no text
+    file can hold it, and every output would fail on it.
+    """
+    m = _SURROGATE.search(text)
+    if m:
+        raise _err(
+            path,
+            f"field {key!r} holds an unpaired surrogate U+{ord(m.group()):04X} (an escape "
+            "such as \\ud83d without its pair): write the character itself",
+            line,
+            key,
+        )
+
+
 _YAML_NULLS = frozenset({"", "~", "null", "Null", "NULL"})
 
 
@@ -432,6 +450,7 @@ def _yaml_scalar(path: str, node: yaml.Node, key: str, at) -> str | None:
     if isinstance(node, yaml.ScalarNode):
         if node.style is None and node.value in _YAML_NULLS:
             return None  # an unquoted null is a missing value, as JSON's null is
+        _no_surrogate(path, node.value, at(node.start_mark), key)
         return node.value
     raise _err(
         path,
@@ -648,6 +667,9 @@ def read_json(path: str, data: bytes) -> RawFrame:
                     line,
                     k,
                 )
+            if isinstance(v, str):
+                _no_surrogate(path, v, line, k)
+            _no_surrogate(path, k, line, k)
     cells = {c: [obj.get(c) for obj in items] for c in columns}
     return RawFrame(path, columns, cells, lines, hint)
 

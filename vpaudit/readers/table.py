@@ -557,13 +557,16 @@ def _reference_rules(frame: pd.DataFrame, raw: RawFrame, out: _Collector) -> Non
 
 
 def _point_rules(frame: pd.DataFrame, raw: RawFrame, out: _Collector) -> None:
-    t = _kelvin(frame["T"].to_numpy(), frame["temperature_unit"])
-    p = frame["P"].to_numpy() * lookup(frame["pressure_unit"], PRESSURE_UNITS)
-    with np.errstate(invalid="ignore"):
+    with np.errstate(invalid="ignore", over="ignore"):
+        t = _kelvin(frame["T"].to_numpy(), frame["temperature_unit"])
+        p = frame["P"].to_numpy() * lookup(frame["pressure_unit"], PRESSURE_UNITS)
         for i in np.flatnonzero(~np.isnan(t) & (t <= 0)):
             out.error(raw, int(i), "T", "T must be a positive absolute temperature")
         for i in np.flatnonzero(~np.isnan(p) & (p <= 0)):
             out.error(raw, int(i), "P", "P must be positive")
+        for i in np.flatnonzero(np.isinf(p) | np.isinf(t)):  # finite as written, not in SI
+            col = "P" if np.isinf(p[i]) else "T"
+            out.error(raw, int(i), col, f"{col} is beyond the largest double once in SI units")
     frame["T_K"] = t
     frame["P_Pa"] = p
     _source_rule(frame, out)

@@ -55,13 +55,18 @@ def render_eval(answer: dict, unit: str = "Pa") -> str:
                 if r["in_range"]
                 else "NO (extrapolated)"
                 if r["temperature_K"]
-                else "not reached",
+                else "not reached in range",
             ]
         )
     lines = [head, ""] + _table(
         ["record", "phase", col, "dH [kJ/mol]", "dCp [J/(mol K)]", "range [K]", "in range"], rows
     )
     lines.append("")
+    if t is None and any(r["temperature_K"] is None for r in answer["records"]):
+        lines.append(
+            "A record marked 'not reached in range' does not reach this pressure within its "
+            "validity range; --extrapolate searches beyond it."
+        )
     if answer["stable_phase"]:
         why = (
             "lower vapour pressure"

@@ -60,7 +60,7 @@ def render(result, width: int = 100) -> str:
             lines.append(f"{name or '(table)'} -- {_counts(fs)}")
             shown: set = set()  # each substance's fix is explained once
             for f in fs:
-                where = f" ({f.file}:{f.line})" if f.file else ""
+                where = f" ({f.file}{f':{f.line}' if f.line else ''})" if f.file else ""
                 ident = (
                     f"{f.check}:{','.join(f.records)}"
                     if status_of
@@ -104,10 +104,15 @@ def render(result, width: int = 100) -> str:
             f"{s['not_diagnosed']} further substance(s) with errors or warnings were not "
             "diagnosed (the diagnosis stops at --diagnose-limit substances, worst first)."
         )
-    flagged = len({f.substance for f in result.findings})
-    lines.append(
-        f"Summary: {_counts(result.findings)} in {flagged} of {s['substances']} substances."
-    )
+    flagged = len({f.substance for f in result.findings if f.substance})
+    whole = sum(not f.substance for f in result.findings)  # about the table, not a substance
+    summary = f"Summary: {_counts(result.findings)}"
+    if flagged:
+        audited = "substance(s) re-audited" if status_of else "substance(s)"
+        summary += f" in {flagged} of {s['substances']} {audited}"
+    if whole:
+        summary += f"; {whole} about the table as a whole"
+    lines.append(summary + ".")
     lines = [visible(line) for line in lines]  # table text shown, never obeyed
     lines.append(textwrap.fill(f"Caution: {CAUTION}", width=width))
     return "\n".join(lines) + "\n"

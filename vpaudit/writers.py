@@ -166,6 +166,5 @@ def append_records(path: str | Path, records: list[dict]) -> int:
     rows = [[_cell(r, n) for n in names] for r in records]
     text += "".join(csv_line(row, delimiter, ending) for row in rows)
     _read_back(p, text, names, rows, skip=old_rows)
-    p.parent.mkdir(parents=True, exist_ok=True)
     write_atomic(p, (b"\xef\xbb\xbf" if bom else b"") + text.encode("utf-8"))
     return first

@@ -51,7 +51,15 @@ def test_audit_exit_codes_and_json_contract(sample_db, tmp_path):
     r = run("audit", sample_db, "--format", "json")
     assert r.exit_code == 1
     data = json.loads(r.output)
-    assert set(data["summary"]) == {"records", "substances", "pairs", "error", "warning", "note"}
+    assert set(data["summary"]) == {
+        "records",
+        "substances",
+        "pairs",
+        "error",
+        "warning",
+        "note",
+        "not_checked",
+    }
     f = data["findings"][0]
     assert {
         "check",
@@ -166,3 +174,14 @@ def test_console_command_writes_everything_before_its_quick_exit(sample_db, clea
     assert run("query", db, "SELECT count(*) AS n FROM records").exit_code == 0
     missing = _console("audit", tmp_path / "nowhere")
     assert missing.returncode == 2 and "nowhere" in missing.stderr
+
+
+def test_every_report_says_what_it_could_not_test(sample_db):
+    # metals.csv alone has no references and no points: 9 errors instead of 20, silently
+    r = run("audit", sample_db / "records" / "metals.csv", "--fail-on", "never")
+    assert "Not tested for want of data: the melting-point tests for 24 substance(s)" in r.output
+    r = run("audit", sample_db / "records" / "metals.csv", "--format", "json", "--fail-on", "never")
+    missing = json.loads(r.output)["summary"]["not_checked"]
+    assert missing["no_melting_reference"] == 24 and missing["no_points"] == 24
+    r = run("audit", sample_db, "--format", "markdown", "--fail-on", "never")
+    assert "Not tested for want of data: the boiling-point test for 12 substance(s)" in r.output

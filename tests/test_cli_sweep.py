@@ -12,7 +12,6 @@ from click.testing import CliRunner
 
 from vpaudit.cli import main
 
-
 SAMPLE = Path(__file__).resolve().parents[1] / "sample_db"
 
 
@@ -41,7 +40,10 @@ CASES = {
     "report -o": (["report", "{t}", "-o", MISSING + ".html", "--no-plots"], "no-such-folder"),
     "gate -o": (["gate", "{t}", "--base", "HEAD", "-o", MISSING + ".sarif"], "no-such-folder"),
     "plot -o": (["plot", "{t}", "kestrium", "-o", MISSING + ".png"], "no-such-folder"),
-    "import --db": (["import", "{t}/records/volatiles.csv", "--db", MISSING + ".duckdb"], "no-such-folder"),
+    "import --db": (
+        ["import", "{t}/records/volatiles.csv", "--db", MISSING + ".duckdb"],
+        "no-such-folder",
+    ),
     "fit --write": (
         [
             "fit",

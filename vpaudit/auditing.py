@@ -78,6 +78,48 @@ def _sort_key(f: Finding):
     return (_FIRST[f.severity], f.substance, f.check, f.records)
 
 
+def coverage(ctx: AuditContext) -> dict[str, int]:
+    """What the audit could not test for want of data, by the substances it concerns.
+
+    Each key names the missing data (:data:`vpaudit.report._coverage.NOT_TESTED` says
+    which tests it stops); each value counts the substances (with records) concerned.
+    Checks are silent where their data are missing, so a single file audited alone, or a
+    table without references, looks cleaner than it is: every report says so.
+    """
+    codes = ctx.codes
+    has = codes >= 0
+    n = ctx.n_names
+    solid = np.bincount(codes[has & ctx.solid], minlength=n) > 0
+    liquid = np.bincount(codes[has & ctx.liquid], minlength=n) > 0
+    present = solid | liquid
+    both = solid & liquid
+
+    def referenced(*quantities: str) -> np.ndarray:
+        out = np.zeros(n, dtype=bool)
+        for q in quantities:
+            arr = ctx._refs_by_code.get(q)
+            if arr is not None:
+                out |= ~np.isnan(arr)
+        return out
+
+    points = np.zeros(n, dtype=bool)
+    if len(ctx.table.points):
+        pc = ctx.point_codes
+        points[pc[pc >= 0]] = True
+    per_phase = np.bincount(codes[has], minlength=n)
+    out = {
+        "no_partner_phase": present & ~both,
+        "no_melting_reference": both & ~referenced("melting_point", "triple_point_temperature"),
+        "no_boiling_reference": liquid & ~referenced("normal_boiling_point"),
+        "no_enthalpy_reference": present
+        & ~referenced("enthalpy_of_vaporization", "enthalpy_of_sublimation", "enthalpy_of_fusion"),
+        "single_source": present & (per_phase <= np.where(both, 2, 1)),
+        "no_points": present & ~points,
+    }
+    out = {k: int(np.count_nonzero(v)) for k, v in out.items()}
+    return {k: v for k, v in out.items() if v}
+
+
 def audit_table(
     table: Table,
     policy: Policy | None = None,
@@ -120,6 +162,7 @@ def audit_table(
         table = restrict(table, set(substances))
     ctx = AuditContext(table, policy)
     findings = run_checks(ctx, names, progress)
+    not_checked = coverage(ctx) if len(table.records) else {}
     n_pairs = len(ctx.pairs["s"]) if any(REGISTRY[n].scope.value == "pair" for n in names) else 0
     ctx.drop_shared()  # not needed any more: the diagnosis and the output use their memory
     skipped = 0
@@ -142,6 +185,7 @@ def audit_table(
         "error": sum(f.severity is Severity.error for f in findings),
         "warning": sum(f.severity is Severity.warning for f in findings),
         "note": sum(f.severity is Severity.note for f in findings),
+        "not_checked": not_checked,
     }
     if skipped:
         summary["not_diagnosed"] = skipped

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from ..auditing import CAUTION
+from ._coverage import coverage_sentence
 from ._escape import markdown_text as _cell
 
 
@@ -53,5 +54,8 @@ def render(result) -> str:
                 f"({_cell(', '.join(f.records))}): {_cell(f.message)}"
             )
         out += ["", "</details>", ""]
+    covered = coverage_sentence(s)
+    if covered:
+        out += [covered, ""]
     out.append(f"> {CAUTION}")
     return "\n".join(out) + "\n"

@@ -6,6 +6,7 @@ import textwrap
 from collections import defaultdict
 
 from ..auditing import CAUTION
+from ._coverage import coverage_sentence
 from ._escape import visible
 
 _LABEL = {"error": "ERROR", "warning": "WARNING", "note": "note"}
@@ -113,6 +114,9 @@ def render(result, width: int = 100) -> str:
     if whole:
         summary += f"; {whole} about the table as a whole"
     lines.append(summary + ".")
+    covered = coverage_sentence(s)
+    if covered:
+        lines.extend(textwrap.wrap(covered, width=width))
     lines = [visible(line) for line in lines]  # table text shown, never obeyed
     lines.append(textwrap.fill(f"Caution: {CAUTION}", width=width))
     return "\n".join(lines) + "\n"

@@ -2,6 +2,7 @@
 
 import math
 import warnings
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -22,6 +23,8 @@ from vpaudit.equations import (
 )
 from vpaudit.errors import EquationError
 from vpaudit.units import MMHG_PA, PRESSURE_UNITS
+
+SAMPLE = Path(__file__).resolve().parents[1] / "sample_db"
 
 
 def rec(**kw):
@@ -414,3 +417,32 @@ def test_blockwise_evaluation_equals_one_pass(monkeypatch):
         assert np.array_equal(a, b)
     for a, b in zip(picked, engine.evaluate(curves.take(rows), tr), strict=True):
         assert np.array_equal(a, b)
+
+
+@given(st.floats(allow_nan=False, allow_infinity=False, width=64))
+def test_tidy_text_stays_within_four_ulps(value):
+    from vpaudit.equations.convert import tidy_text
+
+    text = tidy_text(value)
+    assert abs(float(text) - value) <= 4 * math.ulp(value)
+    assert len(text) <= len(repr(value))
+
+
+def test_an_exact_conversion_prints_the_digits_a_person_would_type():
+    # K -> degC adds 273.15 to the Antoine C and subtracts it from the range: the decimal
+    # sums (Python's decimal module, exact) are 480.563914 and 20.55, not the float noise
+    # 480.56391399999995 and 20.55000000000001 once printed
+    from decimal import Decimal
+
+    from click.testing import CliRunner
+
+    from vpaudit.cli import main
+
+    out = (
+        CliRunner()
+        .invoke(main, ["convert", str(SAMPLE), "selmane-l1", "--temperature-unit", "degC"])
+        .output
+    )
+    row = out.splitlines()[-1].split(",")
+    assert row[10] == str(Decimal("207.413914") + Decimal("273.15"))
+    assert row[15] == str(Decimal("293.7") - Decimal("273.15"))

@@ -814,6 +814,8 @@ def convert_or_refit(
     note = f"refitted from form {src_form} over {lo:g}..{hi:g} K; max deviation {dev:.3g} in ln P"
     out["note"] = f"{record['note']}; {note}" if record.get("note") else note
     out["uncertainty"] = record.get("uncertainty")
+    for key in ("entered_by", "entered_on"):  # a conversion of the record, not a new entry
+        out[key] = record.get(key)
     if log_base or pressure_unit or temperature_unit:
         out = convert_record(
             out, log_base=log_base, pressure_unit=pressure_unit, temperature_unit=temperature_unit

@@ -50,7 +50,8 @@ def convert_record(
     Returns
     -------
     dict
-        The converted record; ``<field>_text`` of every changed number is its ``repr``, and
+        The converted record; ``<field>_text`` of every changed number is its shortest text
+        free of rounding noise (:func:`tidy_text`), and
         ``note`` says what was converted.
 
     Raises
@@ -115,12 +116,32 @@ def convert_record(
             out[c] = coef[c]
             changed.append(c)
     for key in changed:
-        out[key + "_text"] = repr(float(out[key]))
+        out[key + "_text"] = tidy_text(float(out[key]))
+        out[key] = float(out[key + "_text"])
     out["log_base"], out["pressure_unit"], out["temperature_unit"] = b2, u2, v2
     if (b2, u2, v2) != (b1, u1, v1):
         note = f"converted exactly from log_base {b1}, {u1}, {v1}"
         out["note"] = f"{record['note']}; {note}" if record.get("note") else note
     return out
+
+
+def tidy_text(value: float, ulps: int = 4) -> str:
+    """The shortest decimal text within ``ulps`` units in the last place of ``value``.
+
+    An exact conversion done in floating point carries a few ulps of rounding: C + 273.15
+    for 207.413914 gives 480.56391399999995, one ulp from 480.563914, the number a person
+    would have typed. The text keeps every digit the conversion determines and none of its
+    rounding noise (a relative change below 1e-15, far inside the 1e-12 that a round trip
+    must reproduce).
+    """
+    if not math.isfinite(value) or value == 0.0:
+        return repr(value)
+    tolerance = ulps * math.ulp(value)
+    for digits in range(1, 18):
+        text = f"{value:.{digits}g}"
+        if abs(float(text) - value) <= tolerance:
+            return repr(float(text))
+    return repr(value)
 
 
 def to_canonical_record(record: Mapping[str, Any]) -> dict[str, Any]:

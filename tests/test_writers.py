@@ -112,3 +112,28 @@ def test_append_records_reports_the_line_the_readers_give(tmp_path):
     assert t.records["line"].tolist() == [2, line] == [2, 4]
     with pytest.raises(WriteError, match="already holds"):
         append_records(target, [record])
+
+
+def test_fit_write_audits_the_record_with_its_partner_before_writing(table, tmp_path):
+    # the fitted liquid meets the table's solid: the audit sees the pair (a crossing outside
+    # the range), as apply's re-audit would, and an error stops the write unless --force
+    target = tmp_path / "fitted.csv"
+    out = fit_into(table, target)
+    assert out.exit_code == 0, out.output
+    assert "crossing-outside-range" in out.output  # needs the solid partner
+    bad = CliRunner().invoke(
+        main,
+        [
+            "fit",
+            str(table),
+            "--substance",
+            "ardenite",
+            "--form",
+            "two-term",
+            "--id",
+            "ardenite-s1",
+            "--write",
+            str(tmp_path / "other.csv"),
+        ],
+    )
+    assert bad.exit_code == 2 and "already holds a record with id 'ardenite-s1'" in bad.output

@@ -551,13 +551,30 @@ def report_cmd(table, output, policy, no_plots):
 
 
 def _audit_new(t, records: list[dict], substance: str):
+    """The findings on new records, audited with the table's records of the other phase of
+    their substance (the partner the triple point and Hess's law need), its references and
+    points, before anything is written.
+    """
     from .auditing import audit_table
+    from .lookup import records_at
     from .policy import load_policy
     from .readers.table import records_table
 
-    new = records_table(records, like=t)
+    rec = t.records
+    phases = {r.get("phase") for r in records}
+    ids = {r.get("id") for r in records}
+    partner = (
+        (rec["substance"].astype(object) == substance)
+        & ~rec["phase"].astype(object).isin(phases)
+        & ~rec["id"].astype(object).isin(ids)
+    ).to_numpy()
+    rows = [int(i) for i in partner.nonzero()[0]]
+    others = [
+        {k: v for k, v in r.items() if k not in ("file", "line")} for r in records_at(t, rows)
+    ]
+    new = records_table(records + others, like=t)
     result = audit_table(new, load_policy(t.policy_path), substances=[substance])
-    return result.findings
+    return [f for f in result.findings if ids & set(f.records)]
 
 
 @main.command("fit")
@@ -616,6 +633,7 @@ def _audit_new(t, records: list[dict], substance: str):
     type=click.Path(dir_okay=False),
     help="Append the new record(s) to this records CSV file.",
 )
+@click.option("--force", is_flag=True, help="With --write: write even a record that draws errors.")
 def fit_cmd(
     table,
     substance,
@@ -631,6 +649,7 @@ def fit_cmd(
     p_crit,
     record_id,
     write_to,
+    force,
 ):
     """Fit an equation to the measured points of TABLE and audit the new record.
 
@@ -652,7 +671,8 @@ def fit_cmd(
             fusion_enthalpy=fusion_enthalpy,
             use_references=not no_references,
         )
-        text = render_pair(res, recs, _audit_new(t, recs, substance))
+        findings = _audit_new(t, recs, substance)
+        text = render_pair(res, recs, findings)
     else:
         res, rec = fit_table(
             t,
@@ -665,11 +685,25 @@ def fit_cmd(
             record_id=record_id,
         )
         recs = [rec]
-        text = render_fit(res, rec, _audit_new(t, recs, substance))
+        findings = _audit_new(t, recs, substance)
+        text = render_fit(res, rec, findings)
     click.echo(text, nl=False)
     if write_to:
         from .writers import append_records
 
+        known = set(t.records["id"].astype(object))
+        clash = [r["id"] for r in recs if r["id"] in known]
+        if clash:
+            raise VpauditError(
+                f"the table already holds a record with id {', '.join(map(repr, clash))}; "
+                "give the new record another id with --id"
+            )
+        errors = sum(f.severity.value == "error" for f in findings)
+        if errors and not force:
+            raise VpauditError(
+                f"not written: the new record draws {errors} error(s) beside its substance's "
+                "other records (above); --force writes it anyway"
+            )
         line = append_records(write_to, recs)
         _say(f"appended {len(recs)} record(s) to {write_to} at line {line}")
 

@@ -198,13 +198,9 @@ def record_dict(table: Table, record_id: str) -> dict:
     """One record as a plain dict of its fields (numbers as floats, ``<field>_text`` beside
     each); an unknown id is an error that names a few valid ones.
     """
-    from .errors import EquationError
-
+    check_records(table, [record_id])
     ids = table.records["id"].astype(object)
     rows = (ids == record_id).to_numpy().nonzero()[0]
-    if len(rows) == 0:
-        some = ", ".join(map(str, ids.head(5)))
-        raise EquationError(f"no record {record_id!r} in the table (records include {some})")
     return record_at(table, int(rows[0]))
 
 

@@ -37,6 +37,11 @@ class Severity(StrEnum):
         return self.value
 
     @property
+    def label(self) -> str:
+        """How every human-readable report spells it: ERROR, WARNING, NOTE."""
+        return self.value.upper()
+
+    @property
     def rank(self) -> int:
         """2 for error, 1 for warning, 0 for note (for sorting and ``--fail-on``)."""
         return _RANK[str(self)]

@@ -54,7 +54,7 @@ def _findings(findings) -> list[str]:
         return ["audit of the new record(s): nothing found"]
     out = ["audit of the new record(s):"]
     for f in findings:
-        out.append(f"  {f.severity.value.upper():<8}{f.check}: {f.message}")
+        out.append(f"  {f.severity.label:<8}{f.check}: {f.message}")
     return out
 
 

@@ -156,6 +156,6 @@ def render_show(table, substance: str, result) -> str:
         )
     lines += ["", f"Findings: {len(result.findings)}"]
     for f in result.findings:
-        lines.append(f"  {f.severity.value:<8}{f.check} ({', '.join(f.records)}): {f.message}")
+        lines.append(f"  {f.severity.label:<8}{f.check} ({', '.join(f.records)}): {f.message}")
     lines.append("")
     return "\n".join(lines) + "\n"

@@ -40,7 +40,7 @@ def render(result) -> str:
         out += ["| severity | check | substance | records | finding |", "|---|---|---|---|---|"]
         for f in serious:
             out.append(
-                f"| {f.severity.value} | `{f.check}` | {_cell(f.substance)} | "
+                f"| {f.severity.label} | `{f.check}` | {_cell(f.substance)} | "
                 f"{_cell(', '.join(f.records))} | {_cell(f.message)}{_suggestion(f)} |"
             )
         out.append("")

@@ -9,8 +9,6 @@ from ..auditing import CAUTION
 from ._coverage import coverage_sentence
 from ._escape import visible
 
-_LABEL = {"error": "ERROR", "warning": "WARNING", "note": "note"}
-
 
 def _counts(findings) -> str:
     parts = []
@@ -67,7 +65,7 @@ def render(result, width: int = 100) -> str:
                     if status_of
                     else (f"{f.check}: {', '.join(f.records)}")
                 )
-                lines.append(f"  {_LABEL[f.severity.value]:<8}{ident}{where}")
+                lines.append(f"  {f.severity.label:<8}{ident}{where}")
                 lines.extend(wrap.wrap(f.message))
                 if f.suggestion:
                     sug = f.suggestion

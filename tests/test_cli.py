@@ -16,7 +16,9 @@ def test_eval_prints_a_readable_answer(sample_db):
     assert r.exit_code == 0
     assert "ardenite at 1200 K (926.85 degC)" in r.output
     assert "Stable phase: liquid" in r.output
-    assert "Hertz-Knudsen-Langmuir" in r.output and "Caution:" in r.output
+    assert "Hertz-Knudsen-Langmuir" in r.output
+    assert "Caution:" not in r.output  # once per report and in --help, not after every answer
+    assert "Caution: vpaudit screens" in run("--help").output
 
 
 def test_eval_json_contract(sample_db):

@@ -14,6 +14,7 @@ from typing import Any
 import numpy as np
 
 from . import checks as _checks  # noqa: F401  (registers every check)
+from ._caution import CAUTION  # the caution every report carries (re-exported)
 from .checks._context import AuditContext, threads_allowed
 from .checks._registry import REGISTRY, Severity, get_check, ordered
 from .checks.finding import Finding
@@ -21,13 +22,6 @@ from .policy import Policy, load_policy
 from .readers.table import Table
 
 __all__ = ["AuditResult", "audit", "audit_table", "run_checks", "CAUTION"]
-
-#: The caution every report carries (physics notes, section 10).
-CAUTION = (
-    "vpaudit screens vapour-pressure data for inconsistencies; it does not certify them. "
-    "Where results feed hazardous work (toxic or flammable vapours, vacuum or pressure "
-    "equipment), rely on primary sources, local codes and licensed practice."
-)
 
 
 @dataclass

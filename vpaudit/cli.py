@@ -14,6 +14,7 @@ from pathlib import Path
 import click
 
 from . import __version__
+from ._caution import CAUTION
 from .errors import VpauditError
 
 EXIT_OK = 0
@@ -139,7 +140,11 @@ class _Group(click.Group):
             ctx.exit(EXIT_INTERNAL)
 
 
-@click.group(cls=_Group, context_settings={"help_option_names": ["-h", "--help"]})
+@click.group(
+    cls=_Group,
+    context_settings={"help_option_names": ["-h", "--help"]},
+    epilog=f"Caution: {CAUTION} Every report (audit, gate, report) says so once.",
+)
 @click.version_option(__version__, prog_name="vpaudit")
 def main() -> None:
     """Audit tables of vapour-pressure equation coefficients.

@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..auditing import CAUTION
 from ..writers import records_csv
 
 
@@ -62,7 +61,6 @@ def render_fit(fit, record: dict, findings) -> str:
     """One fit, the record it makes, and what the audit says of that record."""
     lines = _fit_lines(fit, f"{record['substance']} ({record['phase']})")
     lines += ["", "new record:", records_csv([record]).rstrip("\n"), "", *_findings(findings)]
-    lines += ["", f"Caution: {CAUTION}"]
     return "\n".join(lines) + "\n"
 
 
@@ -83,7 +81,5 @@ def render_pair(res, records: list[dict], findings) -> str:
         records_csv(records).rstrip("\n"),
         "",
         *_findings(findings),
-        "",
-        f"Caution: {CAUTION}",
     ]
     return "\n".join(lines) + "\n"

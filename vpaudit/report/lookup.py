@@ -6,7 +6,6 @@ import math
 
 import numpy as np
 
-from ..auditing import CAUTION
 from ..checks._context import AuditContext
 from ..constants import R
 from ..units import pressure_factor
@@ -87,7 +86,6 @@ def render_eval(answer: dict, unit: str = "Pa") -> str:
     lines.append(
         "dH and dCp are implied by each curve's slope (Clausius-Clapeyron): dH = R T^2 dlnP/dT."
     )
-    lines.append(f"Caution: {CAUTION}")
     return "\n".join(lines) + "\n"
 
 

@@ -187,3 +187,44 @@ def test_every_report_says_what_it_could_not_test(sample_db):
     assert missing["no_melting_reference"] == 24 and missing["no_points"] == 24
     r = run("audit", sample_db, "--format", "markdown", "--fail-on", "never")
     assert "Not tested for want of data: the boiling-point test for 12 substance(s)" in r.output
+
+
+def test_show_prints_the_coefficients_and_marks_a_cut_source(sample_db):
+    r = run("show", sample_db, "bellorium")
+    assert r.exit_code == 0
+    assert "Coefficients (as written in the table):" in r.output
+    assert "-14736.5418" in r.output and "-0.659908723" in r.output
+    assert "(invented …" in r.output  # cut with an ellipsis, then given in full
+    assert (
+        "bellorium-s1: Fictional Compendium of Coating Vapours, 2nd ed. (invented demo source)"
+        in r.output
+    )
+
+
+def test_a_pair_finding_points_at_the_suspect_and_a_reference_names_the_culprit(sample_db):
+    # kestrium-l2 is the planted second source that disagrees (sample_db/PLANTED.csv); the
+    # pair finding once landed on the clean solid's line, and sources-disagree said that
+    # neither record could be blamed although the boiling point reference sides with l1
+    r = run("audit", sample_db, "--format", "json", "--fail-on", "never")
+    lines = {
+        ln.split(",")[0]: k
+        for k, ln in enumerate((sample_db / "records" / "metals.csv").read_text().splitlines(), 1)
+    }
+    found = {
+        f["check"]: f for f in json.loads(r.output)["findings"] if f["substance"] == "kestrium"
+    }
+    assert found["melting-point-mismatch"]["location"]["line"] == lines["kestrium-l2"]
+    disagree = found["sources-disagree"]
+    assert disagree["location"]["line"] == lines["kestrium-l2"]
+    assert "sides with kestrium-l1: kestrium-l2 is off by" in disagree["message"]
+
+
+def test_the_checks_page_renders_as_markdown_tables_and_prose():
+    # unescaped | broke table rows, and 64 indented docstring lines rendered as code blocks
+    import re
+
+    text = run("checks", "--format", "markdown").output
+    for line in text.splitlines():
+        if line.startswith("|"):
+            assert len(re.split(r"(?<!\\)\|", line)) == 7, line  # 5 cells
+        assert not line.startswith("    "), line

@@ -6,6 +6,7 @@ on: one broken check never hides the others' results.
 
 from __future__ import annotations
 
+import dataclasses
 import traceback
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -70,6 +71,33 @@ _FIRST = {s: -s.rank for s in Severity}
 
 def _sort_key(f: Finding):
     return (_FIRST[f.severity], f.substance, f.check, f.records)
+
+
+def point_at_suspects(ctx: AuditContext, findings: list[Finding]) -> list[Finding]:
+    """Locate each finding on several records, and without a suggestion, at the one record
+    that the substance's other findings single out (a finding on it alone), when exactly one
+    is: a pair's mismatch then lands on the suspect liquid, not on its clean solid partner.
+    """
+    alone: dict[str, set[str]] = {}
+    for f in findings:
+        if len(f.records) == 1:
+            alone.setdefault(f.substance, set()).add(f.records[0])
+    moves: dict[int, str] = {}
+    for k, f in enumerate(findings):
+        if len(f.records) > 1 and not f.suggestion:
+            named = [r for r in f.records if r in alone.get(f.substance, ())]
+            if len(named) == 1 and named[0] != f.records[0]:
+                moves[k] = named[0]
+    if not moves:
+        return findings
+    ids = ctx.table.records["id"].astype(object)
+    rows = np.flatnonzero(ids.isin(set(moves.values())).to_numpy())
+    where = {str(ids.iat[r]): ctx.location(int(r)) for r in rows}
+    out = list(findings)
+    for k, rid in moves.items():
+        if rid in where:
+            out[k] = dataclasses.replace(out[k], **where[rid])
+    return out
 
 
 def coverage(ctx: AuditContext) -> dict[str, int]:
@@ -169,6 +197,7 @@ def audit_table(
 
         limit = DIAGNOSE_LIMIT if diagnose is True else int(diagnose)
         findings, skipped = attach_suggestions(ctx, findings, limit)
+    findings = point_at_suspects(ctx, findings)
     findings.sort(key=_sort_key)
     summary = {
         "records": int(len(table.records)),

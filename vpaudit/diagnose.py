@@ -1008,7 +1008,9 @@ def attach_suggestions(
     """Findings with the diagnosis attached, and the number of substances left undiagnosed.
 
     Each error or warning that the best fix of its substance clears, or that names the
-    corrected record, carries it as ``suggestion``.
+    corrected record, carries it as ``suggestion``. A finding on several records that the
+    fix singles one of out points at that one (its file and line), not at the first named:
+    a pair's error lands on the suspect, not on its clean partner.
     """
     suspects, skipped = _suspects(findings, limit)
     diag = diagnose(ctx, findings, limit=limit, suspects=suspects)
@@ -1023,6 +1025,9 @@ def attach_suggestions(
             and f.severity.rank >= 1
             and (_key(f) in d["clears"] or sug["record"] in f.records)
         ):
-            f = replace(f, suggestion=sug)
+            where = sug["location"] if sug["record"] in f.records else {}
+            f = replace(
+                f, suggestion=sug, file=where.get("file", f.file), line=where.get("line", f.line)
+            )
         out.append(f)
     return out, skipped

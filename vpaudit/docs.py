@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import inspect
 import json
 import textwrap
 
@@ -92,13 +93,14 @@ def checks_markdown() -> str:
             "",
             f"*Basis:* {spec.basis}",
             "",
-            textwrap.dedent(spec.doc),
+            inspect.cleandoc(spec.doc),  # a docstring's first line has no indent
             "",
         ]
         if spec.thresholds:
             out += ["| threshold | default | unit | meaning | presets |", "|---|---|---|---|---|"]
             for t in spec.thresholds.values():
                 pv = ", ".join(f"{p}: {v:g}" for p, v in _preset_values(spec.name, t.name).items())
-                out.append(f"| `{t.name}` | {t.default:g} | {t.unit} | {t.description} | {pv} |")
+                cells = [f"`{t.name}`", f"{t.default:g}", t.unit, t.description, pv]
+                out.append("| " + " | ".join(c.replace("|", "\\|") for c in cells) + " |")
             out.append("")
     return "\n".join(out)

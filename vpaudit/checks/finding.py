@@ -37,7 +37,8 @@ class Finding:
     suggestion : dict or None
         A likely cause and fix, when the diagnosis finds one.
     file, line : str or None, int or None
-        Where the first record stands in the table files.
+        Where the record the finding is about stands in the table files (the suspect a
+        diagnosis names, else the first record).
     """
 
     check: str

@@ -151,15 +151,18 @@ def enthalpy_implausible(ctx: AuditContext):
     sel = np.flatnonzero(bad)
     ds, t, lo, hi = ds[sel], t[sel], lo[sel], hi[sel]
     h = R * t**2 * y1[sel]
+    p = np.exp(y[sel])
     messages = [
-        f"the implied entropy of {'vaporization' if is_liquid else 'sublimation'} is "
-        f"{jk(dsk)} at {kelvin(tk)} (dH = {kj(hk)}), outside the plausible "
-        f"{lok:g}..{hik:g} J/(mol K).{hint}"
-        for is_liquid, dsk, tk, hk, lok, hik in zip(
+        f"the implied entropy of {'vaporization' if is_liquid else 'sublimation'} referred to "
+        f"the standard pressure, dS = dH/T + R ln(P/101325 Pa), is {jk(dsk)} at {kelvin(tk)} "
+        f"(dH = {kj(hk)}, P = {pk:.3g} Pa), outside the plausible {lok:g}..{hik:g} "
+        f"J/(mol K).{hint}"
+        for is_liquid, dsk, tk, hk, pk, lok, hik in zip(
             liquid[sel].tolist(),
             ds.tolist(),
             t.tolist(),
             h.tolist(),
+            p.tolist(),
             lo.tolist(),
             hi.tolist(),
             strict=True,

@@ -7,13 +7,36 @@ import pandas as pd
 
 from .._columns import codes
 from ..equations.engine import evaluate
-from ._context import AuditContext, same_key_pairs
+from ._context import LN_P_STANDARD, AuditContext, same_key_pairs
 from ._registry import Scope, Severity, Threshold, check
 from ._text import kelvin, ln_ratio
 
 __all__: list[str] = []
 
 _GRID = 9
+
+
+def _blamed_by_boiling_point(ctx: AuditContext, pair: tuple[int, int]):
+    """For two liquid records, the one the reference normal boiling point singles out:
+    (suspect row, the other row, Tb [K], the suspect's ln P(Tb) - ln 101325), or None when
+    there is no reference, the rows are solids, or both (or neither) meet it within the
+    boiling-point check's own tolerance.
+    """
+    a, b = pair
+    if not (ctx.liquid[a] and ctx.liquid[b]):
+        return None
+    rows = np.array([a, b])
+    tb = ctx.reference("normal_boiling_point", rows)
+    if not np.isfinite(tb).all():
+        return None
+    y = evaluate(ctx.curves.take(rows), tb, 0)[0].reshape(-1)
+    off = y - LN_P_STANDARD
+    tol = ctx.thresholds("boiling-point-mismatch")["tolerance"]
+    meets = np.abs(off) <= tol
+    if meets[0] == meets[1]:
+        return None
+    k = 1 if meets[0] else 0
+    return int(rows[k]), int(rows[1 - k]), float(tb[k]), float(off[k])
 
 
 @check(
@@ -34,7 +57,9 @@ def sources_disagree(ctx: AuditContext):
     """For each record, on a 9-point grid over its range (in 1/T), the other records of the
     same substance, phase and modification that cover each temperature give a median; the
     largest |ln P_i - median| is compared with k * sqrt(u_i^2 + u_others^2). With only two
-    records the disagreement is reported once, naming both, without blaming either.
+    records the disagreement is reported once, naming both; it blames one only when the
+    reference normal boiling point meets one curve (within the boiling-point check's
+    tolerance) and not the other.
     """
     th = ctx.thresholds("sources-disagree")
     mod_code = codes(ctx.table.records["modification"])[0] + 1  # 0: no modification
@@ -96,13 +121,24 @@ def sources_disagree(ctx: AuditContext):
             if pair in reported:
                 continue
             reported.add(pair)
+            blame = _blamed_by_boiling_point(ctx, pair)
+            if blame is None:
+                judge = (
+                    "with two sources neither can be blamed: a third source or measured points "
+                    "decide."
+                )
+                where = pair[0]
+            else:
+                where, ok, tb, off = blame
+                judge = (
+                    f"the reference normal boiling point ({kelvin(tb)}) sides with "
+                    f"{ctx.id(ok)}: {ctx.id(where)} is off by {ln_ratio(off)} there."
+                )
             yield ctx.finding(
                 "sources-disagree",
-                pair[0],
+                where,
                 f"the two {ctx.phase_of(r)} records disagree by {ln_ratio(w.d)} at "
-                f"{kelvin(w.t)}, beyond their combined uncertainty ({w.tol:.3g} in ln P); "
-                "with two sources neither can be blamed: a third source or measured points "
-                "decide.",
+                f"{kelvin(w.t)}, beyond their combined uncertainty ({w.tol:.3g} in ln P); " + judge,
                 {"difference_lnP": w.d, "at_K": w.t, "tolerance_lnP": w.tol, "sources": 2},
                 records=(ctx.id(pair[0]), ctx.id(pair[1])),
             )

@@ -89,6 +89,11 @@ def render_eval(answer: dict, unit: str = "Pa") -> str:
     return "\n".join(lines) + "\n"
 
 
+def _clip(text: str, width: int) -> str:
+    """``text`` cut to ``width`` characters, with an ellipsis when it was cut."""
+    return text if len(text) <= width else text[: width - 1] + "…"
+
+
 def render_show(table, substance: str, result) -> str:
     """Everything about one substance for a terminal."""
     rec = table.records[table.records["substance"] == substance].reset_index(drop=True)
@@ -100,12 +105,29 @@ def render_show(table, substance: str, result) -> str:
             r.form,
             f"log{r.log_base} {r.pressure_unit} {r.temperature_unit}",
             f"{r.t_min:g}..{r.t_max:g}",
-            str(r.source or "-")[:60],
+            _clip(str(r.source or "-"), 60),
             f"{r.file}:{r.line}",
         ]
         for r in rec.itertuples()
     ]
     lines += _table(["record", "phase", "form", "convention", "range", "source", "where"], rows)
+    lines += ["", "Coefficients (as written in the table):"]
+    coef_cols = ["A", "B", "C", "D", "E", "t_crit", "p_crit"]
+    used = [c for c in coef_cols if rec[c + "_text"].notna().any()]
+    lines += _table(
+        ["record", "form", *used],
+        [
+            [
+                r["id"],
+                r["form"],
+                *[r[c + "_text"] if isinstance(r[c + "_text"], str) else "" for c in used],
+            ]
+            for _, r in rec.iterrows()
+        ],
+    )
+    long = [(r.id, r.source) for r in rec.itertuples() if len(str(r.source or "")) > 60]
+    if long:
+        lines += ["", "Sources in full:"] + [f"  {rid}: {src}" for rid, src in long]
     ref = table.references
     ref = ref[ref["substance"] == substance] if len(ref) else ref
     if len(ref):

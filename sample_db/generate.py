@@ -24,6 +24,7 @@ import numpy as np
 from scipy.constants import R
 
 from vpaudit.equations import convert_record
+from vpaudit.units import PRESSURE_UNITS
 
 HERE = Path(__file__).resolve().parent
 RNG = np.random.default_rng(20261201)
@@ -213,6 +214,29 @@ def build():
                         "uncertainty": "0.03",
                     }
                 )
+    # solid points for the first substance, from an RNG of their own (the other points and
+    # coefficients stay as they were), so that `vpaudit fit --pair` can be tried
+    name, tm = SUBSTANCES[0][0], SUBSTANCES[0][1]
+    solid = next(r for r in records if r["id"] == f"{name}-s1")
+    a, b, c = (float(solid[k]) for k in ("A", "B", "C"))
+    scale = math.log(10.0) if str(solid["log_base"]) == "10" else 1.0
+    to_pa = PRESSURE_UNITS[str(solid["pressure_unit"])]
+    rng = np.random.default_rng(20261202)
+    for t in np.linspace(float(solid["t_min"]) * 1.1, tm * 0.97, 5):
+        lnp = scale * (a + b / t) + c * math.log(t)
+        p = math.exp(lnp) * to_pa * (1.0 + 0.01 * rng.standard_normal())
+        points.append(
+            {
+                "substance": name,
+                "phase": "solid",
+                "T": fmt(t, 6),
+                "P": fmt(p, 5),
+                "temperature_unit": "K",
+                "pressure_unit": "Pa",
+                "source": "Harrowgate Knudsen cell runs KC-1 (invented demo source)",
+                "uncertainty": "0.03",
+            }
+        )
     return records, refs, points
 
 

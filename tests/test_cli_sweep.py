@@ -50,6 +50,8 @@ CASES = {
             "{t}",
             "--substance",
             "ardenite",
+            "--phase",
+            "liquid",
             "--form",
             "two-term",
             "--write",

@@ -134,7 +134,18 @@ def test_fit_writes_a_record_that_reads_back(table):
     out = table / "records" / "fitted.csv"
     run = CliRunner().invoke(
         main,
-        ["fit", str(table), "--substance", "ardenite", "--form", "two-term", "--write", str(out)],
+        [
+            "fit",
+            str(table),
+            "--substance",
+            "ardenite",
+            "--phase",
+            "liquid",
+            "--form",
+            "two-term",
+            "--write",
+            str(out),
+        ],
     )
     assert run.exit_code == 0, run.output
     assert "standard error" in run.output and "95 % band" in run.output

@@ -12,7 +12,7 @@ from vpaudit.errors import WriteError
 from vpaudit.readers import load_table
 from vpaudit.writers import append_records, csv_cell, export_table
 
-FIT = ["--substance", "ardenite", "--form", "two-term", "--write"]
+FIT = ["--substance", "ardenite", "--phase", "liquid", "--form", "two-term", "--write"]
 
 
 @pytest.fixture
@@ -128,6 +128,8 @@ def test_fit_write_audits_the_record_with_its_partner_before_writing(table, tmp_
             str(table),
             "--substance",
             "ardenite",
+            "--phase",
+            "liquid",
             "--form",
             "two-term",
             "--id",

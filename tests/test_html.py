@@ -95,9 +95,12 @@ def test_report_loads_without_console_errors_sorts_and_renders(tmp_path, sample_
     assert run.returncode == 0 and not _console_errors(run.stderr), run.stderr[-2000:]
     # sorting: #sort=1 sorts by the check column on load (the same code as a header click)
     dom = _chromium(page.as_uri() + "#sort=1", "--dump-dom", tmp=tmp_path).stdout
-    body = dom[dom.index("<tbody>") : dom.index("</tbody>")]
+    body = dom[dom.index('id="findings"') :]
+    body = body[body.index("<tbody>") : body.index("</tbody>")]
     checks = re.findall(
-        r"<tr data-severity=\"\w+\"><td[^>]*>\w+</td><td><code>([^<]+)</code>", body
+        r"<tr data-severity=\"\w+\"><td[^>]*><span[^>]*>[^<]+</span></td>"
+        r"<td><code>([^<]+)</code>",
+        body,
     )
     assert len(checks) == len(audit_table(table).findings)
     assert checks == sorted(checks) and checks != [f.check for f in audit_table(table).findings]
@@ -105,3 +108,28 @@ def test_report_loads_without_console_errors_sorts_and_renders(tmp_path, sample_
     shot = tmp_path / "report.png"
     _chromium(page.as_uri(), f"--screenshot={shot}", "--window-size=1200,1600", tmp=tmp_path)
     assert shot.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n" and shot.stat().st_size > 20_000
+
+
+def test_the_triage_view_gives_each_substance_once_with_its_fix_and_a_clean_state(
+    tmp_path, sample_db
+):
+    table = load_table(sample_db)
+    page = render_report(audit_table(table, table_path=str(sample_db)), table, plots=False)
+    triage = page[page.index("id='triage'") : page.index("</table>", page.index("id='triage'"))]
+    # one row per flagged substance, the worst first, severity by colour class and by word
+    assert triage.count("<tr>") == 10 + 1  # header + the ten flagged demo substances
+    assert triage.index("bellorium") < triage.index("norrane")
+    assert "sev-error" in triage and "\u2716 ERROR" in triage
+    assert "elmsite-s1</b>: phase &rarr; solid; <b>elmsite-l1</b>: phase &rarr; liquid" in triage
+    assert "&lt;NA&gt;" not in page and "<NA>" not in page
+    for label in ("git revision", "policy", "vpaudit", "written"):
+        assert f"<dt>{label}</dt>" in page
+    assert "Not tested for want of data" in page
+    # the long fix text is given once per substance section, not on every row
+    assert page.count("Suggested fix: Almost certainly the coefficients are for log10") == 1
+    clean = tmp_path / "clean.csv"
+    lines = (sample_db / "records" / "volatiles.csv").read_text().splitlines()
+    clean.write_text("\n".join(ln for ln in lines if ln.startswith(("id,", "rostane"))) + "\n")
+    t = load_table(clean)
+    empty = render_report(audit_table(t, table_path=str(clean)), t, plots=False)
+    assert "class='clean'>No findings" in empty and "Each flagged substance" not in empty

@@ -17,20 +17,31 @@ from ._escape import visible
 __all__ = ["render_report"]
 
 _CSS = """
-body{font:15px/1.45 Georgia,'Times New Roman',serif;color:#111;background:#fff;margin:2em auto;
- max-width:72em;padding:0 1em}
-h1{font-size:1.6em;margin:.2em 0}h2{font-size:1.25em;border-bottom:1px solid #999;
- margin-top:2em}h3{font-size:1.05em;margin:1.4em 0 .4em}
-.caution{border-left:4px solid #555;padding:.4em .8em;background:#f4f4f4}
-.counts span{display:inline-block;margin-right:1.5em;font-weight:bold}
-table{border-collapse:collapse;width:100%;font-size:.92em}
-th,td{border:1px solid #bbb;padding:.25em .45em;vertical-align:top;text-align:left}
-th{background:#eee;cursor:pointer;user-select:none}th.sorted-asc:after{content:" \\25B2"}
-th.sorted-desc:after{content:" \\25BC"}
-td.sev-error{font-weight:bold}td.sev-warning{font-style:italic}.fix{color:#2f5d34}
+body{font:15px/1.45 system-ui,'Segoe UI',Helvetica,Arial,sans-serif;color:#1a1a1a;
+ background:#fff;margin:1.5em auto;max-width:76em;padding:0 1em}
+h1{font-size:1.5em;margin:.2em 0}h2{font-size:1.2em;border-bottom:2px solid #d8d8d8;
+ margin-top:1.8em;padding-bottom:.15em}h3{font-size:1.05em;margin:1.4em 0 .4em}
+.run{color:#444;font-size:.9em}.run dt{font-weight:600;float:left;clear:left;width:8.5em}
+.run dd{margin:0 0 .1em 8.5em}
+.caution{border-left:4px solid #6b6b6b;padding:.4em .8em;background:#f3f3f3}
+.coverage{border-left:4px solid #9a9a9a;padding:.4em .8em;background:#fafafa}
+.clean{border:2px solid #2f6b3a;background:#eef6ef;padding:.6em .9em;font-weight:600}
+table{border-collapse:collapse;width:100%;font-size:.9em;margin:.4em 0}
+th,td{border:1px solid #c8c8c8;padding:.25em .45em;vertical-align:top;text-align:left}
+th{background:#efefef}#findings th{cursor:pointer;user-select:none}
+th.sorted-asc:after{content:" \\25B2"}th.sorted-desc:after{content:" \\25BC"}
+.sev{display:inline-block;min-width:6.2em;padding:0 .35em;border-radius:3px;
+ font-weight:700;font-size:.85em;letter-spacing:.02em;white-space:nowrap}
+.sev-error{background:#fbe3e3;color:#8e1010;border:1px solid #d99}
+.sev-warning{background:#fdf1d6;color:#6e4a00;border:1px solid #dcb86a}
+.sev-note{background:#e6eef8;color:#1f4673;border:1px solid #9bb3d3}
+.counts .sev{margin-right:.6em;font-size:.95em;padding:.1em .5em}
+.fix{color:#1f5a2a}.conf{font-weight:600}
+td.num{text-align:right;white-space:nowrap;font-variant-numeric:tabular-nums}
 .controls{margin:.6em 0}.controls input[type=search]{width:22em;padding:.2em}
-code{font-size:.95em}figure{margin:.5em 0}svg{max-width:100%;height:auto}
-@media print{.controls{display:none}th{cursor:auto}}
+code{font-size:.95em}#triage code{white-space:nowrap}figure{margin:.5em 0}
+svg{max-width:100%;height:auto}
+@media print{.controls{display:none}#findings th{cursor:auto}}
 """
 
 _JS = """
@@ -81,19 +92,70 @@ def _svg(table, substance: str) -> str:
     return text[text.index("<svg") :]  # drop the XML prolog and doctype inside HTML
 
 
+_MARK = {"error": "\u2716 ERROR", "warning": "\u25b2 WARNING", "note": "\u25cf NOTE"}
+
+
+def _badge(severity: str) -> str:
+    """A severity shown by colour *and* by a symbol and a word (readable without colour)."""
+    return f"<span class='sev sev-{severity}'>{_MARK[severity]}</span>"
+
+
+def _provenance(result) -> list[tuple[str, str]]:
+    """When, by which vpaudit, under which policy, on which revision of which table."""
+    import datetime as dt
+    import subprocess
+
+    from .. import __version__
+
+    where = Path(result.table_path or ".")
+    folder = where if where.is_dir() else where.parent
+    revision = "not in a git work tree"
+    try:
+        head = subprocess.run(
+            ["git", "-C", str(folder), "rev-parse", "--short", "HEAD"],
+            capture_output=True,
+            text=True,
+            timeout=10,
+        )
+        if head.returncode == 0:
+            dirty = subprocess.run(
+                ["git", "-C", str(folder), "status", "--porcelain", "--", "."],
+                capture_output=True,
+                text=True,
+                timeout=10,
+            ).stdout.strip()
+            revision = head.stdout.strip() + (" with uncommitted changes" if dirty else "")
+    except (OSError, subprocess.SubprocessError):
+        pass
+    return [
+        ("table", str(result.table_path)),
+        ("git revision", revision),
+        ("policy", str(result.policy_description.get("label", ""))),
+        ("vpaudit", __version__),
+        ("written", dt.datetime.now(dt.UTC).strftime("%Y-%m-%d %H:%M UTC")),
+    ]
+
+
 def render_report(result, table=None, plots: bool = True, max_sections: int = 100) -> str:
-    """Render an audit (or gate) result as one self-contained HTML page.
+    """Render an audit (or gate) result as one self-contained HTML page made for triage.
+
+    The page opens with the run's provenance, the counts, the caution and what could not be
+    tested; then one row per flagged substance (worst severity, counts, the suggested fix
+    once), the complete findings table (sortable, filterable), and a section per substance
+    with its records, coefficients, findings and picture.
 
     Parameters
     ----------
     result : AuditResult
     table : Table, optional
-        The audited table; with it, each flagged substance gets its picture and records.
+        The audited table; with it, each flagged substance gets its records and picture.
     plots : bool
         Draw the pictures (needs matplotlib).
     max_sections : int
         At most this many substance sections (worst first); the findings table is complete.
     """
+    from ._coverage import coverage_sentence
+
     s = result.summary
     status_of = getattr(result, "status_of", None)
     out = [
@@ -103,16 +165,35 @@ def render_report(result, table=None, plots: bool = True, max_sections: int = 10
         f"<title>vpaudit report: {_e(result.table_path)}</title>",
         f"<style>{_CSS}</style></head><body>",
         f"<h1>vpaudit report: {_e(result.table_path)}</h1>",
+        "<dl class='run'>"
+        + "".join(f"<dt>{_e(k)}</dt><dd>{_e(v)}</dd>" for k, v in _provenance(result))
+        + "</dl>",
         f"<p>{s['records']} records, {s['substances']} substances, {s['pairs']} "
-        f"solid/liquid pairs; policy {_e(result.policy_description.get('label', ''))}.</p>",
+        "solid/liquid pairs audited.</p>",
         "<p class='counts'>"
         + "".join(
-            f"<span>{s[k]} {k}{'s' if s[k] != 1 else ''}</span>"
+            f"<span class='sev sev-{k}'>{_MARK[k]}: {s[k]}</span>"
             for k in ("error", "warning", "note")
         )
         + "</p>",
-        f"<p class='caution'>{_e(CAUTION)}</p>",
-        "<h2>Findings</h2>",
+    ]
+    covered = coverage_sentence(s)
+    if covered:
+        out.append(f"<p class='coverage'>{_e(covered)}</p>")
+    out.append(f"<p class='caution'><b>Caution.</b> {_e(CAUTION)}</p>")
+    if not result.findings:
+        out += [
+            "<p class='clean'>No findings: none of the tests found an inconsistency in this "
+            "table. That is not evidence that its values are right, only that they showed none "
+            "of the inconsistencies tested"
+            + (" (see above for what could not be tested)." if covered else ".")
+            + "</p>",
+            "</body></html>",
+        ]
+        return "\n".join(out) + "\n"
+    out += _triage(result, status_of)
+    out += [
+        "<h2>All findings</h2>",
         "<div class='controls'><label>Filter: <input type='search' id='filter' "
         "placeholder='substance, check, record, text'></label> "
         + " ".join(
@@ -127,12 +208,12 @@ def render_report(result, table=None, plots: bool = True, max_sections: int = 10
     ]
     for f in result.findings:
         sev = f.severity.value
-        where = f"{f.file}:{f.line}" if f.file else ""
+        where = f"{f.file}:{f.line}" if f.file and f.line else (f.file or "")
         out.append(
-            f"<tr data-severity='{sev}'><td class='sev-{sev}' data-key='{_RANK[sev]}'>{sev}"
+            f"<tr data-severity='{sev}'><td data-key='{_RANK[sev]}'>{_badge(sev)}"
             f"</td><td><code>{_e(f.check)}</code></td><td><a href='#s-{_e(f.substance)}'>"
             f"{_e(f.substance)}</a></td><td>{_e(', '.join(f.records))}</td>"
-            f"<td>{_e(f.message)}{_suggestion(f)}</td><td>{_e(where)}</td>"
+            f"<td>{_e(f.message)}</td><td>{_e(where)}</td>"
             + (f"<td>{_e(status_of(f))}</td>" if status_of else "")
             + "</tr>"
         )
@@ -143,37 +224,109 @@ def render_report(result, table=None, plots: bool = True, max_sections: int = 10
     return "\n".join(out) + "\n"
 
 
+def _triage(result, status_of) -> list[str]:
+    """One row per flagged substance, worst first: its worst severity, its counts, the checks
+    that fired and the suggested fix, once.
+    """
+    groups: dict[str, list] = {}
+    for f in result.findings:
+        groups.setdefault(f.substance, []).append(f)
+    order = sorted(
+        groups,
+        key=lambda n: (-max(f.severity.rank for f in groups[n]), -len(groups[n]), n),
+    )
+    out = [
+        "<h2>Substances to look at, worst first</h2>",
+        "<table id='triage'><thead><tr><th>worst</th><th>substance</th><th>errors</th>"
+        "<th>warnings</th><th>notes</th><th>checks</th><th>suggested fix</th></tr></thead>"
+        "<tbody>",
+    ]
+    for name in order:
+        fs = groups[name]
+        worst = max(fs, key=lambda f: f.severity.rank).severity.value
+        counts = [sum(f.severity.value == k for f in fs) for k in ("error", "warning", "note")]
+        checks = sorted({f.check for f in fs})
+        fix = next((f.suggestion for f in fs if f.suggestion), None)
+        label = _e(name) if name else "(the table as a whole)"
+        out.append(
+            f"<tr><td>{_badge(worst)}</td><td><a href='#s-{_e(name)}'>{label}</a></td>"
+            + "".join(f"<td class='num'>{n or ''}</td>" for n in counts)
+            + f"<td>{'<br>'.join(f'<code>{_e(c)}</code>' for c in checks)}</td>"
+            f"<td>{_fix(fix)}</td></tr>"
+        )
+    out.append("</tbody></table>")
+    return out
+
+
+def _fix(suggestion) -> str:
+    """A suggested fix: the changed fields and the confidence, the explanation after."""
+    if not suggestion:
+        return "<span class='fix'>none singled out</span>"
+    changes = ", ".join(
+        f"{_e(k)} &rarr; {_e((suggestion.get('corrected_text') or {}).get(k, v))}"
+        for k, v in suggestion["corrected"].items()
+    )
+    for also in suggestion.get("also", []):
+        changes += f"; <b>{_e(also['record'])}</b>: " + ", ".join(
+            f"{_e(k)} &rarr; {_e(v)}" for k, v in also["corrected"].items()
+        )
+    return (
+        f"<span class='fix'><b>{_e(suggestion['record'])}</b>: {changes} "
+        f"({_e(suggestion['kind'])}, <span class='conf'>confidence "
+        f"{suggestion['confidence']:.2f}</span>)</span>"
+    )
+
+
 def _sections(result, table, plots: bool, max_sections: int) -> list[str]:
     worst: dict[str, int] = {}
     for f in result.findings:
         if f.substance:
             worst[f.substance] = max(worst.get(f.substance, 0), f.severity.rank)
     names = sorted(worst, key=lambda n: (-worst[n], n))[:max_sections]
-    out = ["<h2>Substances with findings</h2>"]
+    if not names:
+        return []
+    out = ["<h2>Each flagged substance</h2>"]
     rec = table.records
+    coef = ["A", "B", "C", "D", "E", "t_crit", "p_crit"]
     for name in names:
         out.append(f"<h3 id='s-{_e(name)}'>{_e(name)}</h3>")
         rows = rec[rec["substance"].astype(str) == name]
+        used = [c for c in coef if rows[c + "_text"].notna().any()]
+        notes = rows["note"].notna().any()
         out.append(
             "<table><thead><tr><th>record</th><th>phase</th><th>form</th>"
-            "<th>convention</th><th>range</th><th>source</th><th>note</th></tr></thead>"
-            "<tbody>"
+            "<th>convention</th><th>range [K or as written]</th>"
+            + "".join(f"<th>{c}</th>" for c in used)
+            + "<th>source</th>"
+            + ("<th>note</th>" if notes else "")
+            + "</tr></thead><tbody>"
         )
-        for r in rows.itertuples():
+        for _, r in rows.iterrows():
             out.append(
-                f"<tr><td>{_e(r.id)}</td><td>{_e(r.phase)}</td><td>{_e(r.form)}</td>"
-                f"<td>log{_e(r.log_base)} {_e(r.pressure_unit)} "
-                f"{_e(r.temperature_unit)}</td><td>{_e(r.t_min_text)}..."
-                f"{_e(r.t_max_text)}</td><td>{_e(r.source)}</td>"
-                f"<td>{_e(r.note)}</td></tr>"
+                f"<tr><td>{_e(r['id'])}</td><td>{_e(r['phase'])}</td><td>{_e(r['form'])}</td>"
+                f"<td>log{_e(r['log_base'])} {_e(r['pressure_unit'])} "
+                f"{_e(r['temperature_unit'])}</td><td class='num'>{_e(_text(r['t_min_text']))}"
+                f"..{_e(_text(r['t_max_text']))}</td>"
+                + "".join(f"<td class='num'>{_e(_text(r[c + '_text']))}</td>" for c in used)
+                + f"<td>{_e(_text(r['source']))}</td>"
+                + (f"<td>{_e(_text(r['note']))}</td>" if notes else "")
+                + "</tr>"
             )
         out.append("</tbody></table><ul>")
+        shown = False
         for f in result.findings:
             if f.substance == name:
                 out.append(
-                    f"<li><b>{_e(f.severity.value)}</b> <code>{_e(f.check)}</code>: "
-                    f"{_e(f.message)}{_suggestion(f)}</li>"
+                    f"<li>{_badge(f.severity.value)} <code>{_e(f.check)}</code>: "
+                    f"{_e(f.message)}</li>"
                 )
+                if f.suggestion and not shown:
+                    out.append(
+                        f"<li class='fix'>Suggested fix: {_e(f.suggestion['explanation'])} "
+                        f"To apply it: <code>vpaudit apply {_e(result.table_path or 'TABLE')} "
+                        f"{_e(f.check)}:{_e(','.join(f.records))}</code></li>"
+                    )
+                    shown = True
         out.append("</ul>")
         if plots:
             try:
@@ -183,9 +336,8 @@ def _sections(result, table, plots: bool, max_sections: int) -> list[str]:
     return out
 
 
-def _suggestion(f) -> str:
-    """The diagnosis of a finding, escaped, or nothing."""
-    s = f.suggestion
-    if not s:
-        return ""
-    return f"<br><span class='fix'>Suggested fix: {_e(s.get('explanation', ''))}</span>"
+def _text(value) -> str:
+    """A cell as text: empty for a missing value (never '<NA>' or 'nan')."""
+    import pandas as pd
+
+    return "" if value is None or (not isinstance(value, str) and pd.isna(value)) else str(value)

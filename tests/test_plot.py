@@ -18,7 +18,7 @@ def test_png_and_svg_are_written_and_the_crossing_is_the_audited_one(tmp_path, s
     table = load_table(sample_db)
     drawn = plot_substance(table, "kestrium", tmp_path / "k.png", unit="Torr")
     assert (tmp_path / "k.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
-    assert drawn["residual_panel"] and len(drawn["records"]) == 3
+    assert drawn["deviation_panel"] and len(drawn["records"]) == 3
     ctx = AuditContext(table, Policy())
     pr = ctx.pairs
     audited = {
@@ -45,3 +45,22 @@ def test_plot_command_and_its_errors(tmp_path, sample_db):
         plot_substance(load_table(sample_db), "ardenite", tmp_path / "a.pdf")
     r = CliRunner().invoke(main, ["plot", str(sample_db), "ardenit", "-o", str(tmp_path / "a.png")])
     assert r.exit_code == 2 and "did you mean ardenite" in r.output
+
+
+def test_a_pole_at_the_range_end_and_markup_in_a_name_still_draw(tmp_path):
+    # an Antoine pole at t_min once gave "Axis limits cannot be NaN or Inf", and a name
+    # like $\foo{$ a mathtext parse error: names are plain text, poles draw no point
+    path = tmp_path / "r.csv"
+    path.write_text(
+        "id,substance,phase,form,log_base,pressure_unit,temperature_unit,A,B,C,t_min,t_max,"
+        "source\n"
+        "p1,$\\foo{$,liquid,antoine,10,Pa,K,10,1500,-300,300,500,invented for this test\n"
+        "p2,$\\foo{$,solid,three-term,e,Pa,K,30,-9000,-1,250,300,invented for this test\n"
+    )
+    table = load_table(path)
+    drawn = plot_substance(table, "$\\foo{$", tmp_path / "p.png")
+    assert (tmp_path / "p.png").stat().st_size > 10_000
+    assert drawn["records"] == ["p2"] and drawn["not_drawn"] == ["p1"]  # said on the picture
+    svg = tmp_path / "p.svg"
+    plot_substance(table, "$\\foo{$", svg)
+    assert "$\\foo{$" in svg.read_text() or "foo" in svg.read_text()

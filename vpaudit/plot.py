@@ -1,9 +1,13 @@
-"""Pictures of one substance: ln P against 1/T with both phases, ranges, the crossing, the
-reference points and measured points, and a residual panel when several sources exist.
+"""Pictures of one substance: ln P against 1/T with both phases, ranges, the crossings, the
+reference values and measured points, and a panel of each record's deviation from a straight
+reference line, where disagreements of a few per cent show.
 
-The design is plain and print-friendly: white ground, black text, a light grid; solid and
-liquid records differ by colour *and* marker (triangles for solids, circles for liquids),
-each record is drawn solid over its validity range and dashed where extrapolated.
+The design is plain and print-friendly: white ground, black text, a light grid. Curves are
+lines, never markers: thick within the record's validity range, thin and dashed where
+extrapolated; solids and liquids differ by colour, each record is named at the end of its
+line, and a second source of a phase has its own line pattern. Markers are kept for data:
+measured points (open circles), crossings (a black cross), reference values (open diamonds).
+Text from the table is drawn as plain text, never as mathematical markup.
 """
 
 from __future__ import annotations
@@ -24,11 +28,11 @@ from .units import pressure_factor
 __all__ = ["plot_substance"]
 
 _STYLE = {
-    "solid": {"color": "#b34700", "marker": "^"},
-    "liquid": {"color": "#1f4e9c", "marker": "o"},
+    "solid": {"color": "#b34700"},
+    "liquid": {"color": "#1f4e9c"},
 }
-#: One marker per source within a phase, so sources differ without colour too.
-_MARKERS = {"solid": ["^", "v", "<", ">", "P"], "liquid": ["o", "s", "D", "p", "h"]}
+#: One line pattern per source within a phase, so sources differ without colour too.
+_PATTERNS = ["-", (0, (7, 2, 1.5, 2)), (0, (3, 1.5)), (0, (1, 1.2))]
 _NICE_T = [
     100,
     150,
@@ -90,59 +94,71 @@ def plot_substance(table: Table, substance: str, path: str | Path, unit: str = "
     sub_table = _only(table, substance)
     ctx = AuditContext(sub_table, load_policy(table.policy_path))
     plt = _matplotlib()
-    phases = ctx.liquid
-    several = any(np.sum(phases == ph) > 1 for ph in (True, False))
-    fig = plt.figure(figsize=(7.5, 7.0 if several else 5.6), dpi=150)
-    grid = fig.add_gridspec(
-        2 if several else 1, 1, height_ratios=[3, 1.3] if several else [1], hspace=0.08
-    )
+    fig = plt.figure(figsize=(7.5, 7.2), dpi=150)
+    grid = fig.add_gridspec(2, 1, height_ratios=[3, 1.4], hspace=0.08)
     ax = fig.add_subplot(grid[0])
     plt.rcParams.update({"font.size": 11})
     lo = float(np.nanmin(ctx.curves.t_min))
     hi = float(np.nanmax(ctx.curves.t_max))
     t_all = 1.0 / np.linspace(1.0 / (hi * 1.08), 1.0 / (lo / 1.08), 400)
-    drawn = []
+    x = 1000.0 / t_all
+    drawn, styles, finite_in_range = [], {}, []
     seen = {"solid": 0, "liquid": 0}
-    markers = {}
     for i in range(ctx.n):
         if not ctx.evaluable[i]:
             continue
         phase = ctx.phase_of(i)
-        markers[i] = _MARKERS[phase][seen[phase] % len(_MARKERS[phase])]
+        styles[i] = {
+            "color": _STYLE[phase]["color"],
+            "ls": _PATTERNS[seen[phase] % len(_PATTERNS)],
+        }
         seen[phase] += 1
-        style = {"color": _STYLE[phase]["color"], "marker": markers[i]}
         c = ctx.curves.take([i])
-        y = evaluate(c, t_all[None, :], 0)[0][0]
+        with np.errstate(all="ignore"):
+            y = evaluate(c, t_all[None, :], 0)[0][0]
+        y = np.where(np.isfinite(y), y, np.nan)  # an Antoine pole gives no point, not an axis
         inside = (t_all >= c.t_min[0]) & (t_all <= c.t_max[0])
-        x = 1000.0 / t_all
-        ax.plot(x, np.where(inside, np.nan, y), ls="--", lw=1.0, color=style["color"], alpha=0.7)
+        ax.plot(
+            x, np.where(inside, np.nan, y), ls="--", lw=0.9, color=styles[i]["color"], alpha=0.6
+        )
         ax.plot(
             x,
             np.where(inside, y, np.nan),
-            ls="-",
-            lw=2.0,
-            color=style["color"],
-            marker=style["marker"],
-            markevery=40,
-            ms=5,
-            label=f"{ctx.id(i)} ({phase}, {c.t_min[0]:.4g}-{c.t_max[0]:.4g} K)",
+            lw=2.2,
+            **styles[i],
+            label=_plain(f"{ctx.id(i)} ({phase}, {c.t_min[0]:.4g}-{c.t_max[0]:.4g} K)"),
         )
+        shown = np.flatnonzero(inside & np.isfinite(y))
+        if shown.size:  # the record's name at the high-temperature end of its range
+            k = shown[0]
+            ax.annotate(
+                _plain(ctx.id(i)),
+                (x[k], y[k]),
+                xytext=(4, 4),
+                textcoords="offset points",
+                fontsize=8,
+                color=styles[i]["color"],
+            )
+            finite_in_range.append(y[shown])
         drawn.append(ctx.id(i))
-    ctx.markers = markers
     pr = ctx.pairs
     crossings = []
     for k in range(len(pr["s"])):
         t = pr["T"][k]
         if not math.isfinite(t):
             continue
-        ax.plot([1000.0 / t], [pr["y"][k]], marker="X", ms=11, color="black", zorder=5)
+        ax.plot([1000.0 / t], [pr["y"][k]], marker="X", ms=11, color="black", zorder=5, ls="none")
         label = (
             f"crossing {t:.5g} K"
             if len(pr["s"]) == 1
             else f"{ctx.id(pr['s'][k])} x {ctx.id(pr['l'][k])}: {t:.5g} K"
         )
         ax.annotate(
-            label, (1000.0 / t, pr["y"][k]), xytext=(8, 8), textcoords="offset points", fontsize=9.5
+            _plain(label),
+            (1000.0 / t, pr["y"][k]),
+            xytext=(8, -14),
+            textcoords="offset points",
+            fontsize=9,
         )
         crossings.append(
             {
@@ -153,18 +169,38 @@ def plot_substance(table: Table, substance: str, path: str | Path, unit: str = "
         )
     _references(ax, ctx)
     _points(ax, sub_table)
+    shown_refs = [
+        line.get_ydata() for line in ax.get_lines() if line.get_marker() in ("D", "h", "o", "X")
+    ]
+    ys = np.concatenate([*finite_in_range, *(np.asarray(v, dtype=float) for v in shown_refs)])
+    ys = ys[np.isfinite(ys)]
+    if ys.size:  # limits from what is drawn in range and the data, never from a pole
+        pad = 0.08 * max(float(np.ptp(ys)), 1.0)
+        ax.set_ylim(float(ys.min()) - pad, float(ys.max()) + pad)
     ax.set_ylabel("ln(P / Pa)")
     ax.grid(True, color="#dddddd", lw=0.6)
     ax.set_title(
-        f"{substance}: vapour pressure (solid lines: validity range; dashed: extrapolated)",
-        fontsize=11,
+        _plain(
+            f"{substance}: vapour pressure (thick lines: within each record's range; "
+            "thin dashed: extrapolated)"
+        ),
+        fontsize=10.5,
         pad=30,
     )
-    ax.legend(fontsize=8.5, loc="lower left", frameon=True)
+    skipped = [ctx.id(i) for i in range(ctx.n) if not ctx.evaluable[i]]
+    ax.legend(
+        fontsize=8,
+        loc="lower left",
+        frameon=True,
+        title=_plain(f"not drawn (cannot be evaluated over its range): {', '.join(skipped)}")
+        if skipped
+        else None,
+        title_fontsize=7.5,
+    )
     top = ax.secondary_xaxis(
         "top",
         functions=(
-            lambda x: 1000.0 / np.where(x == 0, np.nan, x),
+            lambda v: 1000.0 / np.where(v == 0, np.nan, v),
             lambda t: 1000.0 / np.where(t == 0, np.nan, t),
         ),
     )
@@ -172,24 +208,49 @@ def plot_substance(table: Table, substance: str, path: str | Path, unit: str = "
     x0, x1 = sorted(ax.get_xlim())
     ticks, last = [], None
     for t in _NICE_T:  # temperatures spaced at least 7 % of the axis apart
-        x = 1000.0 / t
-        if x0 <= x <= x1 and (last is None or abs(last - x) > 0.07 * (x1 - x0)):
+        xt = 1000.0 / t
+        if x0 <= xt <= x1 and (last is None or abs(last - xt) > 0.07 * (x1 - x0)):
             ticks.append(t)
-            last = x
+            last = xt
     top.set_xticks(ticks)
-    ln_f = math.log(factor)
-    right = ax.secondary_yaxis(
-        "right", functions=(lambda y: (y - ln_f) / math.log(10), lambda v: v * math.log(10) + ln_f)
-    )
-    right.set_ylabel(f"log10(P / {unit})")
-    if several:
-        ax.tick_params(labelbottom=False)
-        _residuals(fig.add_subplot(grid[1], sharex=ax), ctx, t_all)
-    else:
-        ax.set_xlabel("1000 K / T")
+    _pressure_axis(ax, factor, unit)
+    ax.tick_params(labelbottom=False)
+    _deviations(fig.add_subplot(grid[1], sharex=ax), ctx, t_all, styles)
     fig.savefig(path, bbox_inches="tight")
     plt.close(fig)
-    return {"crossings": crossings, "records": drawn, "residual_panel": several}
+    return {
+        "crossings": crossings,
+        "records": drawn,
+        "not_drawn": skipped,
+        "deviation_panel": True,
+    }
+
+
+def _plain(text: str) -> str:
+    """Table text drawn as it is: a ``$`` would otherwise start mathematical markup."""
+    return str(text).replace("$", r"\$")
+
+
+def _pressure_axis(ax, factor: float, unit: str) -> None:
+    """A right-hand axis in pressure itself, ticks at powers of ten of ``unit``."""
+    from matplotlib.ticker import FixedLocator, FuncFormatter
+
+    ln_f, ln10 = math.log(factor), math.log(10.0)
+    right = ax.secondary_yaxis(
+        "right", functions=(lambda y: (y - ln_f) / ln10, lambda v: v * ln10 + ln_f)
+    )
+    lo, hi = ((v - ln_f) / ln10 for v in ax.get_ylim())
+    span = max(hi - lo, 1e-9)
+    step = next((s for s in (1, 2, 3, 5, 10, 20, 50, 100) if span / s <= 8), 200)
+    first = math.ceil(lo / step) * step
+    right.yaxis.set_major_locator(FixedLocator(np.arange(first, hi + 1e-9, step)))
+
+    def label(v, _pos):
+        k = int(round(v))
+        return "1" if k == 0 else ("10" if k == 1 else f"$10^{{{k}}}$")
+
+    right.yaxis.set_major_formatter(FuncFormatter(label))
+    right.set_ylabel(f"P / {_plain(unit)}")
 
 
 def _only(table: Table, substance: str) -> Table:
@@ -204,7 +265,8 @@ def _references(ax, ctx: AuditContext) -> None:
         ax.axvline(1000.0 / tm, color="#555555", ls=":", lw=1.2)
         ax.annotate(
             f"reference melting point {tm:.5g} K",
-            (1000.0 / tm, ax.get_ylim()[1]),
+            (1000.0 / tm, 1.0),
+            xycoords=("data", "axes fraction"),
             xytext=(3, -12),
             textcoords="offset points",
             fontsize=9,
@@ -215,8 +277,8 @@ def _references(ax, ctx: AuditContext) -> None:
         ax.plot(
             [1000.0 / tb],
             [math.log(101325.0)],
-            marker="s",
-            ms=8,
+            marker="D",
+            ms=7,
             mfc="white",
             mec="black",
             ls="none",
@@ -228,7 +290,7 @@ def _references(ax, ctx: AuditContext) -> None:
         ax.plot(
             [1000.0 / ttp],
             [math.log(ptp)],
-            marker="D",
+            marker="h",
             ms=8,
             mfc="white",
             mec="black",
@@ -248,43 +310,38 @@ def _points(ax, table: Table) -> None:
                 1000.0 / pts["T_K"].to_numpy()[m],
                 np.log(pts["P_Pa"].to_numpy()[m]),
                 ls="none",
-                marker="x",
-                ms=7,
-                mew=1.5,
+                marker="o",
+                ms=5.5,
+                mfc="white",
+                mew=1.4,
                 color=style["color"],
                 label=f"measured points ({phase})",
             )
 
 
-def _residuals(ax, ctx: AuditContext, t_all: np.ndarray) -> None:
-    """Ln P of each record minus the median of the records of its phase (its consensus)."""
+def _deviations(ax, ctx: AuditContext, t_all: np.ndarray, styles: dict) -> None:
+    """Each record's ln P minus a straight reference line in ln P against 1/T (a
+    least-squares line through every record's curve within its range): offsets and
+    disagreements of a few per cent, invisible on the main panel, show here.
+    """
     x = 1000.0 / t_all
-    for phase in ("solid", "liquid"):
-        rows = [i for i in range(ctx.n) if ctx.evaluable[i] and ctx.phase_of(i) == phase]
-        if len(rows) < 2:
-            continue
+    rows = list(styles)
+    if rows:
         c = ctx.curves.take(rows)
-        y = evaluate(c, np.broadcast_to(t_all, (len(rows), t_all.size)), 0)[0]
-        inside = (t_all[None, :] >= c.t_min[:, None]) & (t_all[None, :] <= c.t_max[:, None])
-        ym = np.where(inside, y, np.nan)
-        counts = np.isfinite(ym).sum(axis=0)
         with np.errstate(all="ignore"):
-            consensus = np.full(t_all.size, np.nan)
-            cols = counts > 0
-            consensus[cols] = np.nanmedian(ym[:, cols], axis=0)
-        for j, i in enumerate(rows):
-            ax.plot(
-                x,
-                ym[j] - consensus,
-                lw=1.6,
-                color=_STYLE[phase]["color"],
-                marker=ctx.markers.get(i, _STYLE[phase]["marker"]),
-                markevery=40,
-                ms=4,
-                label=ctx.id(i),
-            )
+            y = evaluate(c, np.broadcast_to(t_all, (len(rows), t_all.size)), 0)[0]
+        inside = (t_all[None, :] >= c.t_min[:, None]) & (t_all[None, :] <= c.t_max[:, None])
+        ym = np.where(inside & np.isfinite(y), y, np.nan)
+        xs, ys = np.broadcast_to(x, ym.shape)[np.isfinite(ym)], ym[np.isfinite(ym)]
+        if xs.size >= 2 and np.ptp(xs) > 0:
+            slope, icept = np.polyfit(xs, ys, 1)
+            for j, i in enumerate(rows):
+                ax.plot(
+                    x, ym[j] - (icept + slope * x), lw=1.8, label=_plain(ctx.id(i)), **styles[i]
+                )
     ax.axhline(0.0, color="black", lw=0.8)
-    ax.set_ylabel("ln P - consensus")
+    ax.set_ylabel("ln P - straight line")
     ax.set_xlabel("1000 K / T")
     ax.grid(True, color="#dddddd", lw=0.6)
-    ax.legend(fontsize=8, loc="best")
+    if rows:
+        ax.legend(fontsize=7.5, loc="best")

@@ -451,3 +451,69 @@ def test_an_exact_conversion_prints_the_digits_a_person_would_type():
     row = out.splitlines()[-1].split(",")
     assert row[10] == str(Decimal(before[10]) + Decimal("273.15"))
     assert row[15] == str(Decimal(before[15]) - Decimal("273.15")) == "20.55"
+
+
+@pytest.mark.parametrize("form", ["wagner-3-6", "wagner-2.5-5"])
+def test_wagner_at_the_critical_point_gives_the_limits_not_nan(form):
+    # physics notes, section 3: at tau = 0 the slope has the finite limit y' -> -a/Tc (the
+    # implied dH stays finite), while y'' diverges like tau^-0.5 through the b term. A range
+    # stated as Tmin..Tc put 0/0 there and every such record drew a false slope error.
+    rec = {
+        "id": "w",
+        "substance": "w",
+        "phase": "liquid",
+        "form": form,
+        "log_base": "e",
+        "pressure_unit": "Pa",
+        "A": -7.7,
+        "B": 1.5,
+        "C": -2.9,
+        "D": -1.2,
+        "t_crit": 560.0,
+        "p_crit": 4.2e6,
+        "t_min": 300.0,
+        "t_max": 560.0,
+    }
+    c = curves_from_frame(frame([rec]))
+    tc = 560.0
+    y, y1, y2 = evaluate(c, np.array([tc, tc * (1 + 1e-12)]), 2)
+    assert_allclose(y[0], math.log(4.2e6), rtol=1e-15)  # ln Pc at Tc
+    assert_allclose(y1[0], [7.7 / tc] * 2, rtol=1e-9)  # -a/Tc, also a rounding above Tc
+    assert np.isinf(y2[0, 0])
+    # the limit agrees with a one-sided finite difference just below Tc
+    h = 1e-4
+    yl = evaluate(c, np.array([tc - h, tc - 2 * h]), 0)[0][0]
+    assert_allclose((yl[0] - yl[1]) / h, 7.7 / tc, rtol=2e-3)
+
+
+def test_wagner_compilation_ranges_ending_at_tc_draw_no_slope_error():
+    # McGarry's Wagner 3,6 equations (chemicals, Psat_data_WagnerMcGarry) with the range
+    # stated as Tmin..Tc, as compilations state it
+    from chemicals.vapor_pressure import Psat_data_WagnerMcGarry as wag
+    from refdata import table_from_rows
+
+    from vpaudit.auditing import audit_table
+
+    rows = [
+        {
+            "id": cas,
+            "substance": cas,
+            "phase": "liquid",
+            "form": "wagner-3-6",
+            "log_base": "e",
+            "pressure_unit": "Pa",
+            "A": w["A"],
+            "B": w["B"],
+            "C": w["C"],
+            "D": w["D"],
+            "t_crit": w["Tc"],
+            "p_crit": w["Pc"],
+            "t_min": w["Tmin"],
+            "t_max": w["Tc"],
+            "source": "McGarry (1983) via chemicals",
+        }
+        for cas, w in wag.iterrows()
+    ]
+    result = audit_table(table_from_rows(rows), diagnose=False)
+    assert not [f for f in result.findings if f.check == "slope-not-positive"]
+    assert not [f for f in result.findings if "nan" in f.message or "n/a" in f.message]

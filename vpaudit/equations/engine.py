@@ -212,17 +212,26 @@ def _antoine(p: np.ndarray, t: np.ndarray, order: int):
 
 def _wagner(p: np.ndarray, t: np.ndarray, order: int):
     a, b, c, d, e3, e4, tc, lnpc = (_shape(p[:, i], t) for i in range(8))
-    with np.errstate(invalid="ignore"):
+    with np.errstate(invalid="ignore", divide="ignore"):
         tau = 1.0 - t / tc
+        # A range stated as Tmin..Tc puts a grid point at Tc itself, or a rounding above it:
+        # that is tau = 0, not a temperature beyond the equation.
+        tau = np.where((tau < 0.0) & (tau > -1e-9), 0.0, tau)
         sq = np.sqrt(tau)
-        t3, t4 = tau**e3, tau**e4
-        S = a * tau + b * tau * sq + c * t3 + d * t4
+        S = a * tau + b * tau * sq + c * tau**e3 + d * tau**e4
         y = lnpc + tc / t * S
         if order == 0:
             return y, None, None
-        # Derivatives of S with respect to tau, then the chain rule with dtau/dT = -1/Tc.
-        S1 = a + 1.5 * b * sq + c * e3 * t3 / tau + d * e4 * t4 / tau
-        S2 = 0.75 * b / sq + c * e3 * (e3 - 1.0) * t3 / tau**2 + d * e4 * (e4 - 1.0) * t4 / tau**2
+        # Derivatives of S with respect to tau (powers written so that tau = 0 gives their
+        # limits, never 0/0: S1 -> a), then the chain rule with dtau/dT = -1/Tc. At Tc the
+        # slope stays finite, y' -> -a/Tc, while S2 and the implied dCp diverge like
+        # tau^-0.5 through the b term: Wagner (1973), eq. 5; physics notes, section 3.
+        S1 = a + 1.5 * b * sq + c * e3 * tau ** (e3 - 1.0) + d * e4 * tau ** (e4 - 1.0)
+        S2 = (
+            0.75 * b / sq
+            + c * e3 * (e3 - 1.0) * tau ** (e3 - 2.0)
+            + d * e4 * (e4 - 1.0) * tau ** (e4 - 2.0)
+        )
         y1 = -tc / t**2 * S - S1 / t
         y2 = 2.0 * tc * S / t**3 + 2.0 * S1 / t**2 + S2 / (t * tc)
     return y, y1, y2

@@ -302,6 +302,55 @@ class AuditContext:
             out[q] = arr
         return out
 
+    @cached_property
+    def _ref_uncertainty_by_code(self) -> dict[str, np.ndarray]:
+        """For each quantity, the stated absolute uncertainty (SI units) of the first
+        reference value per substance code, NaN where none is stated.
+        """
+        from ..units import (
+            ENTHALPY_UNITS,
+            MOLAR_MASS_UNITS,
+            QUANTITY_UNITS,
+            pressure_factor,
+            temperature_affine,
+        )
+
+        refs = self.table.references
+        out: dict[str, np.ndarray] = {}
+        if not len(refs) or "uncertainty" not in refs:
+            return out
+        ref_codes = self.ref_codes
+        q_code, q_names = codes(refs["quantity"])
+        u = refs["uncertainty"].to_numpy(dtype=float, na_value=np.nan)
+        units = refs["unit"].astype(object).to_numpy()
+        for k, q in enumerate(q_names):
+            m = (q_code == k) & (ref_codes >= 0)
+            kind = QUANTITY_UNITS.get(str(q), ("", ()))[0]
+            scale = {
+                "temperature": lambda n: temperature_affine(n)[0],
+                "pressure": pressure_factor,
+                "enthalpy": lambda n: ENTHALPY_UNITS[n],
+                "molar_mass": lambda n: MOLAR_MASS_UNITS[n],
+            }.get(kind)
+            if scale is None:
+                continue
+            first_codes, first = np.unique(ref_codes[m], return_index=True)
+            rows = np.flatnonzero(m)[first]
+            arr = np.full(self.n_names, np.nan)
+            arr[first_codes] = [u[r] * scale(str(units[r])) for r in rows]
+            out[q] = arr
+        return out
+
+    def reference_uncertainty(self, quantity: str, rows: np.ndarray | None = None) -> np.ndarray:
+        """The stated absolute uncertainty (SI units) of the reference ``quantity`` for the
+        substance of each record in ``rows``; NaN where none is stated.
+        """
+        codes_ = self.codes if rows is None else self.codes[rows]
+        arr = self._ref_uncertainty_by_code.get(quantity)
+        if arr is None:
+            return np.full(codes_.shape, np.nan)
+        return arr[codes_]
+
     def reference(self, quantity: str, rows: np.ndarray | None = None) -> np.ndarray:
         """The reference ``quantity`` (SI units) for the substance of each record in ``rows``
         (all records by default); NaN where the table has none.

@@ -26,16 +26,32 @@ def range_invalid(ctx: AuditContext):
     """Report rule problems of the range read from the table (missing, empty, t_min <= 0 K,
     an Antoine pole theta = -C inside [t_min, t_max]).
 
-    Such a record cannot be evaluated over its range; every other check skips it.
+    Such a record cannot be evaluated over its range; every other check skips it. A range
+    of a single temperature (t_min = t_max, as compilations sometimes carry one whose range
+    was lost) is a warning: it says nothing wrong about the equation, only that there is no
+    range to test it on.
     """
     problems = ctx.table.problems
     if not len(problems):
         return
     bad = problems.loc[problems["rule"].isin(["range", "pole"])]
     rows = ctx.rows_of(bad["file"], bad["line"])  # one lookup for all problems
+    t_min = ctx.table.records["t_min"].to_numpy(dtype=float, na_value=np.nan)
+    t_max = ctx.table.records["t_max"].to_numpy(dtype=float, na_value=np.nan)
     for pr, row in zip(bad.itertuples(index=False), rows, strict=True):
-        if row >= 0:
-            yield ctx.finding("range-invalid", int(row), f"{pr.message}.", {"field": pr.column})
+        if row < 0:
+            continue
+        if pr.rule == "range" and t_min[row] == t_max[row]:
+            yield ctx.finding(
+                "range-invalid",
+                int(row),
+                f"the range is a single temperature ({kelvin(t_min[row])}): the source states "
+                "no range to test the equation on; give the range the source gives.",
+                {"field": pr.column},
+                severity=Severity.warning,
+            )
+            continue
+        yield ctx.finding("range-invalid", int(row), f"{pr.message}.", {"field": pr.column})
 
 
 @check(
@@ -110,14 +126,16 @@ def slope_not_positive(ctx: AuditContext):
     Severity.error,
     Scope.record,
     "The implied standard entropy of the phase change lies outside a plausible band.",
-    "Trouton's rule (dS_vap about 85-88 J/(mol K) at the normal boiling point, 50-150 in "
-    "practice) and its generalisation dS = dH/T + R ln(P/P0) at any temperature; common "
-    "practice.",
+    "Trouton's rule (dS_vap about 85-88 J/(mol K) at the normal boiling point; common "
+    "practice) and its generalisation dS = dH/T + R ln(P/P0) at any temperature. The band "
+    "is measured on real compilations (chemicals: Landolt odd-CAS rows, Poling, Perry, "
+    "McGarry): liquids 48..227 and solids 23..466 J/(mol K) hold 99 % of the clean records; "
+    "long-chain and associating organics lie far above Trouton's value.",
     (
-        Threshold("liquid_min", 45.0, "J/(mol K)", "lowest plausible dS of vaporization"),
-        Threshold("liquid_max", 160.0, "J/(mol K)", "highest plausible dS of vaporization"),
-        Threshold("solid_min", 60.0, "J/(mol K)", "lowest plausible dS of sublimation"),
-        Threshold("solid_max", 230.0, "J/(mol K)", "highest plausible dS of sublimation"),
+        Threshold("liquid_min", 40.0, "J/(mol K)", "lowest plausible dS of vaporization"),
+        Threshold("liquid_max", 235.0, "J/(mol K)", "highest plausible dS of vaporization"),
+        Threshold("solid_min", 20.0, "J/(mol K)", "lowest plausible dS of sublimation"),
+        Threshold("solid_max", 480.0, "J/(mol K)", "highest plausible dS of sublimation"),
     ),
 )
 def enthalpy_implausible(ctx: AuditContext):
@@ -332,7 +350,25 @@ def above_critical(ctx: AuditContext):
     "The liquid curve misses 101325 Pa at the reference normal boiling point.",
     "Definition of the normal boiling point (P = 101325 Pa).",
     (
-        Threshold("tolerance", 0.05, "ln P", "largest |ln P(Tb) - ln 101325|"),
+        Threshold("tolerance", 0.05, "ln P", "smallest |ln P(Tb) - ln 101325| ever reported"),
+        Threshold(
+            "factor",
+            3.0,
+            "-",
+            "coverage factor k on the combined uncertainty of curve and reference",
+        ),
+        Threshold(
+            "default_uncertainty",
+            0.03,
+            "-",
+            "relative uncertainty of P of a record that states none",
+        ),
+        Threshold(
+            "tb_uncertainty",
+            1.0,
+            "K",
+            "uncertainty of a reference Tb that states none",
+        ),
         Threshold(
             "near",
             0.10,
@@ -343,10 +379,16 @@ def above_critical(ctx: AuditContext):
     ),
 )
 def boiling_point_mismatch(ctx: AuditContext):
-    """Compared in ln P, as for the melting point: ln P(T_b) - ln 101325 against the
-    tolerance (or the record's stated uncertainty if larger), with the implied boiling
-    temperature as evidence. When T_b lies far outside the range the check is a note: many
-    evaluated liquid equations stop hundreds of kelvin below the boiling point.
+    """Compared in ln P, as for the melting point: ln P(T_b) - ln 101325 against k times
+    the combined uncertainty of the two parties, sqrt(u_P^2 + (y'(T_b) u_Tb)^2): the record's
+    stated relative uncertainty of P (or a default) and the reference T_b's stated
+    uncertainty (or a default) carried into ln P through the curve's own slope -- never less
+    than the tolerance. The default for T_b is measured: independent evaluations of the
+    normal boiling points of about 1,200 organic liquids (chemicals, methods CRC_ORG, YAWS
+    and COMMON_CHEMISTRY) differ by 0.2-0.4 K at the median and 1.1-1.5 K at the 75th
+    percentile. The implied boiling temperature is evidence. When T_b lies far outside the
+    range the check is a note: many evaluated liquid equations stop hundreds of kelvin below
+    the boiling point.
     """
     th = ctx.thresholds("boiling-point-mismatch")
     tb = ctx.reference("normal_boiling_point")
@@ -355,16 +397,23 @@ def boiling_point_mismatch(ctx: AuditContext):
         return
     c = ctx.curves.take(rows)
     t = tb[rows]
-    y = evaluate(c, t, order=0)[0]
+    y, y1, _ = evaluate(c, t, order=1)
     d = y - LN_P_STANDARD
-    unc = np.nan_to_num(ctx.uncertainty[rows], nan=0.0)
-    tol = np.maximum(th["tolerance"], unc)
+    u_p = np.where(
+        np.isnan(ctx.uncertainty[rows]), th["default_uncertainty"], ctx.uncertainty[rows]
+    )
+    u_tb = ctx.reference_uncertainty("normal_boiling_point", rows)
+    u_tb = np.where(np.isnan(u_tb), th["tb_uncertainty"], u_tb)
+    sigma = np.sqrt(u_p**2 + (np.abs(y1) * u_tb) ** 2)
+    tol = np.maximum(th["tolerance"], th["factor"] * sigma)
     with np.errstate(invalid="ignore"):
         bad = ~(np.abs(d) <= tol)
     if not bad.any():
         return
     dist = np.maximum(c.t_min - t, t - c.t_max).clip(min=0.0) / t
-    t_implied = temperature_at(c, LN_P_STANDARD, 0.5 * c.t_min, 3.0 * c.t_max)
+    # search up to three times the range, but never past a Wagner record's own Tc
+    top = np.where(c.family == 2, np.fmin(3.0 * c.t_max, c.params[:, 6]), 3.0 * c.t_max)
+    t_implied = temperature_at(c, LN_P_STANDARD, 0.5 * c.t_min, top)
     for k in np.flatnonzero(bad):
         i = rows[k]
         far = dist[k] > th["near"]
@@ -384,13 +433,14 @@ def boiling_point_mismatch(ctx: AuditContext):
                 f"it reaches 101325 Pa at {kelvin(t_implied[k])}"
                 if np.isfinite(t_implied[k])
                 else f"it does not reach 101325 Pa between {kelvin(0.5 * c.t_min[k])} and "
-                f"{kelvin(3.0 * c.t_max[k])}"
+                f"{kelvin(top[k])}"
             )
             + f"{where}.",
             {
                 "boiling_point_K": t[k],
                 "difference_lnP": d[k],
                 "tolerance_lnP": tol[k],
+                "z": abs(d[k]) / sigma[k],
                 "implied_boiling_point_K": t_implied[k],
                 "outside_range_fraction": dist[k],
             },

@@ -864,17 +864,29 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
     before = _errors_and_warnings(base)
     if not cands:
         return {"suggestion": None, "clears": set(), "none": 1.0}
+    # A fix that creates an error the records as written do not have (a pole moved into
+    # the range, a range made invalid, a slope made negative) is disqualified outright: it
+    # is not a capped penalty that the substance's other problems could outweigh.
+    errors_before = {_key(f) for f in base.findings if f.severity is Severity.error}
+    harmful = [
+        any(f.severity is Severity.error and _key(f) not in errors_before for f in o.findings)
+        for o in outs
+    ]
     # hypotheses: no single slip (the records as written), and each verified candidate
     logw = np.array(
         [math.log(cal["prior_none"]) - base.score(cal) / (2 * T)]
-        + [c.log_prior - o.score(cal) / (2 * T) for c, o in zip(cands, outs, strict=True)]
+        + [
+            -math.inf if bad else c.log_prior - o.score(cal) / (2 * T)
+            for c, o, bad in zip(cands, outs, harmful, strict=True)
+        ]
     )
     # Screened-out candidates: one whose correction is equivalent to a verified one (same
     # curves, ranges and phases, so the same evidence) takes that one's score and joins its
     # group; the others enter the normalization with an upper bound of their weight.
     verified = {}
     for k, o in enumerate(outs):
-        verified.setdefault(o.key, logw[1 + k] - cands[k].log_prior)
+        if not harmful[k]:
+            verified.setdefault(o.key, logw[1 + k] - cands[k].log_prior)
     joined: dict[bytes, list[float]] = defaultdict(list)
     rest = []
     for lp, o in dropped:
@@ -906,6 +918,10 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
     # then the first generated (Torr before mmHg)
     best = min(ks, key=lambda k: (round(outs[k].score(cal), 3), -cands[k].log_prior, k))
     cleared = before - _errors_and_warnings(outs[best])
+    if not cleared & errors_before:
+        # warnings alone (a range gap, a small heat-capacity excursion) are no evidence of a
+        # transcription slip: a fix that clears no error is not suggested
+        return {"suggestion": None, "clears": set(), "none": float(post[0])}
     if cal["require_clear"]:
         # a fix must clear the errors on the record it corrects: one that leaves them is at
         # best part of the story, and is not suggested

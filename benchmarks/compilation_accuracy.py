@@ -6,7 +6,8 @@ documented ``chemicals`` lookups), per compilation:
   own false alarm or a real defect of the data as carried: the table lists the checks so
   that each class can be looked at);
 * planted single slips (tests/slips.py ``corrupt``, one per substance, on a seeded sample)
-  flagged at error level;
+  flagged at error level -- a slip that moves ln P by less than 0.03 everywhere in the
+  range (a transposed last digit) is not counted, since no data can tell it;
 * the diagnosis on those: top suggestion is the planted slip, confident (>= 0.8)
   suggestions that are wrong, and confident suggestions on clean substances.
 
@@ -43,6 +44,32 @@ def clean_errors(name: str):
     return records, refs, flagged, Counter(f.check for f in errs), confident_on_clean
 
 
+def _visible(original: dict, bad: dict, threshold: float = 0.03) -> bool:
+    """Whether a slip moves ln P by more than ``threshold`` (the default relative
+    uncertainty of a record) somewhere in the range: a transposed sixth digit does not, and
+    is not counted as a slip to detect."""
+    import numpy as np
+
+    from vpaudit.equations.engine import curves_from_frame, evaluate
+
+    a = dict(original, id="a")
+    b = {
+        k: (float(v) if k in "ABCDE" or k in ("p_crit", "t_min", "t_max") else v)
+        for k, v in bad.items()
+        if v is not None
+    }
+    b["id"] = "b"
+    try:
+        cv = curves_from_frame(table_from_rows([a, b]).records)
+    except Exception:  # noqa: BLE001  (a slip the reader refuses is visible)
+        return True
+    t = np.linspace(float(original["t_min"]), float(original["t_max"]), 9)
+    with np.errstate(all="ignore"):
+        y = evaluate(cv, np.vstack([t, t]), 0)[0]
+    d = np.abs(y[0] - y[1])
+    return bool(not np.all(np.isfinite(d)) or np.nanmax(d) > threshold)
+
+
 def planted(name, records, refs, flagged_clean, sample, rng):
     """One slip in one record of each of ``sample`` clean substances (no error before)."""
     by_sub: dict[str, list[dict]] = {}
@@ -73,6 +100,8 @@ def planted(name, records, refs, flagged_clean, sample, rng):
         if got is None:
             got, kind = corrupt(target, "sign", rng), "sign"
         bad, _ = got
+        if not _visible(target, bad):
+            continue  # a slip that moves the curve less than its uncertainty: no data can tell
         new = f"{sub}#{k}"
         for r in rs:
             rr = dict(bad if r is target else r)

@@ -77,6 +77,9 @@ def corrupt(rec: dict, kind: str, rng: random.Random) -> tuple[dict, str] | None
     if kind == "pressure-unit":
         u = rng.choice([u for u in PRESSURE_UNITS if u != rec["pressure_unit"]])
         conv = convert_record(rec, pressure_unit=u)
+        if str(rec["form"]).startswith("wagner"):  # the unit lives in Pc
+            r["p_crit"] = _text(conv["p_crit"])
+            return r, f"Pc in {u}, marked {rec['pressure_unit']}"
         r.update({c: _text(conv[c]) for c in coeffs})
         return r, f"coefficients for {u}, marked {rec['pressure_unit']}"
     if kind == "temperature-unit":

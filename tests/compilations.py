@@ -199,11 +199,27 @@ def perry(limit: int | None = None):
     return records, refs
 
 
+def together(limit: int | None = None):
+    """Every compilation at once: a substance in several of them has several sources (and
+    its references once)."""
+    records, refs, seen = [], [], set()
+    for build in (landolt, poling_antoine, wagner, perry):
+        recs, rfs = build(limit)
+        records += recs
+        for r in rfs:
+            key = (r["substance"], r["quantity"])
+            if key not in seen:
+                seen.add(key)
+                refs.append(r)
+    return records, refs
+
+
 COMPILATIONS = {
     "landolt": landolt,
     "poling-antoine": poling_antoine,
     "wagner": wagner,
     "perry": perry,
+    "all together": together,
 }
 
 

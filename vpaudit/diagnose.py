@@ -121,7 +121,9 @@ CALIBRATION = {
 }
 
 #: Checks that say nothing about the numbers of a record (they are the same in every variant).
-_NOT_EVIDENCE = frozenset({"missing-source", "duplicate-record", "internal-error"})
+_NOT_EVIDENCE = frozenset(
+    {"missing-source", "duplicate-record", "internal-error", "reference-contradicted"}
+)
 _DECIMAL_SHIFTS = (-3, -2, -1, 1, 2, 3)
 #: Candidates per substance that go on from the screening to the full checks.
 _VERIFIED = 10

@@ -343,6 +343,49 @@ def above_critical(ctx: AuditContext):
         )
 
 
+def _boiling_residuals(ctx: AuditContext):
+    """For the liquid records with a reference normal boiling point: their rows, curves, T_b,
+    ln P(T_b), d = ln P(T_b) - ln 101325 and the tolerance of d (k times the combined
+    uncertainty of curve and reference, never less than the tolerance); None when there
+    are none.
+    """
+    th = ctx.thresholds("boiling-point-mismatch")
+    tb = ctx.reference("normal_boiling_point")
+    rows = np.flatnonzero(ctx.evaluable & ctx.liquid & np.isfinite(tb))
+    if rows.size == 0:
+        return None
+    c = ctx.curves.take(rows)
+    t = tb[rows]
+    y, y1, _ = evaluate(c, t, order=1)
+    d = y - LN_P_STANDARD
+    u_p = ctx.uncertainty[rows]
+    u_p = np.where(np.isnan(u_p), th["default_uncertainty"], u_p)
+    u_tb = ctx.reference_uncertainty("normal_boiling_point", rows)
+    u_tb = np.where(np.isnan(u_tb), th["tb_uncertainty"], u_tb)
+    sigma = np.sqrt(u_p**2 + (np.abs(y1) * u_tb) ** 2)
+    return rows, c, t, y, d, np.maximum(th["tolerance"], th["factor"] * sigma)
+
+
+def _outvoted(ctx: AuditContext, rows: np.ndarray, d: np.ndarray, tol: np.ndarray) -> np.ndarray:
+    """For each row, whether its substance has two or more liquid records that all miss the
+    reference T_b on the same side, beyond their tolerance, while agreeing with each other
+    within it: several sources against one reference value.
+    """
+    out = np.zeros(rows.size, dtype=bool)
+    codes_ = ctx.codes[rows]
+    with np.errstate(invalid="ignore"):
+        miss = ~(np.abs(d) <= tol)
+    for code in np.unique(codes_[miss]):
+        k = np.flatnonzero(codes_ == code)
+        if k.size < 2 or not miss[k].all():
+            continue
+        same_side = (np.sign(d[k]) == np.sign(d[k[0]])).all()
+        agree = (d[k].max() - d[k].min()) <= tol[k].min()
+        if same_side and agree:
+            out[k] = True
+    return out
+
+
 @check(
     "boiling-point-mismatch",
     Severity.error,
@@ -391,23 +434,14 @@ def boiling_point_mismatch(ctx: AuditContext):
     the boiling point.
     """
     th = ctx.thresholds("boiling-point-mismatch")
-    tb = ctx.reference("normal_boiling_point")
-    rows = np.flatnonzero(ctx.evaluable & ctx.liquid & np.isfinite(tb))
-    if rows.size == 0:
+    got = _boiling_residuals(ctx)
+    if got is None:
         return
-    c = ctx.curves.take(rows)
-    t = tb[rows]
-    y, y1, _ = evaluate(c, t, order=1)
-    d = y - LN_P_STANDARD
-    u_p = np.where(
-        np.isnan(ctx.uncertainty[rows]), th["default_uncertainty"], ctx.uncertainty[rows]
-    )
-    u_tb = ctx.reference_uncertainty("normal_boiling_point", rows)
-    u_tb = np.where(np.isnan(u_tb), th["tb_uncertainty"], u_tb)
-    sigma = np.sqrt(u_p**2 + (np.abs(y1) * u_tb) ** 2)
-    tol = np.maximum(th["tolerance"], th["factor"] * sigma)
+    rows, c, t, y, d, tol = got
     with np.errstate(invalid="ignore"):
-        bad = ~(np.abs(d) <= tol)
+        # a reference that the substance's agreeing sources outvote is reported by
+        # reference-contradicted, once, instead of an error on each record
+        bad = ~(np.abs(d) <= tol) & ~_outvoted(ctx, rows, d, tol)
     if not bad.any():
         return
     dist = np.maximum(c.t_min - t, t - c.t_max).clip(min=0.0) / t
@@ -440,11 +474,68 @@ def boiling_point_mismatch(ctx: AuditContext):
                 "boiling_point_K": t[k],
                 "difference_lnP": d[k],
                 "tolerance_lnP": tol[k],
-                "z": abs(d[k]) / sigma[k],
+                "residual_over_tolerance": abs(d[k]) / tol[k],
                 "implied_boiling_point_K": t_implied[k],
                 "outside_range_fraction": dist[k],
             },
             severity=sev,
+        )
+
+
+@check(
+    "reference-contradicted",
+    Severity.warning,
+    Scope.sources,
+    "Several sources of a substance agree with each other and not with its reference normal "
+    "boiling point: the reference looks wrong, not the records.",
+    "Reference values in compilations are not all right; independent sources that agree "
+    "outweigh one value from another evaluation.",
+)
+def reference_contradicted(ctx: AuditContext):
+    """Two or more liquid records of a substance miss the reference T_b on the same side,
+    each beyond the boiling-point tolerance, and agree with each other within it. The
+    reference is named as the likely culprit, located at its own file and line, and the
+    records draw no boiling-point error: blaming each record would repeat one wrong value.
+    """
+    got = _boiling_residuals(ctx)
+    if got is None:
+        return
+    rows, c, t, y, d, tol = got
+    out = _outvoted(ctx, rows, d, tol)
+    if not out.any():
+        return
+    refs = ctx.table.references
+    is_tb = eq(refs["quantity"], "normal_boiling_point")
+    t_implied = temperature_at(c, LN_P_STANDARD, 0.5 * c.t_min, 3.0 * c.t_max)
+    from .finding import Finding
+
+    for code in np.unique(ctx.codes[rows[out]]):
+        k = np.flatnonzero(out & (ctx.codes[rows] == code))
+        name = ctx.substance_of(rows[k[0]])
+        ref_rows = np.flatnonzero(is_tb & (ctx.ref_codes == code))
+        r0 = int(ref_rows[0]) if ref_rows.size else None
+        source = str(refs["source"].iat[r0]) if r0 is not None else "?"
+        implied = t_implied[k]
+        ids = tuple(ctx.id(rows[j]) for j in k)
+        yield Finding(
+            "reference-contradicted",
+            Severity.warning,
+            name,
+            ids,
+            f"the reference normal boiling point {kelvin(t[k[0]])} ({source}) disagrees with "
+            f"all {k.size} liquid records, which agree with each other: they reach 101325 Pa "
+            f"at {kelvin(float(np.nanmean(implied)))} (off by {ln_ratio(float(d[k].mean()))} "
+            "at the reference). The reference value looks wrong, not the records: check it "
+            "against its source.",
+            {
+                "boiling_point_K": float(t[k[0]]),
+                "implied_boiling_points_K": [float(x) for x in implied],
+                "difference_lnP": [float(x) for x in d[k]],
+                "tolerance_lnP": float(tol[k].min()),
+            },
+            None,
+            str(refs["file"].iat[r0]) if r0 is not None else None,
+            int(refs["line"].iat[r0]) if r0 is not None else None,
         )
 
 

@@ -100,6 +100,9 @@ def plot_substance(table: Table, substance: str, path: str | Path, unit: str = "
     plt.rcParams.update({"font.size": 11})
     lo = float(np.nanmin(ctx.curves.t_min))
     hi = float(np.nanmax(ctx.curves.t_max))
+    anchors = _anchor_points(ctx)
+    if anchors:  # the curves are drawn on, dashed, down to the 298.15 K anchor
+        lo = min(lo, 298.15 * 1.02)
     t_all = 1.0 / np.linspace(1.0 / (hi * 1.08), 1.0 / (lo / 1.08), 400)
     x = 1000.0 / t_all
     drawn, styles, finite_in_range = [], {}, []
@@ -169,8 +172,23 @@ def plot_substance(table: Table, substance: str, path: str | Path, unit: str = "
         )
     _references(ax, ctx)
     _points(ax, sub_table)
+    for phase, (ln_p, half) in anchors.items():
+        ax.errorbar(
+            [1000.0 / 298.15],
+            [ln_p],
+            yerr=[half],
+            marker="s",
+            ms=7,
+            mfc="white",
+            color=_STYLE[phase]["color"],
+            capsize=4,
+            ls="none",
+            label=f"standard data at 298.15 K ({phase}), with the allowance",
+        )
     shown_refs = [
-        line.get_ydata() for line in ax.get_lines() if line.get_marker() in ("D", "h", "o", "X")
+        line.get_ydata()
+        for line in ax.get_lines()
+        if line.get_marker() in ("D", "h", "o", "X", "s")
     ]
     ys = np.concatenate([*finite_in_range, *(np.asarray(v, dtype=float) for v in shown_refs)])
     ys = ys[np.isfinite(ys)]
@@ -222,8 +240,29 @@ def plot_substance(table: Table, substance: str, path: str | Path, unit: str = "
         "crossings": crossings,
         "records": drawn,
         "not_drawn": skipped,
+        "anchors": sorted(anchors),
         "deviation_panel": True,
     }
+
+
+def _anchor_points(ctx: AuditContext) -> dict[str, tuple[float, float]]:
+    """For each phase with standard data at 298.15 K: the ln P they imply there (third law,
+    ln P = ln P0 + dS0/R - dH/(R T)) and the half-width of the anchor's entropy allowance
+    in ln P.
+    """
+    from .constants import R
+
+    out = {}
+    for phase, what in (("liquid", "vaporization"), ("solid", "sublimation")):
+        h = ctx.reference(f"standard_enthalpy_of_{what}")
+        s = ctx.reference(f"standard_entropy_of_{what}")
+        rows = np.flatnonzero((ctx.liquid if phase == "liquid" else ctx.solid) & np.isfinite(h))
+        rows = rows[np.isfinite(s[rows])]
+        if rows.size:
+            k = rows[0]
+            ln_p = math.log(1e5) + s[k] / R - h[k] / (R * 298.15)
+            out[phase] = (ln_p, ctx.thresholds("anchor-entropy")["tolerance"] / R)
+    return out
 
 
 def _plain(text: str) -> str:

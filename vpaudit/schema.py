@@ -62,6 +62,10 @@ class Quantity(StrEnum):
     enthalpy_of_vaporization = "enthalpy_of_vaporization"
     enthalpy_of_sublimation = "enthalpy_of_sublimation"
     molar_mass = "molar_mass"
+    standard_enthalpy_of_vaporization = "standard_enthalpy_of_vaporization"
+    standard_enthalpy_of_sublimation = "standard_enthalpy_of_sublimation"
+    standard_entropy_of_vaporization = "standard_entropy_of_vaporization"
+    standard_entropy_of_sublimation = "standard_entropy_of_sublimation"
 
 
 _STRICT = ConfigDict(extra="forbid", allow_inf_nan=False, str_strip_whitespace=False)

@@ -26,6 +26,7 @@ __all__ = [
     "TEMPERATURE_UNITS",
     "ENTHALPY_UNITS",
     "MOLAR_MASS_UNITS",
+    "ENTROPY_UNITS",
     "MMHG_PA",
     "QUANTITY_UNITS",
     "parse_enthalpy",
@@ -69,6 +70,12 @@ ENTHALPY_UNITS: Final[dict[str, float]] = {
     "kcal/mol": 1000.0 * CALORIE,
 }
 
+#: Molar-entropy units in J/(mol K) (thermochemical calorie).
+ENTROPY_UNITS: Final[dict[str, float]] = {
+    "J/(mol K)": 1.0,
+    "cal/(mol K)": CALORIE,
+}
+
 #: Molar-mass units in kg/mol.
 MOLAR_MASS_UNITS: Final[dict[str, float]] = {"g/mol": 1e-3, "kg/mol": 1.0}
 
@@ -85,6 +92,12 @@ QUANTITY_UNITS: Final[dict[str, tuple[str, tuple[str, ...]]]] = {
     "enthalpy_of_vaporization": ("enthalpy", tuple(ENTHALPY_UNITS)),
     "enthalpy_of_sublimation": ("enthalpy", tuple(ENTHALPY_UNITS)),
     "molar_mass": ("molar_mass", tuple(MOLAR_MASS_UNITS)),
+    # the standard (298.15 K, 1 bar) changes of the phase change to the ideal gas, from
+    # standard thermochemical tables (formation enthalpies and standard entropies)
+    "standard_enthalpy_of_vaporization": ("enthalpy", tuple(ENTHALPY_UNITS)),
+    "standard_enthalpy_of_sublimation": ("enthalpy", tuple(ENTHALPY_UNITS)),
+    "standard_entropy_of_vaporization": ("entropy", tuple(ENTROPY_UNITS)),
+    "standard_entropy_of_sublimation": ("entropy", tuple(ENTROPY_UNITS)),
 }
 
 

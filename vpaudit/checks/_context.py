@@ -309,6 +309,7 @@ class AuditContext:
         """
         from ..units import (
             ENTHALPY_UNITS,
+            ENTROPY_UNITS,
             MOLAR_MASS_UNITS,
             QUANTITY_UNITS,
             pressure_factor,
@@ -331,6 +332,7 @@ class AuditContext:
                 "pressure": pressure_factor,
                 "enthalpy": lambda n: ENTHALPY_UNITS[n],
                 "molar_mass": lambda n: MOLAR_MASS_UNITS[n],
+                "entropy": lambda n: ENTROPY_UNITS[n],
             }.get(kind)
             if scale is None:
                 continue

@@ -32,6 +32,7 @@ from ..equations.forms import COEFFICIENTS, FORMS
 from ..errors import Location, PolicyError, TableError, TableErrors
 from ..units import (
     ENTHALPY_UNITS,
+    ENTROPY_UNITS,
     MOLAR_MASS_UNITS,
     PRESSURE_UNITS,
     QUANTITY_UNITS,
@@ -520,6 +521,7 @@ _UNIT_FACTORS = {
     "pressure": PRESSURE_UNITS,
     "enthalpy": ENTHALPY_UNITS,
     "molar_mass": MOLAR_MASS_UNITS,
+    "entropy": ENTROPY_UNITS,
 }
 
 
@@ -547,7 +549,11 @@ def _reference_rules(frame: pd.DataFrame, raw: RawFrame, out: _Collector) -> Non
             factors = _UNIT_FACTORS[kind]
             si[ok] = (value * lookup(unit, factors))[ok]
     with np.errstate(invalid="ignore"):
-        bad = ~np.isnan(si) & (si <= 0) & ~eq(q, "enthalpy_of_fusion")
+        # an entropy of the phase change may be of either sign in principle; every other
+        # quantity but the enthalpy of fusion is a size
+        signed = eq(q, "enthalpy_of_fusion") | eq(q, "standard_entropy_of_vaporization")
+        signed |= eq(q, "standard_entropy_of_sublimation")
+        bad = ~np.isnan(si) & (si <= 0) & ~signed
     for i in np.flatnonzero(bad):
         out.error(
             raw, int(i), "value", f"{q.iat[i]} must be positive, got {value[i]:g} {unit.iat[i]}"

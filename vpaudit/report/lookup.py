@@ -89,6 +89,35 @@ def render_eval(answer: dict, unit: str = "Pa") -> str:
     return "\n".join(lines) + "\n"
 
 
+def _anchor_lines(ctx) -> list[str]:
+    """Each record against the 298.15 K standard data of its phase change, when given."""
+    from ..checks.anchor import anchor_values
+
+    a = anchor_values(ctx)
+    if a is None:
+        return []
+    rows = []
+    for k, i in enumerate(a["rows"].tolist()):
+        rows.append(
+            [
+                ctx.id(i),
+                f"{a['h'][k] / 1e3:.4g}",
+                f"{a['h_ref'][k] / 1e3:.4g}" if np.isfinite(a["h_ref"][k]) else "-",
+                f"{a['s'][k]:.4g}",
+                f"{a['s_ref'][k]:.4g}" if np.isfinite(a["s_ref"][k]) else "-",
+                f"{a['edge'][k]:.5g}",
+            ]
+        )
+    return [
+        "",
+        "Anchor at 298.15 K (each curve extrapolated with its own dCp; the standard data):",
+        *_table(
+            ["record", "dH [kJ/mol]", "standard", "dS0 [J/(mol K)]", "standard", "from [K]"],
+            rows,
+        ),
+    ]
+
+
 def _clip(text: str, width: int) -> str:
     """``text`` cut to ``width`` characters, with an ellipsis when it was cut."""
     return text if len(text) <= width else text[: width - 1] + "…"
@@ -174,6 +203,7 @@ def render_show(table, substance: str, result) -> str:
             ["pair", "T [K]", "P [Pa]", "dH_sub [kJ/mol]", "dH_vap [kJ/mol]", "dH_fus [kJ/mol]"],
             prow,
         )
+    lines += _anchor_lines(ctx)
     lines += ["", f"Findings: {len(result.findings)}"]
     for f in result.findings:
         lines.append(f"  {f.severity.label:<8}{f.check} ({', '.join(f.records)}): {f.message}")

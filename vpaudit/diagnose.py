@@ -125,6 +125,10 @@ _NOT_EVIDENCE = frozenset(
     {"missing-source", "duplicate-record", "internal-error", "reference-contradicted"}
 )
 _DECIMAL_SHIFTS = (-3, -2, -1, 1, 2, 3)
+#: Log of how rare a real Antoine equation is whose pole lies above 0.85 t_min (0.3 % of
+#: Landolt's odd-CAS equations, none of Poling's): the prior of a temperature-unit fix that
+#: would put it there.
+_POLE_NEAR_RANGE = math.log(0.003)
 #: Candidates per substance that go on from the screening to the full checks.
 _VERIFIED = 10
 #: Variant rows audited at once (bounds the memory of the synthetic tables).
@@ -244,6 +248,7 @@ def candidates_for(
                     f"the coefficients give P in {u}, not {unit} (pressure_unit {unit} -> {u})",
                 )
             )
+    implausible: set[tuple[Change, ...]] = set()
     if spec.family == "antoine":
         tu = rec.get("temperature_unit") or "K"
         s1, o1 = TEMPERATURE_UNITS[tu]
@@ -251,6 +256,14 @@ def candidates_for(
             if v == tu:
                 continue
             s2, o2 = TEMPERATURE_UNITS[v]
+            # Real Antoine equations put their pole (theta = -C) far below their range: for
+            # 99 % of Landolt's 3,355 equations (odd CAS) below 0.63 t_min, for all 325 of
+            # Poling's below 0.48 t_min, above 0.85 t_min for 0.3 %. A unit that would put
+            # it that close to the range is that unlikely.
+            pole = -float(rec["C"]) * s2 + o2 if rec.get("C") is not None else -math.inf
+            t_lo = float(rec.get("t_min") or math.nan)
+            if pole > 0.85 * (t_lo * s2 + o2):  # constants and range both read in v
+                implausible.add((Change(row, "temperature_unit", v),))
             by_kind["temperature-unit"].append(
                 (
                     (Change(row, "temperature_unit", v),),
@@ -272,6 +285,8 @@ def candidates_for(
                     f"already in {tu} (temperature_unit {tu} -> {v}, range converted)",
                 )
             )
+            if pole > 0.85 * (t_lo * s1 + o1):  # the range as written, in its own unit
+                implausible.add(tuple(changes))
     coeffs = [c for c in spec.coefficients if rec.get(c + "_text")]
     for c in coeffs:
         text = str(rec[c + "_text"])
@@ -323,7 +338,10 @@ def candidates_for(
     out = []
     for kind, items in by_kind.items():
         lp = log_prior - math.log(len(items))
-        out.extend(Candidate(kind, row, ch, lp, label) for ch, label in items)
+        out.extend(
+            Candidate(kind, row, ch, lp + (_POLE_NEAR_RANGE if ch in implausible else 0.0), label)
+            for ch, label in items
+        )
     return out
 
 
@@ -505,12 +523,13 @@ def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
     if a is not None:
         ah = policy.thresholds("anchor-enthalpy")
         as_ = policy.thresholds("anchor-entropy")
-        judged = a["ratio"] <= ah["max_ratio"]
+        # no cut at max_ratio here: a candidate must not escape the evidence by moving its
+        # range away from 298.15 K (the allowance still grows with the distance)
         with np.errstate(invalid="ignore", divide="ignore"):
             allow_h = ah["tolerance"] * np.abs(a["h_ref"]) + ah["cp_uncertainty"] * a["distance"]
             allow_s = as_["tolerance"] + as_["cp_uncertainty"] * np.log(a["ratio"])
         for value, ref, allow in ((a["h"], a["h_ref"], allow_h), (a["s"], a["s_ref"], allow_s)):
-            m = judged & np.isfinite(ref)
+            m = np.isfinite(ref)
             add(ctx.codes[a["rows"][m]], (value[m] - ref[m]) / (0.5 * allow[m]))
     # other sources of the same substance and phase, at the middle of the common range
     key = np.where(ctx.evaluable, ctx.codes * 2 + ctx.liquid, -1)

@@ -488,32 +488,13 @@ def test_wagner_at_the_critical_point_gives_the_limits_not_nan(form):
 
 def test_wagner_compilation_ranges_ending_at_tc_draw_no_slope_error():
     # McGarry's Wagner 3,6 equations (chemicals, Psat_data_WagnerMcGarry) with the range
-    # stated as Tmin..Tc, as compilations state it
-    from chemicals.vapor_pressure import Psat_data_WagnerMcGarry as wag
-    from refdata import table_from_rows
+    # stated as Tmin..Tc, as compilations state it (tests/compilations.py)
+    from compilations import compilation_table
 
     from vpaudit.auditing import audit_table
 
-    rows = [
-        {
-            "id": cas,
-            "substance": cas,
-            "phase": "liquid",
-            "form": "wagner-3-6",
-            "log_base": "e",
-            "pressure_unit": "Pa",
-            "A": w["A"],
-            "B": w["B"],
-            "C": w["C"],
-            "D": w["D"],
-            "t_crit": w["Tc"],
-            "p_crit": w["Pc"],
-            "t_min": w["Tmin"],
-            "t_max": w["Tc"],
-            "source": "McGarry (1983) via chemicals",
-        }
-        for cas, w in wag.iterrows()
-    ]
-    result = audit_table(table_from_rows(rows), diagnose=False)
+    table = compilation_table("wagner")
+    assert (table.records["t_max_text"] == table.records["t_crit_text"]).sum() >= 200
+    result = audit_table(table, diagnose=False)
     assert not [f for f in result.findings if f.check == "slope-not-positive"]
     assert not [f for f in result.findings if "nan" in f.message or "n/a" in f.message]

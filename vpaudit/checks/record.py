@@ -328,7 +328,15 @@ def above_critical(ctx: AuditContext):
         bad = ctx.evaluable & ctx.liquid & (ctx.curves.t_max > allowed)
     for i in np.flatnonzero(bad):
         whose = "the record's own" if np.isfinite(own[i]) else "the reference"
-        beyond = "" if np.isfinite(own[i]) else f" (beyond its uncertainty of {margin[i]:.3g} K)"
+        if np.isfinite(own[i]):
+            beyond = ""
+        elif np.isfinite(u[i]):
+            beyond = f" (beyond its stated uncertainty of {margin[i]:.3g} K)"
+        else:
+            beyond = (
+                f" by more than the {th['tolerance'] * 100:g} % ({margin[i]:.3g} K) by which "
+                "independent evaluations of Tc differ"
+            )
         yield ctx.finding(
             "above-critical",
             i,

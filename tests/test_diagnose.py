@@ -293,3 +293,28 @@ def test_scores_of_many_outcomes_at_once_equal_one_at_a_time():
     one_by_one = [o._score(CALIBRATION) for o in outs]
     _prime_scores(outs, CALIBRATION)
     assert [o.score(CALIBRATION) for o in outs] == pytest.approx(one_by_one, rel=1e-12)
+
+
+def test_a_compound_metadata_slip_is_named_with_all_its_parts():
+    # Poling et al. Antoine constants of acetone (CAS 67-64-1; log10 P[Pa], T in K, via
+    # chemicals) rewritten for log10 P in mmHg and theta in degC, as a handbook prints them,
+    # and entered as ln P, Pa and K: three metadata slips at once, none of which alone
+    # explains the record
+    from compilations import poling_antoine
+    from refdata import table_from_rows
+    from slips import reproduces
+
+    from vpaudit.auditing import audit_table
+    from vpaudit.equations.convert import convert_record
+
+    records, refs = poling_antoine()
+    clean = next(r for r in records if r["substance"] == "67-64-1")
+    conv = convert_record(clean, log_base="10", pressure_unit="mmHg", temperature_unit="degC")
+    bad = dict(clean, log_base="e", **{c: conv[c] for c in ("A", "B", "C")})
+    mine = [x for x in refs if x["substance"] == "67-64-1"]
+    result = audit_table(table_from_rows([bad], mine))
+    sug = next(f.suggestion for f in result.findings if f.suggestion)
+    assert sug["kind"] == "metadata-combination"
+    assert {"log_base", "pressure_unit", "temperature_unit"} <= set(sug["corrected"])
+    assert reproduces(clean, bad, sug)
+    assert sug["confidence"] < 0.8  # three readings at once: said, not asserted

@@ -63,6 +63,7 @@ import math
 from collections import defaultdict
 from dataclasses import dataclass, replace
 from decimal import Decimal, InvalidOperation
+from itertools import combinations as _combinations
 
 import numpy as np
 import pandas as pd
@@ -102,7 +103,13 @@ KINDS: dict[str, str] = {
     "decimal-shift": "one coefficient is off by a power of ten",
     "coefficient-swap": "two coefficients were entered in each other's columns",
     "digit-transposition": "two adjacent digits of one coefficient are swapped",
+    "metadata-combination": "two or three of log base, pressure unit and temperature unit "
+    "are wrong at once (a source in log10 P, mmHg and degC entered as ln P, Pa and K)",
 }
+
+#: How much rarer two metadata slips at once are taken to be than one (an assumption, not a
+#: measurement: each is a separate misreading of the source's header).
+_COMBINATION_PRIOR = math.log(0.1)
 
 #: Calibrated constants of the scoring (benchmarks/diagnosis_accuracy.py): the temperature
 #: T dividing the misfit, the prior of "no single slip explains it", and the lowest
@@ -335,9 +342,29 @@ def candidates_for(
                 f"({rec['id']} is the {flip}, {pid} the {phase})",
             )
         )
+    # Two or three metadata slips at once: every pairing of the single metadata fixes above
+    # that change different fields (a temperature-unit fix that converted the range counts
+    # as one temperature fix).
+    meta = [
+        (k, ch, label)
+        for k in ("log-base", "pressure-unit", "temperature-unit")
+        for ch, label in by_kind.get(k, [])
+    ]
+    for n in (2, 3):
+        for combo in _combinations(meta, n):
+            if len({k for k, _, _ in combo}) < n:
+                continue
+            changes = tuple(c for _, ch, _ in combo for c in ch)
+            by_kind["metadata-combination"].append(
+                (changes, " and ".join(label for _, _, label in combo))
+            )
+            if any(ch in implausible for _, ch, _ in combo):
+                implausible.add(changes)
     out = []
     for kind, items in by_kind.items():
         lp = log_prior - math.log(len(items))
+        if kind == "metadata-combination":
+            lp += _COMBINATION_PRIOR
         out.extend(
             Candidate(kind, row, ch, lp + (_POLE_NEAR_RANGE if ch in implausible else 0.0), label)
             for ch, label in items

@@ -544,18 +544,17 @@ def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
         add(ctx.codes[rows], np.maximum(lo - ds, 0.0) / 10.0 + np.maximum(ds - hi, 0.0) / 10.0)
     # the 298.15 K anchor: the standard enthalpy and entropy, each against the warning
     # allowance of its check (the checks' own definitions: checks.anchor.anchor_values)
-    from .checks.anchor import anchor_values
+    from .checks.anchor import allowances, anchor_values
 
     a = anchor_values(ctx)
     if a is not None:
-        ah = policy.thresholds("anchor-enthalpy")
-        as_ = policy.thresholds("anchor-entropy")
+        al = allowances(ctx, a)
         # no cut at max_ratio here: a candidate must not escape the evidence by moving its
         # range away from 298.15 K (the allowance still grows with the distance)
-        with np.errstate(invalid="ignore", divide="ignore"):
-            allow_h = ah["tolerance"] * np.abs(a["h_ref"]) + ah["cp_uncertainty"] * a["distance"]
-            allow_s = as_["tolerance"] + as_["cp_uncertainty"] * np.log(a["ratio"])
-        for value, ref, allow in ((a["h"], a["h_ref"], allow_h), (a["s"], a["s_ref"], allow_s)):
+        for value, ref, allow in (
+            (a["h"], a["h_ref"], al["h_warn"]),
+            (a["s"], a["s_ref"], al["s_warn"]),
+        ):
             m = np.isfinite(ref)
             add(ctx.codes[a["rows"][m]], (value[m] - ref[m]) / (0.5 * allow[m]))
     # other sources of the same substance and phase, at the middle of the common range

@@ -93,6 +93,32 @@ def anchor_values(ctx: AuditContext):
     }
 
 
+def allowances(ctx: AuditContext, a: dict) -> dict:
+    """The two checks' allowances for :func:`anchor_values` ``a`` (one definition, for the
+    checks and for the diagnosis, which weighs the same residuals): for ``h`` and ``s`` the
+    warning and error bounds on |implied - reference|, and where each is judged at all.
+    """
+    th_h, th_s = ctx.thresholds("anchor-enthalpy"), ctx.thresholds("anchor-entropy")
+    with np.errstate(invalid="ignore", divide="ignore"):
+        growth_h = th_h["cp_uncertainty"] * a["distance"]
+        growth_s = th_s["cp_uncertainty"] * np.log(a["ratio"])
+        return {
+            "h_warn": th_h["tolerance"] * np.abs(a["h_ref"]) + growth_h,
+            "h_error": th_h["error_above"] * np.abs(a["h_ref"]) + growth_h,
+            "h_judged": np.isfinite(a["h_ref"]) & (a["ratio"] <= th_h["max_ratio"]),
+            "s_warn": th_s["tolerance"] + growth_s,
+            "s_error": th_s["error_above"] + growth_s,
+            "s_judged": np.isfinite(a["s_ref"]) & (a["ratio"] <= th_s["max_ratio"]),
+        }
+
+
+def _beyond(value, ref, warn, error, judged):
+    """Rows beyond the warning bound, and whether each is beyond the error bound too."""
+    with np.errstate(invalid="ignore"):
+        off = np.abs(value - ref)
+        return judged & ~(off <= warn), ~(off <= error)
+
+
 def _what(is_liquid: bool) -> str:
     return "vaporization" if is_liquid else "sublimation"
 
@@ -115,18 +141,12 @@ def anchor_enthalpy(ctx: AuditContext):
     dH(edge) is the integral of dCp). Curves whose range lies more than ``max_ratio`` above
     298.15 K are not judged: the extrapolation is too long.
     """
-    th = ctx.thresholds("anchor-enthalpy")
     a = anchor_values(ctx)
     if a is None:
         return
-    growth = th["cp_uncertainty"] * a["distance"]
-    with np.errstate(invalid="ignore"):
-        allowed = th["tolerance"] * np.abs(a["h_ref"]) + growth
-        gross = th["error_above"] * np.abs(a["h_ref"]) + growth
-        off = np.abs(a["h"] - a["h_ref"])
-        judged = np.isfinite(a["h_ref"]) & (a["ratio"] <= th["max_ratio"])
-        bad = judged & ~(off <= allowed)
-        error = ~(off <= gross)
+    al = allowances(ctx, a)
+    allowed = al["h_warn"]
+    bad, error = _beyond(a["h"], a["h_ref"], allowed, al["h_error"], al["h_judged"])
     for k in np.flatnonzero(bad):
         i = int(a["rows"][k])
         rel = (a["h"][k] - a["h_ref"][k]) / a["h_ref"][k]
@@ -167,17 +187,12 @@ def anchor_entropy(ctx: AuditContext):
     dCp/T). A pressure-unit slip shifts dS0 by R ln(factor) and leaves dH alone: this is its
     witness on a lone curve.
     """
-    th = ctx.thresholds("anchor-entropy")
     a = anchor_values(ctx)
     if a is None:
         return
-    with np.errstate(invalid="ignore", divide="ignore"):
-        growth = th["cp_uncertainty"] * np.log(a["ratio"])
-        allowed = th["tolerance"] + growth
-        off = np.abs(a["s"] - a["s_ref"])
-        judged = np.isfinite(a["s_ref"]) & (a["ratio"] <= th["max_ratio"])
-        bad = judged & ~(off <= allowed)
-        error = ~(off <= th["error_above"] + growth)
+    al = allowances(ctx, a)
+    allowed = al["s_warn"]
+    bad, error = _beyond(a["s"], a["s_ref"], allowed, al["s_error"], al["s_judged"])
     for k in np.flatnonzero(bad):
         i = int(a["rows"][k])
         d = a["s"][k] - a["s_ref"][k]

@@ -77,3 +77,43 @@ def test_docs_checks_md_is_generated_from_the_registry():
     assert page.read_text(encoding="utf-8") == checks_markdown(), (
         "docs/checks.md is stale: vpaudit checks --format markdown > docs/checks.md"
     )
+
+
+def test_a_policy_that_lowers_a_check_lowers_its_milder_tier_too():
+    # the anchor's warning tier, boiling-point's note for a far Tb: a policy setting the
+    # check to note must not see a warning from it
+    from refdata import table_from_rows
+
+    from vpaudit.auditing import audit_table
+    from vpaudit.policy import Policy
+
+    rec = {
+        "id": "a",
+        "substance": "s",
+        "phase": "liquid",
+        "form": "three-term",
+        "log_base": "e",
+        "pressure_unit": "Pa",
+        "A": 36.2,
+        "B": -6015.0,
+        "C": -2.406,
+        "t_min": 300.0,
+        "t_max": 600.0,
+        "source": "case",
+    }
+    ref = {
+        "substance": "s",
+        "quantity": "standard_enthalpy_of_vaporization",
+        "value": 60.0,
+        "unit": "kJ/mol",
+        "at_temperature": 298.15,
+        "source": "case",
+    }
+    table = table_from_rows([rec], [ref])
+    default = audit_table(table, diagnose=False)
+    tiers = {f.severity.value for f in default.findings if f.check == "anchor-enthalpy"}
+    assert tiers == {"warning"}
+    lowered = audit_table(
+        table, Policy("evaluated", {"anchor-enthalpy": {"severity": "note"}}), diagnose=False
+    )
+    assert {f.severity.value for f in lowered.findings if f.check == "anchor-enthalpy"} == {"note"}

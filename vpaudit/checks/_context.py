@@ -392,6 +392,14 @@ class AuditContext:
         """The policy's severity of ``check`` (None when turned off)."""
         return self.policy.severity(check)
 
+    def at_most(self, check: str, cap: Severity) -> Severity:
+        """The policy's severity of ``check``, but no higher than ``cap``: for a check's
+        milder tier (a warning below its error bound), which a policy that lowers the check
+        must lower too, never raise.
+        """
+        sev = self.policy.severity(check) or cap
+        return sev if sev.rank <= cap.rank else cap
+
     def thresholds(self, check: str) -> dict[str, float]:
         """The policy's thresholds of ``check``."""
         return self.policy.thresholds(check)

@@ -48,7 +48,7 @@ def range_invalid(ctx: AuditContext):
                 f"the range is a single temperature ({kelvin(t_min[row])}): the source states "
                 "no range to test the equation on; give the range the source gives.",
                 {"field": pr.column},
-                severity=Severity.warning,
+                severity=ctx.at_most("range-invalid", Severity.warning),
             )
             continue
         yield ctx.finding("range-invalid", int(row), f"{pr.message}.", {"field": pr.column})
@@ -459,7 +459,7 @@ def boiling_point_mismatch(ctx: AuditContext):
     for k in np.flatnonzero(bad):
         i = rows[k]
         far = dist[k] > th["near"]
-        sev = Severity.note if far else None
+        sev = ctx.at_most("boiling-point-mismatch", Severity.note) if far else None
         where = (
             f"; {kelvin(t[k])} is {dist[k] * 100:.0f} % outside the range, so this is "
             "an extrapolation"

@@ -112,10 +112,13 @@ def planted(name, records, refs, flagged_clean, sample, rng):
         )
     result = audit_table(table_from_rows(recs, out_refs))
     detected = right = confident = confident_wrong = 0
+    missed: Counter = Counter()
     for new, kind, rid, original, bad in cases:
         fs = [f for f in result.findings if f.substance == new]
         if any(f.severity.value == "error" for f in fs):
             detected += 1
+        else:
+            missed[kind] += 1
         sug = next((f.suggestion for f in fs if f.suggestion), None)
         if sug is None:
             continue
@@ -127,7 +130,7 @@ def planted(name, records, refs, flagged_clean, sample, rng):
         if sug["confidence"] >= 0.8:
             confident += 1
             confident_wrong += not ok
-    return len(cases), detected, right, confident, confident_wrong
+    return len(cases), detected, right, confident, confident_wrong, missed
 
 
 def confident_on_clean(records, refs):
@@ -204,7 +207,7 @@ def main() -> None:
     for name in COMPILATIONS:
         t0 = time.perf_counter()
         records, refs, flagged, by_check, _ = clean_errors(name)
-        n, det, right, conf, cw = planted(
+        n, det, right, conf, cw, missed = planted(
             name, records, refs, flagged, args.sample, random.Random(args.seed)
         )
         conf_clean, _ = confident_on_clean(records, refs)
@@ -215,6 +218,7 @@ def main() -> None:
             f"   ({time.perf_counter() - t0:.0f} s)"
         )
         print("    errors on the clean compilation by check:", dict(by_check.most_common()))
+        print("    planted slips not flagged as errors, by kind:", dict(missed.most_common()))
     lone_curves(args.sample, random.Random(args.seed))
 
 

@@ -56,6 +56,10 @@ def test_case(check, defaults, case):
         assert hits, f"{check} did not report: {case['name']}"
         for f in hits:
             assert f.message and f.evidence is not None
+            if "severity" in case:  # a check's milder tier
+                assert f.severity.value == case["severity"], (case["name"], f.message)
+            if "says" in case:
+                assert case["says"] in f.message, (case["name"], f.message)
     else:
         assert not hits, f"{check} reported on a passing case: {hits[0].message}"
 

@@ -7,14 +7,17 @@ import pytest
 from refdata import alcock_table
 
 import vpaudit.checks._context as context
+from vpaudit import runtime as rt
 from vpaudit.policy import Policy
 
+#: Two threads from the first row, whatever the machine.
+THREADED = rt.Runtime(jobs=2, parallel_rows=0)
 
-def test_codes_made_on_a_second_thread_equal_those_made_here(monkeypatch):
+
+def test_codes_made_on_a_second_thread_equal_those_made_here():
     table = alcock_table()
     here = context.AuditContext(table, Policy())
-    monkeypatch.setattr(context, "_THREAD_RECORDS", 0)
-    threaded = context.AuditContext(table, Policy())
+    threaded = context.AuditContext(table, Policy(), THREADED)
     for name in ("codes", "ref_codes", "point_codes", "evaluable"):
         assert np.array_equal(getattr(here, name), getattr(threaded, name)), name
     assert here._names.equals(threaded._names) and here.n_names == threaded.n_names > 30
@@ -25,27 +28,26 @@ def test_an_error_on_the_second_thread_reaches_the_caller():
     def broken():
         raise ValueError("no codes")
 
-    wait = context._in_thread(broken)
+    wait = rt.in_thread(broken)
     with pytest.raises(ValueError, match="no codes"):
         wait()
-    assert context._in_thread(lambda a, b: a + b, 2, 3)() == 5
+    assert rt.in_thread(lambda a, b: a + b, 2, 3)() == 5
 
 
-def _checks_of(table, monkeypatch, beside: bool):
+def _checks_of(table, beside: bool):
     from vpaudit import auditing as audit_module
     from vpaudit.checks._registry import ordered
-    from vpaudit.readers import table as reading
 
-    monkeypatch.setattr(audit_module, "PARALLEL_RECORDS", 0 if beside else 10**12)
-    monkeypatch.setattr(reading, "JOBS", 2)  # two threads whatever the machine or --jobs
+    # two threads whatever the machine or --jobs; the pairs beside the checks or not at all
+    runtime = THREADED if beside else rt.Runtime(jobs=2, parallel_rows=10**12)
     seen = []
-    ctx = context.AuditContext(table, Policy())
+    ctx = context.AuditContext(table, Policy(), runtime)
     names = [c.name for c in ordered()]
     found = audit_module.run_checks(ctx, names, lambda done, total, name: seen.append(name))
     return found, seen, names
 
 
-def test_pairs_made_beside_the_other_checks_give_the_same_findings_in_order(monkeypatch, sample_db):
+def test_pairs_made_beside_the_other_checks_give_the_same_findings_in_order(sample_db):
     # Large tables compute the pairs on a second thread while the other checks run; the
     # findings, and their order, must be those of the one-thread run, and progress must
     # still be told of every check. The invented demo table draws findings from record,
@@ -53,8 +55,8 @@ def test_pairs_made_beside_the_other_checks_give_the_same_findings_in_order(monk
     from vpaudit.readers import load_table
 
     table = load_table(sample_db)
-    one, seen_one, names = _checks_of(table, monkeypatch, beside=False)
-    two, seen_two, _ = _checks_of(table, monkeypatch, beside=True)
+    one, seen_one, names = _checks_of(table, beside=False)
+    two, seen_two, _ = _checks_of(table, beside=True)
     checks = [f.check for f in one]
     assert "no-crossing" in checks and "missing-source" in checks
     assert two == one
@@ -73,7 +75,7 @@ def test_an_error_while_making_the_pairs_becomes_each_pair_checks_internal_error
     monkeypatch.setattr(
         context.AuditContext, "pairs", property(broken)
     )  # every access fails, on either thread
-    found, _, names = _checks_of(alcock_table(), monkeypatch, beside=True)
+    found, _, names = _checks_of(alcock_table(), beside=True)
     internal = [f for f in found if f.check == "internal-error"]
     pair_checks = [n for n in names if REGISTRY[n].scope.value == "pair"]
     assert sorted(f.evidence["check"] for f in internal) == sorted(pair_checks)
@@ -211,22 +213,17 @@ def test_the_critical_temperature_cut_is_skipped_only_where_it_cuts_nothing():
 
 def test_jobs_1_hashes_the_codes_on_this_thread(monkeypatch):
     """``--jobs 1`` runs vpaudit's own work on one thread: no thread for the codes."""
-    from vpaudit.readers import table as reading
-
     table = alcock_table()
     started = []
 
-    def here(func, *args):  # stands in for _in_thread, noting the call
+    def here(func, *args, name=""):  # stands in for in_thread, noting the call
         started.append(func)
         result = func(*args)
         return lambda: result
 
-    monkeypatch.setattr(context, "_THREAD_RECORDS", 0)
-    monkeypatch.setattr(context, "_in_thread", here)
-    monkeypatch.setattr(reading, "JOBS", 1)
-    one = context.AuditContext(table, Policy())
+    monkeypatch.setattr(context, "in_thread", here)
+    one = context.AuditContext(table, Policy(), rt.Runtime(jobs=1, parallel_rows=0))
     assert not started
-    monkeypatch.setattr(reading, "JOBS", 2)
-    two = context.AuditContext(table, Policy())
+    two = context.AuditContext(table, Policy(), THREADED)
     assert started
     assert np.array_equal(one.codes, two.codes) and one.n_names == two.n_names > 30

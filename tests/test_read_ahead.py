@@ -14,15 +14,11 @@ from conftest import write
 
 from vpaudit.errors import TableError, TableErrors
 from vpaudit.readers import files, load_table
+from vpaudit.runtime import DEFAULT, Runtime
 
 SAMPLE = Path(__file__).resolve().parent.parent / "sample_db"
 HEADER = "id,substance,phase,form,log_base,pressure_unit,A,B,C,t_min,t_max,source"
 ROW = "r{i},zinc-demo,solid,three-term,e,Pa,{a},-15000,-1.2,300,600,demo source"
-
-
-def _wait_all() -> None:
-    for job in list(files._AHEAD.values()):
-        job.done.wait()
 
 
 def _frames(table):
@@ -33,10 +29,10 @@ def test_a_table_read_ahead_is_the_table_read_directly(tmp_path):
     root = tmp_path / "db"
     shutil.copytree(SAMPLE, root)
     direct = load_table(root)
-    files.read_ahead(root)
-    assert files._AHEAD, "the sample table's files should be being read"
-    ahead = load_table(root)
-    assert not files._AHEAD  # every file taken
+    started = files.read_ahead(root)
+    assert started.jobs, "the sample table's files should be being read"
+    ahead = load_table(root, runtime=Runtime(ahead=started))
+    assert not started.jobs  # every file taken
     for a, b in zip(_frames(direct), _frames(ahead), strict=True):
         pd.testing.assert_frame_equal(a, b)
     assert direct.files == ahead.files
@@ -44,29 +40,31 @@ def test_a_table_read_ahead_is_the_table_read_directly(tmp_path):
 
 def test_a_file_changed_after_its_read_began_is_read_again(tmp_path):
     path = write(tmp_path / "records" / "r.csv", f"{HEADER}\n{ROW.format(i=1, a='25.5')}\n")
-    files.read_ahead(tmp_path)
-    _wait_all()
+    started = files.read_ahead(tmp_path)
+    started.wait()
     write(path, f"{HEADER}\n{ROW.format(i=1, a='26.5')}\n{ROW.format(i=2, a='27.5')}\n")
     st = path.stat()
     os.utime(path, ns=(st.st_atime_ns, st.st_mtime_ns + 10**9))  # whatever the clock's step
-    t = load_table(tmp_path)
+    t = load_table(tmp_path, runtime=Runtime(ahead=started))
     assert list(t.records["A"]) == [26.5, 27.5]
-    assert not files._AHEAD
+    assert not started.jobs
 
 
 def test_a_read_error_is_raised_where_the_file_is_read_with_the_same_message(tmp_path):
     # an unclosed quote: the reader refuses the file, naming it and the line
     write(tmp_path / "records" / "r.csv", 'id,substance\n"r1,zinc\n')
 
-    def errors() -> list[str]:
+    def errors(runtime=DEFAULT) -> list[str]:
         with pytest.raises(TableError) as info:
-            load_table(tmp_path)
+            load_table(tmp_path, runtime=runtime)
         exc = info.value
         return [str(e) for e in exc.errors] if isinstance(exc, TableErrors) else [str(exc)]
 
     direct = errors()
-    files.read_ahead(tmp_path)
-    assert errors() == direct
+    started = files.read_ahead(tmp_path)
+    assert started is not None
+    assert errors(Runtime(ahead=started)) == direct
+    assert not started.jobs
     assert "r.csv" in direct[0]
 
 
@@ -74,8 +72,7 @@ def test_a_read_error_is_raised_where_the_file_is_read_with_the_same_message(tmp
 def test_nothing_is_started_for_what_is_not_a_table(tmp_path, where):
     (tmp_path / "empty").mkdir()
     (tmp_path / "store.duckdb").write_bytes(b"")
-    files.read_ahead(tmp_path / where)
-    assert not files._AHEAD
+    assert files.read_ahead(tmp_path / where) is None
 
 
 def test_the_audit_command_reads_ahead_and_reports_the_same(tmp_path):
@@ -93,7 +90,6 @@ def test_the_audit_command_reads_ahead_and_reports_the_same(tmp_path):
         assert res.exit_code in (0, 1), res.output
         out[jobs] = res.output
     assert out["1"] == out["2"]
-    assert not files._AHEAD
 
 
 def test_importing_the_package_or_starting_the_command_imports_no_pandas():

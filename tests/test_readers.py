@@ -8,6 +8,7 @@ from conftest import write
 
 from vpaudit.errors import TableError, TableErrors
 from vpaudit.readers import load_table, read_file
+from vpaudit.runtime import DEFAULT, Runtime
 
 HEADER = "id,substance,phase,form,log_base,pressure_unit,A,B,C,t_min,t_max,source"
 ROW = "r1,zinc-demo,solid,three-term,e,Pa,{A},-15000,-1.2,300,600,demo source"
@@ -105,12 +106,9 @@ def test_degc_on_a_log_linear_form_is_refused(tmp_path):
 
 
 @pytest.mark.parametrize("bulk", [False, True], ids=["small-file", "bulk-path"])
-def test_rule_problems_are_reported_not_raised(tmp_path, monkeypatch, bulk):
-    if bulk:  # large files count their ids while the columns are parsed, on two threads
-        from vpaudit.readers import table
-
-        monkeypatch.setattr(table, "_PARALLEL_ROWS", 1)
-        monkeypatch.setattr(table, "JOBS", 2)
+def test_rule_problems_are_reported_not_raised(tmp_path, bulk):
+    # large files count their ids while the columns are parsed, on two threads
+    runtime = Runtime(jobs=2, parallel_rows=1) if bulk else DEFAULT
     text = (
         HEADER
         + "\n"
@@ -121,7 +119,7 @@ def test_rule_problems_are_reported_not_raised(tmp_path, monkeypatch, bulk):
         + ROW.format(A="1").replace("demo source", "")
         + "\n"
     )
-    t = read_file(write(tmp_path / "r.csv", text))
+    t = load_table(write(tmp_path / "r.csv", text), runtime=runtime)
     rules = sorted(t.problems["rule"])
     assert rules == ["duplicate-id", "duplicate-id", "range", "source"]
 

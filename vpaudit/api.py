@@ -5,11 +5,12 @@ from __future__ import annotations
 from pathlib import Path
 
 from .readers.table import Table, load_table
+from .runtime import DEFAULT, Runtime
 
 __all__ = ["open_table"]
 
 
-def open_table(path: str | Path, normalize: bool = False) -> Table:
+def open_table(path: str | Path, normalize: bool = False, runtime: Runtime = DEFAULT) -> Table:
     """Open a table directory, a single table file, or a ``.duckdb`` store (verified against
     its manifest, see :func:`vpaudit.store.verify`).
 
@@ -19,9 +20,11 @@ def open_table(path: str | Path, normalize: bool = False) -> Table:
         Where the table is.
     normalize : bool
         Opt in to rewriting PDF look-alikes in numbers (text files only).
+    runtime : Runtime
+        Threads, and files read ahead (:mod:`vpaudit.runtime`); text files only.
     """
     if str(path).endswith((".duckdb", ".db")):
         from .store import verify
 
         return verify(path)
-    return load_table(path, normalize=normalize)
+    return load_table(path, normalize=normalize, runtime=runtime)

@@ -16,11 +16,12 @@ import numpy as np
 
 from . import checks as _checks  # noqa: F401  (registers every check)
 from ._caution import CAUTION  # the caution every report carries (re-exported)
-from .checks._context import AuditContext, threads_allowed
+from .checks._context import AuditContext
 from .checks._registry import REGISTRY, Severity, get_check, ordered
 from .checks.finding import Finding
 from .policy import Policy, load_policy
 from .readers.table import Table
+from .runtime import DEFAULT, PARALLEL_ROWS, Runtime
 
 __all__ = ["AuditResult", "audit", "audit_table", "run_checks", "CAUTION"]
 
@@ -150,6 +151,7 @@ def audit_table(
     table_path: str = "",
     progress=None,
     diagnose: int | bool = True,
+    runtime: Runtime = DEFAULT,
 ) -> AuditResult:
     """Audit a table that has been read.
 
@@ -170,6 +172,8 @@ def audit_table(
         finding's ``suggestion`` (:mod:`vpaudit.diagnose`); an integer is the most
         substances diagnosed (default :data:`vpaudit.diagnose.DIAGNOSE_LIMIT`), 0 or False
         none.
+    runtime : Runtime
+        Threads for the shared array work (:mod:`vpaudit.runtime`).
 
     Returns
     -------
@@ -182,15 +186,15 @@ def audit_table(
 
         check_substances(table, substances)  # an unknown name is an error, not "nothing found"
         table = restrict(table, set(substances))
-    ctx = AuditContext(table, policy)
+    ctx = AuditContext(table, policy, runtime)
     findings = run_checks(ctx, names, progress)
     not_checked = coverage(ctx) if len(table.records) else {}
     n_pairs = len(ctx.pairs["s"]) if any(REGISTRY[n].scope.value == "pair" for n in names) else 0
     ctx.drop_shared()  # not needed any more: the diagnosis and the output use their memory
     skipped = 0
     if diagnose:
-        if ctx.n >= PARALLEL_RECORDS:  # the diagnosis' Arrow columns cannot reuse numpy's
-            from ._memory import release_scratch
+        if ctx.n >= PARALLEL_ROWS:  # the diagnosis' Arrow columns cannot reuse numpy's
+            from .runtime import release_scratch
 
             release_scratch()
         from .diagnose import DIAGNOSE_LIMIT, attach_suggestions
@@ -268,10 +272,6 @@ def _run_one(ctx: AuditContext, name: str) -> list[Finding]:
         ]
 
 
-#: Records from which the pairs are computed on a second thread.
-PARALLEL_RECORDS = 200_000
-
-
 def _pairs_beside(ctx: AuditContext, names: list[str]):
     """Start computing the solid/liquid pairs, their crossings and both curves at the
     melting point on a second thread, and return a function that waits for them (None
@@ -288,7 +288,7 @@ def _pairs_beside(ctx: AuditContext, names: list[str]):
     for them, as the range extrema need none. An error there is left for the first pair
     check to meet and report as its ``internal-error``.
     """
-    if ctx.n < PARALLEL_RECORDS or not threads_allowed():
+    if not ctx.runtime.split(ctx.n):
         return None  # small tables, one core, or --jobs 1
     scopes = [REGISTRY[n].scope.value for n in names]
     if "pair" not in scopes or all(s == "pair" for s in scopes):

@@ -83,28 +83,21 @@ def _say(message: object = "", **kwargs) -> None:
     click.echo(visible(message, keep="\n"), **kwargs)
 
 
-#: Set by ``audit`` once its report is out and no store was written: nothing is left to
-#: do but exit (see :func:`run`).
-_DONE_WITHOUT_STORE = False
-
-
 def run() -> None:
     """The ``vpaudit`` console command: :func:`main` on ``sys.argv``.
 
-    After an audit whose report is written and which wrote no store, the process exits
-    without the interpreter's teardown, which would free the audit's objects one by one
-    (0.3 s at 10^6 substances: the findings, their evidence, the frames) only to end.
-    Output streams are flushed first. Everything else, and every in-process caller of
-    :func:`main` (tests, scripts), exits the usual way.
+    A command that raises :class:`vpaudit.runtime.FastExit` (an audit whose report is
+    written and which wrote no store) ends the process without the interpreter's teardown,
+    which would free the audit's objects one by one only to end; output streams are
+    flushed first. Everything else, and every in-process caller of :func:`main` (tests,
+    scripts, which see a plain ``SystemExit``), exits the usual way.
     """
+    from .runtime import FastExit
+
     try:
         main(standalone_mode=True)
-    except SystemExit as exc:
-        if not _DONE_WITHOUT_STORE or not isinstance(exc.code, int | None):
-            raise
-        sys.stdout.flush()
-        sys.stderr.flush()
-        os._exit(exc.code or 0)
+    except FastExit as exc:
+        exc.end_process()
 
 
 class _Group(click.Group):
@@ -152,11 +145,9 @@ def main() -> None:
     TABLE is a table directory (records/, references/, points/), a single table file, or a
     .duckdb store made by 'vpaudit import'.
     """
-    from ._memory import fewer_gc_passes, keep_freed_memory, no_huge_page_advice
+    from .runtime import process_settings
 
-    keep_freed_memory()
-    no_huge_page_advice()
-    fewer_gc_passes()
+    process_settings()
 
 
 def _progress(quiet: bool, label: str, length: int = 1):
@@ -168,11 +159,13 @@ def _progress(quiet: bool, label: str, length: int = 1):
     return click.progressbar(length=length, label=label.ljust(18), file=sys.stderr, show_eta=False)
 
 
-def _jobs(jobs: int | None) -> None:
-    if jobs is not None:
-        from .readers import table as _table
+def _runtime(jobs: int | None, ahead=None):
+    """The :class:`vpaudit.runtime.Runtime` of ``--jobs`` (one thread at the least when
+    given; one per core when not) and of the files being read ahead.
+    """
+    from .runtime import Runtime
 
-        _table.JOBS = max(1, jobs)
+    return Runtime(jobs=0 if jobs is None else max(1, jobs), ahead=ahead)
 
 
 QUIET = click.option("--quiet", "-q", is_flag=True, help="No progress display.")
@@ -263,18 +256,19 @@ def audit_cmd(
     jobs,
 ):
     """Test every record and solid/liquid pair of TABLE against thermodynamics."""
+    ahead = None
     if jobs is None or jobs > 1:  # the files are read while pandas and the rest are imported
         from .readers.files import read_ahead
 
-        read_ahead(table)
+        ahead = read_ahead(table)
     from .api import open_table
     from .auditing import audit_table
     from .policy import load_policy
     from .report import RENDERERS
 
-    _jobs(jobs)
+    runtime = _runtime(jobs, ahead)
     with _progress(quiet, "reading the table") as bar:
-        t = open_table(table, normalize=normalize_typography)
+        t = open_table(table, normalize=normalize_typography, runtime=runtime)
         if bar is not None:
             bar.update(1)
     _report_rewrites(t)
@@ -296,6 +290,7 @@ def audit_cmd(
             table_path=str(table),
             progress=step,
             diagnose=diagnose_limit,
+            runtime=runtime,
         )
     if db:
         from .store import store_table
@@ -309,9 +304,12 @@ def audit_cmd(
         else:
             store_table(t, db, str(table), result)
     _emit(RENDERERS[fmt](result), output)
-    global _DONE_WITHOUT_STORE
-    _DONE_WITHOUT_STORE = not db
-    sys.exit(EXIT_FINDINGS if result.fails(fail_on) else EXIT_OK)
+    code = EXIT_FINDINGS if result.fails(fail_on) else EXIT_OK
+    if not db:  # nothing is left to close: end without the interpreter's teardown
+        from .runtime import FastExit
+
+        raise FastExit(code)
+    sys.exit(code)
 
 
 def _has_records(t, where) -> None:
@@ -427,13 +425,12 @@ def import_cmd(table, db, normalize_typography, quiet, jobs):
     """Load TABLE into a DuckDB store, all or nothing."""
     from .store import import_table
 
-    _jobs(jobs)
-
     with _progress(quiet, "importing") as bar:
         counts = import_table(
             table,
             db,
             normalize=normalize_typography,
+            runtime=_runtime(jobs),
             report=lambda r: _say(
                 f"rewrote {r['file']}:{r['line']} [{r['column']}] {r['before']!r} -> "
                 f"{r['after']!r}",

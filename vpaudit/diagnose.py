@@ -728,7 +728,7 @@ def _audit_units(
             b += 1
         part = units[a:b]
         vt = _variant_table(table, ctx, part)
-        vctx = AuditContext(vt, ctx.policy)
+        vctx = AuditContext(vt, ctx.policy, ctx.runtime)
         with np.errstate(all="ignore"):
             found = run_checks(vctx, names) if checks else []
             mis = _misfit(vctx)

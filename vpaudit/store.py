@@ -498,11 +498,13 @@ def import_table(
     normalize: bool = False,
     report=None,
     lock_timeout: float = 30.0,
+    runtime=None,
 ) -> dict[str, int]:
     """Read, validate and load a table into the store ``db``, all or nothing.
 
     Every input is parsed and validated first; a table with any read error or rule problem
     is rejected whole (every problem listed) and the database is left exactly as it was.
+    ``runtime`` (:class:`vpaudit.runtime.Runtime`) sets the threads of the reading.
 
     Raises
     ------
@@ -515,8 +517,9 @@ def import_table(
     """
     from .errors import RecordRuleError
     from .readers.table import load_table
+    from .runtime import DEFAULT
 
-    table = load_table(path, normalize=normalize)
+    table = load_table(path, normalize=normalize, runtime=runtime or DEFAULT)
     for r in table.rewrites:
         if report:
             report(r)

@@ -9,7 +9,6 @@ from __future__ import annotations
 
 import itertools
 import math
-import os
 from functools import cached_property
 from typing import TYPE_CHECKING
 
@@ -26,8 +25,8 @@ from ..equations.engine import (
     evaluate,
     temperature_at,
 )
-from ..readers import table as _reading
 from ..readers.table import Table
+from ..runtime import DEFAULT, Runtime, SharedBlocks, in_thread
 from ._registry import REGISTRY, Severity
 from .finding import Finding
 
@@ -45,87 +44,6 @@ _WAGNER_GRID = 64
 CHUNK = 32768
 
 
-class SharedBlocks:
-    """Blocks ``[a, a + size)`` of ``range(n)`` that threads take in turn, each calling
-    ``work(slice)`` on the blocks it takes; the blocks write disjoint parts of their
-    outputs, so no two threads touch the same element.
-
-    :meth:`run` takes blocks until none is left; :meth:`wait` returns once every block
-    taken by any thread is done, and raises the first error a block raised.
-    """
-
-    def __init__(self, n: int, size: int, work) -> None:
-        import threading
-
-        self._starts = iter(range(0, n, size))
-        self._n, self._size, self._work = n, size, work
-        self._lock = threading.Condition()
-        self._busy = 0
-        self.error: BaseException | None = None
-
-    def run(self) -> None:
-        """Do blocks until none is left."""
-        while True:
-            with self._lock:
-                a = next(self._starts, None)
-                if a is None:
-                    return
-                self._busy += 1
-            try:
-                self._work(slice(a, min(self._n, a + self._size)))
-            except BaseException as exc:  # noqa: BLE001  (raised again by wait)
-                self.error = self.error or exc
-            finally:
-                with self._lock:
-                    self._busy -= 1
-                    self._lock.notify_all()
-
-    def wait(self) -> None:
-        """Return when every block taken is done; raise the first error of any."""
-        with self._lock:
-            while self._busy:
-                self._lock.wait()
-        if self.error is not None:
-            raise self.error
-
-
-#: Records from which the context's own preparation uses a second thread.
-_THREAD_RECORDS = 200_000
-
-
-def threads_allowed() -> bool:
-    """Whether ``--jobs`` (``readers.table.JOBS``; 0 for one per core) and the machine
-    allow a second thread.
-    """
-    return (_reading.JOBS or os.cpu_count() or 1) >= 2
-
-
-def _in_thread(func, *args):
-    """Start ``func(*args)`` on a thread; returns a function that waits and returns its
-    result (or raises its exception).
-    """
-    import threading
-
-    box: dict = {}
-
-    def target() -> None:
-        try:
-            box["value"] = func(*args)
-        except BaseException as exc:  # noqa: BLE001  (raised again by the waiter)
-            box["error"] = exc
-
-    thread = threading.Thread(target=target, name="vpaudit-codes", daemon=True)
-    thread.start()
-
-    def wait():
-        thread.join()
-        if "error" in box:
-            raise box["error"]
-        return box["value"]
-
-    return wait
-
-
 class AuditContext:
     """Arrays of one table, prepared for the checks.
 
@@ -141,9 +59,10 @@ class AuditContext:
         Records whose range is valid, so their curve can be evaluated over it.
     """
 
-    def __init__(self, table: Table, policy: Policy) -> None:
+    def __init__(self, table: Table, policy: Policy, runtime: Runtime = DEFAULT) -> None:
         self.table = table
         self.policy = policy
+        self.runtime = runtime
         rec = table.records
         self.n = len(rec)
         # Integer codes of the substances of records, references and points together: every
@@ -154,8 +73,8 @@ class AuditContext:
         parts = [rec["substance"], table.references["substance"], table.points["substance"]]
         self._sizes = [len(p) for p in parts]
         names_of = pd.concat([p.astype(TEXT) for p in parts], ignore_index=True)
-        if self.n >= _THREAD_RECORDS and threads_allowed():
-            self._coding = _in_thread(text_codes, names_of)
+        if runtime.split(self.n):
+            self._coding = in_thread(text_codes, names_of, name="vpaudit-codes")
         else:
             done = text_codes(names_of)
             self._coding = lambda: done

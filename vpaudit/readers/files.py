@@ -25,6 +25,7 @@ __all__ = [
     "RawFrame",
     "read_raw",
     "read_ahead",
+    "ReadAhead",
     "table_files",
     "MAX_FILE_BYTES",
     "MAX_ROWS",
@@ -769,8 +770,30 @@ class _Ahead:
         self.error: BaseException | None = None
 
 
-#: Files being read ahead, by path, until :func:`read_raw` takes them.
-_AHEAD: dict[str, _Ahead] = {}
+class ReadAhead:
+    """Files being read on a thread, by path, until :func:`read_raw` takes them."""
+
+    def __init__(self) -> None:
+        self.jobs: dict[str, _Ahead] = {}
+
+    def take(self, path: str | Path) -> RawFrame | None:
+        """The frame read ahead for ``path`` (waiting for it), or None when there is none
+        or the file has changed since its read began; raises the read's error.
+        """
+        job = self.jobs.pop(str(path), None)
+        if job is None:
+            return None
+        job.done.wait()
+        if job.stamp != _stamp(Path(path)):  # changed since: read it again
+            return None
+        if job.error is not None:
+            raise job.error
+        return job.frame
+
+    def wait(self) -> None:
+        """Wait until every file started is read (for tests)."""
+        for job in list(self.jobs.values()):
+            job.done.wait()
 
 
 def _stamp(path: Path) -> tuple[int, int] | None:
@@ -781,9 +804,10 @@ def _stamp(path: Path) -> tuple[int, int] | None:
     return (st.st_size, st.st_mtime_ns)
 
 
-def read_ahead(path: str | Path) -> None:
+def read_ahead(path: str | Path) -> ReadAhead | None:
     """Start reading the table files at ``path`` (a table directory or one file) on a
-    daemon thread, one after another, for :func:`read_raw` to take.
+    daemon thread, one after another; returns what :func:`read_raw` takes them from
+    (passed down in :class:`vpaudit.runtime.Runtime`), None when nothing was started.
 
     For the command line: ``vpaudit audit`` calls it before it imports pandas, the checks
     and the reporters (about 0.4 s), so that the files are read meanwhile, and the next
@@ -803,7 +827,7 @@ def read_ahead(path: str | Path) -> None:
     elif p.is_file() and p.suffix.lower() in SUFFIXES:
         paths = [p]
     else:
-        return
+        return None
     import pyarrow  # noqa: F401  (imported here: see above)
     import pyarrow.compute  # noqa: F401
     import pyarrow.csv  # noqa: F401
@@ -811,13 +835,14 @@ def read_ahead(path: str | Path) -> None:
     if any(SUFFIXES[f.suffix.lower()] == "parquet" for f in paths):
         import pyarrow.parquet  # noqa: F401
 
-    jobs = []
+    ahead = ReadAhead()
     for f in paths:
         stamp = _stamp(f)
-        if stamp is not None and str(f) not in _AHEAD:
-            jobs.append(_AHEAD.setdefault(str(f), _Ahead(f, stamp)))
+        if stamp is not None:
+            ahead.jobs.setdefault(str(f), _Ahead(f, stamp))
+    jobs = list(ahead.jobs.values())
     if not jobs:
-        return
+        return None
 
     def work() -> None:
         for job in jobs:
@@ -829,11 +854,12 @@ def read_ahead(path: str | Path) -> None:
                 job.done.set()
 
     threading.Thread(target=work, name="vpaudit-read-ahead", daemon=True).start()
+    return ahead
 
 
-def read_raw(path: str | Path) -> RawFrame:
-    """Read any supported table file into a :class:`RawFrame` (or take the one
-    :func:`read_ahead` read, waiting for it).
+def read_raw(path: str | Path, ahead: ReadAhead | None = None) -> RawFrame:
+    """Read any supported table file into a :class:`RawFrame` (or take the one ``ahead``
+    read, waiting for it).
 
     Raises
     ------
@@ -841,13 +867,10 @@ def read_raw(path: str | Path) -> RawFrame:
         For an unknown file ending, a file that cannot be read, or malformed content; the
         message names the file and line.
     """
-    job = _AHEAD.pop(str(path), None)
-    if job is not None:
-        job.done.wait()
-        if job.stamp == _stamp(Path(path)):  # the file has not changed since
-            if job.error is not None:
-                raise job.error
-            return job.frame
+    if ahead is not None:
+        frame = ahead.take(path)
+        if frame is not None:
+            return frame
     return _read_raw(path)
 
 

@@ -14,7 +14,6 @@ Only rows that fail get a per-row message. Two kinds of problem are kept apart:
 
 from __future__ import annotations
 
-import os
 import tomllib
 from collections.abc import Iterable
 from concurrent.futures import ThreadPoolExecutor
@@ -30,6 +29,7 @@ from .._columns import empty as blank
 from .._columns import eq, isin, lookup, text_series
 from ..equations.forms import COEFFICIENTS, FORMS
 from ..errors import Location, PolicyError, TableError, TableErrors
+from ..runtime import DEFAULT, PARALLEL_ROWS, Runtime
 from ..units import (
     ENTHALPY_UNITS,
     ENTROPY_UNITS,
@@ -247,11 +247,6 @@ def _range_message(text: str) -> str:
     return f"{text!r} cannot be read"  # pragma: no cover - both paths agree by test
 
 
-_PARALLEL_ROWS = 200_000
-#: Threads that parse the columns of one large file (``--jobs``); 0 means one per core.
-JOBS = 0
-
-
 def _column(raw: RawFrame, col: _Col, normalize: bool) -> tuple[dict[str, object], _Collector]:
     """Parse and validate one column; returns its entries and its own errors."""
     out = _Collector()
@@ -296,7 +291,11 @@ def _column(raw: RawFrame, col: _Col, normalize: bool) -> tuple[dict[str, object
 
 
 def frame_from_raw(
-    raw: RawFrame, kind: str, out: _Collector, normalize: bool = False
+    raw: RawFrame,
+    kind: str,
+    out: _Collector,
+    normalize: bool = False,
+    runtime: Runtime = DEFAULT,
 ) -> pd.DataFrame:
     """Validate and parse one raw frame of a known kind, column by column.
 
@@ -318,7 +317,7 @@ def frame_from_raw(
     n = len(raw)
     # Each column is parsed on its own (pyarrow's kernels release the GIL, so large tables
     # use both cores); errors are merged back in column order, so output is deterministic.
-    workers = JOBS or min(4, os.cpu_count() or 1)
+    workers = runtime.workers()
     ids = raw.cells.get("id") if kind == "records" else None
     distinct: list[int] = []
 
@@ -326,7 +325,7 @@ def frame_from_raw(
         if isinstance(ids, pa.Array | pa.ChunkedArray):
             distinct.append(len(pc.unique(ids)))
 
-    if n >= _PARALLEL_ROWS and workers > 1:
+    if n >= runtime.parallel_rows and workers > 1:
         with ThreadPoolExecutor(max_workers=workers) as pool:
             counted = pool.submit(count_ids)
             results = list(pool.map(lambda c: _column(raw, c, normalize), spec))
@@ -664,12 +663,18 @@ def read_file(path: str | Path, kind: str | None = None, normalize: bool = False
     return _load([Path(path)], {Path(path): kind}, normalize, root=Path(path).parent)
 
 
-def _load(paths: list[Path], kinds: dict[Path, str | None], normalize: bool, **kw) -> Table:
+def _load(
+    paths: list[Path],
+    kinds: dict[Path, str | None],
+    normalize: bool,
+    runtime: Runtime = DEFAULT,
+    **kw,
+) -> Table:
     out = _Collector()
     parts: dict[str, list[pd.DataFrame]] = {k: [] for k in KINDS}
     for path in paths:
         try:
-            raw = read_raw(path)
+            raw = read_raw(path, runtime.ahead)
         except TableError as exc:
             out.errors.append(exc)
             continue
@@ -692,17 +697,17 @@ def _load(paths: list[Path], kinds: dict[Path, str | None], normalize: bool, **k
                 )
             )
             continue
-        parts[kind].append(frame_from_raw(raw, kind, out, normalize))
+        parts[kind].append(frame_from_raw(raw, kind, out, normalize, runtime))
         del raw
     table = _finish(parts, out, files=[str(p) for p in paths], **kw)
-    if sum(len(p) for kind in KINDS for p in parts[kind]) >= _PARALLEL_ROWS:
-        from .._memory import release_scratch
+    if sum(len(p) for kind in KINDS for p in parts[kind]) >= PARALLEL_ROWS:
+        from ..runtime import release_scratch
 
         release_scratch()  # the reading's scratch space, before the audit allocates its own
     return table
 
 
-def load_table(path: str | Path, normalize: bool = False) -> Table:
+def load_table(path: str | Path, normalize: bool = False, runtime: Runtime = DEFAULT) -> Table:
     """Load a table directory or a single table file.
 
     Parameters
@@ -712,6 +717,8 @@ def load_table(path: str | Path, normalize: bool = False) -> Table:
         absent) and an optional ``vpaudit.toml``, or a single CSV/YAML/JSON/Parquet file.
     normalize : bool
         Opt in to rewriting PDF look-alikes in numbers (each rewrite is logged).
+    runtime : Runtime
+        Threads, and files read ahead (:mod:`vpaudit.runtime`).
 
     Raises
     ------
@@ -720,7 +727,7 @@ def load_table(path: str | Path, normalize: bool = False) -> Table:
     """
     p = Path(path)
     if p.is_file():
-        return read_file(p, normalize=normalize)
+        return _load([p], {p: None}, normalize, runtime, root=p.parent)
     if not p.is_dir():
         raise TableError("no such table directory or file", Location(str(path)))
     found = table_files(p)
@@ -734,7 +741,14 @@ def load_table(path: str | Path, normalize: bool = False) -> Table:
             "files",
             Location(str(path)),
         )
-    return _load(paths, kinds, normalize, policy_path=policy if policy.is_file() else None, root=p)
+    return _load(
+        paths,
+        kinds,
+        normalize,
+        runtime,
+        policy_path=policy if policy.is_file() else None,
+        root=p,
+    )
 
 
 def read_policy_file(path: Path) -> dict:

@@ -40,27 +40,27 @@ def quantiles(x):
 def report(table, label):
     ctx = AuditContext(table, Policy())
     pr = ctx.pairs
-    tm = pr["tm"]
-    cs, cl = ctx.curves.take(pr["s"]), ctx.curves.take(pr["l"])
+    tm = pr.tm
+    cs, cl = ctx.curves.take(pr.solid), ctx.curves.take(pr.liquid)
     ys, s1, _ = evaluate(cs, tm, 1)
     yl, l1, _ = evaluate(cl, tm, 1)
     d = ys - yl
     hs, hl = R * tm**2 * s1, R * tm**2 * l1
-    hfus_ref = ctx.reference("enthalpy_of_fusion", pr["s"])
-    print(f"== {label}: {len(pr['s'])} pairs")
+    hfus_ref = ctx.reference("enthalpy_of_fusion", pr.solid)
+    print(f"== {label}: {len(pr.solid)} pairs")
     print("ln P_s - ln P_l at the reference melting point:", quantiles(d))
     print("|same|:", quantiles(np.abs(d)))
-    print("crossing - melting point [K]:", quantiles(pr["T"] - tm))
+    print("crossing - melting point [K]:", quantiles(pr.t_cross - tm))
     print(
         "Hess residual (dH_sub - dH_vap - dH_fus,ref)/dH_sub:", quantiles((hs - hl - hfus_ref) / hs)
     )
     print("implied dH_fus / reference:", quantiles((hs - hl) / hfus_ref))
-    print("implied dS_fus at crossing [J/(mol K)]:", quantiles(R * pr["T"] * pr["slope_diff"]))
+    print("implied dS_fus at crossing [J/(mol K)]:", quantiles(R * pr.t_cross * pr.slope_diff))
     ex = ctx.range_extrema
     for ph in ("solid", "liquid"):
         m = ctx.liquid if ph == "liquid" else ctx.solid
-        print(f"{ph}: max implied dCp over range [J/(mol K)]:", quantiles(ex["cp_max"][m]))
-        print(f"{ph}: min implied dCp over range [J/(mol K)]:", quantiles(ex["cp_min"][m]))
+        print(f"{ph}: max implied dCp over range [J/(mol K)]:", quantiles(ex.cp_max[m]))
+        print(f"{ph}: min implied dCp over range [J/(mol K)]:", quantiles(ex.cp_min[m]))
         c = ctx.curves.take(np.flatnonzero(m))
         t = 2.0 / (1.0 / c.t_min + 1.0 / c.t_max)
         y, y1, _ = evaluate(c, t, 1)

@@ -2,6 +2,8 @@
 a second thread (large tables) or on this one, on the Alcock, Itkin & Horrigan (1984) metal
 equations as carried by the chemicals package (tests/refdata.py)."""
 
+import dataclasses
+
 import numpy as np
 import pytest
 from refdata import alcock_table
@@ -123,41 +125,40 @@ def test_an_error_in_a_shared_block_is_raised_by_wait_after_the_others_are_done(
     assert sorted(done) == [0, 10, 30, 40]
 
 
-def test_pairs_made_while_another_thread_lends_a_hand_equal_pairs_made_alone(monkeypatch):
+def test_pairs_made_while_another_thread_lends_a_hand_equal_pairs_made_alone():
     import threading
 
     table = alcock_table()
     alone = context.AuditContext(table, Policy()).pairs
-    monkeypatch.setattr(context, "CHUNK", 2)  # many blocks, so that both threads take some
-    ctx = context.AuditContext(table, Policy())
+    # many blocks, so that both threads take some
+    ctx = context.AuditContext(table, Policy(), rt.Runtime(block_rows=2))
     maker = threading.Thread(target=lambda: ctx.pairs)
     maker.start()
     for _ in range(200):
         ctx.lend_a_hand()
     maker.join()
     shared = ctx.pairs
-    assert set(shared) == set(alone)
-    for key in alone:
-        assert np.array_equal(shared[key], alone[key], equal_nan=True), key
+    for f in dataclasses.fields(alone):
+        got, want = getattr(shared, f.name), getattr(alone, f.name)
+        assert np.array_equal(got, want, equal_nan=True), f.name
 
 
-def test_curves_at_the_melting_point_taken_in_the_pair_blocks_equal_the_engine(monkeypatch):
+def test_curves_at_the_melting_point_taken_in_the_pair_blocks_equal_the_engine():
     # melting_slopes is filled block by block while the crossings are searched; it must
     # equal the engine's evaluation of every pair's two curves at the reference melting
     # point (else the crossing, else 1 K), to the bit, whatever the block size.
     from vpaudit.equations.engine import evaluate_rows
 
-    monkeypatch.setattr(context, "CHUNK", 5)
-    ctx = context.AuditContext(alcock_table(), Policy())
+    ctx = context.AuditContext(alcock_table(), Policy(), rt.Runtime(block_rows=5))
     pr, ms = ctx.pairs, ctx.melting_slopes
-    at = np.where(np.isfinite(pr["tm"]), pr["tm"], pr["T"])
+    at = np.where(np.isfinite(pr.tm), pr.tm, pr.t_cross)
     at = np.where(np.isfinite(at), at, 1.0)
-    ys, s1, _ = evaluate_rows(ctx.curves, pr["s"], at, 1)
-    yl, l1, _ = evaluate_rows(ctx.curves, pr["l"], at, 1)
+    ys, s1, _ = evaluate_rows(ctx.curves, pr.solid, at, 1)
+    yl, l1, _ = evaluate_rows(ctx.curves, pr.liquid, at, 1)
     for key, want in (("at", at), ("ys", ys), ("s1", s1), ("yl", yl), ("l1", l1)):
-        assert np.array_equal(ms[key], want, equal_nan=True), key
+        assert np.array_equal(getattr(ms, key), want, equal_nan=True), key
     ctx.drop_shared()  # made again, with the pairs
-    assert np.array_equal(ctx.melting_slopes["s1"], s1, equal_nan=True)
+    assert np.array_equal(ctx.melting_slopes.s1, s1, equal_nan=True)
 
 
 def test_the_critical_temperature_cut_is_skipped_only_where_it_cuts_nothing():
@@ -198,17 +199,19 @@ def test_the_critical_temperature_cut_is_skipped_only_where_it_cuts_nothing():
         skipped = ctx.extrema_over_ranges()
         ctx.__dict__["any_critical"] = True  # the cut taken with every Tc unknown
         taken = ctx.extrema_over_ranges()
-    assert np.isfinite(skipped["cp_hi"]).all()
-    for key in skipped:
-        np.testing.assert_array_equal(skipped[key], taken[key], err_msg=key)
+    assert np.isfinite(skipped.cp_hi).all()
+    for f in dataclasses.fields(skipped):
+        np.testing.assert_array_equal(
+            getattr(skipped, f.name), getattr(taken, f.name), err_msg=f.name
+        )
 
     ctx = context.AuditContext(table_from_rows(records, [boiling, tc]), Policy())
     assert ctx.any_critical
     with np.errstate(all="ignore"):
         cut = ctx.extrema_over_ranges()
-    assert cut["cp_hi"][2] == pytest.approx(0.7 * 600.0)
+    assert cut.cp_hi[2] == pytest.approx(0.7 * 600.0)
     others = [0, 1, 3, 4, 5]
-    np.testing.assert_array_equal(cut["cp_hi"][others], skipped["cp_hi"][others])
+    np.testing.assert_array_equal(cut.cp_hi[others], skipped.cp_hi[others])
 
 
 def test_jobs_1_hashes_the_codes_on_this_thread(monkeypatch):

@@ -1,12 +1,15 @@
 """The crossing search: the four-point path for log-linear pairs gives the grid scan's
 results (issue: the vectorized checks must equal the straightforward ones)."""
 
+import dataclasses
+
 import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from vpaudit.checks._context import _crossings
+from vpaudit.checks.extrema import sampled
+from vpaudit.checks.pairs import crossings
 from vpaudit.equations.engine import Curves
 
 TOL = 0.05  # the default melting-point tolerance in ln P
@@ -28,8 +31,8 @@ def _pairs(liquid: np.ndarray, diff: np.ndarray) -> tuple[Curves, Curves]:
 
 
 def _both(cs, cl, anchor):
-    fast = _crossings(cs, cl, anchor, WINDOW, GRID, TOL, exact=True)
-    scan = _crossings(cs, cl, anchor, WINDOW, GRID, TOL, exact=False)
+    fast = crossings(cs, cl, anchor, WINDOW, GRID, TOL, exact=True)
+    scan = crossings(cs, cl, anchor, WINDOW, GRID, TOL, exact=False)
     return fast, scan
 
 
@@ -97,13 +100,13 @@ def test_pairs_outside_the_shortcut_still_take_the_scan():
     diff = np.array([[0.0, -800.0, 0.0], [0.0, -800.0, 0.0]])
     cs, cl = _pairs(liquid, diff)
     anchor = np.array([1000.0, 1000.0])
-    ref = _crossings(cs, cl, anchor, WINDOW, GRID, TOL, exact=False)
+    ref = crossings(cs, cl, anchor, WINDOW, GRID, TOL, exact=False)
     fam = cl.family.copy()
     fam[1] = 1  # pretend the second liquid is an Antoine curve: A - B/(T + C) with C = 0
     p = cl.params.copy()
     p[1] = [21.0, 4000.0, 0.0, 0, 0, 0, 0, 0]  # the same curve written as Antoine
     cl2 = Curves(fam, p, cl.t_min, cl.t_max)
-    got = _crossings(cs, cl2, anchor, WINDOW, GRID, TOL, exact=True)
+    got = crossings(cs, cl2, anchor, WINDOW, GRID, TOL, exact=True)
     for a, b in zip(got, ref, strict=True):
         np.testing.assert_allclose(a, b, rtol=1e-9)
 
@@ -112,7 +115,6 @@ def test_closed_form_range_ends_equal_the_general_evaluation():
     """Range extrema of log-linear curves without a D term are taken in closed form
     (dH = R (C T - B), dCp = R C); they must equal the engine's analytic derivatives
     (dH = R T^2 y', dCp = R (2 T y' + T^2 y'')) at the same temperatures."""
-    from vpaudit.checks._context import AuditContext
     from vpaudit.constants import R
     from vpaudit.equations.engine import evaluate
 
@@ -125,7 +127,7 @@ def test_closed_form_range_ends_equal_the_general_evaluation():
     lo = rng.uniform(100, 2000, k)
     hi = lo * rng.uniform(1.05, 3.0, k)
     curves = Curves(np.zeros(k, dtype=np.int8), params, lo, hi)
-    h, ts, y, cp = AuditContext._sampled(curves, lo, hi)
+    h, ts, y, cp = sampled(curves, lo, hi)
     yy, y1, y2 = evaluate(curves, ts)
     assert np.array_equal(y, yy)  # the same operations: the same bits
     np.testing.assert_allclose(h, R * ts * ts * y1, rtol=1e-9)
@@ -135,10 +137,9 @@ def test_closed_form_range_ends_equal_the_general_evaluation():
 
 def test_range_sampling_of_no_curves_is_empty():
     """An empty block of curves gives empty samples, not an error."""
-    from vpaudit.checks._context import AuditContext
 
     c = Curves(np.zeros(0, np.int8), np.zeros((0, 8)), np.zeros(0), np.zeros(0))
-    h, ts, y, cp = AuditContext._sampled(c, c.t_min, c.t_max)
+    h, ts, y, cp = sampled(c, c.t_min, c.t_max)
     assert h.shape == ts.shape == y.shape == cp.shape == (0, 2)
 
 
@@ -189,7 +190,8 @@ def test_range_extrema_in_closed_form_equal_the_blockwise_reductions():
     with np.errstate(all="ignore"):
         fast = ctx.extrema_over_ranges(closed_form=True)
         blocks = ctx.extrema_over_ranges(closed_form=False)
-    assert np.isfinite(fast["cp_hi"]).sum() > 100  # the dCp part is exercised
-    assert (fast["cp_hi"] < ctx.curves.t_max).sum() > 50  # cut by 10 kPa or 0.7 Tc
-    for key in blocks:
-        np.testing.assert_array_equal(fast[key], blocks[key], err_msg=key)
+    assert np.isfinite(fast.cp_hi).sum() > 100  # the dCp part is exercised
+    assert (fast.cp_hi < ctx.curves.t_max).sum() > 50  # cut by 10 kPa or 0.7 Tc
+    for f in dataclasses.fields(blocks):
+        key = f.name
+        np.testing.assert_array_equal(getattr(fast, key), getattr(blocks, key), err_msg=key)

@@ -44,8 +44,8 @@ def test_record_findings_together_equal_one_at_a_time(ctx):
 
 
 def test_pair_findings_together_equal_one_at_a_time(ctx):
-    ks = np.arange(len(ctx.pairs["s"]))[::3]
-    t = ctx.pairs["T"][ks]
+    ks = np.arange(len(ctx.pairs.solid))[::3]
+    t = ctx.pairs.t_cross[ks]
     messages = [f"pair {k}" for k in ks]
     together = ctx.pair_findings(
         "melting-point-mismatch", ks, messages, {"crossing_K": t}, severity=Severity.note

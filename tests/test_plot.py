@@ -23,7 +23,7 @@ def test_png_and_svg_are_written_and_the_crossing_is_the_audited_one(tmp_path, s
     pr = ctx.pairs
     audited = {
         (ctx.id(s), ctx.id(lq)): t
-        for s, lq, t in zip(pr["s"], pr["l"], pr["T"], strict=True)
+        for s, lq, t in zip(pr.solid, pr.liquid, pr.t_cross, strict=True)
         if ctx.substance_of(s) == "kestrium" and np.isfinite(t)
     }
     plotted = {c["records"]: c["T_K"] for c in drawn["crossings"]}

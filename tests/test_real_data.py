@@ -33,10 +33,10 @@ def test_alcock_pairs_agree_at_the_crc_melting_points(alcock):
     # the calibrated tolerance of 0.05 for every checkable pair (measured max: 0.033, Er).
     ctx = AuditContext(alcock, Policy())
     pr = ctx.pairs
-    ok = pr["checkable"]
+    ok = pr.checkable
     assert ok.sum() == 32  # Pu is not checkable: its solid equation ends at 600 K
-    ys = evaluate(ctx.curves.take(pr["s"][ok]), pr["tm"][ok], 0)[0]
-    yl = evaluate(ctx.curves.take(pr["l"][ok]), pr["tm"][ok], 0)[0]
+    ys = evaluate(ctx.curves.take(pr.solid[ok]), pr.tm[ok], 0)[0]
+    yl = evaluate(ctx.curves.take(pr.liquid[ok]), pr.tm[ok], 0)[0]
     assert np.abs(ys - yl).max() < 0.05
     assert np.median(np.abs(ys - yl)) < 0.01
 
@@ -64,12 +64,12 @@ def test_alcock_hess_residuals_relative_to_sublimation(alcock):
     # |dH_sub - dH_vap - dH_fus| / dH_sub below the 3 % default (measured max 2.3 %).
     ctx = AuditContext(alcock, Policy())
     pr = ctx.pairs
-    ok = pr["checkable"]
-    tm = pr["tm"][ok]
-    _, s1, _ = evaluate(ctx.curves.take(pr["s"][ok]), tm, 1)
-    _, l1, _ = evaluate(ctx.curves.take(pr["l"][ok]), tm, 1)
+    ok = pr.checkable
+    tm = pr.tm[ok]
+    _, s1, _ = evaluate(ctx.curves.take(pr.solid[ok]), tm, 1)
+    _, l1, _ = evaluate(ctx.curves.take(pr.liquid[ok]), tm, 1)
     hs, hl = R * tm**2 * s1, R * tm**2 * l1
-    ref = ctx.reference("enthalpy_of_fusion", pr["s"][ok])
+    ref = ctx.reference("enthalpy_of_fusion", pr.solid[ok])
     assert np.nanmax(np.abs(hs - hl - ref) / hs) < 0.03
 
 
@@ -82,13 +82,13 @@ def test_water_triple_point_from_the_iapws_curves():
     table = table_from_rows([solid, liquid], refs)
     ctx = AuditContext(table, Policy())
     pr = ctx.pairs
-    t = pr["T"][0]
-    tol_k = (rs + rl) / pr["slope_diff"][0]
+    t = pr.t_cross[0]
+    tol_k = (rs + rl) / pr.slope_diff[0]
     assert abs(t - 273.16) < max(tol_k, 0.01)
     # P_tp 611.657 Pa (IAPWS R14-08); measured -2.4e-4 relative, from the 0.003 K shift
-    assert math.exp(pr["y"][0]) == pytest.approx(611.657, rel=5e-4)
+    assert math.exp(pr.y_cross[0]) == pytest.approx(611.657, rel=5e-4)
     # implied dH_fus = R T^2 d(y_s - y_l)/dT against the IAPWS value (6.01 kJ/mol), 1 %
-    assert R * t * t * pr["slope_diff"][0] == pytest.approx(water_fusion(), rel=1e-2)
+    assert R * t * t * pr.slope_diff[0] == pytest.approx(water_fusion(), rel=1e-2)
     result = audit_table(table)
     assert [f for f in result.findings if f.severity.value != "note"] == []
 

@@ -6,7 +6,7 @@ end of the bracket."""
 import numpy as np
 from scipy.optimize import brentq
 
-from vpaudit.checks._context import _newton_from_end
+from vpaudit.checks.pairs import newton_from_end
 from vpaudit.equations.engine import bracketed_root
 
 
@@ -63,7 +63,7 @@ def test_roots_at_the_end_of_the_bracket_are_found_without_bisecting_to_them():
 
 
 def test_newton_from_the_outer_end_equals_brent_on_convex_and_concave_curves():
-    # _newton_from_end: both sides of the extreme point of convex (C > 0) and concave
+    # newton_from_end: both sides of the extreme point of convex (C > 0) and concave
     # (C < 0) curves, including near-double roots (the extreme value just past zero).
     rng = np.random.default_rng(8)
     k = 4000
@@ -79,7 +79,7 @@ def test_newton_from_the_outer_end_equals_brent_on_convex_and_concave_curves():
         ref = _brent(a, b, c, lo, hi)
         has = np.isfinite(ref)
         assert has.sum() > 0.8 * k
-        got = _newton_from_end(a[has], b[has], c[has], start[has], other[has])
+        got = newton_from_end(a[has], b[has], c[has], start[has], other[has])
         # near a double root the root itself is ill-conditioned (g' -> 0): there the two
         # agree in the residual, elsewhere in the root
         well = np.abs(depth[has]) > 1e-6

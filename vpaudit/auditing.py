@@ -189,7 +189,7 @@ def audit_table(
     ctx = AuditContext(table, policy, runtime)
     findings = run_checks(ctx, names, progress)
     not_checked = coverage(ctx) if len(table.records) else {}
-    n_pairs = len(ctx.pairs["s"]) if any(REGISTRY[n].scope.value == "pair" for n in names) else 0
+    n_pairs = len(ctx.pairs.solid) if any(REGISTRY[n].scope.value == "pair" for n in names) else 0
     ctx.drop_shared()  # not needed any more: the diagnosis and the output use their memory
     skipped = 0
     if diagnose:

@@ -499,9 +499,9 @@ def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
     # solid/liquid pairs at the reference melting point, and Hess's law at the crossing
     pr = ctx.pairs
     tol = policy.thresholds("melting-point-mismatch")["tolerance"]
-    has_tm = np.isfinite(pr["tm"])
+    has_tm = np.isfinite(pr.tm)
     if has_tm.any():
-        s, lq, tm = pr["s"][has_tm], pr["l"][has_tm], pr["tm"][has_tm]
+        s, lq, tm = pr.solid[has_tm], pr.liquid[has_tm], pr.tm[has_tm]
         d = (
             evaluate(ctx.curves.take(s), tm, order=0)[0]
             - evaluate(ctx.curves.take(lq), tm, order=0)[0]
@@ -510,13 +510,13 @@ def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
         # a solid range usually ends, and a liquid range starts, at the melting point
         gap = np.abs(ctx.curves.t_max[s] - tm) + np.abs(ctx.curves.t_min[lq] - tm)
         add(ctx.codes[s], gap / (0.05 * tm))
-    hfus = ctx.reference("enthalpy_of_fusion", pr["s"])
-    cross = np.isfinite(pr["T"]) & np.isfinite(hfus)
+    hfus = ctx.reference("enthalpy_of_fusion", pr.solid)
+    cross = np.isfinite(pr.t_cross) & np.isfinite(hfus)
     if cross.any():
-        s, t = pr["s"][cross], pr["T"][cross]
+        s, t = pr.solid[cross], pr.t_cross[cross]
         _, ys1, _ = evaluate(ctx.curves.take(s), t, order=1)
         h_sub = R * t * t * ys1
-        resid = (R * t * t * pr["slope_diff"][cross] - hfus[cross]) / np.abs(h_sub)
+        resid = (R * t * t * pr.slope_diff[cross] - hfus[cross]) / np.abs(h_sub)
         hess = policy.thresholds("fusion-enthalpy-mismatch")
         add(ctx.codes[s], resid / (0.5 * hess.get("tolerance", 0.03)))
     rows = np.flatnonzero(ctx.evaluable)
@@ -667,38 +667,38 @@ def _hard_failures(vctx: AuditContext, unit_of_code: np.ndarray, n: int) -> list
     factor = np.where(vctx.antoine, th["antoine_factor"], 1.0)
     with np.errstate(invalid="ignore"):
         finite = (
-            np.isfinite(ex["y_min"])
-            & np.isfinite(ex["y_max"])
-            & (np.abs(ex["y_min"]) <= lim)
-            & (np.abs(ex["y_max"]) <= lim)
+            np.isfinite(ex.y_min)
+            & np.isfinite(ex.y_max)
+            & (np.abs(ex.y_min) <= lim)
+            & (np.abs(ex.y_max) <= lim)
         )
         errors = (ev & ~finite).astype(int) * (vctx.severity("pressure-not-finite") is not None)
-        errors += (ev & ~(ex["h_min"] > 0)).astype(int) * (
+        errors += (ev & ~(ex.h_min > 0)).astype(int) * (
             vctx.severity("slope-not-positive") is not None
         )
         cp_on = vctx.severity("heat-capacity-sign") is not None
-        cp_err = ev & (ex["cp_max"] > th["error_above"] * factor) & cp_on
-        cp_warn = ev & (ex["cp_max"] > th["tolerance"] * factor) & ~cp_err & cp_on
+        cp_err = ev & (ex.cp_max > th["error_above"] * factor) & cp_on
+        cp_warn = ev & (ex.cp_max > th["tolerance"] * factor) & ~cp_err & cp_on
     errors = (errors + cp_err).astype(float)
     warnings = cp_warn.astype(float)
     # the pair checks no-crossing and melting-point-mismatch, counted at the solid record
     pr = vctx.pairs
     tol = vctx.thresholds("melting-point-mismatch")["tolerance"]
     with np.errstate(invalid="ignore"):
-        fails = {"no-crossing": pr["checkable"] & (pr["crossings"] == 0)}
-        at = np.flatnonzero(pr["checkable"] & np.isfinite(pr["tm"]))
+        fails = {"no-crossing": pr.checkable & (pr.crossings == 0)}
+        at = np.flatnonzero(pr.checkable & np.isfinite(pr.tm))
         d = (
-            evaluate(vctx.curves.take(pr["s"][at]), pr["tm"][at], 0)[0]
-            - evaluate(vctx.curves.take(pr["l"][at]), pr["tm"][at], 0)[0]
+            evaluate(vctx.curves.take(pr.solid[at]), pr.tm[at], 0)[0]
+            - evaluate(vctx.curves.take(pr.liquid[at]), pr.tm[at], 0)[0]
         )
-        mm = np.zeros(pr["s"].size, dtype=bool)
+        mm = np.zeros(pr.solid.size, dtype=bool)
         mm[at] = ~(np.abs(d) <= tol)
         fails["melting-point-mismatch"] = mm
     for name, bad in fails.items():
         sev = vctx.severity(name)
         if sev is not None and sev.rank >= 1:
             target = errors if sev is Severity.error else warnings
-            np.add.at(target, pr["s"][bad], 1.0)
+            np.add.at(target, pr.solid[bad], 1.0)
     unit = np.where(vctx.codes >= 0, unit_of_code[np.maximum(vctx.codes, 0)], -1)
     ok = unit >= 0
     e = np.bincount(unit[ok], weights=errors[ok], minlength=n).astype(int)

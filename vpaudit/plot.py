@@ -146,28 +146,30 @@ def plot_substance(table: Table, substance: str, path: str | Path, unit: str = "
         drawn.append(ctx.id(i))
     pr = ctx.pairs
     crossings = []
-    for k in range(len(pr["s"])):
-        t = pr["T"][k]
+    for k in range(len(pr.solid)):
+        t = pr.t_cross[k]
         if not math.isfinite(t):
             continue
-        ax.plot([1000.0 / t], [pr["y"][k]], marker="X", ms=11, color="black", zorder=5, ls="none")
+        ax.plot(
+            [1000.0 / t], [pr.y_cross[k]], marker="X", ms=11, color="black", zorder=5, ls="none"
+        )
         label = (
             f"crossing {t:.5g} K"
-            if len(pr["s"]) == 1
-            else f"{ctx.id(pr['s'][k])} x {ctx.id(pr['l'][k])}: {t:.5g} K"
+            if len(pr.solid) == 1
+            else f"{ctx.id(pr.solid[k])} x {ctx.id(pr.liquid[k])}: {t:.5g} K"
         )
         ax.annotate(
             _plain(label),
-            (1000.0 / t, pr["y"][k]),
+            (1000.0 / t, pr.y_cross[k]),
             xytext=(8, -14),
             textcoords="offset points",
             fontsize=9,
         )
         crossings.append(
             {
-                "records": (ctx.id(pr["s"][k]), ctx.id(pr["l"][k])),
+                "records": (ctx.id(pr.solid[k]), ctx.id(pr.liquid[k])),
                 "T_K": t,
-                "lnP": float(pr["y"][k]),
+                "lnP": float(pr.y_cross[k]),
             }
         )
     _references(ax, ctx)

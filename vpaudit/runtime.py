@@ -24,6 +24,7 @@ if TYPE_CHECKING:
 
 __all__ = [
     "PARALLEL_ROWS",
+    "BLOCK_ROWS",
     "Runtime",
     "DEFAULT",
     "SharedBlocks",
@@ -37,6 +38,10 @@ __all__ = [
 #: below it, starting threads costs more than it saves.
 PARALLEL_ROWS = 200_000
 
+#: Rows per block of the (rows x grid) array work: keeps temporaries below glibc's dynamic
+#: mmap threshold (32 MB), so they are reused instead of page-faulted anew.
+BLOCK_ROWS = 32768
+
 
 @dataclass(frozen=True)
 class Runtime:
@@ -49,6 +54,9 @@ class Runtime:
     parallel_rows : int
         Rows from which work is split across threads (:data:`PARALLEL_ROWS`; the tests set
         it to 0 to run the threaded paths on small tables).
+    block_rows : int
+        Rows per block of the array work (:data:`BLOCK_ROWS`; the tests make blocks small
+        so that both threads take some).
     ahead : ReadAhead, optional
         Files being read on a thread since before the command imported the rest
         (:func:`vpaudit.readers.files.read_ahead`), for the readers to take.
@@ -56,6 +64,7 @@ class Runtime:
 
     jobs: int = 0
     parallel_rows: int = PARALLEL_ROWS
+    block_rows: int = BLOCK_ROWS
     ahead: ReadAhead | None = None
 
     def workers(self) -> int:

@@ -17,31 +17,26 @@ import pandas as pd
 import pyarrow as pa
 
 from .._columns import TEXT, codes, eq, text_codes
-from ..constants import R
 from ..equations.engine import (
     Curves,
-    bracketed_root,
     curves_from_frame,
-    evaluate,
-    temperature_at,
 )
 from ..readers.table import Table
 from ..runtime import DEFAULT, Runtime, SharedBlocks, in_thread
 from ._registry import REGISTRY, Severity
+from .extrema import RangeExtrema, extrema_over_ranges
 from .finding import Finding
+from .joins import match, same_key_pairs
+from .pairs import MeltingSlopes, Pairs, find_pairs
 
 if TYPE_CHECKING:
     from ..policy import Policy
 
-__all__ = ["AuditContext", "P_STANDARD", "LN_P_STANDARD"]
+__all__ = ["AuditContext", "P_STANDARD", "LN_P_STANDARD", "match", "same_key_pairs"]
 
 #: Standard pressure of the normal boiling point and of Trouton's rule. [Pa]
 P_STANDARD = 101325.0
 LN_P_STANDARD = float(np.log(P_STANDARD))
-_WAGNER_GRID = 64
-#: Rows per block of the (rows x grid) array work: keeps temporaries below glibc's
-#: dynamic mmap threshold (32 MB), so they are reused instead of page-faulted anew.
-CHUNK = 32768
 
 
 class AuditContext:
@@ -98,7 +93,7 @@ class AuditContext:
         self.evaluable = ok
         self._severities: dict[str, Severity] = {}
         self._pair_blocks: SharedBlocks | None = None
-        self._melting: dict[str, np.ndarray] | None = None
+        self._melting: MeltingSlopes | None = None
 
     # --- substance codes ------------------------------------------------------------------
     def _coded(self) -> tuple[np.ndarray, np.ndarray, np.ndarray, pa.Array]:
@@ -404,7 +399,7 @@ class AuditContext:
         """
         pr = self.pairs
         ks = np.asarray(ks, dtype=np.int64)
-        s, lq = pr["s"][ks], pr["l"][ks]
+        s, lq = pr.solid[ks], pr.liquid[ks]
         records = list(zip(self.ids(s), self.ids(lq), strict=True))
         return self.findings(check, s, messages, evidence, records, severity)
 
@@ -414,242 +409,37 @@ class AuditContext:
 
     # --- per-record quantities over the validity range -----------------------------------
     @cached_property
-    def range_extrema(self) -> dict[str, np.ndarray]:
+    def range_extrema(self) -> RangeExtrema:
         """:meth:`extrema_over_ranges`, computed once."""
         return self.extrema_over_ranges()
 
-    def extrema_over_ranges(self, closed_form: bool = True) -> dict[str, np.ndarray]:
-        """Exact extrema of dH(T), dCp(T) and ln P over each record's range.
-
-        dH and ln P are taken over the whole range. dCp is taken only over the part where the
-        vapour is near-ideal, P <= ``max_pressure`` of ``heat-capacity-sign`` (10 kPa by
-        default) and T <= 0.7 Tc where Tc is known: above, the slope gives dH/dZ, whose
-        temperature derivative is not dCp (physics notes, section 2). Keys ``cp_lo``/``cp_hi``
-        give that sub-range; NaN where the record has none.
-
-        Log-linear and Antoine curves: ends of the range plus the analytic stationary points
-        (dH is stationary where dCp = 0: T^E = -C/(D E (E+1)); the Antoine dCp where
-        T = C'/2). Wagner curves: a 64-point grid plus the ends. Log-linear curves without a
-        D term (the common case) are reduced in closed form over whole columns
-        (:func:`_plain_extrema`); ``closed_form=False`` sends them through the blocks like the
-        others (for the test that compares the two).
+    def extrema_over_ranges(self, closed_form: bool = True) -> RangeExtrema:
+        """:func:`vpaudit.checks.extrema.extrema_over_ranges` of this table's records, dCp
+        taken up to ``max_pressure`` of ``heat-capacity-sign`` and 0.7 Tc.
         """
-        n = self.n
-        out = {
-            k: np.full(n, np.nan)
-            for k in (
-                "h_min",
-                "h_min_T",
-                "h_max",
-                "y_min",
-                "y_max",
-                "cp_min",
-                "cp_min_T",
-                "cp_max",
-                "cp_max_T",
-                "cp_lo",
-                "cp_hi",
-            )
-        }
-        rows = np.flatnonzero(self.evaluable)
-        if rows.size == 0:
-            return out
-        c = self.curves if rows.size == n else self.curves.take(rows)  # no copy when all are
-        ln_p_max = np.log(self.policy.thresholds("heat-capacity-sign")["max_pressure"])
-        y_lo = np.empty(rows.size)
-        y_hi = np.empty(rows.size)
-        simple = (c.family == 0) & (c.params[:, 3] == 0)  # log-linear without a D term
-        plain = np.flatnonzero(simple) if closed_form else None
-        if plain is not None:  # in blocks too: fresh pages cost more than the arithmetic
-            for a in range(0, plain.size, CHUNK):
-                part = plain[a : a + CHUNK]
-                y_lo[part], y_hi[part] = _plain_extrema(c, part, rows[part], out)
-        blocks = list(_blocks(c, simple, plain=not closed_form))
-        for part in blocks:  # one block at a time: temporaries stay block-sized
-            cb = c.take(part)
-            r = rows[part]
-            h, ts, y, _ = self._sampled(cb, cb.t_min, cb.t_max, need_cp=False)
-            k = np.arange(part.size)
-            with np.errstate(invalid="ignore"):
-                hm = np.argmin(np.where(np.isnan(h), np.inf, h), axis=1)
-                out["h_min"][r] = np.where(np.isnan(h).any(axis=1), np.nan, h[k, hm])
-                out["h_min_T"][r] = ts[k, hm]
-                out["h_max"][r] = np.nanmax(np.where(np.isnan(h), -np.inf, h), axis=1)
-                finite = np.isfinite(y).all(axis=1)
-                out["y_min"][r] = np.where(finite, y.min(axis=1), np.nan)
-                out["y_max"][r] = np.where(finite, y.max(axis=1), np.nan)
-            wagner = cb.family[0] == 2  # a block holds one kind of curve (_blocks)
-            y_lo[part] = y[:, 0]  # the ends are sampled first (a grid: first and last)
-            y_hi[part] = y[:, -1] if wagner else y[:, 1]
-        # The near-ideal part of the range, for dCp: up to where P reaches the limit (solved
-        # for all records at once: the root finder's cost is per call, not per record).
-        hi = c.t_max.copy()
-        with np.errstate(invalid="ignore"):
-            straddle = np.flatnonzero((y_lo <= ln_p_max) & (y_hi > ln_p_max))
-        if straddle.size:
-            t_cut = temperature_at(c.take(straddle), ln_p_max)
-            hi[straddle] = np.where(np.isfinite(t_cut), t_cut, c.t_max[straddle])
-        if self.any_critical:  # else every Tc is NaN and fmin keeps hi
-            hi = np.fmin(hi, 0.7 * self.critical_temperature()[rows])
-        with np.errstate(invalid="ignore"):
-            ideal = (y_lo <= ln_p_max) & (hi > c.t_min)
-        if plain is not None and plain.size:  # dCp = R C: the same at every temperature
-            sub = plain[ideal[plain]]
-            rs = rows[sub]
-            cp = R * c.params[sub, 2]
-            lo_t = c.t_min[sub]
-            out["cp_min"][rs] = out["cp_max"][rs] = cp
-            out["cp_min_T"][rs] = out["cp_max_T"][rs] = lo_t  # the first, as argmin takes
-            out["cp_lo"][rs], out["cp_hi"][rs] = lo_t, hi[sub]
-        for part in blocks:
-            sub = part[ideal[part]]
-            if not sub.size:
-                continue
-            cs = c.take(sub)
-            _, tcp, _, cp = self._sampled(cs, cs.t_min, hi[sub], need_h=False)
-            j = np.arange(sub.size)
-            with np.errstate(invalid="ignore"):
-                lo_i = np.argmin(np.where(np.isnan(cp), np.inf, cp), axis=1)
-                hi_i = np.argmax(np.where(np.isnan(cp), -np.inf, cp), axis=1)
-            rs = rows[sub]
-            out["cp_min"][rs], out["cp_min_T"][rs] = cp[j, lo_i], tcp[j, lo_i]
-            out["cp_max"][rs], out["cp_max_T"][rs] = cp[j, hi_i], tcp[j, hi_i]
-            out["cp_lo"][rs], out["cp_hi"][rs] = cs.t_min, hi[sub]
-        return out
-
-    @staticmethod
-    def _sampled(
-        c: Curves, lo: np.ndarray, hi: np.ndarray, need_h: bool = True, need_cp: bool = True
-    ):
-        """dH, the temperatures, ln P and dCp at the candidate extrema of each curve in
-        [lo, hi]: the ends (columns 0 and 1, or first and last for a grid) and the analytic
-        stationary points; Wagner curves get a grid (66 columns) and are evaluated apart, so
-        other forms do not pay for it.
-
-        Where no curve has a stationary point in its form (a log-linear curve without a D
-        term, the common case) the ends alone are taken, in closed form: dH = R (C T - B)
-        is linear in T and dCp = R C constant, so nothing but ln P needs a logarithm. The
-        quantities not asked for (``need_h``, ``need_cp``) are None on that path.
-        """
-        m = c.family.size
-        p = c.params
-        if not (c.family != 0).any() and not p[:, 3].any():  # also the empty case
-            ts = np.column_stack([lo, hi])
-            a, b, cc = (p[:, i : i + 1] for i in range(3))
-            with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-                y = a + b * (1.0 / ts) + cc * np.log(ts)  # as the engine evaluates it
-                h = R * (cc * ts - b) if need_h else None
-                cp = np.broadcast_to(R * cc, ts.shape) if need_cp else None
-            return h, ts, y, cp
-        wag = c.family == 2
-        if wag.any():
-            width = _WAGNER_GRID + 2
-            ts = np.empty((m, width))
-            frac = np.linspace(0.0, 1.0, width)[None, :]
-            ts[wag] = lo[wag, None] + (hi - lo)[wag, None] * frac
-        rest = ~wag
-        if rest.any():
-            p = p[rest]
-            fam = c.family[rest]
-            with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-                dee = p[:, 3] * p[:, 4] * (p[:, 4] + 1.0)
-                t_h = np.where((fam == 0) & (dee != 0), (-p[:, 2] / dee) ** (1.0 / p[:, 4]), np.nan)
-                t_cp = np.where(fam == 1, p[:, 2] / 2.0, np.nan)
-            l_r, h_r = lo[rest], hi[rest]
-            inner = [t for t in (t_h, t_cp) if not np.isnan(t).all()]
-            cand = np.column_stack([l_r, h_r, *inner])
-            if inner:
-                cand = np.where(np.isfinite(cand), cand, l_r[:, None])
-                cand = np.clip(cand, l_r[:, None], h_r[:, None])
-            if wag.any():
-                ts[rest] = np.pad(cand, ((0, 0), (0, ts.shape[1] - cand.shape[1])), mode="edge")
-            else:
-                ts = cand
-        y, y1, y2 = evaluate(c, ts)
-        return R * ts * ts * y1, ts, y, R * (2.0 * ts * y1 + ts * ts * y2)
+        ln_p_max = float(np.log(self.policy.thresholds("heat-capacity-sign")["max_pressure"]))
+        t_crit = self.critical_temperature() if self.any_critical else None
+        return extrema_over_ranges(
+            self.curves,
+            self.evaluable,
+            ln_p_max,
+            t_crit,
+            self.runtime.block_rows,
+            closed_form,
+        )
 
     # --- solid/liquid pairs --------------------------------------------------------------
+    # --- solid/liquid pairs --------------------------------------------------------------
     @cached_property
-    def pairs(self) -> dict[str, np.ndarray]:
-        """Every solid record whose range reaches the melting region against every liquid
-        record of the same substance, with the crossing of their curves.
-
-        Returns a dict of arrays, one entry per pair: ``s``, ``l`` (record rows), ``anchor``
-        (reference melting point, else the middle of the ranges' gap or overlap) [K],
-        ``checkable``, ``extrapolation`` (relative), ``crossings`` (sign changes in the
-        window), ``significant_crossings`` (sign changes between points where the curves
-        differ by more than the melting-point tolerance),
-        ``T`` (crossing nearest the anchor) [K], ``y`` (ln P there), ``slope_diff``
-        (d(y_s - y_l)/dT there) [1/K].
+    def pairs(self) -> Pairs:
+        """The solid/liquid pairs of the table and their crossings
+        (:func:`vpaudit.checks.pairs.find_pairs`), made once.
         """
-        p = self.policy.thresholds("no-crossing")
-        reach = self.policy.thresholds("pair-not-checkable")["max_extrapolation"]
-        rows = np.arange(self.n)
-        s, lq = same_key_pairs(
-            self.codes, rows[self.solid & self.evaluable], rows[self.liquid & self.evaluable]
-        )
-        t_max_s = self.curves.t_max[s]
-        t_min_l = self.curves.t_min[lq]
-        tm = self.melting_reference(s)
-        anchor = np.where(np.isnan(tm), 0.5 * (t_max_s + t_min_l), tm)
-        # Keep, per substance, the solids whose range reaches the melting region; a solid
-        # modification that ends far below it (it transforms before melting) is not paired.
-        if s.size:
-            best = np.full(self.n_names, -np.inf)
-            np.maximum.at(best, self.codes[s], t_max_s)
-            keep = (t_max_s >= best[self.codes[s]] - 1e-9) | (t_max_s >= anchor * (1 - reach))
-            s, lq, anchor, tm = s[keep], lq[keep], anchor[keep], tm[keep]
-            t_max_s, t_min_l = t_max_s[keep], t_min_l[keep]
-        ext_s = np.maximum(0.0, anchor - self.curves.t_max[s]) / anchor
-        ext_s = np.maximum(ext_s, np.maximum(0.0, self.curves.t_min[s] - anchor) / anchor)
-        ext_l = np.maximum(0.0, self.curves.t_min[lq] - anchor) / anchor
-        ext_l = np.maximum(ext_l, np.maximum(0.0, anchor - self.curves.t_max[lq]) / anchor)
-        extrapolation = np.maximum(ext_s, ext_l)
-        checkable = extrapolation <= reach
-        # Crossings in the window [anchor/(1+w), anchor*(1+w)], searched in x = 1/T, one
-        # block of pairs at a time: every temporary stays block-sized.
-        w = p["window"]
-        k = s.size
-        tol = self.policy.thresholds("melting-point-mismatch")["tolerance"]
-        count = np.zeros(k, dtype=np.int64)
-        significant = np.zeros(k, dtype=np.int64)
-        t_cross, y_cross, slope_diff = (np.full(k, np.nan) for _ in range(3))
+        pairs, self._melting = find_pairs(self, self._share_blocks)
+        return pairs
 
-        # both curves at the reference melting point, else at the crossing (melting_slopes),
-        # taken in the same blocks while their curves are at hand
-        melt = {key: np.empty(k) for key in ("at", "ys", "s1", "yl", "l1")}
-
-        def block(r: slice) -> None:
-            cs, cl = self.curves.take(s[r]), self.curves.take(lq[r])
-            count[r], significant[r], t_cross[r], y_cross[r], slope_diff[r] = _crossings(
-                cs, cl, anchor[r], w, int(p["grid"]), tol
-            )
-            at = np.where(np.isfinite(tm[r]), tm[r], t_cross[r])
-            melt["at"][r] = at = np.where(np.isfinite(at), at, 1.0)
-            melt["ys"][r], melt["s1"][r], _ = evaluate(cs, at, order=1)
-            melt["yl"][r], melt["l1"][r], _ = evaluate(cl, at, order=1)
-
-        # The blocks are open to another thread while they last (lend_a_hand).
-        work = self._pair_blocks = SharedBlocks(k, CHUNK, block)
-        try:
-            work.run()
-            work.wait()
-        finally:
-            self._pair_blocks = None
-        self._melting = melt
-        return {
-            "s": s,
-            "l": lq,
-            "anchor": anchor,
-            "tm": tm,
-            "checkable": checkable,
-            "extrapolation": extrapolation,
-            "crossings": count,
-            "significant_crossings": significant,
-            "T": t_cross,
-            "y": y_cross,
-            "slope_diff": slope_diff,
-        }
+    def _share_blocks(self, work: SharedBlocks | None) -> None:
+        self._pair_blocks = work
 
     def lend_a_hand(self) -> None:
         """Take blocks of the pairs' crossing search while another thread is making the
@@ -660,11 +450,10 @@ class AuditContext:
             work.run()
 
     @cached_property
-    def melting_slopes(self) -> dict[str, np.ndarray]:
-        """Both curves of every pair, ln P (``ys``, ``yl``) and d ln P/dT (``s1``, ``l1``),
-        at ``at``: the reference melting point, else the crossing (1 K where there is
-        neither; the user masks those).
-        Shared by ``melting-point-mismatch`` and ``fusion-enthalpy-mismatch``.
+    def melting_slopes(self) -> MeltingSlopes:
+        """Both curves of every pair at the reference melting point, else at the crossing
+        (:class:`vpaudit.checks.pairs.MeltingSlopes`); shared by ``melting-point-mismatch``
+        and ``fusion-enthalpy-mismatch``.
         """
         self.pairs  # noqa: B018  (made with the pairs, block by block)
         return self._melting
@@ -674,7 +463,7 @@ class AuditContext:
     ) -> Finding:
         """A finding about pair ``k`` (both record ids, located at the solid record)."""
         pr = self.pairs
-        s, lq = int(pr["s"][k]), int(pr["l"][k])
+        s, lq = int(pr.solid[k]), int(pr.liquid[k])
         return self.finding(
             check,
             s,
@@ -683,380 +472,6 @@ class AuditContext:
             records=(self.id(s), self.id(lq)),
             severity=severity,
         )
-
-
-def _crossings(
-    cs: Curves,
-    cl: Curves,
-    anchor: np.ndarray,
-    w: float,
-    grid: int,
-    tol: float,
-    exact: bool = True,
-):
-    """The crossing of each solid curve ``cs`` with its liquid curve ``cl`` nearest the
-    anchor, in the window [anchor/(1+w), anchor (1+w)]: sign changes of y_s - y_l on a grid
-    in x = 1/T, then safeguarded Newton on the bracket nearest the anchor.
-
-    Where y_s - y_l = A + B x - C ln x (both curves log-linear without a D term, the common
-    case) the grid's verdicts follow from four of its points (:func:`_convex_crossings`),
-    with the same results; ``exact=False`` scans every grid point (for the test that
-    compares the two).
-
-    Returns the number of sign changes, the number of significant ones, and at the
-    crossing its temperature [K], ln P and d(y_s - y_l)/dT [1/K] (NaN without one).
-    """
-    x_hi = (1.0 + w) / anchor
-    x_lo = 1.0 / (anchor * (1.0 + w))
-    simple, diff = _difference_curves(cs, cl)
-    d_a, d_b, d_c = (np.ascontiguousarray(diff.params[:, i]) for i in range(3))
-    k = anchor.size
-    count = np.zeros(k, dtype=np.int64)
-    significant = np.zeros(k, dtype=np.int64)
-    lo_b = np.full(k, np.nan)
-    hi_b = np.full(k, np.nan)
-    root = np.full(k, np.nan)
-    with np.errstate(invalid="ignore"):
-        fast = (
-            simple
-            & np.isfinite(diff.params[:, :3]).all(axis=1)
-            & (x_lo > 0)
-            & (x_hi > x_lo)
-            & np.isfinite(x_hi)
-        )
-    if not exact:
-        fast[:] = False
-    if fast.any():
-        f = np.flatnonzero(fast)
-        count[f], significant[f], root[f] = _convex_crossings(
-            diff.take(f), x_lo[f], x_hi[f], 1.0 / anchor[f], grid, tol
-        )
-    slow = np.flatnonzero(~fast)
-    if slow.size:
-        count[slow], significant[slow], lo_b[slow], hi_b[slow] = _scan_crossings(
-            cs.take(slow),
-            cl.take(slow),
-            simple[slow],
-            diff.take(slow),
-            x_lo[slow],
-            x_hi[slow],
-            1.0 / anchor[slow],
-            grid,
-            tol,
-        )
-
-    def fun(x, r):
-        t = 1.0 / x
-        g = np.empty(r.size)
-        dg = np.empty(r.size)
-        easy = simple[r]
-        if easy.any():  # the difference curve in x = 1/T: A + B x - C ln x
-            re, xe = r[easy], x[easy]
-            g[easy] = d_a[re] + d_b[re] * xe - d_c[re] * np.log(xe)
-            dg[easy] = d_b[re] - d_c[re] / xe
-        if (~easy).any():
-            rr, tt = r[~easy], t[~easy]
-            ys, ys1, _ = evaluate(cs.take(rr), tt, order=1)
-            yl, yl1, _ = evaluate(cl.take(rr), tt, order=1)
-            g[~easy], dg[~easy] = ys - yl, -(ys1 - yl1) * tt * tt
-        return g, dg
-
-    has = slow[count[slow] > 0]
-    if has.size:
-        root[has] = bracketed_root(lambda x, r: fun(x, has[r]), lo_b[has], hi_b[has])
-    with np.errstate(divide="ignore", invalid="ignore"):
-        t_cross = 1.0 / root
-        at = np.where(np.isnan(t_cross), anchor, t_cross)
-        ys, ys1, _ = evaluate(cs, at, order=1)
-        _, yl1, _ = evaluate(cl, at, order=1)
-    none = np.isnan(t_cross)
-    return (
-        count,
-        significant,
-        t_cross,
-        np.where(none, np.nan, ys),
-        np.where(none, np.nan, ys1 - yl1),
-    )
-
-
-def match(key_a: np.ndarray, key_b: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Every (i, j) with key_a[i] == key_b[j] (an inner join on integer keys), vectorized;
-    negative keys never match.
-    """
-    a = np.flatnonzero(key_a >= 0)
-    b = np.flatnonzero(key_b >= 0)
-    keys = np.concatenate([key_a, key_b])
-    ia, ib = same_key_pairs(keys, a, b + key_a.size)
-    return ia, ib - key_a.size
-
-
-def same_key_pairs(keys: np.ndarray, a: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Every (i, j) with i from ``a`` and j from ``b`` and keys[i] == keys[j], vectorized.
-
-    Parameters
-    ----------
-    keys : ndarray of int
-        A key per row (e.g. the substance code).
-    a, b : ndarray of int
-        Row indices of the two sides.
-
-    Returns
-    -------
-    ia, ib : ndarray of int
-        The pairs, grouped by ``a`` in its order.
-    """
-    if a.size == 0 or b.size == 0:
-        return np.empty(0, dtype=np.int64), np.empty(0, dtype=np.int64)
-    order = np.argsort(keys[b], kind="stable")
-    b_sorted = b[order]
-    kb = keys[b_sorted]
-    ka = keys[a]
-    lo = np.searchsorted(kb, ka, side="left")
-    hi = np.searchsorted(kb, ka, side="right")
-    counts = hi - lo
-    ia = np.repeat(a, counts)
-    starts = np.repeat(lo - np.concatenate(([0], np.cumsum(counts)[:-1])), counts)
-    ib = b_sorted[starts + np.arange(ia.size)]
-    return ia.astype(np.int64), ib.astype(np.int64)
-
-
-def _blocks(c: Curves, simple: np.ndarray, plain: bool = True):
-    """Index blocks of at most CHUNK rows of one kind each: log-linear curves without a D
-    term (``simple``; taken in closed form, left out with ``plain=False``), the other
-    log-linear and Antoine curves (ends and stationary points), Wagner curves (a grid).
-    """
-    wagner = c.family == 2
-    groups = [np.flatnonzero(~simple & ~wagner), np.flatnonzero(wagner)]
-    if plain:
-        groups.insert(0, np.flatnonzero(simple))
-    for group in groups:
-        for a in range(0, group.size, CHUNK):
-            yield group[a : a + CHUNK]
-
-
-def _plain_extrema(c: Curves, part: np.ndarray, rows: np.ndarray, out: dict):
-    """Range extrema of the log-linear curves ``part`` of ``c`` (no D term), whose records
-    are ``rows``, written into ``out``; returns ln P at the two ends of the ranges.
-
-    y = A + B/T + C ln T has dH = R (C T - B), linear in T, so dH and ln P (monotone
-    wherever dH keeps its sign, and taken at the ends as for the other forms) have their
-    extrema at the range ends. These are the reductions the blocks make over two sampled
-    columns, done over whole 1-D columns: the same values, to the bit, at a fraction of
-    the cost (a test compares the two paths).
-    """
-    a, b, cc = (c.params[part, i] for i in range(3))
-    lo, hi = c.t_min[part], c.t_max[part]
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        y_lo = a + b * (1.0 / lo) + cc * np.log(lo)  # as the engine evaluates it
-        y_hi = a + b * (1.0 / hi) + cc * np.log(hi)
-        h_lo = R * (cc * lo - b)
-        h_hi = R * (cc * hi - b)
-        nan_lo, nan_hi = np.isnan(h_lo), np.isnan(h_hi)
-        # argmin over (lo, hi) with NaN as +inf: the high end only where strictly lower
-        at_hi = np.where(nan_hi, np.inf, h_hi) < np.where(nan_lo, np.inf, h_lo)
-        out["h_min"][rows] = np.where(nan_lo | nan_hi, np.nan, np.where(at_hi, h_hi, h_lo))
-        out["h_min_T"][rows] = np.where(at_hi, hi, lo)
-        out["h_max"][rows] = np.maximum(
-            np.where(nan_lo, -np.inf, h_lo), np.where(nan_hi, -np.inf, h_hi)
-        )
-        finite = np.isfinite(y_lo) & np.isfinite(y_hi)
-        out["y_min"][rows] = np.where(finite, np.minimum(y_lo, y_hi), np.nan)
-        out["y_max"][rows] = np.where(finite, np.maximum(y_lo, y_hi), np.nan)
-    return y_lo, y_hi
-
-
-def _convex_crossings(diff: Curves, x_lo, x_hi, x_anchor, grid: int, tol: float):
-    """:func:`_scan_crossings` and the root nearest the anchor, for difference curves
-    g(x) = A + B x - C ln x, from four grid points instead of all.
-
-    g'' = C / x^2 keeps one sign, so g is convex (C >= 0) or concave (C < 0) and so is
-    its sampled sequence. A convex sequence falls to its smallest value and then rises:
-    it changes sign at most once on each side of that point, its points below -tol form one
-    block, and those above +tol lie before and after it. So the grid's counts follow from
-    its two ends and its extreme point, which lies at one of the two grid points beside the
-    stationary point x* = C/B (or at an end). Each sign change is then solved on its side
-    of the extreme point, and the one whose grid cell is nearest the anchor is kept, as the
-    scan keeps the bracket nearest it. Exact zeros at grid points, which the scan does not
-    count as sign changes, are the one case that can differ (a test compares both paths).
-
-    Returns
-    -------
-    count, significant : ndarray of int
-    root : ndarray
-        x = 1/T of the crossing nearest the anchor, NaN where there is none. [1/K]
-    """
-    k = x_lo.size
-    a, b, c = (np.ascontiguousarray(diff.params[:, i]) for i in range(3))
-    span = x_hi - x_lo
-    last = grid - 1
-    frac = np.linspace(0.0, 1.0, grid)
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        u = (c / b - x_lo) / span * last  # x* in grid steps
-    u = np.where(np.isfinite(u), np.clip(u, 0, last), 0.0)
-    idx = np.column_stack([np.zeros(k), np.full(k, float(last)), np.floor(u), np.ceil(u)]).astype(
-        np.int64
-    )
-    xs = x_lo[:, None] + span[:, None] * frac[idx]  # the grid's own points, bit for bit
-    with np.errstate(divide="ignore", invalid="ignore"):
-        f = ln_p_rows(diff, 1.0 / xs)  # as the scan evaluates them
-    convex = c >= 0
-    pick = np.where(convex, np.argmin(f, axis=1), np.argmax(f, axis=1))
-    rows = np.arange(k)
-    f_ext = f[rows, pick]
-    f0, f1 = f[:, 0], f[:, 1]
-    left = np.sign(f0) * np.sign(f_ext) < 0
-    right = np.sign(f_ext) * np.sign(f1) < 0
-    count = left.astype(np.int64) + right
-    with np.errstate(invalid="ignore"):
-        significant = np.where(
-            convex,
-            (f_ext < -tol) * ((f0 > tol).astype(np.int64) + (f1 > tol)),
-            (f_ext > tol) * ((f0 < -tol).astype(np.int64) + (f1 < -tol)),
-        )
-    x_ext = xs[rows, pick]
-
-    roots = np.full((k, 2), np.nan)
-    for side, has, lo, hi in ((0, left, x_lo, x_ext), (1, right, x_ext, x_hi)):
-        h = np.flatnonzero(has)
-        if h.size:
-            start, other = (lo[h], hi[h]) if side == 0 else (hi[h], lo[h])
-            roots[h, side] = _newton_from_end(a[h], b[h], c[h], start, other)
-    # the grid cell of each root, and the distance of that cell's middle to the anchor
-    with np.errstate(invalid="ignore"):
-        cell = np.clip(np.floor((roots - x_lo[:, None]) / span[:, None] * last), 0, last - 1)
-    cell = np.where(np.isfinite(cell), cell, 0).astype(np.int64)
-    x_a = x_lo[:, None] + span[:, None] * frac[cell]
-    x_b = x_lo[:, None] + span[:, None] * frac[cell + 1]
-    dist = np.where(np.isfinite(roots), np.abs(0.5 * (x_b + x_a) - x_anchor[:, None]), np.inf)
-    root = np.where(dist[:, 1] < dist[:, 0], roots[:, 1], roots[:, 0])
-    return count, significant, root
-
-
-def _newton_from_end(a, b, c, start, other, iterations: int = 40, xtol: float = 1e-14):
-    """The root of g(x) = a + b x - c ln x between ``start`` and ``other``, by Newton's
-    method from ``start``, for a g that is convex or concave on the bracket with g(start)
-    on the side of its curvature (g(start) g'' > 0).
-
-    Fourier's condition: from such an end the tangent lies between the curve and the
-    chord, so each Newton step lands between the current point and the root, and the
-    iterates approach the root monotonically without leaving the bracket. No safeguard is
-    needed, so a step is six array operations instead of the twenty of
-    :func:`bracketed_root`, which takes over for a row that has not converged after
-    ``iterations`` steps (a near-double root, where Newton is slow), from its last
-    iterate. In :func:`_convex_crossings` a bracket always starts from its outer end: the
-    extreme point lies between the two sign changes, and g there has the curvature's
-    opposite sign.
-    """
-    x = np.array(start, dtype=float)
-    active = np.arange(x.size)
-    xa, aa, ba, ca = x, a, b, c
-    way = np.sign(other - start)  # the direction of every step
-    wa = way
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        for _ in range(iterations):
-            step = (aa + ba * xa - ca * np.log(xa)) / (ba - ca / xa)
-            # the steps go one way until g is rounding noise: a step back (or none) ends
-            back = ~(step * wa < 0)  # also a NaN step (checked below)
-            xa = np.where(back, xa, xa - step)
-            done = back | (np.abs(step) <= xtol * np.abs(xa))
-            if done.any():
-                x[active[done]] = xa[done]
-                keep = ~done
-                active, xa, wa = active[keep], xa[keep], wa[keep]
-                aa, ba, ca = aa[keep], ba[keep], ca[keep]
-            if not active.size:
-                break
-        lo, hi = np.minimum(start, other), np.maximum(start, other)
-        g_x = a + b * x - c * np.log(x)
-        # not converged, or not a root inside the bracket (not expected): the bracket's
-        # own safeguarded search
-        bad = np.flatnonzero(~((x >= lo) & (x <= hi) & np.isfinite(g_x)))
-        redo = np.union1d(active, bad)
-        if redo.size:
-            x[redo] = bracketed_root(
-                lambda xx, r: (
-                    a[redo[r]] + b[redo[r]] * xx - c[redo[r]] * np.log(xx),
-                    b[redo[r]] - c[redo[r]] / xx,
-                ),
-                start[redo],
-                other[redo],
-            )
-    return x
-
-
-def _difference_curves(cs: Curves, cl: Curves) -> tuple[np.ndarray, Curves]:
-    """Where both curves are log-linear without a D term, y_s - y_l is itself such a curve
-    (A, B, C subtract): returns that mask and the difference curves (zeros elsewhere).
-    """
-    simple = (cs.family == 0) & (cl.family == 0) & (cs.params[:, 3] == 0) & (cl.params[:, 3] == 0)
-    d = np.zeros_like(cs.params)
-    d[simple, :3] = cs.params[simple, :3] - cl.params[simple, :3]
-    return simple, Curves(np.zeros_like(cs.family), d, cs.t_min, cs.t_max)
-
-
-def _difference(
-    cs: Curves, cl: Curves, simple: np.ndarray, diff: Curves, ts: np.ndarray
-) -> np.ndarray:
-    """y_s - y_l at ``ts`` (one row per pair), one evaluation where the difference is itself
-    a log-linear curve (``simple``).
-    """
-    if simple.all():
-        return ln_p_rows(diff, ts)
-    f = np.empty(ts.shape)
-    if simple.any():
-        f[simple] = ln_p_rows(diff.take(simple), ts[simple])
-    rest = ~simple
-    f[rest] = ln_p_rows(cs.take(rest), ts[rest]) - ln_p_rows(cl.take(rest), ts[rest])
-    return f
-
-
-def _scan_crossings(
-    cs: Curves,
-    cl: Curves,
-    simple: np.ndarray,
-    diff: Curves,
-    x_lo,
-    x_hi,
-    x_anchor,
-    grid: int,
-    tol: float,
-):
-    """Sign changes of y_s - y_l on a grid in x = 1/T over [x_lo, x_hi], for each pair.
-
-    Returns the number of sign changes, the number of *significant* ones (between points
-    where the curves differ by more than ``tol``), and the bracket [lo, hi] in x of the
-    change nearest ``x_anchor`` (NaN where there is none).
-    """
-    k = x_lo.size
-    frac = np.linspace(0.0, 1.0, grid)[None, :]
-    xs = x_lo[:, None] + (x_hi - x_lo)[:, None] * frac
-    with np.errstate(divide="ignore", invalid="ignore"):
-        ts = 1.0 / xs
-        f = _difference(cs, cl, simple, diff, ts)
-        sign = np.sign(f)
-        finite = np.isfinite(f)
-        change = (sign[:, 1:] * sign[:, :-1] < 0) & finite[:, 1:] & finite[:, :-1]
-        count = change.sum(axis=1)
-        sig = np.where(np.abs(f) > tol, sign, 0.0)
-    # previous non-zero sign before each column (a forward fill of column indices)
-    cols = np.arange(grid)[None, :]
-    last = np.maximum.accumulate(np.where(sig != 0, cols, -1), axis=1)
-    prev = np.concatenate([np.full((k, 1), -1), last[:, :-1]], axis=1)
-    prev_sign = np.where(prev >= 0, np.take_along_axis(sig, np.maximum(prev, 0), 1), 0)
-    significant = ((sig != 0) & (prev_sign != 0) & (sig != prev_sign)).sum(axis=1)
-    mid = 0.5 * (xs[:, 1:] + xs[:, :-1])
-    dist = np.where(change, np.abs(mid - x_anchor[:, None]), np.inf)
-    j = np.argmin(dist, axis=1)
-    has = count > 0
-    idx = np.arange(k)
-    lo = np.where(has, xs[idx, j], np.nan)
-    hi = np.where(has, xs[idx, np.minimum(j + 1, grid - 1)], np.nan)
-    return count, significant, lo, hi
-
-
-def ln_p_rows(curves: Curves, temperature: np.ndarray) -> np.ndarray:
-    """Ln P of curve i at the temperatures of row i of ``temperature`` (shape (n, m))."""
-    return evaluate(curves, temperature, order=0)[0]
 
 
 def _evidence_rows(evidence: dict, n: int) -> list[dict]:

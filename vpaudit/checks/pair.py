@@ -41,13 +41,13 @@ def pair_not_checkable(ctx: AuditContext):
     and the other pair checks skip them.
     """
     pr = ctx.pairs
-    for k in np.flatnonzero(~pr["checkable"]):
+    for k in np.flatnonzero(~pr.checkable):
         yield ctx.pair_finding(
             "pair-not-checkable",
             k,
-            f"the solid and liquid ranges stop {pr['extrapolation'][k] * 100:.0f} % away from "
-            f"the melting region near {kelvin(pr['anchor'][k])}: the pair is not checked.",
-            {"extrapolation_fraction": pr["extrapolation"][k], "anchor_K": pr["anchor"][k]},
+            f"the solid and liquid ranges stop {pr.extrapolation[k] * 100:.0f} % away from "
+            f"the melting region near {kelvin(pr.anchor[k])}: the pair is not checked.",
+            {"extrapolation_fraction": pr.extrapolation[k], "anchor_K": pr.anchor[k]},
         )
 
 
@@ -75,11 +75,11 @@ def no_crossing(ctx: AuditContext):
     """
     pr = ctx.pairs
     w = ctx.thresholds("no-crossing")["window"]
-    rows = np.flatnonzero(pr["checkable"] & (pr["crossings"] == 0))
-    at = pr["anchor"][rows]
+    rows = np.flatnonzero(pr.checkable & (pr.crossings == 0))
+    at = pr.anchor[rows]
     diff = (
-        evaluate_rows(ctx.curves, pr["s"][rows], at, 0)[0]
-        - evaluate_rows(ctx.curves, pr["l"][rows], at, 0)[0]
+        evaluate_rows(ctx.curves, pr.solid[rows], at, 0)[0]
+        - evaluate_rows(ctx.curves, pr.liquid[rows], at, 0)[0]
     )
     lo, hi = at / (1 + w), at * (1 + w)
     messages = [
@@ -116,20 +116,20 @@ def multiple_crossings(ctx: AuditContext):
     tolerance (seen in evaluated data) are not reported.
     """
     pr = ctx.pairs
-    for k in np.flatnonzero(pr["checkable"] & (pr["significant_crossings"] > 1)):
+    for k in np.flatnonzero(pr.checkable & (pr.significant_crossings > 1)):
         yield ctx.pair_finding(
             "multiple-crossings",
             k,
-            f"the solid and liquid curves cross {int(pr['crossings'][k])} times near the "
-            f"melting point (the one nearest it at {kelvin(pr['T'][k])}), separating by more "
+            f"the solid and liquid curves cross {int(pr.crossings[k])} times near the "
+            f"melting point (the one nearest it at {kelvin(pr.t_cross[k])}), separating by more "
             "than the melting-point tolerance in between; they should cross once.",
-            {"crossings": int(pr["crossings"][k]), "nearest_K": pr["T"][k]},
+            {"crossings": int(pr.crossings[k]), "nearest_K": pr.t_cross[k]},
         )
 
 
 def _crossed(ctx: AuditContext) -> np.ndarray:
     pr = ctx.pairs
-    return pr["checkable"] & np.isfinite(pr["T"])
+    return pr.checkable & np.isfinite(pr.t_cross)
 
 
 @check(
@@ -147,11 +147,11 @@ def crossing_orientation(ctx: AuditContext):
     same.
     """
     pr = ctx.pairs
-    above = pr["checkable"] & (ctx.curves.t_min[pr["s"]] >= ctx.curves.t_max[pr["l"]])
-    wrong = _crossed(ctx) & ~(pr["slope_diff"] > 0)
+    above = pr.checkable & (ctx.curves.t_min[pr.solid] >= ctx.curves.t_max[pr.liquid])
+    wrong = _crossed(ctx) & ~(pr.slope_diff > 0)
     sel = np.flatnonzero(wrong | above)
-    t = pr["T"][sel]
-    hfus = R * t * t * pr["slope_diff"][sel]
+    t = pr.t_cross[sel]
+    hfus = R * t * t * pr.slope_diff[sel]
     messages = [
         (
             f"at the crossing ({kelvin(tk)}) the solid curve is the flatter one, implying "
@@ -167,8 +167,8 @@ def crossing_orientation(ctx: AuditContext):
             t.tolist(),
             hfus.tolist(),
             wrong[sel].tolist(),
-            ctx.curves.t_min[pr["s"][sel]].tolist(),
-            ctx.curves.t_max[pr["l"][sel]].tolist(),
+            ctx.curves.t_min[pr.solid[sel]].tolist(),
+            ctx.curves.t_max[pr.liquid[sel]].tolist(),
             strict=True,
         )
     ]
@@ -212,21 +212,21 @@ def crossing_outside_range(ctx: AuditContext):
     pr = ctx.pairs
     lim = ctx.thresholds("crossing-outside-range")["max_extrapolation"]
     tol = ctx.thresholds("melting-point-mismatch")["tolerance"]
-    t = pr["T"]
-    s_lo, s_hi = ctx.curves.t_min[pr["s"]], ctx.curves.t_max[pr["s"]]
-    l_lo, l_hi = ctx.curves.t_min[pr["l"]], ctx.curves.t_max[pr["l"]]
+    t = pr.t_cross
+    s_lo, s_hi = ctx.curves.t_min[pr.solid], ctx.curves.t_max[pr.solid]
+    l_lo, l_hi = ctx.curves.t_min[pr.liquid], ctx.curves.t_max[pr.liquid]
     with np.errstate(invalid="ignore"):
         over_s = np.maximum(t - s_hi, s_lo - t) / t
         over_l = np.maximum(l_lo - t, t - l_hi) / t
         worst = np.fmax(over_s, over_l)
         edge = np.where(over_s >= over_l, np.clip(t, s_lo, s_hi), np.clip(t, l_lo, l_hi))
-    edge = np.where(np.isfinite(edge), edge, pr["anchor"])
+    edge = np.where(np.isfinite(edge), edge, pr.anchor)
     with np.errstate(invalid="ignore"):
         far = np.flatnonzero(_crossed(ctx) & (worst > lim))
     d = np.full(t.size, np.nan)  # the curves are compared only where the crossing is far
     d[far] = (
-        evaluate_rows(ctx.curves, pr["s"][far], edge[far], 0)[0]
-        - evaluate_rows(ctx.curves, pr["l"][far], edge[far], 0)[0]
+        evaluate_rows(ctx.curves, pr.solid[far], edge[far], 0)[0]
+        - evaluate_rows(ctx.curves, pr.liquid[far], edge[far], 0)[0]
     )
     with np.errstate(invalid="ignore"):
         bad = _crossed(ctx) & (worst > lim) & (np.abs(d) > tol)
@@ -275,21 +275,21 @@ def melting_point_mismatch(ctx: AuditContext):
     """
     pr = ctx.pairs
     tol = ctx.thresholds("melting-point-mismatch")["tolerance"]
-    tm = pr["tm"]
-    rows = np.flatnonzero(pr["checkable"] & np.isfinite(tm))
+    tm = pr.tm
+    rows = np.flatnonzero(pr.checkable & np.isfinite(tm))
     if rows.size == 0:
         return
     at = ctx.melting_slopes  # at the reference melting point where there is one
-    ys, s1, yl, l1 = (at[key][rows] for key in ("ys", "s1", "yl", "l1"))
+    ys, s1, yl, l1 = at.ys[rows], at.s1[rows], at.yl[rows], at.l1[rows]
     d = ys - yl
     bad = ~(np.abs(d) <= tol)
-    hfus_ref = ctx.reference("enthalpy_of_fusion", pr["s"][rows])
+    hfus_ref = ctx.reference("enthalpy_of_fusion", pr.solid[rows])
     hfus_imp = R * tm[rows] ** 2 * (s1 - l1)
     hfus = np.where(np.isfinite(hfus_ref) & (hfus_ref > 0), hfus_ref, np.abs(hfus_imp))
     k_tol = tol * R * tm[rows] ** 2 / hfus
     sel = np.flatnonzero(bad)
     ks = rows[sel]
-    t, tm, d, k_tol = pr["T"][ks], tm[ks], d[sel], k_tol[sel]
+    t, tm, d, k_tol = pr.t_cross[ks], tm[ks], d[sel], k_tol[sel]
     messages = [
         f"at the reference melting point {kelvin(tmk)} the solid and liquid curves "
         f"differ by {ln_ratio(dj)}, beyond the tolerance of {tol:g}; "
@@ -332,20 +332,20 @@ def triple_pressure_mismatch(ctx: AuditContext):
     """
     pr = ctx.pairs
     tol = ctx.thresholds("triple-pressure-mismatch")["tolerance"]
-    ptp = ctx.reference("triple_point_pressure", pr["s"])
+    ptp = ctx.reference("triple_point_pressure", pr.solid)
     with np.errstate(invalid="ignore", divide="ignore"):
-        diff = pr["y"] - np.log(ptp)
-        bad = pr["checkable"] & np.isfinite(diff) & (np.abs(diff) > tol)
+        diff = pr.y_cross - np.log(ptp)
+        bad = pr.checkable & np.isfinite(diff) & (np.abs(diff) > tol)
     for k in np.flatnonzero(bad):
         d = diff[k]
         yield ctx.pair_finding(
             "triple-pressure-mismatch",
             k,
-            f"the curves cross at {pressure(np.exp(pr['y'][k]))} ({kelvin(pr['T'][k])}), "
+            f"the curves cross at {pressure(np.exp(pr.y_cross[k]))} ({kelvin(pr.t_cross[k])}), "
             f"{ln_ratio(d)} away from the reference triple-point pressure "
             f"{pressure(ptp[k])}.",
             {
-                "crossing_pressure_Pa": float(np.exp(pr["y"][k])),
+                "crossing_pressure_Pa": float(np.exp(pr.y_cross[k])),
                 "reference_Pa": ptp[k],
                 "difference_lnP": d,
                 "tolerance_lnP": tol,
@@ -370,14 +370,14 @@ def fusion_enthalpy_mismatch(ctx: AuditContext):
     """
     pr = ctx.pairs
     tol = ctx.thresholds("fusion-enthalpy-mismatch")["tolerance"]
-    ref = ctx.reference("enthalpy_of_fusion", pr["s"])
-    at = np.where(np.isfinite(pr["tm"]), pr["tm"], pr["T"])
-    rows = np.flatnonzero(pr["checkable"] & np.isfinite(ref) & np.isfinite(at))
+    ref = ctx.reference("enthalpy_of_fusion", pr.solid)
+    at = np.where(np.isfinite(pr.tm), pr.tm, pr.t_cross)
+    rows = np.flatnonzero(pr.checkable & np.isfinite(ref) & np.isfinite(at))
     if rows.size == 0:
         return
     ms = ctx.melting_slopes  # at the reference melting point, else at the crossing
-    a = ms["at"]
-    hs, hl = R * a * a * ms["s1"], R * a * a * ms["l1"]
+    a = ms.at
+    hs, hl = R * a * a * ms.s1, R * a * a * ms.l1
     with np.errstate(invalid="ignore", divide="ignore"):
         residual = (hs - hl - ref) / hs
         # a non-positive slope is slope-not-positive's finding
@@ -432,12 +432,12 @@ def fusion_entropy_implausible(ctx: AuditContext):
     """
     pr = ctx.pairs
     th = ctx.thresholds("fusion-entropy-implausible")
-    ok = _crossed(ctx) & (pr["slope_diff"] > 0)
-    ds = R * pr["T"] * pr["slope_diff"]
+    ok = _crossed(ctx) & (pr.slope_diff > 0)
+    ds = R * pr.t_cross * pr.slope_diff
     with np.errstate(invalid="ignore"):
         bad = ok & ~((ds >= th["min"]) & (ds <= th["max"]))
     sel = np.flatnonzero(bad)
-    t, ds = pr["T"][sel], ds[sel]
+    t, ds = pr.t_cross[sel], ds[sel]
     messages = [
         f"the implied entropy of fusion at the crossing ({kelvin(tk)}) is "
         f"{jk(dsk)}, outside the usual {th['min']:g}..{th['max']:g} J/(mol K)."
@@ -467,11 +467,11 @@ def range_gap(ctx: AuditContext):
     """
     pr = ctx.pairs
     lim = ctx.thresholds("range-gap")["max_gap"]
-    at = np.where(np.isfinite(pr["tm"]), pr["tm"], pr["T"])
-    lo, hi = ctx.curves.t_max[pr["s"]], ctx.curves.t_min[pr["l"]]
+    at = np.where(np.isfinite(pr.tm), pr.tm, pr.t_cross)
+    lo, hi = ctx.curves.t_max[pr.solid], ctx.curves.t_min[pr.liquid]
     with np.errstate(invalid="ignore"):
         gap = (hi - lo) / at
-        bad = pr["checkable"] & np.isfinite(at) & (gap > lim)
+        bad = pr.checkable & np.isfinite(at) & (gap > lim)
     for k in np.flatnonzero(bad):
         yield ctx.pair_finding(
             "range-gap",

@@ -71,13 +71,13 @@ def pressure_not_finite(ctx: AuditContext):
     ex = ctx.range_extrema
     with np.errstate(invalid="ignore"):
         bad = ctx.evaluable & ~(
-            np.isfinite(ex["y_min"])
-            & np.isfinite(ex["y_max"])
-            & (np.abs(ex["y_min"]) <= lim)
-            & (np.abs(ex["y_max"]) <= lim)
+            np.isfinite(ex.y_min)
+            & np.isfinite(ex.y_max)
+            & (np.abs(ex.y_min) <= lim)
+            & (np.abs(ex.y_max) <= lim)
         )
     for i in np.flatnonzero(bad):
-        lo, hi = ex["y_min"][i], ex["y_max"][i]
+        lo, hi = ex.y_min[i], ex.y_max[i]
         yield ctx.finding(
             "pressure-not-finite",
             i,
@@ -105,9 +105,9 @@ def slope_not_positive(ctx: AuditContext):
     """
     ex = ctx.range_extrema
     with np.errstate(invalid="ignore"):
-        bad = ctx.evaluable & ~(ex["h_min"] > 0)
+        bad = ctx.evaluable & ~(ex.h_min > 0)
     sel = np.flatnonzero(bad)
-    h_min, h_min_t = ex["h_min"][sel], ex["h_min_T"][sel]
+    h_min, h_min_t = ex.h_min[sel], ex.h_min_T[sel]
     messages = [
         f"the implied enthalpy falls to {kj(h)} at {kelvin(t)}: vapour pressure must rise "
         "with temperature; a sign of the 1/T coefficient is the usual cause."
@@ -234,9 +234,9 @@ def heat_capacity_sign(ctx: AuditContext):
     ex = ctx.range_extrema
     factor = np.where(ctx.antoine, th["antoine_factor"], 1.0)
     with np.errstate(invalid="ignore"):
-        bad = ctx.evaluable & (ex["cp_max"] > th["tolerance"] * factor)
+        bad = ctx.evaluable & (ex.cp_max > th["tolerance"] * factor)
     for i in np.flatnonzero(bad):
-        cp, t = ex["cp_max"][i], ex["cp_max_T"][i]
+        cp, t = ex.cp_max[i], ex.cp_max_T[i]
         sev = Severity.error if cp > th["error_above"] * factor[i] else None
         yield ctx.finding(
             "heat-capacity-sign",
@@ -275,7 +275,7 @@ def heat_capacity_magnitude(ctx: AuditContext):
     """
     th = ctx.thresholds("heat-capacity-magnitude")
     ex = ctx.range_extrema
-    mag = np.fmax(np.abs(ex["cp_min"]), np.abs(ex["cp_max"]))
+    mag = np.fmax(np.abs(ex.cp_min), np.abs(ex.cp_max))
     limit = th["limit"] * np.where(ctx.antoine, th["antoine_factor"], 1.0)
     with np.errstate(invalid="ignore"):
         bad = ctx.evaluable & (mag > limit)

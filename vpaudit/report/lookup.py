@@ -176,12 +176,12 @@ def render_show(table, substance: str, result) -> str:
 
     ctx = AuditContext(sub, load_policy(table.policy_path))
     pr = ctx.pairs
-    if len(pr["s"]):
+    if len(pr.solid):
         lines += ["", "Solid/liquid pairs (implied at the crossing):"]
         prow = []
-        for k in range(len(pr["s"])):
-            t = pr["T"][k]
-            s, lq = pr["s"][k], pr["l"][k]
+        for k in range(len(pr.solid)):
+            t = pr.t_cross[k]
+            s, lq = pr.solid[k], pr.liquid[k]
             if np.isfinite(t):
                 from ..equations.engine import enthalpy
 
@@ -191,10 +191,10 @@ def render_show(table, substance: str, result) -> str:
                     [
                         f"{ctx.id(s)} / {ctx.id(lq)}",
                         f"{t:.5g}",
-                        f"{math.exp(pr['y'][k]):.4g}",
+                        f"{math.exp(pr.y_cross[k]):.4g}",
                         f"{hs / 1e3:.4g}",
                         f"{hl / 1e3:.4g}",
-                        f"{R * t * t * pr['slope_diff'][k] / 1e3:.4g}",
+                        f"{R * t * t * pr.slope_diff[k] / 1e3:.4g}",
                     ]
                 )
             else:

@@ -1,0 +1,50 @@
+"""Joins on integer keys (the substance codes), vectorized: how checks relate the rows of
+records, references and points without a Python loop.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+__all__ = ["match", "same_key_pairs"]
+
+
+def match(key_a: np.ndarray, key_b: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Every (i, j) with key_a[i] == key_b[j] (an inner join on integer keys), vectorized;
+    negative keys never match.
+    """
+    a = np.flatnonzero(key_a >= 0)
+    b = np.flatnonzero(key_b >= 0)
+    keys = np.concatenate([key_a, key_b])
+    ia, ib = same_key_pairs(keys, a, b + key_a.size)
+    return ia, ib - key_a.size
+
+
+def same_key_pairs(keys: np.ndarray, a: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Every (i, j) with i from ``a`` and j from ``b`` and keys[i] == keys[j], vectorized.
+
+    Parameters
+    ----------
+    keys : ndarray of int
+        A key per row (e.g. the substance code).
+    a, b : ndarray of int
+        Row indices of the two sides.
+
+    Returns
+    -------
+    ia, ib : ndarray of int
+        The pairs, grouped by ``a`` in its order.
+    """
+    if a.size == 0 or b.size == 0:
+        return np.empty(0, dtype=np.int64), np.empty(0, dtype=np.int64)
+    order = np.argsort(keys[b], kind="stable")
+    b_sorted = b[order]
+    kb = keys[b_sorted]
+    ka = keys[a]
+    lo = np.searchsorted(kb, ka, side="left")
+    hi = np.searchsorted(kb, ka, side="right")
+    counts = hi - lo
+    ia = np.repeat(a, counts)
+    starts = np.repeat(lo - np.concatenate(([0], np.cumsum(counts)[:-1])), counts)
+    ib = b_sorted[starts + np.arange(ia.size)]
+    return ia.astype(np.int64), ib.astype(np.int64)

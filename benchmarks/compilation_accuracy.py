@@ -140,61 +140,6 @@ def confident_on_clean(records, refs):
     ), len({f.suggestion["record"] for f in result.findings if f.suggestion})
 
 
-def lone_curves(sample: int, rng: random.Random):
-    """The 298.15 K anchor's target case: lone Landolt liquids (no partner, no boiling point
-    reference, one source) whose only witness is the CRC standard data (tests/anchors.py),
-    with a log-base, pressure-unit or temperature-unit slip planted in each."""
-    from anchors import anchor_rows
-    from compilations import landolt
-
-    records, _ = landolt(None)
-    pool = []
-    for r in records:
-        if r["phase"] != "liquid" or not _complete(r):
-            continue
-        rows = anchor_rows(r["substance"], r["substance"], "liquid")
-        if len(rows) == 2 and float(r["t_min"]) / 298.15 <= 2.0:
-            pool.append((r, rows))
-    clean_table = table_from_rows([r for r, _ in pool], [x for _, rows in pool for x in rows])
-    clean_result = audit_table(clean_table, diagnose=False)
-    bad_clean = {x for f in clean_result.findings if f.severity.value == "error" for x in f.records}
-    pool = [(r, rows) for r, rows in pool if r["id"] not in bad_clean]
-    rng.shuffle(pool)
-    recs, refs, cases = [], [], []
-    for k, (r, rows) in enumerate(pool[:sample]):
-        kind = ("log-base", "pressure-unit", "temperature-unit")[k % 3]
-        got = corrupt(r, kind, rng)
-        if got is None:
-            continue
-        bad, _ = got
-        if not _visible(r, bad):
-            continue
-        new, rid = f"{r['substance']}#{k}", f"{r['id']}#{k}"
-        recs.append(dict(bad, substance=new, id=rid))
-        refs += [dict(x, substance=new) for x in rows]
-        cases.append((new, kind, rid, dict(r, id=rid), bad))
-    result = audit_table(table_from_rows(recs, refs))
-    detected = right = confident = confident_wrong = 0
-    for new, _kind, rid, original, bad in cases:
-        fs = [f for f in result.findings if f.substance == new]
-        detected += any(f.severity.value == "error" for f in fs)
-        sug = next((f.suggestion for f in fs if f.suggestion), None)
-        if sug is None:
-            continue
-        ok = sug["record"] == rid and reproduces(original, dict(bad, id=rid), sug)
-        right += ok
-        if sug["confidence"] >= 0.8:
-            confident += 1
-            confident_wrong += not ok
-    n = len(cases)
-    print(
-        f"lone curves with standard data only ({len(pool)} clean Landolt liquids; "
-        f"{len(bad_clean)} others drew an error clean): {n} slips planted, "
-        f"{detected / n:.1%} detected, top-1 right {right / n:.1%}, {confident} confident, "
-        f"{(confident_wrong / confident if confident else 0):.1%} of them wrong"
-    )
-
-
 def main() -> None:
     ap = argparse.ArgumentParser()
     ap.add_argument("--sample", type=int, default=200, help="substances given a slip each")
@@ -219,7 +164,7 @@ def main() -> None:
         )
         print("    errors on the clean compilation by check:", dict(by_check.most_common()))
         print("    planted slips not flagged as errors, by kind:", dict(missed.most_common()))
-    lone_curves(args.sample, random.Random(args.seed))
+    print("(lone curves with standard data only: benchmarks/lone_curves.py)")
 
 
 if __name__ == "__main__":

@@ -59,6 +59,11 @@ def _text(v) -> str:
     return repr(float(v))
 
 
+def _cells(rec: dict) -> dict:
+    """A copy of ``rec`` with its coefficients as text, as a table holds them."""
+    return {k: (_text(v) if k in "ABCDE" and v is not None else v) for k, v in rec.items()}
+
+
 def _coeffs(rec: dict) -> list[str]:
     return [c for c in "ABCDE" if rec.get(c) is not None and float(rec[c]) != 0.0]
 
@@ -67,7 +72,7 @@ def corrupt(rec: dict, kind: str, rng: random.Random) -> tuple[dict, str] | None
     """Apply one slip of ``kind`` to a copy of ``rec`` (number cells as text); None when the
     kind does not apply to the record.
     """
-    r = {k: (_text(v) if k in "ABCDE" and v is not None else v) for k, v in rec.items()}
+    r = _cells(rec)
     coeffs = _coeffs(rec)
     if kind == "log-base":
         other = "10" if rec["log_base"] == "e" else "e"
@@ -76,22 +81,12 @@ def corrupt(rec: dict, kind: str, rng: random.Random) -> tuple[dict, str] | None
         return r, f"coefficients converted to base {other}, still marked {rec['log_base']}"
     if kind == "pressure-unit":
         u = rng.choice([u for u in PRESSURE_UNITS if u != rec["pressure_unit"]])
-        conv = convert_record(rec, pressure_unit=u)
-        if str(rec["form"]).startswith("wagner"):  # the unit lives in Pc
-            r["p_crit"] = _text(conv["p_crit"])
-            return r, f"Pc in {u}, marked {rec['pressure_unit']}"
-        r.update({c: _text(conv[c]) for c in coeffs})
-        return r, f"coefficients for {u}, marked {rec['pressure_unit']}"
+        return _pressure_slip(rec, r, u)
     if kind == "temperature-unit":
         if rec["form"] != "antoine":
             return None
         v = rng.choice(["degC", "degF"])
-        conv = convert_record(rec, temperature_unit=v)
-        r.update({c: _text(conv[c]) for c in ("A", "B", "C")})
-        if rng.random() < 0.5:  # the range came with the constants, in the same unit
-            r["t_min"], r["t_max"] = conv["t_min"], conv["t_max"]
-            return r, f"constants and range in {v}, marked K"
-        return r, f"constants in {v}, range in K, marked K"
+        return _temperature_slip(rec, r, v, with_range=rng.random() < 0.5)
     if kind == "sign":
         c = rng.choice(coeffs)
         r[c] = _text(-float(rec[c]))
@@ -273,6 +268,45 @@ def cases_table(cases: list[Case]):
     return table_from_rows(recs, refs)
 
 
+def _pressure_slip(rec: dict, r: dict, u: str) -> tuple[dict, str]:
+    """``r`` (a copy of ``rec``) with coefficients for pressure unit ``u``, still marked as
+    ``rec``'s unit."""
+    conv = convert_record(rec, pressure_unit=u)
+    if str(rec["form"]).startswith("wagner"):  # the unit lives in Pc
+        r["p_crit"] = _text(conv["p_crit"])
+        return r, f"Pc in {u}, marked {rec['pressure_unit']}"
+    r.update({c: _text(conv[c]) for c in _coeffs(rec)})
+    return r, f"coefficients for {u}, marked {rec['pressure_unit']}"
+
+
+def _temperature_slip(rec: dict, r: dict, v: str, with_range: bool) -> tuple[dict, str]:
+    """``r`` with Antoine constants for temperature scale ``v`` marked K; ``with_range``:
+    the range came with the constants, in the same scale."""
+    conv = convert_record(rec, temperature_unit=v)
+    r.update({c: _text(conv[c]) for c in ("A", "B", "C")})
+    if with_range:
+        r["t_min"], r["t_max"] = conv["t_min"], conv["t_max"]
+        return r, f"constants and range in {v}, marked K"
+    return r, f"constants in {v}, range in K, marked K"
+
+
+def unit_slips(rec: dict) -> list[tuple[str, dict, str]]:
+    """Every metadata slip of ``rec``, not a random one: (kind, corrupted, what) for the log
+    base, each other pressure unit (Torr only as mmHg: they differ by 1.4e-7) and, for an
+    Antoine equation, degC and degF with the range in K or in the same scale."""
+    out = [("log-base", *corrupt(rec, "log-base", random.Random(0)))]
+    for u in PRESSURE_UNITS:
+        if u not in (rec["pressure_unit"], "Torr"):
+            out.append(("pressure-unit", *_pressure_slip(rec, _cells(rec), u)))
+    if rec["form"] == "antoine":
+        for v in ("degC", "degF"):
+            for with_range in (True, False):
+                out.append(
+                    ("temperature-unit", *_temperature_slip(rec, _cells(rec), v, with_range))
+                )
+    return out
+
+
 def reproduces(original: dict, corrupted: dict, suggestion: dict, tol: float = 1e-6) -> bool:
     """Whether applying ``suggestion`` to ``corrupted`` gives back the original curve (ln P
     within ``tol`` over the range), range and phase.
@@ -310,4 +344,5 @@ __all__ = [
     "labelled_cases",
     "poling_record",
     "reproduces",
+    "unit_slips",
 ]

@@ -60,7 +60,7 @@ close it is reported too.
 from __future__ import annotations
 
 import math
-from collections import defaultdict
+from collections import Counter, defaultdict
 from dataclasses import dataclass, replace
 from decimal import Decimal, InvalidOperation
 from itertools import combinations as _combinations
@@ -69,7 +69,7 @@ import numpy as np
 import pandas as pd
 
 from ._columns import TEXT
-from .checks._context import LN_P_STANDARD, AuditContext, match, same_key_pairs
+from .checks._context import LN_P_STANDARD, P_STANDARD, AuditContext, match, same_key_pairs
 from .checks._registry import REGISTRY, Severity
 from .checks.finding import Finding
 from .constants import R
@@ -136,6 +136,13 @@ _DECIMAL_SHIFTS = (-3, -2, -1, 1, 2, 3)
 #: Landolt's odd-CAS equations, none of Poling's): the prior of a temperature-unit fix that
 #: would put it there.
 _POLE_NEAR_RANGE = math.log(0.003)
+#: Log of how rare a real liquid equation is whose range starts above 1.2 times its own
+#: normal boiling point (measured on the liquids of four compilations with an implied boiling
+#: point: 0.2 % of Landolt's 2,938 odd-CAS equations, 0.3 % of the 339 Wagner equations of
+#: McGarry and Poling, none of Poling's 325 Antoine or Perry's 340): the prior of a
+#: temperature-unit fix that would read the range there (an Antoine range in K read as degC
+#: or degF lands 255-460 K higher).
+_RANGE_ABOVE_BOILING = math.log(0.003)
 #: Candidates per substance that go on from the screening to the full checks.
 _VERIFIED = 10
 #: Variant rows audited at once (bounds the memory of the synthetic tables).
@@ -269,7 +276,9 @@ def candidates_for(
             # it that close to the range is that unlikely.
             pole = -float(rec["C"]) * s2 + o2 if rec.get("C") is not None else -math.inf
             t_lo = float(rec.get("t_min") or math.nan)
-            if pole > 0.85 * (t_lo * s2 + o2):  # constants and range both read in v
+            tb = _antoine_boiling_point(rec, s2, o2) if rec["phase"] == "liquid" else math.nan
+            if pole > 0.85 * (t_lo * s2 + o2) or t_lo * s2 + o2 > 1.2 * tb:
+                # constants and range both read in v
                 implausible.add((Change(row, "temperature_unit", v),))
             by_kind["temperature-unit"].append(
                 (
@@ -292,7 +301,8 @@ def candidates_for(
                     f"already in {tu} (temperature_unit {tu} -> {v}, range converted)",
                 )
             )
-            if pole > 0.85 * (t_lo * s1 + o1):  # the range as written, in its own unit
+            if pole > 0.85 * (t_lo * s1 + o1) or t_lo * s1 + o1 > 1.2 * tb:
+                # the range as written, in its own unit
                 implausible.add(tuple(changes))
     coeffs = [c for c in spec.coefficients if rec.get(c + "_text")]
     for c in coeffs:
@@ -362,15 +372,62 @@ def candidates_for(
                 implausible.add(changes)
     out = []
     for kind, items in by_kind.items():
-        lp = log_prior - math.log(len(items))
+        # the kind's prior is shared among its distinct corrections: two names of one
+        # pressure unit (Torr and mmHg, 1.4e-7 apart) are one hypothesis, not two
+        same = Counter(_canonical(ch) for ch, _ in items)
+        lp = log_prior - math.log(len(same))
         if kind == "metadata-combination":
             lp += _COMBINATION_PRIOR
         out.extend(
-            Candidate(kind, row, ch, lp + (_POLE_NEAR_RANGE if ch in implausible else 0.0), label)
+            Candidate(
+                kind,
+                row,
+                ch,
+                lp
+                - math.log(same[_canonical(ch)])
+                + (_POLE_NEAR_RANGE if ch in implausible else 0.0),
+                label,
+            )
             for ch, label in items
         )
     return out
 
+
+def _canonical(changes: tuple[Change, ...]) -> tuple:
+    """``changes`` with each pressure unit named by the first unit of the same size."""
+    return tuple(
+        (
+            c.row,
+            c.field,
+            _UNIT_NAME.get(c.value, c.value) if c.field == "pressure_unit" else c.value,
+        )
+        for c in changes
+    )
+
+
+def _antoine_boiling_point(rec: dict, scale: float, offset: float) -> float:
+    """The normal boiling point, in K, of an Antoine record read with theta = (T - offset) /
+    scale (its constants and its pressure unit as they stand); NaN when the curve never
+    reaches 101 325 Pa on the right of its pole.
+    """
+    try:
+        a, b, c = float(rec["A"]), float(rec["B"]), float(rec["C"])
+        p_std = P_STANDARD / PRESSURE_UNITS[rec["pressure_unit"]]
+        y = math.log(p_std) if rec["log_base"] == "e" else math.log10(p_std)
+        theta = b / (a - y) - c
+    except (KeyError, TypeError, ValueError, ZeroDivisionError):
+        return math.nan
+    if not (a > y and theta + c > 0.0):
+        return math.nan
+    return theta * scale + offset
+
+
+#: Each pressure unit -> the first listed unit of the same size within 1e-6 (Torr -> Torr,
+#: mmHg -> Torr).
+_UNIT_NAME = {
+    u: next(v for v in PRESSURE_UNITS if abs(PRESSURE_UNITS[v] / f - 1.0) < 1e-6)
+    for u, f in PRESSURE_UNITS.items()
+}
 
 # --- variants: all candidates audited at once ------------------------------------------------
 
@@ -530,7 +587,11 @@ def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
         d = evaluate(c, t, order=0)[0] - LN_P_STANDARD
         dist = np.maximum(c.t_min - t, t - c.t_max).clip(min=0.0) / t
         tol_b = policy.thresholds("boiling-point-mismatch")["tolerance"]
-        add(ctx.codes[r], d / (0.5 * tol_b * (1.0 + 20.0 * dist)))
+        widen = 1.0 + 20.0 * dist
+        add(ctx.codes[r], d / (0.5 * tol_b * widen))
+        # the likelihood's normalization, as for the anchor below: a range read far from
+        # the boiling point must not fit better because its tolerance is looser
+        add(ctx.codes[r], np.sqrt(2.0 * np.log(widen)))
     # the entropy of the phase change (Trouton's rule generalised), outside its band
     th = policy.thresholds("enthalpy-implausible")
     if rows.size:
@@ -551,12 +612,20 @@ def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
         al = allowances(ctx, a)
         # no cut at max_ratio here: a candidate must not escape the evidence by moving its
         # range away from 298.15 K (the allowance still grows with the distance)
-        for value, ref, allow in (
-            (a["h"], a["h_ref"], al["h_warn"]),
-            (a["s"], a["s_ref"], al["s_warn"]),
+        for value, ref, allow, base in (
+            (a["h"], a["h_ref"], al["h_warn"], al["h_base"]),
+            (a["s"], a["s_ref"], al["s_warn"], al["s_base"]),
         ):
             m = np.isfinite(ref)
-            add(ctx.codes[a["rows"][m]], (value[m] - ref[m]) / (0.5 * allow[m]))
+            codes = ctx.codes[a["rows"][m]]
+            add(codes, (value[m] - ref[m]) / (0.5 * allow[m]))
+            # the normalization of the same Gaussian likelihood, 2 ln(sigma / sigma_0): a
+            # longer extrapolation predicts the reference less sharply, so a candidate whose
+            # range lies farther from 298.15 K (an Antoine range read in degC) does not fit
+            # better merely because its allowance is wider. As a |z| whose square it is.
+            with np.errstate(invalid="ignore", divide="ignore"):
+                occam = np.sqrt(2.0 * np.log(np.maximum(allow[m] / base[m], 1.0)))
+            add(codes, np.nan_to_num(occam, nan=0.0))
     # other sources of the same substance and phase, at the middle of the common range
     key = np.where(ctx.evaluable, ctx.codes * 2 + ctx.liquid, -1)
     ev = np.flatnonzero(key >= 0)

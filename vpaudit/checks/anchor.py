@@ -96,16 +96,19 @@ def anchor_values(ctx: AuditContext):
 def allowances(ctx: AuditContext, a: dict) -> dict:
     """The two checks' allowances for :func:`anchor_values` ``a`` (one definition, for the
     checks and for the diagnosis, which weighs the same residuals): for ``h`` and ``s`` the
-    warning and error bounds on |implied - reference|, and where each is judged at all.
+    warning and error bounds on |implied - reference|, the warning bound with no
+    extrapolation (``h_base``, ``s_base``), and where each is judged at all.
     """
     th_h, th_s = ctx.thresholds("anchor-enthalpy"), ctx.thresholds("anchor-entropy")
     with np.errstate(invalid="ignore", divide="ignore"):
         growth_h = th_h["cp_uncertainty"] * a["distance"]
         growth_s = th_s["cp_uncertainty"] * np.log(a["ratio"])
         return {
+            "h_base": th_h["tolerance"] * np.abs(a["h_ref"]),
             "h_warn": th_h["tolerance"] * np.abs(a["h_ref"]) + growth_h,
             "h_error": th_h["error_above"] * np.abs(a["h_ref"]) + growth_h,
             "h_judged": np.isfinite(a["h_ref"]) & (a["ratio"] <= th_h["max_ratio"]),
+            "s_base": np.full_like(growth_s, th_s["tolerance"]),
             "s_warn": th_s["tolerance"] + growth_s,
             "s_error": th_s["error_above"] + growth_s,
             "s_judged": np.isfinite(a["s_ref"]) & (a["ratio"] <= th_s["max_ratio"]),

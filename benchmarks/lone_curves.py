@@ -1,0 +1,120 @@
+"""Slips on lone curves, where the 298.15 K standard data are the only witness.
+
+A lone curve has no partner phase, no boiling-point reference and one source. Two sets of
+real curves, each with the CRC standard data that ``chemicals.reaction`` carries (built by
+tests/anchors.py):
+
+* the solids of Alcock, Itkin & Horrigan (1984) (``chemicals``), with the standard enthalpy
+  and entropy of sublimation;
+* Landolt's liquids (odd CAS only: the even ones are reserved for evaluation), with both
+  standard values of vaporization, whose range starts below twice 298.15 K and which draw no
+  error as they are.
+
+Every metadata slip is planted in every curve, not a random one (tests/slips.py,
+``unit_slips``): the log base, each other pressure unit, and for Antoine equations degC and
+degF with the range in K or in the same scale. Each corrupted curve is its own substance.
+Prints, by kind: cases, detected (an error), the top suggestion right (it gives back the
+original curve and range), the same within 0.03 in ln P (the default relative uncertainty of a
+record: bar for atm is 1.3 % off), and the confident (>= 0.8) suggestions with how many are
+wrong.
+
+Run: ``python benchmarks/lone_curves.py`` (about a minute).
+"""
+
+from __future__ import annotations
+
+import sys
+from collections import defaultdict
+from pathlib import Path
+
+sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests"))
+
+from anchors import anchor_rows  # noqa: E402
+from compilations import _complete, landolt  # noqa: E402
+from refdata import alcock_pairs, table_from_rows  # noqa: E402
+from slips import reproduces, unit_slips  # noqa: E402
+
+from vpaudit.auditing import audit_table  # noqa: E402
+
+
+def alcock_pool() -> list[tuple[dict, list[dict]]]:
+    from chemicals.vapor_pressure import Psub_data_Alcock_elements as sol
+
+    by_name = {str(sol.loc[c, "Name"]): c for c in sol.index}
+    records, _ = alcock_pairs()
+    pool = []
+    for r in records:
+        if r["phase"] != "solid":
+            continue
+        rows = anchor_rows(by_name[r["substance"]], r["substance"], "solid")
+        if len(rows) == 2:
+            pool.append((r, rows))
+    return pool
+
+
+def landolt_pool() -> list[tuple[dict, list[dict]]]:
+    records, _ = landolt(None)
+    pool = []
+    for r in records:
+        if r["phase"] != "liquid" or not _complete(r):
+            continue
+        rows = anchor_rows(r["substance"], r["substance"], "liquid")
+        if len(rows) == 2 and float(r["t_min"]) / 298.15 <= 2.0:
+            pool.append((r, rows))
+    return pool
+
+
+def clean_only(pool):
+    """The curves that draw no error as they are (a slip must be the only problem)."""
+    table = table_from_rows([r for r, _ in pool], [x for _, rows in pool for x in rows])
+    result = audit_table(table, diagnose=False)
+    bad = {x for f in result.findings if f.severity.value == "error" for x in f.records}
+    return [(r, rows) for r, rows in pool if r["id"] not in bad], len(bad)
+
+
+def measure(name: str, pool) -> None:
+    pool, dropped = clean_only(pool)
+    recs, refs, cases = [], [], []
+    for k, (r, rows) in enumerate(pool):
+        for j, (kind, bad, what) in enumerate(unit_slips(r)):
+            new, rid = f"{r['substance']}#{k}.{j}", f"{r['id']}#{k}.{j}"
+            recs.append(dict(bad, substance=new, id=rid))
+            refs += [dict(x, substance=new) for x in rows]
+            cases.append((new, kind, what, dict(r, id=rid), dict(bad, id=rid)))
+    result = audit_table(table_from_rows(recs, refs))
+    by_sub = defaultdict(list)
+    for f in result.findings:
+        by_sub[f.substance].append(f)
+    tally = defaultdict(lambda: [0, 0, 0, 0, 0, 0])
+    for new, kind, _what, original, bad in cases:
+        fs = by_sub[new]
+        sug = next((f.suggestion for f in fs if f.suggestion), None)
+        right = near = False
+        if sug is not None and sug["record"] == original["id"]:
+            right = reproduces(original, bad, sug)
+            near = reproduces(original, bad, sug, tol=0.03)
+        for key in (kind, "all"):
+            t = tally[key]
+            t[0] += 1
+            t[1] += any(f.severity.value == "error" for f in fs)
+            t[2] += right
+            t[3] += near
+            if sug is not None and sug["confidence"] >= 0.8:
+                t[4] += 1
+                t[5] += not right
+    print(f"\n{name}: {len(pool)} clean curves ({dropped} left out: an error as they are)")
+    print("kind              cases  detected  top-1 right  within 0.03  confident  wrong")
+    for kind, (n, det, right, near, conf, wrong) in tally.items():
+        print(
+            f"{kind:16s} {n:6d} {det / n:9.1%} {right / n:12.1%} {near / n:12.1%}"
+            f" {conf:10d} {wrong:6d}"
+        )
+
+
+def main() -> None:
+    measure("Alcock et al. (1984) solids, CRC standard data of sublimation", alcock_pool())
+    measure("Landolt liquids (odd CAS), CRC standard data of vaporization", landolt_pool())
+
+
+if __name__ == "__main__":
+    main()

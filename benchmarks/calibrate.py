@@ -15,7 +15,7 @@ from pathlib import Path
 import numpy as np
 from scipy.constants import R
 
-sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests"))
+sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests" / "_support"))
 
 from refdata import alcock_table, table_from_rows, water_records, water_references  # noqa: E402
 

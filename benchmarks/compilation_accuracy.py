@@ -1,11 +1,11 @@
-"""Measure vpaudit on real literature compilations it was not tuned on (tests/compilations.py:
-Landolt odd-CAS rows, Poling Antoine, McGarry and Poling Wagner, Perry's; references through
-documented ``chemicals`` lookups), per compilation:
+"""Measure vpaudit on real literature compilations it was not tuned on
+(tests/_support/compilations.py: Landolt odd-CAS rows, Poling Antoine, McGarry and Poling
+Wagner, Perry's; references through documented ``chemicals`` lookups), per compilation:
 
 * records of the clean compilation drawing an error, by check (each is either the tool's
   own false alarm or a real defect of the data as carried: the table lists the checks so
   that each class can be looked at);
-* planted single slips (tests/slips.py ``corrupt``, one per substance, on a seeded sample)
+* planted single slips (tests/_support/slips.py ``corrupt``, one per substance, on a seeded sample)
   flagged at error level -- a slip that moves ln P by less than 0.03 everywhere in the
   range (a transposed last digit) is not counted, since no data can tell it;
 * the diagnosis on those: top suggestion is the planted slip, confident (>= 0.8)
@@ -23,7 +23,7 @@ import time
 from collections import Counter
 from pathlib import Path
 
-sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests"))
+sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests" / "_support"))
 
 from compilations import COMPILATIONS, _complete  # noqa: E402
 from refdata import table_from_rows  # noqa: E402

@@ -1,5 +1,5 @@
 """Measure how often the diagnosis names the true slip, and whether its confidence means
-what it says, on a labelled set made by corrupting clean real data (tests/slips.py: Alcock
+what it says, on a labelled set made by corrupting clean real data (tests/_support/slips.py: Alcock
 et al. (1984) metal pairs and Poling et al. Antoine liquids, via ``chemicals``).
 
     python benchmarks/diagnosis_accuracy.py            # the shipped calibration
@@ -21,7 +21,7 @@ from pathlib import Path
 
 import numpy as np
 
-sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests"))
+sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests" / "_support"))
 
 from slips import cases_table, labelled_cases, reproduces  # noqa: E402
 

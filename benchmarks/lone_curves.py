@@ -2,7 +2,7 @@
 
 A lone curve has no partner phase, no boiling-point reference and one source. Two sets of
 real curves, each with the CRC standard data that ``chemicals.reaction`` carries (built by
-tests/anchors.py):
+tests/_support/anchors.py):
 
 * the solids of Alcock, Itkin & Horrigan (1984) (``chemicals``), with the standard enthalpy
   and entropy of sublimation;
@@ -10,7 +10,7 @@ tests/anchors.py):
   standard values of vaporization, whose range starts below twice 298.15 K and which draw no
   error as they are.
 
-Every metadata slip is planted in every curve, not a random one (tests/slips.py,
+Every metadata slip is planted in every curve, not a random one (tests/_support/slips.py,
 ``unit_slips``): the log base, each other pressure unit, and for Antoine equations degC and
 degF with the range in K or in the same scale. Each corrupted curve is its own substance.
 Prints, by kind: cases, detected (an error), the top suggestion right (it gives back the
@@ -27,7 +27,7 @@ import sys
 from collections import defaultdict
 from pathlib import Path
 
-sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests"))
+sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests" / "_support"))
 
 from anchors import anchor_rows  # noqa: E402
 from compilations import _complete, landolt  # noqa: E402

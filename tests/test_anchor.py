@@ -3,7 +3,8 @@ lone curves, and what show and the plots say.
 
 Reference data: Alcock, Itkin & Horrigan (1984) solid curves (chemicals,
 ``Psub_data_Alcock_elements``) against the CRC Handbook standard data carried by
-``chemicals.reaction`` (``Hfg - Hfs``, ``S0g - S0s``, method CRC), built by tests/anchors.py.
+``chemicals.reaction`` (``Hfg - Hfs``, ``S0g - S0s``, method CRC), built by
+tests/_support/anchors.py.
 """
 
 from __future__ import annotations

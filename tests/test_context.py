@@ -1,6 +1,6 @@
 """The audit context's preparation: the same arrays whether the substance codes are made on
 a second thread (large tables) or on this one, on the Alcock, Itkin & Horrigan (1984) metal
-equations as carried by the chemicals package (tests/refdata.py)."""
+equations as carried by the chemicals package (tests/_support/refdata.py)."""
 
 import dataclasses
 

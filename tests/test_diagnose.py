@@ -3,7 +3,7 @@
 Clean data: Alcock, Itkin & Horrigan (1984), Can. Metall. Q. 23, 309 (metal solid/liquid
 pairs) with CRC Handbook melting points, enthalpies of fusion and boiling points, and the
 Antoine constants of Poling, Prausnitz & O'Connell, The Properties of Gases and Liquids,
-5th ed., with CRC boiling points -- all via the ``chemicals`` package (tests/refdata.py).
+5th ed., with CRC boiling points -- all via the ``chemicals`` package (tests/_support/refdata.py).
 """
 
 from __future__ import annotations
@@ -181,7 +181,7 @@ def test_two_names_of_one_pressure_unit_share_one_prior():
 def test_a_lone_antoine_curve_in_degc_keeps_its_range_in_k():
     # Poling et al., Antoine constants of ethanol (via chemicals), rewritten for degC and
     # marked K with the range left in K; the only witness is the CRC standard data at
-    # 298.15 K (tests/anchors.py: dH_vap and dS0_vap, method CRC). Read in degC, the range
+    # 298.15 K (tests/_support/anchors.py: dH_vap and dS0_vap, method CRC). Read in degC, the range
     # (about 550..640 K) would start far above the curve's own boiling point (about 351 K),
     # where 0.2-0.3 % of real liquid equations start theirs (Landolt, Wagner, Poling and
     # Perry compilations, measured): the range as written is the likely one
@@ -268,7 +268,7 @@ def test_suggestion_contract_in_json():
 
 
 def test_labelled_accuracy_does_not_regress():
-    # a small labelled sample (tests/slips.py; the full measurement is
+    # a small labelled sample (tests/_support/slips.py; the full measurement is
     # benchmarks/diagnosis_accuracy.py): the top suggestion is the true slip in most flagged
     # cases, and confident suggestions are rarely wrong
     cases = labelled_cases(seed=7, per_kind=6, poling=6)

@@ -488,7 +488,7 @@ def test_wagner_at_the_critical_point_gives_the_limits_not_nan(form):
 
 def test_wagner_compilation_ranges_ending_at_tc_draw_no_slope_error():
     # McGarry's Wagner 3,6 equations (chemicals, Psat_data_WagnerMcGarry) with the range
-    # stated as Tmin..Tc, as compilations state it (tests/compilations.py)
+    # stated as Tmin..Tc, as compilations state it (tests/_support/compilations.py)
     from compilations import compilation_table
 
     from vpaudit.auditing import audit_table

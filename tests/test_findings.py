@@ -1,6 +1,6 @@
 """Findings built together (AuditContext.findings, pair_findings) equal findings built one
 at a time (finding, pair_finding), on the Alcock, Itkin & Horrigan (1984) metal equations as
-carried by the chemicals package (tests/refdata.py)."""
+carried by the chemicals package (tests/_support/refdata.py)."""
 
 import numpy as np
 import pytest

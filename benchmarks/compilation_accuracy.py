@@ -27,7 +27,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests" / "_support
 
 from compilations import COMPILATIONS, _complete  # noqa: E402
 from refdata import table_from_rows  # noqa: E402
-from slips import KINDS, corrupt, reproduces  # noqa: E402
+from slips import SLIP_KINDS, corrupt, reproduces  # noqa: E402
 
 from vpaudit.auditing import audit_table  # noqa: E402
 
@@ -82,7 +82,7 @@ def planted(name, records, refs, flagged_clean, sample, rng):
     for r in refs:
         refs_by.setdefault(r["substance"], []).append(r)
     for k, sub in enumerate(clean[:sample]):
-        kind = KINDS[k % len(KINDS)]
+        kind = SLIP_KINDS[k % len(SLIP_KINDS)]
         rs = by_sub[sub]
         target = rng.choice(rs)
         if kind == "phase-swap":

@@ -90,7 +90,7 @@ def test_show_and_plot_give_the_anchor(alcock_solids, tmp_path):
     drawn = plot_substance(table, "Zn", tmp_path / "zn.png")
     assert drawn["anchors"] == ["solid"]
     from vpaudit.auditing import audit_table as audit
-    from vpaudit.report.lookup import render_show
+    from vpaudit.report.answers import render_show
 
     text = render_show(table, "Zn", audit(table, substances=["Zn"]))
     assert "Anchor at 298.15 K" in text and "130.4" in text

@@ -20,7 +20,7 @@ from refdata import CRC, alcock_pairs, table_from_rows
 from slips import Case, cases_table, corrupt, labelled_cases, poling_record, reproduces
 
 from vpaudit.auditing import audit, audit_table
-from vpaudit.diagnose import KINDS
+from vpaudit.diagnose import SLIP_KINDS
 
 _ALCOCK = None
 
@@ -264,7 +264,7 @@ def test_suggestion_contract_in_json():
     assert sugs
     for s in sugs:
         assert set(s) >= {"kind", "record", "corrected", "confidence", "explanation"}
-        assert s["kind"] in KINDS and 0.0 <= s["confidence"] <= 1.0
+        assert s["kind"] in SLIP_KINDS and 0.0 <= s["confidence"] <= 1.0
 
 
 def test_labelled_accuracy_does_not_regress():

@@ -167,7 +167,7 @@ def test_convert_and_pair_fit_commands(table, tmp_path):
     # a pair fit needs points of both phases: points generated from the demo's own curves
     from vpaudit.api import open_table
     from vpaudit.fit import fit_table_pair
-    from vpaudit.lookup import record_dict
+    from vpaudit.substance import record_dict
 
     t = open_table(table)
     rows = []

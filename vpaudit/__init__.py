@@ -46,7 +46,7 @@ _HOME = {
     "enthalpy": ".equations",
     "heat_capacity_change": ".equations",
     "ln_pressure": ".equations",
-    "eval_substance": ".lookup",
+    "eval_substance": ".substance",
     "Policy": ".policy",
     "load_policy": ".policy",
     "Table": ".readers",
@@ -58,9 +58,9 @@ if TYPE_CHECKING:
     from .auditing import AuditResult, audit, audit_table
     from .checks import Finding, Severity
     from .equations import Curves, curves_from_frame, enthalpy, heat_capacity_change, ln_pressure
-    from .lookup import eval_substance
     from .policy import Policy, load_policy
     from .readers import Table, load_table
+    from .substance import eval_substance
 
 
 __getattr__, __dir__ = lazy_names(__name__, globals(), _HOME)

@@ -182,7 +182,7 @@ def audit_table(
     policy = policy or load_policy(table.policy_path)
     names = [c.name for c in ordered()] if not only else [get_check(n).name for n in only]
     if substances:
-        from .lookup import check_substances
+        from .substance import check_substances
 
         check_substances(table, substances)  # an unknown name is an error, not "nothing found"
         table = restrict(table, set(substances))

@@ -369,8 +369,8 @@ def checks_cmd(fmt):
 def eval_cmd(table, substance, at, pressure, unit, extrapolate, fmt):
     """Vapour pressure of SUBSTANCE at a temperature, or the temperature at a pressure."""
     from .api import open_table
-    from .lookup import eval_substance
-    from .report.lookup import render_eval
+    from .report.answers import render_eval
+    from .substance import eval_substance
 
     answer = eval_substance(open_table(table), substance, at, pressure, extrapolate)
     if fmt == "json":
@@ -391,10 +391,10 @@ def show_cmd(table, substance, policy):
     from .api import open_table
     from .auditing import audit_table
     from .policy import load_policy
-    from .report.lookup import render_show
+    from .report.answers import render_show
 
     t = open_table(table)
-    from .lookup import substance_records
+    from .substance import substance_records
 
     substance_records(t, substance)
     result = audit_table(
@@ -558,9 +558,9 @@ def _audit_new(t, records: list[dict], substance: str):
     points, before anything is written.
     """
     from .auditing import audit_table
-    from .lookup import records_at
     from .policy import load_policy
     from .readers.table import records_table
+    from .substance import records_at
 
     rec = t.records
     phases = {r.get("phase") for r in records}
@@ -660,7 +660,7 @@ def fit_cmd(
     """
     from .api import open_table
     from .fit import fit_table, fit_table_pair
-    from .report.fit import render_fit, render_pair
+    from .report.fit_summary import render_fit, render_pair
 
     t = open_table(table)
     if pair:
@@ -744,7 +744,7 @@ def convert_cmd(
     """Write RECORD in another form, log base or unit: exactly where possible, else refitted."""
     from .api import open_table
     from .fit import convert_or_refit
-    from .lookup import record_dict
+    from .substance import record_dict
     from .writers import records_csv
 
     rec = record_dict(open_table(table), record)
@@ -902,8 +902,8 @@ def review_cmd(table, by, db, min_confidence):
 def history_cmd(table, record, fmt):
     """Every revision of RECORD: as first entered, and each correction with who, when, why."""
     from .api import open_table
-    from .lookup import check_records
     from .revisions import history
+    from .substance import check_records
 
     entries = history(table, record)
     if not entries:

@@ -75,13 +75,13 @@ from .checks.finding import Finding
 from .constants import R
 from .equations.engine import evaluate
 from .equations.forms import FORMS
-from .lookup import records_at
 from .readers.files import RawFrame
 from .readers.table import Table, _Collector, _record_rules, text_categorical
+from .substance import records_at
 from .units import PRESSURE_UNITS, TEMPERATURE_UNITS
 
 __all__ = [
-    "KINDS",
+    "SLIP_KINDS",
     "Candidate",
     "Change",
     "attach_suggestions",
@@ -94,7 +94,7 @@ __all__ = [
 ]
 
 #: The slip kinds, in reporting order, with the hypothesis each tests.
-KINDS: dict[str, str] = {
+SLIP_KINDS: dict[str, str] = {
     "log-base": "the coefficients are in the other log base than the record says",
     "pressure-unit": "the pressure unit is another one of the supported units",
     "temperature-unit": "degC/degF/K confusion (Antoine)",
@@ -894,7 +894,7 @@ def hypotheses(
     members = _groups(ctx.codes, set(code_of.values()))
     as_written = dict(zip(row_of.values(), records_at(table, row_of.values()), strict=True))
     cal = CALIBRATION
-    prior_kind = math.log((1.0 - cal["prior_none"]) / len(KINDS))
+    prior_kind = math.log((1.0 - cal["prior_none"]) / len(SLIP_KINDS))
     units: list[tuple[int, tuple[Change, ...]]] = []
     plan: dict[str, tuple[int, list[Candidate]]] = {}
     for name, rids in suspects.items():

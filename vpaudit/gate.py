@@ -33,7 +33,7 @@ from .checks.finding import Finding
 from .errors import TableError, TableErrors, VpauditError
 from .policy import Policy, load_policy
 from .readers.files import SUFFIXES
-from .readers.table import KINDS, Table, load_table
+from .readers.table import PARTS, Table, load_table
 
 __all__ = ["GateResult", "gate", "load_accepted", "accept", "ACCEPTED_FILE"]
 
@@ -184,7 +184,7 @@ def _changed_substances(head: Table, base: Table) -> set[str]:
     import pandas as pd
 
     out: set[str] = set()
-    for kind in KINDS:
+    for kind in PARTS:
         sides = []
         for sign, table in ((1, head), (-1, base)):
             frame = getattr(table, kind)
@@ -408,7 +408,7 @@ def accept(
     if not ids:
         raise VpauditError(f"{finding!r} names no record: write CHECK:RECORD[,RECORD]")
     from .checks._registry import get_check
-    from .lookup import check_records
+    from .substance import check_records
 
     get_check(check)  # an unknown check is an error that lists the valid names
     check_records(load_table(table), ids)

@@ -20,9 +20,9 @@ import numpy as np
 from .checks._context import AuditContext
 from .equations.engine import evaluate
 from .errors import VpauditError
-from .lookup import substance_records
 from .policy import load_policy
 from .readers.table import Table
+from .substance import substance_records
 from .units import pressure_factor
 
 __all__ = ["plot_substance"]

@@ -29,7 +29,7 @@ from vpaudit.equations.convert import convert_record
 from vpaudit.equations.engine import curves_from_frame, evaluate
 from vpaudit.units import PRESSURE_UNITS
 
-KINDS = (
+SLIP_KINDS = (
     "log-base",
     "pressure-unit",
     "temperature-unit",
@@ -149,7 +149,7 @@ def _alcock_cases(rng: random.Random, per_kind: int | None) -> list[Case]:
         except Exception:
             tb[str(sol.loc[cas, "Name"])] = None
     k = 0
-    for kind in (*KINDS, "other", "clean"):
+    for kind in (*SLIP_KINDS, "other", "clean"):
         if kind == "temperature-unit":
             continue
         chosen = names if per_kind is None else rng.sample(names, min(per_kind, len(names)))
@@ -225,7 +225,7 @@ def _poling_cases(rng: random.Random, n: int, per_kind: int | None) -> list[Case
             break
     cases: list[Case] = []
     k = 0
-    for kind in (*[x for x in KINDS if x != "phase-swap"], "other", "clean"):
+    for kind in (*[x for x in SLIP_KINDS if x != "phase-swap"], "other", "clean"):
         chosen = pool if per_kind is None else rng.sample(pool, min(per_kind, len(pool)))
         for cas, a, tb in chosen:
             sub = f"{cas}#{k}"
@@ -338,7 +338,7 @@ def _plain(rec: dict) -> dict:
 __all__ = [
     "ALCOCK",
     "Case",
-    "KINDS",
+    "SLIP_KINDS",
     "cases_table",
     "corrupt",
     "labelled_cases",

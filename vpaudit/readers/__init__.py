@@ -19,7 +19,7 @@ _HOME = {
     "normalize_typography": ".grammar",
     "parse_number": ".grammar",
     "parse_number_column": ".grammar",
-    "KINDS": ".table",
+    "PARTS": ".table",
     "RawFrame": ".table",
     "Table": ".table",
     "load_table": ".table",
@@ -28,13 +28,13 @@ _HOME = {
 
 if TYPE_CHECKING:
     from .grammar import NumberSyntaxError, normalize_typography, parse_number, parse_number_column
-    from .table import KINDS, RawFrame, Table, load_table, read_file
+    from .table import PARTS, RawFrame, Table, load_table, read_file
 
 
 __getattr__, __dir__ = lazy_names(__name__, globals(), _HOME)
 
 __all__ = [
-    "KINDS",
+    "PARTS",
     "NumberSyntaxError",
     "RawFrame",
     "Table",

@@ -51,7 +51,7 @@ SUFFIXES = {
 }
 #: The kinds of table file: the folders of a table directory, in the order they are read,
 #: and the keys a YAML or JSON file may name its kind by.
-KINDS = ("records", "references", "points")
+PARTS = ("records", "references", "points")
 
 
 @dataclass
@@ -465,7 +465,7 @@ def _yaml_items(path: str, node: yaml.Node, at) -> tuple[list[yaml.MappingNode],
     hint = None
     if isinstance(node, yaml.MappingNode):
         keys = [k.value for k, _ in node.value]
-        if len(keys) == 1 and keys[0] in KINDS:
+        if len(keys) == 1 and keys[0] in PARTS:
             hint = keys[0]
             node = node.value[0][1]
         else:
@@ -750,7 +750,7 @@ def table_files(root: Path) -> list[tuple[Path, str]]:
     ``records/``, ``references/``, ``points/``, each folder's files (at any depth) sorted.
     """
     found = []
-    for kind in KINDS:
+    for kind in PARTS:
         folder = root / kind
         if folder.is_dir():
             for f in sorted(folder.rglob("*")):

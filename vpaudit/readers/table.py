@@ -38,11 +38,11 @@ from ..units import (
     QUANTITY_UNITS,
     TEMPERATURE_UNITS,
 )
-from .files import KINDS, RawFrame, read_raw, table_files
+from .files import PARTS, RawFrame, read_raw, table_files
 from .grammar import explain, normalize_typography, parse_number_column, parse_number_texts
 
 __all__ = [
-    "KINDS",
+    "PARTS",
     "RawFrame",
     "Table",
     "load_table",
@@ -616,7 +616,7 @@ def _empty(kind: str) -> pd.DataFrame:
 
 def _finish(parts: dict[str, list[pd.DataFrame]], out: _Collector, **kw) -> Table:
     frames = {}
-    for kind in KINDS:
+    for kind in PARTS:
         pieces = [p for p in parts[kind] if len(p)]
         if len(pieces) > 1:  # unify dictionaries so categorical columns stay categorical
             for col in pieces[0].columns:
@@ -671,7 +671,7 @@ def _load(
     **kw,
 ) -> Table:
     out = _Collector()
-    parts: dict[str, list[pd.DataFrame]] = {k: [] for k in KINDS}
+    parts: dict[str, list[pd.DataFrame]] = {k: [] for k in PARTS}
     for path in paths:
         try:
             raw = read_raw(path, runtime.ahead)
@@ -700,7 +700,7 @@ def _load(
         parts[kind].append(frame_from_raw(raw, kind, out, normalize, runtime))
         del raw
     table = _finish(parts, out, files=[str(p) for p in paths], **kw)
-    if sum(len(p) for kind in KINDS for p in parts[kind]) >= PARALLEL_ROWS:
+    if sum(len(p) for kind in PARTS for p in parts[kind]) >= PARALLEL_ROWS:
         from ..runtime import release_scratch
 
         release_scratch()  # the reading's scratch space, before the audit allocates its own

@@ -228,3 +228,12 @@ def test_the_checks_page_renders_as_markdown_tables_and_prose():
         if line.startswith("|"):
             assert len(re.split(r"(?<!\\)\|", line)) == 7, line  # 5 cells
         assert not line.startswith("    "), line
+
+
+def test_every_report_format_is_offered_by_the_command_line():
+    # cli.FORMATS is spelled out so that starting the command imports no reporter; this
+    # keeps it equal to the reporters that exist (report.RENDERERS)
+    from vpaudit.cli import FORMATS
+    from vpaudit.report import RENDERERS
+
+    assert set(FORMATS) == set(RENDERERS)

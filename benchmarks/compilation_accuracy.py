@@ -70,6 +70,29 @@ def _visible(original: dict, bad: dict, threshold: float = 0.03) -> bool:
     return bool(not np.all(np.isfinite(d)) or np.nanmax(d) > threshold)
 
 
+#: (stated confidence, right) of every suggestion on a planted slip, per compilation
+STATED: dict[str, list[tuple[float, bool]]] = {}
+BINS = ((0.15, 0.5), (0.5, 0.8), (0.8, 0.95), (0.95, 1.0001))
+
+
+def calibration_table() -> None:
+    """Stated confidence against the fraction right, per compilation: the confidence was
+    fitted on the evaluated labelled set, and this is how it carries over."""
+    print("\nconfidence by compilation: suggestions / mean stated / fraction right")
+    print(f"{'':15s}" + "".join(f"  {lo:.2f}-{min(hi, 1):.2f}        " for lo, hi in BINS))
+    for name, rows in STATED.items():
+        cells = []
+        for lo, hi in BINS:
+            b = [(c, ok) for c, ok in rows if lo <= c < hi]
+            if b:
+                mean = sum(c for c, _ in b) / len(b)
+                frac = sum(ok for _, ok in b) / len(b)
+                cells.append(f"{len(b):4d} {mean:5.2f} {frac:5.2f}")
+            else:
+                cells.append(f"{0:4d}   -     -  ")
+        print(f"{name:15s}" + "".join(f"  {c:20s}" for c in cells))
+
+
 def planted(name, records, refs, flagged_clean, sample, rng):
     """One slip in one record of each of ``sample`` clean substances (no error before)."""
     by_sub: dict[str, list[dict]] = {}
@@ -113,6 +136,7 @@ def planted(name, records, refs, flagged_clean, sample, rng):
     result = audit_table(table_from_rows(recs, out_refs))
     detected = right = confident = confident_wrong = 0
     missed: Counter = Counter()
+    stated = STATED.setdefault(name, [])
     for new, kind, rid, original, bad in cases:
         fs = [f for f in result.findings if f.substance == new]
         if any(f.severity.value == "error" for f in fs):
@@ -127,6 +151,7 @@ def planted(name, records, refs, flagged_clean, sample, rng):
         else:
             ok = sug["record"] == rid and reproduces(original, dict(bad, id=rid), sug)
         right += ok
+        stated.append((sug["confidence"], ok))
         if sug["confidence"] >= 0.8:
             confident += 1
             confident_wrong += not ok
@@ -164,6 +189,7 @@ def main() -> None:
         )
         print("    errors on the clean compilation by check:", dict(by_check.most_common()))
         print("    planted slips not flagged as errors, by kind:", dict(missed.most_common()))
+    calibration_table()
     print("(lone curves with standard data only: benchmarks/lone_curves.py)")
 
 

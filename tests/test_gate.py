@@ -95,6 +95,29 @@ def test_accepting_the_new_findings_passes_the_gate(repo):
     assert any(f["status"] == "accepted" for f in data["findings"])
 
 
+def test_a_findings_status_travels_with_it(repo):
+    # the status is part of the finding, not a table keyed by object identity: a copy made
+    # with dataclasses.replace keeps it, and a fresh finding is never taken for a judged one
+    import dataclasses
+
+    from vpaudit.checks.finding import Finding
+
+    _head_change(repo)
+    first = next(f for f in gate(repo / "table", "base").findings if f.check != "missing-source")
+    r = run(
+        "accept", f"{first.check}:{','.join(first.records)}", "--table", repo / "table",
+        "--reason", "checked against the lab notebook", "--until", "2099-12-31",
+    )  # fmt: skip
+    assert r.exit_code == 0, r.output
+    result = gate(repo / "table", "base")
+    assert "accepted" in {result.status_of(f) for f in result.findings}
+    for f in result.findings:
+        copy = dataclasses.replace(f, message=f.message + " (copy)")
+        assert result.status_of(copy) == result.status_of(f)
+        fresh = Finding(f.check, f.severity, f.substance, f.records, f.message)
+        assert result.status_of(fresh) == "new"
+
+
 def test_expired_acceptance_is_reported_and_fails_again(repo):
     _head_change(repo)
     run(

@@ -21,7 +21,7 @@ import re
 import subprocess
 import tempfile
 import tomllib
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
@@ -65,13 +65,13 @@ class Acceptance:
 class GateResult(AuditResult):
     """An audit result whose findings carry a status: new, existing or accepted."""
 
-    status: dict[int, str] = field(default_factory=dict)
     base: str = ""
     affected: int = 0
 
-    def status_of(self, f: Finding) -> str:
-        """new, existing or accepted."""
-        return self.status.get(id(f), "new")
+    @staticmethod
+    def status_of(f: Finding) -> str:
+        """new, existing or accepted (a finding the gate has not judged counts as new)."""
+        return f.status or "new"
 
     def fails(self, fail_on: str) -> bool:
         """Whether a *new* finding is at or above ``fail_on``."""
@@ -260,7 +260,7 @@ def _apply_acceptances(
     for f in result.findings:
         for k, a in enumerate(accepted):
             if a.matches(f) and (a.until is None or a.until >= today):
-                result.status[id(f)] = "accepted"
+                f.status = "accepted"
                 used.add(k)
                 break
     extra = []
@@ -297,7 +297,7 @@ def _apply_acceptances(
             )
     for f in extra:
         result.findings.append(f)
-        result.status[id(f)] = "new" if f.check == "acceptance-expired" else "existing"
+        f.status = "new" if f.check == "acceptance-expired" else "existing"
 
 
 def gate(
@@ -355,7 +355,7 @@ def gate(
         affected=len(changed),
     )
     for f in result.findings:
-        result.status[id(f)] = "existing" if f.key in base_keys else "new"
+        f.status = "existing" if f.key in base_keys else "new"
     if unreadable is not None:
         result.findings.append(
             Finding(

@@ -39,6 +39,10 @@ class Finding:
     file, line : str or None, int or None
         Where the record the finding is about stands in the table files (the suspect a
         diagnosis names, else the first record).
+    status : str or None
+        Set by the gate only: ``new``, ``existing`` or ``accepted`` against the base
+        revision; None in an audit. It travels with the finding (``dataclasses.replace``
+        keeps it) and is not part of the audit's JSON.
     """
 
     check: str
@@ -50,6 +54,7 @@ class Finding:
     suggestion: dict[str, Any] | None = None
     file: str | None = None
     line: int | None = None
+    status: str | None = None
 
     @property
     def key(self) -> tuple[str, str, tuple[str, ...]]:

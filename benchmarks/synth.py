@@ -54,12 +54,19 @@ def antoine(tm, dh, lnp, pole_fraction):
 
 
 def generate(
-    folder: Path, n: int, defect_rate: float = 0.03, seed: int = 1, antoine_share: float = 0.1
+    folder: Path,
+    n: int,
+    defect_rate: float = 0.03,
+    seed: int = 1,
+    antoine_share: float = 0.1,
+    every_log_base: bool = False,
 ) -> dict:
     """Write ``records/records.csv`` and ``references/references.csv`` for ``n`` substances;
     returns {substance: defect} for the planted ones. A share ``antoine_share`` of the
     liquids is written in the Antoine form (the rest, and every solid, in the three-term
-    form), so the audit meets two equation forms and pairs of mixed forms."""
+    form), so the audit meets two equation forms and pairs of mixed forms.
+    ``every_log_base``: every liquid's coefficients are for log10 P but marked ln P (a whole
+    compilation typed in under one wrong header), so every substance is flagged."""
     rng = np.random.default_rng(seed)
     tm = rng.uniform(300.0, 2500.0, n)
     hvap = tm * rng.uniform(180.0, 260.0, n)
@@ -76,6 +83,8 @@ def generate(
     defect = np.full(n, "", dtype=object)
     pick = rng.random(n) < defect_rate
     defect[pick] = rng.choice(DEFECTS, pick.sum())
+    if every_log_base:
+        defect[:] = "log-base"
     bs = np.where(defect == "sign-B", -bs, bs)
     al_w = np.where(defect == "log-base", al / math.log(10), al)
     bl_w = np.where(defect == "log-base", bl / math.log(10), bl)  # C stays: ln T, or T + C

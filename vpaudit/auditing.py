@@ -19,6 +19,7 @@ from ._caution import CAUTION  # the caution every report carries (re-exported)
 from .checks._context import AuditContext
 from .checks._registry import REGISTRY, Severity, get_check, ordered
 from .checks.finding import Finding
+from .checks.witness import DISAGREEMENTS, vouched, witness_of
 from .policy import Policy, load_policy
 from .readers.table import Table
 from .runtime import DEFAULT, PARALLEL_ROWS, Runtime
@@ -74,30 +75,63 @@ def _sort_key(f: Finding):
     return (_FIRST[f.severity], f.substance, f.check, f.records)
 
 
-def point_at_suspects(ctx: AuditContext, findings: list[Finding]) -> list[Finding]:
-    """Locate each finding on several records, and without a suggestion, at the one record
-    that the substance's other findings single out (a finding on it alone), when exactly one
-    is: a pair's mismatch then lands on the suspect liquid, not on its clean solid partner.
+def point_at_suspects(
+    ctx: AuditContext, findings: list[Finding], backed: np.ndarray | None = None
+) -> list[Finding]:
+    """Locate each finding on several records, and without a suggestion, at its likely
+    culprit: the one record that the substance's other findings single out (a finding on it
+    alone), when exactly one is, so that a pair's mismatch lands on the suspect liquid, not
+    on its clean solid partner; failing that, for a pair, the record that no independent
+    witness backs when its partner is backed (``backed``: :func:`checks.witness.vouched`),
+    which the finding then says.
     """
     alone: dict[str, set[str]] = {}
     for f in findings:
         if len(f.records) == 1:
             alone.setdefault(f.substance, set()).add(f.records[0])
     moves: dict[int, str] = {}
+    pending: dict[int, tuple[str, str]] = {}
     for k, f in enumerate(findings):
         if len(f.records) > 1 and not f.suggestion:
             named = [r for r in f.records if r in alone.get(f.substance, ())]
-            if len(named) == 1 and named[0] != f.records[0]:
-                moves[k] = named[0]
-    if not moves:
+            if len(named) == 1:
+                if named[0] != f.records[0]:
+                    moves[k] = named[0]
+            elif (
+                not named
+                and len(f.records) == 2
+                and f.check in DISAGREEMENTS
+                and backed is not None
+                and backed.any()
+            ):
+                pending[k] = (f.records[0], f.records[1])
+    witnessed: dict[int, tuple[str, str, int]] = {}
+    if pending:
+        rows = ctx.rows_by_id({r for pair in pending.values() for r in pair})
+        for k, (a, b) in pending.items():
+            if a not in rows or b not in rows:
+                continue
+            wa, wb = backed[rows[a]], backed[rows[b]]
+            if (wa > 0) != (wb > 0):
+                culprit, partner, witness = (b, a, wa) if wa else (a, b, wb)
+                witnessed[k] = (culprit, partner, int(witness))
+                if culprit != findings[k].records[0]:
+                    moves[k] = culprit
+    if not moves and not witnessed:
         return findings
-    ids = ctx.table.records["id"].astype(object)
-    rows = np.flatnonzero(ids.isin(set(moves.values())).to_numpy())
-    where = {str(ids.iat[r]): ctx.location(int(r)) for r in rows}
+    rows = ctx.rows_by_id(set(moves.values()))
     out = list(findings)
     for k, rid in moves.items():
-        if rid in where:
-            out[k] = dataclasses.replace(out[k], **where[rid])
+        if rid in rows:
+            out[k] = dataclasses.replace(out[k], **ctx.location(rows[rid]))
+    for k, (culprit, partner, witness) in witnessed.items():
+        f = out[k]
+        out[k] = dataclasses.replace(
+            f,
+            message=f"{f.message} {partner} meets {witness_of(witness)} and {culprit} "
+            f"has no such witness: {culprit} is the likelier culprit.",
+            evidence={**f.evidence, "likely_culprit": culprit},
+        )
     return out
 
 
@@ -188,6 +222,7 @@ def audit_table(
         table = restrict(table, set(substances))
     ctx = AuditContext(table, policy, runtime)
     findings = run_checks(ctx, names, progress)
+    backed = vouched(ctx) if any(f.check in DISAGREEMENTS for f in findings) else None
     not_checked = coverage(ctx) if len(table.records) else {}
     n_pairs = len(ctx.pairs.solid) if any(REGISTRY[n].scope.value == "pair" for n in names) else 0
     ctx.drop_shared()  # not needed any more: the diagnosis and the output use their memory
@@ -201,7 +236,7 @@ def audit_table(
 
         limit = DIAGNOSE_LIMIT if diagnose is True else int(diagnose)
         findings, skipped = attach_suggestions(ctx, findings, limit)
-    findings = point_at_suspects(ctx, findings)
+    findings = point_at_suspects(ctx, findings, backed)
     findings.sort(key=_sort_key)
     summary = {
         "records": int(len(table.records)),

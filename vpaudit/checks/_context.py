@@ -181,6 +181,12 @@ class AuditContext:
         """The id of record ``row``."""
         return str(self._id_values[int(row)].as_py())
 
+    def rows_by_id(self, ids) -> dict[str, int]:
+        """The record row of each id in ``ids`` (ids that no record has are left out)."""
+        column = self.table.records["id"].astype(object)
+        rows = np.flatnonzero(column.isin(set(ids)).to_numpy())
+        return {str(column.iat[r]): int(r) for r in rows}
+
     def location(self, row: int) -> dict:
         """Where record ``row`` stands: ``{"file", "line"}``."""
         return {"file": str(self._files[self.file_code[int(row)]]), "line": int(self.line[row])}

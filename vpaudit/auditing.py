@@ -316,9 +316,8 @@ def _pairs_beside(ctx: AuditContext, names: list[str]):
     That work is numpy over large arrays, which releases the GIL, so a second core that
     is free does it while this thread computes the range extrema and the equation hashes
     and runs every check that needs no pair, then takes what is left of the crossing
-    search (:meth:`AuditContext.lend_a_hand`). At 10^6 substances all the checks took
-    1.9 s this way against 2.3 s with the range extrema and the pairs made side by side
-    before any check ran (measured). The pairs need the substance codes, which may still
+    search (:meth:`AuditContext.lend_a_hand`); docs/performance.md gives what it saves.
+    The pairs need the substance codes, which may still
     be being hashed on a third thread (:class:`AuditContext`): this thread does not wait
     for them, as the range extrema need none. An error there is left for the first pair
     check to meet and report as its ``internal-error``.

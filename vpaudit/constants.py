@@ -1,8 +1,8 @@
 """Physical constants and unit factors, exact in the SI (no import of scipy at start-up).
 
 Every value here is exact by definition, so writing it out loses nothing; the test suite
-compares each with :mod:`scipy.constants` (CODATA). Importing scipy.constants costs about
-0.09 s, a tenth of vpaudit's start-up, paid on every run of the CI gate.
+compares each with :mod:`scipy.constants` (CODATA). Importing scipy.constants would add a
+tenth to vpaudit's start-up, paid on every run of the CI gate (docs/performance.md).
 """
 
 from __future__ import annotations

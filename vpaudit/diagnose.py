@@ -177,7 +177,7 @@ class Candidate:
 
 def _logsumexp(x: np.ndarray) -> float:
     """log(sum(exp(x))) without overflow (the largest term factored out); scipy.special's
-    version costs 0.19 s to import, more than a small audit.
+    version is dear to import (docs/performance.md).
     """
     top = float(np.max(x))
     if not np.isfinite(top):
@@ -1143,8 +1143,9 @@ def _suggestion(
     return sug
 
 
-#: Substances diagnosed in one audit by default: about 5 ms each, so a table whose every
-#: substance is broken still finishes in seconds; the rest are counted in the summary.
+#: Substances diagnosed in one audit by default (the cost per substance is in
+#: docs/performance.md), so a table whose every substance is broken still finishes in
+#: seconds; the rest are counted in the summary.
 DIAGNOSE_LIMIT = 1000
 
 

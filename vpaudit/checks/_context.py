@@ -61,8 +61,8 @@ class AuditContext:
         rec = table.records
         self.n = len(rec)
         # Integer codes of the substances of records, references and points together: every
-        # join below is on these, with numpy. The hashing of the names (0.4-0.6 s for the
-        # 4 x 10^6 of a million-substance table) releases the GIL: a large table does it on
+        # join below is on these, with numpy. The hashing of the names (a large share of the
+        # audit at 10^6 substances: docs/performance.md) releases the GIL: a large table does it on
         # a second thread while this one builds the curves and goes on to the range
         # extrema, which need no codes; the first use of a code waits for them (_coded).
         parts = [rec["substance"], table.references["substance"], table.points["substance"]]

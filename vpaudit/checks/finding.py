@@ -15,10 +15,9 @@ class Finding:
     """One suspect entry, with the numbers behind the verdict.
 
     Treat a finding as a value: the diagnosis attaches its suggestion with
-    :func:`dataclasses.replace`, never by assignment. The class is not frozen because a
-    frozen dataclass sets each field through ``object.__setattr__``: making the ~90 000
-    findings of a million-substance table took 0.20 s frozen against 0.05 s (best of three
-    runs on this project's machine).
+    :func:`dataclasses.replace`, never by assignment (the gate's ``status`` aside). The
+    class is not frozen because a frozen dataclass sets each field through
+    ``object.__setattr__``, four times the cost (docs/performance.md).
 
     Attributes
     ----------

@@ -810,7 +810,7 @@ def read_ahead(path: str | Path) -> ReadAhead | None:
     (passed down in :class:`vpaudit.runtime.Runtime`), None when nothing was started.
 
     For the command line: ``vpaudit audit`` calls it before it imports pandas, the checks
-    and the reporters (about 0.4 s), so that the files are read meanwhile, and the next
+    and the reporters (docs/performance.md), so that the files are read meanwhile, and the next
     file is read while the frame of the last one is built. :func:`read_raw` takes a file's
     result only while the file's size and modification time are those it had when its read
     began (else it reads the file again), and raises a read's error itself. A ``.duckdb``

@@ -176,6 +176,13 @@ def test_two_names_of_one_pressure_unit_share_one_prior():
     }
     both = np.logaddexp(prior["Torr"], prior["mmHg"])
     assert both == pytest.approx(prior["kPa"]) and prior["bar"] == pytest.approx(prior["kPa"])
+    # and for a record in mmHg, "Torr" is no slip at all: it is not offered
+    offered = {
+        c.changes[0].value
+        for c in candidates_for(dict(rec, pressure_unit="mmHg"), 0, [])
+        if c.kind == "pressure-unit"
+    }
+    assert "Torr" not in offered and "mmHg" not in offered and "Pa" in offered
 
 
 def test_a_lone_antoine_curve_in_degc_keeps_its_range_in_k():

@@ -255,7 +255,8 @@ def candidates_for(
     )
     unit = rec["pressure_unit"]
     for u in PRESSURE_UNITS:
-        if u != unit:
+        # another name of the record's own unit (Torr for mmHg) would change nothing
+        if _UNIT_NAME[u] != _UNIT_NAME.get(unit, unit):
             by_kind["pressure-unit"].append(
                 (
                     (Change(row, "pressure_unit", u),),

@@ -371,7 +371,8 @@ def _boiling_residuals(ctx: AuditContext):
     u_tb = ctx.reference_uncertainty("normal_boiling_point", rows)
     stated = ~np.isnan(u_tb)
     u_tb = np.where(stated, u_tb, th["tb_uncertainty"])
-    sigma = np.sqrt(u_p**2 + (np.abs(y1) * u_tb) ** 2)
+    with np.errstate(over="ignore"):  # a slope that overflows leaves an infinite sigma
+        sigma = np.sqrt(u_p**2 + (np.abs(y1) * u_tb) ** 2)
     return rows, c, t, y, y1, d, np.maximum(th["tolerance"], th["factor"] * sigma), stated
 
 

@@ -45,8 +45,8 @@ def vouched(ctx: AuditContext) -> np.ndarray:
     got = _boiling_residuals(ctx)
     if got is not None:
         rows, *_, d, tol, _ = got
-        with np.errstate(invalid="ignore"):
-            out[rows[np.abs(d) <= tol]] = 1
+        with np.errstate(invalid="ignore"):  # a witness needs a finite tolerance
+            out[rows[(np.abs(d) <= tol) & np.isfinite(tol)]] = 1
     a = anchor_values(ctx)
     if a is not None:
         al = allowances(ctx, a)

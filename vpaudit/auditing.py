@@ -19,7 +19,7 @@ from ._caution import CAUTION  # the caution every report carries (re-exported)
 from .checks._context import AuditContext
 from .checks._registry import REGISTRY, Severity, get_check, ordered
 from .checks.finding import Finding
-from .checks.witness import DISAGREEMENTS, vouched, witness_of
+from .checks.witness import DISAGREEMENTS, Witnesses, vouched
 from .policy import Policy, load_policy
 from .readers.table import Table
 from .runtime import DEFAULT, PARALLEL_ROWS, Runtime
@@ -76,45 +76,42 @@ def _sort_key(f: Finding):
 
 
 def point_at_suspects(
-    ctx: AuditContext, findings: list[Finding], backed: np.ndarray | None = None
+    ctx: AuditContext, findings: list[Finding], witnesses: Witnesses | None = None
 ) -> list[Finding]:
     """Locate each finding on several records, and without a suggestion, at its likely
     culprit: the one record that the substance's other findings single out (a finding on it
     alone), when exactly one is, so that a pair's mismatch lands on the suspect liquid, not
-    on its clean solid partner; failing that, for a pair, the record that no independent
-    witness backs when its partner is backed (``backed``: :func:`checks.witness.vouched`),
-    which the finding then says.
+    on its clean solid partner; failing that, for two curves that disagree, the one that no
+    witness pins more finely than the disagreement when the other is so pinned
+    (:func:`checks.witness.vouched`), which the finding then says.
     """
     alone: dict[str, set[str]] = {}
     for f in findings:
         if len(f.records) == 1:
             alone.setdefault(f.substance, set()).add(f.records[0])
     moves: dict[int, str] = {}
-    pending: dict[int, tuple[str, str]] = {}
+    pending: dict[int, float] = {}
     for k, f in enumerate(findings):
         if len(f.records) > 1 and not f.suggestion:
             named = [r for r in f.records if r in alone.get(f.substance, ())]
             if len(named) == 1:
                 if named[0] != f.records[0]:
                     moves[k] = named[0]
-            elif (
-                not named
-                and len(f.records) == 2
-                and f.check in DISAGREEMENTS
-                and backed is not None
-                and backed.any()
-            ):
-                pending[k] = (f.records[0], f.records[1])
-    witnessed: dict[int, tuple[str, str, int]] = {}
+            elif not named and len(f.records) == 2 and f.check in DISAGREEMENTS:
+                size = f.evidence.get(DISAGREEMENTS[f.check])
+                if size is not None and witnesses is not None:
+                    pending[k] = abs(float(size))
+    witnessed: dict[int, tuple[str, int]] = {}
     if pending:
-        rows = ctx.rows_by_id({r for pair in pending.values() for r in pair})
-        for k, (a, b) in pending.items():
+        rows = ctx.rows_by_id({r for k in pending for r in findings[k].records})
+        for k, size in pending.items():
+            a, b = findings[k].records
             if a not in rows or b not in rows:
                 continue
-            wa, wb = backed[rows[a]], backed[rows[b]]
-            if (wa > 0) != (wb > 0):
-                culprit, partner, witness = (b, a, wa) if wa else (a, b, wb)
-                witnessed[k] = (culprit, partner, int(witness))
+            pins = [witnesses.resolution[rows[r]] < size for r in (a, b)]
+            if pins[0] != pins[1]:
+                culprit, partner = (b, a) if pins[0] else (a, b)
+                witnessed[k] = (culprit, rows[partner])
                 if culprit != findings[k].records[0]:
                     moves[k] = culprit
     if not moves and not witnessed:
@@ -124,12 +121,13 @@ def point_at_suspects(
     for k, rid in moves.items():
         if rid in rows:
             out[k] = dataclasses.replace(out[k], **ctx.location(rows[rid]))
-    for k, (culprit, partner, witness) in witnessed.items():
+    for k, (culprit, partner) in witnessed.items():
         f = out[k]
         out[k] = dataclasses.replace(
             f,
-            message=f"{f.message} {partner} meets {witness_of(witness)} and {culprit} "
-            f"has no such witness: {culprit} is the likelier culprit.",
+            message=f"{f.message} {ctx.id(partner)} meets {witnesses.words(partner)}, which "
+            f"pins it within {witnesses.resolution[partner]:.2g} in ln P, finer than this "
+            f"disagreement; {culprit} has no such witness: {culprit} is the likelier culprit.",
             evidence={**f.evidence, "likely_culprit": culprit},
         )
     return out
@@ -222,7 +220,7 @@ def audit_table(
         table = restrict(table, set(substances))
     ctx = AuditContext(table, policy, runtime)
     findings = run_checks(ctx, names, progress)
-    backed = vouched(ctx) if any(f.check in DISAGREEMENTS for f in findings) else None
+    witnesses = vouched(ctx) if any(f.check in DISAGREEMENTS for f in findings) else None
     not_checked = coverage(ctx) if len(table.records) else {}
     n_pairs = len(ctx.pairs.solid) if any(REGISTRY[n].scope.value == "pair" for n in names) else 0
     ctx.drop_shared()  # not needed any more: the diagnosis and the output use their memory
@@ -236,7 +234,7 @@ def audit_table(
 
         limit = DIAGNOSE_LIMIT if diagnose is True else int(diagnose)
         findings, skipped = attach_suggestions(ctx, findings, limit)
-    findings = point_at_suspects(ctx, findings, backed)
+    findings = point_at_suspects(ctx, findings, witnesses)
     findings.sort(key=_sort_key)
     summary = {
         "records": int(len(table.records)),

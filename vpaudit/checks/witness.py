@@ -1,52 +1,65 @@
-"""Which records an independent witness vouches for.
+"""Which records an independent witness vouches for, and how finely.
 
-A solid/liquid pair that disagrees (at the melting point, in its crossing, in Hess's law)
-says that one of its two records is off, not which. A witness that concerns one record
-alone can say it: a liquid whose curve meets its reference normal boiling point, or a curve
-that meets both standard values at 298.15 K, is backed by data that owe nothing to its
-partner, so when only one record of a disagreeing pair is backed, the other is the likelier
-culprit. Each witness is the one its check applies, with that check's tolerance.
+A solid/liquid pair (or two sources) that disagree say that one of the two curves is off,
+not which. A witness that concerns one record alone can say it: a liquid whose curve meets
+its reference normal boiling point, or a curve that meets both standard values at
+298.15 K, is backed by data that owe nothing to its partner. It backs the curve only as
+finely as its own tolerance, though: the boiling point to the tolerance of
+``boiling-point-mismatch`` in ln P, the standard entropy to its allowance over R (15 J/(mol
+K) is 1.8 in ln P, a factor 6 in pressure). So a witnessed record points at its partner
+only when its witness is finer than the disagreement and the partner has no such witness.
 """
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 import numpy as np
 
+from ..constants import R
 from ._context import AuditContext
 from .anchor import allowances, anchor_values
 from .record import _boiling_residuals
 
-__all__ = ["DISAGREEMENTS", "vouched", "witness_of"]
+__all__ = ["DISAGREEMENTS", "Witnesses", "vouched"]
 
-#: Findings that two curves disagree, where one witnessed curve points at the other.
-DISAGREEMENTS = frozenset(
-    {
-        "no-crossing",
-        "crossing-orientation",
-        "crossing-outside-range",
-        "melting-point-mismatch",
-        "fusion-enthalpy-mismatch",
-        "sources-disagree",
-    }
-)
+#: Findings that two curves disagree, where one witnessed curve points at the other: each
+#: with the evidence key of how far apart they are, in ln P.
+DISAGREEMENTS = {
+    "no-crossing": "difference_lnP_at_anchor",
+    "crossing-outside-range": "difference_lnP_at_range_end",
+    "melting-point-mismatch": "difference_lnP",
+    "sources-disagree": "difference_lnP",
+}
 
 #: What backs a record, as the finding says it.
-BOILING = "its reference normal boiling point"
-ANCHOR = "both standard values at 298.15 K"
+_WORDS = {1: "its reference normal boiling point", 2: "both standard values at 298.15 K"}
 
 
-def vouched(ctx: AuditContext) -> np.ndarray:
-    """Per record row, the witness that backs it: 0 none, 1 its reference normal boiling
-    point (within the ``boiling-point-mismatch`` tolerance), 2 both 298.15 K standard values
-    (within the warning allowances of ``anchor-enthalpy`` and ``anchor-entropy``, judged:
-    not extrapolated beyond their reach).
+@dataclass(frozen=True)
+class Witnesses:
+    """Per record row: how finely a witness pins its curve, in ln P (``resolution``; inf
+    where none backs it), and which witness (``kind``: 0 none, 1 the reference normal
+    boiling point, 2 the 298.15 K standard values).
     """
-    out = np.zeros(ctx.n, dtype=np.int8)
-    got = _boiling_residuals(ctx)
-    if got is not None:
-        rows, *_, d, tol, _ = got
-        with np.errstate(invalid="ignore"):  # a witness needs a finite tolerance
-            out[rows[(np.abs(d) <= tol) & np.isfinite(tol)]] = 1
+
+    resolution: np.ndarray
+    kind: np.ndarray
+
+    def words(self, row: int) -> str:
+        """The witness of record ``row``, in words."""
+        return _WORDS[int(self.kind[row])]
+
+
+def vouched(ctx: AuditContext) -> Witnesses:
+    """The witnesses of every record. A liquid whose curve meets its reference normal
+    boiling point within the ``boiling-point-mismatch`` tolerance is pinned to that
+    tolerance; a curve that meets both 298.15 K standard values within the warning
+    allowances of ``anchor-enthalpy`` and ``anchor-entropy`` (judged: not extrapolated
+    beyond their reach) is pinned to the entropy allowance over R, its level in ln P.
+    """
+    resolution = np.full(ctx.n, np.inf)
+    kind = np.zeros(ctx.n, dtype=np.int8)
     a = anchor_values(ctx)
     if a is not None:
         al = allowances(ctx, a)
@@ -58,10 +71,13 @@ def vouched(ctx: AuditContext) -> np.ndarray:
                 & (np.abs(a["s"] - a["s_ref"]) <= al["s_warn"])
             )
         rows = a["rows"][ok]
-        out[rows[out[rows] == 0]] = 2
-    return out
-
-
-def witness_of(code: int) -> str:
-    """The witness of :func:`vouched` code ``code``, in words."""
-    return BOILING if code == 1 else ANCHOR
+        resolution[rows] = al["s_warn"][ok] / R
+        kind[rows] = 2
+    got = _boiling_residuals(ctx)
+    if got is not None:
+        rows, *_, d, tol, _ = got
+        with np.errstate(invalid="ignore"):  # a witness needs a finite tolerance
+            ok = (np.abs(d) <= tol) & np.isfinite(tol) & (tol < resolution[rows])
+        resolution[rows[ok]] = tol[ok]
+        kind[rows[ok]] = 1
+    return Witnesses(resolution, kind)

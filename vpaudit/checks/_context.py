@@ -294,7 +294,7 @@ class AuditContext:
         tc = self.reference("critical_temperature")
         if not self.any_critical:
             return tc  # all NaN
-        own = np.where(self.curves.family == 2, self.curves.params[:, 6], np.nan)
+        own = self.curves.own_t_crit
         return np.where(np.isnan(tc), own, tc)
 
     @cached_property
@@ -305,7 +305,7 @@ class AuditContext:
         """
         refs = self.table.references
         given = bool(len(refs)) and bool(eq(refs["quantity"], "critical_temperature").any())
-        return given or bool((self.curves.family == 2).any())
+        return given or bool(self.curves.is_wagner.any())
 
     # --- findings ------------------------------------------------------------------------
     def severity(self, check: str) -> Severity | None:

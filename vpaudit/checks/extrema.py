@@ -10,7 +10,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..constants import R
-from ..equations.engine import Curves, evaluate, temperature_at
+from ..equations.engine import ANTOINE, LOG_LINEAR, Curves, evaluate, temperature_at
 
 __all__ = ["RangeExtrema", "extrema_over_ranges", "sampled"]
 
@@ -93,7 +93,7 @@ def extrema_over_ranges(
     c = curves if rows.size == n else curves.take(rows)  # no copy when all are
     y_lo = np.empty(rows.size)
     y_hi = np.empty(rows.size)
-    simple = (c.family == 0) & (c.params[:, 3] == 0)  # log-linear without a D term
+    simple = c.plain
     plain = np.flatnonzero(simple) if closed_form else None
     if plain is not None:  # in blocks too: fresh pages cost more than the arithmetic
         for a in range(0, plain.size, block_rows):
@@ -113,7 +113,7 @@ def extrema_over_ranges(
             finite = np.isfinite(y).all(axis=1)
             out["y_min"][r] = np.where(finite, y.min(axis=1), np.nan)
             out["y_max"][r] = np.where(finite, y.max(axis=1), np.nan)
-        wagner = cb.family[0] == 2  # a block holds one kind of curve (_blocks)
+        wagner = cb.is_wagner[0]  # a block holds one kind of curve (_blocks)
         y_lo[part] = y[:, 0]  # the ends are sampled first (a grid: first and last)
         y_hi[part] = y[:, -1] if wagner else y[:, 1]
     # The near-ideal part of the range, for dCp: up to where P reaches the limit (solved
@@ -166,7 +166,7 @@ def sampled(c: Curves, lo: np.ndarray, hi: np.ndarray, need_h: bool = True, need
     """
     m = c.family.size
     p = c.params
-    if not (c.family != 0).any() and not p[:, 3].any():  # also the empty case
+    if c.plain.all():  # also the empty case
         ts = np.column_stack([lo, hi])
         a, b, cc = (p[:, i : i + 1] for i in range(3))
         with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
@@ -174,7 +174,7 @@ def sampled(c: Curves, lo: np.ndarray, hi: np.ndarray, need_h: bool = True, need
             h = R * (cc * ts - b) if need_h else None
             cp = np.broadcast_to(R * cc, ts.shape) if need_cp else None
         return h, ts, y, cp
-    wag = c.family == 2
+    wag = c.is_wagner
     if wag.any():
         width = _WAGNER_GRID + 2
         ts = np.empty((m, width))
@@ -186,8 +186,10 @@ def sampled(c: Curves, lo: np.ndarray, hi: np.ndarray, need_h: bool = True, need
         fam = c.family[rest]
         with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
             dee = p[:, 3] * p[:, 4] * (p[:, 4] + 1.0)
-            t_h = np.where((fam == 0) & (dee != 0), (-p[:, 2] / dee) ** (1.0 / p[:, 4]), np.nan)
-            t_cp = np.where(fam == 1, p[:, 2] / 2.0, np.nan)
+            t_h = np.where(
+                (fam == LOG_LINEAR) & (dee != 0), (-p[:, 2] / dee) ** (1.0 / p[:, 4]), np.nan
+            )
+            t_cp = np.where(fam == ANTOINE, p[:, 2] / 2.0, np.nan)
         l_r, h_r = lo[rest], hi[rest]
         inner = [t for t in (t_h, t_cp) if not np.isnan(t).all()]
         cand = np.column_stack([l_r, h_r, *inner])
@@ -207,7 +209,7 @@ def _blocks(c: Curves, simple: np.ndarray, block_rows: int, plain: bool = True):
     term (``simple``; taken in closed form, left out with ``plain=False``), the other
     log-linear and Antoine curves (ends and stationary points), Wagner curves (a grid).
     """
-    wagner = c.family == 2
+    wagner = c.is_wagner
     groups = [np.flatnonzero(~simple & ~wagner), np.flatnonzero(wagner)]
     if plain:
         groups.insert(0, np.flatnonzero(simple))

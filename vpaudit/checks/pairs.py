@@ -378,7 +378,7 @@ def _difference_curves(cs: Curves, cl: Curves) -> tuple[np.ndarray, Curves]:
     """Where both curves are log-linear without a D term, y_s - y_l is itself such a curve
     (A, B, C subtract): returns that mask and the difference curves (zeros elsewhere).
     """
-    simple = (cs.family == 0) & (cl.family == 0) & (cs.params[:, 3] == 0) & (cl.params[:, 3] == 0)
+    simple = cs.plain & cl.plain
     d = np.zeros_like(cs.params)
     d[simple, :3] = cs.params[simple, :3] - cl.params[simple, :3]
     return simple, Curves(np.zeros_like(cs.family), d, cs.t_min, cs.t_max)

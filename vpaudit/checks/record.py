@@ -318,7 +318,7 @@ def above_critical(ctx: AuditContext):
     defect: compilations state Wagner ranges as Tmin..Tc.
     """
     th = ctx.thresholds("above-critical")
-    own = np.where(ctx.curves.family == 2, ctx.curves.params[:, 6], np.nan)
+    own = ctx.curves.own_t_crit
     ref = ctx.reference("critical_temperature")
     u = ctx.reference_uncertainty("critical_temperature")
     margin = np.where(np.isfinite(u), u, th["tolerance"] * ref)
@@ -548,7 +548,7 @@ def boiling_point_mismatch(ctx: AuditContext):
         return
     dist = np.maximum(c.t_min - t, t - c.t_max).clip(min=0.0) / t
     # search up to three times the range, but never past a Wagner record's own Tc
-    top = np.where(c.family == 2, np.fmin(3.0 * c.t_max, c.params[:, 6]), 3.0 * c.t_max)
+    top = np.where(c.is_wagner, np.fmin(3.0 * c.t_max, c.params[:, 6]), 3.0 * c.t_max)
     t_implied = temperature_at(c, LN_P_STANDARD, 0.5 * c.t_min, top)
     reduced, s_ref, s_imp = _reduced_pressure_reference(th, c, t, y, y1, t_implied)
     for k in np.flatnonzero(bad):
@@ -685,9 +685,7 @@ def _delta_z(ctx: AuditContext, rows: np.ndarray, t: np.ndarray, y: np.ndarray):
     """
     tc = ctx.critical_temperature()[rows]
     pc = ctx.reference("critical_pressure", rows)
-    pc = np.where(
-        np.isnan(pc) & (ctx.curves.family[rows] == 2), np.exp(ctx.curves.params[rows, 7]), pc
-    )
+    pc = np.where(np.isnan(pc) & ctx.curves.is_wagner[rows], np.exp(ctx.curves.params[rows, 7]), pc)
     c = ctx.curves.take(rows)
     y07 = evaluate(c, 0.7 * tc, order=0)[0]
     with np.errstate(invalid="ignore", divide="ignore"):

@@ -35,7 +35,10 @@ from ..units import PRESSURE_UNITS, TEMPERATURE_UNITS
 from .forms import FORMS, WAGNER
 
 __all__ = [
+    "ANTOINE",
     "FAMILY_CODES",
+    "LOG_LINEAR",
+    "WAGNER_FAMILY",
     "Curves",
     "curves_from_frame",
     "evaluate",
@@ -48,6 +51,8 @@ __all__ = [
 ]
 
 FAMILY_CODES = {"log-linear": 0, "antoine": 1, "wagner": 2}
+#: The family codes by name, for code that asks what kind a curve is.
+LOG_LINEAR, ANTOINE, WAGNER_FAMILY = (FAMILY_CODES[f] for f in ("log-linear", "antoine", "wagner"))
 LN10 = float(np.log(10.0))
 NPARAM = 8
 #: Curves per block when :func:`evaluate` gets one temperature per curve.
@@ -79,6 +84,28 @@ class Curves:
     def take(self, rows) -> Curves:
         """Return the curves of ``rows`` (an index array or boolean mask)."""
         return Curves(self.family[rows], self.params[rows], self.t_min[rows], self.t_max[rows])
+
+    @property
+    def is_wagner(self) -> np.ndarray:
+        """Which curves are Wagner equations (they carry their own Tc and Pc)."""
+        return self.family == WAGNER_FAMILY
+
+    @property
+    def plain(self) -> np.ndarray:
+        """Which curves are log-linear without a D term, y = A + B/T + C ln T: their
+        extrema and crossings have closed forms.
+        """
+        return (self.family == LOG_LINEAR) & (self.params[:, 3] == 0)
+
+    @property
+    def own_t_crit(self) -> np.ndarray:
+        """Each curve's own critical temperature (Wagner equations), NaN elsewhere. [K]"""
+        return np.where(self.is_wagner, self.params[:, 6], np.nan)
+
+    @property
+    def own_ln_p_crit(self) -> np.ndarray:
+        """Each curve's own ln(Pc/Pa) (Wagner equations), NaN elsewhere."""
+        return np.where(self.is_wagner, self.params[:, 7], np.nan)
 
 
 def _column(frame: pd.DataFrame, name: str) -> np.ndarray:
@@ -131,7 +158,7 @@ def curves_from_frame(records: pd.DataFrame) -> Curves:
     k = np.where(form_code >= 0, form_code, len(form_names))
     family = family_t[k]
     A, B, C, D, E = (_column(records, c) for c in "ABCDE")
-    wagner_any = bool((family_t[:-1] == 2).any())
+    wagner_any = bool((family_t[:-1] == WAGNER_FAMILY).any())
     if wagner_any:
         t_crit, p_crit = _column(records, "t_crit"), _column(records, "p_crit")
     # Column-major: each parameter is one contiguous column, so the checks read A, B or C
@@ -140,7 +167,7 @@ def curves_from_frame(records: pd.DataFrame) -> Curves:
     # never written: their zero pages are never touched, 80 of the 128 MB at 2 x 10^6
     # records (a fresh page costs more than the arithmetic on this project's machines).
     params = np.zeros((n, NPARAM), order="F")
-    any_d = bool((has_d_t[:-1] | (family_t[:-1] == 2)).any())
+    any_d = bool((has_d_t[:-1] | (family_t[:-1] == WAGNER_FAMILY)).any())
     # Block by block, so that every temporary stays small and is reused; each element gets
     # the same operations as it would form by form.
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
@@ -149,7 +176,7 @@ def curves_from_frame(records: pd.DataFrame) -> Curves:
             kk, lb, lf = k[sl], lnb[sl], lnf[sl]
             fam = family[sl]
             a_, b_, c_ = (np.nan_to_num(col[sl]) for col in (A, B, C))
-            ant, wag = fam == 1, fam == 2
+            ant, wag = fam == ANTOINE, fam == WAGNER_FAMILY
             with_d = has_d_t[kk]
             p = params[sl]
             p[:, 0] = np.where(wag, lb * a_, lb * a_ + lf)
@@ -237,7 +264,8 @@ def _wagner(p: np.ndarray, t: np.ndarray, order: int):
     return y, y1, y2
 
 
-_FAMILIES = (_log_linear, _antoine, _wagner)
+#: The evaluator of each family code.
+_EVALUATORS = {LOG_LINEAR: _log_linear, ANTOINE: _antoine, WAGNER_FAMILY: _wagner}
 
 
 def evaluate(curves: Curves, temperature, order: int = 2):
@@ -270,7 +298,7 @@ def evaluate(curves: Curves, temperature, order: int = 2):
     if t.ndim == 1 and n > _BLOCK:  # long inputs a block at a time: small temporaries
         return _blockwise(curves, n, t, order, (y, y1, y2), lambda a, b: slice(a, b))
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        for code, fn in enumerate(_FAMILIES):
+        for code, fn in _EVALUATORS.items():
             rows = np.flatnonzero(curves.family == code)
             if rows.size == 0:
                 continue

@@ -685,7 +685,7 @@ def _delta_z(ctx: AuditContext, rows: np.ndarray, t: np.ndarray, y: np.ndarray):
     """
     tc = ctx.critical_temperature()[rows]
     pc = ctx.reference("critical_pressure", rows)
-    pc = np.where(np.isnan(pc) & ctx.curves.is_wagner[rows], np.exp(ctx.curves.params[rows, 7]), pc)
+    pc = np.where(np.isnan(pc), np.exp(ctx.curves.own_ln_p_crit[rows]), pc)  # else its own
     c = ctx.curves.take(rows)
     y07 = evaluate(c, 0.7 * tc, order=0)[0]
     with np.errstate(invalid="ignore", divide="ignore"):

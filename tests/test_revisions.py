@@ -27,6 +27,17 @@ def _lines(p: Path) -> list[bytes]:
     return p.read_bytes().splitlines(keepends=True)
 
 
+def test_apply_finding_writes_the_fix_and_audits_again(table):
+    # the library call behind 'vpaudit apply': the demo's planted lost minus sign on B
+    from vpaudit.revisions import apply_finding
+
+    done = apply_finding(table, "slope-not-positive:dorvane-s1", by="tester")
+    assert [e["record"] for e in done.entries] == ["dorvane-s1"]
+    assert done.substances == ["dorvane"] and done.remaining == 0
+    with pytest.raises(RevisionError, match="no finding"):
+        apply_finding(table, "slope-not-positive:dorvane-s1", by="tester")  # fixed already
+
+
 def test_apply_then_history_shows_both_and_only_the_line_changes(table):
     before = _lines(table / "records" / "metals.csv")
     run = CliRunner().invoke(

@@ -809,27 +809,18 @@ def apply_cmd(table, finding, reason, by, db):
     The record's line in its table file is rewritten (nothing else in the file changes) and
     the old revision is kept in the table's history (see 'vpaudit history').
     """
-    from .api import open_table
-    from .auditing import audit_table
-    from .policy import load_policy
-    from .revisions import apply_suggestion, find_finding, parse_finding
+    from .revisions import apply_finding
 
     _table_dir(table)
-    check, ids = parse_finding(finding)
-    t = open_table(table)
-    subs = sorted(set(t.records.loc[t.records["id"].isin(ids), "substance"].astype(object)))
-    result = audit_table(t, load_policy(t.policy_path), substances=subs or None)
-    f = find_finding(result, check, ids)
-    for e in apply_suggestion(table, t, f, reason, by):
+    done = apply_finding(table, finding, reason, by)
+    for e in done.entries:
         _show_entry(e)
-    after = audit_table(open_table(table), load_policy(t.policy_path), substances=subs or None)
-    left = [g for g in after.findings if g.severity.rank >= 1]
     _say(
-        f"re-audited {', '.join(subs)}: "
+        f"re-audited {', '.join(done.substances)}: "
         + (
             "clean (no errors or warnings)"
-            if not left
-            else f"{len(left)} error(s)/warning(s) remain"
+            if not done.remaining
+            else f"{done.remaining} error(s)/warning(s) remain"
         )
     )
     _reimport(table, db)

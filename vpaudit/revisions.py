@@ -31,8 +31,10 @@ from .readers.lines import split_lines
 from .writers import csv_cell
 
 __all__ = [
+    "Applied",
     "RevisionError",
     "apply_correction",
+    "apply_finding",
     "apply_suggestion",
     "find_finding",
     "history",
@@ -478,3 +480,42 @@ def apply_suggestion(
             )
         )
     return entries
+
+
+@dataclass(frozen=True)
+class Applied:
+    """What :func:`apply_finding` did: the revision log entries it wrote, the substances it
+    audited again, and how many errors and warnings remain on them.
+    """
+
+    entries: list[dict]
+    substances: list[str]
+    remaining: int
+
+
+def apply_finding(
+    table_path: str | Path, spec: str, reason: str | None = None, by: str | None = None
+) -> Applied:
+    """Audit the substances of finding ``spec`` (``CHECK:RECORD[,RECORD]``), apply its
+    suggested fix as new revisions of the table files, and audit them again.
+
+    Raises
+    ------
+    RevisionError
+        When ``spec`` is malformed, names no finding of the audit, or the finding carries
+        no suggestion.
+    """
+    from .api import open_table
+    from .auditing import audit_table
+    from .policy import load_policy
+
+    check, ids = parse_finding(spec)
+    table = open_table(table_path)
+    records = table.records
+    subs = sorted(set(records.loc[records["id"].isin(ids), "substance"].astype(object)))
+    policy = load_policy(table.policy_path)
+    finding = find_finding(audit_table(table, policy, substances=subs or None), check, ids)
+    entries = apply_suggestion(table_path, table, finding, reason, by)
+    after = audit_table(open_table(table_path), policy, substances=subs or None)
+    remaining = sum(g.severity.rank >= 1 for g in after.findings)
+    return Applied(entries, subs, remaining)

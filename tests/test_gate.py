@@ -63,7 +63,7 @@ def test_gate_reports_exactly_the_new_findings(repo):
     assert ("slope-not-positive", "zorvane") in new
     assert ("melting-point-mismatch", "ardenite") in new
     assert {s for _, s in new} == {"zorvane", "ardenite"}
-    assert result.affected == 2
+    assert result.gate.affected == 2
     assert result.fails("error")
     line = len(metals.read_text().splitlines())
     hit = [f for f in result.findings if f.check == "slope-not-positive"]
@@ -186,7 +186,7 @@ def test_changed_substances_are_found_from_the_diff(repo):
     extra = repo / "table" / "records" / "extra.csv"
     extra.write_text(lines[0] + BAD)
     result = gate(repo / "table", "base")
-    assert result.affected == 2  # kestrium and zorvane
+    assert result.gate.affected == 2  # kestrium and zorvane
     new = {(f.check, f.substance) for f in result.findings if result.status_of(f) == "new"}
     assert ("slope-not-positive", "zorvane") in new
     assert {sub for _, sub in new} == {"zorvane"}  # kestrium's old finding is simply gone
@@ -199,7 +199,7 @@ def test_a_policy_change_reaudits_everything(repo):
     git(repo, "add", "-A")
     git(repo, "commit", "-qm", "stricter")
     result = gate(repo / "table", "base")
-    assert result.affected == 30  # every substance of the table
+    assert result.gate.affected == 30  # every substance of the table
 
 
 def test_rows_are_compared_by_content_not_by_the_lines_a_diff_names(repo):
@@ -207,7 +207,7 @@ def test_rows_are_compared_by_content_not_by_the_lines_a_diff_names(repo):
     text = refs.read_text().splitlines(keepends=True)
     # a comment line moves every row but changes none: nothing to re-audit
     refs.write_text("# provenance: reference sheet RS-1\n" + "".join(text))
-    assert gate(repo / "table", "base").affected == 0
+    assert gate(repo / "table", "base").gate.affected == 0
     # a header that swaps two columns changes what every row of the file says
     header = text[0].replace("value", "VALUE").replace("unit", "value").replace("VALUE", "unit")
     refs.write_text(header + "".join(text[1:]))

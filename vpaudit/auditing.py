@@ -29,13 +29,26 @@ __all__ = ["AuditResult", "audit", "audit_table", "run_checks", "CAUTION"]
 
 @dataclass
 class AuditResult:
-    """Everything one audit found, for every reporter."""
+    """Everything one audit found, for every reporter; with ``gate`` set, a gate's result,
+    whose findings carry a status (new, existing or accepted) against the base revision.
+    """
 
     findings: list[Finding]
     summary: dict[str, int]
     policy_description: dict[str, Any]
     table_path: str = ""
     checks_run: list[str] = field(default_factory=list)
+    gate: GateInfo | None = None
+
+    @property
+    def gated(self) -> bool:
+        """Whether this is a gate's result (its findings have a status)."""
+        return self.gate is not None
+
+    @staticmethod
+    def status_of(f: Finding) -> str:
+        """new, existing or accepted (a finding the gate has not judged counts as new)."""
+        return f.status or "new"
 
     def worst(self) -> Severity | None:
         """The most serious severity found, or None when nothing was found."""
@@ -44,11 +57,16 @@ class AuditResult:
         return max((f.severity for f in self.findings), key=lambda s: s.rank)
 
     def fails(self, fail_on: str) -> bool:
-        """Whether anything is at or above ``fail_on`` (error, warning or never)."""
+        """Whether anything (in a gate, anything *new*) is at or above ``fail_on`` (error,
+        warning or never).
+        """
         if fail_on == "never":
             return False
         level = Severity(fail_on).rank
-        return any(f.severity.rank >= level for f in self.findings)
+        return any(
+            f.severity.rank >= level and (not self.gated or self.status_of(f) == "new")
+            for f in self.findings
+        )
 
     def to_dict(self) -> dict[str, Any]:
         """The JSON output contract."""
@@ -58,12 +76,32 @@ class AuditResult:
         }
 
     def summary_dict(self) -> dict[str, Any]:
-        """The ``summary`` of :meth:`to_dict`."""
-        return dict(self.summary)
+        """The ``summary`` of :meth:`to_dict`; a gate's adds the count of new findings, the
+        base and the number of substances re-audited.
+        """
+        if self.gate is None:
+            return dict(self.summary)
+        return {
+            **self.summary,
+            "new": sum(self.status_of(f) == "new" for f in self.findings),
+            "base": self.gate.base,
+            "substances_reaudited": self.gate.affected,
+        }
 
     def finding_dict(self, f: Finding) -> dict[str, Any]:
-        """One finding of :meth:`to_dict`."""
-        return f.to_dict()
+        """One finding of :meth:`to_dict` (a gate's with its ``status``)."""
+        d = f.to_dict()
+        if self.gate is not None:
+            d["status"] = self.status_of(f)
+        return d
+
+
+@dataclass(frozen=True)
+class GateInfo:
+    """What a gate's result adds: the base revision and the substances re-audited."""
+
+    base: str
+    affected: int
 
 
 #: Sorting position of each severity: errors first (a dict lookup, cheaper than the

@@ -27,7 +27,7 @@ from pathlib import Path
 import numpy as np
 
 from ._atomic import file_lock, write_atomic
-from .auditing import AuditResult, audit_table, restrict
+from .auditing import AuditResult, GateInfo, audit_table, restrict
 from .checks._registry import Severity
 from .checks.finding import Finding
 from .errors import TableError, TableErrors, VpauditError
@@ -61,41 +61,8 @@ class Acceptance:
         )
 
 
-@dataclass
-class GateResult(AuditResult):
-    """An audit result whose findings carry a status: new, existing or accepted."""
-
-    base: str = ""
-    affected: int = 0
-
-    @staticmethod
-    def status_of(f: Finding) -> str:
-        """new, existing or accepted (a finding the gate has not judged counts as new)."""
-        return f.status or "new"
-
-    def fails(self, fail_on: str) -> bool:
-        """Whether a *new* finding is at or above ``fail_on``."""
-        if fail_on == "never":
-            return False
-        level = Severity(fail_on).rank
-        return any(self.status_of(f) == "new" and f.severity.rank >= level for f in self.findings)
-
-    def finding_dict(self, f: Finding) -> dict:
-        """The audit's JSON form of a finding, with its ``status``."""
-        d = f.to_dict()
-        d["status"] = self.status_of(f)
-        return d
-
-    def summary_dict(self) -> dict:
-        """The audit's summary, with the count of new findings, the base and the number
-        of substances re-audited.
-        """
-        return {
-            **self.summary,
-            "new": sum(self.status_of(f) == "new" for f in self.findings),
-            "base": self.base,
-            "substances_reaudited": self.affected,
-        }
+#: A gate's result: an :class:`AuditResult` with ``gate`` set (one result type for both).
+GateResult = AuditResult
 
 
 def _git(root: Path, *args: str) -> str:
@@ -345,14 +312,13 @@ def gate(
     base_keys = set()
     if base_table is not None and changed:
         base_keys = {f.key for f in audit_table(restrict(base_table, changed), pol).findings}
-    result = GateResult(
+    result = AuditResult(
         head_result.findings,
         head_result.summary,
         head_result.policy_description,
         str(table),
         head_result.checks_run,
-        base=base,
-        affected=len(changed),
+        gate=GateInfo(base, len(changed)),
     )
     for f in result.findings:
         f.status = "existing" if f.key in base_keys else "new"

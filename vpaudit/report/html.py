@@ -157,7 +157,7 @@ def render_report(result, table=None, plots: bool = True, max_sections: int = 10
     from ._coverage import coverage_sentence
 
     s = result.summary
-    status_of = getattr(result, "status_of", None)
+    status_of = result.status_of if result.gated else None
     out = [
         "<!DOCTYPE html>",
         "<html lang='en'><head><meta charset='utf-8'>",

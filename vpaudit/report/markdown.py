@@ -24,12 +24,12 @@ def render(result) -> str:
         "pairs audited.",
         "",
     ]
-    status_of = getattr(result, "status_of", None)
+    status_of = result.status_of if result.gated else None
     if status_of is not None:
         new = [f for f in result.findings if status_of(f) == "new"]
         rest = [f for f in result.findings if status_of(f) != "new"]
         out[0] = (
-            f"## vpaudit gate: {len(new)} new finding(s) since {_cell(result.base)} "
+            f"## vpaudit gate: {len(new)} new finding(s) since {_cell(result.gate.base)} "
             f"({sum(f.severity.value == 'error' for f in new)} error(s))"
         )
         serious, notes = new, rest

@@ -76,7 +76,7 @@ def render(result) -> str:
         {"id": k, "name": k, "shortDescription": {"text": v}} for k, v in _EXTRA_RULES.items()
     ]
     index = {r["id"]: i for i, r in enumerate(rules)}
-    status_of = getattr(result, "status_of", None)
+    status_of = result.status_of if result.gated else None
     results = []
     for f in result.findings:
         r = {

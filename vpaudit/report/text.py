@@ -23,10 +23,10 @@ def render(result, width: int = 100) -> str:
     """Render an :class:`~vpaudit.auditing.AuditResult` for a terminal."""
     s = result.summary
     policy = result.policy_description.get("label", "preset evaluated")
-    if hasattr(result, "status_of"):
+    if result.gated:
         lines = [
-            f"vpaudit gate of {result.table_path or 'table'} against {result.base}: "
-            f"{result.affected} substance(s) changed; re-audited their {s['records']} "
+            f"vpaudit gate of {result.table_path or 'table'} against {result.gate.base}: "
+            f"{result.gate.affected} substance(s) changed; re-audited their {s['records']} "
             f"records and {s['pairs']} solid/liquid pairs (policy: {policy})",
             "",
         ]
@@ -43,7 +43,7 @@ def render(result, width: int = 100) -> str:
         subsequent_indent=" " * 6,
         break_on_hyphens=False,  # check names and kinds stay whole
     )
-    status_of = getattr(result, "status_of", None)
+    status_of = result.status_of if result.gated else None
 
     def block(findings) -> None:
         groups = defaultdict(list)
@@ -91,11 +91,11 @@ def render(result, width: int = 100) -> str:
             ("accepted", "Accepted (accepted.toml)"),
         ):
             part = [f for f in result.findings if status_of(f) == status]
-            lines.append(f"== {title.format(base=result.base)}: {len(part)} finding(s)")
+            lines.append(f"== {title.format(base=result.gate.base)}: {len(part)} finding(s)")
             lines.append("")
             block(part)
         lines.append(
-            f"{result.affected} substance(s) changed since {result.base} were "
+            f"{result.gate.affected} substance(s) changed since {result.gate.base} were "
             "re-audited; the others are unchanged."
         )
     if s.get("not_diagnosed"):

@@ -29,6 +29,7 @@ def checks_json() -> str:
             {
                 "name": spec.name,
                 "severity": spec.severity.value,
+                "escalates_to": spec.escalates_to.value if spec.escalates_to else None,
                 "scope": spec.scope.value,
                 "summary": spec.summary,
                 "basis": spec.basis,
@@ -52,7 +53,10 @@ def checks_text(width: int = 100) -> str:
     """The registry for a terminal."""
     lines = []
     for spec in ordered():
-        lines.append(f"{spec.name}  [{spec.severity.value}, per {spec.scope.value}]")
+        sev = spec.severity.value + (
+            f", {spec.escalates_to.value} beyond error_above" if spec.escalates_to else ""
+        )
+        lines.append(f"{spec.name}  [{sev}, per {spec.scope.value}]")
         lines += textwrap.wrap(spec.summary, width, initial_indent="    ", subsequent_indent="    ")
         lines += textwrap.wrap(
             f"basis: {spec.basis}", width, initial_indent="    ", subsequent_indent="      "
@@ -89,7 +93,9 @@ def checks_markdown() -> str:
         out += [
             f"## `{spec.name}`",
             "",
-            f"*Severity* `{spec.severity.value}`, *per* {spec.scope.value}. {spec.summary}",
+            f"*Severity* `{spec.severity.value}`"
+            + (f" (`{spec.escalates_to.value}` beyond `error_above`)" if spec.escalates_to else "")
+            + f", *per* {spec.scope.value}. {spec.summary}",
             "",
             f"*Basis:* {spec.basis}",
             "",

@@ -121,3 +121,27 @@ def test_a_policy_that_lowers_a_check_lowers_its_milder_tier_too():
         table, Policy("evaluated", {"anchor-enthalpy": {"severity": "note"}}), diagnose=False
     )
     assert {f.severity.value for f in lowered.findings if f.check == "anchor-enthalpy"} == {"note"}
+
+
+@pytest.mark.parametrize(
+    ("policy", "expected"),
+    [({}, "error"), ({"severity": "error"}, "error"), ({"severity": "note"}, "note")],
+)
+def test_a_policy_that_lowers_a_check_lowers_its_escalated_tier_too(policy, expected):
+    # heat-capacity-sign is a warning that escalates to an error beyond error_above (60
+    # J/(mol K)): the escalation stands while the policy keeps or raises the check, and a
+    # policy setting it to note gets notes. The record: C = +12 (dCp = R C = +99.8 J/(mol
+    # K), constant; P 17-916 Pa, dH about 40 kJ/mol), an invented case.
+    from refdata import table_from_rows
+
+    from vpaudit.auditing import audit_table
+    from vpaudit.policy import Policy
+
+    rec = {
+        "id": "a", "substance": "s", "phase": "liquid", "form": "three-term", "log_base": "e",
+        "pressure_unit": "Pa", "A": -63.55, "B": -611.0, "C": 12.0, "t_min": 300.0,
+        "t_max": 400.0, "source": "case",
+    }  # fmt: skip
+    pol = Policy("evaluated", {"heat-capacity-sign": policy} if policy else {})
+    found = audit_table(table_from_rows([rec], []), pol, diagnose=False).findings
+    assert {f.severity.value for f in found if f.check == "heat-capacity-sign"} == {expected}

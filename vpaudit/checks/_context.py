@@ -320,6 +320,19 @@ class AuditContext:
         sev = self.policy.severity(check) or cap
         return sev if sev.rank <= cap.rank else cap
 
+    def escalated(self, check: str) -> Severity:
+        """The severity of ``check``'s higher tier (its declared ``escalates_to``, beyond
+        its ``error_above``): that tier while the policy keeps the check at its default
+        severity or raises it, the policy's severity when the policy lowers the check (a
+        lowered check is lowered in every tier, never left higher).
+        """
+        spec = REGISTRY[check]
+        sev = self.policy.severity(check) or spec.severity
+        top = spec.escalates_to or sev
+        if sev.rank < spec.severity.rank:
+            return sev
+        return top if top.rank > sev.rank else sev
+
     def thresholds(self, check: str) -> dict[str, float]:
         """The policy's thresholds of ``check``."""
         return self.policy.thresholds(check)

@@ -92,6 +92,7 @@ class CheckSpec:
     thresholds: dict[str, Threshold]
     func: Callable[..., Iterator]
     doc: str = field(default="", compare=False)
+    escalates_to: Severity | None = None
 
 
 REGISTRY: dict[str, CheckSpec] = {}
@@ -104,6 +105,7 @@ def check(
     summary: str,
     basis: str,
     thresholds: tuple[Threshold, ...] = (),
+    escalates_to: Severity | None = None,
 ):
     """Register a check function under ``name``.
 
@@ -121,6 +123,10 @@ def check(
         The published rule, law or source behind it.
     thresholds : tuple of Threshold
         Its tunable numbers and their defaults.
+    escalates_to : Severity, optional
+        The severity of its findings beyond its ``error_above`` threshold (a check that is
+        a warning by default and an error when far off); a policy that lowers the check
+        lowers these too (:meth:`AuditContext.escalated`).
     """
 
     def register(func):
@@ -135,6 +141,7 @@ def check(
             {t.name: t for t in thresholds},
             func,
             (func.__doc__ or "").strip(),
+            escalates_to,
         )
         return func
 

@@ -125,5 +125,5 @@ def duplicate_record(ctx: AuditContext):
             f"{len(ids)} times.",
             {"records": len(ids)},
             records=ids,
-            severity=Severity.warning,
+            severity=ctx.at_most("duplicate-record", Severity.warning),
         )

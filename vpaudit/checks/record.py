@@ -219,6 +219,7 @@ def enthalpy_implausible(ctx: AuditContext):
             "dCp is tested only where P is below this and T below 0.7 Tc (near-ideal vapour)",
         ),
     ),
+    escalates_to=Severity.error,
 )
 def heat_capacity_sign(ctx: AuditContext):
     """The implied dCp comes from the curvature and is poorly fixed by a narrow-range fit: small
@@ -237,7 +238,7 @@ def heat_capacity_sign(ctx: AuditContext):
         bad = ctx.evaluable & (ex.cp_max > th["tolerance"] * factor)
     for i in np.flatnonzero(bad):
         cp, t = ex.cp_max[i], ex.cp_max_T[i]
-        sev = Severity.error if cp > th["error_above"] * factor[i] else None
+        sev = ctx.escalated("heat-capacity-sign") if cp > th["error_above"] * factor[i] else None
         yield ctx.finding(
             "heat-capacity-sign",
             i,
@@ -710,6 +711,7 @@ def _delta_z(ctx: AuditContext, rows: np.ndarray, t: np.ndarray, y: np.ndarray):
         Threshold("nonideal_allowance", 0.07, "-", "added when P > 10 kPa and dZ is unknown"),
         Threshold("error_above", 0.30, "-", "relative difference above which it is an error"),
     ),
+    escalates_to=Severity.error,
 )
 def enthalpy_mismatch(ctx: AuditContext):
     """Each reference enthalpy of vaporization (liquid records) or sublimation (solid
@@ -741,7 +743,7 @@ def enthalpy_mismatch(ctx: AuditContext):
         bad = inside & ~(np.abs(rel) <= tol)
     for k in np.flatnonzero(bad):
         i = rows[k]
-        sev = Severity.error if abs(rel[k]) > th["error_above"] else None
+        sev = ctx.escalated("enthalpy-mismatch") if abs(rel[k]) > th["error_above"] else None
         what = "vaporization" if ctx.liquid[i] else "sublimation"
         yield ctx.finding(
             "enthalpy-mismatch",

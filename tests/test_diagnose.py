@@ -368,3 +368,24 @@ def test_a_compound_metadata_slip_is_named_with_all_its_parts():
     assert {"log_base", "pressure_unit", "temperature_unit"} <= set(sug["corrected"])
     assert reproduces(clean, bad, sug)
     assert sug["confidence"] < 0.8  # three readings at once: said, not asserted
+
+
+def test_the_screening_bound_counts_each_check_at_the_policys_severity():
+    # a lost minus sign on B of Alcock's solid copper: slope-not-positive (an error by
+    # default) must count as a warning in the screening's lower bound when the policy makes
+    # it one, else the bound exceeds what the checks would report
+    from vpaudit.checks._context import AuditContext
+    from vpaudit.diagnose import _hard_failures
+    from vpaudit.policy import Policy
+
+    recs, refs = alcock("Cu")
+    bad = [dict(r, B=-r["B"]) if r["phase"] == "solid" else r for r in recs]
+    table = table_from_rows(bad, refs)
+    unit = np.zeros(1, dtype=np.int64)
+    default = _hard_failures(AuditContext(table, Policy()), unit, 1)[0]
+    lowered = _hard_failures(
+        AuditContext(table, Policy("evaluated", {"slope-not-positive": {"severity": "warning"}})),
+        unit,
+        1,
+    )[0]
+    assert lowered[0] == default[0] - 1 and lowered[1] == default[1] + 1

@@ -742,15 +742,24 @@ def _hard_failures(vctx: AuditContext, unit_of_code: np.ndarray, n: int) -> list
             & (np.abs(ex.y_min) <= lim)
             & (np.abs(ex.y_max) <= lim)
         )
-        errors = (ev & ~finite).astype(int) * (vctx.severity("pressure-not-finite") is not None)
-        errors += (ev & ~(ex.h_min > 0)).astype(int) * (
-            vctx.severity("slope-not-positive") is not None
-        )
-        cp_on = vctx.severity("heat-capacity-sign") is not None
-        cp_err = ev & (ex.cp_max > th["error_above"] * factor) & cp_on
-        cp_warn = ev & (ex.cp_max > th["tolerance"] * factor) & ~cp_err & cp_on
-    errors = (errors + cp_err).astype(float)
-    warnings = cp_warn.astype(float)
+        far = ex.cp_max > th["error_above"] * factor
+        tiers = [
+            (ev & ~finite, vctx.severity("pressure-not-finite")),
+            (ev & ~(ex.h_min > 0), vctx.severity("slope-not-positive")),
+            (ev & far, vctx.escalated("heat-capacity-sign")),
+            (
+                ev & (ex.cp_max > th["tolerance"] * factor) & ~far,
+                vctx.severity("heat-capacity-sign"),
+            ),
+        ]
+    # each at the severity the policy gives it (a lowered check counts for less)
+    errors = np.zeros(vctx.n)
+    warnings = np.zeros(vctx.n)
+    cp_on = vctx.severity("heat-capacity-sign") is not None
+    for k, (mask, sev) in enumerate(tiers):
+        if sev is None or (k >= 2 and not cp_on) or sev.rank < 1:
+            continue
+        (errors if sev is Severity.error else warnings)[mask] += 1.0
     # the pair checks no-crossing and melting-point-mismatch, counted at the solid record
     pr = vctx.pairs
     tol = vctx.thresholds("melting-point-mismatch")["tolerance"]

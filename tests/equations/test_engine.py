@@ -24,7 +24,7 @@ from vpaudit.equations import (
 from vpaudit.errors import EquationError
 from vpaudit.units import MMHG_PA, PRESSURE_UNITS
 
-SAMPLE = Path(__file__).resolve().parents[1] / "sample_db"
+SAMPLE = Path(__file__).resolve().parents[2] / "sample_db"
 
 
 def rec(**kw):

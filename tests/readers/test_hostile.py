@@ -9,7 +9,7 @@ import pytest
 from vpaudit.errors import TableError, TableErrors
 from vpaudit.readers import read_file
 
-CORPUS = Path(__file__).parent / "data" / "hostile"
+CORPUS = Path(__file__).resolve().parents[1] / "data" / "hostile"
 
 
 def _expected():

@@ -16,7 +16,7 @@ from vpaudit.errors import TableError, TableErrors
 from vpaudit.readers import files, load_table
 from vpaudit.runtime import DEFAULT, Runtime
 
-SAMPLE = Path(__file__).resolve().parent.parent / "sample_db"
+SAMPLE = Path(__file__).resolve().parents[2] / "sample_db"
 HEADER = "id,substance,phase,form,log_base,pressure_unit,A,B,C,t_min,t_max,source"
 ROW = "r{i},zinc-demo,solid,three-term,e,Pa,{a},-15000,-1.2,300,600,demo source"
 

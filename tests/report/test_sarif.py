@@ -15,7 +15,7 @@ from click.testing import CliRunner
 
 from vpaudit.cli import main
 
-SCHEMAS = Path(__file__).parent / "data" / "sarif"
+SCHEMAS = Path(__file__).resolve().parents[1] / "data" / "sarif"
 
 
 def validate(log: dict) -> None:

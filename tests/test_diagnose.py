@@ -389,3 +389,27 @@ def test_the_screening_bound_counts_each_check_at_the_policys_severity():
         1,
     )[0]
     assert lowered[0] == default[0] - 1 and lowered[1] == default[1] + 1
+
+
+def test_an_unrelated_problem_does_not_hide_a_clear_slip_and_is_named():
+    # Alcock's solid copper with coefficients for mmHg marked Pa, and the CRC enthalpy of
+    # fusion (13.26 kJ/mol) doubled: a second problem the slip does not explain. A candidate
+    # whose curves cross must meet that reference; the records as written cannot even be
+    # compared with it, which counts as broken evidence too, so the slip is still found,
+    # and the suggestion names what it leaves unexplained
+    import math
+
+    recs, refs = alcock("Cu")
+    bad = [
+        dict(r, A=r["A"] - math.log(133.322387415)) if r["phase"] == "solid" else r for r in recs
+    ]
+    refs = [
+        dict(r, value=2.0 * r["value"]) if r["quantity"] == "enthalpy_of_fusion" else r
+        for r in refs
+    ]
+    sug, _ = suggestion_for(bad, refs, "Cu-solid")
+    assert sug is not None and sug["kind"] == "pressure-unit" and sug["confidence"] >= 0.8
+    solid = next(r for r in recs if r["phase"] == "solid")
+    assert reproduces(solid, next(r for r in bad if r["phase"] == "solid"), sug)
+    unexplained = "which it does not explain: fusion-enthalpy-mismatch (Cu-liquid, Cu-solid)"
+    assert unexplained in sug["explanation"]

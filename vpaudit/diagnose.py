@@ -570,6 +570,10 @@ def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
         add(ctx.codes[s], gap / (0.05 * tm))
     hfus = ctx.reference("enthalpy_of_fusion", pr.solid)
     cross = np.isfinite(pr.t_cross) & np.isfinite(hfus)
+    # a reference dH_fus is evidence under every hypothesis: one whose curves do not cross
+    # cannot meet it, and that counts as broken evidence, as an uncomputable residual does
+    lost = ~np.isfinite(pr.t_cross) & np.isfinite(hfus)
+    add(ctx.codes[pr.solid[lost]], np.full(int(lost.sum()), np.inf))
     if cross.any():
         s, t = pr.solid[cross], pr.t_cross[cross]
         _, ys1, _ = evaluate(ctx.curves.take(s), t, order=1)
@@ -1144,8 +1148,16 @@ def _suggestion(
         text += (
             f" With that fixed, {len(cleared)} of the {n_before} error(s) and warning(s) on "
             f"{ctx.substance_of(cand.row)} clear"
-            + (f"; {len(remaining)} remain." if remaining else " and none remain.")
+            + (
+                f"; {len(remaining)} {'remains' if len(remaining) == 1 else 'remain'}"
+                if remaining
+                else " and none remain."
+            )
         )
+        if remaining:  # what the fix does not explain, by name
+            named = [f"{check} ({', '.join(ids)})" for check, ids in sorted(remaining)]
+            more = f" and {len(named) - 3} more" if len(named) > 3 else ""
+            text += f", which it does not explain: {'; '.join(named[:3])}{more}."
     alt = sorted({cands[k].label for k in group if cands[k].label != cand.label})
     if alt:
         text += f" Equivalent: {alt[0]}."

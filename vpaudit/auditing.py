@@ -19,7 +19,7 @@ from ._caution import CAUTION  # the caution every report carries (re-exported)
 from .checks._context import AuditContext
 from .checks._registry import REGISTRY, Severity, get_check, ordered
 from .checks.finding import Finding
-from .checks.witness import DISAGREEMENTS, Witnesses, vouched
+from .checks.witness import DISAGREEMENTS, NEAR_RANGE, Witnesses, vouched
 from .policy import Policy, load_policy
 from .readers.table import Table
 from .runtime import DEFAULT, PARALLEL_ROWS, Runtime
@@ -128,7 +128,7 @@ def point_at_suspects(
         if len(f.records) == 1:
             alone.setdefault(f.substance, set()).add(f.records[0])
     moves: dict[int, str] = {}
-    pending: dict[int, float] = {}
+    pending: dict[int, tuple[float, float]] = {}
     for k, f in enumerate(findings):
         if len(f.records) > 1 and not f.suggestion:
             named = [r for r in f.records if r in alone.get(f.substance, ())]
@@ -136,17 +136,27 @@ def point_at_suspects(
                 if named[0] != f.records[0]:
                     moves[k] = named[0]
             elif not named and len(f.records) == 2 and f.check in DISAGREEMENTS:
-                size = f.evidence.get(DISAGREEMENTS[f.check])
-                if size is not None and witnesses is not None:
-                    pending[k] = abs(float(size))
+                size_key, at_key = DISAGREEMENTS[f.check]
+                size, at = f.evidence.get(size_key), f.evidence.get(at_key)
+                if size is not None and at is not None and witnesses is not None:
+                    pending[k] = (abs(float(size)), float(at))
     witnessed: dict[int, tuple[str, int]] = {}
     if pending:
         rows = ctx.rows_by_id({r for k in pending for r in findings[k].records})
-        for k, size in pending.items():
+        c = ctx.curves
+        for k, (size, at) in pending.items():
             a, b = findings[k].records
             if a not in rows or b not in rows:
                 continue
-            pins = [witnesses.resolution[rows[r]] < size for r in (a, b)]
+            # a witness vouches for its curve where the two disagree only within (or near)
+            # the curve's own range, and only as finely as its tolerance
+            pins = [
+                witnesses.resolution[rows[r]] < size
+                and c.t_min[rows[r]] * (1.0 - NEAR_RANGE)
+                <= at
+                <= c.t_max[rows[r]] * (1.0 + NEAR_RANGE)
+                for r in (a, b)
+            ]
             if pins[0] != pins[1]:
                 culprit, partner = (b, a) if pins[0] else (a, b)
                 witnessed[k] = (culprit, rows[partner])
@@ -163,9 +173,9 @@ def point_at_suspects(
         f = out[k]
         out[k] = dataclasses.replace(
             f,
-            message=f"{f.message} {ctx.id(partner)} meets {witnesses.words(partner)}, which "
-            f"pins it within {witnesses.resolution[partner]:.2g} in ln P, finer than this "
-            f"disagreement; {culprit} has no such witness: {culprit} is the likelier culprit.",
+            message=f"{f.message} {ctx.id(partner)} meets {witnesses.words(partner)} (within "
+            f"{witnesses.resolution[partner]:.2g} in ln P, less than the two curves differ "
+            f"here); {culprit} has no such witness and is the likelier culprit.",
             evidence={**f.evidence, "likely_culprit": culprit},
         )
     return out

@@ -7,7 +7,8 @@ its reference normal boiling point, or a curve that meets both standard values a
 finely as its own tolerance, though: the boiling point to the tolerance of
 ``boiling-point-mismatch`` in ln P, the standard entropy to its allowance over R (15 J/(mol
 K) is 1.8 in ln P, a factor 6 in pressure). So a witnessed record points at its partner
-only when its witness is finer than the disagreement and the partner has no such witness.
+only when its witness is finer than the disagreement, the disagreement lies within (or
+near) its own range, and the partner has no such witness.
 """
 
 from __future__ import annotations
@@ -21,16 +22,19 @@ from ._context import AuditContext
 from .anchor import allowances, anchor_values
 from .record import _boiling_residuals
 
-__all__ = ["DISAGREEMENTS", "Witnesses", "vouched"]
+__all__ = ["DISAGREEMENTS", "NEAR_RANGE", "Witnesses", "vouched"]
 
 #: Findings that two curves disagree, where one witnessed curve points at the other: each
-#: with the evidence key of how far apart they are, in ln P.
+#: with the evidence keys of how far apart they are, in ln P, and where, in K.
 DISAGREEMENTS = {
-    "no-crossing": "difference_lnP_at_anchor",
-    "crossing-outside-range": "difference_lnP_at_range_end",
-    "melting-point-mismatch": "difference_lnP",
-    "sources-disagree": "difference_lnP",
+    "no-crossing": ("difference_lnP_at_anchor", "anchor_K"),
+    "crossing-outside-range": ("difference_lnP_at_range_end", "range_end_K"),
+    "melting-point-mismatch": ("difference_lnP", "melting_point_K"),
+    "sources-disagree": ("difference_lnP", "at_K"),
 }
+#: How far outside its own range (a fraction of the temperature) a witnessed curve still
+#: vouches for its value where the two disagree.
+NEAR_RANGE = 0.05
 
 #: What backs a record, as the finding says it.
 _WORDS = {1: "its reference normal boiling point", 2: "both standard values at 298.15 K"}

@@ -75,7 +75,8 @@ def curve(tm, dh0, dcp, lnp_tp):
 
 def four_term_t(tm, dh0, dcp, lnp_tp, d):
     """Four-term-t coefficients (ln, Pa, K) with dCp/R = C + 2 D T equal to dcp at Tm, dH(Tm)
-    = dh0 and ln P(Tm) = lnp_tp: dH/R = -B + C T + D T^2 (physics notes, section 3)."""
+    = dh0 and ln P(Tm) = lnp_tp: dH/R = -B + C T + D T^2 (Clausius-Clapeyron,
+    dH = R T^2 dlnP/dT)."""
     c = dcp / R - 2.0 * d * tm
     b = c * tm + d * tm * tm - dh0 / R
     a = lnp_tp - b / tm - c * math.log(tm) - d * tm

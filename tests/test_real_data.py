@@ -102,7 +102,7 @@ def test_water_triple_point_from_the_iapws_curves():
 )
 def test_any_curve_from_positive_dh_and_negative_dcp_passes(h, cp, t0, width):
     # A curve built from dH > 0 over the range and dCp < 0 passes slope-not-positive and
-    # heat-capacity-sign (physics notes, sections 2 and 6).
+    # heat-capacity-sign (Clausius-Clapeyron: dH = R T^2 y', dCp = dH/dT).
     t_max = t0
     t_min = t0 * (1 - width)
     if h + cp * (t_min - t0) <= 0 or h + cp * (t_max - t0) <= 0:

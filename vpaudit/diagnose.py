@@ -1,10 +1,11 @@
 """Diagnosis: the likely transcription slip behind a suspect record, and its fix.
 
-Most bad entries carry one slip, and each slip leaves a fingerprint (physics notes,
-section 8). For every record involved in an error or warning, each hypothesis below is
-tested by applying the inverse of the slip and re-running the checks on the corrected
-record together with everything that bears on it: its partner phase, the other sources of
-its substance, its reference values and its measured points.
+Most bad entries carry one slip, and each slip leaves a fingerprint (a log-base slip
+scales the implied dH by 2.3, a pressure unit shifts ln P by the log of its factor, ...).
+For every record involved in an error or warning, each hypothesis below is tested by
+applying the inverse of the slip and re-running the checks on the corrected record together
+with everything that bears on it: its partner phase, the other sources of its substance,
+its reference values and its measured points.
 
 ========================  ==================================================================
 kind                      hypothesis

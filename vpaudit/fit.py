@@ -749,7 +749,7 @@ def convert_or_refit(
     p_crit: float | None = None,
 ) -> tuple[dict, float, bool]:
     """Write ``record`` in another form, base or units: exactly where the algebra allows
-    (physics notes, section 3), otherwise by a refit over its range.
+    (:func:`vpaudit.equations.convert.convert_record`), otherwise by a refit over its range.
 
     Returns
     -------

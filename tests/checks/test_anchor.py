@@ -37,7 +37,7 @@ def alcock_solids():
 
 
 def test_alcock_solids_meet_the_crc_standard_data(alcock_solids):
-    # physics notes, section 10 (measured while planning): dH within 0-1.4 % and dS0 within
+    # measured while planning the anchor: dH within 0-1.4 % and dS0 within
     # 0-2.8 J/(mol K) for all but Pa (and Sn); here the implied values are computed again
     solids, refs = alcock_solids
     ctx = AuditContext(table_from_rows(solids, refs), Policy())

@@ -16,7 +16,7 @@ CASES = Path(__file__).parent / "cases"
 
 def _make(spec: dict) -> dict:
     """Three-term coefficients (base e, Pa, K) of the constant-dCp Clausius-Clapeyron
-    integral through (t0, lnp0) with enthalpy h0 there (physics notes, section 3)."""
+    integral through (t0, lnp0) with enthalpy h0 there (Clausius-Clapeyron)."""
     t0, h0, cp, lnp0 = (float(spec[k]) for k in ("t0", "h0", "cp", "lnp0"))
     c = cp / R
     b = -(h0 - cp * t0) / R

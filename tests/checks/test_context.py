@@ -164,8 +164,8 @@ def test_curves_at_the_melting_point_taken_in_the_pair_blocks_equal_the_engine()
 def test_the_critical_temperature_cut_is_skipped_only_where_it_cuts_nothing():
     """The range extrema skip the 0.7 Tc cut of the dCp range when no record can have a
     critical temperature; forcing the cut there must change nothing, and a table with a
-    reference Tc must take it (physics notes, section 2: above ~0.7 Tc the slope no longer
-    gives dCp). Invented three-term records whose pressure stays below the 10 kPa limit."""
+    reference Tc must take it (above ~0.7 Tc the slope gives dH/dZ and its derivative is no
+    longer dCp). Invented three-term records whose pressure stays below the 10 kPa limit."""
     from refdata import table_from_rows
 
     records = [

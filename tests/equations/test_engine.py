@@ -174,7 +174,8 @@ def test_iapws_water_curves_and_their_enthalpies():
         dh, apparent = water_enthalpies(t)
         assert enthalpy(c, t)[0] == pytest.approx(apparent, rel=2e-3)
         assert abs(apparent / dh - 1) < 0.03  # dZ correction below 3 % up to 360 K
-    # Liquid water near room temperature: dCp about -42 J/(mol K) (physics notes, from memory)
+    # Liquid water near room temperature: dCp = Cp(vapour) - Cp(liquid) about -42 J/(mol K)
+    # (a value from memory)
     assert heat_capacity_change(c, 298.15)[0] == pytest.approx(-42, abs=4)
 
 
@@ -282,7 +283,7 @@ def test_analytic_derivatives_match_finite_differences(form, scale, frac, base):
 
 
 def test_implied_quantities_of_the_three_term_form_are_exact():
-    # physics notes, section 3: dH/R = -B + C T, dCp/R = C
+    # Clausius-Clapeyron on y = A + B/T + C ln T: dH/R = -B + C T, dCp/R = C
     c = curves(rec(form="three-term", A=30.0, B=-12000.0, C=-1.2, t_min=300, t_max=900))
     t = np.array([300.0, 600.0, 900.0])
     assert_allclose(enthalpy(c, t[None, :])[0], R * (12000.0 - 1.2 * t), rtol=1e-13)
@@ -455,9 +456,10 @@ def test_an_exact_conversion_prints_the_digits_a_person_would_type():
 
 @pytest.mark.parametrize("form", ["wagner-3-6", "wagner-2.5-5"])
 def test_wagner_at_the_critical_point_gives_the_limits_not_nan(form):
-    # physics notes, section 3: at tau = 0 the slope has the finite limit y' -> -a/Tc (the
-    # implied dH stays finite), while y'' diverges like tau^-0.5 through the b term. A range
-    # stated as Tmin..Tc put 0/0 there and every such record drew a false slope error.
+    # Wagner (1973), eq. 5, differentiated: at tau = 0 the slope has the finite limit
+    # y' -> -a/Tc (the implied dH stays finite), while y'' diverges like tau^-0.5 through
+    # the b term. A range stated as Tmin..Tc put 0/0 there and every such record drew a
+    # false slope error.
     rec = {
         "id": "w",
         "substance": "w",

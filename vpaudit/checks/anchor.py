@@ -3,7 +3,8 @@ the standard enthalpy and entropy of its phase change from standard thermochemic
 
 At 298.15 K and P0 = 1 bar the tables give, independently of any vapour-pressure equation,
 dH(298) and dS0(298) of sublimation (gas - solid) and vaporization (gas - liquid). A curve
-implies both (physics notes, section 10):
+implies both (the second- and third-law methods of high-temperature vapour-pressure
+evaluation):
 
     dH(298)  = R T^2 y'(T)                      (second law: from the slope)
     dS0(298) = dH(298)/T + R ln(P(298)/P0)      (third law: from the level)

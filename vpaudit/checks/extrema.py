@@ -60,8 +60,8 @@ def extrema_over_ranges(
     dH and ln P are taken over the whole range. dCp is taken only over the part where the
     vapour is near-ideal, P <= ``max_pressure`` of ``heat-capacity-sign`` (10 kPa by
     default) and T <= 0.7 Tc where Tc is known: above, the slope gives dH/dZ, whose
-    temperature derivative is not dCp (physics notes, section 2). Keys ``cp_lo``/``cp_hi``
-    give that sub-range; NaN where the record has none.
+    temperature derivative is not dCp. Keys ``cp_lo``/``cp_hi`` give that sub-range; NaN
+    where the record has none.
 
     Log-linear and Antoine curves: ends of the range plus the analytic stationary points
     (dH is stationary where dCp = 0: T^E = -C/(D E (E+1)); the Antoine dCp where

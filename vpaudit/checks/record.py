@@ -327,7 +327,14 @@ def above_critical(ctx: AuditContext):
     allowed = np.where(np.isfinite(own), own * (1 + 1e-9), ref + margin)
     with np.errstate(invalid="ignore"):
         bad = ctx.evaluable & ctx.liquid & (ctx.curves.t_max > allowed)
+        # a reference Tc below the whole range (phenanthrene's 0.9 K in one table) says
+        # more about the reference than about the record: no liquid curve lies entirely
+        # above its critical point
+        below = ~np.isfinite(own) & (ref + margin < ctx.curves.t_min)
     for i in np.flatnonzero(bad):
+        if below[i]:
+            yield _implausible_tc(ctx, i, ref[i])
+            continue
         whose = "the record's own" if np.isfinite(own[i]) else "the reference"
         if np.isfinite(own[i]):
             beyond = ""
@@ -350,6 +357,40 @@ def above_critical(ctx: AuditContext):
                 "residual_K": ctx.curves.t_max[i] - tc[i],
             },
         )
+
+
+def _implausible_tc(ctx: AuditContext, row: int, tc: float):
+    """``above-critical`` for a reference Tc below a liquid record's whole range: a warning
+    that names the reference (at its own file and line) as the likely culprit.
+    """
+    from .finding import Finding
+
+    refs = ctx.table.references
+    at = np.flatnonzero(
+        eq(refs["quantity"], "critical_temperature") & (ctx.ref_codes == ctx.codes[row])
+    )
+    r0 = int(at[0]) if at.size else None
+    source = str(refs["source"].iat[r0]) if r0 is not None else "?"
+    c = ctx.curves
+    return Finding(
+        "above-critical",
+        ctx.at_most("above-critical", Severity.warning),
+        ctx.substance_of(row),
+        (ctx.id(row),),
+        f"the reference critical temperature {kelvin(tc)} ({source}) lies below the whole "
+        f"range of {ctx.id(row)} ({kelvin(c.t_min[row])} to {kelvin(c.t_max[row])}); no "
+        "liquid curve lies entirely above its critical point, so the reference value looks "
+        "wrong, not the record: check it against its source.",
+        {
+            "critical_temperature_K": float(tc),
+            "t_min_K": float(c.t_min[row]),
+            "t_max_K": float(c.t_max[row]),
+            "likely_culprit": "reference",
+        },
+        None,
+        str(refs["file"].iat[r0]) if r0 is not None else None,
+        int(refs["line"].iat[r0]) if r0 is not None else None,
+    )
 
 
 def _boiling_residuals(ctx: AuditContext):

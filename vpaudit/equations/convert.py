@@ -1,6 +1,7 @@
 """Exact conversion of a record to another log base, pressure unit or temperature unit.
 
-Every conversion here is exact algebra (physics notes, section 3): a converted record
+Every conversion here is exact algebra (a change of log base, pressure unit or
+temperature scale is an affine change of the coefficients): a converted record
 reproduces the original ln P to rounding error. A conversion that would need a refit (a
 log-linear record in degC, another form) is refused with :class:`~vpaudit.errors.EquationError`.
 """

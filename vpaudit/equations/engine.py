@@ -252,7 +252,7 @@ def _wagner(p: np.ndarray, t: np.ndarray, order: int):
         # Derivatives of S with respect to tau (powers written so that tau = 0 gives their
         # limits, never 0/0: S1 -> a), then the chain rule with dtau/dT = -1/Tc. At Tc the
         # slope stays finite, y' -> -a/Tc, while S2 and the implied dCp diverge like
-        # tau^-0.5 through the b term: Wagner (1973), eq. 5; physics notes, section 3.
+        # tau^-0.5 through the b term: Wagner (1973), eq. 5, differentiated.
         S1 = a + 1.5 * b * sq + c * e3 * tau ** (e3 - 1.0) + d * e4 * tau ** (e4 - 1.0)
         S2 = (
             0.75 * b / sq

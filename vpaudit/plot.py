@@ -68,6 +68,30 @@ def _matplotlib():
     return plt
 
 
+def _name_curves(ax, names, finite_in_range) -> None:
+    """Write each record's name at the high-temperature end of its range; names that would
+    fall on one another (two sources of nearly the same curve) are stacked upwards.
+    """
+    if not names:
+        return
+    xs = np.array([n[0] for n in names])
+    ys = np.concatenate(finite_in_range) if finite_in_range else np.array([n[1] for n in names])
+    dx = max(float(np.ptp(xs)), 1e-9) * 0.05 + 0.01
+    dy = max(float(np.ptp(ys)), 1e-9) * 0.03
+    placed: list[tuple[float, float]] = []
+    for x, y, text, color in names:
+        near = sum(abs(x - px) <= dx and abs(y - py) <= dy for px, py in placed)
+        ax.annotate(
+            text,
+            (x, y),
+            xytext=(4, 4 + 10 * near),
+            textcoords="offset points",
+            fontsize=8,
+            color=color,
+        )
+        placed.append((x, y))
+
+
 def plot_substance(table: Table, substance: str, path: str | Path, unit: str = "Pa") -> dict:
     """Draw ``substance`` and write the picture to ``path`` (``.png`` or ``.svg``).
 
@@ -106,6 +130,7 @@ def plot_substance(table: Table, substance: str, path: str | Path, unit: str = "
     t_all = 1.0 / np.linspace(1.0 / (hi * 1.08), 1.0 / (lo / 1.08), 400)
     x = 1000.0 / t_all
     drawn, styles, finite_in_range = [], {}, []
+    names: list[tuple[float, float, str, str]] = []  # where each record's name goes
     seen = {"solid": 0, "liquid": 0}
     for i in range(ctx.n):
         if not ctx.evaluable[i]:
@@ -134,16 +159,10 @@ def plot_substance(table: Table, substance: str, path: str | Path, unit: str = "
         shown = np.flatnonzero(inside & np.isfinite(y))
         if shown.size:  # the record's name at the high-temperature end of its range
             k = shown[0]
-            ax.annotate(
-                _plain(ctx.id(i)),
-                (x[k], y[k]),
-                xytext=(4, 4),
-                textcoords="offset points",
-                fontsize=8,
-                color=styles[i]["color"],
-            )
+            names.append((x[k], y[k], _plain(ctx.id(i)), styles[i]["color"]))
             finite_in_range.append(y[shown])
         drawn.append(ctx.id(i))
+    _name_curves(ax, names, finite_in_range)
     pr = ctx.pairs
     crossings = []
     for k in range(len(pr.solid)):

@@ -59,7 +59,7 @@ def _lookup(fn, cas: str, methods) -> tuple[float, str] | None:
 
 def references(cas: str, name: str, liquid: bool, solid: bool) -> list[dict]:
     """The reference values of one substance, each with its method named in its source."""
-    from chemicals import Hfus, Tb, Tc, Tm
+    from chemicals import Hfus, Pc, Tb, Tc, Tm
 
     out = []
 
@@ -79,6 +79,7 @@ def references(cas: str, name: str, liquid: bool, solid: bool) -> list[dict]:
     if liquid:
         add("normal_boiling_point", _lookup(Tb, cas, _TB), "K", "Tb")
         add("critical_temperature", _lookup(Tc, cas, _TC), "K", "Tc")
+        add("critical_pressure", _lookup(Pc, cas, _TC), "Pa", "Pc")
     if solid:
         add("melting_point", _lookup(Tm, cas, _TM), "K", "Tm")
         found = _lookup(Hfus, cas, ("CRC",))

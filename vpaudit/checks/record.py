@@ -317,6 +317,12 @@ def above_critical(ctx: AuditContext):
     none is stated, by the relative tolerance (how far independent evaluations of Tc differ).
     A range ending at the record's own Tc, or within that margin of a reference, is not a
     defect: compilations state Wagner ranges as Tmin..Tc.
+
+    Two evaluations of Tc can disagree by more than that, and then the reference may be the
+    one that is off. When the substance has a reference critical pressure and the curve
+    reaches it nearer its own range end than the reference Tc, the range ends at its
+    source's Tc: a warning that names the reference. A reference Tc below the whole range
+    is named the same way.
     """
     th = ctx.thresholds("above-critical")
     own = ctx.curves.own_t_crit
@@ -331,9 +337,13 @@ def above_critical(ctx: AuditContext):
         # more about the reference than about the record: no liquid curve lies entirely
         # above its critical point
         below = ~np.isfinite(own) & (ref + margin < ctx.curves.t_min)
+    sides = _critical_pressure_sides(ctx, np.flatnonzero(bad & ~below & ~np.isfinite(own)), ref)
     for i in np.flatnonzero(bad):
         if below[i]:
             yield _implausible_tc(ctx, i, ref[i])
+            continue
+        if i in sides:
+            yield _disputed_tc(ctx, i, ref[i], *sides[i])
             continue
         whose = "the record's own" if np.isfinite(own[i]) else "the reference"
         if np.isfinite(own[i]):
@@ -357,6 +367,57 @@ def above_critical(ctx: AuditContext):
                 "residual_K": ctx.curves.t_max[i] - tc[i],
             },
         )
+
+
+def _critical_pressure_sides(ctx: AuditContext, rows: np.ndarray, tc_ref: np.ndarray) -> dict:
+    """For the records in ``rows`` whose range ends above a reference Tc and whose substance
+    has a reference critical pressure: where the curve itself reaches that Pc (T*, found up
+    to 10 % beyond its range). A range stated as Tmin..Tc ends at its own source's Tc, so a
+    curve that reaches the reference Pc nearer its own range end than the reference Tc sides
+    with its source: returns {row: (T*, Pc)} for those, which are a dispute between two
+    evaluations of Tc, not a range beyond the critical point.
+    """
+    if rows.size == 0:
+        return {}
+    pc = ctx.reference("critical_pressure", rows)
+    keep = np.isfinite(pc)
+    rows, pc = rows[keep], pc[keep]
+    if rows.size == 0:
+        return {}
+    c = ctx.curves.take(rows)
+    t_star = temperature_at(c, np.log(pc), c.t_min, 1.1 * c.t_max)
+    with np.errstate(invalid="ignore"):
+        own_side = np.abs(t_star - c.t_max) < np.abs(t_star - tc_ref[rows])
+    return {
+        int(r): (float(t), float(p))
+        for r, t, p, ok in zip(rows, t_star, pc, own_side, strict=True)
+        if ok
+    }
+
+
+def _disputed_tc(ctx: AuditContext, row: int, tc: float, t_star: float, pc: float):
+    """``above-critical`` for a range that ends at its own source's Tc, which the curve
+    and the reference Pc support against the reference Tc: a warning naming the reference.
+    """
+    c = ctx.curves
+    t_max = float(c.t_max[row])
+    return ctx.finding(
+        "above-critical",
+        row,
+        f"the range ends at {kelvin(t_max)}, above the reference critical temperature "
+        f"{kelvin(tc)}; but the curve reaches the reference critical pressure {pc:.4g} Pa at "
+        f"{kelvin(t_star)}, near its own range end: the range ends at its source's Tc, and the "
+        "reference Tc is the likelier to be off (two evaluations of Tc disagree; check the "
+        "reference against its source).",
+        {
+            "t_max_K": t_max,
+            "critical_temperature_K": float(tc),
+            "critical_pressure_Pa": pc,
+            "reaches_critical_pressure_K": t_star,
+            "likely_culprit": "reference",
+        },
+        severity=ctx.at_most("above-critical", Severity.warning),
+    )
 
 
 def _implausible_tc(ctx: AuditContext, row: int, tc: float):

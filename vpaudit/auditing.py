@@ -140,44 +140,39 @@ def point_at_suspects(
                 size, at = f.evidence.get(size_key), f.evidence.get(at_key)
                 if size is not None and at is not None and witnesses is not None:
                     pending[k] = (abs(float(size)), float(at))
-    witnessed: dict[int, tuple[str, int]] = {}
-    if pending:
-        rows = ctx.rows_by_id({r for k in pending for r in findings[k].records})
-        c = ctx.curves
-        for k, (size, at) in pending.items():
-            a, b = findings[k].records
-            if a not in rows or b not in rows:
-                continue
-            # a witness vouches for its curve where the two disagree only within (or near)
-            # the curve's own range, and only as finely as its tolerance
-            pins = [
-                witnesses.resolution[rows[r]] < size
-                and c.t_min[rows[r]] * (1.0 - NEAR_RANGE)
-                <= at
-                <= c.t_max[rows[r]] * (1.0 + NEAR_RANGE)
-                for r in (a, b)
-            ]
-            if pins[0] != pins[1]:
-                culprit, partner = (b, a) if pins[0] else (a, b)
-                witnessed[k] = (culprit, rows[partner])
-                if culprit != findings[k].records[0]:
-                    moves[k] = culprit
-    if not moves and not witnessed:
+    if not moves and not pending:
         return findings
-    rows = ctx.rows_by_id(set(moves.values()))
-    out = list(findings)
-    for k, rid in moves.items():
-        if rid in rows:
-            out[k] = dataclasses.replace(out[k], **ctx.location(rows[rid]))
-    for k, (culprit, partner) in witnessed.items():
-        f = out[k]
-        out[k] = dataclasses.replace(
-            f,
-            message=f"{f.message} {ctx.id(partner)} meets {witnesses.words(partner)} (within "
-            f"{witnesses.resolution[partner]:.2g} in ln P, less than the two curves differ "
+    rows = ctx.rows_by_id(set(moves.values()) | {r for k in pending for r in findings[k].records})
+    changes = {k: ctx.location(rows[rid]) for k, rid in moves.items() if rid in rows}
+    c = ctx.curves
+    lo, hi = 1.0 - NEAR_RANGE, 1.0 + NEAR_RANGE
+    for k, (size, at) in pending.items():
+        f = findings[k]
+        a, b = f.records
+        if a not in rows or b not in rows:
+            continue
+        # a witness vouches for its curve where the two disagree only within (or near)
+        # the curve's own range, and only as finely as its tolerance
+        pins = [
+            witnesses.resolution[rows[r]] < size
+            and c.t_min[rows[r]] * lo <= at <= c.t_max[rows[r]] * hi
+            for r in (a, b)
+        ]
+        if pins[0] == pins[1]:
+            continue
+        culprit, partner = (b, a) if pins[0] else (a, b)
+        p = rows[partner]
+        changes[k] = {
+            "message": f"{f.message} {partner} meets {witnesses.words(p)} (within "
+            f"{witnesses.resolution[p]:.2g} in ln P, less than the two curves differ "
             f"here); {culprit} has no such witness and is the likelier culprit.",
-            evidence={**f.evidence, "likely_culprit": culprit},
-        )
+            "evidence": {**f.evidence, "likely_culprit": culprit},
+        }
+        if culprit != a:
+            changes[k].update(ctx.location(rows[culprit]))
+    out = list(findings)
+    for k, change in changes.items():
+        out[k] = dataclasses.replace(out[k], **change)
     return out
 
 

@@ -551,6 +551,17 @@ def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
         out_codes.append(np.asarray(codes, dtype=np.int64))
         out_cost.append(np.where(np.isfinite(z), np.abs(z), np.inf))
 
+    def add_widened(codes: np.ndarray, resid: np.ndarray, sigma: np.ndarray, widen) -> None:
+        """A residual whose scale ``sigma`` was widened by ``widen`` (>= 1) for an
+        extrapolation, with the normalization of its Gaussian likelihood, 2 ln(widen): a
+        reading that moves a range away from its witness predicts it less sharply and must
+        not fit better for that (as a |z| whose square it is).
+        """
+        add(codes, resid / sigma)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            occam = np.sqrt(2.0 * np.log(np.maximum(widen, 1.0)))
+        add(codes, np.nan_to_num(occam, nan=0.0))
+
     # a correction that makes a curve unusable over its range (an Antoine pole moved into it)
     # must not escape the evidence that the other checks would weigh
     unusable = ctx.codes[~ctx.evaluable & (ctx.codes >= 0)]
@@ -594,10 +605,7 @@ def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
         dist = np.maximum(c.t_min - t, t - c.t_max).clip(min=0.0) / t
         tol_b = policy.thresholds("boiling-point-mismatch")["tolerance"]
         widen = 1.0 + 20.0 * dist
-        add(ctx.codes[r], d / (0.5 * tol_b * widen))
-        # the likelihood's normalization, as for the anchor below: a range read far from
-        # the boiling point must not fit better because its tolerance is looser
-        add(ctx.codes[r], np.sqrt(2.0 * np.log(widen)))
+        add_widened(ctx.codes[r], d, 0.5 * tol_b * widen, widen)
     # the entropy of the phase change (Trouton's rule generalised), outside its band
     th = policy.thresholds("enthalpy-implausible")
     if rows.size:
@@ -623,15 +631,11 @@ def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
             (a["s"], a["s_ref"], al["s_warn"], al["s_base"]),
         ):
             m = np.isfinite(ref)
-            codes = ctx.codes[a["rows"][m]]
-            add(codes, (value[m] - ref[m]) / (0.5 * allow[m]))
-            # the normalization of the same Gaussian likelihood, 2 ln(sigma / sigma_0): a
-            # longer extrapolation predicts the reference less sharply, so a candidate whose
-            # range lies farther from 298.15 K (an Antoine range read in degC) does not fit
-            # better merely because its allowance is wider. As a |z| whose square it is.
-            with np.errstate(invalid="ignore", divide="ignore"):
-                occam = np.sqrt(2.0 * np.log(np.maximum(allow[m] / base[m], 1.0)))
-            add(codes, np.nan_to_num(occam, nan=0.0))
+            # widened with the extrapolation: an Antoine range read in degC, farther from
+            # 298.15 K, gains nothing by its wider allowance
+            add_widened(
+                ctx.codes[a["rows"][m]], value[m] - ref[m], 0.5 * allow[m], allow[m] / base[m]
+            )
     # other sources of the same substance and phase, at the middle of the common range
     key = np.where(ctx.evaluable, ctx.codes * 2 + ctx.liquid, -1)
     ev = np.flatnonzero(key >= 0)
@@ -748,23 +752,19 @@ def _hard_failures(vctx: AuditContext, unit_of_code: np.ndarray, n: int) -> list
             & (np.abs(ex.y_max) <= lim)
         )
         far = ex.cp_max > th["error_above"] * factor
+        cp = vctx.severity("heat-capacity-sign")
         tiers = [
             (ev & ~finite, vctx.severity("pressure-not-finite")),
             (ev & ~(ex.h_min > 0), vctx.severity("slope-not-positive")),
-            (ev & far, vctx.escalated("heat-capacity-sign")),
-            (
-                ev & (ex.cp_max > th["tolerance"] * factor) & ~far,
-                vctx.severity("heat-capacity-sign"),
-            ),
+            (ev & far, vctx.escalated("heat-capacity-sign") if cp else None),
+            (ev & (ex.cp_max > th["tolerance"] * factor) & ~far, cp),
         ]
     # each at the severity the policy gives it (a lowered check counts for less)
     errors = np.zeros(vctx.n)
     warnings = np.zeros(vctx.n)
-    cp_on = vctx.severity("heat-capacity-sign") is not None
-    for k, (mask, sev) in enumerate(tiers):
-        if sev is None or (k >= 2 and not cp_on) or sev.rank < 1:
-            continue
-        (errors if sev is Severity.error else warnings)[mask] += 1.0
+    for mask, sev in tiers:
+        if sev is not None and sev.rank >= 1:
+            (errors if sev is Severity.error else warnings)[mask] += 1.0
     # the pair checks no-crossing and melting-point-mismatch, counted at the solid record
     pr = vctx.pairs
     tol = vctx.thresholds("melting-point-mismatch")["tolerance"]

@@ -426,12 +426,7 @@ def _implausible_tc(ctx: AuditContext, row: int, tc: float):
     """
     from .finding import Finding
 
-    refs = ctx.table.references
-    at = np.flatnonzero(
-        eq(refs["quantity"], "critical_temperature") & (ctx.ref_codes == ctx.codes[row])
-    )
-    r0 = int(at[0]) if at.size else None
-    source = str(refs["source"].iat[r0]) if r0 is not None else "?"
+    source, file, line = _reference_at(ctx, "critical_temperature", ctx.codes[row])
     c = ctx.curves
     return Finding(
         "above-critical",
@@ -449,9 +444,21 @@ def _implausible_tc(ctx: AuditContext, row: int, tc: float):
             "likely_culprit": "reference",
         },
         None,
-        str(refs["file"].iat[r0]) if r0 is not None else None,
-        int(refs["line"].iat[r0]) if r0 is not None else None,
+        file,
+        line,
     )
+
+
+def _reference_at(ctx: AuditContext, quantity: str, code: int):
+    """(source, file, line) of substance ``code``'s reference ``quantity`` (its first row),
+    for a finding that names the reference; ("?", None, None) when there is none.
+    """
+    refs = ctx.table.references
+    at = np.flatnonzero(eq(refs["quantity"], quantity) & (ctx.ref_codes == code))
+    if not at.size:
+        return "?", None, None
+    r0 = int(at[0])
+    return str(refs["source"].iat[r0]), str(refs["file"].iat[r0]), int(refs["line"].iat[r0])
 
 
 def _boiling_residuals(ctx: AuditContext):
@@ -746,17 +753,13 @@ def reference_contradicted(ctx: AuditContext):
     out = _outvoted(ctx, rows, d, tol)
     if not out.any():
         return
-    refs = ctx.table.references
-    is_tb = eq(refs["quantity"], "normal_boiling_point")
     t_implied = temperature_at(c, LN_P_STANDARD, 0.5 * c.t_min, 3.0 * c.t_max)
     from .finding import Finding
 
     for code in np.unique(ctx.codes[rows[out]]):
         k = np.flatnonzero(out & (ctx.codes[rows] == code))
         name = ctx.substance_of(rows[k[0]])
-        ref_rows = np.flatnonzero(is_tb & (ctx.ref_codes == code))
-        r0 = int(ref_rows[0]) if ref_rows.size else None
-        source = str(refs["source"].iat[r0]) if r0 is not None else "?"
+        source, file, line = _reference_at(ctx, "normal_boiling_point", code)
         implied = t_implied[k]
         ids = tuple(ctx.id(rows[j]) for j in k)
         yield Finding(
@@ -776,8 +779,8 @@ def reference_contradicted(ctx: AuditContext):
                 "tolerance_lnP": float(tol[k].min()),
             },
             None,
-            str(refs["file"].iat[r0]) if r0 is not None else None,
-            int(refs["line"].iat[r0]) if r0 is not None else None,
+            file,
+            line,
         )
 
 

@@ -143,6 +143,10 @@ def planted(name, records, refs, flagged_clean, sample, rng):
             detected += 1
         else:
             missed[kind] += 1
+            if SHOW_MISSED:
+                print(f"      missed {kind} in {rid}: {_describe(original, bad)}")
+                for f in fs:
+                    print(f"        {f.severity.value} {f.check}: {f.message[:160]}")
         sug = next((f.suggestion for f in fs if f.suggestion), None)
         if sug is None:
             continue
@@ -158,6 +162,16 @@ def planted(name, records, refs, flagged_clean, sample, rng):
     return len(cases), detected, right, confident, confident_wrong, missed
 
 
+SHOW_MISSED = False
+
+
+def _describe(original: dict | None, bad: dict | None) -> str:
+    if original is None or bad is None:
+        return "phases swapped"
+    changed = {k: (original.get(k), v) for k, v in bad.items() if str(original.get(k)) != str(v)}
+    return f"range {original.get('t_min')}-{original.get('t_max')} K, changed {changed}"
+
+
 def confident_on_clean(records, refs):
     result = audit_table(table_from_rows(records, refs))
     return sum(
@@ -169,12 +183,18 @@ def main() -> None:
     ap = argparse.ArgumentParser()
     ap.add_argument("--sample", type=int, default=200, help="substances given a slip each")
     ap.add_argument("--seed", type=int, default=20261202)
+    ap.add_argument(
+        "--show-missed", action="store_true", help="print each planted slip not flagged"
+    )
+    ap.add_argument("--only", help="one compilation")
     args = ap.parse_args()
+    global SHOW_MISSED
+    SHOW_MISSED = args.show_missed
     print(
         "compilation      records  with error  false-alarm rate  | planted  detected  "
         "top-1 right  confident  confident wrong | confident fixes on clean records"
     )
-    for name in COMPILATIONS:
+    for name in [args.only] if args.only else COMPILATIONS:
         t0 = time.perf_counter()
         records, refs, flagged, by_check, _ = clean_errors(name)
         n, det, right, conf, cw, missed = planted(

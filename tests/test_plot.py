@@ -64,3 +64,18 @@ def test_a_pole_at_the_range_end_and_markup_in_a_name_still_draw(tmp_path):
     svg = tmp_path / "p.svg"
     plot_substance(table, "$\\foo{$", svg)
     assert "$\\foo{$" in svg.read_text() or "foo" in svg.read_text()
+
+
+def test_an_equation_given_at_one_temperature_is_drawn_as_its_point(tmp_path, recwarn):
+    # a range t_min = t_max once crashed the plot ("need at least one array to
+    # concatenate"): the one point the source vouches for is drawn and named
+    path = tmp_path / "r.csv"
+    path.write_text(
+        "id,substance,phase,form,log_base,pressure_unit,temperature_unit,A,B,C,t_min,t_max,"
+        "source\n"
+        "x1,xane,liquid,antoine,e,Pa,K,20.48,2755.4,-43.15,350.95,350.95,invented for this test\n"
+    )
+    drawn = plot_substance(load_table(path), "xane", tmp_path / "x.svg")
+    assert drawn["records"] == ["x1"] and not drawn["not_drawn"]
+    assert (tmp_path / "x.svg").read_text().startswith("<?xml")
+    assert not [w for w in recwarn if "legend" in str(w.message)]

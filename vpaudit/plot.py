@@ -149,13 +149,29 @@ def plot_substance(table: Table, substance: str, path: str | Path, unit: str = "
         ax.plot(
             x, np.where(inside, np.nan, y), ls="--", lw=0.9, color=styles[i]["color"], alpha=0.6
         )
-        ax.plot(
-            x,
-            np.where(inside, y, np.nan),
-            lw=2.2,
-            **styles[i],
-            label=_plain(f"{ctx.id(i)} ({phase}, {c.t_min[0]:.4g}-{c.t_max[0]:.4g} K)"),
-        )
+        if c.t_min[0] < c.t_max[0]:
+            ax.plot(
+                x,
+                np.where(inside, y, np.nan),
+                lw=2.2,
+                **styles[i],
+                label=_plain(f"{ctx.id(i)} ({phase}, {c.t_min[0]:.4g}-{c.t_max[0]:.4g} K)"),
+            )
+        else:  # a range of one temperature: the one point drawn
+            with np.errstate(all="ignore"):
+                y0 = evaluate(c, c.t_min[:, None], 0)[0][0]
+            if np.isfinite(y0[0]):
+                ax.plot(
+                    [1000.0 / c.t_min[0]],
+                    y0,
+                    marker="P",
+                    ms=9,
+                    ls="none",
+                    color=styles[i]["color"],
+                    label=_plain(f"{ctx.id(i)} ({phase}, at {c.t_min[0]:.4g} K only)"),
+                )
+                names.append((1000.0 / c.t_min[0], y0[0], _plain(ctx.id(i)), styles[i]["color"]))
+                finite_in_range.append(y0)
         shown = np.flatnonzero(inside & np.isfinite(y))
         if shown.size:  # the record's name at the high-temperature end of its range
             k = shown[0]
@@ -211,7 +227,9 @@ def plot_substance(table: Table, substance: str, path: str | Path, unit: str = "
         for line in ax.get_lines()
         if line.get_marker() in ("D", "h", "o", "X", "s")
     ]
-    ys = np.concatenate([*finite_in_range, *(np.asarray(v, dtype=float) for v in shown_refs)])
+    ys = np.concatenate(
+        [np.empty(0), *finite_in_range, *(np.asarray(v, dtype=float) for v in shown_refs)]
+    )
     ys = ys[np.isfinite(ys)]
     if ys.size:  # limits from what is drawn in range and the data, never from a pole
         pad = 0.08 * max(float(np.ptp(ys)), 1.0)
@@ -403,5 +421,5 @@ def _deviations(ax, ctx: AuditContext, t_all: np.ndarray, styles: dict) -> None:
     ax.set_ylabel("ln P - straight line")
     ax.set_xlabel("1000 K / T")
     ax.grid(True, color="#dddddd", lw=0.6)
-    if rows:
+    if ax.get_legend_handles_labels()[0]:
         ax.legend(fontsize=7.5, loc="best")

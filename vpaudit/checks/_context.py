@@ -84,12 +84,15 @@ class AuditContext:
         self._name_cache: dict[int, str] = {}
         lo, hi = self.curves.t_min, self.curves.t_max
         with np.errstate(invalid="ignore"):
-            ok = np.isfinite(lo) & np.isfinite(hi) & (lo > 0) & (lo < hi)
+            ok = np.isfinite(lo) & np.isfinite(hi) & (lo > 0) & (lo <= hi)
         problems = table.problems
         if len(problems):
             bad = problems.loc[problems["rule"].isin(["range", "pole"])]
             rows = self.rows_of(bad["file"], bad["line"])
-            ok[rows[rows >= 0]] = False
+            rows = rows[rows >= 0]
+            # a range of one temperature is still a temperature the source vouches for: the
+            # equation is tested there (range-invalid warns that there is no range)
+            ok[rows[~(lo[rows] == hi[rows])]] = False
         self.evaluable = ok
         self._severities: dict[str, Severity] = {}
         self._pair_blocks: SharedBlocks | None = None

@@ -27,9 +27,9 @@ def range_invalid(ctx: AuditContext):
     an Antoine pole theta = -C inside [t_min, t_max]).
 
     Such a record cannot be evaluated over its range; every other check skips it. A range
-    of a single temperature (t_min = t_max, as compilations sometimes carry one whose range
-    was lost) is a warning: it says nothing wrong about the equation, only that there is no
-    range to test it on.
+    of a single temperature (t_min = t_max: compilations carry equations estimated from one
+    point, often the normal boiling point, or whose range was lost) is a warning: it says
+    nothing wrong about the equation, which the other checks test at that one temperature.
     """
     problems = ctx.table.problems
     if not len(problems):
@@ -45,8 +45,8 @@ def range_invalid(ctx: AuditContext):
             yield ctx.finding(
                 "range-invalid",
                 int(row),
-                f"the range is a single temperature ({kelvin(t_min[row])}): the source states "
-                "no range to test the equation on; give the range the source gives.",
+                f"the range is a single temperature ({kelvin(t_min[row])}): the equation is "
+                "tested there only; give the range the source gives.",
                 {"field": pr.column},
                 severity=ctx.at_most("range-invalid", Severity.warning),
             )

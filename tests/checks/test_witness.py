@@ -56,15 +56,16 @@ def test_without_a_witness_no_culprit_is_named(copper):
 
 
 def test_a_witness_that_fails_backs_nothing(copper):
-    # the liquid off instead (A + 0.3): it misses its boiling point, which is a finding on
-    # the liquid alone, so the pair's finding lands on the liquid and no witness is claimed
+    # the liquid off instead (A + 0.3): it misses its boiling point by 0.3 in ln P, more
+    # than the check's own tolerance (0.09), so it is no witness and no culprit is named --
+    # though 0.3 is within how far a curve extrapolated 35 % beyond its range (1850 K to
+    # 2833 K) drifts, so the boiling point alone draws no finding
     recs, refs, tb = copper
     off = [dict(r, A=r["A"] + 0.3) if r["phase"] == "liquid" else r for r in recs]
     result = audit_table(table_from_rows(off, [*refs, tb]), diagnose=False)
     (f,) = [f for f in result.findings if f.check == "melting-point-mismatch"]
-    assert "likely_culprit" not in f.evidence
-    assert any(g.check == "boiling-point-mismatch" and g.records == ("Cu-liquid",)
-               for g in result.findings)  # fmt: skip
+    assert "likely_culprit" not in f.evidence and "culprit" not in f.message
+    assert not [g for g in result.findings if g.check == "boiling-point-mismatch"]
 
 
 @pytest.mark.parametrize("offset", [0.3, 3.0])

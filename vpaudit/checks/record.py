@@ -11,6 +11,7 @@ from ..equations.engine import evaluate, temperature_at
 from ._context import LN_P_STANDARD, AuditContext, match
 from ._registry import Scope, Severity, Threshold, check
 from ._text import jk, kelvin, kj, ln_ratio
+from .extrapolation import allowance
 
 __all__: list[str] = []
 
@@ -464,8 +465,10 @@ def _reference_at(ctx: AuditContext, quantity: str, code: int):
 def _boiling_residuals(ctx: AuditContext):
     """For the liquid records with a reference normal boiling point: their rows, curves, T_b,
     ln P(T_b), d = ln P(T_b) - ln 101325 and the tolerance of d (k times the combined
-    uncertainty of curve and reference, never less than the tolerance); None when there
-    are none.
+    uncertainty of curve and reference, never less than the tolerance, and widened in
+    quadrature by the extrapolation allowance where T_b lies outside the range:
+    :mod:`vpaudit.checks.extrapolation`), whether the reference states its uncertainty, and
+    the tolerance before that widening; None when there are none.
     """
     th = ctx.thresholds("boiling-point-mismatch")
     tb = ctx.reference("normal_boiling_point")
@@ -483,7 +486,10 @@ def _boiling_residuals(ctx: AuditContext):
     u_tb = np.where(stated, u_tb, th["tb_uncertainty"])
     with np.errstate(over="ignore"):  # a slope that overflows leaves an infinite sigma
         sigma = np.sqrt(u_p**2 + (np.abs(y1) * u_tb) ** 2)
-    return rows, c, t, y, y1, d, np.maximum(th["tolerance"], th["factor"] * sigma), stated
+    base = np.maximum(th["tolerance"], th["factor"] * sigma)
+    # a T_b outside the range is reached by extrapolation, which drifts (measured)
+    tol = np.hypot(base, allowance(c.t_min, c.t_max, t))
+    return rows, c, t, y, y1, d, tol, stated, base
 
 
 def _outvoted(ctx: AuditContext, rows: np.ndarray, d: np.ndarray, tol: np.ndarray) -> np.ndarray:
@@ -636,15 +642,16 @@ def boiling_point_mismatch(ctx: AuditContext):
     650 K, held at 3 % above 750 K, where the comparison has too few substances) is a
     warning, since the reference may be the party that is off; beyond it, an
     error. A reference with a stated uncertainty is held to it. The implied boiling
-    temperature is evidence. When T_b lies far outside the
-    range the check is a note: many evaluated liquid equations stop hundreds of kelvin below
-    the boiling point.
+    temperature is evidence. When T_b lies outside the range, the tolerance grows in
+    quadrature by the extrapolation allowance (:mod:`vpaudit.checks.extrapolation`); when it
+    lies far outside, the check is a note: many evaluated liquid equations stop hundreds of
+    kelvin below the boiling point.
     """
     th = ctx.thresholds("boiling-point-mismatch")
     got = _boiling_residuals(ctx)
     if got is None:
         return
-    rows, c, t, y, y1, d, tol, stated = got
+    rows, c, t, y, y1, d, tol, stated, _ = got
     # beyond the combined uncertainty but within how far independent evaluations of T_b
     # differ, a reference that states no uncertainty may as well be the party that is off:
     # a warning
@@ -749,7 +756,7 @@ def reference_contradicted(ctx: AuditContext):
     got = _boiling_residuals(ctx)
     if got is None:
         return
-    rows, c, t, y, _, d, tol, _ = got
+    rows, c, t, y, _, d, tol, _, _ = got
     out = _outvoted(ctx, rows, d, tol)
     if not out.any():
         return

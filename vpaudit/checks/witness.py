@@ -79,7 +79,10 @@ def vouched(ctx: AuditContext) -> Witnesses:
         kind[rows] = 2
     got = _boiling_residuals(ctx)
     if got is not None:
-        rows, *_, d, tol, _ = got
+        # the tolerance before the extrapolation allowance: a slip moves a curve's level
+        # everywhere, so a curve that lands on its boiling point, however far from its
+        # range, carries none
+        rows, *_, d, _, _, tol = got
         with np.errstate(invalid="ignore"):  # a witness needs a finite tolerance
             ok = (np.abs(d) <= tol) & np.isfinite(tol) & (tol < resolution[rows])
         resolution[rows[ok]] = tol[ok]

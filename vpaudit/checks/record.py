@@ -67,6 +67,12 @@ def pressure_not_finite(ctx: AuditContext):
     """Evaluate ln P at the ends of the range and at the stationary points of the curve; a
     non-finite value or |ln(P/Pa)| beyond the limit is an error (overflowing exponent,
     wrong sign of a large coefficient, a Wagner record above its critical point).
+
+    One case is a warning: a curve that is finite and within the limit at the top of its
+    range and falls below -limit only toward the bottom. Every vapour-pressure curve does
+    that near 0 K (ln P goes as -dH/(R T)); a range that reaches there (compilations write
+    t_min = 1 K for "no lower limit") claims pressures no measurement could give, which is
+    a fault of the range, not of the coefficients.
     """
     lim = ctx.thresholds("pressure-not-finite")["max_abs_lnP"]
     ex = ctx.range_extrema
@@ -77,13 +83,30 @@ def pressure_not_finite(ctx: AuditContext):
             & (np.abs(ex.y_min) <= lim)
             & (np.abs(ex.y_max) <= lim)
         )
+        at_bottom = np.isfinite(ex.y_min) & (ex.y_min < -lim) & (np.abs(ex.y_max) <= lim)
     for i in np.flatnonzero(bad):
         lo, hi = ex.y_min[i], ex.y_max[i]
+        t_lo, t_hi = ctx.curves.t_min[i], ctx.curves.t_max[i]
+        if at_bottom[i]:
+            t_lim = temperature_at(ctx.curves.take([i]), np.array([-lim]), t_lo, t_hi)[0]
+            yield ctx.finding(
+                "pressure-not-finite",
+                i,
+                f"ln(P/Pa) falls to {lo:.4g} at the bottom of the range ({kelvin(t_lo)}"
+                f"..{kelvin(t_hi)})"
+                + (f", below -{lim:g} under {kelvin(t_lim)}" if np.isfinite(t_lim) else "")
+                + ": the curve rises to ln(P/Pa) = "
+                f"{hi:.4g} at the top, but no measurement gives pressures that low; the range's "
+                "lower end looks like a placeholder. Give the range the source measured.",
+                {"lnP_min": lo, "lnP_max": hi, "limit_lnP": lim},
+                severity=ctx.at_most("pressure-not-finite", Severity.warning),
+            )
+            continue
         yield ctx.finding(
             "pressure-not-finite",
             i,
-            f"ln(P/Pa) runs from {lo:.4g} to {hi:.4g} over {kelvin(ctx.curves.t_min[i])}.."
-            f"{kelvin(ctx.curves.t_max[i])}: beyond +/-{lim:g}, or not finite, the pressure "
+            f"ln(P/Pa) runs from {lo:.4g} to {hi:.4g} over {kelvin(t_lo)}.."
+            f"{kelvin(t_hi)}: beyond +/-{lim:g}, or not finite, the pressure "
             "cannot be represented; check the coefficients' signs and exponents.",
             {"lnP_min": lo, "lnP_max": hi, "limit_lnP": lim},
         )
@@ -219,6 +242,13 @@ def enthalpy_implausible(ctx: AuditContext):
             "Pa",
             "dCp is tested only where P is below this and T below 0.7 Tc (near-ideal vapour)",
         ),
+        Threshold(
+            "resolvable",
+            0.03,
+            "ln P",
+            "least bow in ln P across the tested range that a dCp must make to be an error, "
+            "for a record that states no uncertainty (else its own)",
+        ),
     ),
     escalates_to=Severity.error,
 )
@@ -231,28 +261,75 @@ def heat_capacity_sign(ctx: AuditContext):
     Only the near-ideal part of the range is tested (P below ``max_pressure``, T below
     0.7 Tc): closer to the critical point the slope gives dH/dZ, and its derivative picks up
     -dH dZ'/dZ^2, about +100 J/(mol K) at 1 atm for an organic liquid -- not a heat capacity.
+
+    A dCp beyond ``error_above`` is an error only where the data could have shown it: a
+    constant dCp bends ln P away from a straight line in 1/T by dCp/R times the bow of ln T
+    over the range (:func:`bow_of_ln_t`), which over a narrow range is tiny (+100 J/(mol K)
+    over 163-176 K: 0.009 in ln P). Below the record's uncertainty, the curvature is the
+    fit's noise, and the finding stays a warning.
     """
     th = ctx.thresholds("heat-capacity-sign")
     ex = ctx.range_extrema
     factor = np.where(ctx.antoine, th["antoine_factor"], 1.0)
     with np.errstate(invalid="ignore"):
         bad = ctx.evaluable & (ex.cp_max > th["tolerance"] * factor)
-    for i in np.flatnonzero(bad):
+    rows = np.flatnonzero(bad)
+    bow = ex.cp_max[rows] / R * bow_of_ln_t(ex.cp_lo[rows], ex.cp_hi[rows])
+    u = ctx.uncertainty[rows]
+    u = np.where(np.isnan(u), th["resolvable"], u)
+    for k, i in enumerate(rows):
         cp, t = ex.cp_max[i], ex.cp_max_T[i]
-        sev = ctx.escalated("heat-capacity-sign") if cp > th["error_above"] * factor[i] else None
+        far = cp > th["error_above"] * factor[i]
+        sev = ctx.escalated("heat-capacity-sign") if far and bow[k] > u[k] else None
         yield ctx.finding(
             "heat-capacity-sign",
             i,
             f"the implied dCp reaches {jk(cp)} at {kelvin(t)}; it should be negative "
             "(the condensed phase holds more heat than its vapour): check the sign of the "
-            "log T coefficient, or whether the curve is used outside its fitted range.",
+            "log T coefficient, or whether the curve is used outside its fitted range"
+            + (
+                f". Over this narrow range that curvature bends ln P by only {bow[k]:.2g}, "
+                "within the record's uncertainty."
+                if far and not bow[k] > u[k]
+                else "."
+            ),
             {
                 "heat_capacity_change_J_per_mol_K": cp,
                 "at_K": t,
                 "tolerance": th["tolerance"] * factor[i],
+                "bow_lnP": bow[k],
             },
             severity=sev,
         )
+
+
+def bow_of_ln_t(t_lo, t_hi) -> np.ndarray:
+    """The largest departure of ln T from its chord in x = 1/T over [t_lo, t_hi].
+
+    A constant dCp adds (dCp/R)(ln T + T0/T) to ln P; the second term is linear in 1/T, so
+    dCp/R times this bow is how far the curvature moves ln P from a straight line over the
+    range. ln T = -ln x is convex in x, so the chord lies above it, farthest at the
+    logarithmic mean x* = (x2 - x1)/ln(x2/x1).
+
+    Parameters
+    ----------
+    t_lo, t_hi : array_like
+        Range ends. [K]
+
+    Returns
+    -------
+    ndarray
+        The bow [-] (0 for an empty or single-temperature range, NaN where an end is not
+        finite).
+    """
+    x1 = 1.0 / np.asarray(t_hi, dtype=float)
+    x2 = 1.0 / np.asarray(t_lo, dtype=float)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        r = np.log(x2 / x1)
+        xs = (x2 - x1) / r
+        chord = -np.log(x1) - (xs - x1) * r / (x2 - x1)
+        out = chord + np.log(xs)
+    return np.where(x2 > x1, out, np.where(np.isfinite(x1 + x2), 0.0, np.nan))
 
 
 @check(

@@ -134,12 +134,14 @@ def planted(name, records, refs, flagged_clean, sample, rng):
             (new, kind, f"{target['id']}#{k}", dict(target, id=f"{target['id']}#{k}"), bad)
         )
     result = audit_table(table_from_rows(recs, out_refs))
-    detected = right = confident = confident_wrong = 0
+    NEW_DEFECTS.setdefault(name, []).extend(new_defects(result, recs, out_refs))
+    detected = right = right_flagged = confident = confident_wrong = 0
     missed: Counter = Counter()
     stated = STATED.setdefault(name, [])
     for new, kind, rid, original, bad in cases:
         fs = [f for f in result.findings if f.substance == new]
-        if any(f.severity.value == "error" for f in fs):
+        flagged = any(f.severity.value == "error" for f in fs)
+        if flagged:
             detected += 1
         else:
             missed[kind] += 1
@@ -155,14 +157,61 @@ def planted(name, records, refs, flagged_clean, sample, rng):
         else:
             ok = sug["record"] == rid and reproduces(original, dict(bad, id=rid), sug)
         right += ok
+        right_flagged += ok and flagged
+        if SHOW_WRONG and flagged and not ok:
+            print(
+                f"      wrong top fix for {kind} in {rid}: {_describe(original, bad)}\n"
+                f"        suggested {sug['kind']} on {sug['record']} {sug['corrected']} "
+                f"at {sug['confidence']:.2f}"
+            )
         stated.append((sug["confidence"], ok))
         if sug["confidence"] >= 0.8:
             confident += 1
             confident_wrong += not ok
-    return len(cases), detected, right, confident, confident_wrong, missed
+    return len(cases), detected, right, confident, confident_wrong, missed, right_flagged
 
 
 SHOW_MISSED = False
+SHOW_WRONG = False
+#: Per compilation: (suggestion kind, errors its fix creates) for every suggestion made.
+NEW_DEFECTS: dict[str, list[tuple[str, list[str]]]] = {}
+
+
+def new_defects(result, recs: list[dict], refs: list[dict]) -> list[tuple[str, list[str]]]:
+    """Apply every suggestion (the first one of each substance) to its records, audit the
+    fixed substances again, and list the errors each fix creates: an error whose check and
+    records were not an error before the fix (a pole moved into the range, a slope turned
+    negative...)."""
+    before: dict[str, set] = {}
+    first: dict[str, dict] = {}
+    for f in result.findings:
+        if f.severity.value == "error":
+            before.setdefault(f.substance, set()).add((f.check, f.records))
+        if f.suggestion and f.substance not in first:
+            first[f.substance] = f.suggestion
+    if not first:
+        return []
+    by_id = {r["id"]: r for r in recs if r["substance"] in first}
+    fixed = dict(by_id)
+    for sug in first.values():
+        for part in (sug, *sug.get("also", [])):
+            rid = part["record"]
+            fixed[rid] = dict(fixed[rid], **part["corrected"])
+    fixed_recs = [
+        {k: (float(v) if k in "ABCDE" and v is not None else v) for k, v in r.items()}
+        for r in fixed.values()
+    ]
+    again = audit_table(
+        table_from_rows(fixed_recs, [r for r in refs if r["substance"] in first]),
+        diagnose=False,
+    )
+    after: dict[str, list[str]] = {}
+    for f in again.findings:
+        if f.severity.value == "error" and (f.check, f.records) not in before.get(
+            f.substance, set()
+        ):
+            after.setdefault(f.substance, []).append(f.check)
+    return [(sug["kind"], after.get(sub, [])) for sub, sug in first.items()]
 
 
 def _describe(original: dict | None, bad: dict | None) -> str:
@@ -186,10 +235,13 @@ def main() -> None:
     ap.add_argument(
         "--show-missed", action="store_true", help="print each planted slip not flagged"
     )
+    ap.add_argument(
+        "--show-wrong", action="store_true", help="print each flagged slip given a wrong top fix"
+    )
     ap.add_argument("--only", help="one compilation")
     args = ap.parse_args()
-    global SHOW_MISSED
-    SHOW_MISSED = args.show_missed
+    global SHOW_MISSED, SHOW_WRONG
+    SHOW_MISSED, SHOW_WRONG = args.show_missed, args.show_wrong
     print(
         "compilation      records  with error  false-alarm rate  | planted  detected  "
         "top-1 right  confident  confident wrong | confident fixes on clean records"
@@ -197,7 +249,7 @@ def main() -> None:
     for name in [args.only] if args.only else COMPILATIONS:
         t0 = time.perf_counter()
         records, refs, flagged, by_check, _ = clean_errors(name)
-        n, det, right, conf, cw, missed = planted(
+        n, det, right, conf, cw, missed, right_flagged = planted(
             name, records, refs, flagged, args.sample, random.Random(args.seed)
         )
         conf_clean, _ = confident_on_clean(records, refs)
@@ -209,6 +261,16 @@ def main() -> None:
         )
         print("    errors on the clean compilation by check:", dict(by_check.most_common()))
         print("    planted slips not flagged as errors, by kind:", dict(missed.most_common()))
+        print(
+            f"    top suggestion right on the flagged slips: {right_flagged} of {det} "
+            f"({right_flagged / det if det else 0:.1%})"
+        )
+        made = NEW_DEFECTS.get(name, [])
+        bad = [(kind, errs) for kind, errs in made if errs]
+        print(
+            f"    suggested fixes that create a new error when applied: {len(bad)} of {len(made)}",
+            dict(Counter(c for _, errs in bad for c in errs).most_common()),
+        )
     calibration_table()
     print("(lone curves with standard data only: benchmarks/lone_curves.py)")
 

@@ -328,8 +328,8 @@ def melting_point_mismatch(ctx: AuditContext):
             if not within
             else f"at the reference melting point {kelvin(tmk)} the solid and liquid curves "
             f"differ by {ln_ratio(dj)}, beyond the tolerance of {tol:g} for curves that "
-            f"reach it, but within the {wj:.3g} by which curves extrapolated this far "
-            "drift (95 % of real equations): the extrapolation may be the cause; "
+            f"reach it, but within the {wj:.3g} that 95 % of real equations extrapolated "
+            "this far stay within: the extrapolation may be the cause; "
             + (
                 f"they cross at {kelvin(tk)}, {tk - tmk:+.4g} K from it."
                 if math.isfinite(tk)

@@ -237,3 +237,12 @@ def test_every_report_format_is_offered_by_the_command_line():
     from vpaudit.report import RENDERERS
 
     assert set(FORMATS) == set(RENDERERS)
+
+
+def test_every_equation_form_is_offered_by_the_command_line():
+    # cli.FORMS is spelled out so that starting the command imports no numpy; this keeps
+    # it equal to the form registry, in its order
+    from vpaudit.cli import FORMS
+    from vpaudit.equations.forms import FORMS as REGISTRY
+
+    assert FORMS == tuple(REGISTRY)

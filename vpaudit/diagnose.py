@@ -75,6 +75,7 @@ from .checks._registry import REGISTRY, Severity
 from .checks.finding import Finding
 from .constants import R
 from .equations.engine import evaluate
+from .equations.families import FAMILIES
 from .equations.forms import FORMS
 from .readers.files import RawFrame
 from .readers.table import Table, _Collector, _record_rules, text_categorical
@@ -265,7 +266,7 @@ def candidates_for(
                 )
             )
     implausible: set[tuple[Change, ...]] = set()
-    if spec.family == "antoine":
+    if FAMILIES[spec.family].AFFINE_T:  # a form that may be written in degC or degF
         tu = rec.get("temperature_unit") or "K"
         s1, o1 = TEMPERATURE_UNITS[tu]
         for v in spec.temperature_units:

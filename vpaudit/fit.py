@@ -40,6 +40,7 @@ import numpy as np
 from scipy.optimize import least_squares, minimize_scalar
 
 from .constants import R
+from .equations.families import family_of, log_linear
 from .equations.forms import FORMS, WAGNER
 from .errors import EquationError
 
@@ -163,42 +164,17 @@ class FitResult:
         return rec
 
 
-# --- models: y and dy/dcoefficients -----------------------------------------------------------
+# --- models: y and dy/dcoefficients, each family's own (vpaudit.equations.families) ---------
 
 
 def _columns(form: str, t: np.ndarray, fixed: dict) -> np.ndarray:
     """Design matrix of a linear form: y = X @ coefficients (Wagner: y - ln Pc)."""
-    if form in WAGNER:
-        tc = fixed["t_crit"]
-        e3, e4 = WAGNER[form]
-        tau = 1.0 - t / tc
-        f = tc / t
-        return np.column_stack([f * tau, f * tau**1.5, f * tau**e3, f * tau**e4])
-    cols = [np.ones_like(t), 1.0 / t, np.log(t)]
-    if form == "two-term":
-        cols = cols[:2]
-    elif form == "four-term-t":
-        cols.append(t)
-    elif form == "four-term-cube":
-        cols.append(t**-3.0)
-    return np.column_stack(cols)
+    return family_of(form).design(form, t, fixed)
 
 
 def _model(form: str, p: np.ndarray, t: np.ndarray, fixed: dict):
     """Y = ln(P/Pa) and its gradient with respect to the coefficients, shape (m, k)."""
-    if form == "antoine":
-        a, b, c = p
-        s = t + c
-        return a - b / s, np.column_stack([np.ones_like(t), -1.0 / s, b / (s * s)])
-    if form == "power-term":
-        a, b, c, d, e = p
-        te = t**e
-        y = a + b / t + c * np.log(t) + d * te
-        g = np.column_stack([np.ones_like(t), 1.0 / t, np.log(t), te, d * te * np.log(t)])
-        return y, g
-    x = _columns(form, t, fixed)
-    off = math.log(fixed["p_crit"]) if form in WAGNER else 0.0
-    return x @ p + off, x
+    return family_of(form).model(form, p, t, fixed)
 
 
 # --- linear algebra ----------------------------------------------------------------------------
@@ -241,26 +217,10 @@ def _nonlinear(form, t, y, sigma, p0, loss="linear"):
 
 
 def _start(form: str, t: np.ndarray, y: np.ndarray, w: np.ndarray) -> np.ndarray:
-    """Starting point of a nonlinear fit: the best of a profile over the nonlinear
-    parameter (Antoine C, power-term E), the linear coefficients solved at each.
+    """Starting point of a nonlinear fit (the family's profile over its nonlinear
+    parameter, the linear coefficients solved at each).
     """
-    best = (np.inf, None)
-    if form == "antoine":
-        lo = -0.95 * t.min()
-        for c in np.linspace(lo, 0.5 * t.min(), 80):
-            x = np.column_stack([np.ones_like(t), -1.0 / (t + c)])
-            beta, _ = _wls(x, y, w)
-            chi = float(np.sum(w * (x @ beta - y) ** 2))
-            if chi < best[0]:
-                best = (chi, np.array([beta[0], beta[1], c]))
-    else:  # power-term
-        for e in (-3.0, -2.0, -1.5, -0.5, 0.5, 1.0, 1.5, 2.0, 3.0, 4.0, 6.0):
-            x = np.column_stack([np.ones_like(t), 1.0 / t, np.log(t), t**e])
-            beta, _ = _wls(x, y, w)
-            chi = float(np.sum(w * (x @ beta - y) ** 2))
-            if chi < best[0]:
-                best = (chi, np.array([*beta, e]))
-    return best[1]
+    return family_of(form).start(form, t, y, w, _wls)
 
 
 def fit_points(
@@ -333,7 +293,7 @@ def fit_points(
         raise EquationError("uncertainties must be positive")
     y = np.log(p)
     keep = np.ones(t.size, dtype=bool)
-    linear = form not in ("antoine", "power-term")
+    linear = family_of(form).linear(form)
 
     def solve(mask, loss="linear"):
         tm, ym, sm = t[mask], y[mask], sigma[mask]
@@ -427,14 +387,7 @@ class PairFitResult:
 
 def _gradient_t(form: str, t: float) -> tuple[np.ndarray, np.ndarray]:
     """d/dT of the design row at t, and the row itself (log-linear forms)."""
-    row = _columns(form, np.array([t]), {})[0]
-    d = {
-        "two-term": [0.0, -1.0 / t**2],
-        "three-term": [0.0, -1.0 / t**2, 1.0 / t],
-        "four-term-t": [0.0, -1.0 / t**2, 1.0 / t, 1.0],
-        "four-term-cube": [0.0, -1.0 / t**2, 1.0 / t, -3.0 / t**4],
-    }[form]
-    return np.asarray(d), row
+    return log_linear.design_slope(form, t), _columns(form, np.array([t]), {})[0]
 
 
 def _constrained(xs, ys, ws, xl, yl, wl, c, d):

@@ -10,7 +10,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..constants import R
-from ..equations.engine import ANTOINE, LOG_LINEAR, Curves, evaluate, temperature_at
+from ..equations.engine import Curves, evaluate, temperature_at
+from ..equations.families import BY_CODE
 
 __all__ = ["RangeExtrema", "extrema_over_ranges", "sampled"]
 
@@ -184,14 +185,16 @@ def sampled(c: Curves, lo: np.ndarray, hi: np.ndarray, need_h: bool = True, need
     if rest.any():
         p = p[rest]
         fam = c.family[rest]
+        # each family's stationary points in closed form (a Wagner curve has none: grid)
+        inner = []
         with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-            dee = p[:, 3] * p[:, 4] * (p[:, 4] + 1.0)
-            t_h = np.where(
-                (fam == LOG_LINEAR) & (dee != 0), (-p[:, 2] / dee) ** (1.0 / p[:, 4]), np.nan
-            )
-            t_cp = np.where(fam == ANTOINE, p[:, 2] / 2.0, np.nan)
+            for code, family in BY_CODE.items():
+                t_st = family.stationary(p)
+                if t_st is not None:
+                    t_st = np.where(fam == code, t_st, np.nan)
+                    if not np.isnan(t_st).all():
+                        inner.append(t_st)
         l_r, h_r = lo[rest], hi[rest]
-        inner = [t for t in (t_h, t_cp) if not np.isnan(t).all()]
         cand = np.column_stack([l_r, h_r, *inner])
         if inner:
             cand = np.where(np.isfinite(cand), cand, l_r[:, None])

@@ -1,6 +1,8 @@
 """The equation engine: every form in canonical units, ln P[Pa] of T[K], over arrays.
 
 * :mod:`.forms` -- the registry of forms (which coefficients each uses);
+* :mod:`.families` -- one module per family of forms: evaluation with derivatives,
+  stationary points, the fit model, what a change of log base or unit does;
 * :mod:`.engine` -- canonical parameters, evaluation with analytic first and second
   derivatives, implied enthalpy and heat-capacity change, inversion T(P);
 * :mod:`.convert` -- exact conversion of a record to another unit or log base.

@@ -14,6 +14,7 @@ from typing import Any
 
 from ..errors import EquationError
 from ..units import pressure_factor, temperature_affine
+from .families import FAMILIES
 from .forms import COEFFICIENTS, form_spec
 
 __all__ = ["convert_record", "to_canonical_record"]
@@ -87,21 +88,17 @@ def convert_record(
     k = _LN[b1] / _LN[b2]
     f_ratio = pressure_factor(u1) / pressure_factor(u2)
     changed: list[str] = []
-    if spec.family in ("log-linear", "antoine"):
-        scaled = ("A", "B", "D") if spec.family == "log-linear" else ("A", "B")
-        for c in scaled:
-            if coef[c] is not None and k != 1.0:
-                coef[c] *= k
-        if f_ratio != 1.0:
+    family = FAMILIES[spec.family]
+    for c in family.LOG_SCALED:
+        if coef[c] is not None and k != 1.0:
+            coef[c] *= k
+    if f_ratio != 1.0:
+        if family.UNIT_IN_A:
             coef["A"] += math.log(f_ratio) / _LN[b2]  # type: ignore[operator]
-    else:  # Wagner: log_b(P/Pc) = (Tc/T) S(tau)
-        for c in ("A", "B", "C", "D"):
-            if k != 1.0:
-                coef[c] *= k  # type: ignore[operator]
-        if f_ratio != 1.0:
+        else:  # Wagner: log_b(P/Pc) = (Tc/T) S(tau), the unit is Pc's
             out["p_crit"] = float(record["p_crit"]) * f_ratio
             changed.append("p_crit")
-    if spec.family == "antoine" and v2 != v1:
+    if family.AFFINE_T and v2 != v1:
         s1, o1 = temperature_affine(v1)
         s2, o2 = temperature_affine(v2)
         alpha, beta = s2 / s1, (o2 - o1) / s1

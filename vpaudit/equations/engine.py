@@ -13,12 +13,7 @@ Evaluation returns y = ln(P/Pa) and its analytic first and second derivatives wi
 to T, from which the Clausius-Clapeyron relation gives the implied (apparent) enthalpy
 dH = R T^2 y' and heat-capacity change dCp = R (2 T y' + T^2 y'').
 
-References
-----------
-.. [1] W. Wagner, "New vapour pressure measurements for argon and nitrogen and a new method
-   for establishing rational vapour pressure equations", Cryogenics 13 (1973) 470-482.
-.. [2] C. Antoine, "Tensions des vapeurs; nouvelle relation entre les tensions et les
-   temperatures", C. R. Acad. Sci. 107 (1888) 681-684.
+The evaluation itself is each family's (:mod:`.families`).
 """
 
 from __future__ import annotations
@@ -32,6 +27,7 @@ import pandas as pd
 from .._columns import codes, eq, lookup
 from ..constants import R
 from ..units import PRESSURE_UNITS, TEMPERATURE_UNITS
+from .families import BY_CODE, FAMILIES
 from .forms import FORMS, WAGNER
 
 __all__ = [
@@ -50,7 +46,7 @@ __all__ = [
     "bracketed_root",
 ]
 
-FAMILY_CODES = {"log-linear": 0, "antoine": 1, "wagner": 2}
+FAMILY_CODES = {name: fam.CODE for name, fam in FAMILIES.items()}
 #: The family codes by name, for code that asks what kind a curve is.
 LOG_LINEAR, ANTOINE, WAGNER_FAMILY = (FAMILY_CODES[f] for f in ("log-linear", "antoine", "wagner"))
 LN10 = float(np.log(10.0))
@@ -201,71 +197,8 @@ def curves_from_frame(records: pd.DataFrame) -> Curves:
     return Curves(family, params, t_min, t_max)
 
 
-def _shape(p: np.ndarray, t: np.ndarray) -> np.ndarray:
-    return p.reshape((-1,) + (1,) * (t.ndim - 1))
-
-
-def _log_linear(p: np.ndarray, t: np.ndarray, order: int):
-    A, B, C = (_shape(p[:, i], t) for i in range(3))
-    inv = 1.0 / t
-    y = A + B * inv + C * np.log(t)
-    if order:
-        y1 = (C - B * inv) * inv
-        y2 = (2.0 * B * inv - C) * inv * inv
-    else:
-        y1 = y2 = None
-    rows = np.flatnonzero(p[:, 3] != 0.0)
-    if rows.size:  # the D T^E term, only where a record has one
-        D, E = (_shape(p[rows, i], t) for i in (3, 4))
-        tr = t[rows] if t.shape[0] == p.shape[0] else np.broadcast_to(t, y.shape)[rows]
-        te = tr**E
-        y[rows] += D * te
-        if order:
-            y1[rows] += D * E * te / tr
-            y2[rows] += D * E * (E - 1.0) * te / (tr * tr)
-    return y, y1, y2
-
-
-def _antoine(p: np.ndarray, t: np.ndarray, order: int):
-    A, B, C = (_shape(p[:, i], t) for i in range(3))
-    s = t + C
-    y = A - B / s
-    if order == 0:
-        return y, None, None
-    y1 = B / (s * s)
-    y2 = -2.0 * y1 / s
-    return y, y1, y2
-
-
-def _wagner(p: np.ndarray, t: np.ndarray, order: int):
-    a, b, c, d, e3, e4, tc, lnpc = (_shape(p[:, i], t) for i in range(8))
-    with np.errstate(invalid="ignore", divide="ignore"):
-        tau = 1.0 - t / tc
-        # A range stated as Tmin..Tc puts a grid point at Tc itself, or a rounding above it:
-        # that is tau = 0, not a temperature beyond the equation.
-        tau = np.where((tau < 0.0) & (tau > -1e-9), 0.0, tau)
-        sq = np.sqrt(tau)
-        S = a * tau + b * tau * sq + c * tau**e3 + d * tau**e4
-        y = lnpc + tc / t * S
-        if order == 0:
-            return y, None, None
-        # Derivatives of S with respect to tau (powers written so that tau = 0 gives their
-        # limits, never 0/0: S1 -> a), then the chain rule with dtau/dT = -1/Tc. At Tc the
-        # slope stays finite, y' -> -a/Tc, while S2 and the implied dCp diverge like
-        # tau^-0.5 through the b term: Wagner (1973), eq. 5, differentiated.
-        S1 = a + 1.5 * b * sq + c * e3 * tau ** (e3 - 1.0) + d * e4 * tau ** (e4 - 1.0)
-        S2 = (
-            0.75 * b / sq
-            + c * e3 * (e3 - 1.0) * tau ** (e3 - 2.0)
-            + d * e4 * (e4 - 1.0) * tau ** (e4 - 2.0)
-        )
-        y1 = -tc / t**2 * S - S1 / t
-        y2 = 2.0 * tc * S / t**3 + 2.0 * S1 / t**2 + S2 / (t * tc)
-    return y, y1, y2
-
-
-#: The evaluator of each family code.
-_EVALUATORS = {LOG_LINEAR: _log_linear, ANTOINE: _antoine, WAGNER_FAMILY: _wagner}
+#: The evaluator of each family code (one module per family: :mod:`.families`).
+_EVALUATORS = {code: fam.evaluate for code, fam in BY_CODE.items()}
 
 
 def evaluate(curves: Curves, temperature, order: int = 2):

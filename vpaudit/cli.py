@@ -221,11 +221,16 @@ def _report_options(fail_help: str):
     return wrap
 
 
-def _emit(text: str, output: str | None) -> None:
+def _emit(text, output: str | None) -> None:
+    """Write ``text`` (a string, or pieces of one) to ``output``, else to standard output."""
+    parts = [text] if isinstance(text, str) else text
     if output:
-        Path(output).write_text(text, encoding="utf-8")
+        with open(output, "w", encoding="utf-8") as fh:
+            for part in parts:
+                fh.write(part)
     else:
-        click.echo(text, nl=False)
+        for part in parts:
+            click.echo(part, nl=False)
 
 
 # --- audit ---------------------------------------------------------------------------------
@@ -276,7 +281,7 @@ def audit_cmd(
     from .api import open_table
     from .auditing import audit_table
     from .policy import load_policy
-    from .report import RENDERERS
+    from .report import pieces
 
     runtime = _runtime(jobs, ahead)
     with _progress(quiet, "reading the table") as bar:
@@ -315,7 +320,7 @@ def audit_cmd(
             )
         else:
             store_table(t, db, str(table), result)
-    _emit(RENDERERS[fmt](result), output)
+    _emit(pieces(fmt, result), output)
     code = EXIT_FINDINGS if result.fails(fail_on) else EXIT_OK
     if not db:  # nothing is left to close: end without the interpreter's teardown
         from .runtime import FastExit
@@ -487,10 +492,10 @@ def gate_cmd(table, base, fmt, output, fail_on, policy):
     fetch the base revision first.
     """
     from .gate import gate
-    from .report import RENDERERS
+    from .report import pieces
 
     result = gate(table, base, policy)
-    _emit(RENDERERS[fmt](result), output)
+    _emit(pieces(fmt, result), output)
     sys.exit(EXIT_FINDINGS if result.fails(fail_on) else EXIT_OK)
 
 

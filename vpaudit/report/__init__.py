@@ -1,6 +1,9 @@
 """Reporters: each module exposes ``render(result) -> str``; :data:`RENDERERS` maps the
-``--format`` choices to them.
+``--format`` choices to them. :func:`pieces` gives the same text in pieces, for writing
+large reports a piece at a time (the formats whose module has ``chunks``).
 """
+
+from collections.abc import Iterator
 
 from . import csv as _csv
 from . import json as _json
@@ -16,4 +19,16 @@ RENDERERS = {
     "sarif": _sarif.render,
 }
 
-__all__ = ["RENDERERS"]
+_CHUNKED = {"json": _json.chunks, "csv": _csv.chunks}
+
+
+def pieces(fmt: str, result) -> Iterator[str]:
+    """The report of ``result`` in format ``fmt``, in pieces that join to
+    ``RENDERERS[fmt](result)``.
+    """
+    if fmt in _CHUNKED:
+        return _CHUNKED[fmt](result)
+    return iter([RENDERERS[fmt](result)])
+
+
+__all__ = ["RENDERERS", "pieces"]

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from collections.abc import Iterator
+
 import numpy as np
 import orjson
 
@@ -20,13 +22,28 @@ def _encode(value) -> bytes:
     return orjson.dumps(value, default=_default, option=_OPTIONS)
 
 
+#: Findings encoded per chunk: the output is written a chunk at a time, so the memory for
+#: the encoded text is one chunk's, reused, whatever the number of findings.
+CHUNK = 20_000
+
+
+def chunks(result) -> Iterator[str]:
+    """The JSON text of :func:`render`, in pieces that join to it: the summary, then the
+    findings a chunk at a time, each encoded as its dict is made (one finding per line).
+    """
+    yield '{"summary": ' + _encode(result.summary_dict()).decode("utf-8") + ',\n"findings": [\n'
+    findings = result.findings
+    for a in range(0, len(findings), CHUNK):
+        lines = b",\n".join([_encode(result.finding_dict(f)) for f in findings[a : a + CHUNK]])
+        yield (b",\n" + lines if a else lines).decode("utf-8")
+    yield "\n]}\n"
+
+
 def render(result) -> str:
     """Render an :class:`~vpaudit.auditing.AuditResult` as one JSON object.
 
     One finding per line: readable and diff-friendly. Written with orjson (several times
-    faster than the standard library's encoder), each finding encoded as its dict is made
-    and the lines joined as bytes (measurements: docs/performance.md).
+    faster than the standard library's encoder); the command line writes :func:`chunks` as
+    they come (measurements: docs/performance.md).
     """
-    lines = b",\n".join([_encode(result.finding_dict(f)) for f in result.findings])
-    summary = _encode(result.summary_dict())
-    return (b'{"summary": ' + summary + b',\n"findings": [\n' + lines + b"\n]}\n").decode("utf-8")
+    return "".join(chunks(result))

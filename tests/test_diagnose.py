@@ -318,7 +318,7 @@ def test_log_sum_exp_equals_scipy(values):
     """The posterior normaliser: equal to scipy.special.logsumexp (the reference library)."""
     from scipy.special import logsumexp
 
-    from vpaudit.diagnose import _logsumexp
+    from vpaudit.diagnose.scoring import _logsumexp
 
     x = np.array(values)
     assert _logsumexp(x) == pytest.approx(float(logsumexp(x)), rel=1e-12, abs=1e-12)
@@ -329,7 +329,8 @@ def test_scores_of_many_outcomes_at_once_equal_one_at_a_time():
     score (evidence costs capped, NaN as the cap, floors and findings added)."""
     from vpaudit.checks._registry import Severity
     from vpaudit.checks.finding import Finding
-    from vpaudit.diagnose import CALIBRATION, _Outcome, _prime_scores
+    from vpaudit.diagnose.scoring import CALIBRATION
+    from vpaudit.diagnose.variants import _Outcome, _prime_scores
 
     rng = np.random.default_rng(3)
     outs = []
@@ -375,7 +376,7 @@ def test_the_screening_bound_counts_each_check_at_the_policys_severity():
     # default) must count as a warning in the screening's lower bound when the policy makes
     # it one, else the bound exceeds what the checks would report
     from vpaudit.checks._context import AuditContext
-    from vpaudit.diagnose import _hard_failures
+    from vpaudit.diagnose.variants import _hard_failures
     from vpaudit.policy import Policy
 
     recs, refs = alcock("Cu")

@@ -1,0 +1,321 @@
+"""The hypotheses of the diagnosis: the slip kinds, their priors, and the candidate
+corrections of one record (:func:`candidates_for`).
+"""
+
+from __future__ import annotations
+
+import math
+from collections import Counter, defaultdict
+from dataclasses import dataclass
+from decimal import Decimal, InvalidOperation
+from itertools import combinations as _combinations
+
+import numpy as np
+
+from ..checks._context import P_STANDARD
+from ..equations.families import FAMILIES
+from ..equations.forms import FORMS
+from ..units import PRESSURE_UNITS, TEMPERATURE_UNITS
+
+#: The slip kinds, in reporting order, with the hypothesis each tests.
+SLIP_KINDS: dict[str, str] = {
+    "log-base": "the coefficients are in the other log base than the record says",
+    "pressure-unit": "the pressure unit is another one of the supported units",
+    "temperature-unit": "degC/degF/K confusion (Antoine)",
+    "sign": "one coefficient's sign was lost or added",
+    "phase-swap": "the solid and liquid labels of a pair are swapped",
+    "decimal-shift": "one coefficient is off by a power of ten",
+    "coefficient-swap": "two coefficients were entered in each other's columns",
+    "digit-transposition": "two adjacent digits of one coefficient are swapped",
+    "metadata-combination": "two or three of log base, pressure unit and temperature unit "
+    "are wrong at once (a source in log10 P, mmHg and degC entered as ln P, Pa and K)",
+}
+
+#: How much rarer two metadata slips at once are taken to be than one (an assumption, not a
+#: measurement: each is a separate misreading of the source's header).
+_COMBINATION_PRIOR = math.log(0.1)
+
+_DECIMAL_SHIFTS = (-3, -2, -1, 1, 2, 3)
+#: Log of how rare a real Antoine equation is whose pole lies above 0.85 t_min (0.3 % of
+#: Landolt's odd-CAS equations, none of Poling's): the prior of a temperature-unit fix that
+#: would put it there.
+_POLE_NEAR_RANGE = math.log(0.003)
+#: Log of how rare a real liquid equation is whose range starts above 1.2 times its own
+#: normal boiling point (measured on the liquids of four compilations with an implied boiling
+#: point: 0.2 % of Landolt's 2,938 odd-CAS equations, 0.3 % of the 339 Wagner equations of
+#: McGarry and Poling, none of Poling's 325 Antoine or Perry's 340): the prior of a
+#: temperature-unit fix that would read the range there (an Antoine range in K read as degC
+#: or degF lands 255-460 K higher).
+_RANGE_ABOVE_BOILING = math.log(0.003)
+
+
+@dataclass(frozen=True)
+class Change:
+    """One cell of a corrected record: ``field`` of record ``row`` becomes ``value``
+    (``text`` is the number as it would be written in the table).
+    """
+
+    row: int
+    field: str
+    value: object
+    text: str | None = None
+
+
+@dataclass(frozen=True)
+class Candidate:
+    """One hypothesis: the slip ``kind`` in record ``row``, undone by ``changes``."""
+
+    kind: str
+    row: int
+    changes: tuple[Change, ...]
+    log_prior: float
+    label: str
+
+
+# --- candidates ------------------------------------------------------------------------------
+
+
+def _flip_sign(text: str) -> str:
+    t = text.strip()
+    if t.startswith("-"):
+        return t[1:]
+    if t.startswith("+"):
+        return "-" + t[1:]
+    return "-" + t
+
+
+def _shift_text(text: str, k: int) -> str | None:
+    try:
+        d = Decimal(text.strip()).scaleb(k)
+    except InvalidOperation:
+        return None
+    s = format(d, "f") if abs(d.adjusted()) < 16 else str(d)
+    return s
+
+
+def _transpositions(text: str) -> list[tuple[int, str]]:
+    t = text.strip()
+    out = []
+    mantissa_end = next((i for i, ch in enumerate(t) if ch in "eE"), len(t))
+    for i in range(mantissa_end - 1):
+        a, b = t[i], t[i + 1]
+        if a.isdigit() and b.isdigit() and a != b:
+            out.append((i, t[:i] + b + a + t[i + 2 :]))
+    return out
+
+
+def _fmt(value) -> str:
+    return str(value) if isinstance(value, str) else f"{value:g}"
+
+
+def candidates_for(
+    rec: dict, row: int, partners: list[tuple[int, str]], log_prior: float = 0.0
+) -> list[Candidate]:
+    """Every single-slip correction of one record.
+
+    Parameters
+    ----------
+    rec : dict
+        The record's fields as read (``form``, ``log_base``, ``A`` and ``A_text``, ...).
+    row : int
+        Its row in the table.
+    partners : list of (int, str)
+        Rows and ids of the records of the other phase of the same substance (for
+        ``phase-swap``).
+    log_prior : float
+        Added to every candidate's log prior (its kind's share is added here).
+
+    Returns
+    -------
+    list of Candidate
+        Log priors are relative within each kind (``-ln`` of the number of variants); the
+        caller adds the kind's prior.
+    """
+    spec = FORMS[rec["form"]]
+    by_kind: dict[str, list[tuple[tuple[Change, ...], str]]] = defaultdict(list)
+    base = rec["log_base"]
+    other = "10" if base == "e" else "e"
+    word = {"e": "ln P", "10": "log10 P"}
+    by_kind["log-base"].append(
+        (
+            (Change(row, "log_base", other),),
+            f"the coefficients are for {word[other]}, not {word[base]} "
+            f"(log_base {base} -> {other})",
+        )
+    )
+    unit = rec["pressure_unit"]
+    for u in PRESSURE_UNITS:
+        # another name of the record's own unit (Torr for mmHg) would change nothing
+        if _UNIT_NAME[u] != _UNIT_NAME.get(unit, unit):
+            by_kind["pressure-unit"].append(
+                (
+                    (Change(row, "pressure_unit", u),),
+                    f"the coefficients give P in {u}, not {unit} (pressure_unit {unit} -> {u})",
+                )
+            )
+    implausible: set[tuple[Change, ...]] = set()
+    if FAMILIES[spec.family].AFFINE_T:  # a form that may be written in degC or degF
+        tu = rec.get("temperature_unit") or "K"
+        s1, o1 = TEMPERATURE_UNITS[tu]
+        for v in spec.temperature_units:
+            if v == tu:
+                continue
+            s2, o2 = TEMPERATURE_UNITS[v]
+            # Real Antoine equations put their pole (theta = -C) far below their range: for
+            # 99 % of Landolt's 3,355 equations (odd CAS) below 0.63 t_min, for all 325 of
+            # Poling's below 0.48 t_min, above 0.85 t_min for 0.3 %. A unit that would put
+            # it that close to the range is that unlikely.
+            pole = -float(rec["C"]) * s2 + o2 if rec.get("C") is not None else -math.inf
+            t_lo = float(rec.get("t_min") or math.nan)
+            tb = _antoine_boiling_point(rec, s2, o2) if rec["phase"] == "liquid" else math.nan
+            if pole > 0.85 * (t_lo * s2 + o2) or t_lo * s2 + o2 > 1.2 * tb:
+                # constants and range both read in v
+                implausible.add((Change(row, "temperature_unit", v),))
+            by_kind["temperature-unit"].append(
+                (
+                    (Change(row, "temperature_unit", v),),
+                    f"the Antoine constants and the range are for theta in {v}, not {tu} "
+                    f"(temperature_unit {tu} -> {v})",
+                )
+            )
+            # the range was converted to the record's unit but the constants were not
+            changes = [Change(row, "temperature_unit", v)]
+            for f in ("t_min", "t_max"):
+                val = rec.get(f)
+                if val is not None and np.isfinite(val):
+                    new = round(((val * s1 + o1) - o2) / s2, 10)
+                    changes.append(Change(row, f, float(new), repr(float(new))))
+            by_kind["temperature-unit"].append(
+                (
+                    tuple(changes),
+                    f"the Antoine constants are for theta in {v}, not {tu}; the range was "
+                    f"already in {tu} (temperature_unit {tu} -> {v}, range converted)",
+                )
+            )
+            if pole > 0.85 * (t_lo * s1 + o1) or t_lo * s1 + o1 > 1.2 * tb:
+                # the range as written, in its own unit
+                implausible.add(tuple(changes))
+    coeffs = [c for c in spec.coefficients if rec.get(c + "_text")]
+    for c in coeffs:
+        text = str(rec[c + "_text"])
+        v = float(rec[c])
+        if v != 0.0:
+            new = _flip_sign(text)
+            by_kind["sign"].append(
+                ((Change(row, c, -v, new),), f"the sign of {c} was lost or added ({text} -> {new})")
+            )
+        for k in _DECIMAL_SHIFTS:
+            new = _shift_text(text, k)
+            if new is None or v == 0.0:
+                continue
+            by_kind["decimal-shift"].append(
+                (
+                    (Change(row, c, float(new), new),),
+                    f"{c} was entered {10.0 ** abs(k):g} times too "
+                    f"{'small' if k > 0 else 'large'} ({text} -> {new})",
+                )
+            )
+        for _, new in _transpositions(text):
+            by_kind["digit-transposition"].append(
+                (
+                    (Change(row, c, float(new), new),),
+                    f"two adjacent digits of {c} are transposed ({text} -> {new})",
+                )
+            )
+    for i, a in enumerate(coeffs):
+        for b in coeffs[i + 1 :]:
+            ta, tb = str(rec[a + "_text"]), str(rec[b + "_text"])
+            if float(rec[a]) == float(rec[b]):
+                continue
+            by_kind["coefficient-swap"].append(
+                (
+                    (Change(row, a, float(rec[b]), tb), Change(row, b, float(rec[a]), ta)),
+                    f"{a} and {b} were entered in each other's columns ({a} {ta} <-> {b} {tb})",
+                )
+            )
+    phase = rec["phase"]
+    flip = "liquid" if phase == "solid" else "solid"
+    for prow, pid in partners:
+        by_kind["phase-swap"].append(
+            (
+                (Change(row, "phase", flip), Change(prow, "phase", phase)),
+                f"the solid and liquid labels of {rec['id']} and {pid} are swapped "
+                f"({rec['id']} is the {flip}, {pid} the {phase})",
+            )
+        )
+    # Two or three metadata slips at once: every pairing of the single metadata fixes above
+    # that change different fields (a temperature-unit fix that converted the range counts
+    # as one temperature fix).
+    meta = [
+        (k, ch, label)
+        for k in ("log-base", "pressure-unit", "temperature-unit")
+        for ch, label in by_kind.get(k, [])
+    ]
+    for n in (2, 3):
+        for combo in _combinations(meta, n):
+            if len({k for k, _, _ in combo}) < n:
+                continue
+            changes = tuple(c for _, ch, _ in combo for c in ch)
+            by_kind["metadata-combination"].append(
+                (changes, " and ".join(label for _, _, label in combo))
+            )
+            if any(ch in implausible for _, ch, _ in combo):
+                implausible.add(changes)
+    out = []
+    for kind, items in by_kind.items():
+        # the kind's prior is shared among its distinct corrections: two names of one
+        # pressure unit (Torr and mmHg, 1.4e-7 apart) are one hypothesis, not two
+        same = Counter(_canonical(ch) for ch, _ in items)
+        lp = log_prior - math.log(len(same))
+        if kind == "metadata-combination":
+            lp += _COMBINATION_PRIOR
+        out.extend(
+            Candidate(
+                kind,
+                row,
+                ch,
+                lp
+                - math.log(same[_canonical(ch)])
+                + (_POLE_NEAR_RANGE if ch in implausible else 0.0),
+                label,
+            )
+            for ch, label in items
+        )
+    return out
+
+
+def _canonical(changes: tuple[Change, ...]) -> tuple:
+    """``changes`` with each pressure unit named by the first unit of the same size."""
+    return tuple(
+        (
+            c.row,
+            c.field,
+            _UNIT_NAME.get(c.value, c.value) if c.field == "pressure_unit" else c.value,
+        )
+        for c in changes
+    )
+
+
+def _antoine_boiling_point(rec: dict, scale: float, offset: float) -> float:
+    """The normal boiling point, in K, of an Antoine record read with theta = (T - offset) /
+    scale (its constants and its pressure unit as they stand); NaN when the curve never
+    reaches 101 325 Pa on the right of its pole.
+    """
+    try:
+        a, b, c = float(rec["A"]), float(rec["B"]), float(rec["C"])
+        p_std = P_STANDARD / PRESSURE_UNITS[rec["pressure_unit"]]
+        y = math.log(p_std) if rec["log_base"] == "e" else math.log10(p_std)
+        theta = b / (a - y) - c
+    except (KeyError, TypeError, ValueError, ZeroDivisionError):
+        return math.nan
+    if not (a > y and theta + c > 0.0):
+        return math.nan
+    return theta * scale + offset
+
+
+#: Each pressure unit -> the first listed unit of the same size within 1e-6 (Torr -> Torr,
+#: mmHg -> Torr).
+_UNIT_NAME = {
+    u: next(v for v in PRESSURE_UNITS if abs(PRESSURE_UNITS[v] / f - 1.0) < 1e-6)
+    for u, f in PRESSURE_UNITS.items()
+}

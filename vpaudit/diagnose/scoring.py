@@ -1,0 +1,404 @@
+"""Weighing the candidates as hypotheses, the suggestion made of the winner, and its
+attachment to the audit's findings.
+"""
+
+from __future__ import annotations
+
+import math
+from collections import defaultdict
+from dataclasses import replace
+
+import numpy as np
+
+from ..checks._context import AuditContext
+from ..checks._registry import Severity
+from ..checks.finding import Finding
+from ..equations.forms import FORMS
+from ..substance import records_at
+from .candidates import SLIP_KINDS, Candidate, Change, candidates_for
+from .variants import (
+    _NOT_EVIDENCE,
+    _VERIFIED,
+    _audit_units,
+    _groups,
+    _key,
+    _Outcome,
+    _prime_scores,
+    _quiet,
+)
+
+# --- scoring and suggestions -----------------------------------------------------------------
+
+#: Calibrated constants of the scoring (benchmarks/diagnosis_accuracy.py): the temperature
+#: T dividing the misfit, the prior of "no single slip explains it", and the lowest
+#: confidence reported as a suggestion.
+CALIBRATION = {
+    "temperature": 1.0,
+    "prior_none": 0.3,
+    "loss": "quadratic",
+    "component_cap": 8.0,
+    "error_cost": 3.0,
+    "warning_cost": 1.0,
+    "min_confidence": 0.15,
+    "require_clear": True,
+    "logit_scale": 1.802,
+    "logit_shift": 0.570,
+}
+
+
+def _logsumexp(x: np.ndarray) -> float:
+    """log(sum(exp(x))) without overflow (the largest term factored out); scipy.special's
+    version is dear to import (docs/performance.md).
+    """
+    top = float(np.max(x))
+    if not np.isfinite(top):
+        return top
+    return top + float(np.log(np.sum(np.exp(x - top))))
+
+
+def _suspects(findings: list[Finding], limit: int | None) -> tuple[dict[str, set[str]], int]:
+    """The records of each substance with errors or warnings, worst substances first, at
+    most ``limit`` substances; returns them and how many were left out.
+    """
+    suspects: dict[str, set[str]] = defaultdict(set)
+    weight: dict[str, tuple[int, int]] = defaultdict(lambda: (0, 0))
+    for f in findings:
+        if f.severity.rank >= 1 and f.check not in _NOT_EVIDENCE and f.substance:
+            suspects[f.substance].update(f.records)
+            w = weight[f.substance]
+            weight[f.substance] = (max(w[0], f.severity.rank), w[1] + 1)
+    if limit is None or len(suspects) <= limit:
+        return dict(suspects), 0
+    order = sorted(suspects, key=lambda n: (-weight[n][0], -weight[n][1], n))
+    return {n: suspects[n] for n in order[:limit]}, len(order) - limit
+
+
+@_quiet
+def hypotheses(
+    ctx: AuditContext,
+    findings: list[Finding],
+    limit: int | None = None,
+    suspects: dict[str, set[str]] | None = None,
+) -> dict[str, tuple]:
+    """Every single-slip candidate of every suspect record, audited (the costly part).
+
+    ``limit`` bounds the substances diagnosed (worst first); ``suspects`` are those
+    substances' records when the caller has found them already (:func:`_suspects`).
+
+    Returns
+    -------
+    dict
+        Substance -> (outcome as written, candidates, their outcomes), for :func:`choose`.
+    """
+    table = ctx.table
+    if suspects is None:
+        suspects = _suspects(findings, limit)[0]
+    if not suspects:
+        return {}
+    wanted = {i for s in suspects.values() for i in s}
+    row_of: dict[str, int] = {}
+    for r in np.flatnonzero(table.records["id"].isin(list(wanted)).to_numpy()):
+        row_of.setdefault(ctx.id(r), int(r))
+    # the substance code of each suspect (from one of its rows), and the rows of those codes
+    code_of = {
+        name: int(ctx.codes[row_of[i]])
+        for name, rids in suspects.items()
+        for i in rids
+        if i in row_of
+    }
+    members = _groups(ctx.codes, set(code_of.values()))
+    as_written = dict(zip(row_of.values(), records_at(table, row_of.values()), strict=True))
+    cal = CALIBRATION
+    prior_kind = math.log((1.0 - cal["prior_none"]) / len(SLIP_KINDS))
+    units: list[tuple[int, tuple[Change, ...]]] = []
+    plan: dict[str, tuple[int, list[Candidate]]] = {}
+    for name, rids in suspects.items():
+        rows = sorted(row_of[i] for i in rids if i in row_of)
+        if not rows:
+            continue
+        code = code_of[name]
+        cands: list[Candidate] = []
+        seen: set = set()
+        sub_rows = members.get(code, np.empty(0, dtype=np.int64))
+        for row in rows:
+            rec = as_written[row]
+            if rec.get("form") not in FORMS:
+                continue
+            partners = [
+                (int(p), ctx.id(p))
+                for p in sub_rows
+                if p != row and ctx.phase_of(p) != rec["phase"]
+            ]
+            for c in candidates_for(rec, row, partners, prior_kind - math.log(len(rows))):
+                key = (c.kind, frozenset(c.changes))
+                if key in seen:  # a phase swap is proposed from both of its records
+                    continue
+                seen.add(key)
+                cands.append(c)
+        plan[name] = (len(units), cands)
+        units.append((code, ()))
+        units.extend((code, c.changes) for c in cands)
+    # Screening: the continuous evidence of every candidate (arrays only, no findings); the
+    # checks then run on the best few of each substance. A screened-out candidate still
+    # counts in the normalization with its evidence alone -- an upper bound on its weight, so
+    # the confidence of the chosen fix can only be understated by the screening.
+    screened = _audit_units(table, ctx, units, checks=False)
+    cal = CALIBRATION
+    _prime_scores(screened, cal)
+    units2: list[tuple[int, tuple[Change, ...]]] = []
+    plan2: dict[str, tuple[int, list[Candidate], list]] = {}
+    for name, (start, cands) in plan.items():
+        outs = screened[start + 1 : start + 1 + len(cands)]
+        rank = sorted(
+            range(len(cands)),
+            key=lambda k: -(cands[k].log_prior - outs[k].score(cal) / (2 * cal["temperature"])),
+        )
+        keep = sorted(rank[:_VERIFIED])
+        dropped = [(cands[k].log_prior, outs[k]) for k in rank[_VERIFIED:]]
+        plan2[name] = (len(units2), [cands[k] for k in keep], dropped)
+        units2.append(units[start])
+        units2.extend(units[start + 1 + k] for k in keep)
+    outcomes = _audit_units(table, ctx, units2)
+    return {
+        name: (outcomes[start], cands, outcomes[start + 1 : start + 1 + len(cands)], dropped)
+        for name, (start, cands, dropped) in plan2.items()
+    }
+
+
+@_quiet
+def diagnose(
+    ctx: AuditContext,
+    findings: list[Finding],
+    calibration: dict | None = None,
+    limit: int | None = None,
+    suspects: dict[str, set[str]] | None = None,
+) -> dict[str, dict]:
+    """The best single-slip fix for each substance with errors or warnings.
+
+    Parameters
+    ----------
+    ctx : AuditContext
+        The audit's context (the table, its curves and the policy).
+    findings : list of Finding
+        The audit's findings.
+    calibration : dict, optional
+        Scoring constants; :data:`CALIBRATION` by default.
+    limit : int, optional
+        Diagnose at most this many substances, those with errors and most findings first.
+    suspects : dict, optional
+        Those substances' suspect record ids, when already found (:func:`_suspects`).
+
+    Returns
+    -------
+    dict
+        Substance -> ``{"suggestion": dict or None, "clears": set of finding keys}``.
+    """
+    return {
+        name: choose(ctx, h, calibration)
+        for name, h in hypotheses(ctx, findings, limit, suspects).items()
+    }
+
+
+@_quiet
+def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None) -> dict:
+    """Weigh the audited candidates of one substance (from :func:`hypotheses`) and return
+    ``{"suggestion": dict or None, "clears": set of finding keys, "none": float}``.
+    """
+    cal = {**CALIBRATION, **(calibration or {})}
+    base, cands, outs, dropped = hypothesis
+    T = cal["temperature"]
+    before = _errors_and_warnings(base)
+    if not cands:
+        return {"suggestion": None, "clears": set(), "none": 1.0}
+    # A fix that creates an error the records as written do not have (a pole moved into
+    # the range, a range made invalid, a slope made negative) is disqualified outright: it
+    # is not a capped penalty that the substance's other problems could outweigh.
+    errors_before = {_key(f) for f in base.findings if f.severity is Severity.error}
+    harmful = [
+        any(f.severity is Severity.error and _key(f) not in errors_before for f in o.findings)
+        for o in outs
+    ]
+    # hypotheses: no single slip (the records as written), and each verified candidate
+    logw = np.array(
+        [math.log(cal["prior_none"]) - base.score(cal) / (2 * T)]
+        + [
+            -math.inf if bad else c.log_prior - o.score(cal) / (2 * T)
+            for c, o, bad in zip(cands, outs, harmful, strict=True)
+        ]
+    )
+    # Screened-out candidates: one whose correction is equivalent to a verified one (same
+    # curves, ranges and phases, so the same evidence) takes that one's score and joins its
+    # group; the others enter the normalization with an upper bound of their weight.
+    verified = {}
+    for k, o in enumerate(outs):
+        if not harmful[k]:
+            verified.setdefault(o.key, logw[1 + k] - cands[k].log_prior)
+    joined: dict[bytes, list[float]] = defaultdict(list)
+    rest = []
+    for lp, o in dropped:
+        if o.key in verified:
+            joined[o.key].append(lp + verified[o.key])
+        else:
+            rest.append(lp - o.score(cal) / (2 * T))
+    extra = [w for ws in joined.values() for w in ws]
+    z = _logsumexp(np.concatenate([logw, rest, extra]))
+    post = np.exp(logw - z)
+    # merge equivalent corrections (same curves, ranges and phases)
+    order = np.argsort(-post[1:])
+    groups: dict[bytes, list[int]] = {}
+    for k in order:
+        if post[1 + k] < 1e-4:
+            break
+        groups.setdefault(outs[k].key, []).append(int(k))
+    ranked = sorted(
+        (
+            (sum(post[1 + k] for k in ks) + sum(math.exp(w - z) for w in joined[key]), ks)
+            for key, ks in groups.items()
+        ),
+        key=lambda g: -g[0],
+    )
+    if not ranked or ranked[0][0] < max(cal["min_confidence"], post[0]):
+        return {"suggestion": None, "clears": set(), "none": float(post[0])}
+    raw, ks = ranked[0]
+    # equivalent fixes: the one the evidence fits best (to rounding), then the likelier kind,
+    # then the first generated (Torr before mmHg)
+    best = min(ks, key=lambda k: (round(outs[k].score(cal), 3), -cands[k].log_prior, k))
+    cleared = before - _errors_and_warnings(outs[best])
+    if not cleared & errors_before:
+        # warnings alone (a range gap, a small heat-capacity excursion) are no evidence of a
+        # transcription slip: a fix that clears no error is not suggested
+        return {"suggestion": None, "clears": set(), "none": float(post[0])}
+    if cal["require_clear"]:
+        # a fix must clear the errors on the record it corrects: one that leaves them is at
+        # best part of the story, and is not suggested
+        rid = ctx.id(cands[best].row)
+        if any(
+            f.severity is Severity.error and rid in f.records and _key(f) in before
+            for f in outs[best].findings
+        ):
+            return {"suggestion": None, "clears": set(), "none": float(post[0])}
+    sug = _suggestion(ctx, cands[best], outs[best], _stated(raw, cal), cleared, before, ks, cands)
+    if len(ranked) > 1 and ranked[1][0] >= 0.5 * raw:  # a close runner-up is reported too
+        raw2, ks2 = ranked[1]
+        k2 = ks2[0]
+        c2 = _stated(raw2, cal)
+        cleared2 = before - _errors_and_warnings(outs[k2])
+        sug["runner_up"] = _suggestion(ctx, cands[k2], outs[k2], c2, cleared2, before, ks2, cands)
+        sug["explanation"] += f" Close runner-up ({c2:.2f}): {cands[k2].label}."
+    return {"suggestion": sug, "clears": cleared, "none": float(post[0])}
+
+
+def _stated(p: float, cal: dict) -> float:
+    """The confidence stated for a posterior ``p``: logit(c) = a logit(p) + b, with a and b
+    fitted on held-out labelled cases (Platt scaling) so that c means what it says.
+    """
+    p = min(max(float(p), 1e-12), 1 - 1e-12)
+    z = cal["logit_scale"] * math.log(p / (1 - p)) + cal["logit_shift"]
+    return 1.0 / (1.0 + math.exp(-z))
+
+
+def _errors_and_warnings(out: _Outcome) -> set:
+    """The identities of an outcome's errors and warnings."""
+    return {_key(f) for f in out.findings if f.severity.rank >= 1}
+
+
+def _suggestion(
+    ctx: AuditContext,
+    cand: Candidate,
+    out: _Outcome,
+    conf: float,
+    cleared: set,
+    before: set,
+    group: list[int],
+    cands: list[Candidate],
+) -> dict:
+    """The suggestion of one fix, in the output contract's form."""
+    rid = ctx.id(cand.row)
+    corrected = {ch.field: ch.value for ch in cand.changes if ch.row == cand.row}
+    texts = {ch.field: ch.text for ch in cand.changes if ch.row == cand.row and ch.text}
+    sug: dict = {
+        "kind": cand.kind,
+        "record": rid,
+        "corrected": corrected,
+        "confidence": round(float(conf), 3),
+        "explanation": "",
+        "location": ctx.location(cand.row),
+    }
+    if texts:
+        sug["corrected_text"] = texts
+    others = [ch for ch in cand.changes if ch.row != cand.row]
+    if others:
+        sug["also"] = [
+            {
+                "record": ctx.id(ch.row),
+                "corrected": {ch.field: ch.value},
+                "location": ctx.location(ch.row),
+            }
+            for ch in others
+        ]
+    remaining = _errors_and_warnings(out)
+    n_before = len(before)
+    if conf >= 0.8:
+        lead = "Almost certainly"
+    elif conf >= 0.5:
+        lead = "Probably"
+    else:
+        lead = "Possibly (the evidence does not single out one fix)"
+    text = f"{lead} {cand.label} [{cand.kind}, confidence {conf:.2f}]."
+    if n_before:
+        text += (
+            f" With that fixed, {len(cleared)} of the {n_before} error(s) and warning(s) on "
+            f"{ctx.substance_of(cand.row)} clear"
+            + (
+                f"; {len(remaining)} {'remains' if len(remaining) == 1 else 'remain'}"
+                if remaining
+                else " and none remain."
+            )
+        )
+        if remaining:  # what the fix does not explain, by name
+            named = [f"{check} ({', '.join(ids)})" for check, ids in sorted(remaining)]
+            more = f" and {len(named) - 3} more" if len(named) > 3 else ""
+            text += f", which it does not explain: {'; '.join(named[:3])}{more}."
+    alt = sorted({cands[k].label for k in group if cands[k].label != cand.label})
+    if alt:
+        text += f" Equivalent: {alt[0]}."
+    sug["explanation"] = text
+    return sug
+
+
+#: Substances diagnosed in one audit by default (the cost per substance is in
+#: docs/performance.md), so a table whose every substance is broken still finishes in
+#: seconds; the rest are counted in the summary.
+DIAGNOSE_LIMIT = 1000
+
+
+@_quiet
+def attach_suggestions(
+    ctx: AuditContext, findings: list[Finding], limit: int = DIAGNOSE_LIMIT
+) -> tuple[list[Finding], int]:
+    """Findings with the diagnosis attached, and the number of substances left undiagnosed.
+
+    Each error or warning that the best fix of its substance clears, or that names the
+    corrected record, carries it as ``suggestion``. A finding on several records that the
+    fix singles one of out points at that one (its file and line), not at the first named:
+    a pair's error lands on the suspect, not on its clean partner.
+    """
+    suspects, skipped = _suspects(findings, limit)
+    diag = diagnose(ctx, findings, limit=limit, suspects=suspects)
+    if not diag:
+        return findings, skipped
+    out = []
+    for f in findings:
+        d = diag.get(f.substance)
+        sug = d["suggestion"] if d else None
+        if (
+            sug is not None
+            and f.severity.rank >= 1
+            and (_key(f) in d["clears"] or sug["record"] in f.records)
+        ):
+            where = sug["location"] if sug["record"] in f.records else {}
+            f = replace(
+                f, suggestion=sug, file=where.get("file", f.file), line=where.get("line", f.line)
+            )
+        out.append(f)
+    return out, skipped

@@ -1,0 +1,451 @@
+"""All candidates audited at once: the synthetic table of variants, its screening
+(:func:`_misfit`, :func:`_hard_failures`) and the full checks on the best of them.
+"""
+
+from __future__ import annotations
+
+from collections import defaultdict
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+from .._columns import TEXT
+from ..checks._context import LN_P_STANDARD, AuditContext, match, same_key_pairs
+from ..checks._registry import REGISTRY, Severity
+from ..checks.finding import Finding
+from ..constants import R
+from ..equations.engine import evaluate
+from ..readers.files import RawFrame
+from ..readers.table import Table, _Collector, _record_rules, text_categorical
+from .candidates import Change
+
+# --- variants: all candidates audited at once ------------------------------------------------
+
+#: Checks that say nothing about the numbers of a record (they are the same in every variant).
+_NOT_EVIDENCE = frozenset(
+    {"missing-source", "duplicate-record", "internal-error", "reference-contradicted"}
+)
+#: Candidates per substance that go on from the screening to the full checks.
+_VERIFIED = 10
+#: Variant rows audited at once (bounds the memory of the synthetic tables).
+_CHUNK_ROWS = 200_000
+
+
+def _quiet(func):
+    """Run ``func`` with numpy's floating-point warnings off: candidate corrections are
+    wrong on purpose, and their overflows become evidence, never warnings.
+    """
+    import functools
+
+    @functools.wraps(func)
+    def wrapper(*args, **kwargs):
+        with np.errstate(all="ignore"):
+            return func(*args, **kwargs)
+
+    return wrapper
+
+
+def _key(f: Finding) -> tuple[str, tuple[str, ...]]:
+    """A finding's identity across variants (whose substances are renamed): check and ids."""
+    return (f.check, tuple(sorted(f.records)))
+
+
+def _rho(z: np.ndarray) -> np.ndarray:
+    """The robust (soft-L1) cost of a standardized residual."""
+    return 2.0 * (np.sqrt(1.0 + z * z) - 1.0)
+
+
+def _groups(codes: np.ndarray, wanted=None) -> dict[int, np.ndarray]:
+    """The rows of each code in ``wanted`` (all non-negative codes by default)."""
+    if wanted is None:
+        order = np.argsort(codes, kind="stable")
+        sc = codes[order]
+        wanted = np.unique(sc[sc >= 0])
+    else:  # a few codes of a large table: sort only their rows
+        wanted = np.asarray(sorted(set(int(w) for w in wanted)), dtype=np.int64)
+        rows = np.flatnonzero(np.isin(codes, wanted))
+        order = rows[np.argsort(codes[rows], kind="stable")]
+        sc = codes[order]
+    lo = np.searchsorted(sc, wanted, side="left")
+    hi = np.searchsorted(sc, wanted, side="right")
+    return {int(c): order[a:b] for c, a, b in zip(wanted, lo, hi, strict=True) if b > a}
+
+
+_TEXT_FIELDS = ("phase", "log_base", "pressure_unit", "temperature_unit")
+
+
+def _variant_table(
+    table: Table, ctx: AuditContext, units: list[tuple[int, tuple[Change, ...]]]
+) -> Table:
+    """One table holding every unit (a substance code and the changes applied to it) as its
+    own substance, named by the unit's index.
+    """
+    wanted = {code for code, _ in units}
+    rec_g = _groups(ctx.codes, wanted)
+    ref_g = _groups(ctx.ref_codes, wanted)
+    pt_g = _groups(ctx.point_codes, wanted)
+    empty = np.empty(0, dtype=np.int64)
+
+    def replicate(frame: pd.DataFrame, groups) -> tuple[pd.DataFrame, np.ndarray]:
+        parts = [groups.get(code, empty) for code, _ in units]
+        idx = np.concatenate(parts) if parts else empty
+        unit_of = np.repeat(np.arange(len(units)), [p.size for p in parts])
+        out = frame.iloc[idx].reset_index(drop=True)
+        out["substance"] = pd.Series(unit_of.astype(str), dtype=TEXT)
+        return out, idx
+
+    recs, src_rows = replicate(table.records, rec_g)
+    # where each (unit, original row) landed
+    starts = np.concatenate(([0], np.cumsum([rec_g.get(c, empty).size for c, _ in units])))
+    pos: dict[tuple[int, int], int] = {}
+    for u, (code, changes) in enumerate(units):
+        if changes:
+            rows = rec_g[code]
+            for k, r in enumerate(rows):
+                pos[(u, int(r))] = int(starts[u] + k)
+    edits: dict[str, list[tuple[int, object, str | None]]] = defaultdict(list)
+    for u, (_, changes) in enumerate(units):
+        for ch in changes:
+            edits[ch.field].append((pos[(u, ch.row)], ch.value, ch.text))
+    for field, items in edits.items():
+        at = np.array([i for i, _, _ in items], dtype=np.int64)
+        if field in _TEXT_FIELDS:
+            col = recs[field].astype(object).to_numpy(copy=True)
+            col[at] = [v for _, v, _ in items]
+            recs[field] = pd.Series(col, dtype=TEXT)
+        else:
+            col = recs[field].to_numpy(dtype=float, copy=True)
+            col[at] = [float(v) for _, v, _ in items]  # type: ignore[arg-type]
+            recs[field] = col
+            txt = recs[field + "_text"].astype(object).to_numpy(copy=True)
+            txt[at] = [t for _, _, t in items]
+            recs[field + "_text"] = pd.Series(txt, dtype=TEXT)
+    for field in _TEXT_FIELDS:  # categoricals of the original file cannot take new values
+        if isinstance(recs[field].dtype, pd.CategoricalDtype):
+            recs[field] = recs[field].astype(object).astype(TEXT)
+    recs["file"] = text_categorical(np.zeros(len(recs), dtype=np.int8), ["<variant>"])
+    recs["line"] = np.arange(1, len(recs) + 1, dtype=np.int64)
+    refs, _ = replicate(table.references, ref_g)
+    pts, _ = replicate(table.points, pt_g)
+    out = _Collector()
+    raw = RawFrame("<variant>", list(recs.columns), {}, recs["line"].tolist())
+    _record_rules(recs, raw, out)
+    problems = pd.DataFrame(
+        out.problems, columns=["file", "line", "column", "rule", "message", "id", "substance"]
+    )
+    return Table(recs, refs, pts, problems)
+
+
+def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
+    """|z| of every piece of continuous evidence: (substance code, |z|) arrays."""
+    policy = ctx.policy
+    out_codes: list[np.ndarray] = []
+    out_cost: list[np.ndarray] = []
+
+    def add(codes: np.ndarray, z: np.ndarray) -> None:
+        z = np.asarray(z, dtype=float)
+        # a residual that cannot be computed counts as the worst (it is capped later)
+        out_codes.append(np.asarray(codes, dtype=np.int64))
+        out_cost.append(np.where(np.isfinite(z), np.abs(z), np.inf))
+
+    def add_widened(codes: np.ndarray, resid: np.ndarray, sigma: np.ndarray, widen) -> None:
+        """A residual whose scale ``sigma`` was widened by ``widen`` (>= 1) for an
+        extrapolation, with the normalization of its Gaussian likelihood, 2 ln(widen): a
+        reading that moves a range away from its witness predicts it less sharply and must
+        not fit better for that (as a |z| whose square it is).
+        """
+        add(codes, resid / sigma)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            occam = np.sqrt(2.0 * np.log(np.maximum(widen, 1.0)))
+        add(codes, np.nan_to_num(occam, nan=0.0))
+
+    # a correction that makes a curve unusable over its range (an Antoine pole moved into it)
+    # must not escape the evidence that the other checks would weigh
+    unusable = ctx.codes[~ctx.evaluable & (ctx.codes >= 0)]
+    add(unusable, np.full(unusable.size, np.inf))
+    # solid/liquid pairs at the reference melting point, and Hess's law at the crossing
+    pr = ctx.pairs
+    tol = policy.thresholds("melting-point-mismatch")["tolerance"]
+    has_tm = np.isfinite(pr.tm)
+    if has_tm.any():
+        s, lq, tm = pr.solid[has_tm], pr.liquid[has_tm], pr.tm[has_tm]
+        d = (
+            evaluate(ctx.curves.take(s), tm, order=0)[0]
+            - evaluate(ctx.curves.take(lq), tm, order=0)[0]
+        )
+        add(ctx.codes[s], d / (0.5 * tol))
+        # a solid range usually ends, and a liquid range starts, at the melting point
+        gap = np.abs(ctx.curves.t_max[s] - tm) + np.abs(ctx.curves.t_min[lq] - tm)
+        add(ctx.codes[s], gap / (0.05 * tm))
+    hfus = ctx.reference("enthalpy_of_fusion", pr.solid)
+    cross = np.isfinite(pr.t_cross) & np.isfinite(hfus)
+    # a reference dH_fus is evidence under every hypothesis: one whose curves do not cross
+    # cannot meet it, and that counts as broken evidence, as an uncomputable residual does
+    lost = ~np.isfinite(pr.t_cross) & np.isfinite(hfus)
+    add(ctx.codes[pr.solid[lost]], np.full(int(lost.sum()), np.inf))
+    if cross.any():
+        s, t = pr.solid[cross], pr.t_cross[cross]
+        _, ys1, _ = evaluate(ctx.curves.take(s), t, order=1)
+        h_sub = R * t * t * ys1
+        resid = (R * t * t * pr.slope_diff[cross] - hfus[cross]) / np.abs(h_sub)
+        hess = policy.thresholds("fusion-enthalpy-mismatch")
+        add(ctx.codes[s], resid / (0.5 * hess.get("tolerance", 0.03)))
+    rows = np.flatnonzero(ctx.evaluable)
+    # the normal boiling point, in ln P, looser the farther it lies outside the range
+    tb = ctx.reference("normal_boiling_point", rows)
+    liq = ctx.liquid[rows] & np.isfinite(tb)
+    if liq.any():
+        r = rows[liq]
+        c = ctx.curves.take(r)
+        t = tb[liq]
+        d = evaluate(c, t, order=0)[0] - LN_P_STANDARD
+        dist = np.maximum(c.t_min - t, t - c.t_max).clip(min=0.0) / t
+        tol_b = policy.thresholds("boiling-point-mismatch")["tolerance"]
+        widen = 1.0 + 20.0 * dist
+        add_widened(ctx.codes[r], d, 0.5 * tol_b * widen, widen)
+    # the entropy of the phase change (Trouton's rule generalised), outside its band
+    th = policy.thresholds("enthalpy-implausible")
+    if rows.size:
+        c = ctx.curves.take(rows)
+        t = 2.0 / (1.0 / c.t_min + 1.0 / c.t_max)
+        y, y1, _ = evaluate(c, t, order=1)
+        ds = R * t * y1 + R * (y - LN_P_STANDARD)
+        liquid = ctx.liquid[rows]
+        lo = np.where(liquid, th["liquid_min"], th["solid_min"])
+        hi = np.where(liquid, th["liquid_max"], th["solid_max"])
+        add(ctx.codes[rows], np.maximum(lo - ds, 0.0) / 10.0 + np.maximum(ds - hi, 0.0) / 10.0)
+    # the 298.15 K anchor: the standard enthalpy and entropy, each against the warning
+    # allowance of its check (the checks' own definitions: checks.anchor.anchor_values)
+    from ..checks.anchor import allowances, anchor_values
+
+    a = anchor_values(ctx)
+    if a is not None:
+        al = allowances(ctx, a)
+        # no cut at max_ratio here: a candidate must not escape the evidence by moving its
+        # range away from 298.15 K (the allowance still grows with the distance)
+        for value, ref, allow, base in (
+            (a["h"], a["h_ref"], al["h_warn"], al["h_base"]),
+            (a["s"], a["s_ref"], al["s_warn"], al["s_base"]),
+        ):
+            m = np.isfinite(ref)
+            # widened with the extrapolation: an Antoine range read in degC, farther from
+            # 298.15 K, gains nothing by its wider allowance
+            add_widened(
+                ctx.codes[a["rows"][m]], value[m] - ref[m], 0.5 * allow[m], allow[m] / base[m]
+            )
+    # other sources of the same substance and phase, at the middle of the common range
+    key = np.where(ctx.evaluable, ctx.codes * 2 + ctx.liquid, -1)
+    ev = np.flatnonzero(key >= 0)
+    i, j = same_key_pairs(key, ev, ev)
+    keep = i < j
+    i, j = i[keep], j[keep]
+    if i.size:
+        lo = np.maximum(ctx.curves.t_min[i], ctx.curves.t_min[j])
+        hi = np.minimum(ctx.curves.t_max[i], ctx.curves.t_max[j])
+        lo, hi = np.where(lo < hi, lo, hi), np.where(lo < hi, hi, lo)  # no overlap: the gap
+        t = 2.0 / (1.0 / lo + 1.0 / hi)
+        d = evaluate(ctx.curves.take(i), t, 0)[0] - evaluate(ctx.curves.take(j), t, 0)[0]
+        u_def = policy.thresholds("sources-disagree")["default_uncertainty"]
+        ui = np.nan_to_num(ctx.uncertainty[i], nan=u_def)
+        uj = np.nan_to_num(ctx.uncertainty[j], nan=u_def)
+        add(ctx.codes[i], d / np.sqrt(ui**2 + uj**2))
+    # measured points of the same substance and phase within the range
+    pts = ctx.table.points
+    if len(pts):
+        pt_key = np.where(
+            ctx.point_codes >= 0,
+            ctx.point_codes * 2 + (pts["phase"].astype(object) == "liquid").to_numpy(),
+            -1,
+        )
+        r, p = match(key, pt_key)
+        if r.size:
+            t = pts["T_K"].to_numpy(dtype=float)[p]
+            c = ctx.curves.take(r)
+            inside = (t >= c.t_min * 0.98) & (t <= c.t_max * 1.02)
+            res = np.log(pts["P_Pa"].to_numpy(dtype=float)[p]) - evaluate(c, t, 0)[0]
+            u_def = policy.thresholds("points-misfit")["default_uncertainty"]
+            u_pt = np.nan_to_num(
+                pts["uncertainty"].to_numpy(dtype=float, na_value=np.nan)[p], nan=u_def
+            )
+            z2 = np.where(inside, (res / u_pt) ** 2, 0.0)
+            n = np.bincount(r, weights=inside.astype(float), minlength=ctx.n)
+            ss = np.bincount(r, weights=z2, minlength=ctx.n)
+            has = np.flatnonzero(n > 0)
+            # the RMS standardized residual counts as two pieces of evidence
+            add(
+                np.repeat(ctx.codes[has], 2),
+                np.repeat(np.sqrt(ss[has] / n[has]), 2),
+            )
+    if not out_codes:
+        return np.empty(0, dtype=np.int64), np.empty(0)
+    return np.concatenate(out_codes), np.concatenate(out_cost)
+
+
+@dataclass
+class _Outcome:
+    findings: list[Finding]
+    z: np.ndarray  # |standardized residual| of each piece of continuous evidence
+    key: bytes = b""  # what the correction amounts to (curves, ranges, phases), rounded
+    floor: tuple[int, int] = (0, 0)  # screening only: errors, warnings the checks must give
+
+    def score(self, cal: dict) -> float:
+        """The misfit S: capped evidence costs plus the cost of each finding."""
+        key = (cal["loss"], cal["component_cap"], cal["error_cost"], cal["warning_cost"])
+        cache = self.__dict__.setdefault("_scores", {})
+        if key not in cache:
+            cache[key] = self._score(cal)
+        return cache[key]
+
+    def _score(self, cal: dict) -> float:
+        fc = {"error": cal["error_cost"], "warning": cal["warning_cost"], "note": 0.0}
+        with np.errstate(invalid="ignore", over="ignore"):
+            cost = self.z * self.z if cal["loss"] == "quadratic" else _rho(self.z)
+        cost = np.where(np.isnan(cost), np.inf, cost)
+        floor = self.floor[0] * fc["error"] + self.floor[1] * fc["warning"]
+        return (
+            float(np.minimum(cost, cal["component_cap"]).sum())
+            + floor
+            + sum(fc[f.severity.value] for f in self.findings)
+        )
+
+
+def _prime_scores(outcomes: list[_Outcome], cal: dict) -> None:
+    """:meth:`_Outcome.score` of many outcomes at once (one pass over all their evidence
+    instead of a few numpy calls on a short array each); fills each outcome's cache.
+    """
+    if not outcomes:
+        return
+    key = (cal["loss"], cal["component_cap"], cal["error_cost"], cal["warning_cost"])
+    sizes = np.fromiter((o.z.size for o in outcomes), dtype=np.int64, count=len(outcomes))
+    z = np.concatenate([np.asarray(o.z, dtype=float).ravel() for o in outcomes])
+    with np.errstate(invalid="ignore", over="ignore"):
+        cost = z * z if cal["loss"] == "quadratic" else _rho(z)
+    cost = np.minimum(np.where(np.isnan(cost), np.inf, cost), cal["component_cap"])
+    owner = np.repeat(np.arange(len(outcomes)), sizes)
+    evidence = np.bincount(owner, weights=cost, minlength=len(outcomes))
+    fc = {"error": cal["error_cost"], "warning": cal["warning_cost"], "note": 0.0}
+    for o, e in zip(outcomes, evidence.tolist(), strict=True):
+        floor = o.floor[0] * fc["error"] + o.floor[1] * fc["warning"]
+        total = e + floor + sum(fc[str(f.severity)] for f in o.findings)
+        o.__dict__.setdefault("_scores", {})[key] = total
+
+
+def _hard_failures(vctx: AuditContext, unit_of_code: np.ndarray, n: int) -> list:
+    """Errors and warnings that some checks must report for each unit (pressure-not-finite,
+    slope-not-positive, heat-capacity-sign, no-crossing, melting-point-mismatch), counted
+    from the same arrays as those checks without building findings: a lower bound of each
+    unit's findings cost.
+    """
+    ex = vctx.range_extrema
+    ev = vctx.evaluable
+    lim = vctx.thresholds("pressure-not-finite")["max_abs_lnP"]
+    th = vctx.thresholds("heat-capacity-sign")
+    factor = np.where(vctx.antoine, th["antoine_factor"], 1.0)
+    with np.errstate(invalid="ignore"):
+        finite = (
+            np.isfinite(ex.y_min)
+            & np.isfinite(ex.y_max)
+            & (np.abs(ex.y_min) <= lim)
+            & (np.abs(ex.y_max) <= lim)
+        )
+        far = ex.cp_max > th["error_above"] * factor
+        cp = vctx.severity("heat-capacity-sign")
+        tiers = [
+            (ev & ~finite, vctx.severity("pressure-not-finite")),
+            (ev & ~(ex.h_min > 0), vctx.severity("slope-not-positive")),
+            (ev & far, vctx.escalated("heat-capacity-sign") if cp else None),
+            (ev & (ex.cp_max > th["tolerance"] * factor) & ~far, cp),
+        ]
+    # each at the severity the policy gives it (a lowered check counts for less)
+    errors = np.zeros(vctx.n)
+    warnings = np.zeros(vctx.n)
+    for mask, sev in tiers:
+        if sev is not None and sev.rank >= 1:
+            (errors if sev is Severity.error else warnings)[mask] += 1.0
+    # the pair checks no-crossing and melting-point-mismatch, counted at the solid record
+    pr = vctx.pairs
+    tol = vctx.thresholds("melting-point-mismatch")["tolerance"]
+    with np.errstate(invalid="ignore"):
+        fails = {"no-crossing": pr.checkable & (pr.crossings == 0)}
+        at = np.flatnonzero(pr.checkable & np.isfinite(pr.tm))
+        d = (
+            evaluate(vctx.curves.take(pr.solid[at]), pr.tm[at], 0)[0]
+            - evaluate(vctx.curves.take(pr.liquid[at]), pr.tm[at], 0)[0]
+        )
+        mm = np.zeros(pr.solid.size, dtype=bool)
+        mm[at] = ~(np.abs(d) <= tol)
+        fails["melting-point-mismatch"] = mm
+    for name, bad in fails.items():
+        sev = vctx.severity(name)
+        if sev is not None and sev.rank >= 1:
+            target = errors if sev is Severity.error else warnings
+            np.add.at(target, pr.solid[bad], 1.0)
+    unit = np.where(vctx.codes >= 0, unit_of_code[np.maximum(vctx.codes, 0)], -1)
+    ok = unit >= 0
+    e = np.bincount(unit[ok], weights=errors[ok], minlength=n).astype(int)
+    w = np.bincount(unit[ok], weights=warnings[ok], minlength=n).astype(int)
+    return list(zip(e.tolist(), w.tolist(), strict=True))
+
+
+def _audit_units(
+    table: Table,
+    ctx: AuditContext,
+    units: list[tuple[int, tuple[Change, ...]]],
+    checks: bool = True,
+) -> list[_Outcome]:
+    """Audit every unit (a substance with one correction); without ``checks`` only the
+    continuous evidence is computed (the screening stage: no findings are built).
+    """
+    from ..auditing import run_checks
+
+    names = [n for n in REGISTRY if n not in _NOT_EVIDENCE]
+    outcomes: list[_Outcome] = []
+    sizes = np.bincount(ctx.codes[ctx.codes >= 0], minlength=ctx.n_names)
+    a = 0
+    while a < len(units):  # chunks of at most _CHUNK_ROWS variant records
+        b, rows = a, 0
+        while b < len(units) and (b == a or rows + sizes[units[b][0]] <= _CHUNK_ROWS):
+            rows += sizes[units[b][0]]
+            b += 1
+        part = units[a:b]
+        vt = _variant_table(table, ctx, part)
+        vctx = AuditContext(vt, ctx.policy, ctx.runtime)
+        with np.errstate(all="ignore"):
+            found = run_checks(vctx, names) if checks else []
+            mis = _misfit(vctx)
+        by_unit: dict[int, list[Finding]] = defaultdict(list)
+        for f in found:
+            if f.substance:
+                by_unit[int(f.substance)].append(f)
+        unit_of_code = np.array([int(n) for n in vctx.names], dtype=np.int64)
+        mc, cost = mis
+        mu = unit_of_code[mc] if mc.size else mc
+        order = np.argsort(mu, kind="stable")
+        split = np.searchsorted(mu[order], np.arange(len(part) + 1))
+        costs = [cost[order[split[u] : split[u + 1]]] for u in range(len(part))]
+        keys = _unit_keys(vctx, len(part))
+        floors = _hard_failures(vctx, unit_of_code, len(part)) if not checks else None
+        outcomes.extend(
+            _Outcome(by_unit[u], costs[u], keys[u], floors[u] if floors else (0, 0))
+            for u in range(len(part))
+        )
+        a = b
+    return outcomes
+
+
+def _unit_keys(vctx: AuditContext, n_units: int) -> list[bytes]:
+    """What each unit's records amount to: their curves at five temperatures over their
+    ranges, the ranges and the phases, rounded (equal keys are one fix written two ways,
+    such as Torr and mmHg). Rows of a unit are contiguous and in the same order in every
+    unit of a substance.
+    """
+    c = vctx.curves
+    frac = np.linspace(0.0, 1.0, 5)[None, :]
+    t = c.t_min[:, None] + (c.t_max - c.t_min)[:, None] * frac
+    y = evaluate(c, t, 0)[0]
+    parts = np.column_stack([y, c.t_min, c.t_max, vctx.liquid.astype(float)])
+    parts = np.round(np.nan_to_num(parts, nan=1e300, posinf=1e300, neginf=-1e300), 6)
+    unit = np.array([int(n) for n in vctx.names], dtype=np.int64)[vctx.codes]
+    bounds = np.searchsorted(unit, np.arange(n_units + 1))
+    return [parts[bounds[u] : bounds[u + 1]].tobytes() for u in range(n_units)]

@@ -153,12 +153,14 @@ def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
         """A residual whose scale ``sigma`` was widened by ``widen`` (>= 1) for an
         extrapolation, with the normalization of its Gaussian likelihood, 2 ln(widen): a
         reading that moves a range away from its witness predicts it less sharply and must
-        not fit better for that (as a |z| whose square it is).
+        not fit better for that. Both go into one |z| (z^2 + 2 ln widen), capped as one: the
+        normalization belongs to the consistent part of the mixture likelihood, and a piece
+        of evidence that is broken anyway (capped) costs the cap, however wide its scale.
         """
-        add(codes, resid / sigma)
         with np.errstate(invalid="ignore", divide="ignore"):
-            occam = np.sqrt(2.0 * np.log(np.maximum(widen, 1.0)))
-        add(codes, np.nan_to_num(occam, nan=0.0))
+            occam2 = np.nan_to_num(2.0 * np.log(np.maximum(widen, 1.0)), nan=0.0)
+            z = np.asarray(resid / sigma, dtype=float)
+            add(codes, np.sqrt(z * z + occam2))
 
     # a correction that makes a curve unusable over its range (an Antoine pole moved into it)
     # must not escape the evidence that the other checks would weigh

@@ -23,8 +23,9 @@ Run: ``python benchmarks/lone_curves.py`` (about a minute).
 
 from __future__ import annotations
 
+import math
 import sys
-from collections import defaultdict
+from collections import Counter, defaultdict
 from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests" / "_support"))
@@ -35,6 +36,7 @@ from refdata import alcock_pairs, table_from_rows  # noqa: E402
 from slips import reproduces, unit_slips  # noqa: E402
 
 from vpaudit.auditing import audit_table  # noqa: E402
+from vpaudit.units import PRESSURE_UNITS, pressure_factor  # noqa: E402
 
 
 def alcock_pool() -> list[tuple[dict, list[dict]]]:
@@ -86,13 +88,16 @@ def measure(name: str, pool) -> None:
     for f in result.findings:
         by_sub[f.substance].append(f)
     tally = defaultdict(lambda: [0, 0, 0, 0, 0, 0])
-    for new, kind, _what, original, bad in cases:
+    pressure_misses: Counter = Counter()
+    for new, kind, what, original, bad in cases:
         fs = by_sub[new]
         sug = next((f.suggestion for f in fs if f.suggestion), None)
         right = near = False
         if sug is not None and sug["record"] == original["id"]:
             right = reproduces(original, bad, sug)
             near = reproduces(original, bad, sug, tol=0.03)
+        if kind == "pressure-unit" and not right:
+            pressure_misses[_miss_class(what, original, sug)] += 1
         for key in (kind, "all"):
             t = tally[key]
             t[0] += 1
@@ -109,6 +114,30 @@ def measure(name: str, pool) -> None:
             f"{kind:16s} {n:6d} {det / n:9.1%} {right / n:12.1%} {near / n:12.1%}"
             f" {conf:10d} {wrong:6d}"
         )
+    if pressure_misses:
+        print("pressure-unit slips whose top fix is not the true one:", dict(pressure_misses))
+
+
+def _miss_class(what: str, original: dict, sug: dict | None) -> str:
+    """Why a pressure-unit slip was missed: no suggestion, another kind of fix, or another
+    unit, by how far apart the true and the suggested unit are (the 298.15 K witness shifts
+    dS by R ln of that ratio: bar/atm 0.11, mbar/mmHg 2.4 J/(mol K))."""
+    if sug is None:
+        return "no suggestion"
+    if sug["kind"] != "pressure-unit":
+        return f"suggested {sug['kind']}"
+    true_unit = what.split(" for ", 1)[1].split(",", 1)[0] if " for " in what else "?"
+    if " in " in what and what.startswith("Pc in "):
+        true_unit = what[len("Pc in ") :].split(",", 1)[0]
+    other = sug["corrected"].get("pressure_unit")
+    if true_unit not in PRESSURE_UNITS or other not in PRESSURE_UNITS:
+        return "another unit"
+    gap = abs(math.log(pressure_factor(true_unit) / pressure_factor(other)))
+    if gap < 0.02:
+        return "a unit within 2 % (bar/atm)"
+    if gap < 0.35:
+        return "a unit within 35 % (mbar/mmHg)"
+    return "a unit farther apart"
 
 
 def main() -> None:

@@ -73,6 +73,11 @@ def no_crossing(ctx: AuditContext):
     window around the melting point and each bracket refined by safeguarded Newton. No
     sign change means no triple point: a pressure-unit or base slip in one record, or a
     record of another substance.
+
+    Two curves that meet at the melting point within the tolerance of
+    ``melting-point-mismatch`` (widened as it is for extrapolated curves) but touch there
+    without crossing have nearly the same slope, which ``fusion-enthalpy-mismatch``
+    reports: that is a warning, not a missing triple point.
     """
     pr = ctx.pairs
     w = ctx.thresholds("no-crossing")["window"]
@@ -83,24 +88,46 @@ def no_crossing(ctx: AuditContext):
         - evaluate_rows(ctx.curves, pr.liquid[rows], at, 0)[0]
     )
     lo, hi = at / (1 + w), at * (1 + w)
-    messages = [
-        f"the solid and liquid curves do not cross between {kelvin(a_lo)} and "
-        f"{kelvin(a_hi)}; at {kelvin(a)} they differ by {ln_ratio(d)}."
-        for a_lo, a_hi, a, d in zip(
-            lo.tolist(), hi.tolist(), at.tolist(), diff.tolist(), strict=True
+    tol = _widened_tolerance(ctx, rows, at, ctx.thresholds("melting-point-mismatch")["tolerance"])
+    with np.errstate(invalid="ignore"):
+        touch = np.abs(diff) <= tol
+    for near in (False, True):
+        sel = np.flatnonzero(touch == near)
+        if sel.size == 0:
+            continue
+        messages = [
+            f"the solid and liquid curves do not cross between {kelvin(a_lo)} and "
+            f"{kelvin(a_hi)}; at {kelvin(a)} they differ by {ln_ratio(d)}"
+            + (
+                f", within the melting-point tolerance there ({t:.3g}): they touch without "
+                "crossing, their slopes nearly equal."
+                if near
+                else "."
+            )
+            for a_lo, a_hi, a, d, t in zip(
+                lo[sel].tolist(),
+                hi[sel].tolist(),
+                at[sel].tolist(),
+                diff[sel].tolist(),
+                tol[sel].tolist(),
+                strict=True,
+            )
+        ]
+        evidence = {
+            "window_min_K": lo[sel],
+            "window_max_K": hi[sel],
+            "anchor_K": at[sel],
+            "difference_lnP_at_anchor": diff[sel],
+        }
+        if near:
+            evidence["tolerance_lnP"] = tol[sel]
+        yield from ctx.pair_findings(
+            "no-crossing",
+            rows[sel],
+            messages,
+            evidence,
+            severity=ctx.at_most("no-crossing", Severity.warning) if near else None,
         )
-    ]
-    yield from ctx.pair_findings(
-        "no-crossing",
-        rows,
-        messages,
-        {
-            "window_min_K": lo,
-            "window_max_K": hi,
-            "anchor_K": at,
-            "difference_lnP_at_anchor": diff,
-        },
-    )
 
 
 @check(
@@ -258,6 +285,20 @@ def crossing_outside_range(ctx: AuditContext):
     )
 
 
+def _widened_tolerance(ctx: AuditContext, ks: np.ndarray, t: np.ndarray, tol: float):
+    """The melting-point tolerance ``tol`` [ln P] of pairs ``ks`` compared at ``t`` [K],
+    widened in quadrature by each curve's extrapolation allowance there
+    (:mod:`vpaudit.checks.extrapolation`).
+    """
+    pr, c = ctx.pairs, ctx.curves
+    s_rows, l_rows = pr.solid[ks], pr.liquid[ks]
+    drift = np.hypot(
+        allowance(c.t_min[s_rows], c.t_max[s_rows], t),
+        allowance(c.t_min[l_rows], c.t_max[l_rows], t),
+    )
+    return np.hypot(tol, drift)
+
+
 @check(
     "melting-point-mismatch",
     Severity.error,
@@ -297,13 +338,7 @@ def melting_point_mismatch(ctx: AuditContext):
     ys, s1, yl, l1 = at.ys[rows], at.s1[rows], at.yl[rows], at.l1[rows]
     d = ys - yl
     bad = ~(np.abs(d) <= tol)
-    c = ctx.curves
-    s_rows, l_rows = pr.solid[rows], pr.liquid[rows]
-    drift = np.hypot(
-        allowance(c.t_min[s_rows], c.t_max[s_rows], tm[rows]),
-        allowance(c.t_min[l_rows], c.t_max[l_rows], tm[rows]),
-    )
-    widened = np.hypot(tol, drift)
+    widened = _widened_tolerance(ctx, rows, tm[rows], tol)
     hfus_ref = ctx.reference("enthalpy_of_fusion", pr.solid[rows])
     hfus_imp = R * tm[rows] ** 2 * (s1 - l1)
     hfus = np.where(np.isfinite(hfus_ref) & (hfus_ref > 0), hfus_ref, np.abs(hfus_imp))

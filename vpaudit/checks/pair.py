@@ -172,7 +172,9 @@ def _crossed(ctx: AuditContext) -> np.ndarray:
 def crossing_orientation(ctx: AuditContext):
     """A crossing where the solid curve is flatter implies dH_fus <= 0: the phase labels
     are swapped or one record is broken. A solid range wholly above the liquid's says the
-    same.
+    same. When the ranges are in the labels' order (the solid's ends where or before the
+    liquid's begins), the message names coefficients swapped without their ranges, or a
+    broken slope, instead.
     """
     pr = ctx.pairs
     above = pr.checkable & (ctx.curves.t_min[pr.solid] >= ctx.curves.t_max[pr.liquid])
@@ -180,23 +182,34 @@ def crossing_orientation(ctx: AuditContext):
     sel = np.flatnonzero(wrong | above)
     t = pr.t_cross[sel]
     hfus = R * t * t * pr.slope_diff[sel]
+    # ranges in the order of the labels (the solid's ending at or below where the liquid's
+    # begins) speak against labels swapped with their whole records: then the coefficients
+    # were swapped without their ranges, or one curve's slope is off
+    ordered = ctx.curves.t_max[pr.solid[sel]] <= ctx.curves.t_min[pr.liquid[sel]]
     messages = [
         (
             f"at the crossing ({kelvin(tk)}) the solid curve is the flatter one, implying "
-            f"an enthalpy of fusion of {kj(hk)} (must be positive): the solid and "
-            "liquid labels look swapped."
+            f"an enthalpy of fusion of {kj(hk)} (must be positive): "
+            + (
+                "the ranges are in the labels' order (the solid's below the liquid's), so "
+                "the two records' coefficients look swapped, or one curve's slope is off."
+                if in_order and not is_above
+                else "the solid and liquid labels look swapped."
+            )
         )
         if is_wrong
         else (
             f"the solid's range ({kelvin(s_lo)}..) lies above the liquid's "
             f"(..{kelvin(l_hi)}): the phase labels look swapped."
         )
-        for tk, hk, is_wrong, s_lo, l_hi in zip(
+        for tk, hk, is_wrong, s_lo, l_hi, in_order, is_above in zip(
             t.tolist(),
             hfus.tolist(),
             wrong[sel].tolist(),
             ctx.curves.t_min[pr.solid[sel]].tolist(),
             ctx.curves.t_max[pr.liquid[sel]].tolist(),
+            ordered.tolist(),
+            above[sel].tolist(),
             strict=True,
         )
     ]

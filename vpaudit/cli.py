@@ -799,8 +799,9 @@ def _reimport(table, db) -> None:
 
 
 def _show_entry(e: dict) -> None:
-    changes = ", ".join(f"{k}: {e['before'].get(k)!r} -> {v!r}" for k, v in e["after"].items())
-    _say(f"revised {e['record']} (revision {e['revision']}) in {e['file']}:{e['line']}: {changes}")
+    from .report.revisions import revised_line
+
+    _say(revised_line(e))
 
 
 @main.command("apply")
@@ -848,6 +849,7 @@ def review_cmd(table, by, db, min_confidence):
     from .api import open_table
     from .auditing import audit_table
     from .policy import load_policy
+    from .report.revisions import offer_lines
     from .revisions import apply_suggestion, suggestion_edits
 
     _table_dir(table)
@@ -864,15 +866,9 @@ def review_cmd(table, by, db, min_confidence):
         return
     applied = 0
     for k, f in enumerate(offers, 1):
-        s = f.suggestion
-        _say(f"\n[{k}/{len(offers)}] {f.substance}: {f.check} on {', '.join(f.records)}")
-        _say(f"  {f.message}")
-        _say(f"  suggestion for {s['record']}: {s['explanation']}")
-        for edit in suggestion_edits(s):  # every field and line that applying it changes
-            for field, new in edit.after.items():
-                _say(f"  {field}: {edit.before.get(field)!r} -> {new!r}")
-            _say(f"  {edit.file}:{edit.line}\n  - {edit.line_before.rstrip()}")
-            _say(f"  + {edit.line_after.rstrip()}")
+        # every field and line that applying it changes
+        for line in offer_lines(k, len(offers), f, suggestion_edits(f.suggestion)):
+            _say(line)
         answer = click.prompt(
             "  apply it? [a]pply, [s]kip, [q]uit",
             default="s",
@@ -899,6 +895,7 @@ def review_cmd(table, by, db, min_confidence):
 def history_cmd(table, record, fmt):
     """Every revision of RECORD: as first entered, and each correction with who, when, why."""
     from .api import open_table
+    from .report.revisions import history_lines
     from .revisions import history
     from .substance import check_records
 
@@ -908,22 +905,8 @@ def history_cmd(table, record, fmt):
     if fmt == "json":
         click.echo(json.dumps(entries, indent=2))
         return
-    if not entries:
-        _say(f"{record}: no revisions (the record is as first entered)")
-        return
-    for e in entries:
-        if e["revision"] == 0:
-            _say(f"revision 0 (as entered), {e['file']}:{e['line']}")
-            _say(f"  {e['line_after'].rstrip()}")
-            continue
-        _say(
-            f"revision {e['revision']}, {e['when']} by {e['by']}"
-            + (f", answering {e['finding']}" if e.get("finding") else "")
-        )
-        _say(f"  why: {e['why']}")
-        for k, v in e["after"].items():
-            _say(f"  {k}: {e['before'].get(k)!r} -> {v!r}")
-        _say(f"  {e['line_after'].rstrip()}")
+    for line in history_lines(record, entries):
+        _say(line)
 
 
 # --- query ---------------------------------------------------------------------------------

@@ -1,0 +1,55 @@
+"""Text of the revision commands (``apply``, ``review``, ``history``): what a person reads
+at the terminal about revisions of records. The command line only prints these lines.
+"""
+
+from __future__ import annotations
+
+__all__ = ["history_lines", "offer_lines", "revised_line"]
+
+
+def revised_line(e: dict) -> str:
+    """One line for a revision just written: the record, where, and each field's change."""
+    changes = ", ".join(f"{k}: {e['before'].get(k)!r} -> {v!r}" for k, v in e["after"].items())
+    return f"revised {e['record']} (revision {e['revision']}) in {e['file']}:{e['line']}: {changes}"
+
+
+def offer_lines(k: int, n: int, finding, edits) -> list[str]:
+    """The ``k``-th of ``n`` suggested fixes offered by ``review``: the finding, the
+    suggestion and every field and line that applying it changes (``edits``, as
+    :func:`vpaudit.revisions.suggestion_edits` gives them).
+    """
+    s = finding.suggestion
+    lines = [
+        f"\n[{k}/{n}] {finding.substance}: {finding.check} on {', '.join(finding.records)}",
+        f"  {finding.message}",
+        f"  suggestion for {s['record']}: {s['explanation']}",
+    ]
+    for edit in edits:
+        for field, new in edit.after.items():
+            lines.append(f"  {field}: {edit.before.get(field)!r} -> {new!r}")
+        lines.append(f"  {edit.file}:{edit.line}\n  - {edit.line_before.rstrip()}")
+        lines.append(f"  + {edit.line_after.rstrip()}")
+    return lines
+
+
+def history_lines(record: str, entries: list[dict]) -> list[str]:
+    """Every revision of ``record`` as ``history`` prints it: as first entered, then each
+    correction with who, when and why, its field changes and the line it wrote.
+    """
+    if not entries:
+        return [f"{record}: no revisions (the record is as first entered)"]
+    lines: list[str] = []
+    for e in entries:
+        if e["revision"] == 0:
+            lines.append(f"revision 0 (as entered), {e['file']}:{e['line']}")
+            lines.append(f"  {e['line_after'].rstrip()}")
+            continue
+        lines.append(
+            f"revision {e['revision']}, {e['when']} by {e['by']}"
+            + (f", answering {e['finding']}" if e.get("finding") else "")
+        )
+        lines.append(f"  why: {e['why']}")
+        for k, v in e["after"].items():
+            lines.append(f"  {k}: {e['before'].get(k)!r} -> {v!r}")
+        lines.append(f"  {e['line_after'].rstrip()}")
+    return lines

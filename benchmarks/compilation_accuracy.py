@@ -93,6 +93,56 @@ def calibration_table() -> None:
         print(f"{name:15s}" + "".join(f"  {c:20s}" for c in cells))
 
 
+def cross_validation() -> None:
+    """Calibration that transfers: for each compilation, the Platt scaling of the confidence
+    refitted on the other compilations' suggestions (leave one compilation out; "all
+    together" overlaps the others and is left out), and the held-out log-loss and confident
+    suggestions under the shipped scaling (fitted on the evaluated labelled set) and the
+    refitted one."""
+    import math
+
+    import numpy as np
+    from scipy.optimize import minimize
+
+    from vpaudit.diagnose import CALIBRATION
+
+    a0, b0 = CALIBRATION["logit_scale"], CALIBRATION["logit_shift"]
+
+    def raw(c: float) -> float:  # the posterior's logit behind a stated confidence
+        c = min(max(c, 1e-9), 1 - 1e-9)
+        return (math.log(c / (1 - c)) - b0) / a0
+
+    data = {
+        n: (np.array([raw(c) for c, _ in r]), np.array([ok for _, ok in r], dtype=float))
+        for n, r in STATED.items()
+        if n != "all together" and r
+    }
+
+    def loss(ab, x, y):
+        z = ab[0] * x + ab[1]
+        return float(np.mean(np.logaddexp(0.0, -z) * y + np.logaddexp(0.0, z) * (1 - y)))
+
+    print("\nconfidence refitted on the other compilations (leave one out): held-out")
+    print(
+        f"{'':15s} {'n':>4s}  {'log-loss shipped':>16s} {'refitted':>9s}  "
+        f"{'scale, shift':>13s}  confident (>= 0.8) right: shipped, refitted"
+    )
+    for held, (x, y) in data.items():
+        xs = np.concatenate([d[0] for n, d in data.items() if n != held])
+        ys = np.concatenate([d[1] for n, d in data.items() if n != held])
+        ab = minimize(loss, [a0, b0], args=(xs, ys), method="Nelder-Mead").x
+        shipped = 1 / (1 + np.exp(-(a0 * x + b0)))
+        refit = 1 / (1 + np.exp(-(ab[0] * x + ab[1])))
+        conf = [
+            f"{int((p >= 0.8).sum())}: {y[p >= 0.8].mean():.2f}" if (p >= 0.8).any() else "0"
+            for p in (shipped, refit)
+        ]
+        print(
+            f"{held:15s} {x.size:4d}  {loss([a0, b0], x, y):16.3f} {loss(ab, x, y):9.3f}  "
+            f"{ab[0]:5.2f}, {ab[1]:5.2f}  {conf[0]}, {conf[1]}"
+        )
+
+
 def planted(name, records, refs, flagged_clean, sample, rng):
     """One slip in one record of each of ``sample`` clean substances (no error before)."""
     by_sub: dict[str, list[dict]] = {}
@@ -272,6 +322,8 @@ def main() -> None:
             dict(Counter(c for _, errs in bad for c in errs).most_common()),
         )
     calibration_table()
+    if not args.only:
+        cross_validation()
     print("(lone curves with standard data only: benchmarks/lone_curves.py)")
 
 

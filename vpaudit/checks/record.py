@@ -2,12 +2,14 @@
 
 from __future__ import annotations
 
+from typing import NamedTuple
+
 import numpy as np
 import pandas as pd
 
 from .._columns import eq
 from ..constants import R
-from ..equations.engine import evaluate, temperature_at
+from ..equations.engine import Curves, evaluate, temperature_at
 from ._context import LN_P_STANDARD, AuditContext, match
 from ._registry import Scope, Severity, Threshold, check
 from ._text import jk, kelvin, kj, ln_ratio
@@ -539,13 +541,26 @@ def _reference_at(ctx: AuditContext, quantity: str, code: int):
     return str(refs["source"].iat[r0]), str(refs["file"].iat[r0]), int(refs["line"].iat[r0])
 
 
-def _boiling_residuals(ctx: AuditContext):
-    """For the liquid records with a reference normal boiling point: their rows, curves, T_b,
-    ln P(T_b), d = ln P(T_b) - ln 101325 and the tolerance of d (k times the combined
-    uncertainty of curve and reference, never less than the tolerance, and widened in
-    quadrature by the extrapolation allowance where T_b lies outside the range:
-    :mod:`vpaudit.checks.extrapolation`), whether the reference states its uncertainty, and
-    the tolerance before that widening; None when there are none.
+class BoilingResiduals(NamedTuple):
+    """The liquid records with a reference normal boiling point, and how they meet it."""
+
+    rows: np.ndarray  # record rows
+    curves: Curves  # their curves
+    t: np.ndarray  # reference T_b [K]
+    y: np.ndarray  # ln(P/Pa) at T_b
+    y1: np.ndarray  # its slope there [1/K]
+    d: np.ndarray  # ln P(T_b) - ln 101325
+    tol: np.ndarray  # tolerance of d, widened for extrapolation [ln P]
+    stated: np.ndarray  # whether the reference states its uncertainty
+    base: np.ndarray  # the tolerance before that widening [ln P]
+
+
+def _boiling_residuals(ctx: AuditContext) -> BoilingResiduals | None:
+    """For the liquid records with a reference normal boiling point: d = ln P(T_b) -
+    ln 101325 and its tolerance (k times the combined uncertainty of curve and reference,
+    never less than the tolerance, and widened in quadrature by the extrapolation allowance
+    where T_b lies outside the range: :mod:`vpaudit.checks.extrapolation`); None when there
+    are none.
     """
     th = ctx.thresholds("boiling-point-mismatch")
     tb = ctx.reference("normal_boiling_point")
@@ -566,7 +581,7 @@ def _boiling_residuals(ctx: AuditContext):
     base = np.maximum(th["tolerance"], th["factor"] * sigma)
     # a T_b outside the range is reached by extrapolation, which drifts (measured)
     tol = np.hypot(base, allowance(c.t_min, c.t_max, t))
-    return rows, c, t, y, y1, d, tol, stated, base
+    return BoilingResiduals(rows, c, t, y, y1, d, tol, stated, base)
 
 
 def _outvoted(ctx: AuditContext, rows: np.ndarray, d: np.ndarray, tol: np.ndarray) -> np.ndarray:
@@ -728,7 +743,7 @@ def boiling_point_mismatch(ctx: AuditContext):
     got = _boiling_residuals(ctx)
     if got is None:
         return
-    rows, c, t, y, y1, d, tol, stated, _ = got
+    rows, c, t, y, y1, d, tol, stated = got[:8]
     # beyond the combined uncertainty but within how far independent evaluations of T_b
     # differ, a reference that states no uncertainty may as well be the party that is off:
     # a warning
@@ -833,7 +848,7 @@ def reference_contradicted(ctx: AuditContext):
     got = _boiling_residuals(ctx)
     if got is None:
         return
-    rows, c, t, y, _, d, tol, _, _ = got
+    rows, c, t, d, tol = got.rows, got.curves, got.t, got.d, got.tol
     out = _outvoted(ctx, rows, d, tol)
     if not out.any():
         return

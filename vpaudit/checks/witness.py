@@ -82,7 +82,7 @@ def vouched(ctx: AuditContext) -> Witnesses:
         # the tolerance before the extrapolation allowance: a slip moves a curve's level
         # everywhere, so a curve that lands on its boiling point, however far from its
         # range, carries none
-        rows, *_, d, _, _, tol = got
+        rows, d, tol = got.rows, got.d, got.base
         with np.errstate(invalid="ignore"):  # a witness needs a finite tolerance
             ok = (np.abs(d) <= tol) & np.isfinite(tol) & (tol < resolution[rows])
         resolution[rows[ok]] = tol[ok]

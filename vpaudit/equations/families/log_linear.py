@@ -88,7 +88,7 @@ def model(form: str, p: np.ndarray, t: np.ndarray, fixed: dict):
         g = np.column_stack([np.ones_like(t), 1.0 / t, np.log(t), te, d * te * np.log(t)])
         return y, g
     x = design(form, t, fixed)
-    return x @ p + 0.0, x
+    return x @ p + 0.0, x  # + 0.0: a -0.0 prints as 0.0, as the fit always printed it
 
 
 def linear(form: str) -> bool:

@@ -4,7 +4,9 @@ Renders a fixed set of outputs with the code of two git revisions (each from its
 ``git worktree``, run as ``python -m vpaudit.cli`` with that tree first on the path) and
 compares them: the demo table audited in every report format (with the diagnosis), two
 synthetic tables (``synth.py``), fits of five forms to the demo's points, exact conversions
-and refits, and ``show``. Any command that fails, in either revision, is reported as a
+and refits, ``show``, and the gate on a copy of the demo in a git repository (one record
+changed since the base commit; an acceptance in use, one expired, one unused) in three
+formats. Any command that fails, in either revision, is reported as a
 failure -- never skipped -- and any output that differs is named.
 
     python benchmarks/same_output.py                # HEAD against the working tree
@@ -15,6 +17,7 @@ from __future__ import annotations
 
 import argparse
 import os
+import shutil
 import subprocess
 import sys
 import tempfile
@@ -55,7 +58,51 @@ def commands(synth: Path) -> dict[str, list[str]]:
         ]  # fmt: skip
     for sub in ("kestrium", "rostane", "elmsite"):
         out[f"show-{sub}.txt"] = ["show", DEMO, sub]
+    for fmt in ("json", "text", "markdown"):
+        out[f"gate.{fmt}"] = [
+            "gate", str(synth / "gated"), "--base", "HEAD", "--format", fmt, "--fail-on", "never"
+        ]  # fmt: skip
     return out
+
+
+#: The gate's acceptances: one in use, one expired, one no longer needed.
+ACCEPTED = """
+[[accepted]]
+check = "points-misfit"
+records = ["ardenite-l1"]
+reason = "kept for the comparison"
+by = "same_output.py"
+
+[[accepted]]
+check = "enthalpy-implausible"
+records = ["bellorium-l1"]
+reason = "expired on purpose"
+by = "same_output.py"
+until = 2000-01-01
+
+[[accepted]]
+check = "slope-not-positive"
+records = ["rostane-s1"]
+reason = "no such finding"
+by = "same_output.py"
+"""
+
+
+def gated_table(folder: Path) -> None:
+    """A copy of the demo in a new git repository, one record changed since its commit
+    (ardenite's liquid read as log10) and acceptances in ``accepted.toml``.
+    """
+    shutil.copytree(DEMO, folder)
+    git = ["git", "-c", "user.name=same_output", "-c", "user.email=same@output"]
+    subprocess.run([*git, "init", "-q"], cwd=folder, check=True)
+    subprocess.run([*git, "add", "-A"], cwd=folder, check=True)
+    subprocess.run([*git, "commit", "-q", "-m", "base"], cwd=folder, check=True)
+    metals = folder / "records" / "metals.csv"
+    lines = metals.read_text().splitlines(keepends=True)
+    k = next(i for i, line in enumerate(lines) if line.startswith("ardenite-l1,"))
+    lines[k] = lines[k].replace(",three-term,e,Pa,", ",three-term,10,Pa,", 1)
+    metals.write_text("".join(lines))
+    (folder / "accepted.toml").write_text(ACCEPTED)
 
 
 def render(tree: Path, cmds: dict[str, list[str]], cwd: Path) -> tuple[dict[str, bytes], list[str]]:
@@ -89,6 +136,7 @@ def main() -> int:
         work = Path(tmp)
         generate(work / "synth" / "synth1", 3000, seed=1)
         generate(work / "synth" / "synth2", 2000, seed=2, antoine_share=0.3)
+        gated_table(work / "synth" / "gated")
         base_tree = work / "base"
         subprocess.run(
             ["git", "worktree", "add", "--detach", "-q", str(base_tree), args.base],

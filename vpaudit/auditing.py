@@ -6,7 +6,6 @@ on: one broken check never hides the others' results.
 
 from __future__ import annotations
 
-import dataclasses
 import traceback
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -18,7 +17,7 @@ from . import checks as _checks  # noqa: F401  (registers every check)
 from ._caution import CAUTION  # the caution every report carries (re-exported)
 from .checks._context import AuditContext
 from .checks._registry import REGISTRY, Severity, get_check, ordered
-from .checks.finding import Finding
+from .checks.finding import Finding, Findings
 from .checks.witness import DISAGREEMENTS, NEAR_RANGE, Witnesses, vouched
 from .policy import Policy, load_policy
 from .readers.table import Table
@@ -33,12 +32,16 @@ class AuditResult:
     whose findings carry a status (new, existing or accepted) against the base revision.
     """
 
-    findings: list[Finding]
+    findings: Findings
     summary: dict[str, int]
     policy_description: dict[str, Any]
     table_path: str = ""
     checks_run: list[str] = field(default_factory=list)
     gate: GateInfo | None = None
+
+    def __post_init__(self) -> None:
+        if not isinstance(self.findings, Findings):  # a list of findings made by hand
+            self.findings = Findings.of(self.findings)
 
     @property
     def gated(self) -> bool:
@@ -54,7 +57,7 @@ class AuditResult:
         """The most serious severity found, or None when nothing was found."""
         if not self.findings:
             return None
-        return max((f.severity for f in self.findings), key=lambda s: s.rank)
+        return max(set(self.findings.severity), key=lambda s: s.rank)
 
     def fails(self, fail_on: str) -> bool:
         """Whether anything (in a gate, anything *new*) is at or above ``fail_on`` (error,
@@ -64,15 +67,15 @@ class AuditResult:
             return False
         level = Severity(fail_on).rank
         return any(
-            f.severity.rank >= level and (not self.gated or self.status_of(f) == "new")
-            for f in self.findings
+            sev.rank >= level and (not self.gated or (status or "new") == "new")
+            for sev, status in zip(self.findings.severity, self.findings.status, strict=True)
         )
 
     def to_dict(self) -> dict[str, Any]:
         """The JSON output contract."""
         return {
             "summary": self.summary_dict(),
-            "findings": [self.finding_dict(f) for f in self.findings],
+            "findings": self.findings.dicts(status=self.gated),
         }
 
     def summary_dict(self) -> dict[str, Any]:
@@ -83,7 +86,7 @@ class AuditResult:
             return dict(self.summary)
         return {
             **self.summary,
-            "new": sum(self.status_of(f) == "new" for f in self.findings),
+            "new": sum((s or "new") == "new" for s in self.findings.status),
             "base": self.gate.base,
             "substances_reaudited": self.gate.affected,
         }
@@ -104,46 +107,47 @@ class GateInfo:
     affected: int
 
 
-#: Sorting position of each severity: errors first (a dict lookup, cheaper than the
-#: ``rank`` property over ~90 000 findings).
-_FIRST = {s: -s.rank for s in Severity}
-
-
-def _sort_key(f: Finding):
-    return (_FIRST[f.severity], f.substance, f.check, f.records)
-
-
 def point_at_suspects(
-    ctx: AuditContext, findings: list[Finding], witnesses: Witnesses | None = None
-) -> list[Finding]:
+    ctx: AuditContext, findings: Findings, witnesses: Witnesses | None = None
+) -> None:
     """Locate each finding on several records, and without a suggestion, at its likely
     culprit: the one record that the substance's other findings single out (a finding on it
     alone), when exactly one is, so that a pair's mismatch lands on the suspect liquid, not
     on its clean solid partner; failing that, for two curves that disagree, the one that no
     witness pins more finely than the disagreement when the other is so pinned
-    (:func:`checks.witness.vouched`), which the finding then says.
+    (:func:`checks.witness.vouched`), which the finding then says. Changes ``findings``
+    in place.
     """
+    subs, recs = findings.substance, findings.records
     alone: dict[str, set[str]] = {}
-    for f in findings:
-        if len(f.records) == 1:
-            alone.setdefault(f.substance, set()).add(f.records[0])
+    for sub, rec in zip(subs, recs, strict=True):
+        if len(rec) == 1:
+            alone.setdefault(sub, set()).add(rec[0])
     moves: dict[int, str] = {}
     pending: dict[int, tuple[float, float]] = {}
-    for k, f in enumerate(findings):
-        if len(f.records) > 1 and not f.suggestion:
-            named = [r for r in f.records if r in alone.get(f.substance, ())]
+    for k, (sub, rec, sug) in enumerate(zip(subs, recs, findings.suggestion, strict=True)):
+        if len(rec) > 1 and not sug:
+            named = [r for r in rec if r in alone.get(sub, ())]
             if len(named) == 1:
-                if named[0] != f.records[0]:
+                if named[0] != rec[0]:
                     moves[k] = named[0]
-            elif not named and len(f.records) == 2 and f.check in DISAGREEMENTS:
-                size_key, at_key = DISAGREEMENTS[f.check]
-                size, at = f.evidence.get(size_key), f.evidence.get(at_key)
+            elif not named and len(rec) == 2 and findings.check[k] in DISAGREEMENTS:
+                size_key, at_key = DISAGREEMENTS[findings.check[k]]
+                ev = findings.evidence[k]
+                size, at = ev.get(size_key), ev.get(at_key)
                 if size is not None and at is not None and witnesses is not None:
                     pending[k] = (abs(float(size)), float(at))
     if not moves and not pending:
-        return findings
-    rows = ctx.rows_by_id(set(moves.values()) | {r for k in pending for r in findings[k].records})
-    changes = {k: ctx.location(rows[rid]) for k, rid in moves.items() if rid in rows}
+        return
+    rows = ctx.rows_by_id(set(moves.values()) | {r for k in pending for r in recs[k]})
+    moved = [(k, rows[rid]) for k, rid in moves.items() if rid in rows]
+    if moved:  # the locations of the moved findings, in a few array operations
+        ks, at_rows = (np.array(v, dtype=np.int64) for v in zip(*moved, strict=True))
+        files = ctx.files_of(at_rows)
+        lines = ctx.line[at_rows].tolist()
+        for k, file, line in zip(ks.tolist(), files, lines, strict=True):
+            findings.file[k] = file
+            findings.line[k] = line
     c = ctx.curves
     lo, hi = 1.0 - NEAR_RANGE, 1.0 + NEAR_RANGE
     for k, (size, at) in pending.items():
@@ -162,18 +166,15 @@ def point_at_suspects(
             continue
         culprit, partner = (b, a) if pins[0] else (a, b)
         p = rows[partner]
-        changes[k] = {
-            "message": f"{f.message} {partner} meets {witnesses.words(p)} (within "
+        findings.set(
+            k,
+            message=f"{f.message} {partner} meets {witnesses.words(p)} (within "
             f"{witnesses.resolution[p]:.2g} in ln P, less than the two curves differ "
             f"here); {culprit} has no such witness and is the likelier culprit.",
-            "evidence": {**f.evidence, "likely_culprit": culprit},
-        }
+            evidence={**f.evidence, "likely_culprit": culprit},
+        )
         if culprit != a:
-            changes[k].update(ctx.location(rows[culprit]))
-    out = list(findings)
-    for k, change in changes.items():
-        out[k] = dataclasses.replace(out[k], **change)
-    return out
+            findings.set(k, **ctx.location(rows[culprit]))
 
 
 def coverage(ctx: AuditContext) -> dict[str, int]:
@@ -263,7 +264,7 @@ def audit_table(
         table = restrict(table, set(substances))
     ctx = AuditContext(table, policy, runtime)
     findings = run_checks(ctx, names, progress)
-    witnesses = vouched(ctx) if any(f.check in DISAGREEMENTS for f in findings) else None
+    witnesses = vouched(ctx) if not DISAGREEMENTS.keys().isdisjoint(findings.check) else None
     not_checked = coverage(ctx) if len(table.records) else {}
     n_pairs = len(ctx.pairs.solid) if any(REGISTRY[n].scope.value == "pair" for n in names) else 0
     ctx.drop_shared()  # not needed any more: the diagnosis and the output use their memory
@@ -276,18 +277,18 @@ def audit_table(
         from .diagnose import DIAGNOSE_LIMIT, attach_suggestions
 
         limit = DIAGNOSE_LIMIT if diagnose is True else int(diagnose)
-        findings, skipped = attach_suggestions(ctx, findings, limit)
-    findings = point_at_suspects(ctx, findings, witnesses)
-    findings.sort(key=_sort_key)
+        skipped = attach_suggestions(ctx, findings, limit)
+    point_at_suspects(ctx, findings, witnesses)
+    findings.sort()
     summary = {
         "records": int(len(table.records)),
         "substances": int(np.count_nonzero(np.bincount(ctx.codes[ctx.codes >= 0])))
         if len(table.records)
         else 0,
         "pairs": int(n_pairs),
-        "error": sum(f.severity is Severity.error for f in findings),
-        "warning": sum(f.severity is Severity.warning for f in findings),
-        "note": sum(f.severity is Severity.note for f in findings),
+        "error": findings.count(Severity.error),
+        "warning": findings.count(Severity.warning),
+        "note": findings.count(Severity.note),
         "not_checked": not_checked,
     }
     if skipped:
@@ -295,10 +296,10 @@ def audit_table(
     return AuditResult(findings, summary, policy.describe(), table_path, names)
 
 
-def run_checks(ctx: AuditContext, names: list[str], progress=None) -> list[Finding]:
+def run_checks(ctx: AuditContext, names: list[str], progress=None) -> Findings:
     """Run the checks ``names`` over one prepared context; a check that raises becomes an
     ``internal-error`` finding and the others still run. The findings come in the order of
-    ``names``.
+    ``names``, as one table.
 
     On a large table the solid/liquid pairs are computed on a second thread while this one
     runs the checks that do not need them (:func:`_pairs_beside`).
@@ -310,7 +311,7 @@ def run_checks(ctx: AuditContext, names: list[str], progress=None) -> list[Findi
     if waiting is not None:  # the checks without pairs first, while the pairs are made
         order = [n for n in names if REGISTRY[n].scope.value != "pair"]
         order += [n for n in names if REGISTRY[n].scope.value == "pair"]
-    found: dict[str, list[Finding]] = {}
+    found: dict[str, Findings] = {}
     try:
         for done, name in enumerate(order):
             if progress is not None:
@@ -325,27 +326,40 @@ def run_checks(ctx: AuditContext, names: list[str], progress=None) -> list[Findi
     finally:
         if waiting is not None:
             waiting()
-    return [f for name in active for f in found[name]]
+    out = Findings()
+    for name in active:
+        out.extend(found[name])
+    return out
 
 
-def _run_one(ctx: AuditContext, name: str) -> list[Finding]:
-    """The findings of one check, or its ``internal-error`` finding."""
+def _run_one(ctx: AuditContext, name: str) -> Findings:
+    """The findings of one check, or its ``internal-error`` finding. A check yields
+    findings one at a time (:class:`Finding`) or in blocks (:class:`Findings`).
+    """
+    out = Findings()
     try:
         # overflow and NaN are handled explicitly by the checks (a non-finite value is a
         # finding, never a crash), so numpy's floating-point warnings are silenced here
         with np.errstate(all="ignore"):
-            return list(REGISTRY[name].func(ctx))
+            for part in REGISTRY[name].func(ctx):
+                if isinstance(part, Findings):
+                    out.extend(part)
+                else:
+                    out.append(part)
+        return out
     except Exception as exc:  # one broken check never hides the others
-        return [
-            Finding(
-                check="internal-error",
-                severity=Severity.error,
-                substance="",
-                records=(),
-                message=f"check {name!r} failed: {type(exc).__name__}: {exc}",
-                evidence={"check": name, "traceback": traceback.format_exc(limit=3)},
-            )
-        ]
+        return Findings.of(
+            [
+                Finding(
+                    check="internal-error",
+                    severity=Severity.error,
+                    substance="",
+                    records=(),
+                    message=f"check {name!r} failed: {type(exc).__name__}: {exc}",
+                    evidence={"check": name, "traceback": traceback.format_exc(limit=3)},
+                )
+            ]
+        )
 
 
 def _pairs_beside(ctx: AuditContext, names: list[str]):

@@ -224,10 +224,10 @@ def _apply_acceptances(
     result: GateResult, accepted: list[Acceptance], path: Path, today: dt.date
 ) -> None:
     used = set()
-    for f in result.findings:
+    for row, f in enumerate(result.findings):
         for k, a in enumerate(accepted):
             if a.matches(f) and (a.until is None or a.until >= today):
-                f.status = "accepted"
+                result.findings.set(row, status="accepted")
                 used.add(k)
                 break
     extra = []
@@ -263,8 +263,8 @@ def _apply_acceptances(
                 )
             )
     for f in extra:
-        result.findings.append(f)
         f.status = "new" if f.check == "acceptance-expired" else "existing"
+        result.findings.append(f)
 
 
 def gate(
@@ -311,7 +311,7 @@ def gate(
     head_result = audit_table(restrict(head, changed), pol, table_path=str(table))
     base_keys = set()
     if base_table is not None and changed:
-        base_keys = {f.key for f in audit_table(restrict(base_table, changed), pol).findings}
+        base_keys = set(audit_table(restrict(base_table, changed), pol).findings.keys())
     result = AuditResult(
         head_result.findings,
         head_result.summary,
@@ -320,8 +320,9 @@ def gate(
         head_result.checks_run,
         gate=GateInfo(base, len(changed)),
     )
-    for f in result.findings:
-        f.status = "existing" if f.key in base_keys else "new"
+    result.findings.status = [
+        "existing" if key in base_keys else "new" for key in result.findings.keys()
+    ]
     if unreadable is not None:
         result.findings.append(
             Finding(
@@ -346,7 +347,7 @@ def gate(
     )
     result.summary = {
         **result.summary,
-        **{s.value: sum(f.severity is s for f in result.findings) for s in Severity},
+        **{s.value: result.findings.count(s) for s in Severity},
     }
     return result
 

@@ -25,7 +25,7 @@ from ..readers.table import Table
 from ..runtime import DEFAULT, Runtime, SharedBlocks, in_thread
 from ._registry import REGISTRY, Severity
 from .extrema import RangeExtrema, extrema_over_ranges
-from .finding import Finding
+from .finding import Finding, Findings
 from .joins import match, same_key_pairs
 from .pairs import MeltingSlopes, Pairs, find_pairs
 
@@ -186,13 +186,21 @@ class AuditContext:
 
     def rows_by_id(self, ids) -> dict[str, int]:
         """The record row of each id in ``ids`` (ids that no record has are left out)."""
-        column = self.table.records["id"].astype(object)
-        rows = np.flatnonzero(column.isin(set(ids)).to_numpy())
-        return {str(column.iat[r]): int(r) for r in rows}
+        import pyarrow.compute as pc
+
+        wanted = pa.array([str(i) for i in set(ids)], type=pa.string())
+        hit = pc.is_in(self._id_values, value_set=wanted).to_numpy(zero_copy_only=False)
+        rows = np.flatnonzero(hit)
+        found = self._id_values.take(pa.array(rows)).to_pylist()
+        return dict(zip(found, rows.tolist(), strict=True))
 
     def location(self, row: int) -> dict:
         """Where record ``row`` stands: ``{"file", "line"}``."""
         return {"file": str(self._files[self.file_code[int(row)]]), "line": int(self.line[row])}
+
+    def files_of(self, rows: np.ndarray) -> list[str]:
+        """The file each record of ``rows`` stands in."""
+        return [str(f) for f in self._files[self.file_code[rows]].tolist()]
 
     def substance_of(self, row: int) -> str:
         """The substance of record ``row``."""
@@ -372,7 +380,7 @@ class AuditContext:
         evidence: dict,
         records: list[tuple[str, ...]] | None = None,
         severity: Severity | None = None,
-    ) -> list[Finding]:
+    ) -> Findings:
         """One finding per record in ``rows``, built together: what :meth:`finding` does
         one at a time (the substance, the record id, the file and line), taken for all
         rows in a few array operations, for checks that report thousands of records.
@@ -383,7 +391,7 @@ class AuditContext:
         """
         rows = np.asarray(rows, dtype=np.int64)
         if rows.size == 0:
-            return []
+            return Findings()
         sev = severity or self._severities.get(check)
         if sev is None:
             sev = self._severities[check] = self.severity(check) or REGISTRY[check].severity
@@ -393,20 +401,17 @@ class AuditContext:
             subs[i] = ""
         if records is None:
             records = [(i,) for i in self.ids(rows)]
-        files = self._files[self.file_code[rows]].tolist()
-        lines = self.line[rows].tolist()
-        return [
-            Finding(check, sev, sub, rec, msg, ev, None, str(f), ln)
-            for sub, rec, msg, ev, f, ln in zip(
-                subs,
-                records,
-                messages,
-                _evidence_rows(evidence, rows.size),
-                files,
-                lines,
-                strict=True,
-            )
-        ]
+        files = self.files_of(rows)
+        return Findings.block(
+            check,
+            sev,
+            subs,
+            list(records),
+            list(messages),
+            _evidence_rows(evidence, rows.size),
+            files,
+            self.line[rows].tolist(),
+        )
 
     def pair_findings(
         self,
@@ -415,7 +420,7 @@ class AuditContext:
         messages: list[str],
         evidence: dict,
         severity: Severity | None = None,
-    ) -> list[Finding]:
+    ) -> Findings:
         """:meth:`findings` about the pairs ``ks`` (both record ids, located at the solid
         record), as :meth:`pair_finding` makes them one at a time.
         """

@@ -1,13 +1,21 @@
-"""Findings: what a check reports. Data, never exceptions."""
+"""Findings: what a check reports. Data, never exceptions.
+
+An audit's findings are one table, :class:`Findings`: a column per field (check, severity,
+substance, records, message, evidence, suggestion, file, line, status), a finding a row.
+Checks add whole blocks of rows; sorting, moving a finding to its suspect record, the gate's
+status and the reports work on the columns. :class:`Finding` is the row view, for code that
+wants one finding at a time.
+"""
 
 from __future__ import annotations
 
+from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass, field
-from typing import Any
+from typing import Any, overload
 
 from ._registry import Severity
 
-__all__ = ["Finding"]
+__all__ = ["Finding", "Findings", "FIELDS"]
 
 
 @dataclass
@@ -62,13 +70,203 @@ class Finding:
 
     def to_dict(self) -> dict[str, Any]:
         """The JSON form (the output contract), with the location added."""
-        return {
-            "check": self.check,
-            "severity": str(self.severity),  # a StrEnum's str is its value (and faster)
-            "substance": self.substance,
-            "records": list(self.records),
-            "message": self.message,
-            "evidence": self.evidence,
-            "suggestion": self.suggestion,
-            "location": {"file": self.file, "line": self.line},
-        }
+        return _as_dict(
+            self.check,
+            self.severity,
+            self.substance,
+            self.records,
+            self.message,
+            self.evidence,
+            self.suggestion,
+            self.file,
+            self.line,
+        )
+
+
+def _as_dict(check, severity, substance, records, message, evidence, suggestion, file, line):
+    """One finding's JSON form (:meth:`Finding.to_dict`), from its fields."""
+    return {
+        "check": check,
+        "severity": str(severity),  # a StrEnum's str is its value (and faster)
+        "substance": substance,
+        "records": list(records),
+        "message": message,
+        "evidence": evidence,
+        "suggestion": suggestion,
+        "location": {"file": file, "line": line},
+    }
+
+
+#: The fields of a finding, in the order of :class:`Finding` (the columns of
+#: :class:`Findings`).
+FIELDS = (
+    "check",
+    "severity",
+    "substance",
+    "records",
+    "message",
+    "evidence",
+    "suggestion",
+    "file",
+    "line",
+    "status",
+)
+
+#: Sorting position of each severity: errors first.
+_FIRST = {s: -s.rank for s in Severity}
+
+
+class Findings:
+    """Findings as a table: one list per field of :data:`FIELDS`, row ``i`` of every list
+    one finding.
+
+    Checks produce blocks of rows (:meth:`block`); the audit joins them (:meth:`extend`),
+    changes single cells (:meth:`set`) and sorts the rows (:meth:`sort`) without making a
+    :class:`Finding` per row. Iterating, or indexing with an integer, gives :class:`Finding`
+    row views: copies, so changing one does not change the table (use :meth:`set`).
+    Indexing with a slice, or :meth:`take`, gives a new table.
+    """
+
+    __slots__ = FIELDS
+
+    def __init__(self, **columns: list) -> None:
+        n = None
+        for name in FIELDS:
+            col = columns.pop(name, None)
+            if col is None:
+                col = [] if n is None else [None] * n
+            if n is None:
+                n = len(col)
+            elif len(col) != n:
+                raise ValueError(f"column {name!r} has {len(col)} rows, not {n}")
+            setattr(self, name, col)
+        if columns:
+            raise TypeError(f"unknown finding fields: {', '.join(sorted(columns))}")
+
+    @classmethod
+    def of(cls, rows: Iterable[Finding]) -> Findings:
+        """A table of the findings ``rows``."""
+        out = cls()
+        for f in rows:
+            out.append(f)
+        return out
+
+    @classmethod
+    def block(
+        cls,
+        check: str,
+        severity: Severity,
+        substance: list[str],
+        records: list[tuple[str, ...]],
+        message: list[str],
+        evidence: list[dict],
+        file: list[str | None],
+        line: list[int | None],
+    ) -> Findings:
+        """Rows of one check and one severity, from their other columns."""
+        n = len(message)
+        return cls(
+            check=[check] * n,
+            severity=[severity] * n,
+            substance=substance,
+            records=records,
+            message=message,
+            evidence=evidence,
+            suggestion=[None] * n,
+            file=file,
+            line=line,
+            status=[None] * n,
+        )
+
+    def __len__(self) -> int:
+        return len(self.check)
+
+    def __bool__(self) -> bool:
+        return bool(self.check)
+
+    def __iter__(self) -> Iterator[Finding]:
+        for row in zip(*(getattr(self, name) for name in FIELDS), strict=True):
+            yield Finding(*row)
+
+    @overload
+    def __getitem__(self, k: int) -> Finding: ...
+
+    @overload
+    def __getitem__(self, k: slice) -> Findings: ...
+
+    def __getitem__(self, k):
+        if isinstance(k, slice):
+            return Findings(**{name: getattr(self, name)[k] for name in FIELDS})
+        return Finding(*(getattr(self, name)[k] for name in FIELDS))
+
+    def __eq__(self, other: object) -> bool:
+        if isinstance(other, Findings):
+            return all(getattr(self, n) == getattr(other, n) for n in FIELDS)
+        if isinstance(other, list):
+            return list(self) == other
+        return NotImplemented
+
+    def __repr__(self) -> str:
+        return f"<Findings: {len(self)} row(s)>"
+
+    def take(self, rows: Iterable[int]) -> Findings:
+        """The table of rows ``rows``, in that order."""
+        rows = list(rows)
+        return Findings(**{n: [getattr(self, n)[k] for k in rows] for n in FIELDS})
+
+    def append(self, f: Finding) -> None:
+        """Add the finding ``f`` as the last row."""
+        for name in FIELDS:
+            getattr(self, name).append(getattr(f, name))
+
+    def extend(self, other: Findings | Iterable[Finding]) -> None:
+        """Add the rows of another table (or findings) at the end."""
+        if not isinstance(other, Findings):
+            other = Findings.of(other)
+        for name in FIELDS:
+            getattr(self, name).extend(getattr(other, name))
+
+    def set(self, k: int, **changes: Any) -> None:
+        """Change fields of row ``k`` (the gate's status, a moved location, a suggestion)."""
+        for name, value in changes.items():
+            if name not in FIELDS:
+                raise TypeError(f"unknown finding field {name!r}")
+            getattr(self, name)[k] = value
+
+    def count(self, severity: Severity) -> int:
+        """How many rows have ``severity``."""
+        return self.severity.count(severity)
+
+    def dicts(self, start: int = 0, stop: int | None = None, status: bool = False) -> list[dict]:
+        """The JSON form of rows ``start`` to ``stop`` (:meth:`Finding.to_dict`), made
+        from the columns; with ``status``, each with its gate status (``new`` when unset).
+        """
+        part = slice(start, stop)
+        columns = [getattr(self, name)[part] for name in FIELDS[:-1]]
+        out = [_as_dict(*row) for row in zip(*columns, strict=True)]
+        if status:
+            for d, s in zip(out, self.status[part], strict=True):
+                d["status"] = s or "new"
+        return out
+
+    def keys(self) -> list[tuple[str, str, tuple[str, ...]]]:
+        """:attr:`Finding.key` of every row."""
+        return [
+            (c, s, tuple(sorted(r)))
+            for c, s, r in zip(self.check, self.substance, self.records, strict=True)
+        ]
+
+    def sort(self, key: Callable[[Finding], Any] | None = None) -> None:
+        """Sort the rows in place, stably: by default errors first, then by substance,
+        check and records; else by ``key`` of each row's :class:`Finding`.
+        """
+        if key is None:
+            first = [_FIRST[s] for s in self.severity]
+            sub, chk, rec = self.substance, self.check, self.records
+            order = sorted(range(len(self)), key=lambda i: (first[i], sub[i], chk[i], rec[i]))
+        else:
+            rows = list(self)
+            order = sorted(range(len(self)), key=lambda i: key(rows[i]))
+        for name in FIELDS:
+            col = getattr(self, name)
+            setattr(self, name, [col[i] for i in order])

@@ -121,7 +121,7 @@ def no_crossing(ctx: AuditContext):
         }
         if near:
             evidence["tolerance_lnP"] = tol[sel]
-        yield from ctx.pair_findings(
+        yield ctx.pair_findings(
             "no-crossing",
             rows[sel],
             messages,
@@ -213,7 +213,7 @@ def crossing_orientation(ctx: AuditContext):
             strict=True,
         )
     ]
-    yield from ctx.pair_findings(
+    yield ctx.pair_findings(
         "crossing-orientation",
         sel,
         messages,
@@ -283,7 +283,7 @@ def crossing_outside_range(ctx: AuditContext):
             t.tolist(), worst.tolist(), edge.tolist(), d.tolist(), which, strict=True
         )
     ]
-    yield from ctx.pair_findings(
+    yield ctx.pair_findings(
         "crossing-outside-range",
         sel,
         messages,
@@ -387,7 +387,7 @@ def melting_point_mismatch(ctx: AuditContext):
                 tk_.tolist(), tm_.tolist(), d_.tolist(), ktol_.tolist(), w_.tolist(), strict=True
             )
         ]
-        yield from ctx.pair_findings(
+        yield ctx.pair_findings(
             "melting-point-mismatch",
             ks,
             messages,
@@ -483,7 +483,7 @@ def fusion_enthalpy_mismatch(ctx: AuditContext):
             strict=True,
         )
     ]
-    yield from ctx.pair_findings(
+    yield ctx.pair_findings(
         "fusion-enthalpy-mismatch",
         ks,
         messages,
@@ -528,7 +528,7 @@ def fusion_entropy_implausible(ctx: AuditContext):
         f"{jk(dsk)}, outside the usual {th['min']:g}..{th['max']:g} J/(mol K)."
         for tk, dsk in zip(t.tolist(), ds.tolist(), strict=True)
     ]
-    yield from ctx.pair_findings(
+    yield ctx.pair_findings(
         "fusion-entropy-implausible",
         sel,
         messages,

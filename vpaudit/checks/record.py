@@ -139,7 +139,7 @@ def slope_not_positive(ctx: AuditContext):
         "with temperature; a sign of the 1/T coefficient is the usual cause."
         for h, t in zip(h_min.tolist(), h_min_t.tolist(), strict=True)
     ]
-    yield from ctx.findings(
+    yield ctx.findings(
         "slope-not-positive",
         sel,
         messages,
@@ -212,7 +212,7 @@ def enthalpy_implausible(ctx: AuditContext):
             strict=True,
         )
     ]
-    yield from ctx.findings(
+    yield ctx.findings(
         "enthalpy-implausible",
         rows[sel],
         messages,

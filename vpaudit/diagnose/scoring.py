@@ -6,13 +6,12 @@ from __future__ import annotations
 
 import math
 from collections import defaultdict
-from dataclasses import replace
 
 import numpy as np
 
 from ..checks._context import AuditContext
 from ..checks._registry import Severity
-from ..checks.finding import Finding
+from ..checks.finding import Findings
 from ..equations.forms import FORMS
 from ..substance import records_at
 from .candidates import SLIP_KINDS, Candidate, Change, candidates_for
@@ -56,17 +55,18 @@ def _logsumexp(x: np.ndarray) -> float:
     return top + float(np.log(np.sum(np.exp(x - top))))
 
 
-def _suspects(findings: list[Finding], limit: int | None) -> tuple[dict[str, set[str]], int]:
+def _suspects(findings: Findings, limit: int | None) -> tuple[dict[str, set[str]], int]:
     """The records of each substance with errors or warnings, worst substances first, at
     most ``limit`` substances; returns them and how many were left out.
     """
     suspects: dict[str, set[str]] = defaultdict(set)
     weight: dict[str, tuple[int, int]] = defaultdict(lambda: (0, 0))
-    for f in findings:
-        if f.severity.rank >= 1 and f.check not in _NOT_EVIDENCE and f.substance:
-            suspects[f.substance].update(f.records)
-            w = weight[f.substance]
-            weight[f.substance] = (max(w[0], f.severity.rank), w[1] + 1)
+    columns = (findings.check, findings.severity, findings.substance, findings.records)
+    for check, sev, sub, recs in zip(*columns, strict=True):
+        if sev.rank >= 1 and check not in _NOT_EVIDENCE and sub:
+            suspects[sub].update(recs)
+            w = weight[sub]
+            weight[sub] = (max(w[0], sev.rank), w[1] + 1)
     if limit is None or len(suspects) <= limit:
         return dict(suspects), 0
     order = sorted(suspects, key=lambda n: (-weight[n][0], -weight[n][1], n))
@@ -76,7 +76,7 @@ def _suspects(findings: list[Finding], limit: int | None) -> tuple[dict[str, set
 @_quiet
 def hypotheses(
     ctx: AuditContext,
-    findings: list[Finding],
+    findings: Findings,
     limit: int | None = None,
     suspects: dict[str, set[str]] | None = None,
 ) -> dict[str, tuple]:
@@ -168,7 +168,7 @@ def hypotheses(
 @_quiet
 def diagnose(
     ctx: AuditContext,
-    findings: list[Finding],
+    findings: Findings,
     calibration: dict | None = None,
     limit: int | None = None,
     suspects: dict[str, set[str]] | None = None,
@@ -179,7 +179,7 @@ def diagnose(
     ----------
     ctx : AuditContext
         The audit's context (the table, its curves and the policy).
-    findings : list of Finding
+    findings : Findings
         The audit's findings.
     calibration : dict, optional
         Scoring constants; :data:`CALIBRATION` by default.
@@ -373,10 +373,9 @@ DIAGNOSE_LIMIT = 1000
 
 
 @_quiet
-def attach_suggestions(
-    ctx: AuditContext, findings: list[Finding], limit: int = DIAGNOSE_LIMIT
-) -> tuple[list[Finding], int]:
-    """Findings with the diagnosis attached, and the number of substances left undiagnosed.
+def attach_suggestions(ctx: AuditContext, findings: Findings, limit: int = DIAGNOSE_LIMIT) -> int:
+    """Attach the diagnosis to ``findings`` (in place); return the number of substances
+    left undiagnosed.
 
     Each error or warning that the best fix of its substance clears, or that names the
     corrected record, carries it as ``suggestion``. A finding on several records that the
@@ -386,19 +385,17 @@ def attach_suggestions(
     suspects, skipped = _suspects(findings, limit)
     diag = diagnose(ctx, findings, limit=limit, suspects=suspects)
     if not diag:
-        return findings, skipped
-    out = []
-    for f in findings:
-        d = diag.get(f.substance)
+        return skipped
+    columns = zip(findings.substance, findings.severity, findings.records, strict=True)
+    for k, (sub, sev, recs) in enumerate(columns):
+        d = diag.get(sub)
         sug = d["suggestion"] if d else None
         if (
             sug is not None
-            and f.severity.rank >= 1
-            and (_key(f) in d["clears"] or sug["record"] in f.records)
+            and sev.rank >= 1
+            and (_key(findings[k]) in d["clears"] or sug["record"] in recs)
         ):
-            where = sug["location"] if sug["record"] in f.records else {}
-            f = replace(
-                f, suggestion=sug, file=where.get("file", f.file), line=where.get("line", f.line)
-            )
-        out.append(f)
-    return out, skipped
+            findings.set(k, suggestion=sug)
+            if sug["record"] in recs:
+                findings.set(k, **sug["location"])
+    return skipped

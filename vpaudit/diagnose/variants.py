@@ -417,7 +417,7 @@ def _audit_units(
             found = run_checks(vctx, names) if checks else []
             mis = _misfit(vctx)
         by_unit: dict[int, list[Finding]] = defaultdict(list)
-        for f in found:
+        for f in found:  # the variants' findings are few: row views
             if f.substance:
                 by_unit[int(f.substance)].append(f)
         unit_of_code = np.array([int(n) for n in vctx.names], dtype=np.int64)

@@ -7,6 +7,8 @@ import io
 import json
 from collections.abc import Iterator
 
+from ..checks.finding import FIELDS
+
 COLUMNS = [
     "severity",
     "check",
@@ -32,18 +34,20 @@ def chunks(result) -> Iterator[str]:
         w = csv.writer(buf, lineterminator="\n")
         if a == 0:
             w.writerow(COLUMNS)
-        for f in findings[a : a + CHUNK]:
+        part = slice(a, a + CHUNK)
+        columns = (getattr(findings, name)[part] for name in FIELDS[:-1])
+        for check, sev, sub, recs, msg, ev, sug, file, line in zip(*columns, strict=True):
             w.writerow(
                 [
-                    f.severity.value,
-                    f.check,
-                    f.substance,
-                    " ".join(f.records),
-                    f.message,
-                    f.file or "",
-                    f.line or "",
-                    json.dumps(f.evidence, sort_keys=True),
-                    json.dumps(f.suggestion) if f.suggestion else "",
+                    sev.value,
+                    check,
+                    sub,
+                    " ".join(recs),
+                    msg,
+                    file or "",
+                    line or "",
+                    json.dumps(ev, sort_keys=True),
+                    json.dumps(sug) if sug else "",
                 ]
             )
         yield buf.getvalue()

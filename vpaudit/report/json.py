@@ -34,7 +34,8 @@ def chunks(result) -> Iterator[str]:
     yield '{"summary": ' + _encode(result.summary_dict()).decode("utf-8") + ',\n"findings": [\n'
     findings = result.findings
     for a in range(0, len(findings), CHUNK):
-        lines = b",\n".join([_encode(result.finding_dict(f)) for f in findings[a : a + CHUNK]])
+        rows = findings.dicts(a, a + CHUNK, status=result.gated)
+        lines = b",\n".join([_encode(d) for d in rows])
         yield (b",\n" + lines if a else lines).decode("utf-8")
     yield "\n]}\n"
 

@@ -118,43 +118,51 @@ def point_at_suspects(
     (:func:`checks.witness.vouched`), which the finding then says. Changes ``findings``
     in place.
     """
-    subs, recs = findings.substance, findings.records
-    alone: dict[str, set[str]] = {}
-    for sub, rec in zip(subs, recs, strict=True):
-        if len(rec) == 1:
-            alone.setdefault(sub, set()).add(rec[0])
-    moves: dict[int, str] = {}
+    n = len(findings)
+    if not n:
+        return
+    recs, checks = findings.records, findings.check
+    table_rows = _table_rows(ctx, findings)
+    n_rec = np.fromiter(map(len, recs), dtype=np.int64, count=n)
+    known = np.fromiter(map(len, table_rows), dtype=np.int64, count=n) == n_rec
+    first = np.array([r[0] if r else -1 for r in table_rows], dtype=np.int64)
+    alone = np.zeros(ctx.n, dtype=bool)  # the records that a finding names alone
+    alone[first[known & (n_rec == 1)]] = True
+    unsure = known & (n_rec >= 2)  # on several records, without a suggestion
+    unsure &= np.fromiter((not s for s in findings.suggestion), dtype=bool, count=n)
+    # pairs (nearly all of them): whether each record is named alone, as arrays
+    two = np.flatnonzero(unsure & (n_rec == 2))
+    second = np.array([table_rows[k][1] for k in two.tolist()], dtype=np.int64)
+    named_first, named_second = alone[first[two]], alone[second]
+    move_k = two[named_second & ~named_first].tolist()
+    move_to = second[named_second & ~named_first].tolist()
+    neither = two[~named_first & ~named_second].tolist()
+    for k in np.flatnonzero(unsure & (n_rec > 2)).tolist():  # three records or more
+        named = [r for r in table_rows[k] if alone[r]]
+        if len(named) == 1 and named[0] != table_rows[k][0]:
+            move_k.append(k)
+            move_to.append(named[0])
     pending: dict[int, tuple[float, float]] = {}
-    for k, (sub, rec, sug) in enumerate(zip(subs, recs, findings.suggestion, strict=True)):
-        if len(rec) > 1 and not sug:
-            named = [r for r in rec if r in alone.get(sub, ())]
-            if len(named) == 1:
-                if named[0] != rec[0]:
-                    moves[k] = named[0]
-            elif not named and len(rec) == 2 and findings.check[k] in DISAGREEMENTS:
-                size_key, at_key = DISAGREEMENTS[findings.check[k]]
+    if witnesses is not None:
+        for k in neither:
+            if checks[k] in DISAGREEMENTS:
+                size_key, at_key = DISAGREEMENTS[checks[k]]
                 ev = findings.evidence[k]
                 size, at = ev.get(size_key), ev.get(at_key)
-                if size is not None and at is not None and witnesses is not None:
+                if size is not None and at is not None:
                     pending[k] = (abs(float(size)), float(at))
-    if not moves and not pending:
-        return
-    rows = ctx.rows_by_id(set(moves.values()) | {r for k in pending for r in recs[k]})
-    moved = [(k, rows[rid]) for k, rid in moves.items() if rid in rows]
-    if moved:  # the locations of the moved findings, in a few array operations
-        ks, at_rows = (np.array(v, dtype=np.int64) for v in zip(*moved, strict=True))
-        files = ctx.files_of(at_rows)
-        lines = ctx.line[at_rows].tolist()
-        for k, file, line in zip(ks.tolist(), files, lines, strict=True):
-            findings.file[k] = file
-            findings.line[k] = line
+    if move_k:  # the locations of the moved findings, as columns
+        at_rows = np.array(move_to, dtype=np.int64)
+        for name, values in (("file", ctx.files_of(at_rows)), ("line", ctx.line[at_rows].tolist())):
+            column = np.array(getattr(findings, name), dtype=object)
+            column[move_k] = values
+            setattr(findings, name, column.tolist())
     c = ctx.curves
     lo, hi = 1.0 - NEAR_RANGE, 1.0 + NEAR_RANGE
     for k, (size, at) in pending.items():
         f = findings[k]
         a, b = f.records
-        if a not in rows or b not in rows:
-            continue
+        rows = dict(zip(f.records, table_rows[k], strict=True))
         # a witness vouches for its curve where the two disagree only within (or near)
         # the curve's own range, and only as finely as its tolerance
         pins = [
@@ -175,6 +183,26 @@ def point_at_suspects(
         )
         if culprit != a:
             findings.set(k, **ctx.location(rows[culprit]))
+
+
+def _table_rows(ctx: AuditContext, findings: Findings) -> list[tuple[int, ...]]:
+    """The table rows of each finding's records: as the check gave them, else (for a
+    finding made by hand) looked up by id; empty when a record id is in no record.
+    """
+    out = findings.rows
+    missing = [
+        k
+        for k, (rec, rows) in enumerate(zip(findings.records, out, strict=True))
+        if len(rows) != len(rec)
+    ]
+    if not missing:
+        return out
+    out = list(out)
+    by_id = ctx.rows_by_id({r for k in missing for r in findings.records[k]})
+    for k in missing:
+        rec = findings.records[k]
+        out[k] = tuple(by_id[r] for r in rec) if all(r in by_id for r in rec) else ()
+    return out
 
 
 def coverage(ctx: AuditContext) -> dict[str, int]:

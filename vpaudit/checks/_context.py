@@ -356,8 +356,11 @@ class AuditContext:
         evidence: dict,
         records: tuple[str, ...] | None = None,
         severity: Severity | None = None,
+        rows: tuple[int, ...] | None = None,
     ) -> Finding:
-        """A finding about record ``row`` (and ``records`` when several are involved)."""
+        """A finding about record ``row`` (and ``records`` when several are involved, whose
+        table rows are ``rows`` when known).
+        """
         sev = severity or self._severities.get(check)
         if sev is None:
             sev = self._severities[check] = self.severity(check) or REGISTRY[check].severity
@@ -370,6 +373,7 @@ class AuditContext:
             evidence=_clean(evidence),
             file=str(self._files[self.file_code[int(row)]]),
             line=int(self.line[row]),
+            rows=(int(row),) if records is None else (rows or ()),
         )
 
     def findings(
@@ -380,6 +384,7 @@ class AuditContext:
         evidence: dict,
         records: list[tuple[str, ...]] | None = None,
         severity: Severity | None = None,
+        partners: np.ndarray | None = None,
     ) -> Findings:
         """One finding per record in ``rows``, built together: what :meth:`finding` does
         one at a time (the substance, the record id, the file and line), taken for all
@@ -388,6 +393,8 @@ class AuditContext:
         ``messages`` holds one sentence per row. ``evidence`` maps each key to a column
         (an array, one value per row; or a list, taken as it is) or to one value shared by
         all rows; float arrays become Python floats, with None where not finite.
+        ``records`` replaces each finding's record ids (the record's own by default);
+        ``partners`` gives a second record row for each, named second in ``records``.
         """
         rows = np.asarray(rows, dtype=np.int64)
         if rows.size == 0:
@@ -399,6 +406,12 @@ class AuditContext:
         subs = self._names.take(pa.array(np.maximum(codes, 0))).to_pylist()
         for i in np.flatnonzero(codes < 0).tolist():  # a record without a substance
             subs[i] = ""
+        if partners is not None:
+            table_rows = list(zip(rows.tolist(), np.asarray(partners).tolist(), strict=True))
+        elif records is None:
+            table_rows = [(r,) for r in rows.tolist()]
+        else:
+            table_rows = [()] * rows.size
         if records is None:
             records = [(i,) for i in self.ids(rows)]
         files = self.files_of(rows)
@@ -411,6 +424,7 @@ class AuditContext:
             _evidence_rows(evidence, rows.size),
             files,
             self.line[rows].tolist(),
+            table_rows,
         )
 
     def pair_findings(
@@ -428,7 +442,7 @@ class AuditContext:
         ks = np.asarray(ks, dtype=np.int64)
         s, lq = pr.solid[ks], pr.liquid[ks]
         records = list(zip(self.ids(s), self.ids(lq), strict=True))
-        return self.findings(check, s, messages, evidence, records, severity)
+        return self.findings(check, s, messages, evidence, records, severity, partners=lq)
 
     def ids(self, rows: np.ndarray) -> list[str]:
         """The ids of records ``rows``, as Python strings."""
@@ -498,6 +512,7 @@ class AuditContext:
             evidence,
             records=(self.id(s), self.id(lq)),
             severity=severity,
+            rows=(s, lq),
         )
 
 

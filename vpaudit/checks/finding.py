@@ -15,7 +15,7 @@ from typing import Any, overload
 
 from ._registry import Severity
 
-__all__ = ["Finding", "Findings", "FIELDS"]
+__all__ = ["Finding", "Findings", "FIELDS", "REPORTED"]
 
 
 @dataclass
@@ -50,6 +50,9 @@ class Finding:
         Set by the gate only: ``new``, ``existing`` or ``accepted`` against the base
         revision; None in an audit. It travels with the finding (``dataclasses.replace``
         keeps it) and is not part of the audit's JSON.
+    rows : tuple of int
+        The table rows of ``records``, in the same order, when the check knows them (empty
+        for a finding made by hand); for the audit's own use, not part of any report.
     """
 
     check: str
@@ -62,6 +65,7 @@ class Finding:
     file: str | None = None
     line: int | None = None
     status: str | None = None
+    rows: tuple[int, ...] = ()
 
     @property
     def key(self) -> tuple[str, str, tuple[str, ...]]:
@@ -110,7 +114,11 @@ FIELDS = (
     "file",
     "line",
     "status",
+    "rows",
 )
+
+#: The fields every report carries, in that order (not the gate's status or the rows).
+REPORTED = FIELDS[:9]
 
 #: Sorting position of each severity: errors first.
 _FIRST = {s: -s.rank for s in Severity}
@@ -134,7 +142,7 @@ class Findings:
         for name in FIELDS:
             col = columns.pop(name, None)
             if col is None:
-                col = [] if n is None else [None] * n
+                col = [] if n is None else [() if name == "rows" else None] * n
             if n is None:
                 n = len(col)
             elif len(col) != n:
@@ -162,6 +170,7 @@ class Findings:
         evidence: list[dict],
         file: list[str | None],
         line: list[int | None],
+        rows: list[tuple[int, ...]],
     ) -> Findings:
         """Rows of one check and one severity, from their other columns."""
         n = len(message)
@@ -176,6 +185,7 @@ class Findings:
             file=file,
             line=line,
             status=[None] * n,
+            rows=rows,
         )
 
     def __len__(self) -> int:
@@ -242,7 +252,7 @@ class Findings:
         from the columns; with ``status``, each with its gate status (``new`` when unset).
         """
         part = slice(start, stop)
-        columns = [getattr(self, name)[part] for name in FIELDS[:-1]]
+        columns = [getattr(self, name)[part] for name in REPORTED]
         out = [_as_dict(*row) for row in zip(*columns, strict=True)]
         if status:
             for d, s in zip(out, self.status[part], strict=True):

@@ -7,7 +7,7 @@ import io
 import json
 from collections.abc import Iterator
 
-from ..checks.finding import FIELDS
+from ..checks.finding import REPORTED
 
 COLUMNS = [
     "severity",
@@ -35,7 +35,7 @@ def chunks(result) -> Iterator[str]:
         if a == 0:
             w.writerow(COLUMNS)
         part = slice(a, a + CHUNK)
-        columns = (getattr(findings, name)[part] for name in FIELDS[:-1])
+        columns = (getattr(findings, name)[part] for name in REPORTED)
         for check, sev, sub, recs, msg, ev, sug, file, line in zip(*columns, strict=True):
             w.writerow(
                 [

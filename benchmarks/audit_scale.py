@@ -31,8 +31,14 @@ that size is measured) with one substance changed in a git commit's work tree, a
 the targets of the performance issue beside the measured values. Each measurement runs in
 its own process.
 
+With ``--kind replica`` the tables are copies of real published solid/liquid pairs with
+their D T terms and CRC references (:func:`synth.replicas`): the warnings and errors real
+equations draw come with them. The per-record script does not handle that form, so the
+baseline is not run there.
+
     python benchmarks/audit_scale.py                  # N = 1e3, 1e4, 1e5, 1e6
     python benchmarks/audit_scale.py --sizes 1000,100000
+    python benchmarks/audit_scale.py --kind replica --sizes 100000,1000000
 """
 
 from __future__ import annotations
@@ -256,9 +262,18 @@ def main() -> None:
     ap.add_argument("--sizes", default="1000,10000,100000,1000000")
     ap.add_argument("--workdir", default=None)
     ap.add_argument("--repeat", type=int, default=2, help="runs of floor and vpaudit (best kept)")
+    ap.add_argument(
+        "--kind",
+        choices=("synthetic", "replica"),
+        default="synthetic",
+        help="invented substances, or copies of real published pairs (no baseline)",
+    )
     args = ap.parse_args()
     sys.path.insert(0, str(HERE))
-    from synth import generate
+    from synth import generate, replicas
+
+    if args.kind == "replica":
+        generate = replicas  # noqa: F811  (the same call: folder, n, every_log_base)
 
     sizes = [int(float(s)) for s in args.sizes.split(",")]
     work = Path(args.workdir or tempfile.mkdtemp(prefix="vpaudit-bench-"))
@@ -266,7 +281,7 @@ def main() -> None:
         f"machine: {platform.machine()}, {os.cpu_count()} cores, Python "
         f"{platform.python_version()}, {platform.platform()}"
     )
-    tiny = work / "n10"
+    tiny = work / f"{args.kind}-n10"
     if not (tiny / "records" / "records.csv").exists():
         generate(tiny, 10)
     tiny_run = ("--child-vpaudit", str(tiny), str(tiny / "vp.json"), "0")
@@ -279,7 +294,7 @@ def main() -> None:
     )
     rows = {}
     for n in sizes:
-        folder = work / f"n{n}"
+        folder = work / f"{args.kind}-n{n}"
         if not (folder / "records" / "records.csv").exists():
             generate(folder, n)
         # the start-up is measured again beside each size, in the same turns
@@ -290,13 +305,23 @@ def main() -> None:
             ("--child-vpaudit", str(folder), str(folder / "vpaudit.json"), "0"),
         )
         diag, _ = _run("--child-vpaudit", str(folder), str(folder / "diagnosed.json"), "1000")
-        base, bi = _run("--child-baseline", str(folder), str(folder / "baseline.json"))
         found = json.loads((folder / "vpaudit.json").read_text())["findings"]
         ours = {c: sorted({f["substance"] for f in found if f["check"] == c}) for c in SHARED}
-        theirs = json.loads((folder / "baseline.json").read_text())
-        agree = all(ours[c] == theirs[c] for c in SHARED)
+        if args.kind == "synthetic":
+            base, bi = _run("--child-baseline", str(folder), str(folder / "baseline.json"))
+            theirs = json.loads((folder / "baseline.json").read_text())
+            agree = all(ours[c] == theirs[c] for c in SHARED)
+        else:  # the per-record script knows no D term
+            base, bi, theirs, agree = float("nan"), {"peak_mb": float("nan")}, ours, True
         above = max(vp - start, 0.0) / n * 1e6
-        rows[n] = {"floor": floor, "vp": vp, "base": base, "mb": vi["peak_mb"], "above": above}
+        rows[n] = {
+            "floor": floor,
+            "vp": vp,
+            "diag": diag,
+            "base": base,
+            "mb": vi["peak_mb"],
+            "above": above,
+        }
         print(
             f"{n:>9} {floor:>8.2f} {vp:>9.2f} {base:>10.2f} {vp / floor:>8.2f} "
             f"{base / vp:>7.1f} {vp / n * 1e6:>8.2f} {above:>6.2f} {vi['peak_mb']:>6.0f} "
@@ -305,7 +330,7 @@ def main() -> None:
         )
         flagged = {f["substance"] for f in found if f["severity"] in ("error", "warning")}
         per_diag = (diag - vp) / max(1, min(1000, len(flagged))) * 1e3
-        everything = work / f"n{n}-every-liquid-flagged"
+        everything = work / f"{args.kind}-n{n}-every-liquid-flagged"
         if not (everything / "records" / "records.csv").exists():
             generate(everything, n, every_log_base=True)
         ((vp3, _), (vp_all, _)) = _best(
@@ -331,21 +356,23 @@ def main() -> None:
             raise SystemExit("vpaudit and the baseline disagree")
     gate_n = 100_000 if 100_000 in sizes else None
     if gate_n:
-        wall, told = time_gate(work / f"n{gate_n}", work, args.repeat)
+        wall, told = time_gate(work / f"{args.kind}-n{gate_n}", work, args.repeat)
         rows["gate"] = wall
         print(f"gate on the {gate_n}-substance table, one record changed: {wall:.2f} s ({told})")
     _targets(rows)
 
 
 def _targets(rows: dict) -> None:
-    """The performance issue's targets beside what this run measured."""
+    """The core issue's performance targets beside what this run measured."""
     print("targets (measured by this run):")
     top = max((n for n in rows if isinstance(n, int)), default=None)
     if top is not None:
         r = rows[top]
-        print(f"  N={top}: within 2.5x of the floor: {r['vp'] / r['floor']:.2f}x")
-        print(f"  N={top}: at least 50x faster than the baseline: {r['base'] / r['vp']:.1f}x")
-        print(f"  N={top}: peak memory under 2048 MB: {r['mb']:.0f} MB")
+        print(f"  N={top}: checks only within 2.5x of the floor: {r['vp'] / r['floor']:.2f}x")
+        print(f"  N={top}: default audit within 4x of the floor: {r['diag'] / r['floor']:.2f}x")
+        if r["base"] == r["base"]:  # not NaN: the baseline ran
+            print(f"  N={top}: at least 25x faster than the baseline: {r['base'] / r['vp']:.1f}x")
+        print(f"  N={top}: peak memory under 1536 MB: {r['mb']:.0f} MB")
         if "all_flagged" in r:
             print(
                 f"  N={top}: every substance flagged within 1.5x of the 3 % table: "
@@ -360,7 +387,7 @@ def _targets(rows: dict) -> None:
             f"{min(flat):.2f}..{max(flat):.2f} us, +/-{(max(flat) - mid) / mid * 100:.0f} %"
         )
     if "gate" in rows:
-        print(f"  gate at 1e5 with one substance changed under 3 s: {rows['gate']:.2f} s")
+        print(f"  gate at 1e5 with one substance changed under 1.5 s: {rows['gate']:.2f} s")
 
 
 if __name__ == "__main__":

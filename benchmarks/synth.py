@@ -1,8 +1,16 @@
-"""Synthetic tables for benchmarks: N invented substances, a solid and a liquid record each.
+"""Tables for benchmarks, N substances of a solid and a liquid record each, of two kinds.
 
-The curves are consistent by construction (constant-dCp Clausius-Clapeyron integrals, or
-for a share of the liquids Antoine equations with the same slope, that meet at the melting
-point); a fraction of substances carries one planted defect. All values are invented.
+:func:`generate`: invented substances. The curves are consistent by construction
+(constant-dCp Clausius-Clapeyron integrals, or for a share of the liquids Antoine equations
+with the same slope, that meet at the melting point); a fraction of substances carries one
+planted defect. All values are invented.
+
+:func:`replicas`: tables made like real data. Each substance is a copy of a real published
+solid/liquid pair (the Alcock, Itkin & Horrigan (1984) metal equations with their D T term,
+as the chemicals package carries them), both constant terms shifted by the same amount so
+that the copies differ but each pair stays as consistent as the original, with the
+original's CRC melting point and enthalpy of fusion as references: the warnings and errors
+the real equations draw come with them.
 """
 
 from __future__ import annotations
@@ -140,3 +148,82 @@ def generate(
             w.writerow([names[i], "melting_point", f"{tm[i]:.6g}", "K", "synthetic"])
             w.writerow([names[i], "enthalpy_of_fusion", f"{hfus[i]:.6g}", "J/mol", "synthetic"])
     return {str(names[i]): str(defect[i]) for i in np.flatnonzero(pick)}
+
+
+REPLICA_HEADER = [*HEADER[:9], "D", *HEADER[9:]]
+
+
+def replicas(
+    folder: Path, n: int, slip_rate: float = 0.03, seed: int = 1, every_log_base: bool = False
+) -> dict:
+    """Write ``records/records.csv`` and ``references/references.csv`` for ``n`` copies of
+    the real Alcock metal pairs (see the module's docstring); returns {substance: slip} for
+    the planted ones. A share ``slip_rate`` of the substances carries one slip (log10
+    coefficients marked ln on the liquid, mmHg constants marked Pa on the solid, or a lost
+    sign of B on the solid); ``every_log_base`` puts the first on every liquid.
+    """
+    import sys
+
+    sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests" / "_support"))
+    from refdata import alcock_pairs
+
+    records, refs = alcock_pairs()
+    metals = sorted({r["substance"] for r in records})
+    pair = {(r["substance"], r["phase"]): r for r in records}
+    by_metal: dict[str, list[dict]] = {}
+    for ref in refs:
+        by_metal.setdefault(ref["substance"], []).append(ref)
+    rng = np.random.default_rng(seed)
+    which = rng.integers(0, len(metals), n)
+    shift = rng.uniform(-1.0, 1.0, n)
+    slip = np.full(n, "", dtype=object)
+    pick = rng.random(n) < slip_rate
+    slip[pick] = rng.choice(("log-base", "pressure-unit", "sign-B"), int(pick.sum()))
+    if every_log_base:
+        slip[:] = "log-base"
+    (folder / "records").mkdir(parents=True, exist_ok=True)
+    (folder / "references").mkdir(parents=True, exist_ok=True)
+    ln10, ln_mmhg = math.log(10.0), math.log(133.322)
+    with open(folder / "records" / "records.csv", "w", newline="") as fh:
+        w = csv.writer(fh, lineterminator="\n")
+        w.writerow(REPLICA_HEADER)
+        for i in range(n):
+            metal = metals[which[i]]
+            name = f"rep{i}-{metal}"
+            for phase in ("solid", "liquid"):
+                r = pair[(metal, phase)]
+                a, b, c, d = r["A"] + shift[i], r["B"], r["C"], r["D"]
+                if slip[i] == "log-base" and phase == "liquid":
+                    a, b, c, d = a / ln10, b / ln10, c / ln10, d / ln10
+                elif slip[i] == "pressure-unit" and phase == "solid":
+                    a -= ln_mmhg
+                elif slip[i] == "sign-B" and phase == "solid":
+                    b = -b
+                w.writerow(
+                    [
+                        f"{name}-{phase[0]}",
+                        name,
+                        phase,
+                        "four-term-t",
+                        "e",
+                        "Pa",
+                        f"{a:.9g}",
+                        f"{b:.9g}",
+                        f"{c:.9g}",
+                        f"{d:.9g}",
+                        f"{r['t_min']:.6g}",
+                        f"{r['t_max']:.6g}",
+                        "replica of a published equation",
+                        f"{r['uncertainty']}",
+                    ]
+                )
+    with open(folder / "references" / "references.csv", "w", newline="") as fh:
+        w = csv.writer(fh, lineterminator="\n")
+        w.writerow(["substance", "quantity", "value", "unit", "source"])
+        for i in range(n):
+            metal = metals[which[i]]
+            for ref in by_metal.get(metal, ()):
+                w.writerow(
+                    [f"rep{i}-{metal}", ref["quantity"], f"{ref['value']:.9g}", ref["unit"], "CRC"]
+                )
+    return {f"rep{i}-{metals[which[i]]}": str(slip[i]) for i in np.flatnonzero(slip != "")}

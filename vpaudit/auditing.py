@@ -365,15 +365,19 @@ def _run_one(ctx: AuditContext, name: str) -> Findings:
     findings one at a time (:class:`Finding`) or in blocks (:class:`Findings`).
     """
     out = Findings()
+    singles: list[Finding] = []  # joined to the table together, in the order yielded
     try:
         # overflow and NaN are handled explicitly by the checks (a non-finite value is a
         # finding, never a crash), so numpy's floating-point warnings are silenced here
         with np.errstate(all="ignore"):
             for part in REGISTRY[name].func(ctx):
                 if isinstance(part, Findings):
+                    out.extend(Findings.of(singles))
+                    singles = []
                     out.extend(part)
                 else:
-                    out.append(part)
+                    singles.append(part)
+        out.extend(Findings.of(singles))
         return out
     except Exception as exc:  # one broken check never hides the others
         return Findings.of(

@@ -14,6 +14,7 @@ from refdata import alcock_table
 from vpaudit.auditing import point_at_suspects
 from vpaudit.checks._context import AuditContext
 from vpaudit.checks._registry import Severity
+from vpaudit.checks.evidence import EvidenceColumn
 from vpaudit.checks.finding import FIELDS, Finding, Findings
 from vpaudit.policy import Policy
 
@@ -97,3 +98,39 @@ def test_a_pair_finding_moves_to_the_record_named_alone_with_or_without_rows(ctx
     point_at_suspects(ctx, lone)
     assert lone.line[0] == pair.line == int(ctx.line[s])
     assert np.all(ctx.line >= 1)
+
+
+columns = st.integers(1, 12).flatmap(
+    lambda n: st.tuples(
+        st.just(n),
+        st.lists(st.floats(allow_nan=True, allow_infinity=True), min_size=n, max_size=n).map(
+            np.array
+        ),
+        st.lists(st.booleans(), min_size=n, max_size=n).map(np.array),
+        st.lists(st.text(max_size=3), min_size=n, max_size=n),
+    )
+)
+
+
+@given(columns, columns, st.data())
+def test_the_evidence_column_behaves_as_its_list_of_dicts(one, two, data):
+    made, expected = EvidenceColumn(), []
+    for n, x, flag, word in (one, two):
+        made.extend(
+            EvidenceColumn.of_columns({"x_K": x, "flag": flag, "word": word, "k": np.inf}, n)
+        )
+        expected += [
+            {"x_K": v if np.isfinite(v) else None, "flag": f, "word": w, "k": None}
+            for v, f, w in zip(x.tolist(), flag.tolist(), word, strict=True)
+        ]
+    made.append({"hand": 1})
+    expected.append({"hand": 1})
+    assert made == expected and len(made) == len(expected)
+    assert all(type(d["flag"]) is bool for d in made if "flag" in d)
+    order = data.draw(st.permutations(range(len(expected))))
+    assert made.take(order) == [expected[i] for i in order]
+    part = made[1:-1]
+    part[0] = {"changed": True}
+    assert made == expected  # a slice is a copy
+    assert part == [{"changed": True}, *expected[2:-1]]
+    assert made[len(expected) - 1] == {"hand": 1}

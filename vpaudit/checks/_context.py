@@ -7,8 +7,6 @@ array code.
 
 from __future__ import annotations
 
-import itertools
-import math
 from functools import cached_property
 from typing import TYPE_CHECKING
 
@@ -24,6 +22,7 @@ from ..equations.engine import (
 from ..readers.table import Table
 from ..runtime import DEFAULT, Runtime, SharedBlocks, in_thread
 from ._registry import REGISTRY, Severity
+from .evidence import EvidenceColumn, clean
 from .extrema import RangeExtrema, extrema_over_ranges
 from .finding import Finding, Findings
 from .joins import match, same_key_pairs
@@ -421,7 +420,7 @@ class AuditContext:
             subs,
             list(records),
             list(messages),
-            _evidence_rows(evidence, rows.size),
+            EvidenceColumn.of_columns(evidence, rows.size),
             files,
             self.line[rows].tolist(),
             table_rows,
@@ -516,33 +515,6 @@ class AuditContext:
         )
 
 
-def _evidence_rows(evidence: dict, n: int) -> list[dict]:
-    """``n`` evidence dicts from columns (see :meth:`AuditContext.findings`)."""
-    if not evidence:
-        return [{} for _ in range(n)]
-    columns = []
-    for value in evidence.values():
-        if isinstance(value, np.ndarray):
-            col = value.tolist()
-            if value.dtype.kind == "f":
-                for i in np.flatnonzero(~np.isfinite(value)).tolist():
-                    col[i] = None
-        elif isinstance(value, list):
-            col = value
-        else:
-            col = itertools.repeat(_clean({"v": value})["v"], n)
-        columns.append(col)
-    keys = list(evidence)
-    return [dict(zip(keys, vals, strict=True)) for vals in zip(*columns, strict=True)]
-
-
 def _clean(evidence: dict) -> dict:
-    """Evidence as JSON-ready Python values: numpy scalars unwrapped, non-finite as None."""
-    for k, v in evidence.items():
-        if type(v) is float or type(v) is np.float64:
-            if not math.isfinite(v):
-                evidence[k] = None
-        elif isinstance(v, np.generic):
-            v = v.item()
-            evidence[k] = None if isinstance(v, float) and not math.isfinite(v) else v
-    return evidence
+    """Evidence as JSON-ready Python values (:func:`vpaudit.checks.evidence.clean`)."""
+    return clean(evidence)

@@ -13,7 +13,10 @@ from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass, field
 from typing import Any, overload
 
+import numpy as np
+
 from ._registry import Severity
+from .evidence import EvidenceColumn
 
 __all__ = ["Finding", "Findings", "FIELDS", "REPORTED"]
 
@@ -143,6 +146,8 @@ class Findings:
             col = columns.pop(name, None)
             if col is None:
                 col = [] if n is None else [() if name == "rows" else None] * n
+            if name == "evidence" and not isinstance(col, EvidenceColumn):
+                col = EvidenceColumn.of_dicts(col)
             if n is None:
                 n = len(col)
             elif len(col) != n:
@@ -154,10 +159,8 @@ class Findings:
     @classmethod
     def of(cls, rows: Iterable[Finding]) -> Findings:
         """A table of the findings ``rows``."""
-        out = cls()
-        for f in rows:
-            out.append(f)
-        return out
+        rows = list(rows)
+        return cls(**{name: [getattr(f, name) for f in rows] for name in FIELDS})
 
     @classmethod
     def block(
@@ -167,7 +170,7 @@ class Findings:
         substance: list[str],
         records: list[tuple[str, ...]],
         message: list[str],
-        evidence: list[dict],
+        evidence: EvidenceColumn,
         file: list[str | None],
         line: list[int | None],
         rows: list[tuple[int, ...]],
@@ -222,7 +225,7 @@ class Findings:
     def take(self, rows: Iterable[int]) -> Findings:
         """The table of rows ``rows``, in that order."""
         rows = list(rows)
-        return Findings(**{n: [getattr(self, n)[k] for k in rows] for n in FIELDS})
+        return Findings(**{n: _take(getattr(self, n), rows) for n in FIELDS})
 
     def append(self, f: Finding) -> None:
         """Add the finding ``f`` as the last row."""
@@ -278,5 +281,11 @@ class Findings:
             rows = list(self)
             order = sorted(range(len(self)), key=lambda i: key(rows[i]))
         for name in FIELDS:
-            col = getattr(self, name)
-            setattr(self, name, [col[i] for i in order])
+            setattr(self, name, _take(getattr(self, name), order))
+
+
+def _take(column, rows: list[int]):
+    """Rows ``rows`` of one column of :class:`Findings`."""
+    if isinstance(column, EvidenceColumn):
+        return column.take(np.asarray(rows, dtype=np.int64))
+    return [column[i] for i in rows]

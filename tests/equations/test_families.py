@@ -27,7 +27,15 @@ def test_every_family_of_the_registry_has_one_module_with_the_interface():
     assert FAMILY_CODES == {name: m.CODE for name, m in FAMILIES.items()}
     assert sorted(BY_CODE) == list(range(len(FAMILIES)))
     for m in FAMILIES.values():
-        for name in ("evaluate", "stationary", "model", "linear", "LOG_SCALED", "UNIT_IN_A"):
+        for name in (
+            "evaluate",
+            "stationary",
+            "model",
+            "linear",
+            "canonical",
+            "LOG_SCALED",
+            "UNIT_IN_A",
+        ):
             assert hasattr(m, name), (m.NAME, name)
         forms = [f for f, spec in FORMS.items() if spec.family == m.NAME]
         assert all(family_of(f) is m for f in forms)
@@ -40,6 +48,37 @@ def test_water_antoine_boils_at_100_degc():
     p = np.array([ANTOINE + [0.0] * 5])
     y, _, _ = FAMILIES["antoine"].evaluate(p, np.array([373.15]), 0)
     assert math.exp(y[0]) == pytest.approx(101325.0, rel=2e-3)
+
+
+def test_records_as_written_become_the_canonical_parameters():
+    """Each family's ``canonical``, through the engine: water's Antoine constants as the
+    textbook writes them (log10, mmHg, degC) and argon's Wagner 3,6 equation in log10 and
+    kPa give the parameters in ln, Pa and K above; a record of an unknown form stays zero.
+    """
+    import pandas as pd
+
+    from vpaudit.equations.engine import curves_from_frame
+
+    argon = pytest.importorskip("chemicals.vapor_pressure").Psat_data_WagnerMcGarry.loc["7440-37-1"]
+    row = dict.fromkeys(("A", "B", "C", "D", "E", "t_crit", "p_crit", "t_min", "t_max"), None)
+    frame = pd.DataFrame(
+        [
+            {**row, "form": "antoine", "log_base": "10", "pressure_unit": "mmHg",
+             "temperature_unit": "degC", "A": 8.07131, "B": 1730.63, "C": 233.426},
+            {**row, "form": "wagner-3-6", "log_base": "10", "pressure_unit": "kPa",
+             "temperature_unit": "K", "A": argon.A / LN10, "B": argon.B / LN10,
+             "C": argon.C / LN10, "D": argon.D / LN10, "t_crit": argon.Tc,
+             "p_crit": argon.Pc / 1000.0},
+            {**row, "form": "no-such-form", "log_base": "e", "pressure_unit": "Pa",
+             "temperature_unit": "K", "A": 1.0, "B": 2.0, "C": 3.0},
+        ]
+    )  # fmt: skip
+    c = curves_from_frame(frame)
+    wag = [argon.A, argon.B, argon.C, argon.D, 3.0, 6.0, argon.Tc, math.log(argon.Pc)]
+    assert c.params[0] == pytest.approx(ANTOINE + [0.0] * 5, rel=1e-12)
+    assert c.params[1] == pytest.approx(wag, rel=1e-12)
+    assert not c.params[2].any()
+    assert list(c.family) == [FAMILY_CODES["antoine"], FAMILY_CODES["wagner"], 0]
 
 
 def _cases():

@@ -28,7 +28,8 @@ from .._columns import codes, eq, lookup
 from ..constants import R
 from ..units import PRESSURE_UNITS, TEMPERATURE_UNITS
 from .families import BY_CODE, FAMILIES
-from .forms import FORMS, WAGNER
+from .families._common import Written
+from .forms import FORMS
 
 __all__ = [
     "ANTOINE",
@@ -142,56 +143,54 @@ def curves_from_frame(records: pd.DataFrame) -> Curves:
     specs = [FORMS.get(name) for name in form_names] + [None]
     known_t = np.array([sp is not None for sp in specs])
     family_t = np.array([FAMILY_CODES[sp.family] if sp else 0 for sp in specs], dtype=np.int8)
-    has_d_t = np.array(
-        [bool(sp) and sp.family == "log-linear" and "D" in sp.coefficients for sp in specs]
-    )
+    form_t = tuple(sp.name if sp else "" for sp in specs)
+    has_d_t = np.array([bool(sp) and "D" in sp.coefficients for sp in specs])
     exponent_t = np.array(
         [np.nan if not sp or sp.exponent is None else sp.exponent for sp in specs]
     )
-    e3_t, e4_t = (
-        np.array([WAGNER.get(sp.name if sp else "", (0.0, 0.0))[i] for sp in specs]) for i in (0, 1)
-    )
     k = np.where(form_code >= 0, form_code, len(form_names))
     family = family_t[k]
-    A, B, C, D, E = (_column(records, c) for c in "ABCDE")
-    wagner_any = bool((family_t[:-1] == WAGNER_FAMILY).any())
-    if wagner_any:
-        t_crit, p_crit = _column(records, "t_crit"), _column(records, "p_crit")
+    columns = {c: _column(records, c) for c in ("A", "B", "C", "D", "E", "t_crit", "p_crit")}
+    present = [code for code in BY_CODE if (family_t[:-1][known_t[:-1]] == code).any()]
+    need_d = bool(has_d_t[:-1].any())
     # Column-major: each parameter is one contiguous column, so the checks read A, B or C
-    # of all curves without striding over the other seven, and the columns no record
-    # uses (D and E without a D-term form, the Wagner slots without a Wagner record) are
-    # never written: their zero pages are never touched, 80 of the 128 MB at 2 x 10^6
-    # records (a fresh page costs more than the arithmetic on this project's machines).
+    # of all curves without striding over the other seven, and the slots no record uses (D
+    # and E without a D-term form, the Wagner slots without a Wagner record) are never
+    # written: their zero pages are never touched, 80 of the 128 MB at 2 x 10^6 records (a
+    # fresh page costs more than the arithmetic on this project's machines).
     params = np.zeros((n, NPARAM), order="F")
-    any_d = bool((has_d_t[:-1] | (family_t[:-1] == WAGNER_FAMILY)).any())
-    # Block by block, so that every temporary stays small and is reused; each element gets
-    # the same operations as it would form by form.
+    # Block by block, so that every temporary stays small and is reused; each family module
+    # makes its records' parameters (:func:`.families.log_linear.canonical`, ...).
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         for a in range(0, n, _BLOCK):
-            sl = slice(a, a + _BLOCK)
-            kk, lb, lf = k[sl], lnb[sl], lnf[sl]
-            fam = family[sl]
-            a_, b_, c_ = (np.nan_to_num(col[sl]) for col in (A, B, C))
-            ant, wag = fam == ANTOINE, fam == WAGNER_FAMILY
-            with_d = has_d_t[kk]
+            sl = slice(a, min(a + _BLOCK, n))
+            kk = k[sl]
+            fam, known = family[sl], known_t[kk]
+            block = {c: col[sl] for c, col in columns.items()}
+            for c in "ABCDE" if need_d else "ABC":  # D and E only where a form has them
+                block[c] = np.nan_to_num(block[c])
+            written = Written(
+                kk,
+                form_t,
+                has_d_t[kk],
+                exponent_t[kk],
+                *(block[c] for c in ("A", "B", "C", "D", "E", "t_crit", "p_crit")),
+                lnb[sl],
+                lnf[sl],
+                scale[sl],
+                offset[sl],
+            )
             p = params[sl]
-            p[:, 0] = np.where(wag, lb * a_, lb * a_ + lf)
-            p[:, 1] = lb * np.where(ant, scale[sl], 1.0) * b_
-            p[:, 2] = np.where(ant, scale[sl] * c_ - offset[sl], np.where(wag, lb * c_, c_))
-            if any_d:
-                d_, e_ = np.nan_to_num(D[sl]), np.nan_to_num(E[sl])
-                p[:, 3] = np.where(wag | with_d, lb * d_, 0.0)
-                expo = exponent_t[kk]
-                p[:, 4] = np.where(
-                    wag, e3_t[kk], np.where(with_d, np.where(np.isnan(expo), e_, expo), 0.0)
-                )
-            if wagner_any:  # Wagner forms are written in K
-                p[:, 5] = np.where(wag, e4_t[kk], 0.0)
-                p[:, 6] = np.where(wag, t_crit[sl], 0.0)
-                p[:, 7] = np.where(wag, np.log(p_crit[sl]) + lf, 0.0)
-            unknown = ~known_t[kk]
-            if unknown.any():
-                p[unknown] = 0.0
+            for code in present:
+                mine = known & (fam == code)
+                if not mine.any():
+                    continue
+                every = mine.all()
+                for slot, values in BY_CODE[code].canonical(written).items():
+                    if every:
+                        p[:, slot] = values
+                    else:
+                        np.copyto(p[:, slot], values, where=mine)
     t_min = _column(records, "t_min") * scale + offset
     t_max = _column(records, "t_max") * scale + offset
     return Curves(family, params, t_min, t_max)

@@ -13,12 +13,13 @@ it as their ``family``:
 * ``model(form, p, t, fixed)`` -- ln(P/Pa) and its gradient in the coefficients, for fitting,
   with ``design(form, t, fixed)`` (the design matrix) for the forms that are linear in their
   coefficients and ``start(form, t, y, w, wls)`` (a starting point) for the others;
+* ``canonical(written)`` -- the canonical parameters of records of the family from their
+  coefficients and conventions as written (:class:`._common.Written`), slot by slot;
 * ``LOG_SCALED`` and ``UNIT_IN_A`` -- which coefficients a change of log base multiplies, and
   whether a pressure unit shifts the constant term (else the critical pressure), for exact
   conversion; ``AFFINE_T`` -- whether the form may be written in degC or degF.
 
-A new family is one module here, its forms in ``forms.py`` and its canonical parameters in
-:func:`vpaudit.equations.engine.curves_from_frame`.
+A new family is one module here (listed in :data:`FAMILIES`) and its forms in ``forms.py``.
 """
 
 from __future__ import annotations

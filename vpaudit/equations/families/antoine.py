@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ._common import shaped
+from ._common import Written, shaped
 
 NAME = "antoine"
 CODE = 1
@@ -67,3 +67,15 @@ def start(form: str, t: np.ndarray, y: np.ndarray, w: np.ndarray, wls) -> np.nda
         if chi < best[0]:
             best = (chi, np.array([beta[0], beta[1], c]))
     return best[1]
+
+
+def canonical(w: Written) -> dict[int, np.ndarray]:
+    """The canonical parameters (slot -> values) of Antoine records as written: base 10
+    multiplies A and B by ln 10, a pressure unit adds ln(factor) to A, and theta in degC or
+    degF, T = s theta + o, gives B' = s B and C' = s C - o (degC: C' = C - 273.15).
+    """
+    return {
+        0: w.log_factor * w.A + w.ln_unit,
+        1: w.log_factor * w.scale * w.B,
+        2: w.scale * w.C - w.offset,
+    }

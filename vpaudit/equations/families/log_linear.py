@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ._common import shaped
+from ._common import Written, shaped
 
 NAME = "log-linear"
 CODE = 0
@@ -108,3 +108,16 @@ def start(form: str, t: np.ndarray, y: np.ndarray, w: np.ndarray, wls) -> np.nda
         if chi < best[0]:
             best = (chi, np.array([*beta, e]))
     return best[1]
+
+
+def canonical(w: Written) -> dict[int, np.ndarray]:
+    """The canonical parameters (slot -> values) of log-linear records as written: base 10
+    becomes base e by multiplying A, B and D by ln 10 while C (of log T) stays, since
+    ln 10 C log10 T = C ln T; a pressure unit adds ln(factor) to A. The D and E slots are
+    written only when some record has a D term (their pages stay untouched otherwise).
+    """
+    out = {0: w.log_factor * w.A + w.ln_unit, 1: w.log_factor * w.B, 2: w.C}
+    if w.has_d.any():
+        out[3] = np.where(w.has_d, w.log_factor * w.D, 0.0)
+        out[4] = np.where(w.has_d, np.where(np.isnan(w.exponent), w.E, w.exponent), 0.0)
+    return out

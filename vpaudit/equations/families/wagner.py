@@ -16,7 +16,7 @@ import math
 import numpy as np
 
 from ..forms import WAGNER
-from ._common import shaped
+from ._common import Written, shaped
 
 NAME = "wagner"
 CODE = 2
@@ -79,3 +79,21 @@ def model(form: str, p: np.ndarray, t: np.ndarray, fixed: dict):
 def linear(form: str) -> bool:
     """Linear in A, B, C, D once Tc and Pc are fixed."""
     return True
+
+
+def canonical(w: Written) -> dict[int, np.ndarray]:
+    """The canonical parameters (slot -> values) of Wagner records as written: base 10
+    multiplies all four coefficients by ln 10 (log10(P/Pc) is the left side), a pressure
+    unit converts the critical pressure, and the form fixes the last two exponents.
+    """
+    e3, e4 = (np.array([WAGNER.get(f, (0.0, 0.0))[i] for f in w.forms])[w.form] for i in (0, 1))
+    return {
+        0: w.log_factor * w.A,
+        1: w.log_factor * w.B,
+        2: w.log_factor * w.C,
+        3: w.log_factor * w.D,
+        4: e3,
+        5: e4,
+        6: w.t_crit,
+        7: np.log(w.p_crit) + w.ln_unit,
+    }

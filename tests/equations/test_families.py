@@ -33,11 +33,13 @@ def test_every_family_of_the_registry_has_one_module_with_the_interface():
             "model",
             "linear",
             "canonical",
+            "FORMS",
             "LOG_SCALED",
             "UNIT_IN_A",
         ):
             assert hasattr(m, name), (m.NAME, name)
         forms = [f for f, spec in FORMS.items() if spec.family == m.NAME]
+        assert forms == [spec.name for spec in m.FORMS]  # each form declared by its family
         assert all(family_of(f) is m for f in forms)
         assert set(m.LOG_SCALED) <= set().union(*(FORMS[f].coefficients for f in forms))
         assert m.AFFINE_T == any(len(FORMS[f].temperature_units) > 1 for f in forms)

@@ -1,10 +1,12 @@
 """One module per equation family: everything that depends on the shape of an equation.
 
-Each family module holds, for the forms of :data:`vpaudit.equations.forms.FORMS` that name
-it as their ``family``:
+Each family module holds, for its forms:
 
 * ``NAME`` and ``CODE`` -- the family's name in the form registry and its code in
   :class:`vpaudit.equations.engine.Curves`;
+* ``FORMS`` -- its equation forms (:class:`._common.FormSpec`: the coefficients each uses,
+  the equation as written, its temperature units), which
+  :data:`vpaudit.equations.forms.FORMS` gathers;
 * ``evaluate(params, t, order)`` -- y = ln(P/Pa) and its first and second derivatives in T
   from the canonical parameters (base e, Pa, K; the engine's module docstring lists them);
 * ``stationary(params)`` -- the temperature at which the implied dH or dCp of each curve
@@ -19,7 +21,7 @@ it as their ``family``:
   whether a pressure unit shifts the constant term (else the critical pressure), for exact
   conversion; ``AFFINE_T`` -- whether the form may be written in degC or degF.
 
-A new family is one module here (listed in :data:`FAMILIES`) and its forms in ``forms.py``.
+A new family is one module here, listed in :data:`FAMILIES`.
 """
 
 from __future__ import annotations

@@ -2,9 +2,42 @@
 
 from __future__ import annotations
 
+from dataclasses import dataclass
 from typing import NamedTuple
 
 import numpy as np
+
+
+@dataclass(frozen=True)
+class FormSpec:
+    """What one equation form needs.
+
+    Attributes
+    ----------
+    name : str
+        The ``form`` value in tables.
+    family : str
+        ``log-linear``, ``antoine`` or ``wagner``: which evaluator serves it.
+    coefficients : tuple of str
+        The coefficient columns the form uses; every one is required, all others must be empty.
+    equation : str
+        The equation as written in the table format (y = log P in the record's base).
+    temperature_units : tuple of str
+        Temperature units the form may be written in.
+    needs_critical : bool
+        Whether ``t_crit`` and ``p_crit`` are required.
+    exponent : float or None
+        For log-linear forms, the fixed exponent of the D term (D*T^E), or None when E is a
+        coefficient (``power-term``) or the form has no D term.
+    """
+
+    name: str
+    family: str
+    coefficients: tuple[str, ...]
+    equation: str
+    temperature_units: tuple[str, ...] = ("K",)
+    needs_critical: bool = False
+    exponent: float | None = None
 
 
 def shaped(p: np.ndarray, t: np.ndarray) -> np.ndarray:

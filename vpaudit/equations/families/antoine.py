@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ._common import Written, shaped
+from ._common import FormSpec, Written, shaped
 
 NAME = "antoine"
 CODE = 1
@@ -23,6 +23,16 @@ LOG_SCALED = ("A", "B")
 UNIT_IN_A = True
 #: May be written in degC or degF (an affine change of theta).
 AFFINE_T = True
+#: The forms of this family.
+FORMS = (
+    FormSpec(
+        "antoine",
+        NAME,
+        ("A", "B", "C"),
+        "y = A - B/(theta + C)",
+        temperature_units=("K", "degC", "degF"),
+    ),
+)
 
 
 def evaluate(p: np.ndarray, t: np.ndarray, order: int):

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ._common import Written, shaped
+from ._common import FormSpec, Written, shaped
 
 NAME = "log-linear"
 CODE = 0
@@ -20,6 +20,31 @@ LOG_SCALED = ("A", "B", "D")
 UNIT_IN_A = True
 #: Written in kelvin only (ln T needs an absolute temperature).
 AFFINE_T = False
+#: The forms of this family.
+FORMS = (
+    FormSpec("two-term", NAME, ("A", "B"), "y = A + B/T"),
+    FormSpec("three-term", NAME, ("A", "B", "C"), "y = A + B/T + C log T"),
+    FormSpec(
+        "four-term-t",
+        NAME,
+        ("A", "B", "C", "D"),
+        "y = A + B/T + C log T + D T",
+        exponent=1.0,
+    ),
+    FormSpec(
+        "four-term-cube",
+        NAME,
+        ("A", "B", "C", "D"),
+        "y = A + B/T + C log T + D/T^3",
+        exponent=-3.0,
+    ),
+    FormSpec(
+        "power-term",
+        NAME,
+        ("A", "B", "C", "D", "E"),
+        "y = A + B/T + C log T + D T^E",
+    ),
+)
 
 
 def evaluate(p: np.ndarray, t: np.ndarray, order: int):

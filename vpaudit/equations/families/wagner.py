@@ -15,8 +15,7 @@ import math
 
 import numpy as np
 
-from ..forms import WAGNER
-from ._common import Written, shaped
+from ._common import FormSpec, Written, shaped
 
 NAME = "wagner"
 CODE = 2
@@ -26,6 +25,25 @@ LOG_SCALED = ("A", "B", "C", "D")
 UNIT_IN_A = False
 #: Written in kelvin only.
 AFFINE_T = False
+#: The last two exponents (e3, e4) of each form.
+EXPONENTS = {"wagner-3-6": (3.0, 6.0), "wagner-2.5-5": (2.5, 5.0)}
+#: The forms of this family.
+FORMS = (
+    FormSpec(
+        "wagner-3-6",
+        NAME,
+        ("A", "B", "C", "D"),
+        "ln(P/Pc) = (Tc/T)(A tau + B tau^1.5 + C tau^3 + D tau^6), tau = 1 - T/Tc",
+        needs_critical=True,
+    ),
+    FormSpec(
+        "wagner-2.5-5",
+        NAME,
+        ("A", "B", "C", "D"),
+        "ln(P/Pc) = (Tc/T)(A tau + B tau^1.5 + C tau^2.5 + D tau^5), tau = 1 - T/Tc",
+        needs_critical=True,
+    ),
+)
 
 
 def evaluate(p: np.ndarray, t: np.ndarray, order: int):
@@ -64,7 +82,7 @@ def stationary(p: np.ndarray) -> None:
 def design(form: str, t: np.ndarray, fixed: dict) -> np.ndarray:
     """Design matrix: y - ln Pc = X @ (A, B, C, D), with Tc from ``fixed["t_crit"]``."""
     tc = fixed["t_crit"]
-    e3, e4 = WAGNER[form]
+    e3, e4 = EXPONENTS[form]
     tau = 1.0 - t / tc
     f = tc / t
     return np.column_stack([f * tau, f * tau**1.5, f * tau**e3, f * tau**e4])
@@ -86,7 +104,7 @@ def canonical(w: Written) -> dict[int, np.ndarray]:
     multiplies all four coefficients by ln 10 (log10(P/Pc) is the left side), a pressure
     unit converts the critical pressure, and the form fixes the last two exponents.
     """
-    e3, e4 = (np.array([WAGNER.get(f, (0.0, 0.0))[i] for f in w.forms])[w.form] for i in (0, 1))
+    e3, e4 = (np.array([EXPONENTS.get(f, (0.0, 0.0))[i] for f in w.forms])[w.form] for i in (0, 1))
     return {
         0: w.log_factor * w.A,
         1: w.log_factor * w.B,

@@ -144,13 +144,13 @@ def point_at_suspects(
             move_to.append(named[0])
     pending: dict[int, tuple[float, float]] = {}
     if witnesses is not None:
-        for k in neither:
-            if checks[k] in DISAGREEMENTS:
-                size_key, at_key = DISAGREEMENTS[checks[k]]
-                ev = findings.evidence[k]
-                size, at = ev.get(size_key), ev.get(at_key)
-                if size is not None and at is not None:
-                    pending[k] = (abs(float(size)), float(at))
+        asked = [k for k in neither if checks[k] in DISAGREEMENTS]
+        evidence = findings.evidence.dicts(np.array(asked, dtype=np.int64))
+        for k, ev in zip(asked, evidence, strict=True):
+            size_key, at_key = DISAGREEMENTS[checks[k]]
+            size, at = ev.get(size_key), ev.get(at_key)
+            if size is not None and at is not None:
+                pending[k] = (abs(float(size)), float(at))
     if move_k:  # the locations of the moved findings, as columns
         at_rows = np.array(move_to, dtype=np.int64)
         for name, values in (("file", ctx.files_of(at_rows)), ("line", ctx.line[at_rows].tolist())):

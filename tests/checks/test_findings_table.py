@@ -126,6 +126,7 @@ def test_the_evidence_column_behaves_as_its_list_of_dicts(one, two, data):
     made.append({"hand": 1})
     expected.append({"hand": 1})
     assert made == expected and len(made) == len(expected)
+    assert [made[i] for i in range(len(made))] == expected  # one row at a time
     assert all(type(d["flag"]) is bool for d in made if "flag" in d)
     order = data.draw(st.permutations(range(len(expected))))
     assert made.take(order) == [expected[i] for i in order]

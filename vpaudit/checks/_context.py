@@ -253,7 +253,8 @@ class AuditContext:
         ref_codes = self.ref_codes
         q_code, q_names = codes(refs["quantity"])
         u = refs["uncertainty"].to_numpy(dtype=float, na_value=np.nan)
-        units = refs["unit"].astype(object).to_numpy()
+        unit_code, unit_names = codes(refs["unit"])
+        unit_names = [str(n) for n in unit_names] + ["None"]  # code -1: an empty cell
         for k, q in enumerate(q_names):
             m = (q_code == k) & (ref_codes >= 0)
             kind = QUANTITY_UNITS.get(str(q), ("", ()))[0]
@@ -268,8 +269,13 @@ class AuditContext:
                 continue
             first_codes, first = np.unique(ref_codes[m], return_index=True)
             rows = np.flatnonzero(m)[first]
+            # each unit's factor once, for the units these rows use
+            used = unit_code[rows]
+            factor = np.full(len(unit_names), np.nan)
+            for c in np.unique(used).tolist():
+                factor[c] = scale(unit_names[c])
             arr = np.full(self.n_names, np.nan)
-            arr[first_codes] = [u[r] * scale(str(units[r])) for r in rows]
+            arr[first_codes] = u[rows] * factor[used]
             out[q] = arr
         return out
 

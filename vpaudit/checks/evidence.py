@@ -58,6 +58,18 @@ def _values(column, positions: np.ndarray) -> list:
     return [column[p] for p in positions.tolist()]
 
 
+def _value(column, position: int):
+    """One value of ``column``, as :func:`_values` gives it."""
+    if isinstance(column, _Shared):
+        return column.value
+    if isinstance(column, np.ndarray):
+        value = column[position].item()
+        if column.dtype.kind == "f" and not math.isfinite(value):
+            return None
+        return value
+    return column[position]
+
+
 class EvidenceColumn:
     """Evidence of each finding: rows of blocks of columns, or dicts given one by one.
 
@@ -114,7 +126,11 @@ class EvidenceColumn:
             return EvidenceColumn(
                 self._blocks, self._block[k].copy(), self._pos[k].copy(), self._own
             )
-        return self.dicts(np.array([k], dtype=np.int64))[0]
+        b, p = int(self._block[k]), int(self._pos[k])
+        if b < 0:
+            return self._own[p]
+        keys, columns = self._blocks[b]
+        return dict(zip(keys, (_value(c, p) for c in columns), strict=True))
 
     def __setitem__(self, k: int, value: dict) -> None:
         # the list of dicts only grows, so columns made from this one may share it

@@ -5,8 +5,11 @@ import json
 import shutil
 import subprocess
 
+import numpy as np
 import pytest
 from click.testing import CliRunner
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from vpaudit.cli import main
 from vpaudit.gate import gate
@@ -319,3 +322,56 @@ def test_a_malformed_accepted_file_is_a_located_error_not_a_crash(repo, text):
     (repo / "table" / "accepted.toml").write_text(text)
     out = run("gate", repo / "table", "--base", "base")
     assert out.exit_code == 2 and "accepted.toml" in out.output, out.output
+
+
+@settings(max_examples=60, deadline=None)
+@given(
+    st.lists(
+        st.tuples(st.sampled_from(["Fe", "Zn", "Cu", "Ag"]), st.sampled_from([1.0, 2.5, np.nan])),
+        min_size=0,
+        max_size=8,
+    ),
+    st.data(),
+)
+def test_changed_substances_are_those_whose_rows_differ_as_multisets(rows, data):
+    """The gate's row keys against the obvious oracle: the rows of each side as a multiset
+    of their contents (file and line left out); a substance changed iff one of its rows
+    is on one side more often than on the other."""
+    from collections import Counter
+    from types import SimpleNamespace
+
+    import pandas as pd
+
+    from vpaudit.gate import PARTS, _changed_substances
+
+    edited = list(rows)
+    for _ in range(data.draw(st.integers(0, 3))):
+        action = data.draw(st.sampled_from(["change", "drop", "add", "move"]))
+        if action == "add" or not edited:
+            edited.append((data.draw(st.sampled_from(["Fe", "Ni"])), 7.0))
+        elif action == "drop":
+            edited.pop(data.draw(st.integers(0, len(edited) - 1)))
+        elif action == "change":
+            k = data.draw(st.integers(0, len(edited) - 1))
+            edited[k] = (edited[k][0], 9.0)
+        else:
+            edited.reverse()
+
+    def table(content):
+        frame = pd.DataFrame(
+            {
+                "substance": pd.Series([s for s, _ in content], dtype="string[pyarrow]"),
+                "A": [a for _, a in content],
+                "file": ["f.csv"] * len(content),
+                "line": list(range(2, 2 + len(content))),
+            }
+        )
+        empty = frame.iloc[:0]
+        return SimpleNamespace(**{kind: frame if kind == "records" else empty for kind in PARTS})
+
+    def key(row):
+        return (row[0], "nan" if row[1] != row[1] else row[1])
+
+    before, after = Counter(map(key, rows)), Counter(map(key, edited))
+    expected = {k[0] for k in before.keys() | after.keys() if before[k] != after[k]}
+    assert _changed_substances(table(edited), table(rows)) == expected

@@ -126,12 +126,35 @@ def _table_at(table: Path, ref: str, into: Path) -> Path:
     return copy
 
 
-def _row_hashes(frame) -> np.ndarray:
-    """A 64-bit hash of each row's content: every field but where the row stands."""
+def _row_keys(head, base) -> tuple[np.ndarray, np.ndarray]:
+    """A 64-bit key of each row's content (every field but where the row stands), for the
+    rows of ``head`` and of ``base``: equal rows get equal keys. Each column is factorized
+    once over both sides, so a key is made of integer codes, not of the cells' text; rows
+    of two tables whose columns differ never match.
+    """
     import pandas as pd
 
-    cols = [c for c in frame.columns if c not in ("file", "line")]
-    return pd.util.hash_pandas_object(frame[cols], index=False).to_numpy()
+    cols = [c for c in head.columns if c not in ("file", "line")]
+    n = len(head)
+    key = np.zeros(n + len(base), dtype=np.uint64)
+    if cols != [c for c in base.columns if c not in ("file", "line")]:
+        key[n:] = 1  # another set of fields: no row of one side is a row of the other
+        cols = []
+    with np.errstate(over="ignore"):
+        for c in cols:
+            both = pd.concat([head[c], base[c]], ignore_index=True)
+            codes, _ = pd.factorize(both, use_na_sentinel=True)
+            key = _mix(key * np.uint64(0x9E3779B97F4A7C15) + (codes + 2).astype(np.uint64))
+    return key[:n], key[n:]
+
+
+def _mix(x: np.ndarray) -> np.ndarray:
+    """The splitmix64 finalizer (Steele, Lea & Flood 2014): spreads every input bit over
+    the 64 output bits, so keys of rows that differ in any code differ (collisions ~2^-64).
+    """
+    x = (x ^ (x >> np.uint64(30))) * np.uint64(0xBF58476D1CE4E5B9)
+    x = (x ^ (x >> np.uint64(27))) * np.uint64(0x94D049BB133111EB)
+    return x ^ (x >> np.uint64(31))
 
 
 def _policy_text(table: Table | None) -> str | None:
@@ -148,28 +171,29 @@ def _changed_substances(head: Table, base: Table) -> set[str]:
     added, removed or changed in any field marks its substance (on either side); a row that
     only moved, within its file or to another one, marks nothing.
     """
-    import pandas as pd
-
     out: set[str] = set()
     for kind in PARTS:
-        sides = []
-        for sign, table in ((1, head), (-1, base)):
-            frame = getattr(table, kind)
-            if len(frame):
-                sides.append(
-                    pd.DataFrame(
-                        {
-                            "substance": frame["substance"].astype(object).to_numpy(),
-                            "row": _row_hashes(frame),
-                            "sign": sign,
-                        }
-                    )
-                )
-        if not sides:
+        frames = [getattr(head, kind), getattr(base, kind)]
+        if not len(frames[0]) and not len(frames[1]):
             continue
-        rows = pd.concat(sides, ignore_index=True)
-        net = rows.groupby(["substance", "row"], sort=False, dropna=False)["sign"].sum()
-        out.update(str(s) for s in net[net != 0].index.get_level_values("substance"))
+        if not len(frames[1]) or not len(frames[0]):  # every row added, or every row removed
+            for frame in frames:
+                if len(frame):
+                    out.update(str(x) for x in frame["substance"].astype(object).to_numpy())
+            continue
+        # each row's key includes its substance: a key whose count differs between the two
+        # sides is a row added, removed or changed
+        keys = np.concatenate(_row_keys(*frames))
+        sign = np.repeat([1, -1], [len(frames[0]), len(frames[1])])
+        _, where = np.unique(keys, return_inverse=True)
+        net = np.bincount(where.ravel(), weights=sign)
+        differ = np.flatnonzero(net[where.ravel()] != 0)
+        n_head = len(frames[0])
+        for k, frame in enumerate(frames):
+            rows = differ[differ >= n_head] - n_head if k else differ[differ < n_head]
+            if rows.size:
+                names = frame["substance"].astype(object).to_numpy()[rows]
+                out.update(str(x) for x in names)
     return out
 
 

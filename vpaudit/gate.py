@@ -128,9 +128,9 @@ def _table_at(table: Path, ref: str, into: Path) -> Path:
 
 def _row_keys(head, base) -> tuple[np.ndarray, np.ndarray]:
     """A 64-bit key of each row's content (every field but where the row stands), for the
-    rows of ``head`` and of ``base``: equal rows get equal keys. Each column is factorized
-    once over both sides, so a key is made of integer codes, not of the cells' text; rows
-    of two tables whose columns differ never match.
+    rows of ``head`` and of ``base``: equal rows get equal keys. A text column is factorized
+    once over both sides and a number column read as its bits, so a key is made of integer
+    codes, not of the cells' text; rows of two tables whose columns differ never match.
     """
     import pandas as pd
 
@@ -142,9 +142,14 @@ def _row_keys(head, base) -> tuple[np.ndarray, np.ndarray]:
         cols = []
     with np.errstate(over="ignore"):
         for c in cols:
-            both = pd.concat([head[c], base[c]], ignore_index=True)
-            codes, _ = pd.factorize(both, use_na_sentinel=True)
-            key = _mix(key * np.uint64(0x9E3779B97F4A7C15) + (codes + 2).astype(np.uint64))
+            if head[c].dtype == np.float64 and base[c].dtype == np.float64:
+                # a number's bits are its code (-0.0 as 0.0, every NaN as one)
+                x = np.concatenate([head[c].to_numpy(), base[c].to_numpy()]) + 0.0
+                code = np.where(np.isnan(x), np.nan, x).view(np.uint64)
+            else:
+                both = pd.concat([head[c], base[c]], ignore_index=True)
+                code = (pd.factorize(both, use_na_sentinel=True)[0] + 2).astype(np.uint64)
+            key = _mix(key * np.uint64(0x9E3779B97F4A7C15) + code)
     return key[:n], key[n:]
 
 

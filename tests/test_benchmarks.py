@@ -38,3 +38,32 @@ def test_calibration_report_runs():
     )
     assert proc.returncode == 0, proc.stderr
     assert "Alcock" in proc.stdout and "preset compilation" in proc.stdout
+
+
+def test_replica_tables_copy_real_pairs_and_their_slips_are_flagged(tmp_path):
+    """benchmarks/synth.py::replicas: copies of the Alcock, Itkin & Horrigan (1984) metal
+    pairs (as chemicals carries them) with a constant shift keep each pair's verdicts, and
+    every planted slip (log base on the liquid, mmHg for Pa or a lost sign of B on the
+    solid) draws an error on its substance."""
+    sys.path.insert(0, str(ROOT / "benchmarks"))
+    from synth import replicas
+
+    from vpaudit import audit
+
+    slips = replicas(tmp_path / "t", 300, slip_rate=0.2, seed=5)
+    result = audit(tmp_path / "t", diagnose=False)
+    errors = {f.substance for f in result.findings if f.severity.value == "error"}
+    assert slips and set(slips) <= errors
+    assert set(slips.values()) == {"log-base", "pressure-unit", "sign-B"}
+    # the shift moves both curves of a pair together, so every clean copy of one metal
+    # draws the same checks as the others (those the real pair draws)
+    lines = (tmp_path / "t" / "records" / "records.csv").read_text().splitlines()
+    names = {line.split(",")[1] for line in lines}
+    checks: dict[str, set] = {n: set() for n in names - {"substance"} - set(slips)}
+    for f in result.findings:
+        if f.substance in checks:
+            checks[f.substance].add(f.check)
+    by_metal: dict[str, set] = {}
+    for name, found in checks.items():
+        by_metal.setdefault(name.split("-", 1)[1], set()).add(frozenset(found))
+    assert len(by_metal) > 20 and all(len(v) == 1 for v in by_metal.values())

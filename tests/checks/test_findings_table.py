@@ -74,8 +74,10 @@ def test_a_row_view_is_a_copy_and_set_changes_the_table():
     assert table[0].status == "accepted" and table[0].line == 7
     with pytest.raises(TypeError):
         table.set(0, colour="red")
-    with pytest.raises(ValueError):
-        Findings(check=["a"], message=[])
+    with pytest.raises(ValueError):  # columns of different lengths
+        Findings(check=["a"], severity=[Severity.note], substance=["x"], records=[()], message=[])
+    with pytest.raises(TypeError):  # a field without a default is missing
+        Findings(check=["a"], message=["m"])
 
 
 @pytest.fixture(scope="module")

@@ -25,10 +25,8 @@ __all__ = ["Finding", "Findings", "FIELDS", "REPORTED"]
 class Finding:
     """One suspect entry, with the numbers behind the verdict.
 
-    Treat a finding as a value: the diagnosis attaches its suggestion with
-    :func:`dataclasses.replace`, never by assignment (the gate's ``status`` aside). The
-    class is not frozen because a frozen dataclass sets each field through
-    ``object.__setattr__``, four times the cost (docs/performance.md).
+    A row of :class:`Findings` (a check may also yield one on its own). Taken from a
+    table it is a copy: change the table with :meth:`Findings.set`.
 
     Attributes
     ----------
@@ -123,6 +121,16 @@ FIELDS = (
 #: The fields every report carries, in that order (not the gate's status or the rows).
 REPORTED = FIELDS[:9]
 
+#: A fresh default of each field that has one (:class:`Finding`'s).
+_DEFAULTS = {
+    "evidence": dict,
+    "suggestion": lambda: None,
+    "file": lambda: None,
+    "line": lambda: None,
+    "status": lambda: None,
+    "rows": tuple,
+}
+
 #: Sorting position of each severity: errors first.
 _FIRST = {s: -s.rank for s in Severity}
 
@@ -141,20 +149,21 @@ class Findings:
     __slots__ = FIELDS
 
     def __init__(self, **columns: list) -> None:
-        n = None
+        unknown = set(columns) - set(FIELDS)
+        if unknown:
+            raise TypeError(f"unknown finding fields: {', '.join(sorted(unknown))}")
+        n = len(next(iter(columns.values()))) if columns else 0
         for name in FIELDS:
-            col = columns.pop(name, None)
-            if col is None:
-                col = [] if n is None else [() if name == "rows" else None] * n
+            col = columns.get(name)
+            if col is None:  # a field not given: its default in every row
+                if n and name not in _DEFAULTS:
+                    raise TypeError(f"the findings' {name!r} column is missing")
+                col = [_DEFAULTS[name]() for _ in range(n)] if n else []
             if name == "evidence" and not isinstance(col, EvidenceColumn):
                 col = EvidenceColumn.of_dicts(col)
-            if n is None:
-                n = len(col)
-            elif len(col) != n:
+            if len(col) != n:
                 raise ValueError(f"column {name!r} has {len(col)} rows, not {n}")
             setattr(self, name, col)
-        if columns:
-            raise TypeError(f"unknown finding fields: {', '.join(sorted(columns))}")
 
     @classmethod
     def of(cls, rows: Iterable[Finding]) -> Findings:

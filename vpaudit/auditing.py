@@ -91,13 +91,6 @@ class AuditResult:
             "substances_reaudited": self.gate.affected,
         }
 
-    def finding_dict(self, f: Finding) -> dict[str, Any]:
-        """One finding of :meth:`to_dict` (a gate's with its ``status``)."""
-        d = f.to_dict()
-        if self.gate is not None:
-            d["status"] = self.status_of(f)
-        return d
-
 
 @dataclass(frozen=True)
 class GateInfo:

@@ -375,7 +375,7 @@ class AuditContext:
             substance=self.substance_of(row),
             records=records if records is not None else (self.id(row),),
             message=message,
-            evidence=_clean(evidence),
+            evidence=clean(evidence),
             file=str(self._files[self.file_code[int(row)]]),
             line=int(self.line[row]),
             rows=(int(row),) if records is None else (rows or ()),
@@ -519,8 +519,3 @@ class AuditContext:
             severity=severity,
             rows=(s, lq),
         )
-
-
-def _clean(evidence: dict) -> dict:
-    """Evidence as JSON-ready Python values (:func:`vpaudit.checks.evidence.clean`)."""
-    return clean(evidence)

@@ -104,10 +104,6 @@ def _transpositions(text: str) -> list[tuple[int, str]]:
     return out
 
 
-def _fmt(value) -> str:
-    return str(value) if isinstance(value, str) else f"{value:g}"
-
-
 def candidates_for(
     rec: dict, row: int, partners: list[tuple[int, str]], log_prior: float = 0.0
 ) -> list[Candidate]:

@@ -18,6 +18,7 @@ from ._caution import CAUTION  # the caution every report carries (re-exported)
 from .checks._context import AuditContext
 from .checks._registry import REGISTRY, Severity, get_check, ordered
 from .checks.finding import Finding, Findings
+from .checks.hits import Hits
 from .checks.witness import DISAGREEMENTS, NEAR_RANGE, Witnesses, vouched
 from .policy import Policy, load_policy
 from .readers.table import Table
@@ -354,22 +355,35 @@ def run_checks(ctx: AuditContext, names: list[str], progress=None) -> Findings:
 
 
 def _run_one(ctx: AuditContext, name: str) -> Findings:
-    """The findings of one check, or its ``internal-error`` finding. A check yields
-    findings one at a time (:class:`Finding`) or in blocks (:class:`Findings`).
+    """The findings of one check, or its ``internal-error`` finding.
+
+    The check yields its hits (:mod:`vpaudit.checks.hits`): blocks (:class:`Hits`) or one
+    at a time (:class:`Hit`). Each becomes findings of this check, at the severity of its
+    declared tier under the policy, in the order yielded.
     """
+    spec = REGISTRY[name]
+    policy = ctx.policy.severity(name)
+    severities: dict[str | None, Severity] = {}
+
+    def severity(tier: str | None) -> Severity:
+        sev = severities.get(tier)
+        if sev is None:
+            sev = severities[tier] = spec.severity_under(policy, tier)
+        return sev
+
     out = Findings()
     singles: list[Finding] = []  # joined to the table together, in the order yielded
     try:
         # overflow and NaN are handled explicitly by the checks (a non-finite value is a
         # finding, never a crash), so numpy's floating-point warnings are silenced here
         with np.errstate(all="ignore"):
-            for part in REGISTRY[name].func(ctx):
-                if isinstance(part, Findings):
+            for hit in spec.func(ctx):
+                if isinstance(hit, Hits):
                     out.extend(Findings.of(singles))
                     singles = []
-                    out.extend(part)
+                    out.extend(ctx.findings(name, severity(hit.tier), hit))
                 else:
-                    singles.append(part)
+                    singles.append(ctx.finding(name, severity(hit.tier), hit))
         out.extend(Findings.of(singles))
         return out
     except Exception as exc:  # one broken check never hides the others

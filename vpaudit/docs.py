@@ -22,7 +22,9 @@ def _preset_values(name: str, key: str) -> dict[str, float]:
 
 
 def checks_json() -> str:
-    """The registry as JSON: name, severity, scope, summary, basis, thresholds."""
+    """The registry as JSON: name, severity (and the tiers some findings take instead),
+    scope, summary, basis, thresholds.
+    """
     data = []
     for spec in ordered():
         data.append(
@@ -30,6 +32,7 @@ def checks_json() -> str:
                 "name": spec.name,
                 "severity": spec.severity.value,
                 "escalates_to": spec.escalates_to.value if spec.escalates_to else None,
+                "tiers": {name: sev.value for name, sev in spec.tiers.items()},
                 "scope": spec.scope.value,
                 "summary": spec.summary,
                 "basis": spec.basis,
@@ -53,8 +56,8 @@ def checks_text(width: int = 100) -> str:
     """The registry for a terminal."""
     lines = []
     for spec in ordered():
-        sev = spec.severity.value + (
-            f", {spec.escalates_to.value} beyond error_above" if spec.escalates_to else ""
+        sev = spec.severity.value + "".join(
+            f", {tier.value} if {name}" for name, tier in spec.tiers.items()
         )
         lines.append(f"{spec.name}  [{sev}, per {spec.scope.value}]")
         lines += textwrap.wrap(spec.summary, width, initial_indent="    ", subsequent_indent="    ")
@@ -94,7 +97,7 @@ def checks_markdown() -> str:
             f"## `{spec.name}`",
             "",
             f"*Severity* `{spec.severity.value}`"
-            + (f" (`{spec.escalates_to.value}` beyond `error_above`)" if spec.escalates_to else "")
+            + "".join(f"; `{tier.value}` if {name}" for name, tier in spec.tiers.items())
             + f", *per* {spec.scope.value}. {spec.summary}",
             "",
             f"*Basis:* {spec.basis}",

@@ -145,3 +145,43 @@ def test_a_policy_that_lowers_a_check_lowers_its_escalated_tier_too(policy, expe
     pol = Policy("evaluated", {"heat-capacity-sign": policy} if policy else {})
     found = audit_table(table_from_rows([rec], []), pol, diagnose=False).findings
     assert {f.severity.value for f in found if f.check == "heat-capacity-sign"} == {expected}
+
+
+@pytest.mark.parametrize(
+    ("policy", "weak", "strong"),
+    [
+        (None, "note", "error"),  # the declared tiers
+        ("warning", "note", "error"),  # the check at its default
+        ("error", "note", "error"),  # raised: a milder tier stays as declared
+        ("note", "note", "note"),  # lowered: every tier is lowered, none left higher
+    ],
+)
+def test_a_tier_takes_its_severity_from_the_policy_as_declared(policy, weak, strong):
+    # a warning check with a milder (note) and a harsher (error) tier, made up here
+    from vpaudit.checks._registry import CheckSpec, Scope, Severity
+
+    spec = CheckSpec(
+        "made-up",
+        Severity.warning,
+        Scope.record,
+        "",
+        "",
+        {},
+        lambda ctx: iter(()),
+        tiers={"weak": Severity.note, "strong": Severity.error},
+    )
+    sev = None if policy is None else Severity(policy)
+    assert spec.severity_under(sev) is (sev or Severity.warning)
+    assert spec.severity_under(sev, "weak").value == weak
+    assert spec.severity_under(sev, "strong").value == strong
+    assert spec.escalates_to is Severity.error
+    with pytest.raises(KeyError):  # a tier the check did not declare
+        spec.severity_under(sev, "unknown")
+
+
+def test_every_declared_tier_differs_from_its_checks_severity():
+    from vpaudit.checks._registry import REGISTRY
+
+    for spec in REGISTRY.values():
+        for name, sev in spec.tiers.items():
+            assert sev is not spec.severity, (spec.name, name)

@@ -1,6 +1,7 @@
-"""Findings built together (AuditContext.findings, pair_findings) equal findings built one
-at a time (finding, pair_finding), on the Alcock, Itkin & Horrigan (1984) metal equations as
-carried by the chemicals package (tests/_support/refdata.py)."""
+"""Findings built together from a block of hits (AuditContext.findings of Hits, pair_hits)
+equal findings built one hit at a time (finding of a Hit, pair_hit), on the Alcock, Itkin &
+Horrigan (1984) metal equations as carried by the chemicals package
+(tests/_support/refdata.py)."""
 
 import numpy as np
 import pytest
@@ -8,6 +9,7 @@ from refdata import alcock_table
 
 from vpaudit.checks._context import AuditContext
 from vpaudit.checks._registry import Severity
+from vpaudit.checks.hits import Hit, Hits
 from vpaudit.policy import Policy
 
 
@@ -22,18 +24,23 @@ def test_record_findings_together_equal_one_at_a_time(ctx):
     flag = np.array([True, False, True, False])
     words = ["a", "b", "c", "d"]
     messages = [f"message {i}" for i in range(4)]
+    error = Severity.error
     together = ctx.findings(
         "slope-not-positive",
-        rows,
-        messages,
-        {"at_K": t, "flag": flag, "word": words, "limit": 0.5, "none": np.nan},
+        error,
+        Hits(
+            rows, messages, {"at_K": t, "flag": flag, "word": words, "limit": 0.5, "none": np.nan}
+        ),
     )
     one = [
         ctx.finding(
             "slope-not-positive",
-            int(r),
-            m,
-            {"at_K": t[i], "flag": flag[i], "word": words[i], "limit": 0.5, "none": np.nan},
+            error,
+            Hit(
+                int(r),
+                m,
+                {"at_K": t[i], "flag": flag[i], "word": words[i], "limit": 0.5, "none": np.nan},
+            ),
         )
         for i, (r, m) in enumerate(zip(rows, messages, strict=True))
     ]
@@ -47,15 +54,14 @@ def test_pair_findings_together_equal_one_at_a_time(ctx):
     ks = np.arange(len(ctx.pairs.solid))[::3]
     t = ctx.pairs.t_cross[ks]
     messages = [f"pair {k}" for k in ks]
-    together = ctx.pair_findings(
-        "melting-point-mismatch", ks, messages, {"crossing_K": t}, severity=Severity.note
-    )
+    note = Severity.note
+    hits = ctx.pair_hits(ks, messages, {"crossing_K": t})
+    together = ctx.findings("melting-point-mismatch", note, hits)
     one = [
-        ctx.pair_finding(
-            "melting-point-mismatch", int(k), m, {"crossing_K": t[i]}, severity=Severity.note
-        )
+        ctx.finding("melting-point-mismatch", note, ctx.pair_hit(int(k), m, {"crossing_K": t[i]}))
         for i, (k, m) in enumerate(zip(ks, messages, strict=True))
     ]
     assert together == one
     assert all(len(f.records) == 2 and f.severity is Severity.note for f in together)
-    assert ctx.findings("slope-not-positive", np.array([], dtype=int), [], {}) == []
+    empty = Hits(np.array([], dtype=int), [], {})
+    assert ctx.findings("slope-not-positive", Severity.error, empty) == []

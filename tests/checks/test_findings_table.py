@@ -16,6 +16,7 @@ from vpaudit.checks._context import AuditContext
 from vpaudit.checks._registry import Severity
 from vpaudit.checks.evidence import EvidenceColumn
 from vpaudit.checks.finding import FIELDS, Finding, Findings
+from vpaudit.checks.hits import Hit
 from vpaudit.policy import Policy
 
 ids = st.text(alphabet="abcz-19", min_size=1, max_size=4)
@@ -88,8 +89,9 @@ def ctx():
 def test_a_pair_finding_moves_to_the_record_named_alone_with_or_without_rows(ctx):
     k = 0
     s, lq = int(ctx.pairs.solid[k]), int(ctx.pairs.liquid[k])
-    pair = ctx.pair_finding("no-crossing", k, "the curves do not cross", {})
-    alone = ctx.finding("slope-not-positive", lq, "the liquid's slope", {})
+    error = Severity.error
+    pair = ctx.finding("no-crossing", error, ctx.pair_hit(k, "the curves do not cross", {}))
+    alone = ctx.finding("slope-not-positive", error, Hit(lq, "the liquid's slope", {}))
     assert pair.rows == (s, lq) and alone.rows == (lq,)
     for rows in ((s, lq), ()):  # as a check makes it, and as made by hand
         table = Findings.of([dataclasses.replace(pair, rows=rows), alone])

@@ -21,10 +21,11 @@ from ..equations.engine import (
 )
 from ..readers.table import Table
 from ..runtime import DEFAULT, Runtime, SharedBlocks, in_thread
-from ._registry import REGISTRY, Severity
+from ._registry import Severity
 from .evidence import EvidenceColumn, clean
 from .extrema import RangeExtrema, extrema_over_ranges
 from .finding import Finding, Findings
+from .hits import Hit, Hits
 from .joins import match, same_key_pairs
 from .pairs import MeltingSlopes, Pairs, find_pairs
 
@@ -93,7 +94,6 @@ class AuditContext:
             # equation is tested there (range-invalid warns that there is no range)
             ok[rows[~(lo[rows] == hi[rows])]] = False
         self.evaluable = ok
-        self._severities: dict[str, Severity] = {}
         self._pair_blocks: SharedBlocks | None = None
         self._melting: MeltingSlopes | None = None
 
@@ -324,89 +324,58 @@ class AuditContext:
         return given or bool(self.curves.is_wagner.any())
 
     # --- findings ------------------------------------------------------------------------
-    def severity(self, check: str) -> Severity | None:
-        """The policy's severity of ``check`` (None when turned off)."""
-        return self.policy.severity(check)
-
-    def at_most(self, check: str, cap: Severity) -> Severity:
-        """The policy's severity of ``check``, but no higher than ``cap``: for a check's
-        milder tier (a warning below its error bound), which a policy that lowers the check
-        must lower too, never raise.
-        """
-        sev = self.policy.severity(check) or cap
-        return sev if sev.rank <= cap.rank else cap
-
-    def escalated(self, check: str) -> Severity:
-        """The severity of ``check``'s higher tier (its declared ``escalates_to``, beyond
-        its ``error_above``): that tier while the policy keeps the check at its default
-        severity or raises it, the policy's severity when the policy lowers the check (a
-        lowered check is lowered in every tier, never left higher).
-        """
-        spec = REGISTRY[check]
-        sev = self.policy.severity(check) or spec.severity
-        top = spec.escalates_to or sev
-        if sev.rank < spec.severity.rank:
-            return sev
-        return top if top.rank > sev.rank else sev
-
     def thresholds(self, check: str) -> dict[str, float]:
         """The policy's thresholds of ``check``."""
         return self.policy.thresholds(check)
 
-    def finding(
-        self,
-        check: str,
-        row: int,
-        message: str,
-        evidence: dict,
-        records: tuple[str, ...] | None = None,
-        severity: Severity | None = None,
-        rows: tuple[int, ...] | None = None,
-    ) -> Finding:
-        """A finding about record ``row`` (and ``records`` when several are involved, whose
-        table rows are ``rows`` when known).
+    def pair_hits(
+        self, ks: np.ndarray, messages: list[str], evidence: dict, tier: str | None = None
+    ) -> Hits:
+        """:class:`Hits` about the pairs ``ks``: both record ids, located at the solid."""
+        pr = self.pairs
+        ks = np.asarray(ks, dtype=np.int64)
+        s, lq = pr.solid[ks], pr.liquid[ks]
+        records = list(zip(self.ids(s), self.ids(lq), strict=True))
+        return Hits(s, messages, evidence, records, partners=lq, tier=tier)
+
+    def finding(self, check: str, severity: Severity, hit: Hit) -> Finding:
+        """The finding of one :class:`Hit` of ``check`` (the runner's, with the severity it
+        gave the hit's tier): the substance, record id, file and line of its row, unless
+        the hit says otherwise.
         """
-        sev = severity or self._severities.get(check)
-        if sev is None:
-            sev = self._severities[check] = self.severity(check) or REGISTRY[check].severity
+        row = hit.row
+        if row is None:
+            substance, records, table_rows = hit.substance or "", hit.records or (), ()
+        else:
+            substance = self.substance_of(row)
+            records = hit.records if hit.records is not None else (self.id(row),)
+            table_rows = (int(row),) if hit.records is None else (hit.rows or ())
+        file, line = hit.file, hit.line
+        if file is None and row is not None:
+            file, line = str(self._files[self.file_code[int(row)]]), int(self.line[row])
         return Finding(
             check=check,
-            severity=sev,
-            substance=self.substance_of(row),
-            records=records if records is not None else (self.id(row),),
-            message=message,
-            evidence=clean(evidence),
-            file=str(self._files[self.file_code[int(row)]]),
-            line=int(self.line[row]),
-            rows=(int(row),) if records is None else (rows or ()),
+            severity=severity,
+            substance=substance,
+            records=records,
+            message=hit.message,
+            evidence=clean(hit.evidence),
+            file=file,
+            line=line,
+            rows=table_rows,
         )
 
-    def findings(
-        self,
-        check: str,
-        rows: np.ndarray,
-        messages: list[str],
-        evidence: dict,
-        records: list[tuple[str, ...]] | None = None,
-        severity: Severity | None = None,
-        partners: np.ndarray | None = None,
-    ) -> Findings:
-        """One finding per record in ``rows``, built together: what :meth:`finding` does
-        one at a time (the substance, the record id, the file and line), taken for all
-        rows in a few array operations, for checks that report thousands of records.
-
-        ``messages`` holds one sentence per row. ``evidence`` maps each key to a column
-        (an array, one value per row; or a list, taken as it is) or to one value shared by
-        all rows; float arrays become Python floats, with None where not finite.
-        ``records`` replaces each finding's record ids (the record's own by default);
-        ``partners`` gives a second record row for each, named second in ``records``.
+    def findings(self, check: str, severity: Severity, hits: Hits) -> Findings:
+        """The findings of a block of :class:`Hits` of ``check`` (the runner's, with the
+        severity it gave the block's tier): what :meth:`finding` does one at a time (the
+        substance, the record id, the file and line), taken for all rows in a few array
+        operations, for checks that report thousands of records. Float evidence columns
+        become Python floats, with None where not finite.
         """
-        rows = np.asarray(rows, dtype=np.int64)
+        rows = np.asarray(hits.rows, dtype=np.int64)
         if rows.size == 0:
             return Findings()
-        sev = severity or self._severities.get(check)
-        if sev is None:
-            sev = self._severities[check] = self.severity(check) or REGISTRY[check].severity
+        records, partners = hits.records, hits.partners
         codes = self.codes[rows]
         subs = self._names.take(pa.array(np.maximum(codes, 0))).to_pylist()
         for i in np.flatnonzero(codes < 0).tolist():  # a record without a substance
@@ -422,32 +391,15 @@ class AuditContext:
         files = self.files_of(rows)
         return Findings.block(
             check,
-            sev,
+            severity,
             subs,
             list(records),
-            list(messages),
-            EvidenceColumn.of_columns(evidence, rows.size),
+            list(hits.messages),
+            EvidenceColumn.of_columns(hits.evidence, rows.size),
             files,
             self.line[rows].tolist(),
             table_rows,
         )
-
-    def pair_findings(
-        self,
-        check: str,
-        ks: np.ndarray,
-        messages: list[str],
-        evidence: dict,
-        severity: Severity | None = None,
-    ) -> Findings:
-        """:meth:`findings` about the pairs ``ks`` (both record ids, located at the solid
-        record), as :meth:`pair_finding` makes them one at a time.
-        """
-        pr = self.pairs
-        ks = np.asarray(ks, dtype=np.int64)
-        s, lq = pr.solid[ks], pr.liquid[ks]
-        records = list(zip(self.ids(s), self.ids(lq), strict=True))
-        return self.findings(check, s, messages, evidence, records, severity, partners=lq)
 
     def ids(self, rows: np.ndarray) -> list[str]:
         """The ids of records ``rows``, as Python strings."""
@@ -504,18 +456,8 @@ class AuditContext:
         self.pairs  # noqa: B018  (made with the pairs, block by block)
         return self._melting
 
-    def pair_finding(
-        self, check: str, k: int, message: str, evidence: dict, severity: Severity | None = None
-    ) -> Finding:
-        """A finding about pair ``k`` (both record ids, located at the solid record)."""
+    def pair_hit(self, k: int, message: str, evidence: dict, tier: str | None = None) -> Hit:
+        """A :class:`Hit` about pair ``k``: both record ids, located at the solid."""
         pr = self.pairs
         s, lq = int(pr.solid[k]), int(pr.liquid[k])
-        return self.finding(
-            check,
-            s,
-            message,
-            evidence,
-            records=(self.id(s), self.id(lq)),
-            severity=severity,
-            rows=(s, lq),
-        )
+        return Hit(s, message, evidence, (self.id(s), self.id(lq)), (s, lq), tier)

@@ -92,7 +92,31 @@ class CheckSpec:
     thresholds: dict[str, Threshold]
     func: Callable[..., Iterator]
     doc: str = field(default="", compare=False)
-    escalates_to: Severity | None = None
+    tiers: dict[str, Severity] = field(default_factory=dict)
+
+    @property
+    def escalates_to(self) -> Severity | None:
+        """The severity of its harsher tier, if it declares one (for the check list)."""
+        top = [s for s in self.tiers.values() if s.rank > self.severity.rank]
+        return max(top, key=lambda s: s.rank) if top else None
+
+    def severity_under(self, policy: Severity | None, tier: str | None = None) -> Severity:
+        """The severity of a finding of this check in ``tier`` (None: the check's own)
+        when the policy gives the check ``policy`` (None: its default).
+
+        A milder tier never rises above the policy's severity; a harsher tier applies while
+        the policy keeps the check at its default or raises it, and a policy that lowers
+        the check lowers every tier. Raises KeyError for a tier the check did not declare.
+        """
+        sev = policy or self.severity
+        if tier is None:
+            return sev
+        level = self.tiers[tier]
+        if level.rank <= self.severity.rank:  # a milder tier
+            return sev if sev.rank <= level.rank else level
+        if sev.rank < self.severity.rank:  # a harsher tier of a lowered check
+            return sev
+        return level if level.rank > sev.rank else sev
 
 
 REGISTRY: dict[str, CheckSpec] = {}
@@ -105,7 +129,7 @@ def check(
     summary: str,
     basis: str,
     thresholds: tuple[Threshold, ...] = (),
-    escalates_to: Severity | None = None,
+    tiers: dict[str, Severity] | None = None,
 ):
     """Register a check function under ``name``.
 
@@ -123,10 +147,11 @@ def check(
         The published rule, law or source behind it.
     thresholds : tuple of Threshold
         Its tunable numbers and their defaults.
-    escalates_to : Severity, optional
-        The severity of its findings beyond its ``error_above`` threshold (a check that is
-        a warning by default and an error when far off); a policy that lowers the check
-        lowers these too (:meth:`AuditContext.escalated`).
+    tiers : dict, optional
+        Named severities other than ``severity`` that some of its findings take (a
+        warning where the evidence is weaker, an error beyond ``error_above``); a check
+        names the tier of what it found, and the runner gives the severity, the policy
+        applied (:meth:`CheckSpec.severity_under`).
     """
 
     def register(func):
@@ -141,7 +166,7 @@ def check(
             {t.name: t for t in thresholds},
             func,
             (func.__doc__ or "").strip(),
-            escalates_to,
+            dict(tiers or {}),
         )
         return func
 

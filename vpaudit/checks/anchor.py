@@ -24,6 +24,7 @@ from ..equations.engine import evaluate
 from ._context import AuditContext
 from ._registry import Scope, Severity, Threshold, check
 from ._text import kelvin, kj
+from .hits import Hit
 
 T_ANCHOR = 298.15
 LN_P0_BAR = float(np.log(1e5))
@@ -138,6 +139,7 @@ def _what(is_liquid: bool) -> str:
     "1.4 %) and Landolt's liquids (95 % within 17.7 %) against the CRC standard data "
     "carried by chemicals.",
     _ENTHALPY,
+    tiers={"below-error-above": Severity.warning},
 )
 def anchor_enthalpy(ctx: AuditContext):
     """A warning beyond ``tolerance`` times the reference, an error beyond ``error_above``
@@ -154,8 +156,7 @@ def anchor_enthalpy(ctx: AuditContext):
     for k in np.flatnonzero(bad):
         i = int(a["rows"][k])
         rel = (a["h"][k] - a["h_ref"][k]) / a["h_ref"][k]
-        yield ctx.finding(
-            "anchor-enthalpy",
+        yield Hit(
             i,
             f"extrapolated to 298.15 K with its own dCp (from {kelvin(a['edge'][k])}), the "
             f"curve implies dH_{_what(ctx.liquid[i])[:3]}(298) = {kj(a['h'][k])} against the "
@@ -169,7 +170,7 @@ def anchor_enthalpy(ctx: AuditContext):
                 "allowance_J_per_mol": allowed[k],
                 "extrapolated_from_K": a["edge"][k],
             },
-            severity=None if error[k] else ctx.at_most("anchor-enthalpy", Severity.warning),
+            tier=None if error[k] else "below-error-above",
         )
 
 
@@ -184,6 +185,7 @@ def anchor_enthalpy(ctx: AuditContext):
     "29 within 2.8 J/(mol K)) and Landolt's liquids (95 % within 13.8 J/(mol K)) against "
     "the CRC standard data carried by chemicals.",
     _ENTROPY,
+    tiers={"below-error-above": Severity.warning},
 )
 def anchor_entropy(ctx: AuditContext):
     """A warning beyond ``tolerance``, an error beyond ``error_above``, each plus
@@ -200,8 +202,7 @@ def anchor_entropy(ctx: AuditContext):
     for k in np.flatnonzero(bad):
         i = int(a["rows"][k])
         d = a["s"][k] - a["s_ref"][k]
-        yield ctx.finding(
-            "anchor-entropy",
+        yield Hit(
             i,
             f"extrapolated to 298.15 K with its own dCp (from {kelvin(a['edge'][k])}), the "
             f"curve implies the standard entropy of {_what(ctx.liquid[i])} dS0(298) = "
@@ -216,5 +217,5 @@ def anchor_entropy(ctx: AuditContext):
                 "allowance_J_per_mol_K": allowed[k],
                 "extrapolated_from_K": a["edge"][k],
             },
-            severity=None if error[k] else ctx.at_most("anchor-entropy", Severity.warning),
+            tier=None if error[k] else "below-error-above",
         )

@@ -43,8 +43,7 @@ def pair_not_checkable(ctx: AuditContext):
     """
     pr = ctx.pairs
     for k in np.flatnonzero(~pr.checkable):
-        yield ctx.pair_finding(
-            "pair-not-checkable",
+        yield ctx.pair_hit(
             k,
             f"the solid and liquid ranges stop {pr.extrapolation[k] * 100:.0f} % away from "
             f"the melting region near {kelvin(pr.anchor[k])}: the pair is not checked.",
@@ -67,6 +66,7 @@ def pair_not_checkable(ctx: AuditContext):
         ),
         Threshold("grid", 32, "-", "points of the sign-change scan of the window"),
     ),
+    tiers={"touching": Severity.warning},
 )
 def no_crossing(ctx: AuditContext):
     """The difference y_s - y_l is scanned for sign changes on a grid in 1/T over the
@@ -121,12 +121,11 @@ def no_crossing(ctx: AuditContext):
         }
         if near:
             evidence["tolerance_lnP"] = tol[sel]
-        yield ctx.pair_findings(
-            "no-crossing",
+        yield ctx.pair_hits(
             rows[sel],
             messages,
             evidence,
-            severity=ctx.at_most("no-crossing", Severity.warning) if near else None,
+            tier="touching" if near else None,
         )
 
 
@@ -145,8 +144,7 @@ def multiple_crossings(ctx: AuditContext):
     """
     pr = ctx.pairs
     for k in np.flatnonzero(pr.checkable & (pr.significant_crossings > 1)):
-        yield ctx.pair_finding(
-            "multiple-crossings",
+        yield ctx.pair_hit(
             k,
             f"the solid and liquid curves cross {int(pr.crossings[k])} times near the "
             f"melting point (the one nearest it at {kelvin(pr.t_cross[k])}), separating by more "
@@ -213,8 +211,7 @@ def crossing_orientation(ctx: AuditContext):
             strict=True,
         )
     ]
-    yield ctx.pair_findings(
-        "crossing-orientation",
+    yield ctx.pair_hits(
         sel,
         messages,
         {
@@ -283,8 +280,7 @@ def crossing_outside_range(ctx: AuditContext):
             t.tolist(), worst.tolist(), edge.tolist(), d.tolist(), which, strict=True
         )
     ]
-    yield ctx.pair_findings(
-        "crossing-outside-range",
+    yield ctx.pair_hits(
         sel,
         messages,
         {
@@ -327,6 +323,7 @@ def _widened_tolerance(ctx: AuditContext, ks: np.ndarray, t: np.ndarray, tol: fl
             "largest |ln P_s - ln P_l| at the melting point of curves that reach it",
         ),
     ),
+    tiers={"within-extrapolation-allowance": Severity.warning},
 )
 def melting_point_mismatch(ctx: AuditContext):
     """The primary triple-point test. A fixed tolerance on the crossing *temperature* fails
@@ -387,8 +384,7 @@ def melting_point_mismatch(ctx: AuditContext):
                 tk_.tolist(), tm_.tolist(), d_.tolist(), ktol_.tolist(), w_.tolist(), strict=True
             )
         ]
-        yield ctx.pair_findings(
-            "melting-point-mismatch",
+        yield ctx.pair_hits(
             ks,
             messages,
             {
@@ -399,7 +395,7 @@ def melting_point_mismatch(ctx: AuditContext):
                 "crossing_minus_melting_K": tk_ - tm_,
                 "tolerance_K": ktol_,
             },
-            severity=ctx.at_most("melting-point-mismatch", Severity.warning) if within else None,
+            tier="within-extrapolation-allowance" if within else None,
         )
 
 
@@ -423,8 +419,7 @@ def triple_pressure_mismatch(ctx: AuditContext):
         bad = pr.checkable & np.isfinite(diff) & (np.abs(diff) > tol)
     for k in np.flatnonzero(bad):
         d = diff[k]
-        yield ctx.pair_finding(
-            "triple-pressure-mismatch",
+        yield ctx.pair_hit(
             k,
             f"the curves cross at {pressure(np.exp(pr.y_cross[k]))} ({kelvin(pr.t_cross[k])}), "
             f"{ln_ratio(d)} away from the reference triple-point pressure "
@@ -483,8 +478,7 @@ def fusion_enthalpy_mismatch(ctx: AuditContext):
             strict=True,
         )
     ]
-    yield ctx.pair_findings(
-        "fusion-enthalpy-mismatch",
+    yield ctx.pair_hits(
         ks,
         messages,
         {
@@ -528,8 +522,7 @@ def fusion_entropy_implausible(ctx: AuditContext):
         f"{jk(dsk)}, outside the usual {th['min']:g}..{th['max']:g} J/(mol K)."
         for tk, dsk in zip(t.tolist(), ds.tolist(), strict=True)
     ]
-    yield ctx.pair_findings(
-        "fusion-entropy-implausible",
+    yield ctx.pair_hits(
         sel,
         messages,
         {"fusion_entropy_J_per_mol_K": ds, "crossing_K": t},
@@ -558,8 +551,7 @@ def range_gap(ctx: AuditContext):
         gap = (hi - lo) / at
         bad = pr.checkable & np.isfinite(at) & (gap > lim)
     for k in np.flatnonzero(bad):
-        yield ctx.pair_finding(
-            "range-gap",
+        yield ctx.pair_hit(
             k,
             f"no record covers {kelvin(lo[k])}..{kelvin(hi[k])}: the solid's range ends "
             f"{hi[k] - lo[k]:.4g} K ({gap[k] * 100:.1f} % of the melting point "

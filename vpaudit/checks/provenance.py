@@ -9,28 +9,24 @@ from .._columns import codes
 from ..equations.forms import COEFFICIENTS
 from ._context import AuditContext
 from ._registry import Scope, Severity, check
-from .finding import Finding
+from .hits import Hit
 
 __all__: list[str] = []
 
 
-def _problem_findings(
-    ctx: AuditContext, check_name: str, rules: list[str], severity: Severity | None = None
-):
+def _problem_hits(ctx: AuditContext, rules: list[str]):
+    """The reader's problems of ``rules``, each at its own file and line."""
     problems = ctx.table.problems
     if not len(problems):
         return
-    sev = severity or ctx.severity(check_name)
     for _, pr in problems.loc[problems["rule"].isin(rules)].iterrows():
         rid = pr["id"]
-        records = (str(rid),) if isinstance(rid, str) else ()
-        yield Finding(
-            check=check_name,
-            severity=sev,
+        yield Hit(
+            None,
+            f"{pr['message']}.",
+            {"field": pr["column"]},
+            records=(str(rid),) if isinstance(rid, str) else (),
             substance=str(pr["substance"]),
-            records=records,
-            message=f"{pr['message']}.",
-            evidence={"field": pr["column"]},
             file=str(pr["file"]),
             line=int(pr["line"]),
         )
@@ -45,7 +41,7 @@ def _problem_findings(
 )
 def missing_source(ctx: AuditContext):
     """An empty ``source`` field in any of the three kinds of rows."""
-    yield from _problem_findings(ctx, "missing-source", ["source"])
+    yield from _problem_hits(ctx, ["source"])
 
 
 def _equation_columns(ctx: AuditContext, rows=slice(None)):
@@ -83,13 +79,14 @@ def equation_hashes(ctx: AuditContext) -> np.ndarray:
     Scope.record,
     "Two records share an id, or the same equation is entered twice under two ids.",
     "Ids must be unique and stable; a duplicated entry counts one source twice.",
+    tiers={"same-equation-two-ids": Severity.warning},
 )
 def duplicate_record(ctx: AuditContext):
     """A repeated id is an error (the id is the record's identity in the store, in findings
     and in the gate). The same substance, phase, form, units and coefficients under two ids
     is reported as a warning: it counts one source twice in the consensus.
     """
-    yield from _problem_findings(ctx, "duplicate-record", ["duplicate-id"])
+    yield from _problem_hits(ctx, ["duplicate-id"])
     rec = ctx.table.records
     if not len(rec):
         return
@@ -118,12 +115,11 @@ def duplicate_record(ctx: AuditContext):
     for _, members in keys.groupby(list(cols), sort=False):
         group = members.index.to_numpy()
         ids = tuple(ctx.id(r) for r in group)
-        yield ctx.finding(
-            "duplicate-record",
+        yield Hit(
             int(group[0]),
             f"records {', '.join(ids)} hold the same equation: one source counted "
             f"{len(ids)} times.",
             {"records": len(ids)},
             records=ids,
-            severity=ctx.at_most("duplicate-record", Severity.warning),
+            tier="same-equation-two-ids",
         )

@@ -14,6 +14,7 @@ from ._context import LN_P_STANDARD, AuditContext, match
 from ._registry import Scope, Severity, Threshold, check
 from ._text import jk, kelvin, kj, ln_ratio
 from .extrapolation import allowance
+from .hits import Hit, Hits
 
 __all__: list[str] = []
 
@@ -24,6 +25,7 @@ __all__: list[str] = []
     Scope.record,
     "The validity range is missing, empty, below 0 K, or holds an Antoine pole.",
     "An equation is only defined on its stated range; the Antoine form diverges at theta = -C.",
+    tiers={"single-temperature": Severity.warning},
 )
 def range_invalid(ctx: AuditContext):
     """Report rule problems of the range read from the table (missing, empty, t_min <= 0 K,
@@ -45,16 +47,15 @@ def range_invalid(ctx: AuditContext):
         if row < 0:
             continue
         if pr.rule == "range" and t_min[row] == t_max[row]:
-            yield ctx.finding(
-                "range-invalid",
+            yield Hit(
                 int(row),
                 f"the range is a single temperature ({kelvin(t_min[row])}): the equation is "
                 "tested there only; give the range the source gives.",
                 {"field": pr.column},
-                severity=ctx.at_most("range-invalid", Severity.warning),
+                tier="single-temperature",
             )
             continue
-        yield ctx.finding("range-invalid", int(row), f"{pr.message}.", {"field": pr.column})
+        yield Hit(int(row), f"{pr.message}.", {"field": pr.column})
 
 
 @check(
@@ -64,6 +65,7 @@ def range_invalid(ctx: AuditContext):
     "ln P overflows, underflows or is not finite somewhere in the range.",
     "A double holds P between about 1e-308 and 1e308 Pa; outside, the value is lost.",
     (Threshold("max_abs_lnP", 700.0, "-", "largest |ln(P/Pa)| accepted"),),
+    tiers={"placeholder-lower-end": Severity.warning},
 )
 def pressure_not_finite(ctx: AuditContext):
     """Evaluate ln P at the ends of the range and at the stationary points of the curve; a
@@ -91,8 +93,7 @@ def pressure_not_finite(ctx: AuditContext):
         t_lo, t_hi = ctx.curves.t_min[i], ctx.curves.t_max[i]
         if at_bottom[i]:
             t_lim = temperature_at(ctx.curves.take([i]), np.array([-lim]), t_lo, t_hi)[0]
-            yield ctx.finding(
-                "pressure-not-finite",
+            yield Hit(
                 i,
                 f"ln(P/Pa) falls to {lo:.4g} at the bottom of the range ({kelvin(t_lo)}"
                 f"..{kelvin(t_hi)})"
@@ -101,11 +102,10 @@ def pressure_not_finite(ctx: AuditContext):
                 f"{hi:.4g} at the top, but no measurement gives pressures that low; the range's "
                 "lower end looks like a placeholder. Give the range the source measured.",
                 {"lnP_min": lo, "lnP_max": hi, "limit_lnP": lim},
-                severity=ctx.at_most("pressure-not-finite", Severity.warning),
+                tier="placeholder-lower-end",
             )
             continue
-        yield ctx.finding(
-            "pressure-not-finite",
+        yield Hit(
             i,
             f"ln(P/Pa) runs from {lo:.4g} to {hi:.4g} over {kelvin(t_lo)}.."
             f"{kelvin(t_hi)}: beyond +/-{lim:g}, or not finite, the pressure "
@@ -139,8 +139,7 @@ def slope_not_positive(ctx: AuditContext):
         "with temperature; a sign of the 1/T coefficient is the usual cause."
         for h, t in zip(h_min.tolist(), h_min_t.tolist(), strict=True)
     ]
-    yield ctx.findings(
-        "slope-not-positive",
+    yield Hits(
         sel,
         messages,
         {"enthalpy_min_J_per_mol": h_min, "at_K": h_min_t},
@@ -212,8 +211,7 @@ def enthalpy_implausible(ctx: AuditContext):
             strict=True,
         )
     ]
-    yield ctx.findings(
-        "enthalpy-implausible",
+    yield Hits(
         rows[sel],
         messages,
         {
@@ -252,7 +250,7 @@ def enthalpy_implausible(ctx: AuditContext):
             "for a record that states no uncertainty (else its own)",
         ),
     ),
-    escalates_to=Severity.error,
+    tiers={"beyond-error-above": Severity.error},
 )
 def heat_capacity_sign(ctx: AuditContext):
     """The implied dCp comes from the curvature and is poorly fixed by a narrow-range fit: small
@@ -282,9 +280,7 @@ def heat_capacity_sign(ctx: AuditContext):
     for k, i in enumerate(rows):
         cp, t = ex.cp_max[i], ex.cp_max_T[i]
         far = cp > th["error_above"] * factor[i]
-        sev = ctx.escalated("heat-capacity-sign") if far and bow[k] > u[k] else None
-        yield ctx.finding(
-            "heat-capacity-sign",
+        yield Hit(
             i,
             f"the implied dCp reaches {jk(cp)} at {kelvin(t)}; it should be negative "
             "(the condensed phase holds more heat than its vapour): check the sign of the "
@@ -301,7 +297,7 @@ def heat_capacity_sign(ctx: AuditContext):
                 "tolerance": th["tolerance"] * factor[i],
                 "bow_lnP": bow[k],
             },
-            severity=sev,
+            tier="beyond-error-above" if far and bow[k] > u[k] else None,
         )
 
 
@@ -361,8 +357,7 @@ def heat_capacity_magnitude(ctx: AuditContext):
     with np.errstate(invalid="ignore"):
         bad = ctx.evaluable & (mag > limit)
     for i in np.flatnonzero(bad):
-        yield ctx.finding(
-            "heat-capacity-magnitude",
+        yield Hit(
             i,
             f"the implied |dCp| reaches {jk(mag[i])} in the range, beyond the {limit[i]:g} "
             "J/(mol K) a condensed phase plausibly has: look for a slipped decimal in the log T "
@@ -389,6 +384,7 @@ def heat_capacity_magnitude(ctx: AuditContext):
             "relative margin beyond Tc allowed when the reference states no uncertainty",
         ),
     ),
+    tiers={"reference-doubted": Severity.warning},
 )
 def above_critical(ctx: AuditContext):
     """A liquid record whose t_max exceeds the critical temperature describes no equilibrium
@@ -435,8 +431,7 @@ def above_critical(ctx: AuditContext):
                 f" by more than the {th['tolerance'] * 100:g} % ({margin[i]:.3g} K) by which "
                 "independent evaluations of Tc differ"
             )
-        yield ctx.finding(
-            "above-critical",
+        yield Hit(
             i,
             f"the range ends at {kelvin(ctx.curves.t_max[i])}, above {whose} critical "
             f"temperature {kelvin(tc[i])}{beyond}, where no liquid exists.",
@@ -481,8 +476,7 @@ def _disputed_tc(ctx: AuditContext, row: int, tc: float, t_star: float, pc: floa
     """
     c = ctx.curves
     t_max = float(c.t_max[row])
-    return ctx.finding(
-        "above-critical",
+    return Hit(
         row,
         f"the range ends at {kelvin(t_max)}, above the reference critical temperature "
         f"{kelvin(tc)}; but the curve reaches the reference critical pressure {pc:.4g} Pa at "
@@ -496,7 +490,7 @@ def _disputed_tc(ctx: AuditContext, row: int, tc: float, t_star: float, pc: floa
             "reaches_critical_pressure_K": t_star,
             "likely_culprit": "reference",
         },
-        severity=ctx.at_most("above-critical", Severity.warning),
+        tier="reference-doubted",
     )
 
 
@@ -504,15 +498,10 @@ def _implausible_tc(ctx: AuditContext, row: int, tc: float):
     """``above-critical`` for a reference Tc below a liquid record's whole range: a warning
     that names the reference (at its own file and line) as the likely culprit.
     """
-    from .finding import Finding
-
     source, file, line = _reference_at(ctx, "critical_temperature", ctx.codes[row])
     c = ctx.curves
-    return Finding(
-        "above-critical",
-        ctx.at_most("above-critical", Severity.warning),
-        ctx.substance_of(row),
-        (ctx.id(row),),
+    return Hit(
+        row,
         f"the reference critical temperature {kelvin(tc)} ({source}) lies below the whole "
         f"range of {ctx.id(row)} ({kelvin(c.t_min[row])} to {kelvin(c.t_max[row])}); no "
         "liquid curve lies entirely above its critical point, so the reference value looks "
@@ -523,9 +512,9 @@ def _implausible_tc(ctx: AuditContext, row: int, tc: float):
             "t_max_K": float(c.t_max[row]),
             "likely_culprit": "reference",
         },
-        None,
-        file,
-        line,
+        tier="reference-doubted",
+        file=file,
+        line=line,
     )
 
 
@@ -716,6 +705,7 @@ def _reduced_pressure_reference(th, c, t, y, y1, t_implied):
             "a mismatch is an error (farther: a note)",
         ),
     ),
+    tiers={"extrapolated": Severity.note, "reference-doubted": Severity.warning},
 )
 def boiling_point_mismatch(ctx: AuditContext):
     """Compared in ln P, as for the melting point: ln P(T_b) - ln 101325 against k times
@@ -764,14 +754,13 @@ def boiling_point_mismatch(ctx: AuditContext):
         i = rows[k]
         far = dist[k] > th["near"]
         within = abs(d[k]) <= spread[k]
-        sev = None
+        tier = None
         if far:
-            sev = ctx.at_most("boiling-point-mismatch", Severity.note)
+            tier = "extrapolated"
         elif within or reduced[k]:
-            sev = ctx.at_most("boiling-point-mismatch", Severity.warning)
+            tier = "reference-doubted"
         if reduced[k] and not far:
-            yield ctx.finding(
-                "boiling-point-mismatch",
+            yield Hit(
                 i,
                 f"the reference normal boiling point {kelvin(t[k])} looks like a boiling "
                 f"point at reduced pressure, not the record: the curve gives "
@@ -791,7 +780,7 @@ def boiling_point_mismatch(ctx: AuditContext):
                     "entropy_at_implied_J_molK": s_imp[k],
                     "likely_culprit": "reference",
                 },
-                severity=sev,
+                tier=tier,
             )
             continue
         where = (
@@ -806,8 +795,7 @@ def boiling_point_mismatch(ctx: AuditContext):
                 else ""
             )
         )
-        yield ctx.finding(
-            "boiling-point-mismatch",
+        yield Hit(
             i,
             f"at the reference normal boiling point {kelvin(t[k])} the curve gives "
             f"{np.exp(y[k]):.4g} Pa instead of 101325 Pa, off by {ln_ratio(d[k])}; "
@@ -826,7 +814,7 @@ def boiling_point_mismatch(ctx: AuditContext):
                 "implied_boiling_point_K": t_implied[k],
                 "outside_range_fraction": dist[k],
             },
-            severity=sev,
+            tier=tier,
         )
 
 
@@ -853,19 +841,13 @@ def reference_contradicted(ctx: AuditContext):
     if not out.any():
         return
     t_implied = temperature_at(c, LN_P_STANDARD, 0.5 * c.t_min, 3.0 * c.t_max)
-    from .finding import Finding
-
     for code in np.unique(ctx.codes[rows[out]]):
         k = np.flatnonzero(out & (ctx.codes[rows] == code))
-        name = ctx.substance_of(rows[k[0]])
         source, file, line = _reference_at(ctx, "normal_boiling_point", code)
         implied = t_implied[k]
         ids = tuple(ctx.id(rows[j]) for j in k)
-        yield Finding(
-            "reference-contradicted",
-            Severity.warning,
-            name,
-            ids,
+        yield Hit(
+            int(rows[k[0]]),
             f"the reference normal boiling point {kelvin(t[k[0]])} ({source}) disagrees with "
             f"all {k.size} liquid records, which agree with each other: they reach 101325 Pa "
             f"at {kelvin(float(np.nanmean(implied)))} (off by {ln_ratio(float(d[k].mean()))} "
@@ -877,9 +859,9 @@ def reference_contradicted(ctx: AuditContext):
                 "difference_lnP": [float(x) for x in d[k]],
                 "tolerance_lnP": float(tol[k].min()),
             },
-            None,
-            file,
-            line,
+            records=ids,
+            file=file,
+            line=line,
         )
 
 
@@ -915,7 +897,7 @@ def _delta_z(ctx: AuditContext, rows: np.ndarray, t: np.ndarray, y: np.ndarray):
         Threshold("nonideal_allowance", 0.07, "-", "added when P > 10 kPa and dZ is unknown"),
         Threshold("error_above", 0.30, "-", "relative difference above which it is an error"),
     ),
-    escalates_to=Severity.error,
+    tiers={"beyond-error-above": Severity.error},
 )
 def enthalpy_mismatch(ctx: AuditContext):
     """Each reference enthalpy of vaporization (liquid records) or sublimation (solid
@@ -947,10 +929,8 @@ def enthalpy_mismatch(ctx: AuditContext):
         bad = inside & ~(np.abs(rel) <= tol)
     for k in np.flatnonzero(bad):
         i = rows[k]
-        sev = ctx.escalated("enthalpy-mismatch") if abs(rel[k]) > th["error_above"] else None
         what = "vaporization" if ctx.liquid[i] else "sublimation"
-        yield ctx.finding(
-            "enthalpy-mismatch",
+        yield Hit(
             i,
             f"the implied enthalpy of {what} at {kelvin(t[k])} is {kj(h[k])}, "
             f"{rel[k] * 100:+.1f} % from the reference {kj(ref[k])} "
@@ -964,7 +944,7 @@ def enthalpy_mismatch(ctx: AuditContext):
                 "tolerance": tol[k],
                 "at_K": t[k],
             },
-            severity=sev,
+            tier="beyond-error-above" if abs(rel[k]) > th["error_above"] else None,
         )
 
 
@@ -1021,8 +1001,7 @@ def points_misfit(ctx: AuditContext):
     worst = frame.loc[g["z"].idxmax()].set_index("row")
     for i, st in stats[stats["zmax"] > th["factor"]].iterrows():
         w = worst.loc[i]
-        yield ctx.finding(
-            "points-misfit",
+        yield Hit(
             int(i),
             f"{int(st['n'])} measured point(s) deviate by {st['rms']:.3g} in ln P (RMS); the "
             f"worst, at {kelvin(w['t'])}, by {ln_ratio(w['r'])}, {w['z']:.1f} times its "

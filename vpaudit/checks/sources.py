@@ -10,6 +10,7 @@ from ..equations.engine import evaluate
 from ._context import LN_P_STANDARD, AuditContext, same_key_pairs
 from ._registry import Scope, Severity, Threshold, check
 from ._text import kelvin, ln_ratio
+from .hits import Hit
 
 __all__: list[str] = []
 
@@ -134,8 +135,7 @@ def sources_disagree(ctx: AuditContext):
                     f"the reference normal boiling point ({kelvin(tb)}) sides with "
                     f"{ctx.id(ok)}: {ctx.id(where)} is off by {ln_ratio(off)} there."
                 )
-            yield ctx.finding(
-                "sources-disagree",
+            yield Hit(
                 where,
                 f"the two {ctx.phase_of(r)} records disagree by {ln_ratio(w.d)} at "
                 f"{kelvin(w.t)}, beyond their combined uncertainty ({w.tol:.3g} in ln P); " + judge,
@@ -143,8 +143,7 @@ def sources_disagree(ctx: AuditContext):
                 records=(ctx.id(pair[0]), ctx.id(pair[1])),
             )
         else:
-            yield ctx.finding(
-                "sources-disagree",
+            yield Hit(
                 r,
                 f"this record deviates from the median of {n - 1} other sources by "
                 f"{ln_ratio(w.d)} at {kelvin(w.t)}, {w.z:.1f} times the combined "

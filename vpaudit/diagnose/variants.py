@@ -333,6 +333,14 @@ def _prime_scores(outcomes: list[_Outcome], cal: dict) -> None:
         o.__dict__.setdefault("_scores", {})[key] = total
 
 
+def _severity(vctx: AuditContext, check: str, tier: str | None = None) -> Severity | None:
+    """The severity of ``check``'s findings in ``tier`` under the policy (None when the
+    policy turns the check off), as the runner gives it.
+    """
+    policy = vctx.policy.severity(check)
+    return None if policy is None else REGISTRY[check].severity_under(policy, tier)
+
+
 def _hard_failures(vctx: AuditContext, unit_of_code: np.ndarray, n: int) -> list:
     """Errors and warnings that some checks must report for each unit (pressure-not-finite,
     slope-not-positive, heat-capacity-sign, no-crossing, melting-point-mismatch), counted
@@ -352,12 +360,14 @@ def _hard_failures(vctx: AuditContext, unit_of_code: np.ndarray, n: int) -> list
             & (np.abs(ex.y_max) <= lim)
         )
         far = ex.cp_max > th["error_above"] * factor
-        cp = vctx.severity("heat-capacity-sign")
         tiers = [
-            (ev & ~finite, vctx.severity("pressure-not-finite")),
-            (ev & ~(ex.h_min > 0), vctx.severity("slope-not-positive")),
-            (ev & far, vctx.escalated("heat-capacity-sign") if cp else None),
-            (ev & (ex.cp_max > th["tolerance"] * factor) & ~far, cp),
+            (ev & ~finite, _severity(vctx, "pressure-not-finite")),
+            (ev & ~(ex.h_min > 0), _severity(vctx, "slope-not-positive")),
+            (ev & far, _severity(vctx, "heat-capacity-sign", "beyond-error-above")),
+            (
+                ev & (ex.cp_max > th["tolerance"] * factor) & ~far,
+                _severity(vctx, "heat-capacity-sign"),
+            ),
         ]
     # each at the severity the policy gives it (a lowered check counts for less)
     errors = np.zeros(vctx.n)
@@ -379,7 +389,7 @@ def _hard_failures(vctx: AuditContext, unit_of_code: np.ndarray, n: int) -> list
         mm[at] = ~(np.abs(d) <= tol)
         fails["melting-point-mismatch"] = mm
     for name, bad in fails.items():
-        sev = vctx.severity(name)
+        sev = _severity(vctx, name)
         if sev is not None and sev.rank >= 1:
             target = errors if sev is Severity.error else warnings
             np.add.at(target, pr.solid[bad], 1.0)

@@ -4,7 +4,9 @@ Data: the metallic elements of Alcock, Itkin & Horrigan (1984) via ``chemicals``
 liquid equations), CRC Handbook melting points and enthalpies of fusion via ``chemicals``,
 and fits to the IAPWS water curves via ``iapws``. Run:
 
-    python benchmarks/calibrate.py
+    python benchmarks/calibrate.py [--priors]
+
+``--priors`` prints only the rarities behind the diagnosis's priors.
 """
 
 from __future__ import annotations
@@ -17,7 +19,13 @@ from scipy.constants import R
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests" / "_support"))
 
-from refdata import alcock_table, table_from_rows, water_records, water_references  # noqa: E402
+from refdata import (  # noqa: E402
+    alcock_pairs,
+    alcock_table,
+    table_from_rows,
+    water_records,
+    water_references,
+)
 
 from vpaudit._columns import eq  # noqa: E402
 from vpaudit.auditing import audit_table  # noqa: E402
@@ -73,7 +81,7 @@ def report(table, label):
     print()
 
 
-if __name__ == "__main__":
+def report_evaluated():
     report(alcock_table(), "Alcock et al. (1984) metals, CRC melting points")
     s, l_, rs, rl = water_records()
     print(f"IAPWS water fits: max |residual| in ln P: ice {rs:.2e}, liquid {rl:.2e}")
@@ -113,5 +121,34 @@ def report_compilation():
     print("sources-disagree |d| of flagged records (evaluated preset):", quantiles(np.abs(z)))
 
 
+def report_priors():
+    """The rarities behind the diagnosis's priors (vpaudit/diagnose/candidates.py): how many
+    real log-linear equations with a log T term imply a positive dCp at the middle of their
+    range (in 1/T), per source: Alcock et al. (1984) solids and liquids, Perry's liquids."""
+    from compilations import perry
+
+    from vpaudit.equations.engine import curves_from_frame, heat_capacity_change
+
+    records, _ = alcock_pairs()
+    sets = {
+        "Alcock solids": [r for r in records if r["phase"] == "solid"],
+        "Alcock liquids": [r for r in records if r["phase"] == "liquid"],
+        "Perry liquids": perry()[0],
+    }
+    total = positive = 0
+    for name, recs in sets.items():
+        recs = [r for r in recs if r.get("C") not in (None, 0.0)]
+        c = curves_from_frame(table_from_rows(recs).records)
+        cp = heat_capacity_change(c, 2.0 / (1.0 / c.t_min + 1.0 / c.t_max))
+        n, k = len(recs), int((cp > 0).sum())
+        total, positive = total + n, positive + k
+        print(f"{name}: {k} of {n} with a log T term imply dCp > 0 at mid-range")
+    print(f"all: {positive} of {total} ({positive / total:.1%})")
+
+
 if __name__ == "__main__":
-    report_compilation()
+    if "--priors" in sys.argv:
+        report_priors()
+    else:
+        report_evaluated()
+        report_compilation()

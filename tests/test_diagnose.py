@@ -206,6 +206,36 @@ def test_a_lone_antoine_curve_in_degc_keeps_its_range_in_k():
     assert reproduces(rec, bad, sug, tol=1e-9)
 
 
+def test_a_lone_solid_in_bar_is_not_read_as_a_lost_sign_of_its_log_t_term():
+    # Alcock et al. (1984) solid cadmium (via chemicals: C = -0.8052, no D term, 298-594 K),
+    # its coefficients rewritten for bar and marked Pa, the only witness the CRC standard
+    # data of sublimation at 298.15 K (tests/_support/anchors.py). Flipping C to +0.8052
+    # shifts ln P at 298 K by 2 C ln T = 9.2, close to ln(1e5) = 11.5, and leaves the
+    # anchor within its allowance; but it turns the implied dCp of sublimation from -6.7
+    # to +6.7 J/(mol K), which 9 of 396 real log-linear equations have (candidates.py): the
+    # pressure unit must win
+    recs, _ = alcock("Cd")
+    solid = next(r for r in recs if r["phase"] == "solid")
+    bad = _convert_marked(solid, pressure_unit="bar")
+    refs = anchor_rows("7440-43-9", "Cd", "solid")
+    assert len(refs) == 2
+    sug, flagged = suggestion_for([bad], refs, solid["id"])
+    assert flagged and sug is not None
+    assert sug["kind"] == "pressure-unit" and sug["corrected"]["pressure_unit"] in ("bar", "atm")
+    # the prior alone: the sign fix of C is the rare kind of equation, the others are not
+    from vpaudit.diagnose.candidates import candidates_for, heat_capacity_mid
+
+    assert heat_capacity_mid(solid) == pytest.approx(-0.8052)
+    assert heat_capacity_mid(solid, "C", 0.8052) == pytest.approx(0.8052)
+    as_read = dict(solid, **{f"{c}_text": _text(solid[c]) for c in "ABCD"})
+    prior = {
+        (c.kind, c.changes[0].field): c.log_prior
+        for c in candidates_for(as_read, 0, [])
+        if c.kind == "sign"
+    }
+    assert prior[("sign", "C")] == pytest.approx(prior[("sign", "A")] + np.log(9 / 396))
+
+
 def test_a_clean_pair_gets_no_suggestion():
     recs, refs = alcock("Cu")  # Alcock Cu pair with CRC references: consistent
     result = audit_table(table_from_rows(recs, refs))

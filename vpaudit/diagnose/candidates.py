@@ -49,6 +49,13 @@ _POLE_NEAR_RANGE = math.log(0.003)
 _RANGE_ABOVE_BOILING = math.log(0.003)
 
 
+#: Log of how rare a real log-linear equation is whose implied dCp at the middle of its range
+#: (in 1/T) is positive: 9 of 396 with a log T term (none of the 33 solids and 3 of the 23
+#: liquids of Alcock et al. (1984), 6 of Perry's 340 liquids; benchmarks/calibrate.py
+#: --priors). The prior of a sign fix of C or D that would make it positive.
+_HEAT_CAPACITY_POSITIVE = math.log(9 / 396)
+
+
 @dataclass(frozen=True)
 class Change:
     """One cell of a corrected record: ``field`` of record ``row`` becomes ``value``
@@ -149,7 +156,8 @@ def candidates_for(
                     f"the coefficients give P in {u}, not {unit} (pressure_unit {unit} -> {u})",
                 )
             )
-    implausible: set[tuple[Change, ...]] = set()
+    # corrections that would give an equation real tables rarely hold: their log prior
+    implausible: dict[tuple[Change, ...], float] = {}
     if FAMILIES[spec.family].AFFINE_T:  # a form that may be written in degC or degF
         tu = rec.get("temperature_unit") or "K"
         s1, o1 = TEMPERATURE_UNITS[tu]
@@ -166,7 +174,7 @@ def candidates_for(
             tb = _antoine_boiling_point(rec, s2, o2) if rec["phase"] == "liquid" else math.nan
             if pole > 0.85 * (t_lo * s2 + o2) or t_lo * s2 + o2 > 1.2 * tb:
                 # constants and range both read in v
-                implausible.add((Change(row, "temperature_unit", v),))
+                implausible[(Change(row, "temperature_unit", v),)] = _POLE_NEAR_RANGE
             by_kind["temperature-unit"].append(
                 (
                     (Change(row, "temperature_unit", v),),
@@ -190,16 +198,17 @@ def candidates_for(
             )
             if pole > 0.85 * (t_lo * s1 + o1) or t_lo * s1 + o1 > 1.2 * tb:
                 # the range as written, in its own unit
-                implausible.add(tuple(changes))
+                implausible[tuple(changes)] = _POLE_NEAR_RANGE
     coeffs = [c for c in spec.coefficients if rec.get(c + "_text")]
     for c in coeffs:
         text = str(rec[c + "_text"])
         v = float(rec[c])
         if v != 0.0:
             new = _flip_sign(text)
-            by_kind["sign"].append(
-                ((Change(row, c, -v, new),), f"the sign of {c} was lost or added ({text} -> {new})")
-            )
+            change = (Change(row, c, -v, new),)
+            by_kind["sign"].append((change, f"the sign of {c} was lost or added ({text} -> {new})"))
+            if c in ("C", "D") and _turns_heat_capacity_positive(rec, c, -v):
+                implausible[change] = _HEAT_CAPACITY_POSITIVE
         for k in _DECIMAL_SHIFTS:
             new = _shift_text(text, k)
             if new is None or v == 0.0:
@@ -255,8 +264,9 @@ def candidates_for(
             by_kind["metadata-combination"].append(
                 (changes, " and ".join(label for _, _, label in combo))
             )
-            if any(ch in implausible for _, ch, _ in combo):
-                implausible.add(changes)
+            rare = [implausible[ch] for _, ch, _ in combo if ch in implausible]
+            if rare:
+                implausible[changes] = min(rare)
     out = []
     for kind, items in by_kind.items():
         # the kind's prior is shared among its distinct corrections: two names of one
@@ -270,9 +280,7 @@ def candidates_for(
                 kind,
                 row,
                 ch,
-                lp
-                - math.log(same[_canonical(ch)])
-                + (_POLE_NEAR_RANGE if ch in implausible else 0.0),
+                lp - math.log(same[_canonical(ch)]) + implausible.get(ch, 0.0),
                 label,
             )
             for ch, label in items
@@ -290,6 +298,36 @@ def _canonical(changes: tuple[Change, ...]) -> tuple:
         )
         for c in changes
     )
+
+
+def heat_capacity_mid(rec: dict, field: str | None = None, value: float = 0.0) -> float:
+    """The implied dCp/R of a log-linear record at the middle of its range in 1/T, with
+    ``field`` set to ``value`` when given (NaN for another family or no finite range).
+
+    For y = A + B/T + C ln T + D T^E in base e, dCp/R = C + D E (E + 1) T^E (a log10 form
+    has its D multiplied by ln 10 and its C unchanged, since C multiplies log T).
+    """
+    spec = FORMS[rec["form"]]
+    if FAMILIES[spec.family].NAME != "log-linear":
+        return math.nan
+    got = {k: rec.get(k) for k in ("C", "D", "E")}
+    if field is not None:
+        got[field] = value
+    try:
+        t = 2.0 / (1.0 / float(rec["t_min"]) + 1.0 / float(rec["t_max"]))
+        c = float(got["C"] or 0.0)
+        d = float(got["D"] or 0.0) * (math.log(10.0) if rec["log_base"] == "10" else 1.0)
+        e = spec.exponent if spec.exponent is not None else float(got["E"] or 0.0)
+        return c + d * e * (e + 1.0) * t**e if d else c
+    except (KeyError, TypeError, ValueError, ZeroDivisionError, OverflowError):
+        return math.nan
+
+
+def _turns_heat_capacity_positive(rec: dict, field: str, value: float) -> bool:
+    """Whether setting ``field`` to ``value`` turns the record's implied dCp at mid-range
+    from zero or negative (the usual sign) to positive.
+    """
+    return heat_capacity_mid(rec) <= 0.0 < heat_capacity_mid(rec, field, value)
 
 
 def _antoine_boiling_point(rec: dict, scale: float, offset: float) -> float:

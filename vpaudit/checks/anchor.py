@@ -17,6 +17,8 @@ dCp, so the allowance grows with the distance from the range: a fitted dCp is un
 
 from __future__ import annotations
 
+from typing import NamedTuple
+
 import numpy as np
 
 from ..constants import R
@@ -57,10 +59,42 @@ _ENTROPY = (
 )
 
 
-def anchor_values(ctx: AuditContext):
-    """For every record with a standard reference of its phase: rows, the implied dH and
-    dS0 at 298.15 K, the references, the distance of the extrapolation and the nearest
-    range edge. None when no record has one.
+class AnchorValues(NamedTuple):
+    """Each record with a standard reference of its phase, at 298.15 K (arrays, one value
+    per record in ``rows``).
+    """
+
+    rows: np.ndarray  # record rows
+    h: np.ndarray  # implied dH(298) [J/mol]
+    s: np.ndarray  # implied dS0(298) [J/(mol K)]
+    p: np.ndarray  # the curve's P(298) [Pa]
+    h_ref: np.ndarray  # standard dH(298) of the phase change, NaN if none [J/mol]
+    s_ref: np.ndarray  # standard dS0(298), NaN if none [J/(mol K)]
+    edge: np.ndarray  # the range edge nearest 298.15 K [K]
+    distance: np.ndarray  # |edge - 298.15 K|, the extrapolation [K]
+    ratio: np.ndarray  # edge / 298.15 K [-]
+
+
+class Allowances(NamedTuple):
+    """The anchor checks' bounds on |implied - reference| for :class:`AnchorValues`: the
+    warning bound with no extrapolation (``*_base``), the warning and error bounds grown
+    with the extrapolation, and where each is judged at all (``*_judged``).
+    """
+
+    h_base: np.ndarray  # [J/mol]
+    h_warn: np.ndarray
+    h_error: np.ndarray
+    h_judged: np.ndarray  # bool
+    s_base: np.ndarray  # [J/(mol K)]
+    s_warn: np.ndarray
+    s_error: np.ndarray
+    s_judged: np.ndarray  # bool
+
+
+def anchor_values(ctx: AuditContext) -> AnchorValues | None:
+    """For every record with a standard reference of its phase: the implied dH and dS0 at
+    298.15 K, the references, the distance of the extrapolation and the nearest range edge
+    (:class:`AnchorValues`). None when no record has one.
     """
     liquid = ctx.liquid
     h_ref = np.where(
@@ -82,39 +116,37 @@ def anchor_values(ctx: AuditContext):
         y, y1, _ = evaluate(c, np.full(rows.size, T_ANCHOR), order=1)
         h = R * T_ANCHOR**2 * y1
         s = h / T_ANCHOR + R * (y - LN_P0_BAR)
-    return {
-        "rows": rows,
-        "h": h,
-        "s": s,
-        "p": np.exp(y),
-        "h_ref": h_ref[rows],
-        "s_ref": s_ref[rows],
-        "edge": edge,
-        "distance": np.abs(edge - T_ANCHOR),
-        "ratio": edge / T_ANCHOR,
-    }
+    return AnchorValues(
+        rows=rows,
+        h=h,
+        s=s,
+        p=np.exp(y),
+        h_ref=h_ref[rows],
+        s_ref=s_ref[rows],
+        edge=edge,
+        distance=np.abs(edge - T_ANCHOR),
+        ratio=edge / T_ANCHOR,
+    )
 
 
-def allowances(ctx: AuditContext, a: dict) -> dict:
+def allowances(ctx: AuditContext, a: AnchorValues) -> Allowances:
     """The two checks' allowances for :func:`anchor_values` ``a`` (one definition, for the
-    checks and for the diagnosis, which weighs the same residuals): for ``h`` and ``s`` the
-    warning and error bounds on |implied - reference|, the warning bound with no
-    extrapolation (``h_base``, ``s_base``), and where each is judged at all.
+    checks and for the diagnosis, which weighs the same residuals).
     """
     th_h, th_s = ctx.thresholds("anchor-enthalpy"), ctx.thresholds("anchor-entropy")
     with np.errstate(invalid="ignore", divide="ignore"):
-        growth_h = th_h["cp_uncertainty"] * a["distance"]
-        growth_s = th_s["cp_uncertainty"] * np.log(a["ratio"])
-        return {
-            "h_base": th_h["tolerance"] * np.abs(a["h_ref"]),
-            "h_warn": th_h["tolerance"] * np.abs(a["h_ref"]) + growth_h,
-            "h_error": th_h["error_above"] * np.abs(a["h_ref"]) + growth_h,
-            "h_judged": np.isfinite(a["h_ref"]) & (a["ratio"] <= th_h["max_ratio"]),
-            "s_base": np.full_like(growth_s, th_s["tolerance"]),
-            "s_warn": th_s["tolerance"] + growth_s,
-            "s_error": th_s["error_above"] + growth_s,
-            "s_judged": np.isfinite(a["s_ref"]) & (a["ratio"] <= th_s["max_ratio"]),
-        }
+        growth_h = th_h["cp_uncertainty"] * a.distance
+        growth_s = th_s["cp_uncertainty"] * np.log(a.ratio)
+        return Allowances(
+            h_base=th_h["tolerance"] * np.abs(a.h_ref),
+            h_warn=th_h["tolerance"] * np.abs(a.h_ref) + growth_h,
+            h_error=th_h["error_above"] * np.abs(a.h_ref) + growth_h,
+            h_judged=np.isfinite(a.h_ref) & (a.ratio <= th_h["max_ratio"]),
+            s_base=np.full_like(growth_s, th_s["tolerance"]),
+            s_warn=th_s["tolerance"] + growth_s,
+            s_error=th_s["error_above"] + growth_s,
+            s_judged=np.isfinite(a.s_ref) & (a.ratio <= th_s["max_ratio"]),
+        )
 
 
 def _beyond(value, ref, warn, error, judged):
@@ -151,24 +183,24 @@ def anchor_enthalpy(ctx: AuditContext):
     if a is None:
         return
     al = allowances(ctx, a)
-    allowed = al["h_warn"]
-    bad, error = _beyond(a["h"], a["h_ref"], allowed, al["h_error"], al["h_judged"])
+    allowed = al.h_warn
+    bad, error = _beyond(a.h, a.h_ref, allowed, al.h_error, al.h_judged)
     for k in np.flatnonzero(bad):
-        i = int(a["rows"][k])
-        rel = (a["h"][k] - a["h_ref"][k]) / a["h_ref"][k]
+        i = int(a.rows[k])
+        rel = (a.h[k] - a.h_ref[k]) / a.h_ref[k]
         yield Hit(
             i,
-            f"extrapolated to 298.15 K with its own dCp (from {kelvin(a['edge'][k])}), the "
-            f"curve implies dH_{_what(ctx.liquid[i])[:3]}(298) = {kj(a['h'][k])} against the "
-            f"standard-table {kj(a['h_ref'][k])}: {rel * 100:+.1f} %, beyond the allowance of "
+            f"extrapolated to 298.15 K with its own dCp (from {kelvin(a.edge[k])}), the "
+            f"curve implies dH_{_what(ctx.liquid[i])[:3]}(298) = {kj(a.h[k])} against the "
+            f"standard-table {kj(a.h_ref[k])}: {rel * 100:+.1f} %, beyond the allowance of "
             f"{kj(allowed[k])}. Usual causes: log10 coefficients read as ln or the reverse "
             "(a factor 2.3), or an Antoine equation in degC marked K.",
             {
-                "enthalpy_J_per_mol": a["h"][k],
-                "reference_J_per_mol": a["h_ref"][k],
+                "enthalpy_J_per_mol": a.h[k],
+                "reference_J_per_mol": a.h_ref[k],
                 "relative_difference": rel,
                 "allowance_J_per_mol": allowed[k],
-                "extrapolated_from_K": a["edge"][k],
+                "extrapolated_from_K": a.edge[k],
             },
             tier=None if error[k] else "below-error-above",
         )
@@ -197,25 +229,25 @@ def anchor_entropy(ctx: AuditContext):
     if a is None:
         return
     al = allowances(ctx, a)
-    allowed = al["s_warn"]
-    bad, error = _beyond(a["s"], a["s_ref"], allowed, al["s_error"], al["s_judged"])
+    allowed = al.s_warn
+    bad, error = _beyond(a.s, a.s_ref, allowed, al.s_error, al.s_judged)
     for k in np.flatnonzero(bad):
-        i = int(a["rows"][k])
-        d = a["s"][k] - a["s_ref"][k]
+        i = int(a.rows[k])
+        d = a.s[k] - a.s_ref[k]
         yield Hit(
             i,
-            f"extrapolated to 298.15 K with its own dCp (from {kelvin(a['edge'][k])}), the "
+            f"extrapolated to 298.15 K with its own dCp (from {kelvin(a.edge[k])}), the "
             f"curve implies the standard entropy of {_what(ctx.liquid[i])} dS0(298) = "
-            f"{a['s'][k]:.1f} J/(mol K) (P = {a['p'][k]:.3g} Pa) against the standard-table "
-            f"{a['s_ref'][k]:.1f} J/(mol K): off by {d:+.1f}, beyond the allowance of "
+            f"{a.s[k]:.1f} J/(mol K) (P = {a.p[k]:.3g} Pa) against the standard-table "
+            f"{a.s_ref[k]:.1f} J/(mol K): off by {d:+.1f}, beyond the allowance of "
             f"{allowed[k]:.3g}. Usual cause: a wrong pressure unit (R ln of the factor: 40.7 "
             "J/(mol K) for Torr read as Pa, 57 for kPa, 96 for atm or bar).",
             {
-                "entropy_J_per_mol_K": a["s"][k],
-                "reference_J_per_mol_K": a["s_ref"][k],
+                "entropy_J_per_mol_K": a.s[k],
+                "reference_J_per_mol_K": a.s_ref[k],
                 "difference_J_per_mol_K": d,
                 "allowance_J_per_mol_K": allowed[k],
-                "extrapolated_from_K": a["edge"][k],
+                "extrapolated_from_K": a.edge[k],
             },
             tier=None if error[k] else "below-error-above",
         )

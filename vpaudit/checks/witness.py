@@ -69,13 +69,13 @@ def vouched(ctx: AuditContext) -> Witnesses:
         al = allowances(ctx, a)
         with np.errstate(invalid="ignore"):
             ok = (
-                al["h_judged"]
-                & al["s_judged"]
-                & (np.abs(a["h"] - a["h_ref"]) <= al["h_warn"])
-                & (np.abs(a["s"] - a["s_ref"]) <= al["s_warn"])
+                al.h_judged
+                & al.s_judged
+                & (np.abs(a.h - a.h_ref) <= al.h_warn)
+                & (np.abs(a.s - a.s_ref) <= al.s_warn)
             )
-        rows = a["rows"][ok]
-        resolution[rows] = al["s_warn"][ok] / R
+        rows = a.rows[ok]
+        resolution[rows] = al.s_warn[ok] / R
         kind[rows] = 2
     got = _boiling_residuals(ctx)
     if got is not None:

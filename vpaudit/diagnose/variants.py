@@ -227,15 +227,13 @@ def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
         # no cut at max_ratio here: a candidate must not escape the evidence by moving its
         # range away from 298.15 K (the allowance still grows with the distance)
         for value, ref, allow, base in (
-            (a["h"], a["h_ref"], al["h_warn"], al["h_base"]),
-            (a["s"], a["s_ref"], al["s_warn"], al["s_base"]),
+            (a.h, a.h_ref, al.h_warn, al.h_base),
+            (a.s, a.s_ref, al.s_warn, al.s_base),
         ):
             m = np.isfinite(ref)
             # widened with the extrapolation: an Antoine range read in degC, farther from
             # 298.15 K, gains nothing by its wider allowance
-            add_widened(
-                ctx.codes[a["rows"][m]], value[m] - ref[m], 0.5 * allow[m], allow[m] / base[m]
-            )
+            add_widened(ctx.codes[a.rows[m]], value[m] - ref[m], 0.5 * allow[m], allow[m] / base[m])
     # other sources of the same substance and phase, at the middle of the common range
     key = np.where(ctx.evaluable, ctx.codes * 2 + ctx.liquid, -1)
     ev = np.flatnonzero(key >= 0)

@@ -97,15 +97,15 @@ def _anchor_lines(ctx) -> list[str]:
     if a is None:
         return []
     rows = []
-    for k, i in enumerate(a["rows"].tolist()):
+    for k, i in enumerate(a.rows.tolist()):
         rows.append(
             [
                 ctx.id(i),
-                f"{a['h'][k] / 1e3:.4g}",
-                f"{a['h_ref'][k] / 1e3:.4g}" if np.isfinite(a["h_ref"][k]) else "-",
-                f"{a['s'][k]:.4g}",
-                f"{a['s_ref'][k]:.4g}" if np.isfinite(a["s_ref"][k]) else "-",
-                f"{a['edge'][k]:.5g}",
+                f"{a.h[k] / 1e3:.4g}",
+                f"{a.h_ref[k] / 1e3:.4g}" if np.isfinite(a.h_ref[k]) else "-",
+                f"{a.s[k]:.4g}",
+                f"{a.s_ref[k]:.4g}" if np.isfinite(a.s_ref[k]) else "-",
+                f"{a.edge[k]:.5g}",
             ]
         )
     return [

@@ -4,9 +4,10 @@ Data: the metallic elements of Alcock, Itkin & Horrigan (1984) via ``chemicals``
 liquid equations), CRC Handbook melting points and enthalpies of fusion via ``chemicals``,
 and fits to the IAPWS water curves via ``iapws``. Run:
 
-    python benchmarks/calibrate.py [--priors]
+    python benchmarks/calibrate.py [--priors | --boiling]
 
-``--priors`` prints only the rarities behind the diagnosis's priors.
+``--priors`` prints only the rarities behind the diagnosis's priors; ``--boiling`` judges
+the clean Landolt liquids' boiling-point errors against the other boiling points carried.
 """
 
 from __future__ import annotations
@@ -146,8 +147,58 @@ def report_priors():
     print(f"all: {positive} of {total} ({positive / total:.1%})")
 
 
+def report_boiling_opinions():
+    """The clean Landolt liquids (odd CAS) that draw a boiling-point-mismatch error, judged
+    against the other normal boiling points chemicals carries (methods CRC_ORG, CRC_INORG,
+    YAWS, COMMON_CHEMISTRY, WIKIDATA; the web compilation is reserved and not read): does
+    another source meet the record (within 1 % of where its curve reaches 101325 Pa), do the
+    sources agree with the reference, or differ among themselves?"""
+    import math
+    from collections import Counter
+
+    from chemicals import Tb
+    from compilations import _complete, landolt
+
+    from vpaudit.equations.engine import curves_from_frame, temperature_at
+
+    records, refs = landolt()
+    records = [r for r in records if _complete(r)]
+    result = audit_table(table_from_rows(records, refs), diagnose=False)
+    errors = [
+        f
+        for f in result.findings
+        if f.check == "boiling-point-mismatch" and f.severity.value == "error"
+    ]
+    by_id = {r["id"]: r for r in records}
+    verdicts: Counter = Counter()
+    for f in errors:
+        rec = by_id[f.records[0]]
+        c = curves_from_frame(table_from_rows([rec]).records)
+        implied = temperature_at(c, LN_P_STANDARD, 0.5 * c.t_min, 3.0 * c.t_max)[0]
+        values = []
+        for method in ("CRC_ORG", "CRC_INORG", "YAWS", "COMMON_CHEMISTRY", "WIKIDATA"):
+            try:
+                v = Tb(rec["substance"], method=method)
+            except Exception:  # noqa: BLE001  (a method without the substance)
+                continue
+            if v:
+                values.append(float(v))
+        ref = f.evidence["boiling_point_K"]
+        if math.isfinite(implied) and any(abs(v - implied) / implied < 0.01 for v in values):
+            verdicts["another source meets the record"] += 1
+        elif any(abs(v - ref) > 0.5 for v in values):
+            verdicts["sources differ, none meets the record"] += 1
+        elif len(values) >= 2:
+            verdicts["the other sources agree with the reference"] += 1
+        else:
+            verdicts["one source only"] += 1
+    print(f"Landolt liquids (odd CAS), {len(errors)} boiling-point errors:", dict(verdicts))
+
+
 if __name__ == "__main__":
-    if "--priors" in sys.argv:
+    if "--boiling" in sys.argv:
+        report_boiling_opinions()
+    elif "--priors" in sys.argv:
         report_priors()
     else:
         report_evaluated()

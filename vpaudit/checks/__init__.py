@@ -9,7 +9,7 @@ from importlib import import_module
 from ._registry import REGISTRY, CheckSpec, Scope, Severity, Threshold, check, get_check, ordered
 from .finding import Finding
 
-for _module in ("record", "critical", "anchor", "pair", "sources", "provenance"):
+for _module in ("record", "boiling", "critical", "anchor", "pair", "sources", "provenance"):
     import_module(f"{__name__}.{_module}")
 
 __all__ = [

@@ -299,6 +299,17 @@ class AuditContext:
             return np.full(codes.shape, np.nan)
         return arr[codes]
 
+    def reference_at(self, quantity: str, code: int) -> tuple[str, str | None, int | None]:
+        """(source, file, line) of substance ``code``'s reference ``quantity`` (its first
+        row), for a finding that names the reference; ("?", None, None) when there is none.
+        """
+        refs = self.table.references
+        at = np.flatnonzero(eq(refs["quantity"], quantity) & (self.ref_codes == code))
+        if not at.size:
+            return "?", None, None
+        r0 = int(at[0])
+        return str(refs["source"].iat[r0]), str(refs["file"].iat[r0]), int(refs["line"].iat[r0])
+
     def melting_reference(self, rows: np.ndarray | None = None) -> np.ndarray:
         """Reference melting point, or the triple-point temperature where none is given. [K]"""
         tm = self.reference("melting_point", rows)

@@ -20,7 +20,7 @@ import numpy as np
 from ..constants import R
 from ._context import AuditContext
 from .anchor import allowances, anchor_values
-from .record import _boiling_residuals
+from .boiling import boiling_residuals
 
 __all__ = ["DISAGREEMENTS", "NEAR_RANGE", "Witnesses", "vouched"]
 
@@ -77,7 +77,7 @@ def vouched(ctx: AuditContext) -> Witnesses:
         rows = a.rows[ok]
         resolution[rows] = al.s_warn[ok] / R
         kind[rows] = 2
-    got = _boiling_residuals(ctx)
+    got = boiling_residuals(ctx)
     if got is not None:
         # the tolerance before the extrapolation allowance: a slip moves a curve's level
         # everywhere, so a curve that lands on its boiling point, however far from its

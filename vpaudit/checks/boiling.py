@@ -1,0 +1,352 @@
+"""The normal boiling point: each liquid curve against the reference T_b, and a reference
+that the substance's agreeing sources outvote.
+"""
+
+from __future__ import annotations
+
+from typing import NamedTuple
+
+import numpy as np
+
+from ..constants import R
+from ..equations.engine import Curves, evaluate, temperature_at
+from ..units import MMHG_PA
+from ._context import LN_P_STANDARD, AuditContext
+from ._registry import Scope, Severity, Threshold, check
+from ._text import jk, kelvin, ln_ratio
+from .extrapolation import allowance
+from .hits import Hit
+
+__all__ = ["BoilingResiduals", "boiling_residuals"]
+
+
+class BoilingResiduals(NamedTuple):
+    """The liquid records with a reference normal boiling point, and how they meet it."""
+
+    rows: np.ndarray  # record rows
+    curves: Curves  # their curves
+    t: np.ndarray  # reference T_b [K]
+    y: np.ndarray  # ln(P/Pa) at T_b
+    y1: np.ndarray  # its slope there [1/K]
+    d: np.ndarray  # ln P(T_b) - ln 101325
+    tol: np.ndarray  # tolerance of d, widened for extrapolation [ln P]
+    stated: np.ndarray  # whether the reference states its uncertainty
+    base: np.ndarray  # the tolerance before that widening [ln P]
+
+
+def boiling_residuals(ctx: AuditContext) -> BoilingResiduals | None:
+    """For the liquid records with a reference normal boiling point: d = ln P(T_b) -
+    ln 101325 and its tolerance (k times the combined uncertainty of curve and reference,
+    never less than the tolerance, and widened in quadrature by the extrapolation allowance
+    where T_b lies outside the range: :mod:`vpaudit.checks.extrapolation`); None when there
+    are none.
+    """
+    th = ctx.thresholds("boiling-point-mismatch")
+    tb = ctx.reference("normal_boiling_point")
+    rows = np.flatnonzero(ctx.evaluable & ctx.liquid & np.isfinite(tb))
+    if rows.size == 0:
+        return None
+    c = ctx.curves.take(rows)
+    t = tb[rows]
+    y, y1, _ = evaluate(c, t, order=1)
+    d = y - LN_P_STANDARD
+    u_p = ctx.uncertainty[rows]
+    u_p = np.where(np.isnan(u_p), th["default_uncertainty"], u_p)
+    u_tb = ctx.reference_uncertainty("normal_boiling_point", rows)
+    stated = ~np.isnan(u_tb)
+    u_tb = np.where(stated, u_tb, th["tb_uncertainty"])
+    with np.errstate(over="ignore"):  # a slope that overflows leaves an infinite sigma
+        sigma = np.sqrt(u_p**2 + (np.abs(y1) * u_tb) ** 2)
+    base = np.maximum(th["tolerance"], th["factor"] * sigma)
+    # a T_b outside the range is reached by extrapolation, which drifts (measured)
+    tol = np.hypot(base, allowance(c.t_min, c.t_max, t))
+    return BoilingResiduals(rows, c, t, y, y1, d, tol, stated, base)
+
+
+def _outvoted(ctx: AuditContext, rows: np.ndarray, d: np.ndarray, tol: np.ndarray) -> np.ndarray:
+    """For each row, whether its substance has two or more liquid records that all miss the
+    reference T_b on the same side, beyond their tolerance, while agreeing with each other
+    within it: several sources against one reference value.
+    """
+    out = np.zeros(rows.size, dtype=bool)
+    codes_ = ctx.codes[rows]
+    with np.errstate(invalid="ignore"):
+        miss = ~(np.abs(d) <= tol)
+    for code in np.unique(codes_[miss]):
+        k = np.flatnonzero(codes_ == code)
+        if k.size < 2 or not miss[k].all():
+            continue
+        same_side = (np.sign(d[k]) == np.sign(d[k[0]])).all()
+        agree = (d[k].max() - d[k].min()) <= tol[k].min()
+        if same_side and agree:
+            out[k] = True
+    return out
+
+
+def _reduced_pressure_reference(th, c, t, y, y1, t_implied):
+    """Which reference boiling points look like boiling points at reduced pressure filed as
+    normal ones: the curve gives a vacuum-distillation pressure at the reference (between
+    ``reduced_min`` and ``reduced_max``) and reaches 101325 Pa above ``reduced_above``
+    (boiling points at reduced pressure are reported for liquids distilled under vacuum,
+    which boil high), its entropy of vaporization where it reaches
+    101325 Pa, R T y'(T), obeys Trouton's rule as extended to associating liquids, and the
+    one it would need at the reference T_b does not. A slip in the record's pressure level
+    (a wrong unit) leaves the reference's entropy normal and the implied one off, so it is
+    not taken for this. Returns (flags, entropy at the reference, entropy where the curve
+    reaches 101325 Pa), both in J/(mol K) from the ideal-gas Clausius-Clapeyron relation.
+    """
+    s_ref = R * t * y1
+    with np.errstate(invalid="ignore"):
+        _, y1_imp, _ = evaluate(c, np.where(np.isfinite(t_implied), t_implied, t), order=1)
+        s_imp = np.where(np.isfinite(t_implied), R * t_implied * y1_imp, np.nan)
+        p = np.exp(y)
+        flags = (
+            (t < t_implied)
+            & (t_implied >= th["reduced_above"])
+            & (p >= th["reduced_min"])
+            & (p <= th["reduced_max"])
+            & (s_imp >= th["trouton_min"])
+            & (s_imp <= th["trouton_max"])
+            & (s_ref > th["trouton_max"])
+        )
+    return flags, s_ref, s_imp
+
+
+@check(
+    "boiling-point-mismatch",
+    Severity.error,
+    Scope.record,
+    "The liquid curve misses 101325 Pa at the reference normal boiling point.",
+    "Definition of the normal boiling point (P = 101325 Pa).",
+    (
+        Threshold("tolerance", 0.05, "ln P", "smallest |ln P(Tb) - ln 101325| ever reported"),
+        Threshold(
+            "factor",
+            3.0,
+            "-",
+            "coverage factor k on the combined uncertainty of curve and reference",
+        ),
+        Threshold(
+            "default_uncertainty",
+            0.03,
+            "-",
+            "relative uncertainty of P of a record that states none",
+        ),
+        Threshold(
+            "tb_uncertainty",
+            1.0,
+            "K",
+            "uncertainty of a reference Tb that states none",
+        ),
+        Threshold(
+            "evaluations",
+            4.0e-5,
+            "1/K",
+            "relative difference of Tb, per kelvin of Tb, within which a mismatch beyond "
+            "the combined uncertainty is a warning: how far independent evaluations differ",
+        ),
+        Threshold(
+            "evaluations_max",
+            0.03,
+            "-",
+            "largest such relative difference (measured up to 700 K, held above)",
+        ),
+        Threshold(
+            "trouton_min",
+            75.0,
+            "J/(mol K)",
+            "lowest entropy of vaporization at a normal boiling point taken as normal "
+            "(Trouton's rule; common practice)",
+        ),
+        Threshold(
+            "trouton_max",
+            130.0,
+            "J/(mol K)",
+            "highest entropy of vaporization at a normal boiling point taken as normal "
+            "(associating liquids; common practice)",
+        ),
+        Threshold(
+            "reduced_above",
+            400.0,
+            "K",
+            "lowest normal boiling point of a liquid whose boiling point is reported at "
+            "reduced pressure (vacuum distillation; common practice)",
+        ),
+        Threshold(
+            "reduced_min",
+            10.0,
+            "Pa",
+            "lowest pressure of a boiling point at reduced pressure looked for",
+        ),
+        Threshold(
+            "reduced_max",
+            50000.0,
+            "Pa",
+            "highest pressure of a boiling point at reduced pressure looked for",
+        ),
+        Threshold(
+            "near",
+            0.10,
+            "-",
+            "relative distance of Tb from the range within which "
+            "a mismatch is an error (farther: a note)",
+        ),
+    ),
+    tiers={"extrapolated": Severity.note, "reference-doubted": Severity.warning},
+)
+def boiling_point_mismatch(ctx: AuditContext):
+    """Compared in ln P, as for the melting point: ln P(T_b) - ln 101325 against k times
+    the combined uncertainty of the two parties, sqrt(u_P^2 + (y'(T_b) u_Tb)^2): the record's
+    stated relative uncertainty of P (or a default) and the reference T_b's stated
+    uncertainty (or a default) carried into ln P through the curve's own slope -- never less
+    than the tolerance. The default for T_b is measured: independent evaluations of the
+    normal boiling points of about 1,200 organic liquids (chemicals, methods CRC_ORG, YAWS
+    and COMMON_CHEMISTRY) differ by 0.2-0.4 K at the median and 1.1-1.5 K at the 75th
+    percentile. That distribution has a long tail, which grows with T_b (CRC_ORG against
+    YAWS over 4,677 substances, 95th percentile of the relative difference: 1.1-1.3 % below
+    400 K, 1.6-2.2 % from 400 to 600 K, 2.9 % from 600 to 700 K; a boiling point at reduced
+    pressure filed as the normal one is a common cause). So, against a reference that
+    states no uncertainty, a mismatch beyond the combined uncertainty but within
+    4e-5/K x T_b of T_b (that 95th percentile: 1.3 % at 325 K, 2 % at 500 K, 2.6 % at
+    650 K, held at 3 % above 750 K, where the comparison has too few substances) is a
+    warning, since the reference may be the party that is off; beyond it, an
+    error. A reference with a stated uncertainty is held to it. The implied boiling
+    temperature is evidence. When T_b lies outside the range, the tolerance grows in
+    quadrature by the extrapolation allowance (:mod:`vpaudit.checks.extrapolation`); when it
+    lies far outside, the check is a note: many evaluated liquid equations stop hundreds of
+    kelvin below the boiling point.
+    """
+    th = ctx.thresholds("boiling-point-mismatch")
+    got = boiling_residuals(ctx)
+    if got is None:
+        return
+    rows, c, t, y, y1, d, tol, stated = got[:8]
+    # beyond the combined uncertainty but within how far independent evaluations of T_b
+    # differ, a reference that states no uncertainty may as well be the party that is off:
+    # a warning
+    rel = np.minimum(th["evaluations"] * t, th["evaluations_max"])
+    spread = np.where(stated, 0.0, np.abs(y1) * rel * t)
+    with np.errstate(invalid="ignore"):
+        # a reference that the substance's agreeing sources outvote is reported by
+        # reference-contradicted, once, instead of an error on each record
+        bad = ~(np.abs(d) <= tol) & ~_outvoted(ctx, rows, d, tol)
+    if not bad.any():
+        return
+    dist = np.maximum(c.t_min - t, t - c.t_max).clip(min=0.0) / t
+    # search up to three times the range, but never past a Wagner record's own Tc
+    top = np.where(c.is_wagner, np.fmin(3.0 * c.t_max, c.params[:, 6]), 3.0 * c.t_max)
+    t_implied = temperature_at(c, LN_P_STANDARD, 0.5 * c.t_min, top)
+    reduced, s_ref, s_imp = _reduced_pressure_reference(th, c, t, y, y1, t_implied)
+    for k in np.flatnonzero(bad):
+        i = rows[k]
+        far = dist[k] > th["near"]
+        within = abs(d[k]) <= spread[k]
+        tier = None
+        if far:
+            tier = "extrapolated"
+        elif within or reduced[k]:
+            tier = "reference-doubted"
+        if reduced[k] and not far:
+            yield Hit(
+                i,
+                f"the reference normal boiling point {kelvin(t[k])} looks like a boiling "
+                f"point at reduced pressure, not the record: the curve gives "
+                f"{np.exp(y[k]):.4g} Pa ({np.exp(y[k]) / MMHG_PA:.3g} mmHg) there, and "
+                f"reaches 101325 Pa at {kelvin(t_implied[k])} with an entropy of "
+                f"vaporization of {jk(s_imp[k])}, as Trouton's rule expects; at the "
+                f"reference it would be {jk(s_ref[k])}. Check the reference against its "
+                "source for a pressure.",
+                {
+                    "boiling_point_K": t[k],
+                    "difference_lnP": d[k],
+                    "tolerance_lnP": tol[k],
+                    "residual_over_tolerance": abs(d[k]) / tol[k],
+                    "implied_boiling_point_K": t_implied[k],
+                    "outside_range_fraction": dist[k],
+                    "entropy_at_reference_J_molK": s_ref[k],
+                    "entropy_at_implied_J_molK": s_imp[k],
+                    "likely_culprit": "reference",
+                },
+                tier=tier,
+            )
+            continue
+        where = (
+            f"; {kelvin(t[k])} is {dist[k] * 100:.0f} % outside the range, so this is "
+            "an extrapolation"
+            if far
+            else (
+                f"; that is within the {rel[k] * 100:.2g} % by which "
+                "independent evaluations of normal boiling points near it differ, so the "
+                "reference may be the one that is off"
+                if within
+                else ""
+            )
+        )
+        yield Hit(
+            i,
+            f"at the reference normal boiling point {kelvin(t[k])} the curve gives "
+            f"{np.exp(y[k]):.4g} Pa instead of 101325 Pa, off by {ln_ratio(d[k])}; "
+            + (
+                f"it reaches 101325 Pa at {kelvin(t_implied[k])}"
+                if np.isfinite(t_implied[k])
+                else f"it does not reach 101325 Pa between {kelvin(0.5 * c.t_min[k])} and "
+                f"{kelvin(top[k])}"
+            )
+            + f"{where}.",
+            {
+                "boiling_point_K": t[k],
+                "difference_lnP": d[k],
+                "tolerance_lnP": tol[k],
+                "residual_over_tolerance": abs(d[k]) / tol[k],
+                "implied_boiling_point_K": t_implied[k],
+                "outside_range_fraction": dist[k],
+            },
+            tier=tier,
+        )
+
+
+@check(
+    "reference-contradicted",
+    Severity.warning,
+    Scope.sources,
+    "Several sources of a substance agree with each other and not with its reference normal "
+    "boiling point: the reference looks wrong, not the records.",
+    "Reference values in compilations are not all right; independent sources that agree "
+    "outweigh one value from another evaluation.",
+)
+def reference_contradicted(ctx: AuditContext):
+    """Two or more liquid records of a substance miss the reference T_b on the same side,
+    each beyond the boiling-point tolerance, and agree with each other within it. The
+    reference is named as the likely culprit, located at its own file and line, and the
+    records draw no boiling-point error: blaming each record would repeat one wrong value.
+    """
+    got = boiling_residuals(ctx)
+    if got is None:
+        return
+    rows, c, t, d, tol = got.rows, got.curves, got.t, got.d, got.tol
+    out = _outvoted(ctx, rows, d, tol)
+    if not out.any():
+        return
+    t_implied = temperature_at(c, LN_P_STANDARD, 0.5 * c.t_min, 3.0 * c.t_max)
+    for code in np.unique(ctx.codes[rows[out]]):
+        k = np.flatnonzero(out & (ctx.codes[rows] == code))
+        source, file, line = ctx.reference_at("normal_boiling_point", code)
+        implied = t_implied[k]
+        ids = tuple(ctx.id(rows[j]) for j in k)
+        yield Hit(
+            int(rows[k[0]]),
+            f"the reference normal boiling point {kelvin(t[k[0]])} ({source}) disagrees with "
+            f"all {k.size} liquid records, which agree with each other: they reach 101325 Pa "
+            f"at {kelvin(float(np.nanmean(implied)))} (off by {ln_ratio(float(d[k].mean()))} "
+            "at the reference). The reference value looks wrong, not the records: check it "
+            "against its source.",
+            {
+                "boiling_point_K": float(t[k[0]]),
+                "implied_boiling_points_K": [float(x) for x in implied],
+                "difference_lnP": [float(x) for x in d[k]],
+                "tolerance_lnP": float(tol[k].min()),
+            },
+            records=ids,
+            file=file,
+            line=line,
+        )

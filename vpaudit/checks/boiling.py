@@ -246,6 +246,14 @@ def boiling_point_mismatch(ctx: AuditContext):
             tier = "extrapolated"
         elif within or reduced[k]:
             tier = "reference-doubted"
+        evidence = {
+            "boiling_point_K": t[k],
+            "difference_lnP": d[k],
+            "tolerance_lnP": tol[k],
+            "residual_over_tolerance": abs(d[k]) / tol[k],
+            "implied_boiling_point_K": t_implied[k],
+            "outside_range_fraction": dist[k],
+        }
         if reduced[k] and not far:
             yield Hit(
                 i,
@@ -257,12 +265,7 @@ def boiling_point_mismatch(ctx: AuditContext):
                 f"reference it would be {jk(s_ref[k])}. Check the reference against its "
                 "source for a pressure.",
                 {
-                    "boiling_point_K": t[k],
-                    "difference_lnP": d[k],
-                    "tolerance_lnP": tol[k],
-                    "residual_over_tolerance": abs(d[k]) / tol[k],
-                    "implied_boiling_point_K": t_implied[k],
-                    "outside_range_fraction": dist[k],
+                    **evidence,
                     "entropy_at_reference_J_molK": s_ref[k],
                     "entropy_at_implied_J_molK": s_imp[k],
                     "likely_culprit": "reference",
@@ -293,14 +296,7 @@ def boiling_point_mismatch(ctx: AuditContext):
                 f"{kelvin(top[k])}"
             )
             + f"{where}.",
-            {
-                "boiling_point_K": t[k],
-                "difference_lnP": d[k],
-                "tolerance_lnP": tol[k],
-                "residual_over_tolerance": abs(d[k]) / tol[k],
-                "implied_boiling_point_K": t_implied[k],
-                "outside_range_fraction": dist[k],
-            },
+            evidence,
             tier=tier,
         )
 

@@ -143,18 +143,28 @@ def cross_validation() -> None:
         )
 
 
-def planted(name, records, refs, flagged_clean, sample, rng):
-    """One slip in one record of each of ``sample`` clean substances (no error before)."""
+def planted(name, records, refs, flagged_clean, sample, seed):
+    """One slip in one record of each of ``sample`` clean substances (no error before).
+
+    The substances are taken in one seeded order of all of them, the clean ones kept, and
+    each substance's slip (kind, record, value) is drawn from its own generator: a change of
+    a check's verdict on one clean substance adds or removes that substance alone, so runs
+    of two versions of the code compare the same planted slips.
+    """
     by_sub: dict[str, list[dict]] = {}
     for r in records:
         by_sub.setdefault(r["substance"], []).append(r)
-    clean = [s for s, rs in by_sub.items() if not any(r["id"] in flagged_clean for r in rs)]
-    rng.shuffle(clean)
+    order = sorted(by_sub)
+    random.Random(seed).shuffle(order)
+    clean = [s for s in order if not any(r["id"] in flagged_clean for r in by_sub[s])]
+    position = {s: k for k, s in enumerate(order)}
     cases, recs, out_refs = [], [], []
     refs_by = {}
     for r in refs:
         refs_by.setdefault(r["substance"], []).append(r)
-    for k, sub in enumerate(clean[:sample]):
+    for sub in clean[:sample]:
+        k = position[sub]
+        rng = random.Random(f"{seed}:{sub}")
         kind = SLIP_KINDS[k % len(SLIP_KINDS)]
         rs = by_sub[sub]
         target = rng.choice(rs)
@@ -300,7 +310,7 @@ def main() -> None:
         t0 = time.perf_counter()
         records, refs, flagged, by_check, _ = clean_errors(name)
         n, det, right, conf, cw, missed, right_flagged = planted(
-            name, records, refs, flagged, args.sample, random.Random(args.seed)
+            name, records, refs, flagged, args.sample, args.seed
         )
         conf_clean, _ = confident_on_clean(records, refs)
         print(

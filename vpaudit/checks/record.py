@@ -157,6 +157,13 @@ def slope_not_positive(ctx: AuditContext):
     "long-chain and associating organics lie far above Trouton's value.",
     (
         Threshold("liquid_min", 40.0, "J/(mol K)", "lowest plausible dS of vaporization"),
+        Threshold(
+            "cryogenic_fraction",
+            0.5,
+            "-",
+            "below it, where lower: this fraction of the Trouton-Hildebrand-Everett entropy "
+            "R (4.4 + ln T/K) (cryogenic and quantum liquids)",
+        ),
         Threshold("liquid_max", 235.0, "J/(mol K)", "highest plausible dS of vaporization"),
         Threshold("solid_min", 20.0, "J/(mol K)", "lowest plausible dS of sublimation"),
         Threshold("solid_max", 480.0, "J/(mol K)", "highest plausible dS of sublimation"),
@@ -182,8 +189,7 @@ def enthalpy_implausible(ctx: AuditContext):
     y, y1, _ = evaluate(c, t, order=1)
     ds = R * t * y1 + R * (y - LN_P_STANDARD)
     liquid = ctx.liquid[rows]
-    lo = np.where(liquid, th["liquid_min"], th["solid_min"])
-    hi = np.where(liquid, th["liquid_max"], th["solid_max"])
+    lo, hi = entropy_band(th, liquid, t)
     with np.errstate(invalid="ignore"):
         bad = ~((ds >= lo) & (ds <= hi))
     hint = (
@@ -222,6 +228,24 @@ def enthalpy_implausible(ctx: AuditContext):
             "at_boiling_point": use_tb[sel],
         },
     )
+
+
+def entropy_band(th: dict, liquid: np.ndarray, t: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """The plausible band of the standard entropy of the phase change at ``t`` [K] (one
+    definition, for ``enthalpy-implausible`` and the diagnosis): [liquid_min, liquid_max]
+    for liquids, its lower edge lowered at cryogenic temperatures to ``cryogenic_fraction``
+    of the Trouton-Hildebrand-Everett value R (4.4 + ln T/K) where that is lower: the
+    entropy of vaporization at the normal boiling point falls with it (CRC enthalpies of
+    vaporization at T_b via chemicals, Hvap_data_CRC: argon 73.7 J/(mol K) at 87.3 K,
+    nitrogen 72.0 at 77.4 K, neon 63.1 at 27.1 K, hydrogen 44.1 at 20.4 K, helium 18.9 at
+    4.2 K, where an ideal-gas curve implies 28-33). [solid_min, solid_max] for solids.
+    [J/(mol K)]
+    """
+    with np.errstate(invalid="ignore", divide="ignore"):
+        cryo = th["cryogenic_fraction"] * R * (4.4 + np.log(t))
+    lo = np.where(liquid, np.fmin(th["liquid_min"], cryo), th["solid_min"])
+    hi = np.where(liquid, th["liquid_max"], th["solid_max"])
+    return lo, hi
 
 
 @check(

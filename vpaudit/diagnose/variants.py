@@ -14,6 +14,7 @@ from .._columns import TEXT
 from ..checks._context import LN_P_STANDARD, AuditContext, match, same_key_pairs
 from ..checks._registry import REGISTRY, Severity
 from ..checks.finding import Finding
+from ..checks.record import entropy_band
 from ..constants import R
 from ..equations.engine import evaluate
 from ..readers.files import RawFrame
@@ -214,8 +215,7 @@ def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
         y, y1, _ = evaluate(c, t, order=1)
         ds = R * t * y1 + R * (y - LN_P_STANDARD)
         liquid = ctx.liquid[rows]
-        lo = np.where(liquid, th["liquid_min"], th["solid_min"])
-        hi = np.where(liquid, th["liquid_max"], th["solid_max"])
+        lo, hi = entropy_band(th, liquid, t)
         add(ctx.codes[rows], np.maximum(lo - ds, 0.0) / 10.0 + np.maximum(ds - hi, 0.0) / 10.0)
     # the 298.15 K anchor: the standard enthalpy and entropy, each against the warning
     # allowance of its check (the checks' own definitions: checks.anchor.anchor_values)

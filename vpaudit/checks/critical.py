@@ -254,8 +254,8 @@ def critical_residuals(ctx: AuditContext) -> CriticalResiduals | None:
             "tolerance",
             0.10,
             "ln P",
-            "miss beyond which it is a warning (the 95th percentile of Pc evaluations, "
-            "with the record's default uncertainty)",
+            "miss beyond which it is a note (the 95th percentile of Pc evaluations, with "
+            "the record's default uncertainty)",
         ),
         Threshold(
             "error_above",
@@ -271,7 +271,7 @@ def critical_pressure_mismatch(ctx: AuditContext):
     """Compared in ln P at the reference Tc (or at the record's own range end when that is
     below it, by at most ``reach``), less what Tc's uncertainty explains through the curve's
     slope. Beyond ``tolerance`` the two evaluations of the critical point disagree more than
-    independent evaluations of Pc usually do, a warning that may as well concern the
+    independent evaluations of Pc usually do, a note that may as well concern the
     reference; beyond ``error_above``, more than they ever do in the comparison, an error.
     """
     th = ctx.thresholds("critical-pressure-mismatch")

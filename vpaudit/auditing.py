@@ -377,7 +377,7 @@ def _run_one(ctx: AuditContext, name: str) -> Findings:
         # overflow and NaN are handled explicitly by the checks (a non-finite value is a
         # finding, never a crash), so numpy's floating-point warnings are silenced here
         with np.errstate(all="ignore"):
-            for hit in spec.func(ctx):
+            for hit in spec.func(ctx, ctx.thresholds(name)):
                 if isinstance(hit, Hits):
                     out.extend(Findings.of(singles))
                     singles = []

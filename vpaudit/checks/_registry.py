@@ -131,7 +131,9 @@ def check(
     thresholds: tuple[Threshold, ...] = (),
     tiers: dict[str, Severity] | None = None,
 ):
-    """Register a check function under ``name``.
+    """Register a check under ``name``: a generator ``func(ctx, th)`` of hits
+    (:mod:`vpaudit.checks.hits`) over the audit's arrays ``ctx`` and its own thresholds
+    ``th`` under the policy.
 
     Parameters
     ----------

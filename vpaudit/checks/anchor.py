@@ -173,7 +173,7 @@ def _what(is_liquid: bool) -> str:
     _ENTHALPY,
     tiers={"below-error-above": Severity.warning},
 )
-def anchor_enthalpy(ctx: AuditContext):
+def anchor_enthalpy(ctx: AuditContext, th: dict[str, float]):
     """A warning beyond ``tolerance`` times the reference, an error beyond ``error_above``
     times it, each plus ``cp_uncertainty`` times the kelvins extrapolated (dH(298) -
     dH(edge) is the integral of dCp). Curves whose range lies more than ``max_ratio`` above
@@ -219,7 +219,7 @@ def anchor_enthalpy(ctx: AuditContext):
     _ENTROPY,
     tiers={"below-error-above": Severity.warning},
 )
-def anchor_entropy(ctx: AuditContext):
+def anchor_entropy(ctx: AuditContext, th: dict[str, float]):
     """A warning beyond ``tolerance``, an error beyond ``error_above``, each plus
     ``cp_uncertainty`` times ln(edge / 298.15 K) (dS(298) - dS(edge) is the integral of
     dCp/T). A pressure-unit slip shifts dS0 by R ln(factor) and leaves dH alone: this is its

@@ -194,7 +194,7 @@ def _reduced_pressure_reference(th, c, t, y, y1, t_implied):
     ),
     tiers={"extrapolated": Severity.note, "reference-doubted": Severity.warning},
 )
-def boiling_point_mismatch(ctx: AuditContext):
+def boiling_point_mismatch(ctx: AuditContext, th: dict[str, float]):
     """Compared in ln P, as for the melting point: ln P(T_b) - ln 101325 against k times
     the combined uncertainty of the two parties, sqrt(u_P^2 + (y'(T_b) u_Tb)^2): the record's
     stated relative uncertainty of P (or a default) and the reference T_b's stated
@@ -216,7 +216,6 @@ def boiling_point_mismatch(ctx: AuditContext):
     lies far outside, the check is a note: many evaluated liquid equations stop hundreds of
     kelvin below the boiling point.
     """
-    th = ctx.thresholds("boiling-point-mismatch")
     got = boiling_residuals(ctx)
     if got is None:
         return
@@ -310,7 +309,7 @@ def boiling_point_mismatch(ctx: AuditContext):
     "Reference values in compilations are not all right; independent sources that agree "
     "outweigh one value from another evaluation.",
 )
-def reference_contradicted(ctx: AuditContext):
+def reference_contradicted(ctx: AuditContext, th: dict[str, float]):
     """Two or more liquid records of a substance miss the reference T_b on the same side,
     each beyond the boiling-point tolerance, and agree with each other within it. The
     reference is named as the likely culprit, located at its own file and line, and the

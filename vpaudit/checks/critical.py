@@ -44,7 +44,7 @@ __all__ = ["CriticalResiduals", "critical_residuals"]
     ),
     tiers={"reference-doubted": Severity.warning},
 )
-def above_critical(ctx: AuditContext):
+def above_critical(ctx: AuditContext, th: dict[str, float]):
     """A liquid record whose t_max exceeds the critical temperature describes no equilibrium
     above Tc. Tc is the record's own (Wagner forms), else the reference value; a reference
     from another evaluation than the record's is uncertain by its stated uncertainty or, when
@@ -58,7 +58,6 @@ def above_critical(ctx: AuditContext):
     source's Tc: a warning that names the reference. A reference Tc below the whole range
     is named the same way.
     """
-    th = ctx.thresholds("above-critical")
     own = ctx.curves.own_t_crit
     ref = ctx.reference("critical_temperature")
     u = ctx.reference_uncertainty("critical_temperature")
@@ -267,14 +266,13 @@ def critical_residuals(ctx: AuditContext) -> CriticalResiduals | None:
     ),
     tiers={"below-error-above": Severity.note},
 )
-def critical_pressure_mismatch(ctx: AuditContext):
+def critical_pressure_mismatch(ctx: AuditContext, th: dict[str, float]):
     """Compared in ln P at the reference Tc (or at the record's own range end when that is
     below it, by at most ``reach``), less what Tc's uncertainty explains through the curve's
     slope. Beyond ``tolerance`` the two evaluations of the critical point disagree more than
     independent evaluations of Pc usually do, a note that may as well concern the
     reference; beyond ``error_above``, more than they ever do in the comparison, an error.
     """
-    th = ctx.thresholds("critical-pressure-mismatch")
     got = critical_residuals(ctx)
     if got is None:
         return

@@ -1,10 +1,11 @@
 """What a check returns: its hits, the records it found and what it found there.
 
 A check is a generator over the audit's arrays (:class:`~vpaudit.checks._context.AuditContext`)
-that yields :class:`Hits` (a block of records found together, one array operation) or
-:class:`Hit` (one record, or a row of the references or the table's problems). It states no
-check name and no severity: the runner (:func:`vpaudit.auditing.run_checks`) stamps the
-check's name, gives each hit the severity of its declared tier under the policy
+and its own thresholds under the policy. It yields :class:`Hits` (a block of records found
+together, one array operation) or :class:`Hit` (one record, or a row of the references or
+the table's problems). It states no check name and no severity: the runner
+(:func:`vpaudit.auditing.run_checks`) stamps the check's name, gives each hit the severity
+of its declared tier under the policy
 (:meth:`~vpaudit.checks._registry.CheckSpec.severity_under`) and makes the findings table
 (:class:`~vpaudit.checks.finding.Findings`).
 """

@@ -36,7 +36,7 @@ __all__: list[str] = []
         ),
     ),
 )
-def pair_not_checkable(ctx: AuditContext):
+def pair_not_checkable(ctx: AuditContext, th: dict[str, float]):
     """Pairs whose solid range ends, or liquid range starts, farther from the melting point
     (reference, else the middle of the gap) than the limit are reported as not checkable,
     and the other pair checks skip them.
@@ -68,7 +68,7 @@ def pair_not_checkable(ctx: AuditContext):
     ),
     tiers={"touching": Severity.warning},
 )
-def no_crossing(ctx: AuditContext):
+def no_crossing(ctx: AuditContext, th: dict[str, float]):
     """The difference y_s - y_l is scanned for sign changes on a grid in 1/T over the
     window around the melting point and each bracket refined by safeguarded Newton. No
     sign change means no triple point: a pressure-unit or base slip in one record, or a
@@ -80,7 +80,7 @@ def no_crossing(ctx: AuditContext):
     reports: that is a warning, not a missing triple point.
     """
     pr = ctx.pairs
-    w = ctx.thresholds("no-crossing")["window"]
+    w = th["window"]
     rows = np.flatnonzero(pr.checkable & (pr.crossings == 0))
     at = pr.anchor[rows]
     diff = (
@@ -136,7 +136,7 @@ def no_crossing(ctx: AuditContext):
     "The solid and liquid curves cross more than once near the melting point.",
     "Two smooth curves of the same substance meet once, at the triple point.",
 )
-def multiple_crossings(ctx: AuditContext):
+def multiple_crossings(ctx: AuditContext, th: dict[str, float]):
     """More than one crossing in the window where the curves separate by more than the
     melting-point tolerance between crossings: at least one curve bends wrongly (a slipped
     log T or D coefficient). Nearly parallel curves that wander across each other within the
@@ -167,7 +167,7 @@ def _crossed(ctx: AuditContext) -> np.ndarray:
     "d(ln P_s - ln P_l)/dT = dH_fus/(R T^2) > 0 at the triple point: the solid is stable "
     "(lower P) below it.",
 )
-def crossing_orientation(ctx: AuditContext):
+def crossing_orientation(ctx: AuditContext, th: dict[str, float]):
     """A crossing where the solid curve is flatter implies dH_fus <= 0: the phase labels
     are swapped or one record is broken. A solid range wholly above the liquid's says the
     same. When the ranges are in the labels' order (the solid's ends where or before the
@@ -240,7 +240,7 @@ def crossing_orientation(ctx: AuditContext):
         ),
     ),
 )
-def crossing_outside_range(ctx: AuditContext):
+def crossing_outside_range(ctx: AuditContext, th: dict[str, float]):
     """The crossing lies above the solid's t_max or below the liquid's t_min by more than
     the allowed fraction, *and* at that range end the curves differ in ln P by more than the
     melting-point tolerance: the triple point rests on an extrapolation the data do not
@@ -248,7 +248,7 @@ def crossing_outside_range(ctx: AuditContext):
     cross far away without meaning anything (seen for Zr and Ti in the evaluated metals).
     """
     pr = ctx.pairs
-    lim = ctx.thresholds("crossing-outside-range")["max_extrapolation"]
+    lim = th["max_extrapolation"]
     tol = ctx.thresholds("melting-point-mismatch")["tolerance"]
     t = pr.t_cross
     s_lo, s_hi = ctx.curves.t_min[pr.solid], ctx.curves.t_max[pr.solid]
@@ -325,7 +325,7 @@ def _widened_tolerance(ctx: AuditContext, ks: np.ndarray, t: np.ndarray, tol: fl
     ),
     tiers={"within-extrapolation-allowance": Severity.warning},
 )
-def melting_point_mismatch(ctx: AuditContext):
+def melting_point_mismatch(ctx: AuditContext, th: dict[str, float]):
     """The primary triple-point test. A fixed tolerance on the crossing *temperature* fails
     good data: the crossing moves by dT = -(y_s - y_l) R Tm^2 / dH_fus, hundreds of kelvin per
     unit of ln P for a high-melting metal. So the pressure mismatch at the reference melting
@@ -339,7 +339,7 @@ def melting_point_mismatch(ctx: AuditContext):
     extrapolation's, not the data's.
     """
     pr = ctx.pairs
-    tol = ctx.thresholds("melting-point-mismatch")["tolerance"]
+    tol = th["tolerance"]
     tm = pr.tm
     rows = np.flatnonzero(pr.checkable & np.isfinite(tm))
     if rows.size == 0:
@@ -407,12 +407,12 @@ def melting_point_mismatch(ctx: AuditContext):
     "Both curves pass through the triple point (T_tp, P_tp).",
     (Threshold("tolerance", 0.10, "ln P", "largest |ln P_cross - ln P_tp|"),),
 )
-def triple_pressure_mismatch(ctx: AuditContext):
+def triple_pressure_mismatch(ctx: AuditContext, th: dict[str, float]):
     """Compared in ln P at the crossing; the solid curve's value at the reference triple
     temperature is used when the curves do not cross.
     """
     pr = ctx.pairs
-    tol = ctx.thresholds("triple-pressure-mismatch")["tolerance"]
+    tol = th["tolerance"]
     ptp = ctx.reference("triple_point_pressure", pr.solid)
     with np.errstate(invalid="ignore", divide="ignore"):
         diff = pr.y_cross - np.log(ptp)
@@ -442,14 +442,14 @@ def triple_pressure_mismatch(ctx: AuditContext):
     "relative to dH_sub, the quantity the curves determine.",
     (Threshold("tolerance", 0.03, "-", "largest |dH_sub - dH_vap - dH_fus| / dH_sub"),),
 )
-def fusion_enthalpy_mismatch(ctx: AuditContext):
+def fusion_enthalpy_mismatch(ctx: AuditContext, th: dict[str, float]):
     """The difference of two large slopes is sensitive: dH_fus of a metal is a few percent
     of dH_sub, so a 1 % error in one slope becomes a 30-40 % error in the implied dH_fus.
     Hence the residual relative to dH_sub. Evaluated at the reference melting point, else at
     the crossing.
     """
     pr = ctx.pairs
-    tol = ctx.thresholds("fusion-enthalpy-mismatch")["tolerance"]
+    tol = th["tolerance"]
     ref = ctx.reference("enthalpy_of_fusion", pr.solid)
     at = np.where(np.isfinite(pr.tm), pr.tm, pr.t_cross)
     rows = np.flatnonzero(pr.checkable & np.isfinite(ref) & np.isfinite(at))
@@ -505,12 +505,11 @@ def fusion_enthalpy_mismatch(ctx: AuditContext):
         Threshold("max", 100.0, "J/(mol K)", "highest plausible dS_fus"),
     ),
 )
-def fusion_entropy_implausible(ctx: AuditContext):
+def fusion_entropy_implausible(ctx: AuditContext, th: dict[str, float]):
     """dS_fus = R T (d(y_s - y_l)/dT) at the crossing, against a wide band (a note: the
     implied dH_fus is a sensitive difference of slopes).
     """
     pr = ctx.pairs
-    th = ctx.thresholds("fusion-entropy-implausible")
     ok = _crossed(ctx) & (pr.slope_diff > 0)
     ds = R * pr.t_cross * pr.slope_diff
     with np.errstate(invalid="ignore"):
@@ -537,14 +536,14 @@ def fusion_entropy_implausible(ctx: AuditContext):
     "A solid curve usually ends at the melting point and a liquid curve starts there.",
     (Threshold("max_gap", 0.03, "-", "largest gap to the melting point, relative to it"),),
 )
-def range_gap(ctx: AuditContext):
+def range_gap(ctx: AuditContext, th: dict[str, float]):
     """Temperatures between the end of the solid range and the start of the liquid range are
     covered by no record: the gap t_min(liquid) - t_max(solid), relative to the melting point
     (reference, else the crossing), against the limit. Ranges that meet or overlap leave no
     gap, wherever the reference melting point lies (that is melting-point-mismatch's test).
     """
     pr = ctx.pairs
-    lim = ctx.thresholds("range-gap")["max_gap"]
+    lim = th["max_gap"]
     at = np.where(np.isfinite(pr.tm), pr.tm, pr.t_cross)
     lo, hi = ctx.curves.t_max[pr.solid], ctx.curves.t_min[pr.liquid]
     with np.errstate(invalid="ignore"):

@@ -39,7 +39,7 @@ def _problem_hits(ctx: AuditContext, rules: list[str]):
     "A record, reference value or measured point cites no source.",
     "Every number in a property table must be traceable to its origin.",
 )
-def missing_source(ctx: AuditContext):
+def missing_source(ctx: AuditContext, th: dict[str, float]):
     """An empty ``source`` field in any of the three kinds of rows."""
     yield from _problem_hits(ctx, ["source"])
 
@@ -81,7 +81,7 @@ def equation_hashes(ctx: AuditContext) -> np.ndarray:
     "Ids must be unique and stable; a duplicated entry counts one source twice.",
     tiers={"same-equation-two-ids": Severity.warning},
 )
-def duplicate_record(ctx: AuditContext):
+def duplicate_record(ctx: AuditContext, th: dict[str, float]):
     """A repeated id is an error (the id is the record's identity in the store, in findings
     and in the gate). The same substance, phase, form, units and coefficients under two ids
     is reported as a warning: it counts one source twice in the consensus.

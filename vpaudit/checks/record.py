@@ -26,7 +26,7 @@ __all__: list[str] = []
     "An equation is only defined on its stated range; the Antoine form diverges at theta = -C.",
     tiers={"single-temperature": Severity.warning},
 )
-def range_invalid(ctx: AuditContext):
+def range_invalid(ctx: AuditContext, th: dict[str, float]):
     """Report rule problems of the range read from the table (missing, empty, t_min <= 0 K,
     an Antoine pole theta = -C inside [t_min, t_max]).
 
@@ -66,7 +66,7 @@ def range_invalid(ctx: AuditContext):
     (Threshold("max_abs_lnP", 700.0, "-", "largest |ln(P/Pa)| accepted"),),
     tiers={"placeholder-lower-end": Severity.warning},
 )
-def pressure_not_finite(ctx: AuditContext):
+def pressure_not_finite(ctx: AuditContext, th: dict[str, float]):
     """Evaluate ln P at the ends of the range and at the stationary points of the curve; a
     non-finite value or |ln(P/Pa)| beyond the limit is an error (overflowing exponent,
     wrong sign of a large coefficient, a Wagner record above its critical point).
@@ -77,7 +77,7 @@ def pressure_not_finite(ctx: AuditContext):
     t_min = 1 K for "no lower limit") claims pressures no measurement could give, which is
     a fault of the range, not of the coefficients.
     """
-    lim = ctx.thresholds("pressure-not-finite")["max_abs_lnP"]
+    lim = th["max_abs_lnP"]
     ex = ctx.range_extrema
     with np.errstate(invalid="ignore"):
         bad = ctx.evaluable & ~(
@@ -120,7 +120,7 @@ def pressure_not_finite(ctx: AuditContext):
     "The implied enthalpy dH = R T^2 dlnP/dT is not positive everywhere in the range.",
     "Clausius-Clapeyron: vapour pressure rises with temperature, dH > 0.",
 )
-def slope_not_positive(ctx: AuditContext):
+def slope_not_positive(ctx: AuditContext, th: dict[str, float]):
     """Vapour pressure must rise with temperature over the whole validity range.
 
     The minimum of dH(T) over the range is found exactly: at the ends, or where dH is
@@ -169,7 +169,7 @@ def slope_not_positive(ctx: AuditContext):
         Threshold("solid_max", 480.0, "J/(mol K)", "highest plausible dS of sublimation"),
     ),
 )
-def enthalpy_implausible(ctx: AuditContext):
+def enthalpy_implausible(ctx: AuditContext, th: dict[str, float]):
     """The entropy of the phase change to the ideal gas at P0 = 101325 Pa,
     dS = dH(T)/T + R ln(P(T)/P0), is nearly the same for most substances at any T (at the
     normal boiling point it is Trouton's dH_vap/T_b). It is evaluated at the reference
@@ -177,7 +177,6 @@ def enthalpy_implausible(ctx: AuditContext):
     range in 1/T. A log10/ln slip scales dH by 2.3; a pressure-unit slip shifts R ln P by
     R ln(factor) (96 J/(mol K) for atm read as Pa): both leave the band.
     """
-    th = ctx.thresholds("enthalpy-implausible")
     rows = np.flatnonzero(ctx.evaluable)
     if rows.size == 0:
         return
@@ -275,7 +274,7 @@ def entropy_band(th: dict, liquid: np.ndarray, t: np.ndarray) -> tuple[np.ndarra
     ),
     tiers={"beyond-error-above": Severity.error},
 )
-def heat_capacity_sign(ctx: AuditContext):
+def heat_capacity_sign(ctx: AuditContext, th: dict[str, float]):
     """The implied dCp comes from the curvature and is poorly fixed by a narrow-range fit: small
     positive values (a few J/(mol K)) occur in good fits (even in fits to ice, whose Cp
     falls with temperature), so only values beyond the tolerance are reported, and only
@@ -291,7 +290,6 @@ def heat_capacity_sign(ctx: AuditContext):
     over 163-176 K: 0.009 in ln P). Below the record's uncertainty, the curvature is the
     fit's noise, and the finding stays a warning.
     """
-    th = ctx.thresholds("heat-capacity-sign")
     ex = ctx.range_extrema
     factor = np.where(ctx.antoine, th["antoine_factor"], 1.0)
     with np.errstate(invalid="ignore"):
@@ -365,7 +363,7 @@ def bow_of_ln_t(t_lo, t_hi) -> np.ndarray:
         Threshold("antoine_factor", 3.0, "-", "widening for Antoine records"),
     ),
 )
-def heat_capacity_magnitude(ctx: AuditContext):
+def heat_capacity_magnitude(ctx: AuditContext, th: dict[str, float]):
     """The largest |dCp| over the range is compared with a limit; ends of the range suffice
     for log-linear forms (dCp is monotone in T), the Antoine dCp is also tested at its
     stationary point, and Wagner curves on a grid, over the near-ideal part of the range
@@ -373,7 +371,6 @@ def heat_capacity_magnitude(ctx: AuditContext):
     coefficient or a fit extrapolated far beyond its data.
     Tested over the near-ideal part of the range, as ``heat-capacity-sign``.
     """
-    th = ctx.thresholds("heat-capacity-magnitude")
     ex = ctx.range_extrema
     mag = np.fmax(np.abs(ex.cp_min), np.abs(ex.cp_max))
     limit = th["limit"] * np.where(ctx.antoine, th["antoine_factor"], 1.0)
@@ -423,12 +420,11 @@ def _delta_z(ctx: AuditContext, rows: np.ndarray, t: np.ndarray, y: np.ndarray):
     ),
     tiers={"beyond-error-above": Severity.error},
 )
-def enthalpy_mismatch(ctx: AuditContext):
+def enthalpy_mismatch(ctx: AuditContext, th: dict[str, float]):
     """Each reference enthalpy of vaporization (liquid records) or sublimation (solid
     records) is compared with R T^2 dlnP/dT * dZ at its stated temperature (298.15 K if none
     is given), when that temperature lies within the record's range (+/- 5 %).
     """
-    th = ctx.thresholds("enthalpy-mismatch")
     refs = ctx.table.references
     if not len(refs):
         return
@@ -484,12 +480,11 @@ def enthalpy_mismatch(ctx: AuditContext):
         Threshold("range_margin", 0.02, "-", "relative margin beyond the range still compared"),
     ),
 )
-def points_misfit(ctx: AuditContext):
+def points_misfit(ctx: AuditContext, th: dict[str, float]):
     """Every measured point of the record's substance and phase within its range (plus a
     small margin) is compared in ln P; the uncertainty of each residual combines the point's
     and the record's relative uncertainties. Reported with RMS and worst point.
     """
-    th = ctx.thresholds("points-misfit")
     pts = ctx.table.points
     if not len(pts):
         return

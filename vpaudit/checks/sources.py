@@ -54,7 +54,7 @@ def _blamed_by_boiling_point(ctx: AuditContext, pair: tuple[int, int]):
         Threshold("range_margin", 0.02, "-", "relative margin beyond a range still compared"),
     ),
 )
-def sources_disagree(ctx: AuditContext):
+def sources_disagree(ctx: AuditContext, th: dict[str, float]):
     """For each record, on a 9-point grid over its range (in 1/T), the other records of the
     same substance, phase and modification that cover each temperature give a median; the
     largest |ln P_i - median| is compared with k * sqrt(u_i^2 + u_others^2). With only two
@@ -62,7 +62,6 @@ def sources_disagree(ctx: AuditContext):
     reference normal boiling point meets one curve (within the boiling-point check's
     tolerance) and not the other.
     """
-    th = ctx.thresholds("sources-disagree")
     mod_code = codes(ctx.table.records["modification"])[0] + 1  # 0: no modification
     key = (ctx.codes * 2 + ctx.liquid) * (mod_code.max(initial=0) + 1) + mod_code
     rows = np.flatnonzero(ctx.evaluable)

@@ -41,6 +41,13 @@ __all__ = ["CriticalResiduals", "critical_residuals"]
             "-",
             "relative margin beyond Tc allowed when the reference states no uncertainty",
         ),
+        Threshold(
+            "evaluations_max",
+            0.013,
+            "-",
+            "relative margin beyond Tc within which, past the tolerance, it is a warning "
+            "that may concern the reference (the 99th percentile of Tc evaluations)",
+        ),
     ),
     tiers={"reference-doubted": Severity.warning},
 )
@@ -55,8 +62,12 @@ def above_critical(ctx: AuditContext, th: dict[str, float]):
     Two evaluations of Tc can disagree by more than that, and then the reference may be the
     one that is off. When the substance has a reference critical pressure and the curve
     reaches it nearer its own range end than the reference Tc, the range ends at its
-    source's Tc: a warning that names the reference. A reference Tc below the whole range
-    is named the same way.
+    source's Tc: a warning that names the reference (and when the curve reaches it at the
+    reference Tc, the reference critical point lies on the curve: an error). Without a
+    reference Pc, a range that passes a reference Tc stating no uncertainty by more than
+    the tolerance but less than ``evaluations_max`` (the 99th percentile of those
+    differences) is a warning that says the reference may be off, as for a boiling point. A
+    reference Tc below the whole range is named as the likely culprit.
     """
     own = ctx.curves.own_t_crit
     ref = ctx.reference("critical_temperature")
@@ -70,6 +81,7 @@ def above_critical(ctx: AuditContext, th: dict[str, float]):
         # more about the reference than about the record: no liquid curve lies entirely
         # above its critical point
         below = ~np.isfinite(own) & (ref + margin < ctx.curves.t_min)
+    pc_known = np.isfinite(ctx.reference("critical_pressure"))
     sides = _critical_pressure_sides(ctx, np.flatnonzero(bad & ~below & ~np.isfinite(own)), ref)
     for i in np.flatnonzero(bad):
         if below[i]:
@@ -79,10 +91,19 @@ def above_critical(ctx: AuditContext, th: dict[str, float]):
             yield _disputed_tc(ctx, i, ref[i], *sides[i])
             continue
         whose = "the record's own" if np.isfinite(own[i]) else "the reference"
+        doubted = False
         if np.isfinite(own[i]):
             beyond = ""
         elif np.isfinite(u[i]):
             beyond = f" (beyond its stated uncertainty of {margin[i]:.3g} K)"
+        elif not pc_known[i] and ctx.curves.t_max[i] <= ref[i] * (1.0 + th["evaluations_max"]):
+            doubted = True
+            beyond = (
+                f" by more than the {th['tolerance'] * 100:g} % ({margin[i]:.3g} K) by which "
+                "independent evaluations of Tc usually differ, but within the "
+                f"{th['evaluations_max'] * 100:g} % by which they can (99th percentile): the "
+                "reference may be the one that is off; check both against their sources"
+            )
         else:
             beyond = (
                 f" by more than the {th['tolerance'] * 100:g} % ({margin[i]:.3g} K) by which "
@@ -91,13 +112,15 @@ def above_critical(ctx: AuditContext, th: dict[str, float]):
         yield Hit(
             i,
             f"the range ends at {kelvin(ctx.curves.t_max[i])}, above {whose} critical "
-            f"temperature {kelvin(tc[i])}{beyond}, where no liquid exists.",
+            f"temperature {kelvin(tc[i])}{beyond}"
+            + ("." if doubted else ", where no liquid exists."),
             {
                 "t_max_K": ctx.curves.t_max[i],
                 "critical_temperature_K": tc[i],
                 "allowed_K": allowed[i],
                 "residual_K": ctx.curves.t_max[i] - tc[i],
             },
+            tier="reference-doubted" if doubted else None,
         )
 
 

@@ -215,7 +215,7 @@ class CriticalResiduals(NamedTuple):
 def critical_residuals(ctx: AuditContext) -> CriticalResiduals | None:
     """The residual of every liquid record whose range ends within ``reach`` of the
     reference Tc (below it, or beyond it) and whose substance has a reference Pc; None when
-    there is none. One definition, for the check and for the diagnosis.
+    there is none.
 
     The curve is compared at Tc, or at its own range end (a Wagner record's own Tc) when that
     is lower: ln P(t) - ln Pc, less what moving Tc within its uncertainty explains (the

@@ -228,12 +228,22 @@ def coverage(ctx: AuditContext) -> dict[str, int]:
         pc = ctx.point_codes
         points[pc[pc >= 0]] = True
     per_phase = np.bincount(codes[has], minlength=n)
+    # the 298.15 K anchor judges a curve whose range starts within its reach of 298.15 K
+    reach = ctx.policy.thresholds("anchor-enthalpy")["max_ratio"] * 298.15
+    near = has & ctx.evaluable & (ctx.curves.t_min <= reach)
+    liquid_near = np.bincount(codes[near & ctx.liquid], minlength=n) > 0
+    solid_near = np.bincount(codes[near & ctx.solid], minlength=n) > 0
+    vaporization = referenced(
+        "standard_enthalpy_of_vaporization", "standard_entropy_of_vaporization"
+    )
+    sublimation = referenced("standard_enthalpy_of_sublimation", "standard_entropy_of_sublimation")
     out = {
         "no_partner_phase": present & ~both,
         "no_melting_reference": both & ~referenced("melting_point", "triple_point_temperature"),
         "no_boiling_reference": liquid & ~referenced("normal_boiling_point"),
         "no_enthalpy_reference": present
         & ~referenced("enthalpy_of_vaporization", "enthalpy_of_sublimation", "enthalpy_of_fusion"),
+        "no_standard_reference": (liquid_near & ~vaporization) | (solid_near & ~sublimation),
         "single_source": present & (per_phase <= np.where(both, 2, 1)),
         "no_points": present & ~points,
     }

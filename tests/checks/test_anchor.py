@@ -94,3 +94,23 @@ def test_show_and_plot_give_the_anchor(alcock_solids, tmp_path):
 
     text = render_show(table, "Zn", audit(table, substances=["Zn"]))
     assert "Anchor at 298.15 K" in text and "130.4" in text
+
+
+def test_the_report_says_which_curves_lacked_their_standard_data(alcock_solids):
+    # a curve whose range starts within the anchor's reach (twice 298.15 K) and whose
+    # substance has no standard data of its phase change is counted as not tested; with the
+    # CRC standard data it is not, nor is a curve whose range starts far above the reach
+    solids, refs = alcock_solids
+    near = [r for r in solids if r["t_min"] <= 2 * 298.15]
+    # the same curves with their ranges cut to start at 1000 K, far beyond the reach
+    far = [dict(r, t_min=1000.0) for r in solids if r["t_max"] > 1100.0]
+    assert near and far
+    missing = audit_table(table_from_rows(near), diagnose=False).summary["not_checked"]
+    assert missing["no_standard_reference"] == len({r["substance"] for r in near})
+    with_data = {r["substance"] for r in refs}
+    partly = audit_table(table_from_rows(near, refs), diagnose=False).summary["not_checked"]
+    assert partly.get("no_standard_reference", 0) == len({r["substance"] for r in near} - with_data)
+    assert (
+        "no_standard_reference"
+        not in audit_table(table_from_rows(far), diagnose=False).summary["not_checked"]
+    )

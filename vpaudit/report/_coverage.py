@@ -8,6 +8,10 @@ NOT_TESTED = {
     "no_melting_reference": ("the melting-point tests", "no melting or triple point reference"),
     "no_boiling_reference": ("the boiling-point test", "no normal boiling point reference"),
     "no_enthalpy_reference": ("the enthalpy comparison", "no reference enthalpy"),
+    "no_standard_reference": (
+        "the 298.15 K anchor",
+        "no standard enthalpy or entropy of the phase change",
+    ),
     "single_source": ("the comparison of sources", "one source per phase"),
     "no_points": ("the fit to measured points", "no measured points"),
 }

@@ -444,3 +444,24 @@ def test_an_unrelated_problem_does_not_hide_a_clear_slip_and_is_named():
     assert reproduces(solid, next(r for r in bad if r["phase"] == "solid"), sug)
     unexplained = "which it does not explain: fusion-enthalpy-mismatch (Cu-liquid, Cu-solid)"
     assert unexplained in sug["explanation"]
+
+
+def test_an_anchor_whose_enthalpy_misses_weighs_its_entropy_less():
+    # acetic acid (Landolt's liquid equation, odd CAS, via chemicals) with its coefficients
+    # for atm marked Pa; the only witness is the CRC standard data at 298.15 K. Its vapour
+    # associates, so even the clean curve misses the standard dH_vap(298) by -18 % (beyond
+    # the anchor's allowance) and dS0 by -13.5 J/(mol K): the entropy, which rests on the
+    # same extrapolation, must not make a confident choice between units (it put MPa at a
+    # stated 0.81 before); the true unit stays among the two best
+    from compilations import landolt
+
+    records, _ = landolt()
+    rec = next(r for r in records if r["substance"] == "64-19-7" and r["phase"] == "liquid")
+    bad = dict(rec, A=rec["A"] - float(np.log(101325.0)))
+    refs = anchor_rows("64-19-7", "64-19-7", "liquid")
+    assert len(refs) == 2
+    sug, flagged = suggestion_for([bad], refs, rec["id"])
+    assert flagged and sug is not None and sug["confidence"] < 0.8
+    named = {sug["corrected"].get("pressure_unit")}
+    named.add(sug.get("runner_up", {}).get("corrected", {}).get("pressure_unit"))
+    assert "atm" in named

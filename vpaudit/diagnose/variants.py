@@ -232,15 +232,14 @@ def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
         with np.errstate(invalid="ignore", divide="ignore"):
             miss_h = np.abs(a.h - a.h_ref) / al.h_warn
         doubt = np.where(np.isfinite(miss_h), np.maximum(miss_h, 1.0), 1.0)
-        for value, ref, allow, base, extra in (
-            (a.h, a.h_ref, al.h_warn, al.h_base, np.ones_like(doubt)),
-            (a.s, a.s_ref, al.s_warn, al.s_base, doubt),
+        for value, ref, allow, base in (
+            (a.h, a.h_ref, al.h_warn, al.h_base),
+            (a.s, a.s_ref, al.s_warn * doubt, al.s_base),
         ):
             m = np.isfinite(ref)
             # widened with the extrapolation: an Antoine range read in degC, farther from
             # 298.15 K, gains nothing by its wider allowance
-            widen = allow[m] / base[m] * extra[m]
-            add_widened(ctx.codes[a.rows[m]], value[m] - ref[m], 0.5 * allow[m] * extra[m], widen)
+            add_widened(ctx.codes[a.rows[m]], value[m] - ref[m], 0.5 * allow[m], allow[m] / base[m])
     # other sources of the same substance and phase, at the middle of the common range
     key = np.where(ctx.evaluable, ctx.codes * 2 + ctx.liquid, -1)
     ev = np.flatnonzero(key >= 0)

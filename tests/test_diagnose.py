@@ -354,26 +354,40 @@ def test_log_sum_exp_equals_scipy(values):
     assert _logsumexp(x) == pytest.approx(float(logsumexp(x)), rel=1e-12, abs=1e-12)
 
 
-def test_scores_of_many_outcomes_at_once_equal_one_at_a_time():
-    """The screening scores all candidates in one pass; each must equal the outcome's own
-    score (evidence costs capped, NaN as the cap, floors and findings added)."""
-    from vpaudit.checks._registry import Severity
-    from vpaudit.checks.finding import Finding
+def test_screening_scores_all_units_at_once_as_one_at_a_time():
+    """The screening scores all candidates in one pass over columns; each unit's score must
+    equal its own sum, computed here one piece at a time: evidence costs (z^2, or the soft-L1
+    cost) capped, NaN as the cap, plus the floor of errors and warnings."""
+    import math
+
     from vpaudit.diagnose.scoring import CALIBRATION
-    from vpaudit.diagnose.variants import _Outcome, _prime_scores
+    from vpaudit.diagnose.variants import Screening
 
     rng = np.random.default_rng(3)
-    outs = []
+    pieces, floors = [], []
     for k in range(300):
         z = rng.normal(0.0, 3.0, int(rng.integers(0, 8)))
         if k % 7 == 0 and z.size:
             z[0] = np.nan
-        sev = [Severity.error, Severity.warning, Severity.note][k % 3]
-        found = [Finding("no-crossing", sev, "x", ("r",), "m")] * int(rng.integers(0, 3))
-        outs.append(_Outcome(found, z, floor=(int(rng.integers(0, 3)), int(rng.integers(0, 3)))))
-    one_by_one = [o._score(CALIBRATION) for o in outs]
-    _prime_scores(outs, CALIBRATION)
-    assert [o.score(CALIBRATION) for o in outs] == pytest.approx(one_by_one, rel=1e-12)
+        pieces.append(np.abs(z))
+        floors.append((int(rng.integers(0, 3)), int(rng.integers(0, 3))))
+    bounds = np.concatenate([[0], np.cumsum([z.size for z in pieces])])
+    screening = Screening(np.concatenate(pieces), bounds, np.array(floors), [b""] * len(pieces))
+    for loss in ("quadratic", "soft-l1"):
+        cal = dict(CALIBRATION, loss=loss)
+        cap = cal["component_cap"]
+
+        def cost(x, loss=loss, cap=cap):
+            if math.isnan(x):
+                return cap
+            c = x * x if loss == "quadratic" else 2.0 * (math.sqrt(1.0 + x * x) - 1.0)
+            return min(c, cap)
+
+        one_by_one = [
+            sum(cost(float(x)) for x in z) + e * cal["error_cost"] + w * cal["warning_cost"]
+            for z, (e, w) in zip(pieces, floors, strict=True)
+        ]
+        assert screening.scores(cal).tolist() == pytest.approx(one_by_one, rel=1e-12)
 
 
 def test_a_compound_metadata_slip_is_named_with_all_its_parts():

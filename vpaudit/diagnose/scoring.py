@@ -6,6 +6,7 @@ from __future__ import annotations
 
 import math
 from collections import defaultdict
+from dataclasses import dataclass
 
 import numpy as np
 
@@ -18,12 +19,13 @@ from .candidates import SLIP_KINDS, Candidate, Change, candidates_for
 from .variants import (
     _NOT_EVIDENCE,
     _VERIFIED,
+    Screening,
     _audit_units,
     _groups,
     _key,
     _Outcome,
-    _prime_scores,
     _quiet,
+    _screen_units,
 )
 
 # --- scoring and suggestions -----------------------------------------------------------------
@@ -53,6 +55,21 @@ def _logsumexp(x: np.ndarray) -> float:
     if not np.isfinite(top):
         return top
     return top + float(np.log(np.sum(np.exp(x - top))))
+
+
+@dataclass
+class Dropped:
+    """The candidates of one substance that the screening left out of the full checks, as
+    columns: their log priors and their units in the screening, whose evidence still
+    enters the normalization of the posterior (:func:`choose`).
+    """
+
+    log_prior: np.ndarray
+    units: np.ndarray
+    screening: Screening
+
+    def __len__(self) -> int:
+        return int(self.units.size)
 
 
 def _suspects(findings: Findings, limit: int | None) -> tuple[dict[str, set[str]], int]:
@@ -142,20 +159,21 @@ def hypotheses(
     # checks then run on the best few of each substance. A screened-out candidate still
     # counts in the normalization with its evidence alone -- an upper bound on its weight, so
     # the confidence of the chosen fix can only be understated by the screening.
-    screened = _audit_units(table, ctx, units, checks=False)
-    cal = CALIBRATION
-    _prime_scores(screened, cal)
+    screened = _screen_units(table, ctx, units)
+    scores = screened.scores(cal)
     units2: list[tuple[int, tuple[Change, ...]]] = []
-    plan2: dict[str, tuple[int, list[Candidate], list]] = {}
+    plan2: dict[str, tuple[int, list[Candidate], Dropped]] = {}
     for name, (start, cands) in plan.items():
-        outs = screened[start + 1 : start + 1 + len(cands)]
-        rank = sorted(
-            range(len(cands)),
-            key=lambda k: -(cands[k].log_prior - outs[k].score(cal) / (2 * cal["temperature"])),
+        prior = np.fromiter((c.log_prior for c in cands), dtype=float, count=len(cands))
+        fit = prior - scores[start + 1 : start + 1 + len(cands)] / (2 * cal["temperature"])
+        rank = np.argsort(-fit, kind="stable")
+        keep = np.sort(rank[:_VERIFIED]).tolist()
+        rest = rank[_VERIFIED:]
+        plan2[name] = (
+            len(units2),
+            [cands[k] for k in keep],
+            Dropped(prior[rest], start + 1 + rest, screened),
         )
-        keep = sorted(rank[:_VERIFIED])
-        dropped = [(cands[k].log_prior, outs[k]) for k in rank[_VERIFIED:]]
-        plan2[name] = (len(units2), [cands[k] for k in keep], dropped)
         units2.append(units[start])
         units2.extend(units[start + 1 + k] for k in keep)
     outcomes = _audit_units(table, ctx, units2)
@@ -234,12 +252,12 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
         if not harmful[k]:
             verified.setdefault(o.key, logw[1 + k] - cands[k].log_prior)
     joined: dict[bytes, list[float]] = defaultdict(list)
-    rest = []
-    for lp, o in dropped:
-        if o.key in verified:
-            joined[o.key].append(lp + verified[o.key])
-        else:
-            rest.append(lp - o.score(cal) / (2 * T))
+    keys = [dropped.screening.keys[u] for u in dropped.units.tolist()]
+    alone = np.array([k not in verified for k in keys], dtype=bool)
+    for lp, k in zip(dropped.log_prior[~alone].tolist(), np.flatnonzero(~alone), strict=True):
+        joined[keys[k]].append(lp + verified[keys[k]])
+    scores = dropped.screening.scores(cal)[dropped.units[alone]]
+    rest = dropped.log_prior[alone] - scores / (2 * T)
     extra = [w for ws in joined.values() for w in ws]
     z = _logsumexp(np.concatenate([logw, rest, extra]))
     post = np.exp(logw - z)

@@ -96,19 +96,16 @@ def _variant_table(
         out["substance"] = pd.Series(unit_of.astype(str), dtype=TEXT)
         return out, idx
 
-    recs, src_rows = replicate(table.records, rec_g)
-    # where each (unit, original row) landed
-    starts = np.concatenate(([0], np.cumsum([rec_g.get(c, empty).size for c, _ in units])))
-    pos: dict[tuple[int, int], int] = {}
-    for u, (code, changes) in enumerate(units):
-        if changes:
-            rows = rec_g[code]
-            for k, r in enumerate(rows):
-                pos[(u, int(r))] = int(starts[u] + k)
+    recs, _ = replicate(table.records, rec_g)
+    # where each change lands: its unit's first row, plus the changed row's place among the
+    # rows of its substance
+    sizes = np.array([rec_g.get(c, empty).size for c, _ in units], dtype=np.int64)
+    starts = np.concatenate(([0], np.cumsum(sizes))).tolist()
+    place = {int(r): k for rows in rec_g.values() for k, r in enumerate(rows.tolist())}
     edits: dict[str, list[tuple[int, object, str | None]]] = defaultdict(list)
     for u, (_, changes) in enumerate(units):
         for ch in changes:
-            edits[ch.field].append((pos[(u, ch.row)], ch.value, ch.text))
+            edits[ch.field].append((starts[u] + place[ch.row], ch.value, ch.text))
     for field, items in edits.items():
         at = np.array([i for i, _, _ in items], dtype=np.int64)
         if field in _TEXT_FIELDS:
@@ -288,53 +285,66 @@ def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
     return np.concatenate(out_codes), np.concatenate(out_cost)
 
 
-@dataclass
-class _Outcome:
-    findings: list[Finding]
-    z: np.ndarray  # |standardized residual| of each piece of continuous evidence
-    key: bytes = b""  # what the correction amounts to (curves, ranges, phases), rounded
-    floor: tuple[int, int] = (0, 0)  # screening only: errors, warnings the checks must give
+def _evidence_costs(z: np.ndarray, cal: dict) -> np.ndarray:
+    """The cost of each piece of evidence |z| under the calibration ``cal``: its loss,
+    NaN taken as infinite, capped at the component cap.
+    """
+    with np.errstate(invalid="ignore", over="ignore"):
+        cost = z * z if cal["loss"] == "quadratic" else _rho(z)
+    return np.minimum(np.where(np.isnan(cost), np.inf, cost), cal["component_cap"])
 
-    def score(self, cal: dict) -> float:
-        """The misfit S: capped evidence costs plus the cost of each finding."""
+
+@dataclass
+class Screening:
+    """The screening stage's outcome of many units, as columns: every unit's continuous
+    evidence one after the other, and what the checks must report for it. Its scores are
+    computed for all units at once (one pass over all their evidence), never one unit at
+    a time.
+    """
+
+    z: np.ndarray  # |standardized residual| of every piece of evidence, unit after unit
+    bounds: np.ndarray  # unit u's evidence is z[bounds[u]:bounds[u + 1]]
+    floors: np.ndarray  # (units, 2): errors and warnings the checks must give each unit
+    keys: list[bytes]  # what each unit's correction amounts to (:func:`_unit_keys`)
+
+    def __len__(self) -> int:
+        return len(self.keys)
+
+    def scores(self, cal: dict) -> np.ndarray:
+        """The misfit S of every unit under ``cal``: capped evidence costs plus the floor of
+        findings the checks must give (cached per calibration).
+        """
         key = (cal["loss"], cal["component_cap"], cal["error_cost"], cal["warning_cost"])
         cache = self.__dict__.setdefault("_scores", {})
         if key not in cache:
-            cache[key] = self._score(cal)
+            n = len(self.keys)
+            owner = np.repeat(np.arange(n), np.diff(self.bounds))
+            evidence = np.bincount(owner, weights=_evidence_costs(self.z, cal), minlength=n)
+            floor = self.floors[:, 0] * cal["error_cost"] + self.floors[:, 1] * cal["warning_cost"]
+            cache[key] = evidence + floor
         return cache[key]
 
-    def _score(self, cal: dict) -> float:
-        fc = {"error": cal["error_cost"], "warning": cal["warning_cost"], "note": 0.0}
-        with np.errstate(invalid="ignore", over="ignore"):
-            cost = self.z * self.z if cal["loss"] == "quadratic" else _rho(self.z)
-        cost = np.where(np.isnan(cost), np.inf, cost)
-        floor = self.floor[0] * fc["error"] + self.floor[1] * fc["warning"]
-        return (
-            float(np.minimum(cost, cal["component_cap"]).sum())
-            + floor
-            + sum(fc[f.severity.value] for f in self.findings)
-        )
 
+@dataclass
+class _Outcome:
+    """One unit audited by the full checks: its findings and its continuous evidence."""
 
-def _prime_scores(outcomes: list[_Outcome], cal: dict) -> None:
-    """:meth:`_Outcome.score` of many outcomes at once (one pass over all their evidence
-    instead of a few numpy calls on a short array each); fills each outcome's cache.
-    """
-    if not outcomes:
-        return
-    key = (cal["loss"], cal["component_cap"], cal["error_cost"], cal["warning_cost"])
-    sizes = np.fromiter((o.z.size for o in outcomes), dtype=np.int64, count=len(outcomes))
-    z = np.concatenate([np.asarray(o.z, dtype=float).ravel() for o in outcomes])
-    with np.errstate(invalid="ignore", over="ignore"):
-        cost = z * z if cal["loss"] == "quadratic" else _rho(z)
-    cost = np.minimum(np.where(np.isnan(cost), np.inf, cost), cal["component_cap"])
-    owner = np.repeat(np.arange(len(outcomes)), sizes)
-    evidence = np.bincount(owner, weights=cost, minlength=len(outcomes))
-    fc = {"error": cal["error_cost"], "warning": cal["warning_cost"], "note": 0.0}
-    for o, e in zip(outcomes, evidence.tolist(), strict=True):
-        floor = o.floor[0] * fc["error"] + o.floor[1] * fc["warning"]
-        total = e + floor + sum(fc[str(f.severity)] for f in o.findings)
-        o.__dict__.setdefault("_scores", {})[key] = total
+    findings: list[Finding]
+    z: np.ndarray  # |standardized residual| of each piece of continuous evidence
+    key: bytes = b""  # what the correction amounts to (curves, ranges, phases), rounded
+
+    def score(self, cal: dict) -> float:
+        """The misfit S: capped evidence costs plus the cost of each finding (cached per
+        calibration).
+        """
+        key = (cal["loss"], cal["component_cap"], cal["error_cost"], cal["warning_cost"])
+        cache = self.__dict__.setdefault("_scores", {})
+        if key not in cache:
+            fc = {"error": cal["error_cost"], "warning": cal["warning_cost"], "note": 0.0}
+            cache[key] = float(_evidence_costs(self.z, cal).sum()) + sum(
+                fc[f.severity.value] for f in self.findings
+            )
+        return cache[key]
 
 
 def _severity(vctx: AuditContext, check: str, tier: str | None = None) -> Severity | None:
@@ -345,11 +355,11 @@ def _severity(vctx: AuditContext, check: str, tier: str | None = None) -> Severi
     return None if policy is None else REGISTRY[check].severity_under(policy, tier)
 
 
-def _hard_failures(vctx: AuditContext, unit_of_code: np.ndarray, n: int) -> list:
+def _hard_failures(vctx: AuditContext, unit_of_code: np.ndarray, n: int) -> np.ndarray:
     """Errors and warnings that some checks must report for each unit (pressure-not-finite,
     slope-not-positive, heat-capacity-sign, no-crossing, melting-point-mismatch), counted
     from the same arrays as those checks without building findings: a lower bound of each
-    unit's findings cost.
+    unit's findings cost. Returns an (n, 2) array of counts: errors, warnings.
     """
     ex = vctx.range_extrema
     ev = vctx.evaluable
@@ -401,52 +411,80 @@ def _hard_failures(vctx: AuditContext, unit_of_code: np.ndarray, n: int) -> list
     ok = unit >= 0
     e = np.bincount(unit[ok], weights=errors[ok], minlength=n).astype(int)
     w = np.bincount(unit[ok], weights=warnings[ok], minlength=n).astype(int)
-    return list(zip(e.tolist(), w.tolist(), strict=True))
+    return np.column_stack([e, w])
 
 
-def _audit_units(
-    table: Table,
-    ctx: AuditContext,
-    units: list[tuple[int, tuple[Change, ...]]],
-    checks: bool = True,
-) -> list[_Outcome]:
-    """Audit every unit (a substance with one correction); without ``checks`` only the
-    continuous evidence is computed (the screening stage: no findings are built).
+def _chunks(table: Table, ctx: AuditContext, units: list[tuple[int, tuple[Change, ...]]]):
+    """The units (a substance code and the changes of one correction) as variant tables of
+    at most :data:`_CHUNK_ROWS` records: yields (the chunk's units, its audit context, the
+    unit of each of its substance codes).
     """
-    from ..auditing import run_checks
-
-    names = [n for n in REGISTRY if n not in _NOT_EVIDENCE]
-    outcomes: list[_Outcome] = []
     sizes = np.bincount(ctx.codes[ctx.codes >= 0], minlength=ctx.n_names)
     a = 0
-    while a < len(units):  # chunks of at most _CHUNK_ROWS variant records
+    while a < len(units):
         b, rows = a, 0
         while b < len(units) and (b == a or rows + sizes[units[b][0]] <= _CHUNK_ROWS):
             rows += sizes[units[b][0]]
             b += 1
         part = units[a:b]
-        vt = _variant_table(table, ctx, part)
-        vctx = AuditContext(vt, ctx.policy, ctx.runtime)
+        vctx = AuditContext(_variant_table(table, ctx, part), ctx.policy, ctx.runtime)
+        yield part, vctx, np.array([int(n) for n in vctx.names], dtype=np.int64)
+        a = b
+
+
+def _evidence_by_unit(vctx: AuditContext, unit_of_code: np.ndarray, n: int):
+    """The continuous evidence of a chunk's ``n`` units (:func:`_misfit`), grouped unit
+    after unit: (|z| of every piece, bounds of each unit's pieces).
+    """
+    with np.errstate(all="ignore"):
+        codes, z = _misfit(vctx)
+    unit = unit_of_code[codes] if codes.size else codes
+    order = np.argsort(unit, kind="stable")
+    return z[order], np.searchsorted(unit[order], np.arange(n + 1))
+
+
+def _screen_units(
+    table: Table, ctx: AuditContext, units: list[tuple[int, tuple[Change, ...]]]
+) -> Screening:
+    """The screening stage: the continuous evidence of every unit and the errors and
+    warnings some checks must give it (:func:`_hard_failures`), as columns; no finding is
+    built.
+    """
+    zs, bounds, floors, keys = [], [np.zeros(1, dtype=np.int64)], [], []
+    offset = 0
+    for part, vctx, unit_of_code in _chunks(table, ctx, units):
+        z, b = _evidence_by_unit(vctx, unit_of_code, len(part))
+        zs.append(z)
+        bounds.append(b[1:] + offset)
+        offset += z.size
+        floors.append(_hard_failures(vctx, unit_of_code, len(part)))
+        keys.extend(_unit_keys(vctx, len(part)))
+    return Screening(
+        np.concatenate(zs) if zs else np.empty(0),
+        np.concatenate(bounds),
+        np.concatenate(floors) if floors else np.zeros((0, 2), dtype=np.int64),
+        keys,
+    )
+
+
+def _audit_units(
+    table: Table, ctx: AuditContext, units: list[tuple[int, tuple[Change, ...]]]
+) -> list[_Outcome]:
+    """Audit every unit (a substance with one correction) by the full checks."""
+    from ..auditing import run_checks
+
+    names = [n for n in REGISTRY if n not in _NOT_EVIDENCE]
+    outcomes: list[_Outcome] = []
+    for part, vctx, unit_of_code in _chunks(table, ctx, units):
         with np.errstate(all="ignore"):
-            found = run_checks(vctx, names) if checks else []
-            mis = _misfit(vctx)
+            found = run_checks(vctx, names)
         by_unit: dict[int, list[Finding]] = defaultdict(list)
         for f in found:  # the variants' findings are few: row views
             if f.substance:
                 by_unit[int(f.substance)].append(f)
-        unit_of_code = np.array([int(n) for n in vctx.names], dtype=np.int64)
-        mc, cost = mis
-        mu = unit_of_code[mc] if mc.size else mc
-        order = np.argsort(mu, kind="stable")
-        split = np.searchsorted(mu[order], np.arange(len(part) + 1))
-        costs = [cost[order[split[u] : split[u + 1]]] for u in range(len(part))]
+        z, b = _evidence_by_unit(vctx, unit_of_code, len(part))
         keys = _unit_keys(vctx, len(part))
-        floors = _hard_failures(vctx, unit_of_code, len(part)) if not checks else None
-        outcomes.extend(
-            _Outcome(by_unit[u], costs[u], keys[u], floors[u] if floors else (0, 0))
-            for u in range(len(part))
-        )
-        a = b
+        outcomes.extend(_Outcome(by_unit[u], z[b[u] : b[u + 1]], keys[u]) for u in range(len(part)))
     return outcomes
 
 

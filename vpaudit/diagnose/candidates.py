@@ -6,9 +6,9 @@ from __future__ import annotations
 
 import math
 from collections import Counter, defaultdict
-from dataclasses import dataclass
 from decimal import Decimal, InvalidOperation
 from itertools import combinations as _combinations
+from typing import NamedTuple
 
 import numpy as np
 
@@ -56,8 +56,7 @@ _RANGE_ABOVE_BOILING = math.log(0.003)
 _HEAT_CAPACITY_POSITIVE = math.log(9 / 396)
 
 
-@dataclass(frozen=True)
-class Change:
+class Change(NamedTuple):
     """One cell of a corrected record: ``field`` of record ``row`` becomes ``value``
     (``text`` is the number as it would be written in the table).
     """
@@ -68,8 +67,7 @@ class Change:
     text: str | None = None
 
 
-@dataclass(frozen=True)
-class Candidate:
+class Candidate(NamedTuple):
     """One hypothesis: the slip ``kind`` in record ``row``, undone by ``changes``."""
 
     kind: str
@@ -271,7 +269,8 @@ def candidates_for(
     for kind, items in by_kind.items():
         # the kind's prior is shared among its distinct corrections: two names of one
         # pressure unit (Torr and mmHg, 1.4e-7 apart) are one hypothesis, not two
-        same = Counter(_canonical(ch) for ch, _ in items)
+        canonical = [_canonical(ch) for ch, _ in items]
+        same = Counter(canonical)
         lp = log_prior - math.log(len(same))
         if kind == "metadata-combination":
             lp += _COMBINATION_PRIOR
@@ -280,10 +279,10 @@ def candidates_for(
                 kind,
                 row,
                 ch,
-                lp - math.log(same[_canonical(ch)]) + implausible.get(ch, 0.0),
+                lp - math.log(same[key]) + implausible.get(ch, 0.0),
                 label,
             )
-            for ch, label in items
+            for (ch, label), key in zip(items, canonical, strict=True)
         )
     return out
 

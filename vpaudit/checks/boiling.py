@@ -185,6 +185,14 @@ def _reduced_pressure_reference(th, c, t, y, y1, t_implied):
             "highest pressure of a boiling point at reduced pressure looked for",
         ),
         Threshold(
+            "own_boiling",
+            1.0,
+            "K",
+            "distance of the temperature where a curve reaches 101325 Pa from the upper end "
+            "of its range within which the record is taken to carry its source's own normal "
+            "boiling point (ranges are stated to 1 K; 35 % of Landolt's liquids end there)",
+        ),
+        Threshold(
             "near",
             0.10,
             "-",
@@ -210,11 +218,15 @@ def boiling_point_mismatch(ctx: AuditContext, th: dict[str, float]):
     4e-5/K x T_b of T_b (that 95th percentile: 1.3 % at 325 K, 2 % at 500 K, 2.6 % at
     650 K, held at 3 % above 750 K, where the comparison has too few substances) is a
     warning, since the reference may be the party that is off; beyond it, an
-    error. A reference with a stated uncertainty is held to it. The implied boiling
-    temperature is evidence. When T_b lies outside the range, the tolerance grows in
-    quadrature by the extrapolation allowance (:mod:`vpaudit.checks.extrapolation`); when it
-    lies far outside, the check is a note: many evaluated liquid equations stop hundreds of
-    kelvin below the boiling point.
+    error. A reference with a stated uncertainty is held to it. A curve that reaches
+    101325 Pa within 1 K of the upper end of its range (a third of Landolt's liquids: their
+    sources measured up to boiling) carries its source's own normal boiling point; a
+    transcription slip in its coefficients or pressure unit would have moved that point, so a
+    mismatch there is a disagreement of the source and the reference, and a warning that
+    says so. The implied boiling temperature is evidence. When T_b lies outside the range,
+    the tolerance grows in quadrature by the extrapolation allowance
+    (:mod:`vpaudit.checks.extrapolation`); when it lies far outside, the check is a note:
+    many evaluated liquid equations stop hundreds of kelvin below the boiling point.
     """
     got = boiling_residuals(ctx)
     if got is None:
@@ -236,6 +248,9 @@ def boiling_point_mismatch(ctx: AuditContext, th: dict[str, float]):
     top = np.where(c.is_wagner, np.fmin(3.0 * c.t_max, c.params[:, 6]), 3.0 * c.t_max)
     t_implied = temperature_at(c, LN_P_STANDARD, 0.5 * c.t_min, top)
     reduced, s_ref, s_imp = _reduced_pressure_reference(th, c, t, y, y1, t_implied)
+    # a curve that reaches 101325 Pa where its range ends carries its source's own normal
+    # boiling point (measured up to it): a slip in the record would have moved that point
+    own = np.abs(t_implied - c.t_max) <= th["own_boiling"]
     for k in np.flatnonzero(bad):
         i = rows[k]
         far = dist[k] > th["near"]
@@ -243,7 +258,7 @@ def boiling_point_mismatch(ctx: AuditContext, th: dict[str, float]):
         tier = None
         if far:
             tier = "extrapolated"
-        elif within or reduced[k]:
+        elif within or reduced[k] or own[k]:
             tier = "reference-doubted"
         evidence = {
             "boiling_point_K": t[k],
@@ -272,18 +287,25 @@ def boiling_point_mismatch(ctx: AuditContext, th: dict[str, float]):
                 tier=tier,
             )
             continue
-        where = (
-            f"; {kelvin(t[k])} is {dist[k] * 100:.0f} % outside the range, so this is "
-            "an extrapolation"
-            if far
-            else (
+        if far:
+            where = (
+                f"; {kelvin(t[k])} is {dist[k] * 100:.0f} % outside the range, so this is "
+                "an extrapolation"
+            )
+        elif within:
+            where = (
                 f"; that is within the {rel[k] * 100:.2g} % by which "
                 "independent evaluations of normal boiling points near it differ, so the "
                 "reference may be the one that is off"
-                if within
-                else ""
             )
-        )
+        elif own[k]:
+            where = (
+                f", where its range ends ({kelvin(c.t_max[k])}): the record carries its "
+                "source's own normal boiling point, which a slip in the record would have "
+                "moved, so its source and the reference disagree; check which is right"
+            )
+        else:
+            where = ""
         yield Hit(
             i,
             f"at the reference normal boiling point {kelvin(t[k])} the curve gives "

@@ -1,0 +1,80 @@
+"""The normal boiling point as a witness, on the Landolt-Boernstein Antoine constants (odd-CAS
+rows, via chemicals; tests/_support/compilations.py) against the normal boiling points
+chemicals carries (methods CRC_ORG, YAWS, COMMON_CHEMISTRY, each named where used)."""
+
+import numpy as np
+import pytest
+from chemicals import Tb
+from compilations import _complete, landolt, odd_cas
+from refdata import table_from_rows
+
+from vpaudit.auditing import audit_table
+from vpaudit.checks._context import LN_P_STANDARD
+from vpaudit.equations.engine import curves_from_frame, temperature_at
+
+
+@pytest.fixture(scope="module")
+def landolt_liquids():
+    records, _ = landolt()
+    return [r for r in records if _complete(r) and r["phase"] == "liquid"]
+
+
+def _reference(substance: str, method: str) -> dict:
+    return {
+        "substance": substance,
+        "quantity": "normal_boiling_point",
+        "value": float(Tb(substance, method=method)),
+        "unit": "K",
+        "source": f"Tb via chemicals, method {method}",
+    }
+
+
+def test_many_real_ranges_end_at_their_own_normal_boiling_point(landolt_liquids):
+    # the premise of the own-boiling-point tier, measured: a third of Landolt's liquids reach
+    # 101325 Pa within 1 K of the upper end of their range (measured up to boiling), against
+    # about 1 % per kelvin in the neighbouring bins
+    c = curves_from_frame(table_from_rows(landolt_liquids).records)
+    with np.errstate(all="ignore"):
+        t_b = temperature_at(c, LN_P_STANDARD, 0.5 * c.t_min, 3.0 * c.t_max)
+    gap = np.abs(t_b - c.t_max)
+    at_end = np.count_nonzero(gap <= 1.0) / len(landolt_liquids)
+    beside = np.count_nonzero((gap > 3.0) & (gap <= 5.0)) / len(landolt_liquids)
+    assert at_end > 0.30
+    assert beside < 0.05
+
+
+def test_a_record_carrying_its_sources_boiling_point_is_not_blamed_for_the_reference(
+    landolt_liquids,
+):
+    # 1070-71-9 (odd CAS): Landolt's range is 279-315 K and its curve reaches 101325 Pa at
+    # 315.5 K. chemicals' normal boiling points: CRC_ORG 334.15 K; YAWS and COMMON_CHEMISTRY
+    # 315.6 K. Against CRC_ORG the record draws a warning naming the disagreement of its
+    # source and the reference, not an error; against YAWS, nothing.
+    assert odd_cas("1070-71-9")
+    rec = next(r for r in landolt_liquids if r["substance"] == "1070-71-9")
+    crc = audit_table(
+        table_from_rows([rec], [_reference("1070-71-9", "CRC_ORG")]),
+        diagnose=False,
+        only=["boiling-point-mismatch"],
+    ).findings
+    assert [f.severity.value for f in crc] == ["warning"]
+    assert "source's own normal boiling point" in crc[0].message
+    yaws = audit_table(
+        table_from_rows([rec], [_reference("1070-71-9", "YAWS")]),
+        diagnose=False,
+        only=["boiling-point-mismatch"],
+    ).findings
+    assert len(yaws) == 0
+
+
+def test_a_slip_that_moves_the_curve_off_its_range_end_is_still_an_error(landolt_liquids):
+    # the same record with mmHg constants entered as Pa (A lowered by ln 133.322): it no
+    # longer reaches 101325 Pa at its range end, and it misses YAWS's 315.6 K by 4.9 in ln P
+    rec = next(r for r in landolt_liquids if r["substance"] == "1070-71-9")
+    bad = dict(rec, A=rec["A"] - np.log(133.322))
+    found = audit_table(
+        table_from_rows([bad], [_reference("1070-71-9", "YAWS")]),
+        diagnose=False,
+        only=["boiling-point-mismatch"],
+    ).findings
+    assert [f.severity.value for f in found] == ["error"]

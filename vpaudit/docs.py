@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import inspect
 import json
 import textwrap
 
@@ -102,7 +101,7 @@ def checks_markdown() -> str:
             "",
             f"*Basis:* {spec.basis}",
             "",
-            inspect.cleandoc(spec.doc),  # a docstring's first line has no indent
+            spec.doc,
             "",
         ]
         if spec.thresholds:

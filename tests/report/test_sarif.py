@@ -48,6 +48,19 @@ def test_the_audit_sarif_with_suggestions_validates(table, monkeypatch):
     assert len(fixes) >= 7
 
 
+def test_rule_help_reads_as_text_without_source_indentation(table, monkeypatch):
+    # a rule's help is its check's docstring; viewers show it as plain text, so the
+    # indentation it has in the source must not reach them
+    monkeypatch.chdir(table.parent)
+    out = CliRunner().invoke(main, ["audit", "t", "--format", "sarif", "--fail-on", "never"])
+    rules = json.loads(out.output)["runs"][0]["tool"]["driver"]["rules"]
+    helped = [r for r in rules if "help" in r]  # every check (the reader's rules have none)
+    assert len(helped) > 20
+    for rule in helped:
+        lines = rule["help"]["text"].splitlines()
+        assert lines and not any(line.startswith("    ") for line in lines), rule["id"]
+
+
 def test_a_fix_is_the_replacement_apply_writes(table, monkeypatch):
     monkeypatch.chdir(table.parent)
     out = CliRunner().invoke(main, ["audit", "t", "--format", "sarif", "--fail-on", "never"])

@@ -6,6 +6,7 @@ function names. A duplicate name fails at import time.
 
 from __future__ import annotations
 
+import inspect
 from collections.abc import Callable, Iterator
 from dataclasses import dataclass, field
 from enum import StrEnum
@@ -167,7 +168,7 @@ def check(
             basis,
             {t.name: t for t in thresholds},
             func,
-            (func.__doc__ or "").strip(),
+            inspect.cleandoc(func.__doc__ or ""),  # no source indentation in reports
             dict(tiers or {}),
         )
         return func

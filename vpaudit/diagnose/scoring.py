@@ -105,7 +105,8 @@ def hypotheses(
     Returns
     -------
     dict
-        Substance -> (outcome as written, candidates, their outcomes), for :func:`choose`.
+        Substance -> (outcome as written, the verified candidates, their outcomes, the
+        candidates the screening left out as :class:`Dropped`), for :func:`choose`.
     """
     table = ctx.table
     if suspects is None:

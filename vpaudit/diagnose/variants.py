@@ -89,17 +89,18 @@ def _variant_table(
     empty = np.empty(0, dtype=np.int64)
 
     def replicate(frame: pd.DataFrame, groups) -> tuple[pd.DataFrame, np.ndarray]:
+        """The rows of each unit's substance, unit after unit; and how many each unit has."""
         parts = [groups.get(code, empty) for code, _ in units]
+        sizes = np.array([p.size for p in parts], dtype=np.int64)
         idx = np.concatenate(parts) if parts else empty
-        unit_of = np.repeat(np.arange(len(units)), [p.size for p in parts])
         out = frame.iloc[idx].reset_index(drop=True)
+        unit_of = np.repeat(np.arange(len(units)), sizes)
         out["substance"] = pd.Series(unit_of.astype(str), dtype=TEXT)
-        return out, idx
+        return out, sizes
 
-    recs, _ = replicate(table.records, rec_g)
+    recs, sizes = replicate(table.records, rec_g)
     # where each change lands: its unit's first row, plus the changed row's place among the
     # rows of its substance
-    sizes = np.array([rec_g.get(c, empty).size for c, _ in units], dtype=np.int64)
     starts = np.concatenate(([0], np.cumsum(sizes))).tolist()
     place = {int(r): k for rows in rec_g.values() for k, r in enumerate(rows.tolist())}
     edits: dict[str, list[tuple[int, object, str | None]]] = defaultdict(list)

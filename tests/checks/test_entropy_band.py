@@ -37,3 +37,50 @@ def test_a_real_helium_curve_is_not_implausible_and_a_slipped_one_is(build):
         else:
             slipped.append(dict(r, A=r["A"] - math.log(1000.0)))
     assert [f.severity.value for f in errors(slipped)] == ["error"] * len(he)
+
+
+#: mmHg in Pa (exact by definition of the conventional millimetre of mercury).
+MMHG = 133.322387415
+
+
+def _implausible(records, refs=()):
+    result = audit_table(table_from_rows(records, list(refs)), diagnose=False)
+    return [
+        (f.records[0], f.severity.value)
+        for f in result.findings
+        if f.check == "enthalpy-implausible"
+    ]
+
+
+@pytest.mark.parametrize(
+    ("cas", "shift", "what"),
+    [
+        # toluene (Poling, 286-410 K): coefficients for mmHg marked Pa: at the middle of the
+        # range dS = 95 -> 55 J/(mol K) at a pressure 133 times lower (ln(P/P0) -1.5 -> -6.4)
+        ("108-88-3", -math.log10(MMHG), "mmHg read as Pa"),
+        # ethanol (Poling, 277-370 K): coefficients for Pa marked mmHg: dS = 120 -> 160 at a
+        # pressure 133 times higher (ln(P/P0) -1.6 -> +3.3), above any boiling entropy
+        ("64-17-5", +math.log10(MMHG), "Pa read as mmHg"),
+    ],
+)
+def test_an_mmhg_slip_on_a_lone_liquid_leaves_the_band_that_follows_the_pressure(cas, shift, what):
+    """Poling's Antoine constants via chemicals (log10 P[Pa]), with no reference value:
+    the slip moves dS by R ln 133 = 40.7 J/(mol K), which a fixed 40..235 band let pass;
+    the band that follows the pressure does not."""
+    records, _ = poling_antoine()
+    rec = next(r for r in records if r["substance"] == cas)
+    assert _implausible([rec]) == []
+    slipped = dict(rec, A=rec["A"] + shift)
+    assert _implausible([slipped]) == [(rec["id"], "error")], what
+
+
+def test_the_clean_liquids_of_three_compilations_stay_in_the_band():
+    """Every liquid equation of Poling's Antoine table, Perry's table 2-8 and the McGarry
+    and Poling Wagner tables (via chemicals) lies in the band at the pressure where it is
+    tested, but helium-3 (dS 21.8 J/(mol K) at 3.2 K: a quantum liquid, below even the
+    cryogenic edge)."""
+    out = []
+    for build in (poling_antoine, perry, wagner):
+        records, _ = build()
+        out += _implausible([r for r in records if _complete(r)])
+    assert out == [("14762-55-1-pa-l", "error")]

@@ -17,6 +17,10 @@ from .hits import Hit, Hits
 
 __all__: list[str] = []
 
+#: Trouton's entropy of vaporization at the normal boiling point, the reference of the
+#: entropy band's rise below it (common practice: 85-88 J/(mol K)). [J/(mol K)]
+TROUTON = 88.0
+
 
 @check(
     "range-invalid",
@@ -151,12 +155,26 @@ def slope_not_positive(ctx: AuditContext, th: dict[str, float]):
     Scope.record,
     "The implied standard entropy of the phase change lies outside a plausible band.",
     "Trouton's rule (dS_vap about 85-88 J/(mol K) at the normal boiling point; common "
-    "practice) and its generalisation dS = dH/T + R ln(P/P0) at any temperature. The band "
-    "is measured on real compilations (chemicals: Landolt odd-CAS rows, Poling, Perry, "
-    "McGarry): liquids 48..227 and solids 23..466 J/(mol K) hold 99 % of the clean records; "
-    "long-chain and associating organics lie far above Trouton's value.",
+    "practice) and its generalisation dS = dH/T + R ln(P/P0) at any temperature, which "
+    "grows below the boiling point by the integral of -dCp/T (Kirchhoff). The band of "
+    "liquids follows the pressure where it is tested; its edges are measured on real "
+    "compilations (chemicals: Landolt odd-CAS rows, Poling, Perry, McGarry; "
+    "docs/calibration.md).",
     (
-        Threshold("liquid_min", 40.0, "J/(mol K)", "lowest plausible dS of vaporization"),
+        Threshold(
+            "liquid_min",
+            40.0,
+            "J/(mol K)",
+            "lowest plausible dS of vaporization where P is above P0/e (near and above the "
+            "normal boiling point)",
+        ),
+        Threshold(
+            "liquid_min_low_pressure",
+            60.0,
+            "J/(mol K)",
+            "lowest plausible dS of vaporization where P is below P0/e^3 (about 5 kPa); "
+            "linear in ln P between the two",
+        ),
         Threshold(
             "cryogenic_fraction",
             0.5,
@@ -164,18 +182,34 @@ def slope_not_positive(ctx: AuditContext, th: dict[str, float]):
             "below it, where lower: this fraction of the Trouton-Hildebrand-Everett entropy "
             "R (4.4 + ln T/K) (cryogenic and quantum liquids)",
         ),
-        Threshold("liquid_max", 235.0, "J/(mol K)", "highest plausible dS of vaporization"),
+        Threshold(
+            "liquid_max",
+            140.0,
+            "J/(mol K)",
+            "highest plausible dS of vaporization at and above the normal boiling point",
+        ),
+        Threshold(
+            "liquid_max_dcp",
+            250.0,
+            "J/(mol K)",
+            "largest |dCp| of vaporization by which the upper edge rises below the normal "
+            "boiling point",
+        ),
         Threshold("solid_min", 20.0, "J/(mol K)", "lowest plausible dS of sublimation"),
         Threshold("solid_max", 480.0, "J/(mol K)", "highest plausible dS of sublimation"),
     ),
 )
 def enthalpy_implausible(ctx: AuditContext, th: dict[str, float]):
     """The entropy of the phase change to the ideal gas at P0 = 101325 Pa,
-    dS = dH(T)/T + R ln(P(T)/P0), is nearly the same for most substances at any T (at the
-    normal boiling point it is Trouton's dH_vap/T_b). It is evaluated at the reference
-    normal boiling point when that lies in a liquid record's range, else at the middle of the
-    range in 1/T. A log10/ln slip scales dH by 2.3; a pressure-unit slip shifts R ln P by
-    R ln(factor) (96 J/(mol K) for atm read as Pa): both leave the band.
+    dS = dH(T)/T + R ln(P(T)/P0), is nearly the same for most substances at their normal
+    boiling point (Trouton's dH_vap/T_b). It is evaluated at the reference normal boiling
+    point when that lies in a liquid record's range, else at the middle of the range in
+    1/T. Below the boiling point it grows, since d(dS)/dT = dCp/T and dCp < 0 -- most for
+    heavy and long-chain liquids, measured far below their boiling point -- so the band of a
+    liquid widens upward as ln(P/P0) falls (:func:`entropy_band`). A log10/ln slip scales
+    dH by 2.3; a pressure-unit slip by a factor f moves dS by R ln f and ln(P/P0) by ln f
+    together, a step across the band's slope (mmHg read as Pa: -40.7 J/(mol K) at a
+    pressure 133 times lower, where the band's lower edge is higher): both leave the band.
     """
     rows = np.flatnonzero(ctx.evaluable)
     if rows.size == 0:
@@ -188,7 +222,7 @@ def enthalpy_implausible(ctx: AuditContext, th: dict[str, float]):
     y, y1, _ = evaluate(c, t, order=1)
     ds = R * t * y1 + R * (y - LN_P_STANDARD)
     liquid = ctx.liquid[rows]
-    lo, hi = entropy_band(th, liquid, t)
+    lo, hi = entropy_band(th, liquid, t, y - LN_P_STANDARD)
     with np.errstate(invalid="ignore"):
         bad = ~((ds >= lo) & (ds <= hi))
     hint = (
@@ -202,8 +236,8 @@ def enthalpy_implausible(ctx: AuditContext, th: dict[str, float]):
     messages = [
         f"the implied entropy of {'vaporization' if is_liquid else 'sublimation'} referred to "
         f"the standard pressure, dS = dH/T + R ln(P/101325 Pa), is {jk(dsk)} at {kelvin(tk)} "
-        f"(dH = {kj(hk)}, P = {pk:.3g} Pa), outside the plausible {lok:g}..{hik:g} "
-        f"J/(mol K).{hint}"
+        f"(dH = {kj(hk)}, P = {pk:.3g} Pa), outside the plausible {lok:.0f}..{hik:.0f} "
+        f"J/(mol K){' at that pressure' if is_liquid else ''}.{hint}"
         for is_liquid, dsk, tk, hk, pk, lok, hik in zip(
             liquid[sel].tolist(),
             ds.tolist(),
@@ -229,21 +263,49 @@ def enthalpy_implausible(ctx: AuditContext, th: dict[str, float]):
     )
 
 
-def entropy_band(th: dict, liquid: np.ndarray, t: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """The plausible band of the standard entropy of the phase change at ``t`` [K] (one
-    definition, for ``enthalpy-implausible`` and the diagnosis): [liquid_min, liquid_max]
-    for liquids, its lower edge lowered at cryogenic temperatures to ``cryogenic_fraction``
-    of the Trouton-Hildebrand-Everett value R (4.4 + ln T/K) where that is lower: the
-    entropy of vaporization at the normal boiling point falls with it (CRC enthalpies of
-    vaporization at T_b via chemicals, Hvap_data_CRC: argon 73.7 J/(mol K) at 87.3 K,
-    nitrogen 72.0 at 77.4 K, neon 63.1 at 27.1 K, hydrogen 44.1 at 20.4 K, helium 18.9 at
-    4.2 K, where an ideal-gas curve implies 28-33). [solid_min, solid_max] for solids.
-    [J/(mol K)]
+def entropy_band(
+    th: dict, liquid: np.ndarray, t: np.ndarray, ln_p_rel: np.ndarray
+) -> tuple[np.ndarray, np.ndarray]:
+    """The plausible band of the standard entropy of the phase change at ``t`` [K], where
+    the curve gives ln(P/P0) = ``ln_p_rel`` (one definition, for ``enthalpy-implausible``
+    and the diagnosis). [J/(mol K)]
+
+    Liquids: the entropy dS = dH/T + R ln(P/P0) is Trouton's dS_b at the normal boiling
+    point T_b and grows below it as d(dS)/dT = dCp/T (Kirchhoff), by -dCp ln(T_b/T) for a
+    constant dCp < 0; and ln(P0/P) = (dS_b/R)(T_b/T - 1) to first order. So the upper edge
+    is ``liquid_max`` at and above P0 and ``liquid_max`` + ``liquid_max_dcp``
+    ln(1 + R ln(P0/P) / 88 J/(mol K)) below it (Trouton's 88 as dS_b): it rises fast just
+    below the boiling point and slowly far below it, where a heavy liquid is measured and
+    where a metal's entropy stays near Trouton's.
+
+    The lower edge, which no dCp lowers below the boiling point, is ``liquid_min`` near and
+    above it (compilations carry equations estimated from one point at the boiling point at
+    44-49 J/(mol K)) and ``liquid_min_low_pressure`` below P0/e^3, linear in ln P between.
+    At cryogenic temperatures the entropy of vaporization at the normal boiling point falls
+    with it (the Trouton-Hildebrand-Everett rule; CRC enthalpies of vaporization at T_b via
+    chemicals, Hvap_data_CRC: argon 73.7 J/(mol K) at 87.3 K, nitrogen 72.0 at 77.4 K, neon
+    63.1 at 27.1 K, hydrogen 44.1 at 20.4 K, helium 18.9 at 4.2 K, where an ideal-gas curve
+    implies 28-33). There the lower edge is ``cryogenic_fraction`` of R (4.4 + ln T/K)
+    wherever that is below ``liquid_min`` (below about 185 K), with no rise: quantum liquids
+    keep their low entropy below the boiling point (helium-4 in three compilations: 23-25
+    J/(mol K) at 2.6-2.9 K and ln(P/P0) about -2). Solids: [solid_min, solid_max].
+
+    A pressure-unit slip by a factor f moves the entropy by R ln f and ln(P/P0) by ln f:
+    across the band's slope, so it leaves the band sooner than a fixed band would let it
+    (mmHg for Pa: 40.7 J/(mol K) down, where the lower edge stands up to 20 higher; Pa for
+    mmHg: 40.7 up, where the upper edge stands about 100 lower). The edges' values are
+    measured on real compilations (docs/calibration.md, "The entropy band follows the
+    pressure").
     """
     with np.errstate(invalid="ignore", divide="ignore"):
         cryo = th["cryogenic_fraction"] * R * (4.4 + np.log(t))
-    lo = np.where(liquid, np.fmin(th["liquid_min"], cryo), th["solid_min"])
-    hi = np.where(liquid, th["liquid_max"], th["solid_max"])
+        below = np.maximum(-ln_p_rel, 0.0)
+    ramp = np.clip((below - 1.0) / 2.0, 0.0, 1.0)
+    rise = (th["liquid_min_low_pressure"] - th["liquid_min"]) * ramp
+    lo_liquid = np.where(cryo < th["liquid_min"], cryo, th["liquid_min"] + rise)
+    lo = np.where(liquid, lo_liquid, th["solid_min"])
+    rise_hi = th["liquid_max_dcp"] * np.log1p(R * below / TROUTON)
+    hi = np.where(liquid, th["liquid_max"] + rise_hi, th["solid_max"])
     return lo, hi
 
 

@@ -213,7 +213,7 @@ def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
         y, y1, _ = evaluate(c, t, order=1)
         ds = R * t * y1 + R * (y - LN_P_STANDARD)
         liquid = ctx.liquid[rows]
-        lo, hi = entropy_band(th, liquid, t)
+        lo, hi = entropy_band(th, liquid, t, y - LN_P_STANDARD)
         add(ctx.codes[rows], np.maximum(lo - ds, 0.0) / 10.0 + np.maximum(ds - hi, 0.0) / 10.0)
     # the 298.15 K anchor: the standard enthalpy and entropy, each against the warning
     # allowance of its check (the checks' own definitions: checks.anchor.anchor_values)

@@ -4,10 +4,12 @@ Data: the metallic elements of Alcock, Itkin & Horrigan (1984) via ``chemicals``
 liquid equations), CRC Handbook melting points and enthalpies of fusion via ``chemicals``,
 and fits to the IAPWS water curves via ``iapws``. Run:
 
-    python benchmarks/calibrate.py [--priors | --boiling]
+    python benchmarks/calibrate.py [--priors | --boiling | --scatter]
 
 ``--priors`` prints only the rarities behind the diagnosis's priors; ``--boiling`` judges
-the clean Landolt liquids' boiling-point errors against the other boiling points carried.
+the clean Landolt liquids' boiling-point errors against the other boiling points carried;
+``--scatter`` measures how far independent sources of one liquid disagree (the diagnosis's
+``SOURCE_SCATTER``).
 """
 
 from __future__ import annotations
@@ -195,8 +197,30 @@ def report_boiling_opinions():
     print(f"Landolt liquids (odd CAS), {len(errors)} boiling-point errors:", dict(verdicts))
 
 
+def report_source_scatter():
+    """How far two sources of one liquid disagree over their common range, in the literature
+    compilations together (Landolt odd-CAS rows, Poling's Antoine and Wagner, McGarry's
+    Wagner, Perry's; tests/_support/compilations.py ``source_gaps``). Its 90th percentile
+    is the diagnosis's SOURCE_SCATTER: a fix that moves a curve by less cannot be told from
+    such a disagreement."""
+    from compilations import source_gaps
+
+    from vpaudit.diagnose.scoring import SOURCE_SCATTER
+
+    gaps = source_gaps()
+    q = np.percentile(gaps, [25, 50, 75, 90, 95])
+    print(
+        f"{len(gaps)} pairs of liquid sources with overlapping ranges: max |ln P1 - ln P2| "
+        "p25, p50, p75, p90, p95 = "
+        + ", ".join(f"{x:.3g}" for x in q)
+        + f" (SOURCE_SCATTER = {SOURCE_SCATTER:g})"
+    )
+
+
 if __name__ == "__main__":
-    if "--boiling" in sys.argv:
+    if "--scatter" in sys.argv:
+        report_source_scatter()
+    elif "--boiling" in sys.argv:
         report_boiling_opinions()
     elif "--priors" in sys.argv:
         report_priors()

@@ -238,3 +238,33 @@ def compilation_table(name: str, limit: int | None = None):
     records = [r for r in records if _complete(r)]
     keep = {r["substance"] for r in records}
     return table_from_rows(records, [r for r in refs if r["substance"] in keep])
+
+
+def source_gaps() -> list[float]:
+    """How far two sources of one liquid disagree: for every pair of liquid equations of one
+    substance in the compilations together whose ranges overlap, the largest
+    |ln P1 - ln P2| on 9 points of the common range (the diagnosis's SOURCE_SCATTER is its
+    90th percentile)."""
+    import itertools
+
+    import numpy as np
+
+    from vpaudit.equations.engine import curves_from_frame, evaluate
+
+    records, _ = together()
+    records = [r for r in records if _complete(r) and r["phase"] == "liquid"]
+    c = curves_from_frame(table_from_rows(records).records)
+    by_sub: dict[str, list[int]] = {}
+    for i, r in enumerate(records):
+        by_sub.setdefault(r["substance"], []).append(i)
+    gaps = []
+    for rows in by_sub.values():
+        for a, b in itertools.combinations(rows, 2):
+            lo, hi = max(c.t_min[a], c.t_min[b]), min(c.t_max[a], c.t_max[b])
+            if hi > lo:
+                t = np.linspace(lo, hi, 9)
+                y = evaluate(c.take(np.array([a, b])), np.vstack([t, t]), order=0)[0]
+                gap = float(np.max(np.abs(y[0] - y[1])))
+                if math.isfinite(gap):
+                    gaps.append(gap)
+    return gaps

@@ -17,6 +17,7 @@ from ..equations.forms import FORMS
 from ..substance import records_at
 from .candidates import SLIP_KINDS, Candidate, Change, candidates_for
 from .variants import (
+    _KEY_WIDTH,
     _NOT_EVIDENCE,
     _VERIFIED,
     Screening,
@@ -296,7 +297,19 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
             for f in outs[best].findings
         ):
             return {"suggestion": None, "clears": set(), "none": float(post[0])}
-    sug = _suggestion(ctx, cands[best], outs[best], _stated(raw, cal), cleared, before, ks, cands)
+    conf = _stated(raw, cal)
+    moved = _curve_shift(base, outs[best], cands[best].kind)
+    small = moved is not None and moved < SOURCE_SCATTER and conf > SCATTER_CAP
+    if small:
+        conf = SCATTER_CAP
+    sug = _suggestion(ctx, cands[best], outs[best], conf, cleared, before, ks, cands, held=small)
+    if small:
+        sug["explanation"] += (
+            f" The fix moves the curve by at most {moved:.2g} in ln P over its range, less "
+            f"than independent sources of one substance commonly disagree ({SOURCE_SCATTER:g}):"
+            " it cannot be told from such a disagreement, so its confidence is held at "
+            f"{SCATTER_CAP:g}."
+        )
     if len(ranked) > 1 and ranked[1][0] >= 0.5 * raw:  # a close runner-up is reported too
         raw2, ks2 = ranked[1]
         k2 = ks2[0]
@@ -305,6 +318,34 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
         sug["runner_up"] = _suggestion(ctx, cands[k2], outs[k2], c2, cleared2, before, ks2, cands)
         sug["explanation"] += f" Close runner-up ({c2:.2f}): {cands[k2].label}."
     return {"suggestion": sug, "clears": cleared, "none": float(post[0])}
+
+
+#: How far two independent sources of one substance commonly disagree: the 90th percentile
+#: of max |ln P1 - ln P2| over the common range of 1,081 pairs of liquid equations in the
+#: literature compilations (benchmarks/calibrate.py --scatter). [ln P]
+SOURCE_SCATTER = 0.10
+#: The confidence at which a fix that moves its curve by less than that is held: the
+#: disagreement of sources explains the evidence as well as the fix does. [-]
+SCATTER_CAP = 0.5
+#: The kinds of fix whose size is how far they move the curve (a phase swap moves none).
+_SIZED = frozenset(
+    {"digit-transposition", "decimal-shift", "sign", "coefficient-swap", "pressure-unit"}
+)
+
+
+def _curve_shift(base: _Outcome, out: _Outcome, kind: str) -> float | None:
+    """The largest |change of ln P| that a fix of ``kind`` makes to the substance's curves,
+    from the two outcomes' keys (each record's ln P at five temperatures over its range:
+    :func:`~vpaudit.diagnose.variants._unit_keys`); None for a kind of fix that is not sized
+    so, or keys of different shapes.
+    """
+    if kind not in _SIZED:
+        return None
+    a, b = np.frombuffer(base.key), np.frombuffer(out.key)
+    if a.size != b.size or a.size % _KEY_WIDTH:
+        return None
+    y_a, y_b = a.reshape(-1, _KEY_WIDTH)[:, :5], b.reshape(-1, _KEY_WIDTH)[:, :5]
+    return float(np.abs(y_a - y_b).max())
 
 
 def _stated(p: float, cal: dict) -> float:
@@ -330,8 +371,11 @@ def _suggestion(
     before: set,
     group: list[int],
     cands: list[Candidate],
+    held: bool = False,
 ) -> dict:
-    """The suggestion of one fix, in the output contract's form."""
+    """The suggestion of one fix, in the output contract's form (``held``: its confidence
+    was held down because the fix is smaller than sources disagree).
+    """
     rid = ctx.id(cand.row)
     corrected = {ch.field: ch.value for ch in cand.changes if ch.row == cand.row}
     texts = {ch.field: ch.text for ch in cand.changes if ch.row == cand.row and ch.text}
@@ -357,7 +401,9 @@ def _suggestion(
         ]
     remaining = _errors_and_warnings(out)
     n_before = len(before)
-    if conf >= 0.8:
+    if held:
+        lead = "Possibly"
+    elif conf >= 0.8:
         lead = "Almost certainly"
     elif conf >= 0.5:
         lead = "Probably"

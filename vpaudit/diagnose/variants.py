@@ -489,6 +489,10 @@ def _audit_units(
     return outcomes
 
 
+#: Numbers per record in a unit's key: ln P at five temperatures, the range, the phase.
+_KEY_WIDTH = 8
+
+
 def _unit_keys(vctx: AuditContext, n_units: int) -> list[bytes]:
     """What each unit's records amount to: their curves at five temperatures over their
     ranges, the ranges and the phases, rounded (equal keys are one fix written two ways,
@@ -499,7 +503,7 @@ def _unit_keys(vctx: AuditContext, n_units: int) -> list[bytes]:
     frac = np.linspace(0.0, 1.0, 5)[None, :]
     t = c.t_min[:, None] + (c.t_max - c.t_min)[:, None] * frac
     y = evaluate(c, t, 0)[0]
-    parts = np.column_stack([y, c.t_min, c.t_max, vctx.liquid.astype(float)])
+    parts = np.column_stack([y, c.t_min, c.t_max, vctx.liquid.astype(float)])  # _KEY_WIDTH
     parts = np.round(np.nan_to_num(parts, nan=1e300, posinf=1e300, neginf=-1e300), 6)
     unit = np.array([int(n) for n in vctx.names], dtype=np.int64)[vctx.codes]
     bounds = np.searchsorted(unit, np.arange(n_units + 1))

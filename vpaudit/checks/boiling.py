@@ -90,10 +90,13 @@ def _corroborated(
     within its own tolerance: an independent source that confirms the reference.
     """
     codes_ = ctx.codes[rows]
+    named = codes_ >= 0  # a record without a substance has no other source
     with np.errstate(invalid="ignore"):
-        met = np.abs(d) <= tol
-    n_met = np.bincount(codes_[met], minlength=int(codes_.max()) + 1)
-    return (n_met[codes_] - met) > 0
+        met = (np.abs(d) <= tol) & named
+    n_met = np.bincount(codes_[met], minlength=int(codes_.max(initial=0)) + 1)
+    out = np.zeros(rows.size, dtype=bool)
+    out[named] = (n_met[codes_[named]] - met[named]) > 0
+    return out
 
 
 def _reduced_pressure_reference(th, c, t, y, y1, t_implied):

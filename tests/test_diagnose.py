@@ -185,6 +185,35 @@ def test_two_names_of_one_pressure_unit_share_one_prior():
     assert "Torr" not in offered and "mmHg" not in offered and "Pa" in offered
 
 
+def test_two_names_of_one_pressure_unit_are_one_fix_where_their_keys_round_apart():
+    # An invented metal pair (synthetic, not real properties) whose solid's coefficients are
+    # for mmHg but marked Pa: the Torr and mmHg readings give curves 1.4e-7 apart, which the
+    # rounding of their keys to 1e-6 happened to split, so they were offered as a fix and an
+    # equally likely runner-up at 0.64 each; as one fix they are almost certain
+    records = [
+        dict(
+            id="m-s", substance="m", phase="solid", form="three-term", log_base="e",
+            pressure_unit="Pa", A=25.2781431, B=-37540.8267, C=-0.584833944, t_min=784.618,
+            t_max=1307.7, source="synthetic", uncertainty=0.03,
+        ),
+        dict(
+            id="m-l", substance="m", phase="liquid", form="three-term", log_base="e",
+            pressure_unit="Pa", A=31.7551442, B=-36597.9743, C=-0.906075426, t_min=1307.7,
+            t_max=1961.55, source="synthetic", uncertainty=0.03,
+        ),
+    ]  # fmt: skip
+    refs = [
+        dict(substance="m", quantity="melting_point", value=1307.7, unit="K", source="s"),
+        dict(substance="m", quantity="enthalpy_of_fusion", value=11332.1, unit="J/mol", source="s"),
+    ]  # fmt: skip
+    result = audit_table(table_from_rows(records, refs))
+    sug = next(f.suggestion for f in result.findings if f.suggestion)
+    assert sug["kind"] == "pressure-unit" and sug["record"] == "m-s"
+    assert sug["corrected"]["pressure_unit"] in ("Torr", "mmHg")
+    assert "runner_up" not in sug and "Equivalent" in sug["explanation"]
+    assert sug["confidence"] >= 0.8
+
+
 def test_a_lone_antoine_curve_in_degc_keeps_its_range_in_k():
     # Poling et al., Antoine constants of ethanol (via chemicals), rewritten for degC and
     # marked K with the range left in K; the only witness is the CRC standard data at

@@ -15,7 +15,7 @@ from ..checks._registry import Severity
 from ..checks.finding import Findings
 from ..equations.forms import FORMS
 from ..substance import records_at
-from .candidates import SLIP_KINDS, Candidate, Change, candidates_for
+from .candidates import SLIP_KINDS, Candidate, Change, _canonical, candidates_for
 from .variants import (
     _KEY_WIDTH,
     _NOT_EVIDENCE,
@@ -266,14 +266,22 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
     # merge equivalent corrections (same curves, ranges and phases)
     order = np.argsort(-post[1:])
     groups: dict[bytes, list[int]] = {}
+    # two names of one pressure unit (Torr and mmHg, 1.4e-7 apart) are one fix even where
+    # the rounding of their keys falls apart
+    key_of: dict[tuple, bytes] = {}
     for k in order:
         if post[1 + k] < 1e-4:
             break
-        groups.setdefault(outs[k].key, []).append(int(k))
+        key = key_of.setdefault(_canonical(cands[k].changes), outs[k].key)
+        groups.setdefault(key, []).append(int(k))
     ranked = sorted(
         (
-            (sum(post[1 + k] for k in ks) + sum(math.exp(w - z) for w in joined[key]), ks)
-            for key, ks in groups.items()
+            (
+                sum(post[1 + k] for k in ks)
+                + sum(math.exp(w - z) for kk in {outs[m].key for m in ks} for w in joined[kk]),
+                ks,
+            )
+            for ks in groups.values()
         ),
         key=lambda g: -g[0],
     )

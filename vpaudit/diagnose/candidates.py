@@ -170,9 +170,10 @@ def candidates_for(
             pole = -float(rec["C"]) * s2 + o2 if rec.get("C") is not None else -math.inf
             t_lo = float(rec.get("t_min") or math.nan)
             tb = _antoine_boiling_point(rec, s2, o2) if rec["phase"] == "liquid" else math.nan
-            if pole > 0.85 * (t_lo * s2 + o2) or t_lo * s2 + o2 > 1.2 * tb:
-                # constants and range both read in v
-                implausible[(Change(row, "temperature_unit", v),)] = _POLE_NEAR_RANGE
+            # constants and range both read in v
+            rare = _rarity(pole, t_lo * s2 + o2, tb)
+            if rare:
+                implausible[(Change(row, "temperature_unit", v),)] = rare
             by_kind["temperature-unit"].append(
                 (
                     (Change(row, "temperature_unit", v),),
@@ -194,9 +195,10 @@ def candidates_for(
                     f"already in {tu} (temperature_unit {tu} -> {v}, range converted)",
                 )
             )
-            if pole > 0.85 * (t_lo * s1 + o1) or t_lo * s1 + o1 > 1.2 * tb:
-                # the range as written, in its own unit
-                implausible[tuple(changes)] = _POLE_NEAR_RANGE
+            # the range as written, in its own unit
+            rare = _rarity(pole, t_lo * s1 + o1, tb)
+            if rare:
+                implausible[tuple(changes)] = rare
     coeffs = [c for c in spec.coefficients if rec.get(c + "_text")]
     for c in coeffs:
         text = str(rec[c + "_text"])
@@ -285,6 +287,20 @@ def candidates_for(
             for (ch, label), key in zip(items, canonical, strict=True)
         )
     return out
+
+
+def _rarity(pole: float, t_lo: float, tb: float) -> float:
+    """The log prior of a temperature-unit reading of an Antoine equation whose pole
+    (theta = -C, in K) and range start ``t_lo`` [K] are as given, with its own normal
+    boiling point ``tb`` [K] (nan for a solid): how rare real equations are with the pole
+    near the range, or a liquid range starting well above the boiling point; 0 when
+    neither.
+    """
+    if pole > 0.85 * t_lo:
+        return _POLE_NEAR_RANGE
+    if t_lo > 1.2 * tb:
+        return _RANGE_ABOVE_BOILING
+    return 0.0
 
 
 def _canonical(changes: tuple[Change, ...]) -> tuple:

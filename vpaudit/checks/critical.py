@@ -67,7 +67,9 @@ def above_critical(ctx: AuditContext, th: dict[str, float]):
     reference Pc, a range that passes a reference Tc stating no uncertainty by more than
     the tolerance but less than ``evaluations_max`` (the 99th percentile of those
     differences) is a warning that says the reference may be off, as for a boiling point. A
-    reference Tc below the whole range is named as the likely culprit.
+    range that ends where another source of the substance puts its own Tc (a Wagner
+    equation's, within the tolerance) is a warning naming the reference: two sources agree
+    against it. A reference Tc below the whole range is named as the likely culprit.
     """
     own = ctx.curves.own_t_crit
     ref = ctx.reference("critical_temperature")
@@ -89,6 +91,10 @@ def above_critical(ctx: AuditContext, th: dict[str, float]):
             continue
         if i in sides:
             yield _disputed_tc(ctx, i, ref[i], *sides[i])
+            continue
+        other = None if np.isfinite(own[i]) else _own_tc_at_range_end(ctx, i, th["tolerance"])
+        if other is not None:
+            yield _outvoted_tc(ctx, i, ref[i], *other)
             continue
         whose = "the record's own" if np.isfinite(own[i]) else "the reference"
         doubted = False
@@ -171,6 +177,50 @@ def _disputed_tc(ctx: AuditContext, row: int, tc: float, t_star: float, pc: floa
             "likely_culprit": "reference",
         },
         tier="reference-doubted",
+    )
+
+
+def _own_tc_at_range_end(ctx: AuditContext, row: int, tolerance: float) -> tuple | None:
+    """Another record of ``row``'s substance that carries its own Tc (a Wagner equation)
+    within ``tolerance`` (relative) of where ``row``'s range ends: (its row, its Tc), or
+    None. Two sources that put the critical point at the same temperature outweigh one
+    reference from a third evaluation.
+    """
+    code = ctx.codes[row]
+    if code < 0:
+        return None
+    own = ctx.curves.own_t_crit
+    t_max = float(ctx.curves.t_max[row])
+    with np.errstate(invalid="ignore"):
+        near = (ctx.codes == code) & (np.abs(own - t_max) <= tolerance * own)
+    near[row] = False
+    found = np.flatnonzero(near)
+    return (int(found[0]), float(own[found[0]])) if found.size else None
+
+
+def _outvoted_tc(ctx: AuditContext, row: int, tc: float, other: int, other_tc: float):
+    """``above-critical`` for a range that ends where another source of the substance puts
+    its own Tc: a warning naming the reference (at its own file and line) as the likelier
+    to be off.
+    """
+    source, file, line = ctx.reference_at("critical_temperature", ctx.codes[row])
+    t_max = float(ctx.curves.t_max[row])
+    return Hit(
+        row,
+        f"the range ends at {kelvin(t_max)}, above the reference critical temperature "
+        f"{kelvin(tc)} ({source}); but {ctx.id(other)}, another source of the substance, "
+        f"puts its own critical temperature at {kelvin(other_tc)}, where this range ends: "
+        "two sources agree against the reference, which is the likelier to be off (check it "
+        "against its source).",
+        {
+            "t_max_K": t_max,
+            "critical_temperature_K": float(tc),
+            "other_source_critical_temperature_K": other_tc,
+            "likely_culprit": "reference",
+        },
+        tier="reference-doubted",
+        file=file,
+        line=line,
     )
 
 

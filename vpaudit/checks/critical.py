@@ -84,7 +84,9 @@ def above_critical(ctx: AuditContext, th: dict[str, float]):
         # above its critical point
         below = ~np.isfinite(own) & (ref + margin < ctx.curves.t_min)
     pc_known = np.isfinite(ctx.reference("critical_pressure"))
-    sides = _critical_pressure_sides(ctx, np.flatnonzero(bad & ~below & ~np.isfinite(own)), ref)
+    disputed = np.flatnonzero(bad & ~below & ~np.isfinite(own))
+    sides = _critical_pressure_sides(ctx, disputed, ref)
+    others = _own_tc_at_range_end(ctx, disputed, th["tolerance"])
     for i in np.flatnonzero(bad):
         if below[i]:
             yield _implausible_tc(ctx, i, ref[i])
@@ -92,9 +94,8 @@ def above_critical(ctx: AuditContext, th: dict[str, float]):
         if i in sides:
             yield _disputed_tc(ctx, i, ref[i], *sides[i])
             continue
-        other = None if np.isfinite(own[i]) else _own_tc_at_range_end(ctx, i, th["tolerance"])
-        if other is not None:
-            yield _outvoted_tc(ctx, i, ref[i], *other)
+        if i in others:
+            yield _outvoted_tc(ctx, i, ref[i], *others[i])
             continue
         whose = "the record's own" if np.isfinite(own[i]) else "the reference"
         doubted = False
@@ -180,22 +181,29 @@ def _disputed_tc(ctx: AuditContext, row: int, tc: float, t_star: float, pc: floa
     )
 
 
-def _own_tc_at_range_end(ctx: AuditContext, row: int, tolerance: float) -> tuple | None:
-    """Another record of ``row``'s substance that carries its own Tc (a Wagner equation)
-    within ``tolerance`` (relative) of where ``row``'s range ends: (its row, its Tc), or
-    None. Two sources that put the critical point at the same temperature outweigh one
-    reference from a third evaluation.
+def _own_tc_at_range_end(ctx: AuditContext, rows: np.ndarray, tolerance: float) -> dict:
+    """For the records in ``rows``: another record of the same substance that carries its
+    own Tc (a Wagner equation) within ``tolerance`` (relative) of where the record's range
+    ends. Returns {row: (its row, its Tc)} for those that have one. Two sources that put
+    the critical point at the same temperature outweigh one reference from a third
+    evaluation.
     """
-    code = ctx.codes[row]
-    if code < 0:
-        return None
     own = ctx.curves.own_t_crit
-    t_max = float(ctx.curves.t_max[row])
-    with np.errstate(invalid="ignore"):
-        near = (ctx.codes == code) & (np.abs(own - t_max) <= tolerance * own)
-    near[row] = False
-    found = np.flatnonzero(near)
-    return (int(found[0]), float(own[found[0]])) if found.size else None
+    wagner = np.flatnonzero(np.isfinite(own) & (ctx.codes >= 0))
+    if rows.size == 0 or wagner.size == 0:
+        return {}
+    wagner = wagner[np.argsort(ctx.codes[wagner], kind="stable")]
+    codes_ = ctx.codes[wagner]
+    first = np.searchsorted(codes_, ctx.codes[rows], side="left")
+    last = np.searchsorted(codes_, ctx.codes[rows], side="right")
+    t_max = ctx.curves.t_max
+    out = {}
+    for i, a, b in zip(rows.tolist(), first.tolist(), last.tolist(), strict=True):
+        for j in wagner[a:b].tolist():  # the substance's own-Tc records: a few at most
+            if j != i and abs(own[j] - t_max[i]) <= tolerance * own[j]:
+                out[i] = (j, float(own[j]))
+                break
+    return out
 
 
 def _outvoted_tc(ctx: AuditContext, row: int, tc: float, other: int, other_tc: float):

@@ -546,3 +546,44 @@ def test_the_source_scatter_is_what_the_compilations_show():
     assert len(gaps) > 1000
     p90 = float(np.percentile(gaps, 90))
     assert abs(p90 - SOURCE_SCATTER) < 0.02, p90
+
+
+def test_a_fix_that_moves_its_record_farther_from_the_other_sources_is_held():
+    """2-Octanol (CAS 123-96-6) as the compilations carry it (via chemicals): McGarry's
+    Wagner 3,6 equation misses the YAWS normal boiling point (452.95 K) by 0.44 in ln P and
+    stands 0.94 in ln P from the median of Poling's Antoine and Wagner equations. Swapping its
+    C and D would meet the boiling point but move it to 1.13 from the other two sources: the
+    sources-disagree evidence is beyond its cap either way, so only the comparison of the
+    distances shows that the fix contradicts them. It was offered at 0.98; it is held at
+    even odds, and the explanation says why."""
+    from compilations import _complete, together
+
+    records, refs = together()
+    sub = "123-96-6"
+    recs = [r for r in records if r["substance"] == sub and _complete(r)]
+    result = audit_table(table_from_rows(recs, [r for r in refs if r["substance"] == sub]))
+    sug = next(f.suggestion for f in result.findings if f.suggestion)
+    assert (sug["kind"], sug["record"]) == ("coefficient-swap", "123-96-6-mg")
+    assert sug["confidence"] == 0.5
+    assert sug["explanation"].startswith("Possibly")
+    assert "stands farther from an independent witness" in sug["explanation"]
+    assert "sources-disagree: difference_lnP 0.937 -> 1.13" in sug["explanation"]
+
+
+def test_a_fix_that_brings_its_record_back_to_its_sources_keeps_its_confidence():
+    """The same liquids of 2-octanol with a slip planted on Poling's Wagner equation (its
+    log base marked 10 where the constants are natural): the fix brings the record back to
+    the other sources, so nothing holds it, and it stays almost certain."""
+    from compilations import _complete, together
+
+    records, refs = together()
+    sub = "123-96-6"
+    recs = [dict(r) for r in records if r["substance"] == sub and _complete(r)]
+    for r in recs:
+        if r["id"] == "123-96-6-pw":
+            r["log_base"] = "10"
+    result = audit_table(table_from_rows(recs, [r for r in refs if r["substance"] == sub]))
+    sug = next(f.suggestion for f in result.findings if f.suggestion)
+    assert (sug["kind"], sug["record"]) == ("log-base", "123-96-6-pw")
+    assert sug["confidence"] >= 0.8
+    assert "farther from an independent witness" not in sug["explanation"]

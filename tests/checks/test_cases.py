@@ -60,6 +60,15 @@ def test_case(check, defaults, case):
                 assert f.severity.value == case["severity"], (case["name"], f.message)
             if "says" in case:
                 assert case["says"] in f.message, (case["name"], f.message)
+            witness = REGISTRY[check].witness  # how far from its witness: a number
+            if witness is not None:
+                size = f.evidence.get(witness)
+                sizes = size if isinstance(size, list) else [size]
+                assert sizes and all(isinstance(x, int | float) for x in sizes), (
+                    case["name"],
+                    witness,
+                    f.evidence,
+                )
     else:
         assert not hits, f"{check} reported on a passing case: {hits[0].message}"
 

@@ -94,6 +94,7 @@ class CheckSpec:
     func: Callable[..., Iterator]
     doc: str = field(default="", compare=False)
     tiers: dict[str, Severity] = field(default_factory=dict)
+    witness: str | None = None
 
     @property
     def escalates_to(self) -> Severity | None:
@@ -131,6 +132,7 @@ def check(
     basis: str,
     thresholds: tuple[Threshold, ...] = (),
     tiers: dict[str, Severity] | None = None,
+    witness: str | None = None,
 ):
     """Register a check under ``name``: a generator ``func(ctx, th)`` of hits
     (:mod:`vpaudit.checks.hits`) over the audit's arrays ``ctx`` and its own thresholds
@@ -155,6 +157,12 @@ def check(
         warning where the evidence is weaker, an error beyond ``error_above``); a check
         names the tier of what it found, and the runner gives the severity, the policy
         applied (:meth:`CheckSpec.severity_under`).
+    witness : str, optional
+        For a check that compares a record with an independent witness (another source, a
+        reference value, measured points, the partner phase): the evidence key of how far
+        the record stands from it, in the unit the key names (a list of values: the
+        largest counts). The diagnosis holds a fix that moves its record farther from a
+        witness (:mod:`vpaudit.diagnose.scoring`).
     """
 
     def register(func):
@@ -170,6 +178,7 @@ def check(
             func,
             inspect.cleandoc(func.__doc__ or ""),  # no source indentation in reports
             dict(tiers or {}),
+            witness,
         )
         return func
 

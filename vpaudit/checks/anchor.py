@@ -172,6 +172,7 @@ def _what(is_liquid: bool) -> str:
     "carried by chemicals.",
     _ENTHALPY,
     tiers={"below-error-above": Severity.warning},
+    witness="relative_difference",
 )
 def anchor_enthalpy(ctx: AuditContext, th: dict[str, float]):
     """A warning beyond ``tolerance`` times the reference, an error beyond ``error_above``
@@ -218,6 +219,7 @@ def anchor_enthalpy(ctx: AuditContext, th: dict[str, float]):
     "the CRC standard data carried by chemicals.",
     _ENTROPY,
     tiers={"below-error-above": Severity.warning},
+    witness="difference_J_per_mol_K",
 )
 def anchor_entropy(ctx: AuditContext, th: dict[str, float]):
     """A warning beyond ``tolerance``, an error beyond ``error_above``, each plus

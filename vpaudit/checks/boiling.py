@@ -218,6 +218,7 @@ def _reduced_pressure_reference(th, c, t, y, y1, t_implied):
         ),
     ),
     tiers={"extrapolated": Severity.note, "reference-doubted": Severity.warning},
+    witness="difference_lnP",
 )
 def boiling_point_mismatch(ctx: AuditContext, th: dict[str, float]):
     """Compared in ln P, as for the melting point: ln P(T_b) - ln 101325 against k times

@@ -346,6 +346,7 @@ def critical_residuals(ctx: AuditContext) -> CriticalResiduals | None:
         ),
     ),
     tiers={"below-error-above": Severity.note},
+    witness="residual_lnP",
 )
 def critical_pressure_mismatch(ctx: AuditContext, th: dict[str, float]):
     """Compared in ln P at the reference Tc (or at the record's own range end when that is

@@ -67,6 +67,7 @@ def pair_not_checkable(ctx: AuditContext, th: dict[str, float]):
         Threshold("grid", 32, "-", "points of the sign-change scan of the window"),
     ),
     tiers={"touching": Severity.warning},
+    witness="difference_lnP_at_anchor",
 )
 def no_crossing(ctx: AuditContext, th: dict[str, float]):
     """The difference y_s - y_l is scanned for sign changes on a grid in 1/T over the
@@ -239,6 +240,7 @@ def crossing_orientation(ctx: AuditContext, th: dict[str, float]):
             "largest extrapolation beyond a range, relative to the crossing T",
         ),
     ),
+    witness="difference_lnP_at_range_end",
 )
 def crossing_outside_range(ctx: AuditContext, th: dict[str, float]):
     """The crossing lies above the solid's t_max or below the liquid's t_min by more than
@@ -324,6 +326,7 @@ def _widened_tolerance(ctx: AuditContext, ks: np.ndarray, t: np.ndarray, tol: fl
         ),
     ),
     tiers={"within-extrapolation-allowance": Severity.warning},
+    witness="difference_lnP",
 )
 def melting_point_mismatch(ctx: AuditContext, th: dict[str, float]):
     """The primary triple-point test. A fixed tolerance on the crossing *temperature* fails
@@ -406,6 +409,7 @@ def melting_point_mismatch(ctx: AuditContext, th: dict[str, float]):
     "The pressure at the crossing differs from a reference triple-point pressure.",
     "Both curves pass through the triple point (T_tp, P_tp).",
     (Threshold("tolerance", 0.10, "ln P", "largest |ln P_cross - ln P_tp|"),),
+    witness="difference_lnP",
 )
 def triple_pressure_mismatch(ctx: AuditContext, th: dict[str, float]):
     """Compared in ln P at the crossing; the solid curve's value at the reference triple
@@ -441,6 +445,7 @@ def triple_pressure_mismatch(ctx: AuditContext, th: dict[str, float]):
     "Hess's law at the triple point, dH_sub = dH_fus + dH_vap; the residual is measured "
     "relative to dH_sub, the quantity the curves determine.",
     (Threshold("tolerance", 0.03, "-", "largest |dH_sub - dH_vap - dH_fus| / dH_sub"),),
+    witness="residual_of_sublimation",
 )
 def fusion_enthalpy_mismatch(ctx: AuditContext, th: dict[str, float]):
     """The difference of two large slopes is sensitive: dH_fus of a metal is a few percent

@@ -481,6 +481,7 @@ def _delta_z(ctx: AuditContext, rows: np.ndarray, t: np.ndarray, y: np.ndarray):
         Threshold("error_above", 0.30, "-", "relative difference above which it is an error"),
     ),
     tiers={"beyond-error-above": Severity.error},
+    witness="relative_difference",
 )
 def enthalpy_mismatch(ctx: AuditContext, th: dict[str, float]):
     """Each reference enthalpy of vaporization (liquid records) or sublimation (solid
@@ -541,6 +542,7 @@ def enthalpy_mismatch(ctx: AuditContext, th: dict[str, float]):
         Threshold("default_uncertainty", 0.05, "-", "relative uncertainty when none is given"),
         Threshold("range_margin", 0.02, "-", "relative margin beyond the range still compared"),
     ),
+    witness="rms_lnP",
 )
 def points_misfit(ctx: AuditContext, th: dict[str, float]):
     """Every measured point of the record's substance and phase within its range (plus a

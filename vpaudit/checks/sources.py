@@ -53,6 +53,7 @@ def _blamed_by_boiling_point(ctx: AuditContext, pair: tuple[int, int]):
         Threshold("default_uncertainty", 0.05, "-", "relative uncertainty when none is given"),
         Threshold("range_margin", 0.02, "-", "relative margin beyond a range still compared"),
     ),
+    witness="difference_lnP",
 )
 def sources_disagree(ctx: AuditContext, th: dict[str, float]):
     """For each record, on a 9-point grid over its range (in 1/T), the other records of the

@@ -11,8 +11,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..checks._context import AuditContext
-from ..checks._registry import Severity
-from ..checks.finding import Findings
+from ..checks._registry import REGISTRY, Severity
+from ..checks.finding import Finding, Findings
 from ..equations.forms import FORMS
 from ..substance import records_at
 from .candidates import SLIP_KINDS, Candidate, Change, _canonical, candidates_for
@@ -306,18 +306,32 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
         ):
             return {"suggestion": None, "clears": set(), "none": float(post[0])}
     conf = _stated(raw, cal)
+    held = []  # why the confidence is held, in words
     moved = _curve_shift(base, outs[best], cands[best].kind)
-    small = moved is not None and moved < SOURCE_SCATTER and conf > SCATTER_CAP
-    if small:
-        conf = SCATTER_CAP
-    sug = _suggestion(ctx, cands[best], outs[best], conf, cleared, before, ks, cands, held=small)
-    if small:
-        sug["explanation"] += (
-            f" The fix moves the curve by at most {moved:.2g} in ln P over its range, less "
+    if moved is not None and moved < SOURCE_SCATTER:
+        held.append(
+            f"The fix moves the curve by at most {moved:.2g} in ln P over its range, less "
             f"than independent sources of one substance commonly disagree ({SOURCE_SCATTER:g}):"
-            " it cannot be told from such a disagreement, so its confidence is held at "
-            f"{SCATTER_CAP:g}."
+            " it cannot be told from such a disagreement"
         )
+    farther = _farther_from_witnesses(base, outs[best], ctx.id(cands[best].row))
+    if farther:
+        said = "; ".join(
+            f"{check}: {REGISTRY[check].witness} {b:.3g} -> {a:.3g}" for check, b, a in farther
+        )
+        held.append(
+            f"With it, {ctx.id(cands[best].row)} stands farther from an independent witness "
+            f"than as written ({said}): the fix contradicts that witness and is at best part "
+            "of the story"
+        )
+    held_down = bool(held) and conf > SCATTER_CAP
+    if held_down:
+        conf = SCATTER_CAP
+    sug = _suggestion(
+        ctx, cands[best], outs[best], conf, cleared, before, ks, cands, held=held_down
+    )
+    if held_down:
+        sug["explanation"] += f" {'. '.join(held)}, so its confidence is held at {SCATTER_CAP:g}."
     if len(ranked) > 1 and ranked[1][0] >= 0.5 * raw:  # a close runner-up is reported too
         raw2, ks2 = ranked[1]
         k2 = ks2[0]
@@ -356,6 +370,40 @@ def _curve_shift(base: _Outcome, out: _Outcome, kind: str) -> float | None:
     return float(np.abs(y_a - y_b).max())
 
 
+def _witness_gap(f: Finding) -> float:
+    """How far a finding's record stands from the independent witness its check compares
+    it with (the evidence its check declares as ``witness``; the largest of a list); NaN
+    for a check without one.
+    """
+    key = REGISTRY[f.check].witness if f.check in REGISTRY else None
+    value = f.evidence.get(key) if key is not None else None
+    values = value if isinstance(value, list) else [value]
+    sizes = [abs(float(v)) for v in values if isinstance(v, int | float)]
+    return max(sizes) if sizes else math.nan
+
+
+def _farther_from_witnesses(base: _Outcome, out: _Outcome, rid: str) -> list[tuple]:
+    """The errors and warnings on record ``rid`` that a fix leaves in place with the record
+    farther from their independent witness than as written: (check, distance before,
+    distance after), in the unit of the check's witness evidence.
+
+    Capped evidence cannot see this: a record already beyond the cap of a witness scores
+    the same however much farther the fix moves it. A finding the fix makes anew is left to
+    the weighing (a new error disqualifies the fix; a new warning may be the same
+    disagreement that another check measured before, such as curves that now cross beyond
+    a range instead of not crossing).
+    """
+    before = {_key(f): _witness_gap(f) for f in base.findings if f.severity.rank >= 1}
+    farther = []
+    for f in out.findings:
+        if f.severity.rank < 1 or rid not in f.records or _key(f) not in before:
+            continue
+        was, now = before[_key(f)], _witness_gap(f)
+        if now > was:  # False where either is NaN (a check without a witness)
+            farther.append((f.check, was, now))
+    return farther
+
+
 def _stated(p: float, cal: dict) -> float:
     """The confidence stated for a posterior ``p``: logit(c) = a logit(p) + b, with a and b
     fitted on held-out labelled cases (Platt scaling) so that c means what it says.
@@ -382,7 +430,8 @@ def _suggestion(
     held: bool = False,
 ) -> dict:
     """The suggestion of one fix, in the output contract's form (``held``: its confidence
-    was held down because the fix is smaller than sources disagree).
+    was held down: the fix is smaller than sources disagree, or it moves its record farther
+    from an independent witness).
     """
     rid = ctx.id(cand.row)
     corrected = {ch.field: ch.value for ch in cand.changes if ch.row == cand.row}

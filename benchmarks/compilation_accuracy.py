@@ -11,6 +11,9 @@ Wagner, Perry's; references through documented ``chemicals`` lookups), per compi
 * the diagnosis on those: top suggestion is the planted slip, confident (>= 0.8)
   suggestions that are wrong, and confident suggestions on clean substances.
 
+With ``--every-tb`` each substance carries the normal boiling point of every method that
+knows it, not only the first (a table that keeps several sources' values).
+
     python benchmarks/compilation_accuracy.py [--sample 200] [--seed 20261202]
 """
 
@@ -25,18 +28,20 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests" / "_support"))
 
-from compilations import COMPILATIONS, _complete  # noqa: E402
+from compilations import COMPILATIONS, _complete, every_boiling_point  # noqa: E402
 from refdata import table_from_rows  # noqa: E402
 from slips import SLIP_KINDS, corrupt, reproduces  # noqa: E402
 
 from vpaudit.auditing import audit_table  # noqa: E402
 
 
-def clean_errors(name: str):
+def clean_errors(name: str, every_tb: bool = False):
     records, refs = COMPILATIONS[name](None)
     records = [r for r in records if _complete(r)]
     keep = {r["substance"] for r in records}
     refs = [r for r in refs if r["substance"] in keep]
+    if every_tb:
+        refs = every_boiling_point(refs)
     result = audit_table(table_from_rows(records, refs), diagnose=False)
     errs = [f for f in result.findings if f.severity.value == "error"]
     flagged = {x for f in errs for x in f.records}
@@ -299,6 +304,13 @@ def main() -> None:
         "--show-wrong", action="store_true", help="print each flagged slip given a wrong top fix"
     )
     ap.add_argument("--only", help="one compilation")
+    ap.add_argument(
+        "--every-tb",
+        action="store_true",
+        help="give each substance the normal boiling point of every method of chemicals "
+        "that knows it (CRC_ORG, CRC_INORG, YAWS, COMMON_CHEMISTRY), as a table that keeps "
+        "several sources' values would, not only the first",
+    )
     args = ap.parse_args()
     global SHOW_MISSED, SHOW_WRONG
     SHOW_MISSED, SHOW_WRONG = args.show_missed, args.show_wrong
@@ -308,7 +320,7 @@ def main() -> None:
     )
     for name in [args.only] if args.only else COMPILATIONS:
         t0 = time.perf_counter()
-        records, refs, flagged, by_check, _ = clean_errors(name)
+        records, refs, flagged, by_check, _ = clean_errors(name, args.every_tb)
         n, det, right, conf, cw, missed, right_flagged = planted(
             name, records, refs, flagged, args.sample, args.seed
         )

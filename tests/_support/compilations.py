@@ -106,6 +106,26 @@ def _antoine(cas, row, phase, source, base, tag) -> dict:
     }
 
 
+def every_boiling_point(refs: list[dict]) -> list[dict]:
+    """``refs`` with, for each substance that has a normal boiling point, the values of the
+    other methods of :data:`_TB` that know it as further reference rows (a table that keeps
+    several sources' values), each with its method named.
+    """
+    from chemicals import Tb
+
+    out = list(refs)
+    for r in refs:
+        if r["quantity"] != "normal_boiling_point":
+            continue
+        for method in _TB:
+            if method in r["source"]:
+                continue
+            found = _lookup(Tb, r["substance"], (method,))
+            if found is not None:
+                out.append(dict(r, value=found[0], source=f"Tb via chemicals, method {method}"))
+    return out
+
+
 def landolt(limit: int | None = None, pairs_only: bool = False):
     """Landolt's liquids and solids of odd CAS number: records and references."""
     from chemicals.vapor_pressure import Psat_data_Landolt_Antoine as liq

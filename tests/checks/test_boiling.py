@@ -78,3 +78,37 @@ def test_a_slip_that_moves_the_curve_off_its_range_end_is_still_an_error(landolt
         only=["boiling-point-mismatch"],
     ).findings
     assert [f.severity.value for f in found] == ["error"]
+
+
+def test_a_second_reference_that_the_record_meets_names_the_first_as_the_one_to_doubt(
+    landolt_liquids,
+):
+    """Landolt's liquid 1068-87-7 (odd CAS) reaches 101325 Pa
+    at 409.9 K. chemicals carries two normal boiling points for it: CRC_ORG 396.15 K and
+    YAWS 409.87 K. With the first alone the record draws an error (as before); with both,
+    in that order, it meets YAWS, draws no boiling-point error, and the CRC_ORG value is
+    the finding, located at its own line and naming the YAWS value it disagrees with. A
+    table that keeps two sources' values no longer has its verdict depend on their order.
+    """
+    (rec,) = [r for r in landolt_liquids if r["substance"] == "1068-87-7"]
+    crc, yaws = _reference("1068-87-7", "CRC_ORG"), _reference("1068-87-7", "YAWS")
+    assert abs(crc["value"] - 396.15) < 0.01 and abs(yaws["value"] - 409.87) < 0.01
+
+    def found(refs):
+        result = audit_table(table_from_rows([rec], refs))
+        return {
+            (f.check, f.severity.value, f.line): f
+            for f in result.findings
+            if f.check in ("boiling-point-mismatch", "reference-contradicted")
+        }
+
+    alone = found([crc])
+    assert [k[:2] for k in alone] == [("boiling-point-mismatch", "error")]
+    for refs in ([crc, yaws], [yaws, crc]):
+        both = found(refs)
+        assert [k[:2] for k in both] == [("reference-contradicted", "warning")]
+        (f,) = both.values()
+        assert f.line == 1 + refs.index(crc)  # the CRC_ORG row
+        assert "396.15 K (Tb via chemicals, method CRC_ORG)" in f.message
+        assert "other reference 409.87 K (Tb via chemicals, method YAWS)" in f.message
+        assert f.suggestion is None

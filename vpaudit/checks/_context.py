@@ -8,7 +8,7 @@ array code.
 from __future__ import annotations
 
 from functools import cached_property
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, NamedTuple
 
 import numpy as np
 import pandas as pd
@@ -37,6 +37,15 @@ __all__ = ["AuditContext", "P_STANDARD", "LN_P_STANDARD", "match", "same_key_pai
 #: Standard pressure of the normal boiling point and of Trouton's rule. [Pa]
 P_STANDARD = 101325.0
 LN_P_STANDARD = float(np.log(P_STANDARD))
+
+
+class ReferenceRows(NamedTuple):
+    """The reference values of one quantity, one per row of the references table."""
+
+    rows: np.ndarray  # rows of the references table
+    codes: np.ndarray  # the substance code of each
+    value: np.ndarray  # the value in SI units
+    uncertainty: np.ndarray  # its stated absolute uncertainty in SI units, NaN where none
 
 
 class AuditContext:
@@ -237,6 +246,27 @@ class AuditContext:
         """For each quantity, the stated absolute uncertainty (SI units) of the first
         reference value per substance code, NaN where none is stated.
         """
+        refs = self.table.references
+        out: dict[str, np.ndarray] = {}
+        if not len(refs) or "uncertainty" not in refs:
+            return out
+        ref_codes = self.ref_codes
+        q_code, q_names = codes(refs["quantity"])
+        for k, q in enumerate(q_names):
+            m = (q_code == k) & (ref_codes >= 0)
+            first_codes, first = np.unique(ref_codes[m], return_index=True)
+            u = self._reference_uncertainty_si(str(q), np.flatnonzero(m)[first])
+            if u is None:
+                continue
+            arr = np.full(self.n_names, np.nan)
+            arr[first_codes] = u
+            out[q] = arr
+        return out
+
+    def _reference_uncertainty_si(self, quantity: str, rows: np.ndarray) -> np.ndarray | None:
+        """The stated absolute uncertainty (SI units) of reference rows ``rows`` of
+        ``quantity``, NaN where none is stated; None for a quantity without a unit scale.
+        """
         from ..units import (
             ENTHALPY_UNITS,
             ENTROPY_UNITS,
@@ -247,37 +277,50 @@ class AuditContext:
         )
 
         refs = self.table.references
-        out: dict[str, np.ndarray] = {}
-        if not len(refs) or "uncertainty" not in refs:
-            return out
-        ref_codes = self.ref_codes
-        q_code, q_names = codes(refs["quantity"])
+        kind = QUANTITY_UNITS.get(quantity, ("", ()))[0]
+        scale = {
+            "temperature": lambda n: temperature_affine(n)[0],
+            "pressure": pressure_factor,
+            "enthalpy": lambda n: ENTHALPY_UNITS[n],
+            "molar_mass": lambda n: MOLAR_MASS_UNITS[n],
+            "entropy": lambda n: ENTROPY_UNITS[n],
+        }.get(kind)
+        if scale is None:
+            return None
+        if "uncertainty" not in refs:
+            return np.full(rows.size, np.nan)
         u = refs["uncertainty"].to_numpy(dtype=float, na_value=np.nan)
         unit_code, unit_names = codes(refs["unit"])
         unit_names = [str(n) for n in unit_names] + ["None"]  # code -1: an empty cell
-        for k, q in enumerate(q_names):
-            m = (q_code == k) & (ref_codes >= 0)
-            kind = QUANTITY_UNITS.get(str(q), ("", ()))[0]
-            scale = {
-                "temperature": lambda n: temperature_affine(n)[0],
-                "pressure": pressure_factor,
-                "enthalpy": lambda n: ENTHALPY_UNITS[n],
-                "molar_mass": lambda n: MOLAR_MASS_UNITS[n],
-                "entropy": lambda n: ENTROPY_UNITS[n],
-            }.get(kind)
-            if scale is None:
-                continue
-            first_codes, first = np.unique(ref_codes[m], return_index=True)
-            rows = np.flatnonzero(m)[first]
-            # each unit's factor once, for the units these rows use
-            used = unit_code[rows]
-            factor = np.full(len(unit_names), np.nan)
-            for c in np.unique(used).tolist():
-                factor[c] = scale(unit_names[c])
-            arr = np.full(self.n_names, np.nan)
-            arr[first_codes] = u[rows] * factor[used]
-            out[q] = arr
-        return out
+        # each unit's factor once, for the units these rows use
+        used = unit_code[rows]
+        factor = np.full(len(unit_names), np.nan)
+        for c in np.unique(used).tolist():
+            factor[c] = scale(unit_names[c])
+        return u[rows] * factor[used]
+
+    def references_of(self, quantity: str) -> ReferenceRows:
+        """Every reference value of ``quantity`` that names a known substance, in the order
+        of the table (a substance may have several, from different sources).
+        """
+        refs = self.table.references
+        if not len(refs):
+            empty = np.empty(0, dtype=np.int64)
+            return ReferenceRows(empty, empty, np.empty(0), np.empty(0))
+        rows = np.flatnonzero(eq(refs["quantity"], quantity) & (self.ref_codes >= 0))
+        value = refs["value_si"].to_numpy(dtype=float)[rows]
+        u = self._reference_uncertainty_si(quantity, rows)
+        return ReferenceRows(
+            rows,
+            self.ref_codes[rows],
+            value,
+            np.full(rows.size, np.nan) if u is None else u,
+        )
+
+    def reference_row_at(self, row: int) -> tuple[str, str, int]:
+        """(source, file, line) of reference row ``row``."""
+        refs = self.table.references
+        return str(refs["source"].iat[row]), str(refs["file"].iat[row]), int(refs["line"].iat[row])
 
     def reference_uncertainty(self, quantity: str, rows: np.ndarray | None = None) -> np.ndarray:
         """The stated absolute uncertainty (SI units) of the reference ``quantity`` for the
@@ -307,8 +350,7 @@ class AuditContext:
         at = np.flatnonzero(eq(refs["quantity"], quantity) & (self.ref_codes == code))
         if not at.size:
             return "?", None, None
-        r0 = int(at[0])
-        return str(refs["source"].iat[r0]), str(refs["file"].iat[r0]), int(refs["line"].iat[r0])
+        return self.reference_row_at(int(at[0]))
 
     def melting_reference(self, rows: np.ndarray | None = None) -> np.ndarray:
         """Reference melting point, or the triple-point temperature where none is given. [K]"""

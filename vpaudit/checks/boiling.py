@@ -11,17 +11,20 @@ import numpy as np
 from ..constants import R
 from ..equations.engine import Curves, evaluate, temperature_at
 from ..units import MMHG_PA
-from ._context import LN_P_STANDARD, AuditContext
+from ._context import LN_P_STANDARD, AuditContext, match
 from ._registry import Scope, Severity, Threshold, check
 from ._text import jk, kelvin, ln_ratio
 from .extrapolation import allowance
 from .hits import Hit
 
-__all__ = ["BoilingResiduals", "boiling_residuals"]
+__all__ = ["BoilingResiduals", "ReferenceMeets", "boiling_residuals"]
 
 
 class BoilingResiduals(NamedTuple):
-    """The liquid records with a reference normal boiling point, and how they meet it."""
+    """The liquid records with a reference normal boiling point, and how they meet it: each
+    against the reference of its substance that it meets best (the table's first where
+    they meet several equally), with every (record, reference) comparison beside.
+    """
 
     rows: np.ndarray  # record rows
     curves: Curves  # their curves
@@ -32,6 +35,17 @@ class BoilingResiduals(NamedTuple):
     tol: np.ndarray  # tolerance of d, widened for extrapolation [ln P]
     stated: np.ndarray  # whether the reference states its uncertainty
     base: np.ndarray  # the tolerance before that widening [ln P]
+    ref: np.ndarray  # the row of that reference in the references table
+    pairs: ReferenceMeets  # every comparison of a record with a reference of its substance
+
+
+class ReferenceMeets(NamedTuple):
+    """Every comparison of a liquid record with a reference T_b of its substance."""
+
+    k: np.ndarray  # the record, as an index into :attr:`BoilingResiduals.rows`
+    ref: np.ndarray  # the row of the reference in the references table
+    d: np.ndarray  # ln P(T_b) - ln 101325 at that reference
+    met: np.ndarray  # whether the curve meets it within the tolerance
 
 
 def boiling_residuals(ctx: AuditContext) -> BoilingResiduals | None:
@@ -40,27 +54,60 @@ def boiling_residuals(ctx: AuditContext) -> BoilingResiduals | None:
     never less than the tolerance, and widened in quadrature by the extrapolation allowance
     where T_b lies outside the range: :mod:`vpaudit.checks.extrapolation`); None when there
     are none.
+
+    A substance may have several reference values (from different sources): each record
+    is compared with all of them and judged against the one it meets best (the smallest
+    |d| over its tolerance), since a reference that another reference and the record
+    contradict is the one to doubt (``reference-contradicted`` reports it).
     """
     th = ctx.thresholds("boiling-point-mismatch")
-    tb = ctx.reference("normal_boiling_point")
-    rows = np.flatnonzero(ctx.evaluable & ctx.liquid & np.isfinite(tb))
-    if rows.size == 0:
+    refs = ctx.references_of("normal_boiling_point")
+    liquids = ctx.evaluable & ctx.liquid & (ctx.codes >= 0)
+    key = np.where(liquids, ctx.codes, -1)
+    ref_key = np.where(np.isfinite(refs.value), refs.codes, -1)
+    i, j = match(key, ref_key)  # every (record, reference) of one substance
+    if i.size == 0:
         return None
-    c = ctx.curves.take(rows)
-    t = tb[rows]
-    y, y1, _ = evaluate(c, t, order=1)
+    order = np.lexsort((j, i))  # by record, then in the order of the references table
+    i, j = i[order], j[order]
+    c_all = ctx.curves.take(i)
+    t = refs.value[j]
+    y, y1, _ = evaluate(c_all, t, order=1)
     d = y - LN_P_STANDARD
-    u_p = ctx.uncertainty[rows]
+    u_p = ctx.uncertainty[i]
     u_p = np.where(np.isnan(u_p), th["default_uncertainty"], u_p)
-    u_tb = ctx.reference_uncertainty("normal_boiling_point", rows)
+    u_tb = refs.uncertainty[j]
     stated = ~np.isnan(u_tb)
     u_tb = np.where(stated, u_tb, th["tb_uncertainty"])
     with np.errstate(over="ignore"):  # a slope that overflows leaves an infinite sigma
         sigma = np.sqrt(u_p**2 + (np.abs(y1) * u_tb) ** 2)
     base = np.maximum(th["tolerance"], th["factor"] * sigma)
     # a T_b outside the range is reached by extrapolation, which drifts (measured)
-    tol = np.hypot(base, allowance(c.t_min, c.t_max, t))
-    return BoilingResiduals(rows, c, t, y, y1, d, tol, stated, base)
+    tol = np.hypot(base, allowance(c_all.t_min, c_all.t_max, t))
+    rows, first, k = np.unique(i, return_index=True, return_inverse=True)
+    best = first
+    if rows.size < i.size:  # some substance has several references: the one met best
+        with np.errstate(invalid="ignore", divide="ignore"):
+            score = np.abs(d) / tol
+        score = np.where(np.isnan(score), np.inf, score)
+        # the least score of each record, the first such reference on a tie
+        by = np.lexsort((np.arange(i.size), score, k))
+        best = by[np.unique(k[by], return_index=True)[1]]
+    with np.errstate(invalid="ignore"):
+        met = np.abs(d) <= tol
+    return BoilingResiduals(
+        rows,
+        ctx.curves.take(rows) if rows.size < i.size else c_all,
+        t[best],
+        y[best],
+        y1[best],
+        d[best],
+        tol[best],
+        stated[best],
+        base[best],
+        refs.rows[j[best]],
+        ReferenceMeets(k.reshape(-1), refs.rows[j], d, met),
+    )
 
 
 def _outvoted(ctx: AuditContext, rows: np.ndarray, d: np.ndarray, tol: np.ndarray) -> np.ndarray:
@@ -359,7 +406,8 @@ def boiling_point_mismatch(ctx: AuditContext, th: dict[str, float]):
     Severity.warning,
     Scope.sources,
     "Several sources of a substance agree with each other and not with its reference normal "
-    "boiling point: the reference looks wrong, not the records.",
+    "boiling point, or its records meet another reference value and not this one: the "
+    "reference looks wrong, not the records.",
     "Reference values in compilations are not all right; independent sources that agree "
     "outweigh one value from another evaluation.",
 )
@@ -368,18 +416,24 @@ def reference_contradicted(ctx: AuditContext, th: dict[str, float]):
     each beyond the boiling-point tolerance, and agree with each other within it. The
     reference is named as the likely culprit, located at its own file and line, and the
     records draw no boiling-point error: blaming each record would repeat one wrong value.
+
+    A substance may also have several reference values of T_b (from different sources).
+    One that none of its liquid records meets, while they meet another, is contradicted by
+    that reference and the records together: it is named, at its own file and line, beside
+    the reference the records meet, and the records draw no error (each is judged against
+    the reference it meets best).
     """
     got = boiling_residuals(ctx)
     if got is None:
         return
     rows, c, t, d, tol = got.rows, got.curves, got.t, got.d, got.tol
     out = _outvoted(ctx, rows, d, tol)
-    if not out.any():
-        return
-    t_implied = temperature_at(c, LN_P_STANDARD, 0.5 * c.t_min, 3.0 * c.t_max)
+    t_implied = None
+    if out.any():
+        t_implied = temperature_at(c, LN_P_STANDARD, 0.5 * c.t_min, 3.0 * c.t_max)
     for code in np.unique(ctx.codes[rows[out]]):
         k = np.flatnonzero(out & (ctx.codes[rows] == code))
-        source, file, line = ctx.reference_at("normal_boiling_point", code)
+        source, file, line = ctx.reference_row_at(int(got.ref[k[0]]))
         implied = t_implied[k]
         ids = tuple(ctx.id(rows[j]) for j in k)
         yield Hit(
@@ -394,6 +448,53 @@ def reference_contradicted(ctx: AuditContext, th: dict[str, float]):
                 "implied_boiling_points_K": [float(x) for x in implied],
                 "difference_lnP": [float(x) for x in d[k]],
                 "tolerance_lnP": float(tol[k].min()),
+            },
+            records=ids,
+            file=file,
+            line=line,
+        )
+    yield from _contradicted_by_another_reference(ctx, got)
+
+
+def _contradicted_by_another_reference(ctx: AuditContext, got: BoilingResiduals):
+    """The reference values of T_b that no liquid record of their substance meets while
+    the records meet another reference value of it (:func:`reference_contradicted`).
+    """
+    pairs = got.pairs
+    if pairs.k.size == got.rows.size:  # one reference per substance: nothing to weigh
+        return
+    refs = ctx.table.references
+    value = refs["value_si"].to_numpy(dtype=float)
+    n_refs = len(refs)
+    met_any = np.bincount(pairs.ref, weights=pairs.met, minlength=n_refs) > 0
+    tried = np.bincount(pairs.ref, minlength=n_refs) > 0
+    met_codes = np.zeros(ctx.n_names + 1, dtype=bool)  # the last: no substance
+    met_codes[ctx.ref_codes[met_any]] = True
+    for r in np.flatnonzero(tried & ~met_any & met_codes[ctx.ref_codes]).tolist():
+        here = pairs.ref == r
+        k = pairs.k[here]  # the records of its substance, and how they miss it
+        meets = pairs.met & np.isin(pairs.k, k) & (pairs.ref != r)
+        other = int(pairs.ref[meets][0])  # the first other reference that they meet
+        by = np.isin(k, pairs.k[meets & (pairs.ref == other)])
+        ids = tuple(ctx.id(got.rows[j]) for j in k[by])
+        miss = pairs.d[here][by]
+        source, file, line = ctx.reference_row_at(r)
+        other_source = ctx.reference_row_at(other)[0]
+        worst = float(miss[np.argmax(np.abs(miss))])
+        one = len(ids) == 1
+        yield Hit(
+            int(got.rows[k[by][0]]),
+            f"the reference normal boiling point {kelvin(value[r])} ({source}) disagrees "
+            f"with the substance's other reference {kelvin(value[other])} ({other_source}): "
+            f"the liquid record{'' if one else 's'} {', '.join(ids)} meet{'s' if one else ''} "
+            f"that one and miss{'es' if one else ''} this one by "
+            f"{'' if one else 'up to '}{ln_ratio(worst)}. The reference value "
+            f"{kelvin(value[r])} looks wrong, not the record{'' if one else 's'}: check it "
+            "against its source.",
+            {
+                "boiling_point_K": float(value[r]),
+                "other_boiling_point_K": float(value[other]),
+                "difference_lnP": [float(x) for x in miss],
             },
             records=ids,
             file=file,

@@ -13,6 +13,7 @@ import pandas as pd
 from .._columns import TEXT
 from ..checks._context import LN_P_STANDARD, AuditContext, match, same_key_pairs
 from ..checks._registry import REGISTRY, Severity
+from ..checks.boiling import boiling_residuals
 from ..checks.finding import Finding
 from ..checks.record import entropy_band
 from ..constants import R
@@ -193,14 +194,11 @@ def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
         hess = policy.thresholds("fusion-enthalpy-mismatch")
         add(ctx.codes[s], resid / (0.5 * hess.get("tolerance", 0.03)))
     rows = np.flatnonzero(ctx.evaluable)
-    # the normal boiling point, in ln P, looser the farther it lies outside the range
-    tb = ctx.reference("normal_boiling_point", rows)
-    liq = ctx.liquid[rows] & np.isfinite(tb)
-    if liq.any():
-        r = rows[liq]
-        c = ctx.curves.take(r)
-        t = tb[liq]
-        d = evaluate(c, t, order=0)[0] - LN_P_STANDARD
+    # the normal boiling point, in ln P, looser the farther it lies outside the range (each
+    # liquid against the reference of its substance that it meets best, as the check has it)
+    got = boiling_residuals(ctx)
+    if got is not None:
+        r, c, t, d = got.rows, got.curves, got.t, got.d
         dist = np.maximum(c.t_min - t, t - c.t_max).clip(min=0.0) / t
         tol_b = policy.thresholds("boiling-point-mismatch")["tolerance"]
         widen = 1.0 + 20.0 * dist

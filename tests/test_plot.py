@@ -79,3 +79,25 @@ def test_an_equation_given_at_one_temperature_is_drawn_as_its_point(tmp_path, re
     assert drawn["records"] == ["x1"] and not drawn["not_drawn"]
     assert (tmp_path / "x.svg").read_text().startswith("<?xml")
     assert not [w for w in recwarn if "legend" in str(w.message)]
+
+
+def test_every_reference_boiling_point_is_marked_with_its_source(tmp_path):
+    # a table may keep two sources' normal boiling points; the audit weighs both, so the
+    # picture marks both (it showed only the first); invented values
+    (tmp_path / "records").mkdir()
+    (tmp_path / "references").mkdir()
+    (tmp_path / "records" / "r.csv").write_text(
+        "id,substance,phase,form,log_base,pressure_unit,temperature_unit,A,B,C,t_min,t_max,"
+        "source\n"
+        "x1,xane,liquid,antoine,10,mmHg,K,6.95464,1344.8,-53.67,280,410,invented for this test\n"
+    )
+    (tmp_path / "references" / "ref.csv").write_text(
+        "substance,quantity,value,unit,source\n"
+        "xane,normal_boiling_point,395.0,K,table one\n"
+        "xane,normal_boiling_point,383.8,K,table two\n"
+    )
+    svg = tmp_path / "x.svg"
+    plot_substance(load_table(tmp_path), "xane", svg)
+    text = svg.read_text()
+    assert "reference normal boiling point 395 K (table one)" in text
+    assert "reference normal boiling point 383.8 K (table two)" in text

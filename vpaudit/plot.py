@@ -350,8 +350,13 @@ def _references(ax, ctx: AuditContext) -> None:
             fontsize=9,
             rotation=0,
         )
-    tb = ctx.reference("normal_boiling_point")[0] if ctx.n else np.nan
-    if math.isfinite(tb):
+    # every value of the normal boiling point (a table may keep several sources' values)
+    tbs = ctx.references_of("normal_boiling_point")
+    several = tbs.rows.size > 1
+    for r, tb in zip(tbs.rows.tolist(), tbs.value.tolist(), strict=True):
+        if not math.isfinite(tb):
+            continue
+        source = f" ({ctx.reference_row_at(r)[0]})" if several else ""
         ax.plot(
             [1000.0 / tb],
             [math.log(101325.0)],
@@ -360,7 +365,7 @@ def _references(ax, ctx: AuditContext) -> None:
             mfc="white",
             mec="black",
             ls="none",
-            label=f"reference normal boiling point {tb:.5g} K",
+            label=f"reference normal boiling point {tb:.5g} K{source}",
         )
     ttp = ctx.reference("triple_point_temperature")[0] if ctx.n else np.nan
     ptp = ctx.reference("triple_point_pressure")[0] if ctx.n else np.nan

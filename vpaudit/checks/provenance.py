@@ -123,3 +123,57 @@ def duplicate_record(ctx: AuditContext, th: dict[str, float]):
             records=ids,
             tier="same-equation-two-ids",
         )
+
+
+#: Reference quantities of which every value is weighed: a substance may have several.
+_EVERY_VALUE_WEIGHED = frozenset({"normal_boiling_point"})
+
+
+@check(
+    "reference-not-used",
+    Severity.note,
+    Scope.sources,
+    "A substance has several differing values of one reference quantity, and only the first "
+    "is compared.",
+    "An audit must not let the order of rows decide silently which of two sources' values "
+    "a record is held to.",
+)
+def reference_not_used(ctx: AuditContext, th: dict[str, float]):
+    """Every value of a normal boiling point is weighed (each liquid against the one it
+    meets best; ``reference-contradicted`` names a value the records contradict). Of the
+    other quantities the checks use the first value per substance; when a later one differs,
+    this note names both, at the later value's own file and line, so that a steward can
+    keep the right one first or remove the other.
+    """
+    refs = ctx.table.references
+    if not len(refs):
+        return
+    value = refs["value_si"].to_numpy(dtype=float)
+    q_code, q_names = codes(refs["quantity"])
+    for k, quantity in enumerate(q_names):
+        if str(quantity) in _EVERY_VALUE_WEIGHED:
+            continue
+        rows = np.flatnonzero((q_code == k) & (ctx.ref_codes >= 0) & np.isfinite(value))
+        if rows.size < 2:
+            continue
+        order = rows[np.argsort(ctx.ref_codes[rows], kind="stable")]
+        sub = ctx.ref_codes[order]
+        first = np.r_[True, sub[1:] != sub[:-1]]
+        lead = order[np.maximum.accumulate(np.where(first, np.arange(order.size), 0))]
+        differ = ~first & (value[order] != value[lead])
+        for r, r0 in zip(order[differ].tolist(), lead[differ].tolist(), strict=True):
+            source, file, line = ctx.reference_row_at(r)
+            used = ctx.reference_row_at(r0)
+            what = str(quantity).replace("_", " ")
+            yield Hit(
+                None,
+                f"the {what} of {refs['substance'].iat[r]} is given twice: "
+                f"{refs['value'].iat[r0]:g} {refs['unit'].iat[r0]} ({used[0]}, line "
+                f"{used[2]}), which the checks use, and {refs['value'].iat[r]:g} "
+                f"{refs['unit'].iat[r]} ({source}) here, which they do not use. Keep the "
+                "value you trust first, or remove the other.",
+                {"quantity": str(quantity), "used_line": used[2]},
+                substance=str(refs["substance"].iat[r]),
+                file=file,
+                line=line,
+            )

@@ -12,7 +12,8 @@ Wagner, Perry's; references through documented ``chemicals`` lookups), per compi
   suggestions that are wrong, and confident suggestions on clean substances.
 
 With ``--every-tb`` each substance carries the normal boiling point of every method that
-knows it, not only the first (a table that keeps several sources' values).
+knows it, not only the first (a table that keeps several sources' values); ``--every-tc``
+the same for the critical temperature.
 
     python benchmarks/compilation_accuracy.py [--sample 200] [--seed 20261202]
 """
@@ -35,13 +36,15 @@ from slips import SLIP_KINDS, corrupt, reproduces  # noqa: E402
 from vpaudit.auditing import audit_table  # noqa: E402
 
 
-def clean_errors(name: str, every_tb: bool = False):
+def clean_errors(name: str, every_tb: bool = False, every_tc: bool = False):
     records, refs = COMPILATIONS[name](None)
     records = [r for r in records if _complete(r)]
     keep = {r["substance"] for r in records}
     refs = [r for r in refs if r["substance"] in keep]
     if every_tb:
         refs = every_boiling_point(refs)
+    if every_tc:
+        refs = every_boiling_point(refs, "critical_temperature")
     result = audit_table(table_from_rows(records, refs), diagnose=False)
     errs = [f for f in result.findings if f.severity.value == "error"]
     flagged = {x for f in errs for x in f.records}
@@ -311,6 +314,11 @@ def main() -> None:
         "that knows it (CRC_ORG, CRC_INORG, YAWS, COMMON_CHEMISTRY), as a table that keeps "
         "several sources' values would, not only the first",
     )
+    ap.add_argument(
+        "--every-tc",
+        action="store_true",
+        help="the same for the critical temperature (IUPAC, MATTHEWS, CRC, YAWS, PINAMARTINES)",
+    )
     args = ap.parse_args()
     global SHOW_MISSED, SHOW_WRONG
     SHOW_MISSED, SHOW_WRONG = args.show_missed, args.show_wrong
@@ -320,7 +328,7 @@ def main() -> None:
     )
     for name in [args.only] if args.only else COMPILATIONS:
         t0 = time.perf_counter()
-        records, refs, flagged, by_check, _ = clean_errors(name, args.every_tb)
+        records, refs, flagged, by_check, _ = clean_errors(name, args.every_tb, args.every_tc)
         n, det, right, conf, cw, missed, right_flagged = planted(
             name, records, refs, flagged, args.sample, args.seed
         )

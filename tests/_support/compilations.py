@@ -106,23 +106,33 @@ def _antoine(cas, row, phase, source, base, tag) -> dict:
     }
 
 
-def every_boiling_point(refs: list[dict]) -> list[dict]:
-    """``refs`` with, for each substance that has a normal boiling point, the values of the
-    other methods of :data:`_TB` that know it as further reference rows (a table that keeps
-    several sources' values), each with its method named.
-    """
-    from chemicals import Tb
+#: Critical temperatures of evaluations and data compilations (estimation methods, the
+#: equation-of-state library's values and the web compilation's are left out).
+_TC_EVERY = ("IUPAC", "MATTHEWS", "CRC", "YAWS", "PINAMARTINES")
 
+
+def every_boiling_point(refs: list[dict], quantity: str = "normal_boiling_point") -> list[dict]:
+    """``refs`` with, for each substance that has a normal boiling point (or, with
+    ``quantity="critical_temperature"``, a critical temperature), the values of the other
+    methods of :data:`_TB` (:data:`_TC_EVERY`) that know it as further reference rows (a
+    table that keeps several sources' values), each with its method named.
+    """
+    from chemicals import Tb, Tc
+
+    fn, methods, what = {
+        "normal_boiling_point": (Tb, _TB, "Tb"),
+        "critical_temperature": (Tc, _TC_EVERY, "Tc"),
+    }[quantity]
     out = list(refs)
     for r in refs:
-        if r["quantity"] != "normal_boiling_point":
+        if r["quantity"] != quantity:
             continue
-        for method in _TB:
+        for method in methods:
             if method in r["source"]:
                 continue
-            found = _lookup(Tb, r["substance"], (method,))
+            found = _lookup(fn, r["substance"], (method,))
             if found is not None:
-                out.append(dict(r, value=found[0], source=f"Tb via chemicals, method {method}"))
+                out.append(dict(r, value=found[0], source=f"{what} via chemicals, method {method}"))
     return out
 
 

@@ -51,3 +51,34 @@ def test_a_lost_sign_of_the_high_order_term_is_caught_at_the_critical_point():
     assert len(caught) >= 0.95 * len(bad)
     d = np.array([f.evidence["difference_lnP"] for f in result.findings])
     assert np.all(np.isfinite(d))
+
+
+def test_a_second_reference_tc_that_the_range_meets_names_the_first_to_doubt():
+    """Perry's p-dichlorobenzene (106-46-7; via chemicals) ends its range at 684.75 K,
+    YAWS's critical temperature; the CRC's is 669 K. With the CRC value alone the range
+    passes it (an error, as before); with both, in either order, the range is held to the
+    value that allows it: no above-critical finding, and reference-contradicted names the
+    CRC value at its own line."""
+    from chemicals import Tc
+
+    records, refs = _table(perry)
+    sub = "106-46-7"
+    recs = [r for r in records if r["substance"] == sub]
+    crc = next(r for r in refs if r["substance"] == sub and r["quantity"] == "critical_temperature")
+    assert crc["value"] == 669.0 and "CRC" in crc["source"]
+    yaws = dict(crc, value=float(Tc(sub, method="YAWS")), source="Tc via chemicals, method YAWS")
+    assert yaws["value"] == 684.75
+    base = [r for r in refs if r["substance"] == sub and r is not crc]
+    checks = ["above-critical", "reference-contradicted"]
+
+    def found(more):
+        result = audit_table(table_from_rows(recs, base + more), diagnose=False, only=checks)
+        return [(f.check, f.severity.value, f.line, f.message) for f in result.findings]
+
+    assert [f[:2] for f in found([crc])] == [("above-critical", "error")]
+    for more in ([crc, yaws], [yaws, crc]):
+        (got,) = found(more)
+        assert got[:2] == ("reference-contradicted", "warning")
+        assert got[2] == len(base) + 1 + more.index(crc)  # the CRC row
+        assert "669 K (Tc via chemicals, method CRC)" in got[3]
+        assert "other reference 684.75 K (Tc via chemicals, method YAWS)" in got[3]

@@ -16,7 +16,7 @@ from typing import NamedTuple
 import numpy as np
 
 from ..equations.engine import evaluate, temperature_at
-from ._context import AuditContext
+from ._context import AuditContext, match
 from ._registry import Scope, Severity, Threshold, check
 from ._text import kelvin, ln_ratio, pressure
 from .hits import Hit
@@ -72,8 +72,8 @@ def above_critical(ctx: AuditContext, th: dict[str, float]):
     against it. A reference Tc below the whole range is named as the likely culprit.
     """
     own = ctx.curves.own_t_crit
-    ref = ctx.reference("critical_temperature")
-    u = ctx.reference_uncertainty("critical_temperature")
+    chosen = critical_references(ctx, th["tolerance"])
+    ref, u, ref_row = chosen.value, chosen.uncertainty, chosen.ref
     margin = np.where(np.isfinite(u), u, th["tolerance"] * ref)
     tc = np.where(np.isfinite(own), own, ref)
     allowed = np.where(np.isfinite(own), own * (1 + 1e-9), ref + margin)
@@ -89,13 +89,13 @@ def above_critical(ctx: AuditContext, th: dict[str, float]):
     others = _own_tc_at_range_end(ctx, disputed, th["tolerance"])
     for i in np.flatnonzero(bad):
         if below[i]:
-            yield _implausible_tc(ctx, i, ref[i])
+            yield _implausible_tc(ctx, i, ref[i], int(ref_row[i]))
             continue
         if i in sides:
             yield _disputed_tc(ctx, i, ref[i], *sides[i])
             continue
         if i in others:
-            yield _outvoted_tc(ctx, i, ref[i], *others[i])
+            yield _outvoted_tc(ctx, i, ref[i], int(ref_row[i]), *others[i])
             continue
         whose = "the record's own" if np.isfinite(own[i]) else "the reference"
         doubted = False
@@ -206,12 +206,12 @@ def _own_tc_at_range_end(ctx: AuditContext, rows: np.ndarray, tolerance: float) 
     return out
 
 
-def _outvoted_tc(ctx: AuditContext, row: int, tc: float, other: int, other_tc: float):
+def _outvoted_tc(ctx: AuditContext, row: int, tc: float, ref_row: int, other: int, other_tc: float):
     """``above-critical`` for a range that ends where another source of the substance puts
-    its own Tc: a warning naming the reference (at its own file and line) as the likelier
-    to be off.
+    its own Tc: a warning naming the reference (row ``ref_row`` of the references, at its
+    own file and line) as the likelier to be off.
     """
-    source, file, line = ctx.reference_at("critical_temperature", ctx.codes[row])
+    source, file, line = ctx.reference_row_at(ref_row)
     t_max = float(ctx.curves.t_max[row])
     return Hit(
         row,
@@ -232,11 +232,12 @@ def _outvoted_tc(ctx: AuditContext, row: int, tc: float, other: int, other_tc: f
     )
 
 
-def _implausible_tc(ctx: AuditContext, row: int, tc: float):
+def _implausible_tc(ctx: AuditContext, row: int, tc: float, ref_row: int):
     """``above-critical`` for a reference Tc below a liquid record's whole range: a warning
-    that names the reference (at its own file and line) as the likely culprit.
+    that names the reference (row ``ref_row`` of the references, at its own file and line)
+    as the likely culprit.
     """
-    source, file, line = ctx.reference_at("critical_temperature", ctx.codes[row])
+    source, file, line = ctx.reference_row_at(ref_row)
     c = ctx.curves
     return Hit(
         row,
@@ -254,6 +255,93 @@ def _implausible_tc(ctx: AuditContext, row: int, tc: float):
         file=file,
         line=line,
     )
+
+
+class CriticalReferences(NamedTuple):
+    """Per record, the reference critical temperature it is judged against (NaN where its
+    substance has none): of several values, the one whose allowance reaches highest, so
+    that a range is never held to one value while another allows it; with every (record,
+    reference) comparison of the liquids beside.
+    """
+
+    value: np.ndarray  # Tc [K]
+    uncertainty: np.ndarray  # its stated absolute uncertainty [K], NaN where none
+    ref: np.ndarray  # its row in the references table (-1: none)
+    k: np.ndarray  # the record of each comparison (a record row)
+    pair_ref: np.ndarray  # its reference row
+    met: np.ndarray  # whether the range ends within that reference's allowance
+
+
+def critical_references(ctx: AuditContext, tolerance: float) -> CriticalReferences:
+    """:class:`CriticalReferences` of the table; ``tolerance`` is the relative margin of a
+    reference that states no uncertainty (``above-critical``'s).
+    """
+    refs = ctx.references_of("critical_temperature")
+    ok = np.isfinite(refs.value)
+    n = ctx.n
+    value, unc, row = np.full(n, np.nan), np.full(n, np.nan), np.full(n, -1, dtype=np.int64)
+    key = np.where(ctx.codes >= 0, ctx.codes, -1)
+    i, j = match(key, np.where(ok, refs.codes, -1))
+    empty = np.empty(0, dtype=np.int64)
+    if i.size == 0:
+        return CriticalReferences(value, unc, row, empty, empty, np.empty(0, dtype=bool))
+    order = np.lexsort((j, i))  # by record, then in the order of the references table
+    i, j = i[order], j[order]
+    u = refs.uncertainty[j]
+    allowed = refs.value[j] + np.where(np.isfinite(u), u, tolerance * refs.value[j])
+    # the highest allowance of each record, the first such reference on a tie
+    by = np.lexsort((np.arange(i.size), -allowed, i))
+    best = by[np.unique(i[by], return_index=True)[1]]
+    rows = i[best]
+    value[rows], unc[rows], row[rows] = refs.value[j[best]], u[best], refs.rows[j[best]]
+    liquid = ctx.evaluable[i] & ctx.liquid[i]
+    with np.errstate(invalid="ignore"):
+        met = ctx.curves.t_max[i] <= allowed
+    return CriticalReferences(value, unc, row, i[liquid], refs.rows[j][liquid], met[liquid])
+
+
+def contradicted_critical_temperatures(ctx: AuditContext):
+    """Hits of ``reference-contradicted`` for the reference critical temperatures that a
+    liquid range passes while another reference value of its substance allows it: the
+    range sides with the other value (its source's Tc), and two evaluations of Tc disagree.
+    """
+    got = critical_references(ctx, ctx.thresholds("above-critical")["tolerance"])
+    if got.k.size == np.unique(got.k).size:  # one reference per substance: nothing to weigh
+        return
+    refs = ctx.table.references
+    value = refs["value_si"].to_numpy(dtype=float)
+    own = ctx.curves.own_t_crit
+    for r in np.unique(got.pair_ref[~got.met]).tolist():
+        here = (got.pair_ref == r) & ~got.met
+        k = got.k[here]  # the liquids whose range passes it
+        k = k[~np.isfinite(own[k])]  # a Wagner record is held to its own Tc instead
+        meets = got.met & np.isin(got.k, k)
+        if not meets.any():
+            continue
+        other = int(got.pair_ref[meets][0])
+        by = np.unique(got.k[meets & (got.pair_ref == other)])
+        ids = tuple(ctx.id(x) for x in by.tolist())
+        source, file, line = ctx.reference_row_at(r)
+        other_source = ctx.reference_row_at(other)[0]
+        one = len(ids) == 1
+        t_max = ctx.curves.t_max[by]
+        yield Hit(
+            int(by[0]),
+            f"the reference critical temperature {kelvin(value[r])} ({source}) disagrees "
+            f"with the substance's other reference {kelvin(value[other])} ({other_source}): "
+            f"the range{'' if one else 's'} of {', '.join(ids)} "
+            f"end{'s' if one else ''} at {kelvin(float(t_max.max()))}, above this one and "
+            f"within that one. The reference value {kelvin(value[r])} looks wrong, or the "
+            "record's source used the other: check both against their sources.",
+            {
+                "critical_temperature_K": float(value[r]),
+                "other_critical_temperature_K": float(value[other]),
+                "t_max_K": [float(x) for x in t_max],
+            },
+            records=ids,
+            file=file,
+            line=line,
+        )
 
 
 class CriticalResiduals(NamedTuple):

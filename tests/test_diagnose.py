@@ -587,3 +587,38 @@ def test_a_fix_that_brings_its_record_back_to_its_sources_keeps_its_confidence()
     assert (sug["kind"], sug["record"]) == ("log-base", "123-96-6-pw")
     assert sug["confidence"] >= 0.8
     assert "farther from an independent witness" not in sug["explanation"]
+
+
+def test_a_fix_that_leaves_a_flat_line_is_disqualified():
+    """Landolt's 1551-27-5 (odd CAS, via chemicals: an Antoine liquid with A 25.02, B 5746,
+    C +5.1) with B entered 1000 times too large. Swapping B and C clears every error of the
+    slipped record but leaves ln P = 25.02 - 5.1/(T + 5.7e6): a flat line at 740 bar whose
+    pressure level alone falls in the entropy band, with dH near 1e-7 J/mol. It was offered
+    at 0.91. slope-too-flat makes that an error the fix creates, so it is no fix, and the
+    decimal shift of B is the top suggestion."""
+    from compilations import _complete, landolt
+
+    records, refs = landolt()
+    sub = "1551-27-5"
+    recs = [dict(r, B=r["B"] * 1000) for r in records if r["substance"] == sub and _complete(r)]
+    result = audit_table(table_from_rows(recs, [r for r in refs if r["substance"] == sub]))
+    sug = next(f.suggestion for f in result.findings if f.suggestion)
+    assert sug["kind"] == "decimal-shift"
+    assert abs(sug["corrected"]["B"] - 5746.0597) < 0.01
+
+
+def test_a_fix_that_leaves_a_curve_flatter_than_any_real_one_is_held():
+    """Landolt's 767-09-9 as chemicals carries it (odd CAS): an Antoine liquid with C = 0 and
+    B = 392 K, so dH = 3.3 kJ/mol at 335-414 K, d ln P/d ln T = 0.95. Read as log10, the
+    curve is 2.3 times steeper (2.2) and clears both errors, but is still half as steep as
+    the flattest real curve (4.4, helium-3 near its critical point): the reading is held at
+    even odds with the reason, not offered as almost certain (0.89 without the hold)."""
+    from compilations import _complete, landolt
+
+    records, refs = landolt()
+    sub = "767-09-9"
+    recs = [r for r in records if r["substance"] == sub and _complete(r)]
+    result = audit_table(table_from_rows(recs, [r for r in refs if r["substance"] == sub]))
+    sug = next(f.suggestion for f in result.findings if f.suggestion)
+    assert sug["kind"] == "log-base" and sug["confidence"] == 0.5
+    assert "still flatter than any real vapour-pressure curve" in sug["explanation"]

@@ -150,6 +150,54 @@ def slope_not_positive(ctx: AuditContext, th: dict[str, float]):
 
 
 @check(
+    "slope-too-flat",
+    Severity.error,
+    Scope.record,
+    "The curve is flatter than any vapour-pressure curve: d ln P/d ln T = dH/(R T) falls "
+    "below 1 in the range.",
+    "Clausius-Clapeyron: d ln P/d ln T = dH/(R T dZ), which stays large up to the critical "
+    "point (there about -A of the Wagner form, 5 to 8). Measured on the compilations via "
+    "chemicals: no clean Poling, McGarry, Poling-Wagner or Perry equation falls below 4.4 "
+    "(helium-3), no Alcock metal below 17.6.",
+    (
+        Threshold(
+            "min_log_slope",
+            2.0,
+            "-",
+            "least d ln P/d ln T accepted (a factor 4 below the flattest real curve)",
+        ),
+    ),
+)
+def slope_too_flat(ctx: AuditContext, th: dict[str, float]):
+    """A positive but vanishing slope: the curve barely rises with temperature, as if the
+    enthalpy of the phase change were a small fraction of R T. No condensed phase is held
+    so loosely; an Antoine equation whose C is far larger than its temperatures (B and C
+    swapped, or a slipped decimal of B) degenerates into such a nearly flat line, whose
+    pressure level alone can fall inside the entropy band. Tested where the implied enthalpy
+    is least (the range extrema of ``slope-not-positive``); a curve whose enthalpy is not
+    positive is that check's.
+    """
+    ex = ctx.range_extrema
+    with np.errstate(invalid="ignore", divide="ignore"):
+        ratio = ex.h_min / (R * ex.h_min_T)
+        bad = ctx.evaluable & (ex.h_min > 0) & (ratio < th["min_log_slope"])
+    sel = np.flatnonzero(bad)
+    h_min, h_min_t, r = ex.h_min[sel], ex.h_min_T[sel], ratio[sel]
+    messages = [
+        f"the implied enthalpy falls to {kj(h)} at {kelvin(t)}, {rk:.2g} R T (d ln P/d ln T "
+        f"= {rk:.2g}): flatter than any vapour-pressure curve (the flattest real ones, of "
+        "helium near its critical point, stay above 4). An Antoine C far larger than the "
+        "temperatures (B and C swapped) or a slipped decimal of B is the usual cause."
+        for h, t, rk in zip(h_min.tolist(), h_min_t.tolist(), r.tolist(), strict=True)
+    ]
+    yield Hits(
+        sel,
+        messages,
+        {"enthalpy_min_J_per_mol": h_min, "at_K": h_min_t, "log_slope": r},
+    )
+
+
+@check(
     "enthalpy-implausible",
     Severity.error,
     Scope.record,

@@ -324,6 +324,13 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
             f"than as written ({said}): the fix contradicts that witness and is at best part "
             "of the story"
         )
+    flattest = _flattest_slope(outs[best])
+    if flattest is not None and flattest < FLATTEST_REAL:
+        held.append(
+            f"With it, a curve of {ctx.substance_of(cands[best].row)} is still flatter than "
+            f"any real vapour-pressure curve (d ln P/d ln T down to {flattest:.2g}, below "
+            f"{FLATTEST_REAL:g}): the fix does not make the records plausible"
+        )
     held_down = bool(held) and conf > SCATTER_CAP
     if held_down:
         conf = SCATTER_CAP
@@ -353,6 +360,29 @@ SCATTER_CAP = 0.5
 _SIZED = frozenset(
     {"digit-transposition", "decimal-shift", "sign", "coefficient-swap", "pressure-unit"}
 )
+
+
+#: d ln P/d ln T of the flattest real vapour-pressure curves (helium-3 near its critical
+#: point, 4.4; every other clean equation of the compilations via chemicals is steeper:
+#: ``slope-too-flat``). [-]
+FLATTEST_REAL = 4.4
+
+
+def _flattest_slope(out: _Outcome) -> float | None:
+    """The least d ln P/d ln T of an outcome's curves, from its keys (ln P at five
+    temperatures over each range, :func:`~vpaudit.diagnose.variants._unit_keys`), between
+    neighbouring temperatures; None where no curve has two distinct temperatures.
+    """
+    k = np.frombuffer(out.key)
+    if k.size % _KEY_WIDTH:
+        return None
+    k = k.reshape(-1, _KEY_WIDTH)
+    y, lo, hi = k[:, :5], k[:, 5:6], k[:, 6:7]
+    with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
+        ln_t = np.log(lo + (hi - lo) * np.linspace(0.0, 1.0, 5)[None, :])
+        slope = np.diff(y, axis=1) / np.diff(ln_t, axis=1)
+    ok = np.isfinite(slope) & (np.abs(y[:, 1:]) < 1e299) & (np.abs(y[:, :-1]) < 1e299)
+    return float(slope[ok].min()) if ok.any() else None
 
 
 def _curve_shift(base: _Outcome, out: _Outcome, kind: str) -> float | None:
@@ -430,8 +460,8 @@ def _suggestion(
     held: bool = False,
 ) -> dict:
     """The suggestion of one fix, in the output contract's form (``held``: its confidence
-    was held down: the fix is smaller than sources disagree, or it moves its record farther
-    from an independent witness).
+    was held down: the fix is smaller than sources disagree, moves its record farther from
+    an independent witness, or leaves a curve flatter than any real one).
     """
     rid = ctx.id(cand.row)
     corrected = {ch.field: ch.value for ch in cand.changes if ch.row == cand.row}

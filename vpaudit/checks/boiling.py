@@ -62,8 +62,7 @@ def boiling_residuals(ctx: AuditContext) -> BoilingResiduals | None:
     """
     th = ctx.thresholds("boiling-point-mismatch")
     refs = ctx.references_of("normal_boiling_point")
-    liquids = ctx.evaluable & ctx.liquid & (ctx.codes >= 0)
-    key = np.where(liquids, ctx.codes, -1)
+    key = np.where(ctx.evaluable & ctx.liquid, ctx.codes, -1)  # negative codes never match
     ref_key = np.where(np.isfinite(refs.value), refs.codes, -1)
     i, j = match(key, ref_key)  # every (record, reference) of one substance
     if i.size == 0:

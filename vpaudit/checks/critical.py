@@ -280,8 +280,7 @@ def critical_references(ctx: AuditContext, tolerance: float) -> CriticalReferenc
     ok = np.isfinite(refs.value)
     n = ctx.n
     value, unc, row = np.full(n, np.nan), np.full(n, np.nan), np.full(n, -1, dtype=np.int64)
-    key = np.where(ctx.codes >= 0, ctx.codes, -1)
-    i, j = match(key, np.where(ok, refs.codes, -1))
+    i, j = match(ctx.codes, np.where(ok, refs.codes, -1))  # negative codes never match
     empty = np.empty(0, dtype=np.int64)
     if i.size == 0:
         return CriticalReferences(value, unc, row, empty, empty, np.empty(0, dtype=bool))

@@ -306,31 +306,7 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
         ):
             return {"suggestion": None, "clears": set(), "none": float(post[0])}
     conf = _stated(raw, cal)
-    held = []  # why the confidence is held, in words
-    moved = _curve_shift(base, outs[best], cands[best].kind)
-    if moved is not None and moved < SOURCE_SCATTER:
-        held.append(
-            f"The fix moves the curve by at most {moved:.2g} in ln P over its range, less "
-            f"than independent sources of one substance commonly disagree ({SOURCE_SCATTER:g}):"
-            " it cannot be told from such a disagreement"
-        )
-    farther = _farther_from_witnesses(base, outs[best], ctx.id(cands[best].row))
-    if farther:
-        said = "; ".join(
-            f"{check}: {REGISTRY[check].witness} {b:.3g} -> {a:.3g}" for check, b, a in farther
-        )
-        held.append(
-            f"With it, {ctx.id(cands[best].row)} stands farther from an independent witness "
-            f"than as written ({said}): the fix contradicts that witness and is at best part "
-            "of the story"
-        )
-    flattest = _flattest_slope(outs[best])
-    if flattest is not None and flattest < FLATTEST_REAL:
-        held.append(
-            f"With it, a curve of {ctx.substance_of(cands[best].row)} is still flatter than "
-            f"any real vapour-pressure curve (d ln P/d ln T down to {flattest:.2g}, below "
-            f"{FLATTEST_REAL:g}): the fix does not make the records plausible"
-        )
+    held = _held_because(ctx, base, outs[best], cands[best])
     held_down = bool(held) and conf > SCATTER_CAP
     if held_down:
         conf = SCATTER_CAP
@@ -349,11 +325,45 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
     return {"suggestion": sug, "clears": cleared, "none": float(post[0])}
 
 
+def _held_because(ctx: AuditContext, base: _Outcome, out: _Outcome, cand: Candidate) -> list:
+    """Why the fix ``cand`` (with outcome ``out``) cannot be almost certain, in words: it
+    moves its curve by less than sources disagree, moves its record farther from an
+    independent witness, or leaves a curve flatter than any real one. Empty when none.
+    """
+    held = []
+    moved = _curve_shift(base, out, cand.kind)
+    if moved is not None and moved < SOURCE_SCATTER:
+        held.append(
+            f"The fix moves the curve by at most {moved:.2g} in ln P over its range, less "
+            f"than independent sources of one substance commonly disagree ({SOURCE_SCATTER:g}):"
+            " it cannot be told from such a disagreement"
+        )
+    rid = ctx.id(cand.row)
+    farther = _farther_from_witnesses(base, out, rid)
+    if farther:
+        said = "; ".join(
+            f"{check}: {REGISTRY[check].witness} {b:.3g} -> {a:.3g}" for check, b, a in farther
+        )
+        held.append(
+            f"With it, {rid} stands farther from an independent witness than as written "
+            f"({said}): the fix contradicts that witness and is at best part of the story"
+        )
+    flattest = _flattest_slope(out)
+    if flattest is not None and flattest < FLATTEST_REAL:
+        held.append(
+            f"With it, a curve of {ctx.substance_of(cand.row)} is still flatter than any real "
+            f"vapour-pressure curve (d ln P/d ln T down to {flattest:.2g}, below "
+            f"{FLATTEST_REAL:g}): the fix does not make the records plausible"
+        )
+    return held
+
+
 #: How far two independent sources of one substance commonly disagree: the 90th percentile
 #: of max |ln P1 - ln P2| over the common range of 1,081 pairs of liquid equations in the
 #: literature compilations (benchmarks/calibrate.py --scatter). [ln P]
 SOURCE_SCATTER = 0.10
-#: The confidence at which a fix that moves its curve by less than that is held: the
+#: The confidence at which a fix is held when it cannot be almost certain
+#: (:func:`_held_because`): for one that moves its curve by less than that, the
 #: disagreement of sources explains the evidence as well as the fix does. [-]
 SCATTER_CAP = 0.5
 #: The kinds of fix whose size is how far they move the curve (a phase swap moves none).
@@ -373,10 +383,9 @@ def _flattest_slope(out: _Outcome) -> float | None:
     temperatures over each range, :func:`~vpaudit.diagnose.variants._unit_keys`), between
     neighbouring temperatures; None where no curve has two distinct temperatures.
     """
-    k = np.frombuffer(out.key)
-    if k.size % _KEY_WIDTH:
+    k = _key_rows(out)
+    if k is None:
         return None
-    k = k.reshape(-1, _KEY_WIDTH)
     y, lo, hi = k[:, :5], k[:, 5:6], k[:, 6:7]
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
         ln_t = np.log(lo + (hi - lo) * np.linspace(0.0, 1.0, 5)[None, :])
@@ -393,11 +402,18 @@ def _curve_shift(base: _Outcome, out: _Outcome, kind: str) -> float | None:
     """
     if kind not in _SIZED:
         return None
-    a, b = np.frombuffer(base.key), np.frombuffer(out.key)
-    if a.size != b.size or a.size % _KEY_WIDTH:
+    a, b = _key_rows(base), _key_rows(out)
+    if a is None or b is None or a.shape != b.shape:
         return None
-    y_a, y_b = a.reshape(-1, _KEY_WIDTH)[:, :5], b.reshape(-1, _KEY_WIDTH)[:, :5]
-    return float(np.abs(y_a - y_b).max())
+    return float(np.abs(a[:, :5] - b[:, :5]).max())
+
+
+def _key_rows(out: _Outcome) -> np.ndarray | None:
+    """An outcome's key as one row per record (:func:`~vpaudit.diagnose.variants._unit_keys`:
+    ln P at five temperatures, the range ends, whether liquid); None if malformed.
+    """
+    k = np.frombuffer(out.key)
+    return None if k.size % _KEY_WIDTH else k.reshape(-1, _KEY_WIDTH)
 
 
 def _witness_gap(f: Finding) -> float:

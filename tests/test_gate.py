@@ -327,7 +327,11 @@ def test_a_malformed_accepted_file_is_a_located_error_not_a_crash(repo, text):
 @settings(max_examples=60, deadline=None)
 @given(
     st.lists(
-        st.tuples(st.sampled_from(["Fe", "Zn", "Cu", "Ag"]), st.sampled_from([1.0, 2.5, np.nan])),
+        st.tuples(
+            st.sampled_from(["Fe", "Zn", "Cu", "Ag"]),
+            st.sampled_from([1.0, 2.5, np.nan, 0.0, -0.0]),
+            st.sampled_from(["three-term", "antoine", None]),
+        ),
         min_size=0,
         max_size=8,
     ),
@@ -336,42 +340,68 @@ def test_a_malformed_accepted_file_is_a_located_error_not_a_crash(repo, text):
 def test_changed_substances_are_those_whose_rows_differ_as_multisets(rows, data):
     """The gate's row keys against the obvious oracle: the rows of each side as a multiset
     of their contents (file and line left out); a substance changed iff one of its rows
-    is on one side more often than on the other."""
+    is on one side more often than on the other. Both sides as often have the same length
+    (rows changed in place, compared place by place first) as not; a categorical field has
+    each side's own categories, as a reader makes them."""
     from collections import Counter
-    from types import SimpleNamespace
 
-    import pandas as pd
-
-    from vpaudit.gate import PARTS, _changed_substances
+    from vpaudit.gate import _changed_substances
 
     edited = list(rows)
     for _ in range(data.draw(st.integers(0, 3))):
         action = data.draw(st.sampled_from(["change", "drop", "add", "move"]))
         if action == "add" or not edited:
-            edited.append((data.draw(st.sampled_from(["Fe", "Ni"])), 7.0))
+            edited.append((data.draw(st.sampled_from(["Fe", "Ni"])), 7.0, "wagner"))
         elif action == "drop":
             edited.pop(data.draw(st.integers(0, len(edited) - 1)))
         elif action == "change":
             k = data.draw(st.integers(0, len(edited) - 1))
-            edited[k] = (edited[k][0], 9.0)
+            if data.draw(st.booleans()):
+                edited[k] = (edited[k][0], 9.0, edited[k][2])
+            else:  # another text in the categorical field
+                other = data.draw(st.sampled_from(["three-term", "antoine", "wagner", None]))
+                edited[k] = (*edited[k][:2], other)
         else:
             edited.reverse()
 
-    def table(content):
-        frame = pd.DataFrame(
-            {
-                "substance": pd.Series([s for s, _ in content], dtype="string[pyarrow]"),
-                "A": [a for _, a in content],
-                "file": ["f.csv"] * len(content),
-                "line": list(range(2, 2 + len(content))),
-            }
-        )
-        empty = frame.iloc[:0]
-        return SimpleNamespace(**{kind: frame if kind == "records" else empty for kind in PARTS})
-
-    def key(row):
-        return (row[0], "nan" if row[1] != row[1] else row[1])
-
-    before, after = Counter(map(key, rows)), Counter(map(key, edited))
+    before, after = Counter(map(_row_content, rows)), Counter(map(_row_content, edited))
     expected = {k[0] for k in before.keys() | after.keys() if before[k] != after[k]}
-    assert _changed_substances(table(edited), table(rows)) == expected
+    assert _changed_substances(_one_file(edited), _one_file(rows)) == expected
+
+
+def test_a_text_changed_in_place_is_seen_whatever_the_codes_of_its_categories():
+    """A reader makes a text field categorical from the values present, so the same code
+    can mean another text on each side: here 'three-term' (code 1 of antoine, three-term)
+    became 'wagner' (code 1 of antoine, wagner), in place, with nothing else changed."""
+    from vpaudit.gate import _changed_substances
+
+    base = [("Fe", 1.0, "antoine"), ("Zn", 1.0, "three-term")]
+    head = [("Fe", 1.0, "antoine"), ("Zn", 1.0, "wagner")]
+    assert _changed_substances(_one_file(head), _one_file(base)) == {"Zn"}
+    assert _changed_substances(_one_file(base), _one_file(base)) == set()
+
+
+def _row_content(row):
+    return (row[0], "nan" if row[1] != row[1] else row[1], row[2])
+
+
+def _one_file(content):
+    """A table of (substance, A, form) records in one file; no other rows."""
+    from types import SimpleNamespace
+
+    import pandas as pd
+
+    from vpaudit.gate import PARTS
+
+    frame = pd.DataFrame(
+        {
+            "substance": pd.Series([s for s, _, _ in content], dtype="string[pyarrow]"),
+            "A": [a for _, a, _ in content],
+            # a text field the reader makes categorical, from the values present
+            "form": pd.Categorical([f for _, _, f in content]),
+            "file": ["f.csv"] * len(content),
+            "line": list(range(2, 2 + len(content))),
+        }
+    )
+    empty = frame.iloc[:0]
+    return SimpleNamespace(**{kind: frame if kind == "records" else empty for kind in PARTS})

@@ -57,8 +57,14 @@ def test_pair_findings_together_equal_one_at_a_time(ctx):
     note = Severity.note
     hits = ctx.pair_hits(ks, messages, {"crossing_K": t})
     together = ctx.findings("melting-point-mismatch", note, hits)
+    pr = ctx.pairs
+
+    def pair_hit(k, m, evidence):  # a pair's finding made by hand, one at a time
+        s, lq = int(pr.solid[k]), int(pr.liquid[k])
+        return Hit(s, m, evidence, (ctx.id(s), ctx.id(lq)), (s, lq))
+
     one = [
-        ctx.finding("melting-point-mismatch", note, ctx.pair_hit(int(k), m, {"crossing_K": t[i]}))
+        ctx.finding("melting-point-mismatch", note, pair_hit(int(k), m, {"crossing_K": t[i]}))
         for i, (k, m) in enumerate(zip(ks, messages, strict=True))
     ]
     assert together == one

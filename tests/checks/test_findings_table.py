@@ -90,7 +90,8 @@ def test_a_pair_finding_moves_to_the_record_named_alone_with_or_without_rows(ctx
     k = 0
     s, lq = int(ctx.pairs.solid[k]), int(ctx.pairs.liquid[k])
     error = Severity.error
-    pair = ctx.finding("no-crossing", error, ctx.pair_hit(k, "the curves do not cross", {}))
+    pair_hit = Hit(s, "the curves do not cross", {}, (ctx.id(s), ctx.id(lq)), (s, lq))
+    pair = ctx.finding("no-crossing", error, pair_hit)
     alone = ctx.finding("slope-not-positive", error, Hit(lq, "the liquid's slope", {}))
     assert pair.rows == (s, lq) and alone.rows == (lq,)
     for rows in ((s, lq), ()):  # as a check makes it, and as made by hand

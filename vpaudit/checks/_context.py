@@ -508,9 +508,3 @@ class AuditContext:
         """
         self.pairs  # noqa: B018  (made with the pairs, block by block)
         return self._melting
-
-    def pair_hit(self, k: int, message: str, evidence: dict, tier: str | None = None) -> Hit:
-        """A :class:`Hit` about pair ``k``: both record ids, located at the solid."""
-        pr = self.pairs
-        s, lq = int(pr.solid[k]), int(pr.liquid[k])
-        return Hit(s, message, evidence, (self.id(s), self.id(lq)), (s, lq), tier)

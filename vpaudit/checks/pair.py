@@ -42,13 +42,19 @@ def pair_not_checkable(ctx: AuditContext, th: dict[str, float]):
     and the other pair checks skip them.
     """
     pr = ctx.pairs
-    for k in np.flatnonzero(~pr.checkable):
-        yield ctx.pair_hit(
-            k,
-            f"the solid and liquid ranges stop {pr.extrapolation[k] * 100:.0f} % away from "
-            f"the melting region near {kelvin(pr.anchor[k])}: the pair is not checked.",
-            {"extrapolation_fraction": pr.extrapolation[k], "anchor_K": pr.anchor[k]},
-        )
+    ks = np.flatnonzero(~pr.checkable)
+    if ks.size == 0:
+        return
+    far, anchor = pr.extrapolation[ks], pr.anchor[ks]
+    yield ctx.pair_hits(
+        ks,
+        [
+            f"the solid and liquid ranges stop {f * 100:.0f} % away from "
+            f"the melting region near {kelvin(a)}: the pair is not checked."
+            for f, a in zip(far.tolist(), anchor.tolist(), strict=True)
+        ],
+        {"extrapolation_fraction": far, "anchor_K": anchor},
+    )
 
 
 @check(
@@ -144,14 +150,20 @@ def multiple_crossings(ctx: AuditContext, th: dict[str, float]):
     tolerance (seen in evaluated data) are not reported.
     """
     pr = ctx.pairs
-    for k in np.flatnonzero(pr.checkable & (pr.significant_crossings > 1)):
-        yield ctx.pair_hit(
-            k,
-            f"the solid and liquid curves cross {int(pr.crossings[k])} times near the "
-            f"melting point (the one nearest it at {kelvin(pr.t_cross[k])}), separating by more "
-            "than the melting-point tolerance in between; they should cross once.",
-            {"crossings": int(pr.crossings[k]), "nearest_K": pr.t_cross[k]},
-        )
+    ks = np.flatnonzero(pr.checkable & (pr.significant_crossings > 1))
+    if ks.size == 0:
+        return
+    n, t = pr.crossings[ks].astype(np.int64), pr.t_cross[ks]
+    yield ctx.pair_hits(
+        ks,
+        [
+            f"the solid and liquid curves cross {c} times near the "
+            f"melting point (the one nearest it at {kelvin(x)}), separating by more "
+            "than the melting-point tolerance in between; they should cross once."
+            for c, x in zip(n.tolist(), t.tolist(), strict=True)
+        ],
+        {"crossings": n, "nearest_K": t},
+    )
 
 
 def _crossed(ctx: AuditContext) -> np.ndarray:
@@ -421,20 +433,26 @@ def triple_pressure_mismatch(ctx: AuditContext, th: dict[str, float]):
     with np.errstate(invalid="ignore", divide="ignore"):
         diff = pr.y_cross - np.log(ptp)
         bad = pr.checkable & np.isfinite(diff) & (np.abs(diff) > tol)
-    for k in np.flatnonzero(bad):
-        d = diff[k]
-        yield ctx.pair_hit(
-            k,
-            f"the curves cross at {pressure(np.exp(pr.y_cross[k]))} ({kelvin(pr.t_cross[k])}), "
-            f"{ln_ratio(d)} away from the reference triple-point pressure "
-            f"{pressure(ptp[k])}.",
-            {
-                "crossing_pressure_Pa": float(np.exp(pr.y_cross[k])),
-                "reference_Pa": ptp[k],
-                "difference_lnP": d,
-                "tolerance_lnP": tol,
-            },
-        )
+    ks = np.flatnonzero(bad)
+    if ks.size == 0:
+        return
+    p_cross, ref, d = np.exp(pr.y_cross[ks]), ptp[ks], diff[ks]
+    yield ctx.pair_hits(
+        ks,
+        [
+            f"the curves cross at {pressure(p)} ({kelvin(t)}), "
+            f"{ln_ratio(x)} away from the reference triple-point pressure {pressure(r)}."
+            for p, t, x, r in zip(
+                p_cross.tolist(), pr.t_cross[ks].tolist(), d.tolist(), ref.tolist(), strict=True
+            )
+        ],
+        {
+            "crossing_pressure_Pa": p_cross,
+            "reference_Pa": ref,
+            "difference_lnP": d,
+            "tolerance_lnP": tol,
+        },
+    )
 
 
 @check(
@@ -554,17 +572,23 @@ def range_gap(ctx: AuditContext, th: dict[str, float]):
     with np.errstate(invalid="ignore"):
         gap = (hi - lo) / at
         bad = pr.checkable & np.isfinite(at) & (gap > lim)
-    for k in np.flatnonzero(bad):
-        yield ctx.pair_hit(
-            k,
-            f"no record covers {kelvin(lo[k])}..{kelvin(hi[k])}: the solid's range ends "
-            f"{hi[k] - lo[k]:.4g} K ({gap[k] * 100:.1f} % of the melting point "
-            f"{kelvin(at[k])}) before the liquid's starts (limit {lim * 100:g} %).",
-            {
-                "melting_point_K": at[k],
-                "solid_t_max_K": lo[k],
-                "liquid_t_min_K": hi[k],
-                "gap_fraction": gap[k],
-                "limit": lim,
-            },
-        )
+    ks = np.flatnonzero(bad)
+    if ks.size == 0:
+        return
+    at, lo, hi, gap = at[ks], lo[ks], hi[ks], gap[ks]
+    yield ctx.pair_hits(
+        ks,
+        [
+            f"no record covers {kelvin(a)}..{kelvin(b)}: the solid's range ends "
+            f"{b - a:.4g} K ({g * 100:.1f} % of the melting point "
+            f"{kelvin(m)}) before the liquid's starts (limit {lim * 100:g} %)."
+            for a, b, g, m in zip(lo.tolist(), hi.tolist(), gap.tolist(), at.tolist(), strict=True)
+        ],
+        {
+            "melting_point_K": at,
+            "solid_t_max_K": lo,
+            "liquid_t_min_K": hi,
+            "gap_fraction": gap,
+            "limit": lim,
+        },
+    )

@@ -408,28 +408,38 @@ def heat_capacity_sign(ctx: AuditContext, th: dict[str, float]):
     bow = ex.cp_max[rows] / R * bow_of_ln_t(ex.cp_lo[rows], ex.cp_hi[rows])
     u = ctx.uncertainty[rows]
     u = np.where(np.isnan(u), th["resolvable"], u)
-    for k, i in enumerate(rows):
-        cp, t = ex.cp_max[i], ex.cp_max_T[i]
-        far = cp > th["error_above"] * factor[i]
-        yield Hit(
-            i,
-            f"the implied dCp reaches {jk(cp)} at {kelvin(t)}; it should be negative "
-            "(the condensed phase holds more heat than its vapour): check the sign of the "
-            "log T coefficient, or whether the curve is used outside its fitted range"
-            + (
-                f". Over this narrow range that curvature bends ln P by only {bow[k]:.2g}, "
-                "within the record's uncertainty."
-                if far and not bow[k] > u[k]
-                else "."
-            ),
-            {
-                "heat_capacity_change_J_per_mol_K": cp,
-                "at_K": t,
-                "tolerance": th["tolerance"] * factor[i],
-                "bow_lnP": bow[k],
-            },
-            tier="beyond-error-above" if far and bow[k] > u[k] else None,
+    cp, t, factor = ex.cp_max[rows], ex.cp_max_T[rows], factor[rows]
+    with np.errstate(invalid="ignore"):
+        far = cp > th["error_above"] * factor
+        shown = bow > u  # False where the bow is not known
+    messages = [
+        f"the implied dCp reaches {jk(c)} at {kelvin(x)}; it should be negative "
+        "(the condensed phase holds more heat than its vapour): check the sign of the "
+        "log T coefficient, or whether the curve is used outside its fitted range"
+        + (
+            f". Over this narrow range that curvature bends ln P by only {b:.2g}, "
+            "within the record's uncertainty."
+            if quiet
+            else "."
         )
+        for c, x, b, quiet in zip(
+            cp.tolist(), t.tolist(), bow.tolist(), (far & ~shown).tolist(), strict=True
+        )
+    ]
+    for tier, sel in ((None, ~(far & shown)), ("beyond-error-above", far & shown)):
+        ks = np.flatnonzero(sel)
+        if ks.size:
+            yield Hits(
+                rows[ks],
+                [messages[k] for k in ks.tolist()],
+                {
+                    "heat_capacity_change_J_per_mol_K": cp[ks],
+                    "at_K": t[ks],
+                    "tolerance": th["tolerance"] * factor[ks],
+                    "bow_lnP": bow[ks],
+                },
+                tier=tier,
+            )
 
 
 def bow_of_ln_t(t_lo, t_hi) -> np.ndarray:

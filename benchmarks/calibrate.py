@@ -6,7 +6,8 @@ and fits to the IAPWS water curves via ``iapws``. Run:
 
     python benchmarks/calibrate.py [--priors | --boiling | --scatter]
 
-``--priors`` prints only the rarities behind the diagnosis's priors; ``--boiling`` judges
+``--priors`` prints only the rarities behind the diagnosis's priors (a positive dCp, a
+liquid below 1 Pa); ``--boiling`` judges
 the clean Landolt liquids' boiling-point errors against the other boiling points carried;
 ``--scatter`` measures how far independent sources of one liquid disagree (the diagnosis's
 ``SOURCE_SCATTER``).
@@ -147,6 +148,25 @@ def report_priors():
         total, positive = total + n, positive + k
         print(f"{name}: {k} of {n} with a log T term imply dCp > 0 at mid-range")
     print(f"all: {positive} of {total} ({positive / total:.1%})")
+    report_low_pressure_liquids()
+
+
+def report_low_pressure_liquids():
+    """How many real liquid equations never reach 1 Pa over their range, per source, for
+    ranges ending below and above the diagnosis's _EFFUSION_LIQUIDS: the rarity behind its
+    _LIQUID_BELOW_1_PA prior (vpaudit/diagnose/scoring.py)."""
+    from compilations import low_pressure_liquids
+
+    from vpaudit.diagnose.scoring import _EFFUSION_LIQUIDS
+
+    got = low_pressure_liquids(_EFFUSION_LIQUIDS)
+    for name, (n_cool, low_cool, n_hot, low_hot) in got.items():
+        print(
+            f"{name}: below 1 Pa over the whole range: {low_cool} of {n_cool} ending below "
+            f"{_EFFUSION_LIQUIDS:g} K, {low_hot} of {n_hot} ending above"
+        )
+    n, k = (sum(v[i] for v in got.values()) for i in (0, 1))
+    print(f"all ending below {_EFFUSION_LIQUIDS:g} K: {k} of {n} ({k / n:.1%})")
 
 
 def report_boiling_opinions():

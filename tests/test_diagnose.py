@@ -622,3 +622,56 @@ def test_a_fix_that_leaves_a_curve_flatter_than_any_real_one_is_held():
     sug = next(f.suggestion for f in result.findings if f.suggestion)
     assert sug["kind"] == "log-base" and sug["confidence"] == 0.5
     assert "still flatter than any real vapour-pressure curve" in sug["explanation"]
+
+
+def test_the_low_pressure_liquid_prior_is_what_real_equations_show():
+    """Real liquid equations whose range ends below 800 K almost never stay below 1 Pa (29 of
+    4,034 when the prior was set, all Landolt's); above it, liquid metals do (Alcock's Pa,
+    Th and Zr), so the prior stops there (compilations and Alcock via chemicals)."""
+    import math
+
+    from compilations import low_pressure_liquids
+
+    from vpaudit.diagnose.scoring import _EFFUSION_LIQUIDS, _LIQUID_BELOW_1_PA
+
+    got = low_pressure_liquids(_EFFUSION_LIQUIDS)
+    n, k = (sum(v[i] for v in got.values()) for i in (0, 1))
+    assert n > 4000 and abs(math.log(k / n) - _LIQUID_BELOW_1_PA) < 0.3, (k, n)
+    alcock_hot = got["Alcock et al. (1984)"]
+    assert alcock_hot[3] / alcock_hot[2] > 0.05  # not rare among liquid metals
+
+
+def test_a_fix_that_leaves_a_liquid_below_1_pa_is_not_preferred():
+    """Landolt's tetraethylhydrazine liquid (CAS 4267-00-9, via chemicals:
+    ln(P/Pa) = A - B/(T + C), 322-367 K, about 9 kPa at 343 K) entered with the constants of
+    a source in bar marked Pa (A lowered by ln 1e5). Alone (no reference, no partner), the entropy band is all
+    that objects, and reading the coefficients as log10 instead (a common slip) brings the
+    entropy into the band as well: a liquid at 0.004 Pa near 343 K with dH 77 kJ/mol. It
+    was the top suggestion (0.68). Real liquid equations below 800 K almost never stay below
+    1 Pa, so that reading is now far less likely: a pressure unit is on top, with a modest
+    confidence, as the evidence leaves the unit open."""
+    import math
+
+    from compilations import landolt
+
+    records, _ = landolt()
+    rec = dict(next(r for r in records if r["id"] == "4267-00-9-lb-l"))
+    rec["A"] = float(rec["A"]) - math.log(1e5)
+    result = audit_table(table_from_rows([rec]))
+    sug = next(f.suggestion for f in result.findings if f.suggestion)
+    assert sug["kind"] == "pressure-unit", sug
+    assert sug["corrected"] == {"pressure_unit": "bar"}
+    assert sug["confidence"] < 0.8
+
+
+def test_a_liquid_metal_below_1_pa_keeps_a_confident_fix():
+    """Alcock's liquid zirconium (2127-2500 K, below 1 Pa throughout) with the digit
+    transposition 1.3555 -> 1.5355 in C: liquid metals are routinely measured that low,
+    and the fix stays certain (it lost its suggestion when the prior had no bound)."""
+    recs, refs = alcock("Zr")
+    liquid = next(r for r in recs if r["phase"] == "liquid")
+    assert liquid["C"] == 1.3555 and liquid["t_min"] > 800.0
+    liquid["C"] = 1.5355
+    sug, _ = suggestion_for(recs, refs, liquid["id"])
+    assert sug is not None and sug["kind"] == "digit-transposition", sug
+    assert sug["corrected"] == {"C": 1.3555} and sug["confidence"] >= 0.8

@@ -298,3 +298,41 @@ def source_gaps() -> list[float]:
                 if math.isfinite(gap):
                     gaps.append(gap)
     return gaps
+
+
+def low_pressure_liquids(split: float) -> dict[str, tuple[int, int, int, int]]:
+    """How many real liquid equations never reach 1 Pa over their range (ln P at t_max
+    below 0), per source: (equations whose range ends below ``split`` K, of which below
+    1 Pa; equations whose range ends at or above it, of which below 1 Pa). The premise of
+    the diagnosis's ``_LIQUID_BELOW_1_PA`` prior and of its ``_EFFUSION_LIQUIDS`` bound.
+    Sources: the compilations (Landolt's odd-CAS rows, Poling's Antoine, McGarry's and
+    Poling's Wagner, Perry's) and the Alcock et al. (1984) liquids, via chemicals; only the
+    equations the audit can evaluate over their range."""
+    import numpy as np
+    from refdata import alcock_pairs
+
+    from vpaudit.checks._context import AuditContext
+    from vpaudit.equations.engine import evaluate
+    from vpaudit.policy import Policy
+
+    sets = {
+        "Landolt (odd CAS)": landolt()[0],
+        "Poling Antoine": poling_antoine()[0],
+        "McGarry and Poling Wagner": wagner()[0],
+        "Perry": perry()[0],
+        "Alcock et al. (1984)": alcock_pairs()[0],
+    }
+    out = {}
+    for name, records in sets.items():
+        records = [r for r in records if _complete(r) and r["phase"] == "liquid"]
+        ctx = AuditContext(table_from_rows(records), Policy())
+        c = ctx.curves.take(np.flatnonzero(ctx.evaluable))
+        low = evaluate(c, c.t_max, 0)[0] < 0.0
+        cool = c.t_max < split
+        out[name] = (
+            int(cool.sum()),
+            int((cool & low).sum()),
+            int((~cool).sum()),
+            int((~cool & low).sum()),
+        )
+    return out

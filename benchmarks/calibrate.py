@@ -6,8 +6,8 @@ and fits to the IAPWS water curves via ``iapws``. Run:
 
     python benchmarks/calibrate.py [--priors | --boiling | --scatter]
 
-``--priors`` prints only the rarities behind the diagnosis's priors (a positive dCp, a
-liquid below 1 Pa); ``--boiling`` judges
+``--priors`` prints only the rarities behind the diagnosis's priors (a positive dCp, the
+exponent of a power term, a liquid below 1 Pa); ``--boiling`` judges
 the clean Landolt liquids' boiling-point errors against the other boiling points carried;
 ``--scatter`` measures how far independent sources of one liquid disagree (the diagnosis's
 ``SOURCE_SCATTER``).
@@ -148,6 +148,10 @@ def report_priors():
         total, positive = total + n, positive + k
         print(f"{name}: {k} of {n} with a log T term imply dCp > 0 at mid-range")
     print(f"all: {positive} of {total} ({positive / total:.1%})")
+    from collections import Counter
+
+    exponents = Counter(float(r["E"]) for r in perry()[0] if r.get("E") is not None)
+    print(f"Perry liquids, the exponent E of D T^E: {dict(sorted(exponents.items()))}")
     report_low_pressure_liquids()
 
 

@@ -675,3 +675,35 @@ def test_a_liquid_metal_below_1_pa_keeps_a_confident_fix():
     sug, _ = suggestion_for(recs, refs, liquid["id"])
     assert sug is not None and sug["kind"] == "digit-transposition", sug
     assert sug["corrected"] == {"C": 1.3555} and sug["confidence"] >= 0.8
+
+
+def test_the_usual_exponents_of_a_power_term_are_what_perry_uses():
+    """Perry's table 2-8 (via chemicals): E of the D T^E term is 1, 2 or 6 in 338 of its
+    340 equations (5.7 and 0 in one each): the premise of the prior of a fix that would
+    leave another exponent."""
+    from collections import Counter
+
+    from compilations import perry
+
+    from vpaudit.diagnose.candidates import _EXPONENT_UNUSUAL, _USUAL_EXPONENTS
+
+    got = Counter(r["E"] in _USUAL_EXPONENTS for r in perry()[0])
+    assert got[True] + got[False] == 340 and got[False] <= 3
+    assert abs(_EXPONENT_UNUSUAL - np.log(got[False] / 340)) < 0.5
+
+
+def test_an_exponent_a_hundred_times_too_large_is_shifted_back_not_dropped():
+    """Perry's isopropanol (67-63-0, via chemicals: ln(P/Pa) = A + B/T + C ln T + D T^E with
+    E = 6) entered with E = 600. Losing the term entirely (E = -600, or 0.6 with the tiny D)
+    fits its CRC boiling point nearly as well, and the sign fix, one variant against six
+    decimal shifts, was offered as certain (0.99). No real equation of the form uses such an
+    exponent: the decimal shift back to 6 is the suggestion."""
+    from compilations import perry
+
+    records, refs = perry()
+    rec = dict(next(r for r in records if r["substance"] == "67-63-0"))
+    assert rec["E"] == 6.0
+    rec["E"] = 600.0
+    sug, _ = suggestion_for([rec], [r for r in refs if r["substance"] == "67-63-0"], rec["id"])
+    assert sug is not None and sug["kind"] == "decimal-shift", sug
+    assert sug["corrected"] == {"E": 6.0}

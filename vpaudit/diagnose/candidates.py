@@ -55,6 +55,14 @@ _RANGE_ABOVE_BOILING = math.log(0.003)
 #: --priors). The prior of a sign fix of C or D that would make it positive.
 _HEAT_CAPACITY_POSITIVE = math.log(9 / 396)
 
+#: The exponents E of the D T^E term that real equations of the power-term form use: 1, 2 or 6
+#: in 338 of Perry's 340 (5.7 and 0 the other two; ``benchmarks/calibrate.py --priors``).
+_USUAL_EXPONENTS = frozenset({1.0, 2.0, 6.0})
+#: Log of how rare a real power-term equation is with another exponent: 2 of the 340. The
+#: prior of a fix that would leave E at another value (E = 600 read as -600 or as 0.6 would
+#: drop the term, not restore it).
+_EXPONENT_UNUSUAL = math.log(2 / 340)
+
 
 class Change(NamedTuple):
     """One cell of a corrected record: ``field`` of record ``row`` becomes ``value``
@@ -267,6 +275,12 @@ def candidates_for(
             rare = [implausible[ch] for _, ch, _ in combo if ch in implausible]
             if rare:
                 implausible[changes] = min(rare)
+    if "E" in spec.coefficients:  # the exponent of the power term
+        for items in by_kind.values():
+            for ch, _ in items:
+                e = [c.value for c in ch if c.field == "E" and c.row == row]
+                if e and float(e[0]) not in _USUAL_EXPONENTS:  # type: ignore[arg-type]
+                    implausible[ch] = min(implausible.get(ch, 0.0), _EXPONENT_UNUSUAL)
     out = []
     for kind, items in by_kind.items():
         # the kind's prior is shared among its distinct corrections: two names of one

@@ -644,12 +644,12 @@ def test_the_low_pressure_liquid_prior_is_what_real_equations_show():
 def test_a_fix_that_leaves_a_liquid_below_1_pa_is_not_preferred():
     """Landolt's tetraethylhydrazine liquid (CAS 4267-00-9, via chemicals:
     ln(P/Pa) = A - B/(T + C), 322-367 K, about 9 kPa at 343 K) entered with the constants of
-    a source in bar marked Pa (A lowered by ln 1e5). Alone (no reference, no partner), the entropy band is all
-    that objects, and reading the coefficients as log10 instead (a common slip) brings the
-    entropy into the band as well: a liquid at 0.004 Pa near 343 K with dH 77 kJ/mol. It
-    was the top suggestion (0.68). Real liquid equations below 800 K almost never stay below
-    1 Pa, so that reading is now far less likely: a pressure unit is on top, with a modest
-    confidence, as the evidence leaves the unit open."""
+    a source in bar marked Pa (A lowered by ln 1e5). Alone (no reference, no partner), the
+    entropy band is all that objects, and reading the coefficients as log10 instead (a
+    common slip) brings the entropy into the band as well: a liquid at 0.004 Pa near 343 K
+    with dH 77 kJ/mol. It was the top suggestion (0.68). Real liquid equations below 800 K
+    almost never stay below 1 Pa, so that reading is now far less likely: a pressure unit is
+    on top, with a modest confidence, as the evidence leaves the unit open."""
     import math
 
     from compilations import landolt

@@ -323,12 +323,6 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
     )
     if held_down:
         sug["explanation"] += f" {'. '.join(held)}, so its confidence is held at {SCATTER_CAP:g}."
-    if _rarity(cands[best].kind, _key_rows(base), _key_rows(outs[best])) < 0.0:
-        sug["explanation"] += (
-            f" It leaves a liquid curve of {ctx.substance_of(cands[best].row)} below 1 Pa over"
-            f" its whole range, as few real liquid equations ending below "
-            f"{_EFFUSION_LIQUIDS:g} K are (0.7 %), and is weighed as that rare."
-        )
     if len(ranked) > 1 and ranked[1][0] >= 0.5 * raw:  # a close runner-up is reported too
         raw2, ks2 = ranked[1]
         k2 = ks2[0]
@@ -454,40 +448,25 @@ _READINGS = frozenset({"log-base", "pressure-unit", "temperature-unit", "metadat
 
 
 def _rarities(cands: list[Candidate], keys: list[bytes]) -> np.ndarray:
-    """:func:`_rarity` of each of a substance's candidates at once, from the screening's
-    keys of the records as written (``keys[0]``) and of each candidate (``keys[1:]``).
-    """
-    out = np.zeros(len(cands))
-    reading = np.fromiter((c.kind in _READINGS for c in cands), dtype=bool, count=len(cands))
-    if not reading.any() or len({len(k) for k in keys}) != 1 or len(keys[0]) % _KEY_WIDTH:
-        if reading.any():  # keys of different shapes: one at a time
-            base = _rows_of(keys[0])
-            for k in np.flatnonzero(reading).tolist():
-                out[k] = _rarity(cands[k].kind, base, _rows_of(keys[1 + k]))
-        return out
-    k = np.frombuffer(b"".join(keys)).reshape(len(keys), -1, _KEY_WIDTH)
-    base, fixed = k[0], k[1:]
-    changed = np.any(fixed[:, :, :7] != base[None, :, :7], axis=2)
-    liquid = (fixed[:, :, 7] > 0.5) & (fixed[:, :, 6] < _EFFUSION_LIQUIDS)
-    low = np.max(fixed[:, :, :5], axis=2) < 0.0
-    out[reading & np.any(changed & liquid & low, axis=1)] = _LIQUID_BELOW_1_PA
-    return out
-
-
-def _rarity(kind: str, base: np.ndarray | None, out: np.ndarray | None) -> float:
-    """The log prior of a reading of the metadata (:data:`_READINGS`) for the kind of
-    equation it leaves (the keys of the records as written and as read, :func:`_key_rows`):
-    :data:`_LIQUID_BELOW_1_PA` when a liquid curve that it changes stays below 1 Pa over its
+    """The log prior of each of a substance's candidates for the kind of equation it leaves,
+    from the screening's keys of the records as written (``keys[0]``) and of each candidate
+    (``keys[1:]``; :func:`_key_rows`): :data:`_LIQUID_BELOW_1_PA` for a reading of the
+    metadata (:data:`_READINGS`) that changes a liquid curve and leaves it below 1 Pa over its
     whole range, which ends below :data:`_EFFUSION_LIQUIDS`; else 0. The records as written
     are not judged so: only a fix is made less likely, never the records.
     """
-    if kind not in _READINGS or base is None or out is None or base.shape != out.shape:
-        return 0.0
-    changed = np.any(base[:, :7] != out[:, :7], axis=1)  # ln P or the range
-    liquid = (out[:, 7] > 0.5) & (out[:, 6] < _EFFUSION_LIQUIDS)
-    with np.errstate(invalid="ignore"):
-        low = np.max(out[:, :5], axis=1) < 0.0  # ln(1 Pa)
-    return _LIQUID_BELOW_1_PA if bool(np.any(changed & liquid & low)) else 0.0
+    out = np.zeros(len(cands))
+    reading = np.fromiter((c.kind in _READINGS for c in cands), dtype=bool, count=len(cands))
+    # every unit of a substance has the same records, so keys of one length (else: no prior)
+    if not reading.any() or len({len(k) for k in keys}) != 1 or len(keys[0]) % _KEY_WIDTH:
+        return out
+    k = np.frombuffer(b"".join(keys)).reshape(len(keys), -1, _KEY_WIDTH)
+    base, fixed = k[0], k[1:]
+    changed = np.any(fixed[:, :, :7] != base[None, :, :7], axis=2)  # ln P or the range
+    liquid = (fixed[:, :, 7] > 0.5) & (fixed[:, :, 6] < _EFFUSION_LIQUIDS)
+    low = np.max(fixed[:, :, :5], axis=2) < 0.0  # ln(1 Pa)
+    out[reading & np.any(changed & liquid & low, axis=1)] = _LIQUID_BELOW_1_PA
+    return out
 
 
 def _witness_gap(f: Finding) -> float:

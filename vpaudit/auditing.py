@@ -116,8 +116,8 @@ def point_at_suspects(
     if not n:
         return
     recs, checks = findings.records, findings.check
-    table_rows = _table_rows(ctx, findings)
     n_rec = np.fromiter(map(len, recs), dtype=np.int64, count=n)
+    table_rows = _table_rows(ctx, findings, n_rec)
     known = np.fromiter(map(len, table_rows), dtype=np.int64, count=n) == n_rec
     first = np.array([r[0] if r else -1 for r in table_rows], dtype=np.int64)
     alone = np.zeros(ctx.n, dtype=bool)  # the records that a finding names alone
@@ -154,9 +154,8 @@ def point_at_suspects(
     c = ctx.curves
     lo, hi = 1.0 - NEAR_RANGE, 1.0 + NEAR_RANGE
     for k, (size, at) in pending.items():
-        f = findings[k]
-        a, b = f.records
-        rows = dict(zip(f.records, table_rows[k], strict=True))
+        a, b = findings.records[k]
+        rows = dict(zip((a, b), table_rows[k], strict=True))
         # a witness vouches for its curve where the two disagree only within (or near)
         # the curve's own range, and only as finely as its tolerance
         pins = [
@@ -170,25 +169,23 @@ def point_at_suspects(
         p = rows[partner]
         findings.set(
             k,
-            message=f"{f.message} {partner} meets {witnesses.words(p)} (within "
+            message=f"{findings.message[k]} {partner} meets {witnesses.words(p)} (within "
             f"{witnesses.resolution[p]:.2g} in ln P, less than the two curves differ "
             f"here); {culprit} has no such witness and is the likelier culprit.",
-            evidence={**f.evidence, "likely_culprit": culprit},
+            evidence={**findings.evidence[k], "likely_culprit": culprit},
         )
         if culprit != a:
             findings.set(k, **ctx.location(rows[culprit]))
 
 
-def _table_rows(ctx: AuditContext, findings: Findings) -> list[tuple[int, ...]]:
-    """The table rows of each finding's records: as the check gave them, else (for a
-    finding made by hand) looked up by id; empty when a record id is in no record.
+def _table_rows(ctx: AuditContext, findings: Findings, n_rec: np.ndarray) -> list[tuple[int, ...]]:
+    """The table rows of each finding's records (``n_rec`` of them): as the check gave
+    them, else (for a finding made by hand) looked up by id; empty when a record id is in
+    no record.
     """
     out = findings.rows
-    missing = [
-        k
-        for k, (rec, rows) in enumerate(zip(findings.records, out, strict=True))
-        if len(rows) != len(rec)
-    ]
+    n_rows = np.fromiter(map(len, out), dtype=np.int64, count=len(out))
+    missing = np.flatnonzero(n_rows != n_rec).tolist()
     if not missing:
         return out
     out = list(out)

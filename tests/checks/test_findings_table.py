@@ -57,6 +57,27 @@ def test_the_default_order_is_errors_first_then_substance_check_records_and_stab
     assert list(table) == expected
 
 
+@given(
+    st.lists(
+        st.builds(
+            Finding,
+            check=st.text(alphabet="ab-", max_size=3),
+            severity=st.sampled_from(list(Severity)),
+            # case, accents, digits and spaces: ranked as Python orders text
+            substance=st.text(alphabet="aBz9 éßΩ", max_size=3),
+            records=st.lists(ids, max_size=2).map(tuple),
+            message=st.text(max_size=3),
+        ),
+        max_size=60,
+    )
+)
+def test_the_default_order_ranks_any_text_as_python_sorts_it(rows):
+    table = Findings.of(rows)
+    table.sort()
+    expected = sorted(rows, key=lambda f: (-f.severity.rank, f.substance, f.check, f.records))
+    assert list(table) == expected
+
+
 @given(st.lists(findings, max_size=30))
 def test_json_rows_from_the_columns_equal_each_findings_own(rows):
     table = Findings.of(rows)

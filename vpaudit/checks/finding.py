@@ -283,14 +283,38 @@ class Findings:
         check and records; else by ``key`` of each row's :class:`Finding`.
         """
         if key is None:
-            first = [_FIRST[s] for s in self.severity]
-            sub, chk, rec = self.substance, self.check, self.records
-            order = sorted(range(len(self)), key=lambda i: (first[i], sub[i], chk[i], rec[i]))
+            order = _default_order(self.severity, self.substance, self.check, self.records)
         else:
             rows = list(self)
             order = sorted(range(len(self)), key=lambda i: key(rows[i]))
         for name in FIELDS:
             setattr(self, name, _take(getattr(self, name), order))
+
+
+def _default_order(severity: list, substance: list, check: list, records: list) -> list[int]:
+    """The rows in the order of ``sorted`` on (errors first, substance, check, records),
+    stably: the first three as integer ranks (each text ranked as Python orders it) sorted
+    by one array sort, then only the runs of rows equal in all three ordered by their
+    records tuples.
+    """
+    import pandas as pd
+
+    n = len(severity)
+    if n < 2:
+        return list(range(n))
+    first = np.fromiter((_FIRST[s] for s in severity), dtype=np.int64, count=n)
+    sub = pd.factorize(np.asarray(substance, dtype=object), sort=True)[0]
+    chk = pd.factorize(np.asarray(check, dtype=object), sort=True)[0]
+    order = np.lexsort((chk, sub, first))  # stable: the last key is the first sorted on
+    a, b, c = first[order], sub[order], chk[order]
+    same = (a[1:] == a[:-1]) & (b[1:] == b[:-1]) & (c[1:] == c[:-1])
+    out = order.tolist()
+    if same.any():  # runs of rows equal in all three: by their records
+        starts = np.flatnonzero(np.diff(np.concatenate(([0], same.astype(np.int8)))) == 1)
+        ends = np.flatnonzero(np.diff(np.concatenate((same.astype(np.int8), [0]))) == -1) + 1
+        for lo, hi in zip(starts.tolist(), ends.tolist(), strict=True):
+            out[lo : hi + 1] = sorted(out[lo : hi + 1], key=records.__getitem__)
+    return out
 
 
 def _take(column, rows: list[int]):

@@ -322,10 +322,11 @@ def test_sample_table_every_planted_slip_has_the_right_suggestion():
 
 def test_suggestion_contract_in_json():
     import json
+    from pathlib import Path
 
     from vpaudit.report import RENDERERS
 
-    data = json.loads(RENDERERS["json"](audit("sample_db")))
+    data = json.loads(RENDERERS["json"](audit(Path(__file__).resolve().parents[1] / "sample_db")))
     sugs = [f["suggestion"] for f in data["findings"] if f["suggestion"]]
     assert sugs
     for s in sugs:

@@ -34,6 +34,7 @@ from .errors import TableError, TableErrors, VpauditError
 from .policy import Policy, load_policy
 from .readers.files import SUFFIXES
 from .readers.table import PARTS, Table, load_table
+from .runtime import in_thread
 
 __all__ = ["GateResult", "gate", "load_accepted", "accept", "ACCEPTED_FILE"]
 
@@ -335,6 +336,23 @@ def _apply_acceptances(
         result.findings.append(f)
 
 
+def _read_base(table: Path, base: str, into: Path) -> tuple[Table | None, str | None, str | None]:
+    """The table as it was at git revision ``base``, copied into ``into`` and read: the
+    table (None when it did not exist or could not be read), what made it unreadable (said
+    at the base, not in the temporary copy), and its own policy file's text.
+    """
+    base_path = _table_at(table, base, into)
+    try:
+        base_table = load_table(base_path) if base_path.exists() else None
+    except TableError as exc:  # say where at the base, not in a deleted temporary copy
+        errors = exc.errors if isinstance(exc, TableErrors) else [exc]
+        unreadable = str(errors[0]).replace(str(into) + "/", f"{base}:")
+        if len(errors) > 1:
+            unreadable += f" (and {len(errors) - 1} more problem(s))"
+        return None, unreadable, None
+    return base_table, None, _policy_text(base_table)
+
+
 def gate(
     table: str | Path, base: str, policy: str | None = None, today: dt.date | None = None
 ) -> GateResult:
@@ -352,20 +370,19 @@ def gate(
         The date acceptances expire against (today by default).
     """
     table = Path(table)
-    head = load_table(table)
-    pol: Policy = load_policy(head.policy_path, policy)
-    unreadable: str | None = None
     with tempfile.TemporaryDirectory(prefix="vpaudit-gate-") as tmp:
-        base_path = _table_at(table, base, Path(tmp))
+        # the base is fetched from git and read on a thread while the work tree is read
+        wait = in_thread(_read_base, table, base, Path(tmp), name="vpaudit-gate-base")
         try:
-            base_table = load_table(base_path) if base_path.exists() else None
-        except TableError as exc:  # say where at the base, not in a deleted temporary copy
-            errors = exc.errors if isinstance(exc, TableErrors) else [exc]
-            unreadable = str(errors[0]).replace(str(Path(tmp)) + "/", f"{base}:")
-            if len(errors) > 1:
-                unreadable += f" (and {len(errors) - 1} more problem(s))"
-            base_table = None
-        base_policy = _policy_text(base_table)
+            head = load_table(table)
+            pol: Policy = load_policy(head.policy_path, policy)
+        except BaseException:
+            try:  # the base's copy goes with the temporary directory: let it finish first
+                wait()
+            except BaseException:  # noqa: BLE001  (the work tree's error is the one said)
+                pass
+            raise
+        base_table, unreadable, base_policy = wait()
     if base_table is None:  # the table did not exist (or could not be read) at the base
         changed = set(head.records["substance"].astype(str))
         for kind in ("references", "points"):

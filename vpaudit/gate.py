@@ -8,10 +8,12 @@ git, never fetched), and classifies each finding of the current table:
 * ``existing`` -- it occurred at REF too;
 * ``accepted`` -- a steward accepted it in the table's ``accepted.toml``.
 
-Only substances whose rows changed are re-audited: ``git diff -U0 REF`` gives the changed
-lines, which map to rows and so to substances, on both sides (a changed header or comment,
-a new, deleted or untracked file, or a changed ``vpaudit.toml`` marks everything it can
-affect). Findings of unchanged substances are, by construction, existing ones.
+Only substances whose rows changed are re-audited. Both sides are read as the audit reads
+them and their rows compared by content (every field but where the row stands), never by
+what a diff says: a row added, removed or changed in any field marks its substance, on
+either side, whatever file, name, quoting or git setting it comes with; a row that only
+moved marks nothing; a changed ``vpaudit.toml`` marks every substance. Findings of
+unchanged substances are, by construction, existing ones.
 """
 
 from __future__ import annotations

@@ -423,7 +423,11 @@ def _deviations(ax, ctx: AuditContext, t_all: np.ndarray, styles: dict) -> None:
                     x, ym[j] - (icept + slope * x), lw=1.8, label=_plain(ctx.id(i)), **styles[i]
                 )
     ax.axhline(0.0, color="black", lw=0.8)
-    ax.set_ylabel("ln P - straight line")
+    ax.set_title(
+        "each curve minus one straight line fitted to all the curves within their ranges",
+        fontsize=8.5,
+    )
+    ax.set_ylabel("ln P - fitted line")
     ax.set_xlabel("1000 K / T")
     ax.grid(True, color="#dddddd", lw=0.6)
     if ax.get_legend_handles_labels()[0]:

@@ -420,12 +420,7 @@ def _key_rows(out: _Outcome) -> np.ndarray | None:
     """An outcome's key as one row per record (:func:`~vpaudit.diagnose.variants._unit_keys`:
     ln P at five temperatures, the range ends, whether liquid); None if malformed.
     """
-    return _rows_of(out.key)
-
-
-def _rows_of(key: bytes) -> np.ndarray | None:
-    """A key (:func:`_key_rows`) as one row per record; None if malformed."""
-    k = np.frombuffer(key)
+    k = np.frombuffer(out.key)
     return None if k.size % _KEY_WIDTH else k.reshape(-1, _KEY_WIDTH)
 
 

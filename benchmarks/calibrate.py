@@ -7,7 +7,8 @@ and fits to the IAPWS water curves via ``iapws``. Run:
     python benchmarks/calibrate.py [--priors | --boiling | --scatter]
 
 ``--priors`` prints only the rarities behind the diagnosis's priors (a positive dCp, the
-exponent of a power term, a liquid below 1 Pa); ``--boiling`` judges
+exponent of a power term, a liquid below 1 Pa) and the odds behind the cost of an
+impossible curve; ``--boiling`` judges
 the clean Landolt liquids' boiling-point errors against the other boiling points carried;
 ``--scatter`` measures how far independent sources of one liquid disagree (the diagnosis's
 ``SOURCE_SCATTER``).
@@ -153,6 +154,23 @@ def report_priors():
     exponents = Counter(float(r["E"]) for r in perry()[0] if r.get("E") is not None)
     print(f"Perry liquids, the exponent E of D T^E: {dict(sorted(exponents.items()))}")
     report_low_pressure_liquids()
+    report_impossible_errors()
+
+
+def report_impossible_errors():
+    """How often an error that says the curve is impossible comes from a slip and how often
+    from anything else (tests/_support/compilations.py ``impossible_errors``): the odds behind
+    the diagnosis's ``impossible_cost``."""
+    import math
+
+    from compilations import impossible_errors
+
+    got = impossible_errors()
+    for name, (k, n) in got.items():
+        print(f"{name}: {k} substances flagged with an impossible curve, {n} with other errors")
+    (a, b), (c, d) = got["slips"], got["no slip"]
+    odds = (a / b) / (c / d)
+    print(f"odds ratio {odds:.2f}: 2 ln = {2 * math.log(odds):.2f} above an ordinary error's cost")
 
 
 def report_low_pressure_liquids():

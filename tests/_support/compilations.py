@@ -336,3 +336,42 @@ def low_pressure_liquids(split: float) -> dict[str, tuple[int, int, int, int]]:
             int((~cool & low).sum()),
         )
     return out
+
+
+def impossible_errors() -> dict[str, tuple[int, int]]:
+    """How often an error that says a curve is impossible (a check registered with
+    ``impossible=True``: a slope not positive or flatter than any real curve, a pressure that
+    cannot be represented) comes from a slip and how often from anything else: (substances
+    flagged with such an error, substances flagged with other errors only), for
+
+    * ``"slips"``: the labelled set's single slips (tests/_support/slips.py, Alcock et al.
+      (1984) pairs and 40 Poling Antoine liquids, the benchmark's seed), and
+    * ``"no slip"``: the real compilations as carried, no slip planted (Landolt's odd-CAS
+      rows, Poling's Antoine, McGarry's and Poling's Wagner, Perry's, via chemicals).
+
+    The premise of the diagnosis's ``_IMPOSSIBLE_ODDS``.
+    """
+    from collections import defaultdict
+
+    from slips import cases_table, labelled_cases
+
+    from vpaudit.auditing import audit_table
+    from vpaudit.checks._registry import REGISTRY
+
+    def split(findings, wanted=None) -> tuple[int, int]:
+        errors = defaultdict(set)
+        for f in findings:
+            if f.severity.value == "error" and (wanted is None or f.substance in wanted):
+                errors[f.substance].add(f.check)
+        k = sum(any(REGISTRY[c].impossible for c in v) for v in errors.values())
+        return k, len(errors) - k
+
+    cases = labelled_cases(seed=20261202, per_kind=None, poling=40)
+    slipped = {c.substance for c in cases if c.kind not in ("other", "clean")}
+    labelled = audit_table(cases_table(cases), diagnose=False).findings
+    records, refs = together()
+    records = [r for r in records if _complete(r)]
+    keep = {r["substance"] for r in records}
+    refs = [r for r in refs if r["substance"] in keep]
+    clean = audit_table(table_from_rows(records, refs), diagnose=False).findings
+    return {"slips": split(labelled, slipped), "no slip": split(clean)}

@@ -95,6 +95,7 @@ class CheckSpec:
     doc: str = field(default="", compare=False)
     tiers: dict[str, Severity] = field(default_factory=dict)
     witness: str | None = None
+    impossible: bool = False
 
     @property
     def escalates_to(self) -> Severity | None:
@@ -133,6 +134,7 @@ def check(
     thresholds: tuple[Threshold, ...] = (),
     tiers: dict[str, Severity] | None = None,
     witness: str | None = None,
+    impossible: bool = False,
 ):
     """Register a check under ``name``: a generator ``func(ctx, th)`` of hits
     (:mod:`vpaudit.checks.hits`) over the audit's arrays ``ctx`` and its own thresholds
@@ -163,6 +165,12 @@ def check(
         the record stands from it, in the unit the key names (a list of values: the
         largest counts). The diagnosis holds a fix that moves its record farther from a
         witness (:mod:`vpaudit.diagnose.scoring`).
+    impossible : bool
+        For a check whose error says the curve itself is physically impossible (a pressure
+        that cannot be represented, a slope that is not positive or flatter than any real
+        curve), which clean real equations all but never draw: the diagnosis weighs such
+        an error left unexplained more heavily than others (``impossible_cost`` of
+        :data:`vpaudit.diagnose.CALIBRATION`).
     """
 
     def register(func):
@@ -179,6 +187,7 @@ def check(
             inspect.cleandoc(func.__doc__ or ""),  # no source indentation in reports
             dict(tiers or {}),
             witness,
+            impossible,
         )
         return func
 

@@ -69,6 +69,7 @@ def range_invalid(ctx: AuditContext, th: dict[str, float]):
     "A double holds P between about 1e-308 and 1e308 Pa; outside, the value is lost.",
     (Threshold("max_abs_lnP", 700.0, "-", "largest |ln(P/Pa)| accepted"),),
     tiers={"placeholder-lower-end": Severity.warning},
+    impossible=True,
 )
 def pressure_not_finite(ctx: AuditContext, th: dict[str, float]):
     """Evaluate ln P at the ends of the range and at the stationary points of the curve; a
@@ -123,6 +124,7 @@ def pressure_not_finite(ctx: AuditContext, th: dict[str, float]):
     Scope.record,
     "The implied enthalpy dH = R T^2 dlnP/dT is not positive everywhere in the range.",
     "Clausius-Clapeyron: vapour pressure rises with temperature, dH > 0.",
+    impossible=True,
 )
 def slope_not_positive(ctx: AuditContext, th: dict[str, float]):
     """Vapour pressure must rise with temperature over the whole validity range.
@@ -167,6 +169,7 @@ def slope_not_positive(ctx: AuditContext, th: dict[str, float]):
             "least d ln P/d ln T accepted (half the flattest real curve's, 4.4)",
         ),
     ),
+    impossible=True,
 )
 def slope_too_flat(ctx: AuditContext, th: dict[str, float]):
     """A positive but vanishing slope: the curve barely rises with temperature, as if the

@@ -29,7 +29,8 @@ continuous evidence and the errors the hard checks must give (no findings are bu
 ten best candidates of each substance then run through every registered check exactly as
 in the audit. Each variant gets a misfit score
 
-    S = sum over findings (3 per error, 1 per warning)
+    S = sum over findings (3 per error, 1 per warning, 7.39 per error that says the curve
+        is impossible: its measured odds, scoring._IMPOSSIBLE_ODDS)
         + sum of min(rho(z), cap) over the continuous evidence (z = residual / its scale),
 
 with rho(z) = 2 (sqrt(1 + z^2) - 1), a robust (soft-L1) cost, capped per piece of

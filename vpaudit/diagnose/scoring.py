@@ -31,9 +31,20 @@ from .variants import (
 
 # --- scoring and suggestions -----------------------------------------------------------------
 
+#: An error that says the curve itself is impossible (a slope that is not positive or is
+#: flatter than any real curve, a pressure that cannot be represented) is much likelier from
+#: a slip than from anything else. Measured (``benchmarks/calibrate.py --priors``): of the
+#: labelled set's flagged single slips (tests/_support/slips.py, Alcock and Poling), 126
+#: draw such an error and 347 only other errors; of the real compilations' substances that
+#: draw an error with no slip planted (tests/_support/compilations.py, all four), 8 and 198.
+#: The odds differ by (126/347)/(8/198) = 9.0, which on the misfit scale (S/2T a negative
+#: log-likelihood) is 2 ln 9.0 = 4.4 above an ordinary error's cost.
+_IMPOSSIBLE_ODDS = (126 / 347) / (8 / 198)
+
 #: Calibrated constants of the scoring (benchmarks/diagnosis_accuracy.py): the temperature
-#: T dividing the misfit, the prior of "no single slip explains it", and the lowest
-#: confidence reported as a suggestion.
+#: T dividing the misfit, the prior of "no single slip explains it", the cost of an error,
+#: of a warning and of an error that says the curve is impossible (above, for T = 1), and
+#: the lowest confidence reported as a suggestion.
 CALIBRATION = {
     "temperature": 1.0,
     "prior_none": 0.3,
@@ -41,6 +52,7 @@ CALIBRATION = {
     "component_cap": 8.0,
     "error_cost": 3.0,
     "warning_cost": 1.0,
+    "impossible_cost": round(3.0 + 2.0 * math.log(_IMPOSSIBLE_ODDS), 2),
     "min_confidence": 0.15,
     "require_clear": True,
     "logit_scale": 1.802,

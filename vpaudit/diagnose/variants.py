@@ -284,6 +284,20 @@ def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
     return np.concatenate(out_codes), np.concatenate(out_cost)
 
 
+def _cost_key(cal: dict) -> tuple:
+    """What a misfit depends on under the calibration ``cal``: the loss, the cap, and the
+    cost of an error, a warning and an error that says the curve is impossible (in the
+    order of :attr:`Screening.floors`).
+    """
+    return (
+        cal["loss"],
+        cal["component_cap"],
+        cal["error_cost"],
+        cal["warning_cost"],
+        cal["impossible_cost"],
+    )
+
+
 def _evidence_costs(z: np.ndarray, cal: dict) -> np.ndarray:
     """The cost of each piece of evidence |z| under the calibration ``cal``: its loss,
     NaN taken as infinite, capped at the component cap.
@@ -303,7 +317,7 @@ class Screening:
 
     z: np.ndarray  # |standardized residual| of every piece of evidence, unit after unit
     bounds: np.ndarray  # unit u's evidence is z[bounds[u]:bounds[u + 1]]
-    floors: np.ndarray  # (units, 2): errors and warnings the checks must give each unit
+    floors: np.ndarray  # (units, 3): errors, warnings and impossible errors the checks must give
     keys: list[bytes]  # what each unit's correction amounts to (:func:`_unit_keys`)
 
     def __len__(self) -> int:
@@ -313,14 +327,13 @@ class Screening:
         """The misfit S of every unit under ``cal``: capped evidence costs plus the floor of
         findings the checks must give (cached per calibration).
         """
-        key = (cal["loss"], cal["component_cap"], cal["error_cost"], cal["warning_cost"])
+        key = _cost_key(cal)
         cache = self.__dict__.setdefault("_scores", {})
         if key not in cache:
             n = len(self.keys)
             owner = np.repeat(np.arange(n), np.diff(self.bounds))
             evidence = np.bincount(owner, weights=_evidence_costs(self.z, cal), minlength=n)
-            floor = self.floors[:, 0] * cal["error_cost"] + self.floors[:, 1] * cal["warning_cost"]
-            cache[key] = evidence + floor
+            cache[key] = evidence + self.floors @ np.array(key[2:])
         return cache[key]
 
 
@@ -336,12 +349,15 @@ class _Outcome:
         """The misfit S: capped evidence costs plus the cost of each finding (cached per
         calibration).
         """
-        key = (cal["loss"], cal["component_cap"], cal["error_cost"], cal["warning_cost"])
+        key = _cost_key(cal)
         cache = self.__dict__.setdefault("_scores", {})
         if key not in cache:
-            fc = {"error": cal["error_cost"], "warning": cal["warning_cost"], "note": 0.0}
-            cache[key] = float(_evidence_costs(self.z, cal).sum()) + sum(
-                fc[f.severity.value] for f in self.findings
+            counts = np.zeros(3)
+            for f in self.findings:
+                if f.severity.rank >= 1:
+                    counts[_column(f.check, f.severity)] += 1
+            cache[key] = float(_evidence_costs(self.z, cal).sum()) + float(
+                counts @ np.array(key[2:])
             )
         return cache[key]
 
@@ -358,7 +374,8 @@ def _hard_failures(vctx: AuditContext, unit_of_code: np.ndarray, n: int) -> np.n
     """Errors and warnings that some checks must report for each unit (pressure-not-finite,
     slope-not-positive, heat-capacity-sign, no-crossing, melting-point-mismatch), counted
     from the same arrays as those checks without building findings: a lower bound of each
-    unit's findings cost. Returns an (n, 2) array of counts: errors, warnings.
+    unit's findings cost. Returns an (n, 3) array of counts: errors, warnings, and errors of
+    checks that declare the curve impossible (:attr:`CheckSpec.impossible`).
     """
     ex = vctx.range_extrema
     ev = vctx.evaluable
@@ -372,22 +389,23 @@ def _hard_failures(vctx: AuditContext, unit_of_code: np.ndarray, n: int) -> np.n
             & (np.abs(ex.y_min) <= lim)
             & (np.abs(ex.y_max) <= lim)
         )
+        # as pressure-not-finite: a curve beyond the limit only at the bottom of its range
+        # is a placeholder lower end (its own tier), not an unrepresentable curve
+        at_bottom = np.isfinite(ex.y_min) & (ex.y_min < -lim) & (np.abs(ex.y_max) <= lim)
         far = ex.cp_max > th["error_above"] * factor
         tiers = [
-            (ev & ~finite, _severity(vctx, "pressure-not-finite")),
-            (ev & ~(ex.h_min > 0), _severity(vctx, "slope-not-positive")),
-            (ev & far, _severity(vctx, "heat-capacity-sign", "beyond-error-above")),
-            (
-                ev & (ex.cp_max > th["tolerance"] * factor) & ~far,
-                _severity(vctx, "heat-capacity-sign"),
-            ),
+            (ev & ~finite & ~at_bottom, "pressure-not-finite", None),
+            (ev & ~finite & at_bottom, "pressure-not-finite", "placeholder-lower-end"),
+            (ev & ~(ex.h_min > 0), "slope-not-positive", None),
+            (ev & far, "heat-capacity-sign", "beyond-error-above"),
+            (ev & (ex.cp_max > th["tolerance"] * factor) & ~far, "heat-capacity-sign", None),
         ]
     # each at the severity the policy gives it (a lowered check counts for less)
-    errors = np.zeros(vctx.n)
-    warnings = np.zeros(vctx.n)
-    for mask, sev in tiers:
+    counts = np.zeros((3, vctx.n))  # errors, warnings, impossible errors
+    for mask, name, tier in tiers:
+        sev = _severity(vctx, name, tier)
         if sev is not None and sev.rank >= 1:
-            (errors if sev is Severity.error else warnings)[mask] += 1.0
+            counts[_column(name, sev)][mask] += 1.0
     # the pair checks no-crossing and melting-point-mismatch, counted at the solid record
     pr = vctx.pairs
     tol = vctx.thresholds("melting-point-mismatch")["tolerance"]
@@ -404,13 +422,21 @@ def _hard_failures(vctx: AuditContext, unit_of_code: np.ndarray, n: int) -> np.n
     for name, bad in fails.items():
         sev = _severity(vctx, name)
         if sev is not None and sev.rank >= 1:
-            target = errors if sev is Severity.error else warnings
-            np.add.at(target, pr.solid[bad], 1.0)
+            np.add.at(counts[_column(name, sev)], pr.solid[bad], 1.0)
     unit = np.where(vctx.codes >= 0, unit_of_code[np.maximum(vctx.codes, 0)], -1)
     ok = unit >= 0
-    e = np.bincount(unit[ok], weights=errors[ok], minlength=n).astype(int)
-    w = np.bincount(unit[ok], weights=warnings[ok], minlength=n).astype(int)
-    return np.column_stack([e, w])
+    return np.column_stack(
+        [np.bincount(unit[ok], weights=c[ok], minlength=n).astype(int) for c in counts]
+    )
+
+
+def _column(check: str, severity: Severity) -> int:
+    """The column of :attr:`Screening.floors` that a finding of ``check`` at ``severity``
+    counts in: 0 an error, 1 a warning, 2 an error that says the curve is impossible.
+    """
+    if severity is not Severity.error:
+        return 1
+    return 2 if REGISTRY[check].impossible else 0
 
 
 def _chunks(table: Table, ctx: AuditContext, units: list[tuple[int, tuple[Change, ...]]]):
@@ -461,7 +487,7 @@ def _screen_units(
     return Screening(
         np.concatenate(zs) if zs else np.empty(0),
         np.concatenate(bounds),
-        np.concatenate(floors) if floors else np.zeros((0, 2), dtype=np.int64),
+        np.concatenate(floors) if floors else np.zeros((0, 3), dtype=np.int64),
         keys,
     )
 

@@ -724,7 +724,7 @@ def test_the_usual_exponents_of_a_power_term_are_what_perry_uses():
 
 def test_an_impossible_curve_is_far_likelier_from_a_slip_than_from_anything_else():
     """The premise of the diagnosis's cost of an impossible curve: of the labelled set's
-    flagged single slips, 126 draw an error that says the curve is impossible and 347 other
+    flagged single slips, 141 draw an error that says the curve is impossible and 332 other
     errors only; of the real compilations' flagged substances with no slip planted, 8 and
     198 (tests/_support/compilations.py ``impossible_errors``: Alcock, Poling, Landolt's
     odd-CAS rows, McGarry and Perry via chemicals). The measured odds must stay near those

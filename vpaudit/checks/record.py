@@ -4,6 +4,8 @@ enthalpies, measured points (the boiling point and the critical point have their
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 import pandas as pd
 
@@ -116,6 +118,58 @@ def pressure_not_finite(ctx: AuditContext, th: dict[str, float]):
             "cannot be represented; check the coefficients' signs and exponents.",
             {"lnP_min": lo, "lnP_max": hi, "limit_lnP": lim},
         )
+
+
+@check(
+    "pressure-too-low",
+    Severity.error,
+    Scope.record,
+    "The curve stays below 1e-30 Pa over its whole range.",
+    "No vapour-pressure measurement or evaluation reaches such pressures: measured on the "
+    "compilations and the Alcock et al. (1984) equations via chemicals, the lowest top of a "
+    "range is Alcock's solid tin at its melting point, 1e-20 Pa; liquids stay above 1e-5 Pa.",
+    (
+        Threshold(
+            "min_top_lnP",
+            -69.08,
+            "-",
+            "least ln(P/Pa) a curve must reach somewhere in its range (1e-30 Pa)",
+        ),
+    ),
+    impossible=True,
+)
+def pressure_too_low(ctx: AuditContext, th: dict[str, float]):
+    """The highest pressure of the range, at the extrema of ``pressure-not-finite``, is
+    below the limit: the equation claims pressures ten decades below the lowest any real
+    equation is stated for. A 1/T coefficient ten or a hundred times too large gives such a
+    curve (ln P scales with it), and so does a pressure unit read many decades off. A curve
+    that cannot be represented at all is ``pressure-not-finite``'s.
+    """
+    lim_finite = ctx.thresholds("pressure-not-finite")["max_abs_lnP"]
+    ex = ctx.range_extrema
+    with np.errstate(invalid="ignore"):
+        bad = (
+            ctx.evaluable
+            & (ex.y_max < th["min_top_lnP"])
+            & (ex.y_max >= -lim_finite)
+            & np.isfinite(ex.y_min)
+            & (ex.y_min >= -lim_finite)
+        )
+    sel = np.flatnonzero(bad)
+    top = ex.y_max[sel]
+    messages = [
+        f"ln(P/Pa) reaches at most {y:.4g} over {kelvin(a)}..{kelvin(b)} (P = {math.exp(y):.3g}"
+        " Pa): no real vapour-pressure equation is stated for pressures that low (the lowest,"
+        " solid tin at its melting point, reaches 1e-20 Pa). A 1/T coefficient ten or a "
+        "hundred times too large is the usual cause."
+        for y, a, b in zip(
+            top.tolist(),
+            ctx.curves.t_min[sel].tolist(),
+            ctx.curves.t_max[sel].tolist(),
+            strict=True,
+        )
+    ]
+    yield Hits(sel, messages, {"lnP_max": top, "limit_lnP": np.full(sel.size, th["min_top_lnP"])})
 
 
 @check(

@@ -29,7 +29,7 @@ continuous evidence and the errors the hard checks must give (no findings are bu
 ten best candidates of each substance then run through every registered check exactly as
 in the audit. Each variant gets a misfit score
 
-    S = sum over findings (3 per error, 1 per warning, 7.39 per error that says the curve
+    S = sum over findings (3 per error, 1 per warning, 7.70 per error that says the curve
         is impossible: its measured odds, scoring._IMPOSSIBLE_ODDS)
         + sum of min(rho(z), cap) over the continuous evidence (z = residual / its scale),
 

@@ -32,14 +32,15 @@ from .variants import (
 # --- scoring and suggestions -----------------------------------------------------------------
 
 #: An error that says the curve itself is impossible (a slope that is not positive or is
-#: flatter than any real curve, a pressure that cannot be represented) is much likelier from
-#: a slip than from anything else. Measured (``benchmarks/calibrate.py --priors``): of the
-#: labelled set's flagged single slips (tests/_support/slips.py, Alcock and Poling), 126
-#: draw such an error and 347 only other errors; of the real compilations' substances that
-#: draw an error with no slip planted (tests/_support/compilations.py, all four), 8 and 198.
-#: The odds differ by (126/347)/(8/198) = 9.0, which on the misfit scale (S/2T a negative
-#: log-likelihood) is 2 ln 9.0 = 4.4 above an ordinary error's cost.
-_IMPOSSIBLE_ODDS = (126 / 347) / (8 / 198)
+#: flatter than any real curve, a pressure that cannot be represented or that no real curve
+#: reaches) is much likelier from a slip than from anything else. Measured
+#: (``benchmarks/calibrate.py --priors``): of the labelled set's flagged single slips
+#: (tests/_support/slips.py, Alcock and Poling), 141 draw such an error and 332 only other
+#: errors; of the real compilations' substances that draw an error with no slip planted
+#: (tests/_support/compilations.py, all four), 8 and 198. The odds differ by
+#: (141/332)/(8/198) = 10.5, which on the misfit scale (S/2T a negative log-likelihood) is
+#: 2 ln 10.5 = 4.70 above an ordinary error's cost.
+_IMPOSSIBLE_ODDS = (141 / 332) / (8 / 198)
 
 #: Calibrated constants of the scoring (benchmarks/diagnosis_accuracy.py): the temperature
 #: T dividing the misfit, the prior of "no single slip explains it", the cost of an error,

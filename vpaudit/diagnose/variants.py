@@ -372,10 +372,11 @@ def _severity(vctx: AuditContext, check: str, tier: str | None = None) -> Severi
 
 def _hard_failures(vctx: AuditContext, unit_of_code: np.ndarray, n: int) -> np.ndarray:
     """Errors and warnings that some checks must report for each unit (pressure-not-finite,
-    slope-not-positive, heat-capacity-sign, no-crossing, melting-point-mismatch), counted
-    from the same arrays as those checks without building findings: a lower bound of each
-    unit's findings cost. Returns an (n, 3) array of counts: errors, warnings, and errors of
-    checks that declare the curve impossible (:attr:`CheckSpec.impossible`).
+    pressure-too-low, slope-not-positive, heat-capacity-sign, no-crossing,
+    melting-point-mismatch), counted from the same arrays as those checks without building
+    findings: a lower bound of each unit's findings cost. Returns an (n, 3) array of counts:
+    errors, warnings, and errors of checks that declare the curve impossible
+    (:attr:`CheckSpec.impossible`).
     """
     ex = vctx.range_extrema
     ev = vctx.evaluable
@@ -393,8 +394,10 @@ def _hard_failures(vctx: AuditContext, unit_of_code: np.ndarray, n: int) -> np.n
         # is a placeholder lower end (its own tier), not an unrepresentable curve
         at_bottom = np.isfinite(ex.y_min) & (ex.y_min < -lim) & (np.abs(ex.y_max) <= lim)
         far = ex.cp_max > th["error_above"] * factor
+        too_low = finite & (ex.y_max < vctx.thresholds("pressure-too-low")["min_top_lnP"])
         tiers = [
             (ev & ~finite & ~at_bottom, "pressure-not-finite", None),
+            (ev & too_low, "pressure-too-low", None),
             (ev & ~finite & at_bottom, "pressure-not-finite", "placeholder-lower-end"),
             (ev & ~(ex.h_min > 0), "slope-not-positive", None),
             (ev & far, "heat-capacity-sign", "beyond-error-above"),

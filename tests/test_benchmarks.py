@@ -40,6 +40,40 @@ def test_calibration_report_runs():
     assert "Alcock" in proc.stdout and "preset compilation" in proc.stdout
 
 
+def test_clean_errors_are_judged_against_independent_data():
+    """benchmarks/compilation_accuracy.py --judge-clean: each clean record of a compilation
+    (Perry's table 2-8 via chemicals) that draws an error is put in exactly one class, and
+    the ones that meet another method's reference value are counted as false alarms."""
+    import re
+
+    proc = subprocess.run(
+        [
+            sys.executable,
+            str(ROOT / "benchmarks" / "compilation_accuracy.py"),
+            "--judge-clean",
+            "--only",
+            "perry",
+        ],
+        capture_output=True,
+        text=True,
+        timeout=300,
+    )
+    assert proc.returncode == 0, proc.stderr
+    lines = proc.stdout.splitlines()
+    head = re.match(
+        r"perry: (\d+) clean records with an error of (\d+); .* false alarms by "
+        r"independent data (\d+)",
+        lines[0],
+    )
+    assert head, lines[0]
+    total, n, false = (int(x) for x in head.groups())
+    counts = {line.split(None, 1)[1]: int(line.split()[0]) for line in lines[1:]}
+    assert sum(counts.values()) == total and 0 < total < n
+    assert false == sum(v for k, v in counts.items() if "false alarm" in k)
+    # Perry's critical temperatures (CRC) that a range passes while another method's does not
+    assert counts.get("another reference value is met (false alarm)", 0) >= 1
+
+
 def test_replica_tables_copy_real_pairs_and_their_slips_are_flagged(tmp_path):
     """benchmarks/synth.py::replicas: copies of the Alcock, Itkin & Horrigan (1984) metal
     pairs (as chemicals carries them) with a constant shift keep each pair's verdicts, and

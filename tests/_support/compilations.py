@@ -109,19 +109,24 @@ def _antoine(cas, row, phase, source, base, tag) -> dict:
 #: Critical temperatures of evaluations and data compilations (estimation methods, the
 #: equation-of-state library's values and the web compilation's are left out).
 _TC_EVERY = ("IUPAC", "MATTHEWS", "CRC", "YAWS", "PINAMARTINES")
+#: Melting points of data compilations (the estimation method and the web compilation's are
+#: left out).
+_TM_EVERY = ("CRC_ORG", "CRC_INORG", "OPEN_NTBKM", "COMMON_CHEMISTRY", "WIKIDATA")
 
 
 def every_boiling_point(refs: list[dict], quantity: str = "normal_boiling_point") -> list[dict]:
     """``refs`` with, for each substance that has a normal boiling point (or, with
-    ``quantity="critical_temperature"``, a critical temperature), the values of the other
-    methods of :data:`_TB` (:data:`_TC_EVERY`) that know it as further reference rows (a
-    table that keeps several sources' values), each with its method named.
+    ``quantity="critical_temperature"`` or ``"melting_point"``, a critical temperature or a
+    melting point), the values of the other methods of :data:`_TB` (:data:`_TC_EVERY`,
+    :data:`_TM_EVERY`) that know it as further reference rows (a table that keeps several
+    sources' values), each with its method named.
     """
-    from chemicals import Tb, Tc
+    from chemicals import Tb, Tc, Tm
 
     fn, methods, what = {
         "normal_boiling_point": (Tb, _TB, "Tb"),
         "critical_temperature": (Tc, _TC_EVERY, "Tc"),
+        "melting_point": (Tm, _TM_EVERY, "Tm"),
     }[quantity]
     out = list(refs)
     for r in refs:

@@ -7,37 +7,30 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parents[1]
 
 
-def test_audit_scale_runs_and_vpaudit_agrees_with_the_baseline(tmp_path):
+def _benchmark(script: str, *args: str) -> str:
+    """Run ``benchmarks/<script>`` with ``args``; its standard output (it must succeed)."""
     proc = subprocess.run(
-        [
-            sys.executable,
-            str(ROOT / "benchmarks" / "audit_scale.py"),
-            "--sizes",
-            "500",
-            "--workdir",
-            str(tmp_path),
-            "--repeat",
-            "1",
-        ],
+        [sys.executable, str(ROOT / "benchmarks" / script), *args],
         capture_output=True,
         text=True,
         timeout=300,
     )
     assert proc.returncode == 0, proc.stderr
-    (row,) = [line.split() for line in proc.stdout.splitlines() if line.split()[:1] == ["500"]]
+    return proc.stdout
+
+
+def test_audit_scale_runs_and_vpaudit_agrees_with_the_baseline(tmp_path):
+    out = _benchmark(
+        "audit_scale.py", "--sizes", "500", "--workdir", str(tmp_path), "--repeat", "1"
+    )
+    (row,) = [line.split() for line in out.splitlines() if line.split()[:1] == ["500"]]
     assert row[-2] == "yes"  # the agreement column
-    assert "targets (measured by this run):" in proc.stdout
+    assert "targets (measured by this run):" in out
 
 
 def test_calibration_report_runs():
-    proc = subprocess.run(
-        [sys.executable, str(ROOT / "benchmarks" / "calibrate.py")],
-        capture_output=True,
-        text=True,
-        timeout=300,
-    )
-    assert proc.returncode == 0, proc.stderr
-    assert "Alcock" in proc.stdout and "preset compilation" in proc.stdout
+    out = _benchmark("calibrate.py")
+    assert "Alcock" in out and "preset compilation" in out
 
 
 def test_clean_errors_are_judged_against_independent_data():
@@ -46,20 +39,7 @@ def test_clean_errors_are_judged_against_independent_data():
     the ones that meet another method's reference value are counted as false alarms."""
     import re
 
-    proc = subprocess.run(
-        [
-            sys.executable,
-            str(ROOT / "benchmarks" / "compilation_accuracy.py"),
-            "--judge-clean",
-            "--only",
-            "perry",
-        ],
-        capture_output=True,
-        text=True,
-        timeout=300,
-    )
-    assert proc.returncode == 0, proc.stderr
-    lines = proc.stdout.splitlines()
+    lines = _benchmark("compilation_accuracy.py", "--judge-clean", "--only", "perry").splitlines()
     head = re.match(
         r"perry: (\d+) clean records with an error of (\d+); .* false alarms by "
         r"independent data (\d+)",

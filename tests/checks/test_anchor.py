@@ -114,3 +114,43 @@ def test_the_report_says_which_curves_lacked_their_standard_data(alcock_solids):
         "no_standard_reference"
         not in audit_table(table_from_rows(far), diagnose=False).summary["not_checked"]
     )
+
+
+def test_a_curve_that_overflows_at_298_k_raises_no_numpy_warning():
+    """An Antoine liquid (invented) whose pole lies 3 K below 298.15 K: ln P there is about
+    1607, beyond a float's range. The library's audit must not leak numpy's overflow warning
+    to its caller (warnings are errors here), and the message gives ln P instead of inf."""
+    import warnings
+
+    from refdata import table_from_rows
+
+    from vpaudit.auditing import audit_table
+
+    rec = {
+        "id": "z",
+        "substance": "z",
+        "phase": "liquid",
+        "form": "antoine",
+        "log_base": "e",
+        "pressure_unit": "Pa",
+        "temperature_unit": "K",
+        "A": 20.0,
+        "B": -5000.0,
+        "C": -295.0,
+        "t_min": 400.0,
+        "t_max": 450.0,
+        "source": "invented",
+    }
+    ref = {
+        "substance": "z",
+        "quantity": "standard_entropy_of_vaporization",
+        "value": 100.0,
+        "unit": "J/(mol K)",
+        "at_temperature": 298.15,
+        "source": "invented",
+    }
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        result = audit_table(table_from_rows([rec], [ref]), diagnose=False)
+    (f,) = [f for f in result.findings if f.check == "anchor-entropy"]
+    assert "inf" not in f.message and "e^1607 Pa" in f.message

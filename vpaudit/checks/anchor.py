@@ -67,12 +67,13 @@ class AnchorValues(NamedTuple):
     rows: np.ndarray  # record rows
     h: np.ndarray  # implied dH(298) [J/mol]
     s: np.ndarray  # implied dS0(298) [J/(mol K)]
-    p: np.ndarray  # the curve's P(298) [Pa]
+    p: np.ndarray  # the curve's P(298) [Pa] (infinite where ln P overflows: see y)
     h_ref: np.ndarray  # standard dH(298) of the phase change, NaN if none [J/mol]
     s_ref: np.ndarray  # standard dS0(298), NaN if none [J/(mol K)]
     edge: np.ndarray  # the range edge nearest 298.15 K [K]
     distance: np.ndarray  # |edge - 298.15 K|, the extrapolation [K]
     ratio: np.ndarray  # edge / 298.15 K [-]
+    y: np.ndarray  # ln(P(298)/Pa) [-]
 
 
 class Allowances(NamedTuple):
@@ -116,16 +117,18 @@ def anchor_values(ctx: AuditContext) -> AnchorValues | None:
         y, y1, _ = evaluate(c, np.full(rows.size, T_ANCHOR), order=1)
         h = R * T_ANCHOR**2 * y1
         s = h / T_ANCHOR + R * (y - LN_P0_BAR)
+        p = np.exp(y)  # a curve extrapolated to absurd heights overflows: y keeps it
     return AnchorValues(
         rows=rows,
         h=h,
         s=s,
-        p=np.exp(y),
+        p=p,
         h_ref=h_ref[rows],
         s_ref=s_ref[rows],
         edge=edge,
         distance=np.abs(edge - T_ANCHOR),
         ratio=edge / T_ANCHOR,
+        y=y,
     )
 
 
@@ -154,6 +157,11 @@ def _beyond(value, ref, warn, error, judged):
     with np.errstate(invalid="ignore"):
         off = np.abs(value - ref)
         return judged & ~(off <= warn), ~(off <= error)
+
+
+def _pressure(p: float, y: float) -> str:
+    """A pressure as the anchor messages give it; as e^(ln P) where it overflows a float."""
+    return f"{p:.3g} Pa" if np.isfinite(p) else f"e^{y:.4g} Pa"
 
 
 def _what(is_liquid: bool) -> str:
@@ -240,7 +248,7 @@ def anchor_entropy(ctx: AuditContext, th: dict[str, float]):
             i,
             f"extrapolated to 298.15 K with its own dCp (from {kelvin(a.edge[k])}), the "
             f"curve implies the standard entropy of {_what(ctx.liquid[i])} dS0(298) = "
-            f"{a.s[k]:.1f} J/(mol K) (P = {a.p[k]:.3g} Pa) against the standard-table "
+            f"{a.s[k]:.1f} J/(mol K) (P = {_pressure(a.p[k], a.y[k])}) against the standard-table "
             f"{a.s_ref[k]:.1f} J/(mol K): off by {d:+.1f}, beyond the allowance of "
             f"{allowed[k]:.3g}. Usual cause: a wrong pressure unit (R ln of the factor: 40.7 "
             "J/(mol K) for Torr read as Pa, 57 for kPa, 96 for atm or bar).",

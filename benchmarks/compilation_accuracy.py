@@ -13,7 +13,8 @@ Wagner, Perry's; references through documented ``chemicals`` lookups), per compi
 
 With ``--every-tb`` each substance carries the normal boiling point of every method that
 knows it, not only the first (a table that keeps several sources' values); ``--every-tc``
-the same for the critical temperature.
+the same for the critical temperature; ``--anchors`` adds the CRC standard enthalpy and
+entropy of each phase change at 298.15 K (the 298.15 K anchor) where they exist.
 
 ``--judge-clean`` judges each clean record that draws an error against independent data
 (:func:`judge_clean`), and says which errors are the tool's own false alarms.
@@ -40,7 +41,7 @@ from slips import SLIP_KINDS, corrupt, reproduces  # noqa: E402
 from vpaudit.auditing import audit_table  # noqa: E402
 
 
-def clean_errors(name: str, every_tb: bool = False, every_tc: bool = False):
+def clean_errors(name: str, every_tb: bool = False, every_tc: bool = False, anchors: bool = False):
     records, refs = COMPILATIONS[name](None)
     records = [r for r in records if _complete(r)]
     keep = {r["substance"] for r in records}
@@ -49,11 +50,25 @@ def clean_errors(name: str, every_tb: bool = False, every_tc: bool = False):
         refs = every_boiling_point(refs)
     if every_tc:
         refs = every_boiling_point(refs, "critical_temperature")
+    if anchors:
+        refs = refs + _anchor_references(records)
     result = audit_table(table_from_rows(records, refs), diagnose=False)
     errs = [f for f in result.findings if f.severity.value == "error"]
     flagged = {x for f in errs for x in f.records}
     confident_on_clean = 0
     return records, refs, flagged, Counter(f.check for f in errs), confident_on_clean
+
+
+def _anchor_references(records: list[dict]) -> list[dict]:
+    """The CRC standard enthalpy and entropy of each record's phase change at 298.15 K
+    (tests/_support/anchors.py: chemicals.reaction, method CRC), for every substance and
+    phase that has them: a table that carries standard data beside its equations."""
+    from anchors import anchor_rows
+
+    out = []
+    for sub, phase in sorted({(r["substance"], r["phase"]) for r in records}):
+        out += anchor_rows(sub, sub, phase)
+    return out
 
 
 #: Checks whose error says the curve itself cannot be a vapour-pressure curve, or has the
@@ -456,6 +471,12 @@ def main() -> None:
         help="the same for the critical temperature (IUPAC, MATTHEWS, CRC, YAWS, PINAMARTINES)",
     )
     ap.add_argument(
+        "--anchors",
+        action="store_true",
+        help="give each substance the CRC standard enthalpy and entropy of its phase changes "
+        "at 298.15 K (the 298.15 K anchor) as reference rows",
+    )
+    ap.add_argument(
         "--judge-clean",
         action="store_true",
         help="judge each clean record that draws an error against independent data",
@@ -484,7 +505,9 @@ def main() -> None:
     )
     for name in [args.only] if args.only else COMPILATIONS:
         t0 = time.perf_counter()
-        records, refs, flagged, by_check, _ = clean_errors(name, args.every_tb, args.every_tc)
+        records, refs, flagged, by_check, _ = clean_errors(
+            name, args.every_tb, args.every_tc, args.anchors
+        )
         n, det, right, conf, cw, missed, right_flagged = planted(
             name, records, refs, flagged, args.sample, args.seed
         )

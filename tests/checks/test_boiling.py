@@ -112,3 +112,37 @@ def test_a_second_reference_that_the_record_meets_names_the_first_as_the_one_to_
         assert "396.15 K (Tb via chemicals, method CRC_ORG)" in f.message
         assert "other reference 409.87 K (Tb via chemicals, method YAWS)" in f.message
         assert f.suggestion is None
+
+
+def test_a_pressure_beyond_a_float_is_written_from_its_logarithm():
+    """An invented two-term liquid whose B was entered a hundred times too large: at its
+    reference boiling point ln(P/Pa) is about -837, where P underflows to 0 and the ratio to
+    101325 Pa overflows. The message gives both from their logarithms, not '0 Pa' and
+    'a factor inf'."""
+    rec = {
+        "id": "w",
+        "substance": "w",
+        "phase": "liquid",
+        "form": "antoine",
+        "log_base": "e",
+        "pressure_unit": "Pa",
+        "temperature_unit": "K",
+        "A": 20.0,
+        "B": 300000.0,
+        "C": 0.0,
+        "t_min": 300.0,
+        "t_max": 400.0,
+        "source": "invented",
+    }
+    ref = {
+        "substance": "w",
+        "quantity": "normal_boiling_point",
+        "value": 350.0,
+        "unit": "K",
+        "source": "invented",
+    }
+    result = audit_table(table_from_rows([rec], [ref]), diagnose=False)
+    (f,) = [f for f in result.findings if f.check == "boiling-point-mismatch"]
+    assert "the curve gives e^-837.1 Pa instead of 101325 Pa" in f.message, f.message
+    assert "a factor e^849 in pressure" in f.message
+    assert " inf" not in f.message and " 0 Pa" not in f.message

@@ -4,7 +4,11 @@ from __future__ import annotations
 
 import math
 
-__all__ = ["kelvin", "ln_ratio", "kj", "jk", "pressure"]
+__all__ = ["kelvin", "ln_ratio", "kj", "jk", "pressure", "pressure_at_ln"]
+
+#: Beyond this |ln(P/Pa)| a pressure is written as e^(ln P): exp() leaves a float's range
+#: near 709 (overflow to inf) and -745 (underflow to 0).
+_LN_FLOAT = 700.0
 
 
 def kelvin(t: float) -> str:
@@ -16,8 +20,9 @@ def ln_ratio(d: float) -> str:
     """A difference in ln P with the pressure ratio it means: ``0.31 in ln P (x1.36)``."""
     if not math.isfinite(d):
         return "n/a"
-    factor = math.exp(abs(d)) if abs(d) < 700 else float("inf")
-    return f"{abs(d):.3g} in ln P (a factor {factor:.3g} in pressure)"
+    if abs(d) >= _LN_FLOAT:
+        return f"{abs(d):.3g} in ln P (a factor e^{abs(d):.3g} in pressure)"
+    return f"{abs(d):.3g} in ln P (a factor {math.exp(abs(d)):.3g} in pressure)"
 
 
 def kj(h: float) -> str:
@@ -33,3 +38,15 @@ def jk(s: float) -> str:
 def pressure(p: float) -> str:
     """A pressure in Pa with sensible digits."""
     return "n/a" if not math.isfinite(p) else f"{p:.4g} Pa"
+
+
+def pressure_at_ln(y: float, p: float | None = None, digits: int = 4) -> str:
+    """A pressure given by ln(P/Pa) ``y`` (and P itself, ``p``, when the caller has it):
+    ``1.234e+05 Pa`` with ``digits`` significant digits, or ``e^-893 Pa`` where P would
+    overflow or underflow a float (never ``inf`` or ``0``).
+    """
+    if not math.isfinite(y):
+        return "n/a"
+    if abs(y) > _LN_FLOAT:
+        return f"e^{y:.4g} Pa"
+    return f"{math.exp(y) if p is None else p:.{digits}g} Pa"

@@ -144,11 +144,13 @@ def allowances(ctx: AuditContext, a: AnchorValues) -> Allowances:
             h_base=th_h["tolerance"] * np.abs(a.h_ref),
             h_warn=th_h["tolerance"] * np.abs(a.h_ref) + growth_h,
             h_error=th_h["error_above"] * np.abs(a.h_ref) + growth_h,
-            h_judged=np.isfinite(a.h_ref) & (a.ratio <= th_h["max_ratio"]),
+            # a curve with no finite value at 298.15 K (its extrapolation meets a pole) is
+            # not judged: there is no extrapolation to weigh
+            h_judged=np.isfinite(a.h_ref) & (a.ratio <= th_h["max_ratio"]) & np.isfinite(a.h),
             s_base=np.full_like(growth_s, th_s["tolerance"]),
             s_warn=th_s["tolerance"] + growth_s,
             s_error=th_s["error_above"] + growth_s,
-            s_judged=np.isfinite(a.s_ref) & (a.ratio <= th_s["max_ratio"]),
+            s_judged=np.isfinite(a.s_ref) & (a.ratio <= th_s["max_ratio"]) & np.isfinite(a.s),
         )
 
 

@@ -13,7 +13,7 @@ from ..equations.engine import Curves, evaluate, temperature_at
 from ..units import MMHG_PA
 from ._context import LN_P_STANDARD, AuditContext, match
 from ._registry import Scope, Severity, Threshold, check
-from ._text import jk, kelvin, ln_ratio
+from ._text import jk, kelvin, ln_ratio, pressure_at_ln
 from .extrapolation import allowance
 from .hits import Hit
 
@@ -387,7 +387,8 @@ def boiling_point_mismatch(ctx: AuditContext, th: dict[str, float]):
         yield Hit(
             i,
             f"at the reference normal boiling point {kelvin(t[k])} the curve gives "
-            f"{np.exp(y[k]):.4g} Pa instead of 101325 Pa, off by {ln_ratio(d[k])}; "
+            f"{pressure_at_ln(y[k], np.exp(y[k]))} instead of 101325 Pa, off by "
+            f"{ln_ratio(d[k])}; "
             + (
                 f"it reaches 101325 Pa at {kelvin(t_implied[k])}"
                 if np.isfinite(t_implied[k])

@@ -18,7 +18,7 @@ import numpy as np
 from ..equations.engine import evaluate, temperature_at
 from ._context import AuditContext, match
 from ._registry import Scope, Severity, Threshold, check
-from ._text import kelvin, ln_ratio, pressure
+from ._text import kelvin, ln_ratio, pressure, pressure_at_ln
 from .hits import Hit
 
 __all__ = ["CriticalResiduals", "critical_residuals"]
@@ -450,7 +450,9 @@ def critical_pressure_mismatch(ctx: AuditContext, th: dict[str, float]):
     for k in np.flatnonzero(bad):
         i = int(got.rows[k])
         error = not abs(got.residual[k]) <= th["error_above"]
-        p = float(np.exp(got.d[k]) * got.pc[k])
+        with np.errstate(over="ignore", under="ignore"):
+            p = float(np.exp(got.d[k]) * got.pc[k])
+        y = float(got.d[k] + np.log(got.pc[k]))  # ln(P/Pa), where P leaves a float's range
         yield Hit(
             i,
             (
@@ -459,7 +461,7 @@ def critical_pressure_mismatch(ctx: AuditContext, th: dict[str, float]):
                 else f"at its range end {kelvin(got.t[k])}, the reference critical "
                 f"temperature being {kelvin(got.tc[k])},"
             )
-            + f" the curve gives {pressure(p)} against the reference critical pressure "
+            + f" the curve gives {pressure_at_ln(y, p)} against the reference critical pressure "
             f"{pressure(got.pc[k])}: off by {ln_ratio(got.d[k])}, "
             + (
                 "more than independent evaluations of the critical point ever differ. A "

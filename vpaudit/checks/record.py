@@ -14,7 +14,7 @@ from ..constants import R
 from ..equations.engine import evaluate, temperature_at
 from ._context import LN_P_STANDARD, AuditContext, match
 from ._registry import Scope, Severity, Threshold, check
-from ._text import jk, kelvin, kj, ln_ratio
+from ._text import jk, kelvin, kj, ln_ratio, pressure_at_ln
 from .hits import Hit, Hits
 
 __all__: list[str] = []
@@ -111,11 +111,16 @@ def pressure_not_finite(ctx: AuditContext, th: dict[str, float]):
                 tier="placeholder-lower-end",
             )
             continue
+        span = (
+            f"runs from {lo:.4g} to {hi:.4g}"
+            if np.isfinite(lo) and np.isfinite(hi)
+            else "is not a finite number somewhere"
+        )
         yield Hit(
             i,
-            f"ln(P/Pa) runs from {lo:.4g} to {hi:.4g} over {kelvin(t_lo)}.."
-            f"{kelvin(t_hi)}: beyond +/-{lim:g}, or not finite, the pressure "
-            "cannot be represented; check the coefficients' signs and exponents.",
+            f"ln(P/Pa) {span} over {kelvin(t_lo)}..{kelvin(t_hi)}: beyond +/-{lim:g}, or not "
+            "finite, the pressure cannot be represented; check the coefficients' signs and "
+            "exponents.",
             {"lnP_min": lo, "lnP_max": hi, "limit_lnP": lim},
         )
 
@@ -337,17 +342,20 @@ def enthalpy_implausible(ctx: AuditContext, th: dict[str, float]):
     sel = np.flatnonzero(bad)
     ds, t, lo, hi = ds[sel], t[sel], lo[sel], hi[sel]
     h = R * t**2 * y1[sel]
-    p = np.exp(y[sel])
+    with np.errstate(over="ignore", under="ignore"):
+        p = np.exp(y[sel])
     messages = [
         f"the implied entropy of {'vaporization' if is_liquid else 'sublimation'} referred to "
         f"the standard pressure, dS = dH/T + R ln(P/101325 Pa), is {jk(dsk)} at {kelvin(tk)} "
-        f"(dH = {kj(hk)}, P = {pk:.3g} Pa), outside the plausible {lok:.0f}..{hik:.0f} "
+        f"(dH = {kj(hk)}, P = {pressure_at_ln(yk, pk, 3)}), outside the plausible "
+        f"{lok:.0f}..{hik:.0f} "
         f"J/(mol K){' at that pressure' if is_liquid else ''}.{hint}"
-        for is_liquid, dsk, tk, hk, pk, lok, hik in zip(
+        for is_liquid, dsk, tk, hk, yk, pk, lok, hik in zip(
             liquid[sel].tolist(),
             ds.tolist(),
             t.tolist(),
             h.tolist(),
+            y[sel].tolist(),
             p.tolist(),
             lo.tolist(),
             hi.tolist(),

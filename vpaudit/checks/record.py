@@ -334,7 +334,8 @@ def enthalpy_implausible(ctx: AuditContext, th: dict[str, float]):
     liquid = ctx.liquid[rows]
     lo, hi = entropy_band(th, liquid, t, y - LN_P_STANDARD)
     with np.errstate(invalid="ignore"):
-        bad = ~((ds >= lo) & (ds <= hi))
+        # a curve with no finite value there is pressure-not-finite's (its range extrema)
+        bad = np.isfinite(ds) & ~((ds >= lo) & (ds <= hi))
     hint = (
         " Usual causes: log10 coefficients read as ln or the reverse (dH off by a "
         "factor 2.3), or a wrong pressure unit (dS shifted by R ln of the factor)."

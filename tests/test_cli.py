@@ -21,6 +21,25 @@ def test_eval_prints_a_readable_answer(sample_db):
     assert "Caution: vpaudit screens" in run("--help").output
 
 
+def test_eval_far_outside_a_range_prints_no_numpy_warning(tmp_path):
+    """An invented Antoine liquid whose pole lies 3 K below 298.15 K: its pressure there
+    (ln P about 1607) is beyond a float. eval must answer (no value, marked extrapolated)
+    without numpy's overflow warning reaching the terminal (warnings are errors here)."""
+    import warnings
+
+    (tmp_path / "records").mkdir()
+    (tmp_path / "records" / "r.csv").write_text(
+        "id,substance,phase,form,log_base,pressure_unit,temperature_unit,A,B,C,t_min,t_max,"
+        "source\nz,z,liquid,antoine,e,Pa,K,20,-5000,-295,400,450,invented (not real)\n"
+    )
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        r = run("eval", tmp_path, "z", "--at", "298.15", "--format", "json")
+    assert r.exit_code == 0
+    (rec,) = json.loads(r.output)["records"]
+    assert rec["pressure_Pa"] is None and rec["in_range"] is False
+
+
 def test_eval_json_contract(sample_db):
     r = run("eval", sample_db, "ardenite", "--at", "926.85degC", "--format", "json")
     data = json.loads(r.output)

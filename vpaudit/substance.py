@@ -128,9 +128,11 @@ def eval_substance(
         t = temperature_at(curves, math.log(pressure), lo, hi)
     y, y1, y2 = evaluate(curves, np.where(np.isfinite(t), t, curves.t_min), order=2)
     found = np.isfinite(t)
-    p = np.where(found, np.exp(y), np.nan)
-    h = np.where(found, R * t * t * y1, np.nan)
-    cp = np.where(found, R * (2 * t * y1 + t * t * y2), np.nan)
+    # a curve extrapolated far from its range can leave a float's range: no value (null)
+    with np.errstate(over="ignore", invalid="ignore"):
+        p = np.where(found, np.exp(y), np.nan)
+        h = np.where(found, R * t * t * y1, np.nan)
+        cp = np.where(found, R * (2 * t * y1 + t * t * y2), np.nan)
     with np.errstate(invalid="ignore"):
         in_range = found & (t >= curves.t_min) & (t <= curves.t_max)
     mm = table.references

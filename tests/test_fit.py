@@ -127,6 +127,33 @@ def _pair_points(seed=1):
     )
 
 
+def test_a_record_whose_pressure_overflows_is_not_refitted_and_warns_nothing():
+    """Perry's table 2-8 row for CAS 78-80-8 (via chemicals: ln P = A + B/T + C ln T + D T^E,
+    E = 1) with its exponent entered as 100, so that D T^100 overflows ln P over the range,
+    cannot be refitted to another form: a clear error naming the record, and no numpy
+    overflow warning."""
+    import warnings
+
+    rec = {
+        "id": "p",
+        "form": "power-term",
+        "log_base": "e",
+        "pressure_unit": "Pa",
+        "temperature_unit": "K",
+        "A": 95.453,
+        "B": -5448.8,
+        "C": -12.384,
+        "D": 0.015643,
+        "E": 100.0,
+        "t_min": 160.15,
+        "t_max": 492.0,
+    }
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        with pytest.raises(EquationError, match="'p' cannot be refitted: its pressure is not"):
+            convert_or_refit(rec, form="three-term")
+
+
 def test_pair_refit_meets_the_imposed_triple_point():
     sol, liq = _pair_points()
     res = fit_pair(sol, liq, triple_temperature=1003.0, fusion_enthalpy=15e3)

@@ -749,7 +749,21 @@ def convert_or_refit(
         if not (t_crit and p_crit):
             raise EquationError(f"form {target_form!r} needs --t-crit and --p-crit")
         t_crit, p_crit = float(t_crit), float(p_crit)
-    fit = fit_points(t, np.exp(y), target_form, t_crit=t_crit, p_crit=p_crit)
+    with np.errstate(over="ignore", under="ignore", invalid="ignore"):
+        p = np.exp(y)
+    if not np.all(np.isfinite(p) & (p > 0)):
+        finite = y[np.isfinite(y)]
+        span = (
+            f"ln(P/Pa) from {finite.min():.4g} to {finite.max():.4g}"
+            if finite.size
+            else "ln(P/Pa) is nowhere a finite number"
+        )
+        raise EquationError(
+            f"record {record.get('id')!r} cannot be refitted: its pressure is not a finite, "
+            f"representable number everywhere over {lo:g}..{hi:g} K ({span}); check its "
+            "coefficients first (vpaudit audit)"
+        )
+    fit = fit_points(t, p, target_form, t_crit=t_crit, p_crit=p_crit)
     dev = float(np.max(np.abs(fit.ln_pressure(t) - y)))
     if not dev <= max_deviation:
         raise EquationError(

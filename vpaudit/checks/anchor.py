@@ -25,7 +25,7 @@ from ..constants import R
 from ..equations.engine import evaluate
 from ._context import AuditContext
 from ._registry import Scope, Severity, Threshold, check
-from ._text import kelvin, kj
+from ._text import kelvin, kj, pressure_at_ln
 from .hits import Hit
 
 T_ANCHOR = 298.15
@@ -161,11 +161,6 @@ def _beyond(value, ref, warn, error, judged):
         return judged & ~(off <= warn), ~(off <= error)
 
 
-def _pressure(p: float, y: float) -> str:
-    """A pressure as the anchor messages give it; as e^(ln P) where it overflows a float."""
-    return f"{p:.3g} Pa" if np.isfinite(p) else f"e^{y:.4g} Pa"
-
-
 def _what(is_liquid: bool) -> str:
     return "vaporization" if is_liquid else "sublimation"
 
@@ -250,8 +245,8 @@ def anchor_entropy(ctx: AuditContext, th: dict[str, float]):
             i,
             f"extrapolated to 298.15 K with its own dCp (from {kelvin(a.edge[k])}), the "
             f"curve implies the standard entropy of {_what(ctx.liquid[i])} dS0(298) = "
-            f"{a.s[k]:.1f} J/(mol K) (P = {_pressure(a.p[k], a.y[k])}) against the standard-table "
-            f"{a.s_ref[k]:.1f} J/(mol K): off by {d:+.1f}, beyond the allowance of "
+            f"{a.s[k]:.1f} J/(mol K) (P = {pressure_at_ln(a.y[k], a.p[k], 3)}) against the "
+            f"standard-table {a.s_ref[k]:.1f} J/(mol K): off by {d:+.1f}, beyond the allowance of "
             f"{allowed[k]:.3g}. Usual cause: a wrong pressure unit (R ln of the factor: 40.7 "
             "J/(mol K) for Torr read as Pa, 57 for kPa, 96 for atm or bar).",
             {

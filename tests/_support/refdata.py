@@ -57,6 +57,26 @@ def table_from_rows(
     return _finish(parts, out)
 
 
+def invented_antoine(name: str, A: float, B: float, C: float, t_min: float, t_max: float) -> dict:
+    """A liquid record ``name`` of an invented substance of the same name (not a real
+    substance): ln(P/Pa) = A - B/(T + C) over [t_min, t_max] K."""
+    return {
+        "id": name,
+        "substance": name,
+        "phase": "liquid",
+        "form": "antoine",
+        "log_base": "e",
+        "pressure_unit": "Pa",
+        "temperature_unit": "K",
+        "A": A,
+        "B": B,
+        "C": C,
+        "t_min": t_min,
+        "t_max": t_max,
+        "source": "invented (not a real substance)",
+    }
+
+
 def alcock_pairs() -> tuple[list[dict], list[dict]]:
     """Solid and liquid records and CRC references of every Alcock element with both."""
     from chemicals import Hfus, Tm

@@ -122,25 +122,11 @@ def test_a_curve_that_overflows_at_298_k_raises_no_numpy_warning():
     to its caller (warnings are errors here), and the message gives ln P instead of inf."""
     import warnings
 
-    from refdata import table_from_rows
+    from refdata import invented_antoine, table_from_rows
 
     from vpaudit.auditing import audit_table
 
-    rec = {
-        "id": "z",
-        "substance": "z",
-        "phase": "liquid",
-        "form": "antoine",
-        "log_base": "e",
-        "pressure_unit": "Pa",
-        "temperature_unit": "K",
-        "A": 20.0,
-        "B": -5000.0,
-        "C": -295.0,
-        "t_min": 400.0,
-        "t_max": 450.0,
-        "source": "invented",
-    }
+    rec = invented_antoine("z", 20.0, -5000.0, -295.0, 400.0, 450.0)
     ref = {
         "substance": "z",
         "quantity": "standard_entropy_of_vaporization",

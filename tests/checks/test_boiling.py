@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 from chemicals import Tb
 from compilations import _complete, landolt, odd_cas
-from refdata import table_from_rows
+from refdata import invented_antoine, table_from_rows
 
 from vpaudit.auditing import audit_table
 from vpaudit.checks._context import LN_P_STANDARD
@@ -119,21 +119,7 @@ def test_a_pressure_beyond_a_float_is_written_from_its_logarithm():
     reference boiling point ln(P/Pa) is about -837, where P underflows to 0 and the ratio to
     101325 Pa overflows. The message gives both from their logarithms, not '0 Pa' and
     'a factor inf'."""
-    rec = {
-        "id": "w",
-        "substance": "w",
-        "phase": "liquid",
-        "form": "antoine",
-        "log_base": "e",
-        "pressure_unit": "Pa",
-        "temperature_unit": "K",
-        "A": 20.0,
-        "B": 300000.0,
-        "C": 0.0,
-        "t_min": 300.0,
-        "t_max": 400.0,
-        "source": "invented",
-    }
+    rec = invented_antoine("w", 20.0, 300000.0, 0.0, 300.0, 400.0)
     ref = {
         "substance": "w",
         "quantity": "normal_boiling_point",

@@ -4,8 +4,6 @@ enthalpies, measured points (the boiling point and the critical point have their
 
 from __future__ import annotations
 
-import math
-
 import numpy as np
 import pandas as pd
 
@@ -163,8 +161,9 @@ def pressure_too_low(ctx: AuditContext, th: dict[str, float]):
     sel = np.flatnonzero(bad)
     top = ex.y_max[sel]
     messages = [
-        f"ln(P/Pa) reaches at most {y:.4g} over {kelvin(a)}..{kelvin(b)} (P = {math.exp(y):.3g}"
-        " Pa): no real vapour-pressure equation is stated for pressures that low (the lowest,"
+        f"ln(P/Pa) reaches at most {y:.4g} over {kelvin(a)}..{kelvin(b)} (P = "
+        f"{pressure_at_ln(y, digits=3)}): no real vapour-pressure equation is stated for "
+        "pressures that low (the lowest,"
         " solid tin at its melting point, reaches 1e-20 Pa). A 1/T coefficient ten or a "
         "hundred times too large is the usual cause."
         for y, a, b in zip(

@@ -175,23 +175,35 @@ class EvidenceColumn:
         rows = np.asarray(rows, dtype=np.int64)
         return EvidenceColumn(self._blocks, self._block[rows], self._pos[rows], self._own)
 
-    def dicts(self, rows: np.ndarray) -> list[dict]:
-        """The dicts of rows ``rows``, made a block at a time."""
+    def groups(self, rows: np.ndarray) -> Iterator[tuple[np.ndarray, tuple | None, list, list]]:
+        """Rows ``rows`` grouped by where their numbers are kept, for a reader that works a
+        column at a time (:meth:`dicts`, the JSON report): for each group, the indices into
+        ``rows`` it covers, its keys (None for dicts given whole), its values (a list per
+        key, as :func:`_values` gives them; for dicts given whole, the list of dicts) and,
+        per key, whether every value is a plain number or None (a numeric array's).
+        """
         rows = np.asarray(rows, dtype=np.int64)
         block, pos = self._block[rows], self._pos[rows]
-        out: list = [None] * rows.size
         for b in np.unique(block).tolist():
             at = np.flatnonzero(block == b)
             where = pos[at]
             if b < 0:
                 own = self._own
-                for i, p in zip(at.tolist(), where.tolist(), strict=True):
-                    out[i] = own[p]
+                yield at, None, [own[p] for p in where.tolist()], []
                 continue
             keys, columns = self._blocks[b]
-            values = [_values(c, where) for c in columns]
-            made = [dict(zip(keys, row, strict=True)) for row in zip(*values, strict=True)]
-            if not keys:
+            plain = [isinstance(c, np.ndarray) and c.dtype.kind in "biuf" for c in columns]
+            yield at, keys, [_values(c, where) for c in columns], plain
+
+    def dicts(self, rows: np.ndarray) -> list[dict]:
+        """The dicts of rows ``rows``, made a block at a time."""
+        out: list = [None] * len(rows)
+        for at, keys, values, _ in self.groups(rows):
+            if keys is None:
+                made = values
+            elif keys:
+                made = [dict(zip(keys, row, strict=True)) for row in zip(*values, strict=True)]
+            else:
                 made = [{} for _ in range(at.size)]
             for i, d in zip(at.tolist(), made, strict=True):
                 out[i] = d

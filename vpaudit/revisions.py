@@ -26,6 +26,7 @@ from pathlib import Path
 from typing import Any
 
 from ._atomic import append_line, file_lock, write_atomic
+from .checks._text import confidence
 from .errors import Location, TableError, VpauditError
 from .readers.lines import split_lines
 from .writers import csv_cell
@@ -454,7 +455,9 @@ def apply_suggestion(
             "(the evidence does not single out one fix); correct the record by hand"
         )
     spec = f"{finding.check}:{','.join(finding.records)}"
-    why = reason or f"{sug['kind']} (confidence {sug['confidence']:.2f}): {sug['explanation']}"
+    why = reason or (
+        f"{sug['kind']} (confidence {confidence(sug['confidence'])}): {sug['explanation']}"
+    )
     rec = table.records
     ids = rec["id"].astype(object)
     edits = [(sug["record"], sug["corrected"], sug.get("corrected_text"))]

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import math
 
-__all__ = ["kelvin", "ln_ratio", "kj", "jk", "pressure", "pressure_at_ln"]
+__all__ = ["kelvin", "ln_ratio", "kj", "jk", "pressure", "pressure_at_ln", "confidence"]
 
 #: Beyond this |ln(P/Pa)| a pressure is written as e^(ln P): exp() leaves a float's range
 #: near 709 (overflow to inf) and -745 (underflow to 0).
@@ -50,3 +50,11 @@ def pressure_at_ln(y: float, p: float | None = None, digits: int = 4) -> str:
     if abs(y) > _LN_FLOAT:
         return f"e^{y:.4g} Pa"
     return f"{math.exp(y) if p is None else p:.{digits}g} Pa"
+
+
+def confidence(c: float) -> str:
+    """A suggestion's confidence (0..1) with two decimals, rounded down: a figure is never
+    shown above what it is, so a fix short of the 0.8 that reads "Almost certainly" never
+    shows as 0.80 (0.797 reads 0.79, 0.996 reads 0.99; 1 reads 1.00).
+    """
+    return f"{math.floor(c * 100 + 1e-9) / 100:.2f}"

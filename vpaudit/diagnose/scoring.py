@@ -12,6 +12,7 @@ import numpy as np
 
 from ..checks._context import AuditContext
 from ..checks._registry import REGISTRY, Severity
+from ..checks._text import confidence
 from ..checks.finding import Finding, Findings
 from ..equations.forms import FORMS
 from ..substance import records_at
@@ -573,7 +574,7 @@ def _suggestion(
         lead = "Probably"
     else:
         lead = "Possibly (the evidence does not single out one fix)"
-    text = f"{lead} {cand.label} [{cand.kind}, confidence {conf:.2f}]."
+    text = f"{lead} {cand.label} [{cand.kind}, confidence {confidence(conf)}]."
     if n_before:
         text += (
             f" With that fixed, {len(cleared)} of the {n_before} error(s) and warning(s) on "

@@ -12,6 +12,7 @@ import io
 from pathlib import Path
 
 from ..auditing import CAUTION
+from ..checks._text import confidence
 from ._escape import visible
 
 __all__ = ["render_report"]
@@ -273,7 +274,7 @@ def _fix(suggestion) -> str:
     return (
         f"<span class='fix'><b>{_e(suggestion['record'])}</b>: {changes} "
         f"({_e(suggestion['kind'])}, <span class='conf'>confidence "
-        f"{suggestion['confidence']:.2f}</span>)</span>"
+        f"{confidence(suggestion['confidence'])}</span>)</span>"
     )
 
 

@@ -361,6 +361,27 @@ def test_labelled_accuracy_does_not_regress():
     assert confident_wrong <= max(1, 0.05 * confident)
 
 
+def test_a_stated_confidence_is_what_the_words_and_the_text_say():
+    # The JSON's confidence is rounded down (never 1.0, never 0.8 for 0.7996), the text
+    # shows it rounded down to two decimals, and "Almost certainly" leads exactly the
+    # suggestions at 0.8 or above that are not held: what a reviewer reads, what
+    # --min-confidence filters on and what the benchmarks count as confident agree.
+    import re
+
+    result = audit_table(cases_table(labelled_cases(seed=7, per_kind=6, poling=6)))
+    sugs = [f.suggestion for f in result.findings if f.suggestion]
+    assert len({s["confidence"] for s in sugs}) > 10
+    for s in sugs:
+        c = s["confidence"]
+        assert 0.0 < c < 1.0 and c == round(c, 3)
+        shown = re.search(r"confidence (\d\.\d\d)\]", s["explanation"]).group(1)
+        assert float(shown) <= c < float(shown) + 0.01 + 1e-12
+        if s["explanation"].startswith("Almost certainly"):
+            assert c >= 0.8
+        elif not s["explanation"].startswith("Possibly"):  # "Probably"
+            assert c < 0.8
+
+
 def _right(c: Case, sug) -> bool:
     if c.kind in ("other", "clean"):
         return sug is None

@@ -548,7 +548,11 @@ def _suggestion(
         "kind": cand.kind,
         "record": rid,
         "corrected": corrected,
-        "confidence": round(float(conf), 3),
+        # rounded down, as the text shows it: never above what it is (0.9996 is not 1.0,
+        # 0.7996 not the 0.8 of "Almost certainly" and of --min-confidence 0.8), and a
+        # posterior that reaches 1 in floating point is stated as 0.999: a diagnosis from
+        # the numbers alone is never certain
+        "confidence": min(math.floor(float(conf) * 1000 + 1e-9) / 1000, 0.999),
         "explanation": "",
         "location": ctx.location(cand.row),
     }
@@ -566,15 +570,16 @@ def _suggestion(
         ]
     remaining = _errors_and_warnings(out)
     n_before = len(before)
+    stated = sug["confidence"]
     if held:
         lead = "Possibly"
-    elif conf >= 0.8:
+    elif stated >= 0.8:
         lead = "Almost certainly"
-    elif conf >= 0.5:
+    elif stated >= 0.5:
         lead = "Probably"
     else:
         lead = "Possibly (the evidence does not single out one fix)"
-    text = f"{lead} {cand.label} [{cand.kind}, confidence {confidence(conf)}]."
+    text = f"{lead} {cand.label} [{cand.kind}, confidence {confidence(stated)}]."
     if n_before:
         text += (
             f" With that fixed, {len(cleared)} of the {n_before} error(s) and warning(s) on "

@@ -6,6 +6,8 @@ carries (methods IUPAC, MATTHEWS, CRC, in that order)."""
 import numpy as np
 import pytest
 from compilations import _complete, perry, wagner
+from hypothesis import given
+from hypothesis import strategies as st
 from refdata import table_from_rows
 
 from vpaudit.auditing import audit_table
@@ -82,3 +84,65 @@ def test_a_second_reference_tc_that_the_range_meets_names_the_first_to_doubt():
         assert got[2] == len(base) + 1 + more.index(crc)  # the CRC row
         assert "669 K (Tc via chemicals, method CRC)" in got[3]
         assert "other reference 684.75 K (Tc via chemicals, method YAWS)" in got[3]
+
+
+def test_a_second_evaluation_of_the_critical_point_that_the_curve_meets_is_taken():
+    """Perry's cyclohexane (110-82-7; via chemicals) reaches its critical point at 553.8 K.
+    The IUPAC critical constants chemicals carries for it, 532.7 K and 3.79 MPa, are not
+    cyclohexane's (the CRC's are 553.4 K and 4.07 MPa; from memory, cyclohexane's critical
+    point is near 553.6 K and 4.07 MPa). Held to the IUPAC pair alone, the curve draws a
+    critical-pressure-mismatch note; given both evaluations, in either order, it is judged
+    by the one it meets and draws none (before, the first reference row decided)."""
+    from chemicals import Pc, Tc
+
+    records, refs = _table(perry)
+    sub = "110-82-7"
+    recs = [r for r in records if r["substance"] == sub]
+    mine = [r for r in refs if r["substance"] == sub]
+    others = [r for r in mine if r["quantity"] not in ("critical_temperature", "critical_pressure")]
+
+    def pair(method):
+        return [
+            {
+                "substance": sub,
+                "quantity": q,
+                "value": float(fn(sub, method=method)),
+                "unit": u,
+                "source": f"{what} via chemicals, method {method}",
+            }
+            for q, fn, u, what in (
+                ("critical_temperature", Tc, "K", "Tc"),
+                ("critical_pressure", Pc, "Pa", "Pc"),
+            )
+        ]
+
+    iupac, crc = pair("IUPAC"), pair("CRC")
+    assert [r["value"] for r in iupac] == [532.7, 3.79e6]
+    assert [r["value"] for r in crc] == [553.4, 4.07e6]
+
+    def found(more):
+        result = audit_table(
+            table_from_rows(recs, others + more),
+            diagnose=False,
+            only=["critical-pressure-mismatch"],
+        )
+        return [(f.severity.value, f.evidence["critical_pressure_Pa"]) for f in result.findings]
+
+    assert found(iupac) == [("note", 3.79e6)]
+    assert found(crc) == []
+    assert found(iupac + crc) == found(crc + iupac) == []
+
+
+@given(
+    st.lists(st.tuples(st.integers(0, 4), st.integers(0, 5)), max_size=12, unique=True),
+    st.lists(st.tuples(st.integers(0, 4), st.integers(0, 5)), max_size=12, unique=True),
+)
+def test_every_pairing_of_two_references_is_each_records_product(a, b):
+    # (record, reference row) pairs of two quantities, as a join gives them (each once)
+    from vpaudit.checks.critical import _every_pairing
+
+    i, j = np.array(a, dtype=np.int64).reshape(-1, 2).T
+    i2, k2 = np.array(b, dtype=np.int64).reshape(-1, 2).T
+    rows, jj, kk = _every_pairing(i, j, i2, k2)
+    expected = sorted((r, x, y) for r, x in a for r2, y in b if r == r2)
+    assert list(zip(rows.tolist(), jj.tolist(), kk.tolist(), strict=True)) == expected

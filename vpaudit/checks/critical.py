@@ -358,40 +358,66 @@ class CriticalResiduals(NamedTuple):
 
 
 def critical_residuals(ctx: AuditContext) -> CriticalResiduals | None:
-    """The residual of every liquid record whose range ends within ``reach`` of the
-    reference Tc (below it, or beyond it) and whose substance has a reference Pc; None when
-    there is none.
+    """The residual of every liquid record whose range ends within ``reach`` of a reference
+    Tc (below it, or beyond it) and whose substance has a reference Pc; None when there is
+    none.
 
     The curve is compared at Tc, or at its own range end (a Wagner record's own Tc) when that
     is lower: ln P(t) - ln Pc, less what moving Tc within its uncertainty explains (the
     reference's stated uncertainty, else the relative ``tc_uncertainty``, times the slope).
+    A substance with several reference values of Tc or Pc (several sources) is compared
+    with each pairing of them, and each record is judged by the pairing it meets best, the
+    first in the references table on a tie: a record is never held to one evaluation of
+    the critical point while another allows it (values of Tc that disagree are named by
+    ``reference-contradicted``).
     """
     th = ctx.thresholds("critical-pressure-mismatch")
-    tc = ctx.reference("critical_temperature")
-    pc = ctx.reference("critical_pressure")
+    tcs = ctx.references_of("critical_temperature")
+    pcs = ctx.references_of("critical_pressure")
     c = ctx.curves
+    liquid = ctx.evaluable & ctx.liquid
     with np.errstate(invalid="ignore"):
-        end = np.fmin(c.t_max, c.own_t_crit)  # a Wagner curve stops at its own Tc
-        near = (
-            ctx.evaluable
-            & ctx.liquid
-            & np.isfinite(tc)
-            & (pc > 0)
-            & (end >= (1.0 - th["reach"]) * tc)
-            & (tc > c.t_min)
-        )
-    rows = np.flatnonzero(near)
+        i, j = match(np.where(liquid, ctx.codes, -1), np.where(tcs.value > 0, tcs.codes, -1))
+        i2, k2 = match(np.where(liquid, ctx.codes, -1), np.where(pcs.value > 0, pcs.codes, -1))
+    rows, j, k = _every_pairing(i, j, i2, k2)
+    tc = tcs.value[j]
+    with np.errstate(invalid="ignore"):
+        end = np.fmin(c.t_max, c.own_t_crit)[rows]  # a Wagner curve stops at its own Tc
+        near = (end >= (1.0 - th["reach"]) * tc) & (tc > c.t_min[rows])
+    rows, j, k, tc, end = rows[near], j[near], k[near], tc[near], end[near]
     if rows.size == 0:
         return None
-    cr = c.take(rows)
-    t = np.minimum(tc[rows], end[rows])
-    y, y1, _ = evaluate(cr, t, order=1)
-    d = y - np.log(pc[rows])
-    u_tc = ctx.reference_uncertainty("critical_temperature", rows)
-    u_tc = np.where(np.isfinite(u_tc), u_tc, th["tc_uncertainty"] * tc[rows])
+    pc = pcs.value[k]
+    t = np.minimum(tc, end)
+    y, y1, _ = evaluate(c.take(rows), t, order=1)
+    d = y - np.log(pc)
+    u_tc = tcs.uncertainty[j]
+    u_tc = np.where(np.isfinite(u_tc), u_tc, th["tc_uncertainty"] * tc)
     slack = np.abs(y1) * u_tc
     residual = np.sign(d) * np.maximum(np.abs(d) - slack, 0.0)
-    return CriticalResiduals(rows, t, tc[rows], pc[rows], d, slack, residual)
+    # each record's best pairing (a NaN residual last), the first in table order on a tie
+    order = np.lexsort((k, j, np.abs(residual), rows))
+    best = order[np.unique(rows[order], return_index=True)[1]]
+    return CriticalResiduals(
+        rows[best], t[best], tc[best], pc[best], d[best], slack[best], residual[best]
+    )
+
+
+def _every_pairing(
+    i: np.ndarray, j: np.ndarray, i2: np.ndarray, k2: np.ndarray
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Every (record, j, k) for which (record, j) is in the pairs (``i``, ``j``) and
+    (record, k) in (``i2``, ``k2``): each record's references of one quantity paired with
+    each of another, ordered by record, then ``j``, then ``k``.
+    """
+    order = np.lexsort((k2, i2))
+    i2, k2 = i2[order], k2[order]
+    order = np.lexsort((j, i))
+    i, j = i[order], j[order]
+    lo = np.searchsorted(i2, i, side="left")
+    n = np.searchsorted(i2, i, side="right") - lo
+    at = np.repeat(lo - (np.cumsum(n) - n), n) + np.arange(int(n.sum()))
+    return np.repeat(i, n), np.repeat(j, n), k2[at]
 
 
 @check(
@@ -441,6 +467,8 @@ def critical_pressure_mismatch(ctx: AuditContext, th: dict[str, float]):
     slope. Beyond ``tolerance`` the two evaluations of the critical point disagree more than
     independent evaluations of Pc usually do, a note that may as well concern the
     reference; beyond ``error_above``, more than they ever do in the comparison, an error.
+    A table that keeps several sources' Tc or Pc has each pairing of them tried, and the
+    record is judged by the evaluation of the critical point it meets best.
     """
     got = critical_residuals(ctx)
     if got is None:

@@ -146,3 +146,24 @@ def test_every_pairing_of_two_references_is_each_records_product(a, b):
     rows, jj, kk = _every_pairing(i, j, i2, k2)
     expected = sorted((r, x, y) for r, x in a for r2, y in b if r == r2)
     assert list(zip(rows.tolist(), jj.tolist(), kk.tolist(), strict=True)) == expected
+
+
+def test_a_finding_among_several_evaluations_names_the_pairing_it_was_judged_by():
+    """Perry's cyclohexanone (108-94-1; via chemicals) with every method's Tc that chemicals
+    carries (tests/_support/compilations.py::every_boiling_point) and the IUPAC Pc: the
+    note names how many pairings were tried and the sources of the one judged."""
+    from compilations import every_boiling_point
+
+    records, refs = _table(perry)
+    sub = "108-94-1"
+    recs = [r for r in records if r["substance"] == sub]
+    mine = every_boiling_point([r for r in refs if r["substance"] == sub], "critical_temperature")
+    result = audit_table(
+        table_from_rows(recs, mine), diagnose=False, only=["critical-pressure-mismatch"]
+    )
+    (f,) = result.findings
+    assert f.severity.value == "note"
+    assert "Of the substance's 2 pairings of a reference Tc with a reference Pc" in f.message
+    assert f.message.endswith(
+        "(Tc: Tc via chemicals, method PINAMARTINES; Pc: Pc via chemicals, method IUPAC)."
+    )

@@ -355,6 +355,9 @@ class CriticalResiduals(NamedTuple):
     d: np.ndarray  # ln P(t) - ln Pc
     slack: np.ndarray  # what Tc's own uncertainty explains of d, through the slope [ln P]
     residual: np.ndarray  # d beyond the slack, signed [ln P]
+    tc_ref: np.ndarray  # the row of that Tc in the references table
+    pc_ref: np.ndarray  # the row of that Pc
+    pairings: np.ndarray  # how many pairings of reference Tc and Pc the record was compared with
 
 
 def critical_residuals(ctx: AuditContext) -> CriticalResiduals | None:
@@ -397,9 +400,19 @@ def critical_residuals(ctx: AuditContext) -> CriticalResiduals | None:
     residual = np.sign(d) * np.maximum(np.abs(d) - slack, 0.0)
     # each record's best pairing (a NaN residual last), the first in table order on a tie
     order = np.lexsort((k, j, np.abs(residual), rows))
-    best = order[np.unique(rows[order], return_index=True)[1]]
+    _, first, pairings = np.unique(rows[order], return_index=True, return_counts=True)
+    best = order[first]
     return CriticalResiduals(
-        rows[best], t[best], tc[best], pc[best], d[best], slack[best], residual[best]
+        rows[best],
+        t[best],
+        tc[best],
+        pc[best],
+        d[best],
+        slack[best],
+        residual[best],
+        tcs.rows[j[best]],
+        pcs.rows[k[best]],
+        pairings,
     )
 
 
@@ -500,6 +513,14 @@ def critical_pressure_mismatch(ctx: AuditContext, th: dict[str, float]):
                 if error
                 else "more than independent evaluations of Pc usually differ: the record or "
                 "the reference may be off; check both against their sources."
+            )
+            + (
+                f" Of the substance's {got.pairings[k]} pairings of a reference Tc with a "
+                "reference Pc, this is the one the curve meets best (Tc: "
+                f"{ctx.reference_row_at(int(got.tc_ref[k]))[0]}; Pc: "
+                f"{ctx.reference_row_at(int(got.pc_ref[k]))[0]})."
+                if got.pairings[k] > 1
+                else ""
             ),
             {
                 "at_K": got.t[k],

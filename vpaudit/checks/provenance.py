@@ -128,7 +128,10 @@ def duplicate_record(ctx: AuditContext, th: dict[str, float]):
 #: Reference quantities of which every value is weighed: a substance may have several.
 _EVERY_VALUE_WEIGHED = frozenset({"normal_boiling_point"})
 #: Reference quantities of which some checks weigh every value (and the others the first).
-_SOME_CHECKS_WEIGH = {"critical_temperature": "above-critical"}
+_SOME_CHECKS_WEIGH = {
+    "critical_temperature": "above-critical and critical-pressure-mismatch also weigh",
+    "critical_pressure": "critical-pressure-mismatch also weighs",
+}
 
 
 @check(
@@ -142,9 +145,10 @@ _SOME_CHECKS_WEIGH = {"critical_temperature": "above-critical"}
 )
 def reference_not_used(ctx: AuditContext, th: dict[str, float]):
     """Every value of a normal boiling point is weighed (each liquid against the one it
-    meets best; ``reference-contradicted`` names a value the records contradict), and
-    ``above-critical`` weighs every critical temperature. Otherwise the checks use the first
-    value per substance; when a later one differs, this note names both, at the later
+    meets best; ``reference-contradicted`` names a value the records contradict),
+    ``above-critical`` weighs every critical temperature, and ``critical-pressure-mismatch``
+    every pairing of a critical temperature with a critical pressure. Otherwise the checks
+    use the first value per substance; when a later one differs, this note names both, at the later
     value's own file and line, so that a steward can keep the right one first or remove
     the other.
     """
@@ -175,7 +179,7 @@ def reference_not_used(ctx: AuditContext, th: dict[str, float]):
                 f"{used[2]}), which the checks use, and {refs['value'].iat[r]:g} "
                 f"{refs['unit'].iat[r]} ({source}) here, "
                 + (
-                    f"which only {_SOME_CHECKS_WEIGH[str(quantity)]} also weighs"
+                    f"which only {_SOME_CHECKS_WEIGH[str(quantity)]}"
                     if str(quantity) in _SOME_CHECKS_WEIGH
                     else "which they do not use"
                 )

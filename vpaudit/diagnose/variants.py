@@ -9,8 +9,10 @@ from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
+import pyarrow as pa
+import pyarrow.compute as pc
 
-from .._columns import TEXT
+from .._columns import TEXT, text_series
 from ..checks._context import LN_P_STANDARD, AuditContext, match, same_key_pairs
 from ..checks._registry import REGISTRY, Severity
 from ..checks.boiling import boiling_residuals
@@ -77,33 +79,62 @@ def _groups(codes: np.ndarray, wanted=None) -> dict[int, np.ndarray]:
 _TEXT_FIELDS = ("phase", "log_base", "pressure_unit", "temperature_unit")
 
 
+def _arrow_text(column: pd.Series) -> pa.ChunkedArray | pa.Array:
+    """A text column (Arrow-backed, a categorical of the original file, or objects as a
+    store gives them) as Arrow strings, without a Python object per cell where it is
+    Arrow-backed or a categorical.
+    """
+    if isinstance(column.dtype, pd.CategoricalDtype):
+        return pa.array(column).dictionary_decode().cast(pa.string())
+    if column.dtype != TEXT:  # a table from a store: object columns
+        column = column.astype(TEXT)
+    return column.array.__arrow_array__()
+
+
+def _with_cells(column: pd.Series, at: np.ndarray, values: list) -> pd.Series:
+    """``column`` as Arrow text with the cells ``at`` (distinct rows) set to ``values``
+    (text or None).
+    """
+    mask = np.zeros(len(column), dtype=bool)
+    mask[at] = True
+    order = np.argsort(at, kind="stable")  # the replacements in the order of the rows
+    new = pa.array([values[i] for i in order.tolist()], type=pa.string())
+    return text_series(pc.replace_with_mask(_arrow_text(column), pa.array(mask), new))
+
+
+def _replicate(frame: pd.DataFrame, codes: np.ndarray, unit_codes: np.ndarray, names: pa.Array):
+    """The rows of each unit's substance, unit after unit (each substance's rows in table
+    order), with the unit's index as its substance (``names``: each index as text); and
+    where each of those rows stands among its substance's rows.
+
+    Returns (frame, rows per unit, {table row: its place among its substance's rows}).
+    """
+    wanted = np.unique(unit_codes)
+    rows = np.flatnonzero(np.isin(codes, wanted))
+    order = rows[np.argsort(codes[rows], kind="stable")]
+    sc = codes[order]
+    lo = np.searchsorted(sc, unit_codes, side="left")
+    sizes = np.searchsorted(sc, unit_codes, side="right") - lo
+    starts = np.cumsum(sizes) - sizes
+    idx = order[np.repeat(lo - starts, sizes) + np.arange(int(sizes.sum()))]
+    out = frame.iloc[idx].reset_index(drop=True)
+    out["substance"] = text_series(names.take(np.repeat(np.arange(unit_codes.size), sizes)))
+    place = np.arange(order.size) - np.searchsorted(sc, sc, side="left")
+    return out, sizes, dict(zip(order.tolist(), place.tolist(), strict=True))
+
+
 def _variant_table(
     table: Table, ctx: AuditContext, units: list[tuple[int, tuple[Change, ...]]]
 ) -> Table:
     """One table holding every unit (a substance code and the changes applied to it) as its
     own substance, named by the unit's index.
     """
-    wanted = {code for code, _ in units}
-    rec_g = _groups(ctx.codes, wanted)
-    ref_g = _groups(ctx.ref_codes, wanted)
-    pt_g = _groups(ctx.point_codes, wanted)
-    empty = np.empty(0, dtype=np.int64)
-
-    def replicate(frame: pd.DataFrame, groups) -> tuple[pd.DataFrame, np.ndarray]:
-        """The rows of each unit's substance, unit after unit; and how many each unit has."""
-        parts = [groups.get(code, empty) for code, _ in units]
-        sizes = np.array([p.size for p in parts], dtype=np.int64)
-        idx = np.concatenate(parts) if parts else empty
-        out = frame.iloc[idx].reset_index(drop=True)
-        unit_of = np.repeat(np.arange(len(units)), sizes)
-        out["substance"] = pd.Series(unit_of.astype(str), dtype=TEXT)
-        return out, sizes
-
-    recs, sizes = replicate(table.records, rec_g)
+    unit_codes = np.fromiter((code for code, _ in units), dtype=np.int64, count=len(units))
+    names = pa.array(np.arange(len(units)).astype(str))
+    recs, sizes, place = _replicate(table.records, ctx.codes, unit_codes, names)
     # where each change lands: its unit's first row, plus the changed row's place among the
     # rows of its substance
     starts = np.concatenate(([0], np.cumsum(sizes))).tolist()
-    place = {int(r): k for rows in rec_g.values() for k, r in enumerate(rows.tolist())}
     edits: dict[str, list[tuple[int, object, str | None]]] = defaultdict(list)
     for u, (_, changes) in enumerate(units):
         for ch in changes:
@@ -111,23 +142,19 @@ def _variant_table(
     for field, items in edits.items():
         at = np.array([i for i, _, _ in items], dtype=np.int64)
         if field in _TEXT_FIELDS:
-            col = recs[field].astype(object).to_numpy(copy=True)
-            col[at] = [v for _, v, _ in items]
-            recs[field] = pd.Series(col, dtype=TEXT)
+            recs[field] = _with_cells(recs[field], at, [v for _, v, _ in items])
         else:
             col = recs[field].to_numpy(dtype=float, copy=True)
             col[at] = [float(v) for _, v, _ in items]  # type: ignore[arg-type]
             recs[field] = col
-            txt = recs[field + "_text"].astype(object).to_numpy(copy=True)
-            txt[at] = [t for _, _, t in items]
-            recs[field + "_text"] = pd.Series(txt, dtype=TEXT)
+            recs[field + "_text"] = _with_cells(recs[field + "_text"], at, [t for _, _, t in items])
     for field in _TEXT_FIELDS:  # categoricals of the original file cannot take new values
         if isinstance(recs[field].dtype, pd.CategoricalDtype):
-            recs[field] = recs[field].astype(object).astype(TEXT)
+            recs[field] = text_series(_arrow_text(recs[field]))
     recs["file"] = text_categorical(np.zeros(len(recs), dtype=np.int8), ["<variant>"])
     recs["line"] = np.arange(1, len(recs) + 1, dtype=np.int64)
-    refs, _ = replicate(table.references, ref_g)
-    pts, _ = replicate(table.points, pt_g)
+    refs = _replicate(table.references, ctx.ref_codes, unit_codes, names)[0]
+    pts = _replicate(table.points, ctx.point_codes, unit_codes, names)[0]
     out = _Collector()
     raw = RawFrame("<variant>", list(recs.columns), {}, recs["line"].tolist())
     _record_rules(recs, raw, out)

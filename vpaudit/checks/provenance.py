@@ -148,9 +148,9 @@ def reference_not_used(ctx: AuditContext, th: dict[str, float]):
     meets best; ``reference-contradicted`` names a value the records contradict),
     ``above-critical`` weighs every critical temperature, and ``critical-pressure-mismatch``
     every pairing of a critical temperature with a critical pressure. Otherwise the checks
-    use the first value per substance; when a later one differs, this note names both, at the later
-    value's own file and line, so that a steward can keep the right one first or remove
-    the other.
+    use the first value per substance; when a later one differs, this note names both, at
+    the later value's own file and line, so that a steward can keep the right one first or
+    remove the other.
     """
     refs = ctx.table.references
     if not len(refs):

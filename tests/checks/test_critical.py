@@ -167,3 +167,56 @@ def test_a_finding_among_several_evaluations_names_the_pairing_it_was_judged_by(
     assert f.message.endswith(
         "(Tc: Tc via chemicals, method PINAMARTINES; Pc: Pc via chemicals, method IUPAC)."
     )
+
+
+def test_a_reference_pc_that_two_sources_miss_while_they_meet_another_is_named():
+    """p-cresol (106-44-5): Perry's and McGarry's curves (via chemicals) both give 5.15 MPa
+    at Tc, which is the YAWS critical pressure chemicals carries; the IUPAC value it carries
+    is 4.07 MPa (from memory, p-cresol's critical pressure is near 5.15 MPa). Given both
+    evaluations, in either order, reference-contradicted names the IUPAC value at its own
+    line, beside the one the curves meet, and neither curve draws critical-pressure-mismatch.
+    """
+    from chemicals import Pc, Tc
+
+    sub = "106-44-5"
+    recs, others = [], []
+    for build in (perry, wagner):
+        records, refs = _table(build)
+        recs += [r for r in records if r["substance"] == sub]
+        others = [
+            r
+            for r in refs
+            if r["substance"] == sub
+            and r["quantity"] not in ("critical_temperature", "critical_pressure")
+        ]
+    assert len(recs) == 2
+
+    def pair(method):
+        return [
+            {
+                "substance": sub,
+                "quantity": q,
+                "value": float(fn(sub, method=method)),
+                "unit": u,
+                "source": f"{what} via chemicals, method {method}",
+            }
+            for q, fn, u, what in (
+                ("critical_temperature", Tc, "K", "Tc"),
+                ("critical_pressure", Pc, "Pa", "Pc"),
+            )
+        ]
+
+    iupac, yaws = pair("IUPAC"), pair("YAWS")
+    assert [r["value"] for r in iupac] == [704.6, 4.07e6]
+    assert [r["value"] for r in yaws] == [704.65, 5.15e6]
+    for more in (iupac + yaws, yaws + iupac):
+        result = audit_table(
+            table_from_rows(recs, others + more),
+            diagnose=False,
+            only=["reference-contradicted", "critical-pressure-mismatch"],
+        )
+        (f,) = result.findings
+        assert (f.check, f.severity.value) == ("reference-contradicted", "warning")
+        assert f.line == len(others) + 1 + more.index(iupac[1])  # the IUPAC Pc's own line
+        assert "critical pressure 4.07e+06 Pa (Pc via chemicals, method IUPAC)" in f.message
+        assert "other reference 5.15e+06 Pa (Pc via chemicals, method YAWS)" in f.message

@@ -406,8 +406,9 @@ def boiling_point_mismatch(ctx: AuditContext, th: dict[str, float]):
     Severity.warning,
     Scope.sources,
     "Several sources of a substance agree with each other and not with its reference normal "
-    "boiling point, or its records meet another reference value (of the boiling point or "
-    "the critical temperature) and not this one: the reference looks wrong, not the records.",
+    "boiling point, or its records meet another reference value (of the boiling point, "
+    "the critical temperature or the critical pressure) and not this one: the reference "
+    "looks wrong, not the records.",
     "Reference values in compilations are not all right; independent sources that agree "
     "outweigh one value from another evaluation.",
 )
@@ -423,13 +424,16 @@ def reference_contradicted(ctx: AuditContext, th: dict[str, float]):
     the reference the records meet, and the records draw no error (each is judged against
     the reference it meets best). So is a reference critical temperature that a liquid's
     range passes while another reference value of the substance allows it
-    (:func:`vpaudit.checks.critical.contradicted_critical_temperatures`).
+    (:func:`vpaudit.checks.critical.contradicted_critical_temperatures`), and a reference
+    critical pressure that the liquids reaching Tc miss while they meet another
+    (:func:`vpaudit.checks.critical.contradicted_critical_pressures`).
     """
     # imported here: importing it at the top would register its checks before these
-    from .critical import contradicted_critical_temperatures
+    from .critical import contradicted_critical_pressures, contradicted_critical_temperatures
 
     yield from _contradicted_boiling_points(ctx)
     yield from contradicted_critical_temperatures(ctx)
+    yield from contradicted_critical_pressures(ctx)
 
 
 def _contradicted_boiling_points(ctx: AuditContext):

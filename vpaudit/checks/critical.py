@@ -343,6 +343,55 @@ def contradicted_critical_temperatures(ctx: AuditContext):
         )
 
 
+def contradicted_critical_pressures(ctx: AuditContext):
+    """Hits of ``reference-contradicted`` for the reference critical pressures that no
+    liquid reaching Tc meets (under any pairing with a reference Tc), while those liquids
+    meet another reference value of the substance: the curves side with the other value,
+    and two evaluations of Pc disagree.
+    """
+    got = _every_comparison(ctx)
+    if got is None or np.unique(got.pc_ref).size == np.unique(ctx.ref_codes[got.pc_ref]).size:
+        return  # one reference Pc per substance: nothing to weigh
+    tol = ctx.thresholds("critical-pressure-mismatch")["tolerance"]
+    with np.errstate(invalid="ignore"):
+        met = np.abs(got.residual) <= tol
+    refs = ctx.table.references
+    value = refs["value_si"].to_numpy(dtype=float)
+    for r in np.unique(got.pc_ref).tolist():
+        here = got.pc_ref == r
+        if met[here].any():
+            continue
+        k = np.unique(got.rows[here])  # the liquids compared with it
+        meets = met & np.isin(got.rows, k)
+        if not meets.any():
+            continue
+        other = int(got.pc_ref[meets][0])
+        by = np.unique(got.rows[meets & (got.pc_ref == other)])
+        ids = tuple(ctx.id(x) for x in by.tolist())
+        miss = np.abs(got.d[here & np.isin(got.rows, by)])
+        source, file, line = ctx.reference_row_at(r)
+        other_source = ctx.reference_row_at(other)[0]
+        one = len(ids) == 1
+        yield Hit(
+            int(by[0]),
+            f"the reference critical pressure {pressure(value[r])} ({source}) disagrees with "
+            f"the substance's other reference {pressure(value[other])} ({other_source}): at "
+            f"the critical point the curve{'' if one else 's'} of {', '.join(ids)} "
+            f"meet{'s' if one else ''} that one and miss{'es' if one else ''} this one by "
+            f"{ln_ratio(float(np.min(miss)))}{'' if one else ' or more'}. The reference "
+            f"value {pressure(value[r])} looks wrong, or the record's source used the other: "
+            "check both against their sources.",
+            {
+                "critical_pressure_Pa": float(value[r]),
+                "other_critical_pressure_Pa": float(value[other]),
+                "difference_lnP": float(np.min(miss)),
+            },
+            records=ids,
+            file=file,
+            line=line,
+        )
+
+
 class CriticalResiduals(NamedTuple):
     """The liquid records whose range reaches the reference critical temperature, and how
     far their curve passes from the reference critical point.
@@ -360,19 +409,10 @@ class CriticalResiduals(NamedTuple):
     pairings: np.ndarray  # how many pairings of reference Tc and Pc the record was compared with
 
 
-def critical_residuals(ctx: AuditContext) -> CriticalResiduals | None:
-    """The residual of every liquid record whose range ends within ``reach`` of a reference
-    Tc (below it, or beyond it) and whose substance has a reference Pc; None when there is
-    none.
-
-    The curve is compared at Tc, or at its own range end (a Wagner record's own Tc) when that
-    is lower: ln P(t) - ln Pc, less what moving Tc within its uncertainty explains (the
-    reference's stated uncertainty, else the relative ``tc_uncertainty``, times the slope).
-    A substance with several reference values of Tc or Pc (several sources) is compared
-    with each pairing of them, and each record is judged by the pairing it meets best, the
-    first in the references table on a tie: a record is never held to one evaluation of
-    the critical point while another allows it (values of Tc that disagree are named by
-    ``reference-contradicted``).
+def _every_comparison(ctx: AuditContext) -> CriticalResiduals | None:
+    """Every comparison of :func:`critical_residuals`: each liquid record whose range
+    reaches a reference Tc, with each pairing of a reference Tc and Pc of its substance
+    (rows ordered by record, then Tc row, then Pc row); None when there is none.
     """
     th = ctx.thresholds("critical-pressure-mismatch")
     tcs = ctx.references_of("critical_temperature")
@@ -398,22 +438,32 @@ def critical_residuals(ctx: AuditContext) -> CriticalResiduals | None:
     u_tc = np.where(np.isfinite(u_tc), u_tc, th["tc_uncertainty"] * tc)
     slack = np.abs(y1) * u_tc
     residual = np.sign(d) * np.maximum(np.abs(d) - slack, 0.0)
+    one = np.ones(rows.size, dtype=np.int64)
+    return CriticalResiduals(rows, t, tc, pc, d, slack, residual, tcs.rows[j], pcs.rows[k], one)
+
+
+def critical_residuals(ctx: AuditContext) -> CriticalResiduals | None:
+    """The residual of every liquid record whose range ends within ``reach`` of a reference
+    Tc (below it, or beyond it) and whose substance has a reference Pc; None when there is
+    none.
+
+    The curve is compared at Tc, or at its own range end (a Wagner record's own Tc) when that
+    is lower: ln P(t) - ln Pc, less what moving Tc within its uncertainty explains (the
+    reference's stated uncertainty, else the relative ``tc_uncertainty``, times the slope).
+    A substance with several reference values of Tc or Pc (several sources) is compared
+    with each pairing of them, and each record is judged by the pairing it meets best, the
+    first in the references table on a tie: a record is never held to one evaluation of
+    the critical point while another allows it (values of Tc that disagree are named by
+    ``reference-contradicted``).
+    """
+    got = _every_comparison(ctx)
+    if got is None:
+        return None
     # each record's best pairing (a NaN residual last), the first in table order on a tie
-    order = np.lexsort((k, j, np.abs(residual), rows))
-    _, first, pairings = np.unique(rows[order], return_index=True, return_counts=True)
+    order = np.lexsort((got.pc_ref, got.tc_ref, np.abs(got.residual), got.rows))
+    _, first, pairings = np.unique(got.rows[order], return_index=True, return_counts=True)
     best = order[first]
-    return CriticalResiduals(
-        rows[best],
-        t[best],
-        tc[best],
-        pc[best],
-        d[best],
-        slack[best],
-        residual[best],
-        tcs.rows[j[best]],
-        pcs.rows[k[best]],
-        pairings,
-    )
+    return CriticalResiduals(*(x[best] for x in got[:-1]), pairings)
 
 
 def _every_pairing(

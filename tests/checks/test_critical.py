@@ -22,6 +22,26 @@ def _table(build):
     return records, refs
 
 
+def _critical_point(sub: str, method: str) -> list[dict]:
+    """The critical temperature and pressure of ``sub`` by one method of chemicals, as two
+    reference rows, the method named in their source."""
+    from chemicals import Pc, Tc
+
+    return [
+        {
+            "substance": sub,
+            "quantity": q,
+            "value": float(fn(sub, method=method)),
+            "unit": u,
+            "source": f"{what} via chemicals, method {method}",
+        }
+        for q, fn, u, what in (
+            ("critical_temperature", Tc, "K", "Tc"),
+            ("critical_pressure", Pc, "Pa", "Pc"),
+        )
+    ]
+
+
 @pytest.mark.parametrize("build", [perry, wagner])
 def test_no_clean_real_equation_draws_an_error(build):
     # measured: Perry's 240 records whose range reaches Tc miss the reference Pc, after
@@ -93,30 +113,13 @@ def test_a_second_evaluation_of_the_critical_point_that_the_curve_meets_is_taken
     point is near 553.6 K and 4.07 MPa). Held to the IUPAC pair alone, the curve draws a
     critical-pressure-mismatch note; given both evaluations, in either order, it is judged
     by the one it meets and draws none (before, the first reference row decided)."""
-    from chemicals import Pc, Tc
-
     records, refs = _table(perry)
     sub = "110-82-7"
     recs = [r for r in records if r["substance"] == sub]
     mine = [r for r in refs if r["substance"] == sub]
     others = [r for r in mine if r["quantity"] not in ("critical_temperature", "critical_pressure")]
 
-    def pair(method):
-        return [
-            {
-                "substance": sub,
-                "quantity": q,
-                "value": float(fn(sub, method=method)),
-                "unit": u,
-                "source": f"{what} via chemicals, method {method}",
-            }
-            for q, fn, u, what in (
-                ("critical_temperature", Tc, "K", "Tc"),
-                ("critical_pressure", Pc, "Pa", "Pc"),
-            )
-        ]
-
-    iupac, crc = pair("IUPAC"), pair("CRC")
+    iupac, crc = _critical_point(sub, "IUPAC"), _critical_point(sub, "CRC")
     assert [r["value"] for r in iupac] == [532.7, 3.79e6]
     assert [r["value"] for r in crc] == [553.4, 4.07e6]
 
@@ -176,8 +179,6 @@ def test_a_reference_pc_that_two_sources_miss_while_they_meet_another_is_named()
     evaluations, in either order, reference-contradicted names the IUPAC value at its own
     line, beside the one the curves meet, and neither curve draws critical-pressure-mismatch.
     """
-    from chemicals import Pc, Tc
-
     sub = "106-44-5"
     recs, others = [], []
     for build in (perry, wagner):
@@ -191,22 +192,7 @@ def test_a_reference_pc_that_two_sources_miss_while_they_meet_another_is_named()
         ]
     assert len(recs) == 2
 
-    def pair(method):
-        return [
-            {
-                "substance": sub,
-                "quantity": q,
-                "value": float(fn(sub, method=method)),
-                "unit": u,
-                "source": f"{what} via chemicals, method {method}",
-            }
-            for q, fn, u, what in (
-                ("critical_temperature", Tc, "K", "Tc"),
-                ("critical_pressure", Pc, "Pa", "Pc"),
-            )
-        ]
-
-    iupac, yaws = pair("IUPAC"), pair("YAWS")
+    iupac, yaws = _critical_point(sub, "IUPAC"), _critical_point(sub, "YAWS")
     assert [r["value"] for r in iupac] == [704.6, 4.07e6]
     assert [r["value"] for r in yaws] == [704.65, 5.15e6]
     for more in (iupac + yaws, yaws + iupac):

@@ -7,6 +7,7 @@ array code.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from functools import cached_property
 from typing import TYPE_CHECKING, NamedTuple
 
@@ -321,6 +322,24 @@ class AuditContext:
         """(source, file, line) of reference row ``row``."""
         refs = self.table.references
         return str(refs["source"].iat[row]), str(refs["file"].iat[row]), int(refs["line"].iat[row])
+
+    def reference_disagreement(
+        self, words: str, row: int, other: int, fmt: Callable[[float], str]
+    ) -> tuple[str, str, int]:
+        """The opening of a ``reference-contradicted`` message about reference row ``row``
+        (a ``words``, such as "critical pressure", written by ``fmt``), which the records
+        contradict while they meet reference row ``other``; and the file and line of
+        ``row``, where the finding stands.
+        """
+        value = self.table.references["value_si"]
+        source, file, line = self.reference_row_at(row)
+        return (
+            f"the reference {words} {fmt(float(value.iat[row]))} ({source}) disagrees with the "
+            f"substance's other reference {fmt(float(value.iat[other]))} "
+            f"({self.reference_row_at(other)[0]}): ",
+            file,
+            line,
+        )
 
     def reference_uncertainty(self, quantity: str, rows: np.ndarray | None = None) -> np.ndarray:
         """The stated absolute uncertainty (SI units) of the reference ``quantity`` for the

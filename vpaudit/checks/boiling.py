@@ -493,15 +493,13 @@ def _contradicted_by_another_reference(ctx: AuditContext, got: BoilingResiduals)
         by = np.isin(k, pairs.k[meets & (pairs.ref == other)])
         ids = tuple(ctx.id(got.rows[j]) for j in k[by])
         miss = pairs.d[here][by]
-        source, file, line = ctx.reference_row_at(r)
-        other_source = ctx.reference_row_at(other)[0]
+        opening, file, line = ctx.reference_disagreement("normal boiling point", r, other, kelvin)
         worst = float(miss[np.argmax(np.abs(miss))])
         one = len(ids) == 1
         yield Hit(
             int(got.rows[k[by][0]]),
-            f"the reference normal boiling point {kelvin(value[r])} ({source}) disagrees "
-            f"with the substance's other reference {kelvin(value[other])} ({other_source}): "
-            f"the liquid record{'' if one else 's'} {', '.join(ids)} meet{'s' if one else ''} "
+            opening
+            + f"the liquid record{'' if one else 's'} {', '.join(ids)} meet{'s' if one else ''} "
             f"that one and miss{'es' if one else ''} this one by "
             f"{'' if one else 'up to '}{ln_ratio(worst)}. The reference value "
             f"{kelvin(value[r])} looks wrong, not the record{'' if one else 's'}: check it "

@@ -320,15 +320,12 @@ def contradicted_critical_temperatures(ctx: AuditContext):
         other = int(got.pair_ref[meets][0])
         by = np.unique(got.k[meets & (got.pair_ref == other)])
         ids = tuple(ctx.id(x) for x in by.tolist())
-        source, file, line = ctx.reference_row_at(r)
-        other_source = ctx.reference_row_at(other)[0]
+        opening, file, line = ctx.reference_disagreement("critical temperature", r, other, kelvin)
         one = len(ids) == 1
         t_max = ctx.curves.t_max[by]
         yield Hit(
             int(by[0]),
-            f"the reference critical temperature {kelvin(value[r])} ({source}) disagrees "
-            f"with the substance's other reference {kelvin(value[other])} ({other_source}): "
-            f"the range{'' if one else 's'} of {', '.join(ids)} "
+            opening + f"the range{'' if one else 's'} of {', '.join(ids)} "
             f"end{'s' if one else ''} at {kelvin(float(t_max.max()))}, above this one and "
             f"within that one. The reference value {kelvin(value[r])} looks wrong, or the "
             "record's source used the other: check both against their sources.",
@@ -369,14 +366,11 @@ def contradicted_critical_pressures(ctx: AuditContext):
         by = np.unique(got.rows[meets & (got.pc_ref == other)])
         ids = tuple(ctx.id(x) for x in by.tolist())
         miss = np.abs(got.d[here & np.isin(got.rows, by)])
-        source, file, line = ctx.reference_row_at(r)
-        other_source = ctx.reference_row_at(other)[0]
+        opening, file, line = ctx.reference_disagreement("critical pressure", r, other, pressure)
         one = len(ids) == 1
         yield Hit(
             int(by[0]),
-            f"the reference critical pressure {pressure(value[r])} ({source}) disagrees with "
-            f"the substance's other reference {pressure(value[other])} ({other_source}): at "
-            f"the critical point the curve{'' if one else 's'} of {', '.join(ids)} "
+            opening + f"at the critical point the curve{'' if one else 's'} of {', '.join(ids)} "
             f"meet{'s' if one else ''} that one and miss{'es' if one else ''} this one by "
             f"{ln_ratio(float(np.min(miss)))}{'' if one else ' or more'}. The reference "
             f"value {pressure(value[r])} looks wrong, or the record's source used the other: "

@@ -323,6 +323,19 @@ class AuditContext:
         refs = self.table.references
         return str(refs["source"].iat[row]), str(refs["file"].iat[row]), int(refs["line"].iat[row])
 
+    def contradicted_candidates(self, ref: np.ndarray, met: np.ndarray) -> list[int]:
+        """The reference rows that ``reference-contradicted`` may name, from comparisons of
+        records with reference rows ``ref`` (``met``: whether each comparison meets its
+        reference): rows compared but never met, whose substance has a reference that some
+        comparison meets. The caller confirms each with the records themselves.
+        """
+        n_refs = len(self.table.references)
+        met_any = np.bincount(ref, weights=met, minlength=n_refs) > 0
+        tried = np.bincount(ref, minlength=n_refs) > 0
+        met_codes = np.zeros(self.n_names + 1, dtype=bool)  # the last: no substance
+        met_codes[self.ref_codes[met_any]] = True
+        return np.flatnonzero(tried & ~met_any & met_codes[self.ref_codes]).tolist()
+
     def reference_disagreement(
         self, words: str, row: int, other: int, fmt: Callable[[float], str]
     ) -> tuple[str, str, int]:

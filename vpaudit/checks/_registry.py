@@ -169,9 +169,8 @@ def check(
         For a check whose error says the curve itself is physically impossible (a pressure
         that cannot be represented or that no real curve comes down to, a slope that is not
         positive or flatter than any real curve), which clean real equations all but never
-        draw: the diagnosis weighs such
-        an error left unexplained more heavily than others (``impossible_cost`` of
-        :data:`vpaudit.diagnose.CALIBRATION`).
+        draw: the diagnosis weighs such an error left unexplained more heavily than others
+        (``impossible_cost`` of :data:`vpaudit.diagnose.CALIBRATION`).
     """
 
     def register(func):

@@ -478,14 +478,8 @@ def _contradicted_by_another_reference(ctx: AuditContext, got: BoilingResiduals)
     pairs = got.pairs
     if pairs.k.size == got.rows.size:  # one reference per substance: nothing to weigh
         return
-    refs = ctx.table.references
-    value = refs["value_si"].to_numpy(dtype=float)
-    n_refs = len(refs)
-    met_any = np.bincount(pairs.ref, weights=pairs.met, minlength=n_refs) > 0
-    tried = np.bincount(pairs.ref, minlength=n_refs) > 0
-    met_codes = np.zeros(ctx.n_names + 1, dtype=bool)  # the last: no substance
-    met_codes[ctx.ref_codes[met_any]] = True
-    for r in np.flatnonzero(tried & ~met_any & met_codes[ctx.ref_codes]).tolist():
+    value = ctx.table.references["value_si"].to_numpy(dtype=float)
+    for r in ctx.contradicted_candidates(pairs.ref, pairs.met):
         here = pairs.ref == r
         k = pairs.k[here]  # the records of its substance, and how they miss it
         meets = pairs.met & np.isin(pairs.k, k) & (pairs.ref != r)

@@ -105,9 +105,9 @@ def _with_cells(column: pd.Series, at: np.ndarray, values: list) -> pd.Series:
 def _replicate(frame: pd.DataFrame, codes: np.ndarray, unit_codes: np.ndarray, names: pa.Array):
     """The rows of each unit's substance, unit after unit (each substance's rows in table
     order), with the unit's index as its substance (``names``: each index as text); and
-    where each of those rows stands among its substance's rows.
+    each of those substances' rows with its place among them.
 
-    Returns (frame, rows per unit, {table row: its place among its substance's rows}).
+    Returns (frame, rows per unit, the rows of the units' substances, their places).
     """
     wanted = np.unique(unit_codes)
     rows = np.flatnonzero(np.isin(codes, wanted))
@@ -119,8 +119,7 @@ def _replicate(frame: pd.DataFrame, codes: np.ndarray, unit_codes: np.ndarray, n
     idx = order[np.repeat(lo - starts, sizes) + np.arange(int(sizes.sum()))]
     out = frame.iloc[idx].reset_index(drop=True)
     out["substance"] = text_series(names.take(np.repeat(np.arange(unit_codes.size), sizes)))
-    place = np.arange(order.size) - np.searchsorted(sc, sc, side="left")
-    return out, sizes, dict(zip(order.tolist(), place.tolist(), strict=True))
+    return out, sizes, order, np.arange(order.size) - np.searchsorted(sc, sc, side="left")
 
 
 def _variant_table(
@@ -131,9 +130,10 @@ def _variant_table(
     """
     unit_codes = np.fromiter((code for code, _ in units), dtype=np.int64, count=len(units))
     names = pa.array(np.arange(len(units)).astype(str))
-    recs, sizes, place = _replicate(table.records, ctx.codes, unit_codes, names)
+    recs, sizes, rows, places = _replicate(table.records, ctx.codes, unit_codes, names)
     # where each change lands: its unit's first row, plus the changed row's place among the
     # rows of its substance
+    place = dict(zip(rows.tolist(), places.tolist(), strict=True))
     starts = np.concatenate(([0], np.cumsum(sizes))).tolist()
     edits: dict[str, list[tuple[int, object, str | None]]] = defaultdict(list)
     for u, (_, changes) in enumerate(units):

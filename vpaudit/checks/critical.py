@@ -48,6 +48,23 @@ __all__ = ["CriticalResiduals", "critical_residuals"]
             "relative margin beyond Tc within which, past the tolerance, it is a warning "
             "that may concern the reference (the 99th percentile of Tc evaluations)",
         ),
+        Threshold(
+            "compilations_max",
+            0.08,
+            "-",
+            "relative margin beyond a reference Tc within which a range that ends at a "
+            "critical point of its own (see compilations_ln_pc) is a warning: the 99th "
+            "percentile of the Tc differences between a compilation (Yaws) and an evaluation "
+            "(CRC), 676 substances via chemicals",
+        ),
+        Threshold(
+            "compilations_ln_pc",
+            0.32,
+            "ln P",
+            "largest |ln P(t_max) - ln Pc| of a reference Pc for which the range's end is a "
+            "critical point of its own: the 99th percentile of the Pc differences between "
+            "the same two, 649 substances",
+        ),
     ),
     tiers={"reference-doubted": Severity.warning},
 )
@@ -70,6 +87,19 @@ def above_critical(ctx: AuditContext, th: dict[str, float]):
     range that ends where another source of the substance puts its own Tc (a Wagner
     equation's, within the tolerance) is a warning naming the reference: two sources agree
     against it. A reference Tc below the whole range is named as the likely culprit.
+
+    Compilations carry critical constants of their own, and they differ from evaluated
+    ones far more than evaluations differ among themselves (Yaws against CRC: 5 % in Tc
+    and 0.17 in ln Pc at the 95th percentile, 8 % and 0.32 at the 99th). A compilation's
+    range stated as Tmin..Tc then ends past the reference Tc, with the curve passing near
+    the reference critical point on its way: Perry's vinyl chloride ends at 432 K and 5.75
+    MPa, Yaws's critical point, against IUPAC's 429 K and 5.3 MPa. So when the reference
+    Tc states no uncertainty and the curve's end is itself a critical point within those
+    99th percentiles of the reference (``compilations_max`` in T, ``compilations_ln_pc``
+    in ln P against the reference Pc nearest it), two evaluations of the critical point
+    disagree on where the curve ends: a warning that says so. A slip that carries a curve
+    past its critical point moves its pressure there by far more (a lost sign, a wrong
+    unit: several units of ln P).
     """
     own = ctx.curves.own_t_crit
     chosen = critical_references(ctx, th["tolerance"])
@@ -87,6 +117,7 @@ def above_critical(ctx: AuditContext, th: dict[str, float]):
     disputed = np.flatnonzero(bad & ~below & ~np.isfinite(own))
     sides = _critical_pressure_sides(ctx, disputed, ref)
     others = _own_tc_at_range_end(ctx, disputed, th["tolerance"])
+    rival = _rival_critical_point(ctx, disputed[~np.isfinite(u[disputed])], ref, th)
     for i in np.flatnonzero(bad):
         if below[i]:
             yield _implausible_tc(ctx, i, ref[i], int(ref_row[i]))
@@ -96,6 +127,9 @@ def above_critical(ctx: AuditContext, th: dict[str, float]):
             continue
         if i in others:
             yield _outvoted_tc(ctx, i, ref[i], int(ref_row[i]), *others[i])
+            continue
+        if i in rival:
+            yield _rival_tc(ctx, i, ref[i], int(ref_row[i]), *rival[i], th)
             continue
         whose = "the record's own" if np.isfinite(own[i]) else "the reference"
         doubted = False
@@ -229,6 +263,70 @@ def _outvoted_tc(ctx: AuditContext, row: int, tc: float, ref_row: int, other: in
         tier="reference-doubted",
         file=file,
         line=line,
+    )
+
+
+def _rival_critical_point(ctx: AuditContext, rows: np.ndarray, tc_ref: np.ndarray, th: dict):
+    """For the records in ``rows`` whose range ends above the reference Tc ``tc_ref`` (per
+    record): those whose range end is a critical point of its own within the spread of
+    compilations' critical constants, ``compilations_max`` above the reference Tc and
+    ``compilations_ln_pc`` in ln P from the substance's reference Pc nearest the curve's
+    end (the first in table order on a tie). Returns {row: (ln P(t_max), Pc, Pc's
+    reference row)}.
+    """
+    if rows.size == 0:
+        return {}
+    with np.errstate(invalid="ignore"):
+        near = ctx.curves.t_max[rows] <= tc_ref[rows] * (1.0 + th["compilations_max"])
+    rows = rows[near]
+    pcs = ctx.references_of("critical_pressure")
+    i, j = match(ctx.codes[rows], np.where(np.isfinite(pcs.value), pcs.codes, -1))
+    if i.size == 0:
+        return {}
+    c = ctx.curves.take(rows)
+    y_end = evaluate(c, c.t_max, order=0)[0]
+    with np.errstate(invalid="ignore", divide="ignore"):
+        miss = np.abs(y_end[i] - np.log(pcs.value[j]))
+    order = np.lexsort((j, miss, i))  # per record, the nearest Pc, the first on a tie
+    first = order[np.unique(i[order], return_index=True)[1]]
+    out = {}
+    for k in first.tolist():
+        if miss[k] <= th["compilations_ln_pc"]:
+            out[int(rows[i[k]])] = (float(y_end[i[k]]), float(pcs.value[j[k]]), int(pcs.rows[j[k]]))
+    return out
+
+
+def _rival_tc(
+    ctx: AuditContext, row: int, tc: float, tc_row: int, y_end: float, pc: float, pc_row: int, th
+):
+    """``above-critical`` for a range that ends at a critical point of its own, near the
+    reference's (:func:`_rival_critical_point`): a warning that two evaluations of the
+    critical point disagree.
+    """
+    tc_source = ctx.reference_row_at(tc_row)[0]
+    pc_source = ctx.reference_row_at(pc_row)[0]
+    t_max = float(ctx.curves.t_max[row])
+    d = y_end - float(np.log(pc))
+    return Hit(
+        row,
+        f"the range ends at {kelvin(t_max)}, {(t_max / tc - 1.0) * 100:.2g} % above the "
+        f"reference critical temperature {kelvin(tc)} ({tc_source}), where the curve gives "
+        f"{pressure_at_ln(y_end, np.exp(y_end), 4)}, {ln_ratio(d)} {'above' if d > 0 else 'below'} "
+        f"the reference critical "
+        f"pressure {pressure(pc)} ({pc_source}). The range's end is thus a critical point "
+        "of its own, within how far a compilation's critical constants differ from an "
+        f"evaluation's (99th percentile: {th['compilations_max'] * 100:g} % in Tc, "
+        f"{th['compilations_ln_pc']:g} in ln Pc): the record's source and the reference "
+        "disagree on where the curve ends. Check both against their sources.",
+        {
+            "t_max_K": t_max,
+            "critical_temperature_K": float(tc),
+            "critical_pressure_Pa": float(pc),
+            "ln_p_at_range_end": y_end,
+            "difference_lnP": d,
+            "residual_K": t_max - float(tc),
+        },
+        tier="reference-doubted",
     )
 
 

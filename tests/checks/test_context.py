@@ -6,6 +6,8 @@ import dataclasses
 
 import numpy as np
 import pytest
+from hypothesis import given
+from hypothesis import strategies as st
 from refdata import alcock_table
 
 import vpaudit.checks._context as context
@@ -230,3 +232,51 @@ def test_jobs_1_hashes_the_codes_on_this_thread(monkeypatch):
     two = context.AuditContext(table, Policy(), THREADED)
     assert started
     assert np.array_equal(one.codes, two.codes) and one.n_names == two.n_names > 30
+
+
+@given(
+    st.lists(
+        st.tuples(st.integers(0, 3), st.floats(100.0, 1000.0, allow_nan=False)),
+        max_size=12,
+    )
+)
+def test_a_reference_median_is_each_substances_median_in_any_order(values):
+    """reference_median against numpy's median per substance, and unchanged when the rows of
+    the references come in the reverse order (invented values)."""
+    from refdata import table_from_rows
+
+    records = [
+        {
+            "id": f"r{i}",
+            "substance": f"s{i}",
+            "phase": "liquid",
+            "form": "two-term",
+            "A": 20.0,
+            "B": -4000.0,
+            "t_min": 300.0,
+            "t_max": 400.0,
+            "log_base": "e",
+            "pressure_unit": "Pa",
+            "source": "invented for this test",
+        }
+        for i in range(4)
+    ]
+    refs = [
+        {
+            "substance": f"s{i}",
+            "quantity": "critical_temperature",
+            "value": v,
+            "unit": "K",
+            "source": f"invented {k}",
+        }
+        for k, (i, v) in enumerate(values)
+    ]
+    for rows in (refs, refs[::-1]):
+        ctx = context.AuditContext(table_from_rows(records, rows), Policy())
+        got = ctx.reference_median("critical_temperature")
+        for i in range(4):
+            mine = [v for s, v in values if s == i]
+            if mine:
+                assert got[i] == pytest.approx(np.median(mine), rel=1e-12)
+            else:
+                assert np.isnan(got[i])

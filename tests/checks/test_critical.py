@@ -266,3 +266,49 @@ def test_a_reference_pc_that_two_sources_miss_while_they_meet_another_is_named()
         assert f.line == len(others) + 1 + more.index(iupac[1])  # the IUPAC Pc's own line
         assert "critical pressure 4.07e+06 Pa (Pc via chemicals, method IUPAC)" in f.message
         assert "other reference 5.15e+06 Pa (Pc via chemicals, method YAWS)" in f.message
+
+
+def test_two_evaluations_of_the_critical_point_give_the_same_findings_in_either_order():
+    """Perry's first 120 liquids (via chemicals) with the critical constants of two methods,
+    CRC and YAWS, where chemicals has both, and the CRC enthalpy of vaporization at the
+    normal boiling point (chemicals Hvap_data_CRC): every check gives the same findings
+    whichever method's rows come first. The critical checks weigh every value; the 0.7 Tc
+    limit of the dCp checks and the virial correction of enthalpy-mismatch take the median
+    (before, the first row: a different dCp range and delta_Z with the other order)."""
+    from chemicals import Pc, Tc
+    from chemicals.phase_change import Hvap_data_CRC as crc_hvap
+
+    records, refs = perry(120)
+    records = [r for r in records if _complete(r)]
+    base = [r for r in refs if "critical" not in r["quantity"]]
+    both, hvap = [], []
+    for sub in sorted({r["substance"] for r in records}):
+        if all(Tc(sub, method=m) and Pc(sub, method=m) for m in ("CRC", "YAWS")):
+            both.append([_critical_point(sub, m) for m in ("CRC", "YAWS")])
+        if sub in crc_hvap.index and np.isfinite(crc_hvap.loc[sub, "HvapTb"]):
+            hvap.append(
+                {
+                    "substance": sub,
+                    "quantity": "enthalpy_of_vaporization",
+                    "value": float(crc_hvap.loc[sub, "HvapTb"]),
+                    "unit": "J/mol",
+                    "at_temperature": float(crc_hvap.loc[sub, "Tb"]),
+                    "source": "Hvap via chemicals, CRC",
+                }
+            )
+    assert len(both) > 60 and len(hvap) > 40
+    differ = sum(a[0]["value"] != b[0]["value"] or a[1]["value"] != b[1]["value"] for a, b in both)
+    assert differ > 20  # the two methods disagree for many of them
+
+    def found(first: int):
+        crit = [r for pair in both for r in pair[first] + pair[1 - first]]
+        result = audit_table(table_from_rows(records, base + hvap + crit), diagnose=False)
+        return sorted(
+            (f.check, f.records, f.severity.value, f.message, repr(sorted(f.evidence.items())))
+            for f in result.findings
+            if f.check != "reference-contradicted"  # names the row it doubts, at its line
+        )
+
+    forward, backward = found(0), found(1)
+    assert any(f[0] == "enthalpy-mismatch" for f in forward)
+    assert forward == backward

@@ -92,6 +92,7 @@ class AuditContext:
         self.antoine = eq(rec["form"], "antoine")
         self.curves: Curves = curves_from_frame(rec)
         self._name_cache: dict[int, str] = {}
+        self._medians: dict[str, np.ndarray] = {}  # reference_median, per quantity
         lo, hi = self.curves.t_min, self.curves.t_max
         with np.errstate(invalid="ignore"):
             ok = np.isfinite(lo) & np.isfinite(hi) & (lo > 0) & (lo <= hi)
@@ -374,6 +375,27 @@ class AuditContext:
             return np.full(codes.shape, np.nan)
         return arr[codes]
 
+    def reference_median(self, quantity: str, rows: np.ndarray | None = None) -> np.ndarray:
+        """The median of every reference value of ``quantity`` (SI units) that the substance
+        of each record in ``rows`` has (all records by default; with two values, their
+        mean); NaN where the table has none. For the readers whose rule of thumb does not
+        depend on which evaluation is right (the near-ideal limit 0.7 Tc, a virial
+        correction), so that the order of the rows never decides; with one value per
+        substance it is that value.
+        """
+        arr = self._medians.get(quantity)
+        if arr is None:
+            refs = self.references_of(quantity)
+            ok = np.isfinite(refs.value)
+            c, v = refs.codes[ok], refs.value[ok]
+            order = np.lexsort((v, c))
+            c, v = c[order], v[order]
+            code, start, count = np.unique(c, return_index=True, return_counts=True)
+            arr = np.full(self.n_names, np.nan)
+            arr[code] = 0.5 * (v[start + (count - 1) // 2] + v[start + count // 2])
+            self._medians[quantity] = arr
+        return arr[self.codes if rows is None else self.codes[rows]]
+
     def reference_at(self, quantity: str, code: int) -> tuple[str, str | None, int | None]:
         """(source, file, line) of substance ``code``'s reference ``quantity`` (its first
         row), for a finding that names the reference; ("?", None, None) when there is none.
@@ -391,8 +413,10 @@ class AuditContext:
         return np.where(np.isnan(tm), ttp, tm)
 
     def critical_temperature(self) -> np.ndarray:
-        """Critical temperature per record: reference, else the Wagner record's own. [K]"""
-        tc = self.reference("critical_temperature")
+        """Critical temperature per record: the median of the substance's reference values
+        (:meth:`reference_median`), else the Wagner record's own. [K]
+        """
+        tc = self.reference_median("critical_temperature")
         if not self.any_critical:
             return tc  # all NaN
         own = self.curves.own_t_crit

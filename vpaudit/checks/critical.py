@@ -115,9 +115,10 @@ def above_critical(ctx: AuditContext, th: dict[str, float]):
         below = ~np.isfinite(own) & (ref + margin < ctx.curves.t_min)
     pc_known = np.isfinite(ctx.reference("critical_pressure"))
     disputed = np.flatnonzero(bad & ~below & ~np.isfinite(own))
-    sides = _critical_pressure_sides(ctx, disputed, ref)
+    end = _pressure_at_range_end(ctx, disputed)
+    sides = _critical_pressure_sides(ctx, end, ref)
     others = _own_tc_at_range_end(ctx, disputed, th["tolerance"])
-    rival = _rival_critical_point(ctx, disputed[~np.isfinite(u[disputed])], ref, th)
+    rival = _rival_critical_point(ctx, end, ref, u, th)
     for i in np.flatnonzero(bad):
         if below[i]:
             yield _implausible_tc(ctx, i, ref[i], int(ref_row[i]))
@@ -165,28 +166,54 @@ def above_critical(ctx: AuditContext, th: dict[str, float]):
         )
 
 
-def _critical_pressure_sides(ctx: AuditContext, rows: np.ndarray, tc_ref: np.ndarray) -> dict:
-    """For the records in ``rows`` whose range ends above a reference Tc and whose substance
-    has a reference critical pressure: where the curve itself reaches that Pc (T*, found up
-    to 10 % beyond its range). A range stated as Tmin..Tc ends at its own source's Tc, so a
-    curve that reaches the reference Pc nearer its own range end than the reference Tc sides
-    with its source: returns {row: (T*, Pc)} for those, which are a dispute between two
-    evaluations of Tc, not a range beyond the critical point.
+class _RangeEnds(NamedTuple):
+    """Records whose range ends above a reference Tc, each with the curve's ln P at its
+    range end and the substance's reference Pc nearest it (the first in table order on a
+    tie); only records whose substance has a reference Pc.
     """
-    if rows.size == 0:
-        return {}
-    pc = ctx.reference("critical_pressure", rows)
-    keep = np.isfinite(pc)
-    rows, pc = rows[keep], pc[keep]
-    if rows.size == 0:
-        return {}
+
+    rows: np.ndarray
+    y_end: np.ndarray  # ln P(t_max) [ln Pa]
+    pc: np.ndarray  # [Pa]
+    pc_row: np.ndarray  # its row of the references table
+
+
+def _pressure_at_range_end(ctx: AuditContext, rows: np.ndarray) -> _RangeEnds:
+    """:class:`_RangeEnds` of the records in ``rows``: every reference Pc of a substance is
+    weighed, so that the order of the rows never decides which one a range is held to.
+    """
+    pcs = ctx.references_of("critical_pressure")
+    i, j = match(ctx.codes[rows], np.where(np.isfinite(pcs.value), pcs.codes, -1))
+    if i.size == 0:
+        empty = np.empty(0, dtype=np.int64)
+        return _RangeEnds(empty, np.empty(0), np.empty(0), empty)
     c = ctx.curves.take(rows)
-    t_star = temperature_at(c, np.log(pc), c.t_min, 1.1 * c.t_max)
+    y_end = evaluate(c, c.t_max, order=0)[0]
+    with np.errstate(invalid="ignore", divide="ignore"):
+        miss = np.abs(y_end[i] - np.log(pcs.value[j]))
+    miss = np.where(np.isnan(miss), np.inf, miss)
+    order = np.lexsort((j, miss, i))  # per record the nearest Pc, the first on a tie
+    k = order[np.unique(i[order], return_index=True)[1]]
+    return _RangeEnds(rows[i[k]], y_end[i[k]], pcs.value[j[k]], pcs.rows[j[k]])
+
+
+def _critical_pressure_sides(ctx: AuditContext, end: _RangeEnds, tc_ref: np.ndarray) -> dict:
+    """For the records of ``end`` (ranges that end above the reference Tc ``tc_ref``, per
+    record): where the curve itself reaches the reference Pc nearest its range end (T*,
+    found up to 10 % beyond its range). A range stated as Tmin..Tc ends at its own source's
+    Tc, so a curve that reaches that Pc nearer its own range end than the reference Tc
+    sides with its source: returns {row: (T*, Pc)} for those, which are a dispute between
+    two evaluations of Tc, not a range beyond the critical point.
+    """
+    if end.rows.size == 0:
+        return {}
+    c = ctx.curves.take(end.rows)
+    t_star = temperature_at(c, np.log(end.pc), c.t_min, 1.1 * c.t_max)
     with np.errstate(invalid="ignore"):
-        own_side = np.abs(t_star - c.t_max) < np.abs(t_star - tc_ref[rows])
+        own_side = np.abs(t_star - c.t_max) < np.abs(t_star - tc_ref[end.rows])
     return {
         int(r): (float(t), float(p))
-        for r, t, p, ok in zip(rows, t_star, pc, own_side, strict=True)
+        for r, t, p, ok in zip(end.rows, t_star, end.pc, own_side, strict=True)
         if ok
     }
 
@@ -266,34 +293,26 @@ def _outvoted_tc(ctx: AuditContext, row: int, tc: float, ref_row: int, other: in
     )
 
 
-def _rival_critical_point(ctx: AuditContext, rows: np.ndarray, tc_ref: np.ndarray, th: dict):
-    """For the records in ``rows`` whose range ends above the reference Tc ``tc_ref`` (per
-    record): those whose range end is a critical point of its own within the spread of
-    compilations' critical constants, ``compilations_max`` above the reference Tc and
-    ``compilations_ln_pc`` in ln P from the substance's reference Pc nearest the curve's
-    end (the first in table order on a tie). Returns {row: (ln P(t_max), Pc, Pc's
-    reference row)}.
+def _rival_critical_point(
+    ctx: AuditContext, end: _RangeEnds, tc_ref: np.ndarray, tc_u: np.ndarray, th: dict
+) -> dict:
+    """For the records of ``end`` whose reference Tc (``tc_ref``, uncertainty ``tc_u``, per
+    record) states no uncertainty: those whose range end is a critical point of its own
+    within the spread of compilations' critical constants, ``compilations_max`` above the
+    reference Tc and ``compilations_ln_pc`` in ln P from the reference Pc nearest the
+    curve's end. Returns {row: (ln P(t_max), Pc, Pc's reference row)}.
     """
-    if rows.size == 0:
-        return {}
+    r = end.rows
     with np.errstate(invalid="ignore"):
-        near = ctx.curves.t_max[rows] <= tc_ref[rows] * (1.0 + th["compilations_max"])
-    rows = rows[near]
-    pcs = ctx.references_of("critical_pressure")
-    i, j = match(ctx.codes[rows], np.where(np.isfinite(pcs.value), pcs.codes, -1))
-    if i.size == 0:
-        return {}
-    c = ctx.curves.take(rows)
-    y_end = evaluate(c, c.t_max, order=0)[0]
-    with np.errstate(invalid="ignore", divide="ignore"):
-        miss = np.abs(y_end[i] - np.log(pcs.value[j]))
-    order = np.lexsort((j, miss, i))  # per record, the nearest Pc, the first on a tie
-    first = order[np.unique(i[order], return_index=True)[1]]
-    out = {}
-    for k in first.tolist():
-        if miss[k] <= th["compilations_ln_pc"]:
-            out[int(rows[i[k]])] = (float(y_end[i[k]]), float(pcs.value[j[k]]), int(pcs.rows[j[k]]))
-    return out
+        ok = (
+            ~np.isfinite(tc_u[r])
+            & (ctx.curves.t_max[r] <= tc_ref[r] * (1.0 + th["compilations_max"]))
+            & (np.abs(end.y_end - np.log(end.pc)) <= th["compilations_ln_pc"])
+        )
+    return {
+        int(r[k]): (float(end.y_end[k]), float(end.pc[k]), int(end.pc_row[k]))
+        for k in np.flatnonzero(ok).tolist()
+    }
 
 
 def _rival_tc(

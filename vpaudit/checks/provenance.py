@@ -126,12 +126,9 @@ def duplicate_record(ctx: AuditContext, th: dict[str, float]):
 
 
 #: Reference quantities of which every value is weighed: a substance may have several.
-_EVERY_VALUE_WEIGHED = frozenset({"normal_boiling_point"})
-#: Reference quantities of which some checks weigh every value (and the others the first).
-_SOME_CHECKS_WEIGH = {
-    "critical_temperature": "above-critical and critical-pressure-mismatch also weigh",
-    "critical_pressure": "critical-pressure-mismatch also weighs",
-}
+_EVERY_VALUE_WEIGHED = frozenset(
+    {"normal_boiling_point", "critical_temperature", "critical_pressure"}
+)
 
 
 @check(
@@ -145,12 +142,15 @@ _SOME_CHECKS_WEIGH = {
 )
 def reference_not_used(ctx: AuditContext, th: dict[str, float]):
     """Every value of a normal boiling point is weighed (each liquid against the one it
-    meets best; ``reference-contradicted`` names a value the records contradict),
-    ``above-critical`` weighs every critical temperature, and ``critical-pressure-mismatch``
-    every pairing of a critical temperature with a critical pressure. Otherwise the checks
-    use the first value per substance; when a later one differs, this note names both, at
-    the later value's own file and line, so that a steward can keep the right one first or
-    remove the other.
+    meets best; ``reference-contradicted`` names a value the records contradict), and so is
+    every value of a critical temperature and pressure: ``above-critical`` holds a range to
+    the critical temperature that allows it most and to the critical pressure nearest its
+    end, ``critical-pressure-mismatch`` tries every pairing of the two, and the rules of
+    thumb that read them (the near-ideal limit 0.7 Tc of the dCp checks, the virial
+    correction of ``enthalpy-mismatch``) take their medians. Otherwise the checks use the
+    first value per substance; when a later one differs, this note names both, at the later
+    value's own file and line, so that a steward can keep the right one first or remove the
+    other.
     """
     refs = ctx.table.references
     if not len(refs):
@@ -177,13 +177,8 @@ def reference_not_used(ctx: AuditContext, th: dict[str, float]):
                 f"the {what} of {refs['substance'].iat[r]} is given twice: "
                 f"{refs['value'].iat[r0]:g} {refs['unit'].iat[r0]} ({used[0]}, line "
                 f"{used[2]}), which the checks use, and {refs['value'].iat[r]:g} "
-                f"{refs['unit'].iat[r]} ({source}) here, "
-                + (
-                    f"which only {_SOME_CHECKS_WEIGH[str(quantity)]}"
-                    if str(quantity) in _SOME_CHECKS_WEIGH
-                    else "which they do not use"
-                )
-                + ". Keep the value you trust first, or remove the other.",
+                f"{refs['unit'].iat[r]} ({source}) here, which they do not use. Keep the "
+                "value you trust first, or remove the other.",
                 {"quantity": str(quantity), "used_line": used[2]},
                 substance=str(refs["substance"].iat[r]),
                 file=file,

@@ -574,10 +574,12 @@ def heat_capacity_magnitude(ctx: AuditContext, th: dict[str, float]):
 def _delta_z(ctx: AuditContext, rows: np.ndarray, t: np.ndarray, y: np.ndarray):
     """Z_vapour - Z_condensed estimated from a second-virial coefficient (Pitzer-Curl
     correlation in the Abbott form, B Pc/(R Tc) = B0 + omega B1), the condensed Z neglected;
-    NaN where Tc and Pc are not known. The acentric factor comes from the curve itself.
+    NaN where Tc and Pc are not known. The acentric factor comes from the curve itself. Tc
+    and Pc are the medians of the substance's reference values (a correction of a few per
+    cent, which the spread of evaluations moves by a few per cent of itself).
     """
     tc = ctx.critical_temperature()[rows]
-    pc = ctx.reference("critical_pressure", rows)
+    pc = ctx.reference_median("critical_pressure", rows)
     pc = np.where(np.isnan(pc), np.exp(ctx.curves.own_ln_p_crit[rows]), pc)  # else its own
     c = ctx.curves.take(rows)
     y07 = evaluate(c, 0.7 * tc, order=0)[0]

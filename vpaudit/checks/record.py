@@ -320,30 +320,25 @@ def enthalpy_implausible(ctx: AuditContext, th: dict[str, float]):
     together, a step across the band's slope (mmHg read as Pa: -40.7 J/(mol K) at a
     pressure 133 times lower, where the band's lower edge is higher): both leave the band.
     """
-    rows = np.flatnonzero(ctx.evaluable)
+    evaluable = np.flatnonzero(ctx.evaluable)
+    # in blocks of rows, so that the band's temporaries stay block-sized; then the few rows
+    # outside it once more, for their messages (the same arithmetic, row by row)
+    step = ctx.runtime.block_rows
+    found = [
+        part[_standard_entropy(ctx, th, part)[0]]
+        for part in (evaluable[a : a + step] for a in range(0, evaluable.size, step))
+    ]
+    rows = np.concatenate(found) if found else evaluable
     if rows.size == 0:
         return
-    c = ctx.curves if rows.size == ctx.n else ctx.curves.take(rows)  # no copy when all are
-    t_mid = 2.0 / (1.0 / c.t_min + 1.0 / c.t_max)
-    tb = ctx.reference("normal_boiling_point", rows)
-    use_tb = ctx.liquid[rows] & (tb >= c.t_min) & (tb <= c.t_max)
-    t = np.where(use_tb, tb, t_mid)
-    y, y1, _ = evaluate(c, t, order=1)
-    ds = R * t * y1 + R * (y - LN_P_STANDARD)
-    liquid = ctx.liquid[rows]
-    lo, hi = entropy_band(th, liquid, t, y - LN_P_STANDARD)
-    with np.errstate(invalid="ignore"):
-        # a curve with no finite value there is pressure-not-finite's (its range extrema)
-        bad = np.isfinite(ds) & ~((ds >= lo) & (ds <= hi))
+    _, liquid, t, y, y1, ds, lo, hi, use_tb = _standard_entropy(ctx, th, rows)
     hint = (
         " Usual causes: log10 coefficients read as ln or the reverse (dH off by a "
         "factor 2.3), or a wrong pressure unit (dS shifted by R ln of the factor)."
     )
-    sel = np.flatnonzero(bad)
-    ds, t, lo, hi = ds[sel], t[sel], lo[sel], hi[sel]
-    h = R * t**2 * y1[sel]
+    h = R * t**2 * y1
     with np.errstate(over="ignore", under="ignore"):
-        p = np.exp(y[sel])
+        p = np.exp(y)
     messages = [
         f"the implied entropy of {'vaporization' if is_liquid else 'sublimation'} referred to "
         f"the standard pressure, dS = dH/T + R ln(P/101325 Pa), is {jk(dsk)} at {kelvin(tk)} "
@@ -351,11 +346,11 @@ def enthalpy_implausible(ctx: AuditContext, th: dict[str, float]):
         f"{lok:.0f}..{hik:.0f} "
         f"J/(mol K){' at that pressure' if is_liquid else ''}.{hint}"
         for is_liquid, dsk, tk, hk, yk, pk, lok, hik in zip(
-            liquid[sel].tolist(),
+            liquid.tolist(),
             ds.tolist(),
             t.tolist(),
             h.tolist(),
-            y[sel].tolist(),
+            y.tolist(),
             p.tolist(),
             lo.tolist(),
             hi.tolist(),
@@ -363,7 +358,7 @@ def enthalpy_implausible(ctx: AuditContext, th: dict[str, float]):
         )
     ]
     yield Hits(
-        rows[sel],
+        rows,
         messages,
         {
             "entropy_J_per_mol_K": ds,
@@ -371,9 +366,31 @@ def enthalpy_implausible(ctx: AuditContext, th: dict[str, float]):
             "enthalpy_J_per_mol": h,
             "band_min": lo,
             "band_max": hi,
-            "at_boiling_point": use_tb[sel],
+            "at_boiling_point": use_tb,
         },
     )
+
+
+def _standard_entropy(ctx: AuditContext, th: dict[str, float], rows: np.ndarray):
+    """For the records ``rows``: (outside, liquid, T, ln P, d ln P/dT, dS, band low, band
+    high, at the boiling point) of :func:`enthalpy_implausible`: the standard entropy of the
+    phase change dS [J/(mol K)] at the reference normal boiling point where it lies in a
+    liquid's range, else at the middle of the range in 1/T [K], and whether it lies outside
+    its band (:func:`entropy_band`).
+    """
+    c = ctx.curves.take(rows)
+    t_mid = 2.0 / (1.0 / c.t_min + 1.0 / c.t_max)
+    tb = ctx.reference("normal_boiling_point", rows)
+    liquid = ctx.liquid[rows]
+    use_tb = liquid & (tb >= c.t_min) & (tb <= c.t_max)
+    t = np.where(use_tb, tb, t_mid)
+    y, y1, _ = evaluate(c, t, order=1)
+    ds = R * t * y1 + R * (y - LN_P_STANDARD)
+    lo, hi = entropy_band(th, liquid, t, y - LN_P_STANDARD)
+    with np.errstate(invalid="ignore"):
+        # a curve with no finite value there is pressure-not-finite's (its range extrema)
+        outside = np.isfinite(ds) & ~((ds >= lo) & (ds <= hi))
+    return outside, liquid, t, y, y1, ds, lo, hi, use_tb
 
 
 def entropy_band(

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from functools import cached_property
-from typing import TYPE_CHECKING, NamedTuple
+from typing import TYPE_CHECKING, Any, NamedTuple
 
 import numpy as np
 import pandas as pd
@@ -92,7 +92,7 @@ class AuditContext:
         self.antoine = eq(rec["form"], "antoine")
         self.curves: Curves = curves_from_frame(rec)
         self._name_cache: dict[int, str] = {}
-        self._medians: dict[str, np.ndarray] = {}  # reference_median, per quantity
+        self._memo: dict[tuple, Any] = {}  # products several checks read: memo()
         lo, hi = self.curves.t_min, self.curves.t_max
         with np.errstate(invalid="ignore"):
             ok = np.isfinite(lo) & np.isfinite(hi) & (lo > 0) & (lo <= hi)
@@ -157,12 +157,13 @@ class AuditContext:
         return equation_hashes(self)
 
     def drop_shared(self) -> None:
-        """Forget the range extrema and the pairs (a few hundred bytes per record); they
-        are computed again if asked for.
+        """Forget the range extrema, the pairs (a few hundred bytes per record) and what
+        :meth:`memo` keeps; they are computed again if asked for.
         """
         self.__dict__.pop("range_extrema", None)
         self.__dict__.pop("pairs", None)
         self.__dict__.pop("melting_slopes", None)
+        self._memo.clear()
         self._melting = None
 
     def rows_of(self, files, lines) -> np.ndarray:
@@ -383,18 +384,29 @@ class AuditContext:
         correction), so that the order of the rows never decides; with one value per
         substance it is that value.
         """
-        arr = self._medians.get(quantity)
-        if arr is None:
-            refs = self.references_of(quantity)
-            ok = np.isfinite(refs.value)
-            c, v = refs.codes[ok], refs.value[ok]
-            order = np.lexsort((v, c))
-            c, v = c[order], v[order]
-            code, start, count = np.unique(c, return_index=True, return_counts=True)
-            arr = np.full(self.n_names, np.nan)
-            arr[code] = 0.5 * (v[start + (count - 1) // 2] + v[start + count // 2])
-            self._medians[quantity] = arr
+        arr = self.memo(("reference median", quantity), lambda: self._median_of(quantity))
         return arr[self.codes if rows is None else self.codes[rows]]
+
+    def _median_of(self, quantity: str) -> np.ndarray:
+        """:meth:`reference_median` per substance code, computed."""
+        refs = self.references_of(quantity)
+        ok = np.isfinite(refs.value)
+        c, v = refs.codes[ok], refs.value[ok]
+        order = np.lexsort((v, c))
+        c, v = c[order], v[order]
+        code, start, count = np.unique(c, return_index=True, return_counts=True)
+        arr = np.full(self.n_names, np.nan)
+        arr[code] = 0.5 * (v[start + (count - 1) // 2] + v[start + count // 2])
+        return arr
+
+    def memo(self, key: tuple, compute: Callable[[], Any]) -> Any:
+        """``compute()`` the first time ``key`` is asked for, its result after: for a
+        product of this table that several checks read (a module's private helper keys it
+        by its own name); :meth:`drop_shared` forgets them.
+        """
+        if key not in self._memo:
+            self._memo[key] = compute()
+        return self._memo[key]
 
     def reference_at(self, quantity: str, code: int) -> tuple[str, str | None, int | None]:
         """(source, file, line) of substance ``code``'s reference ``quantity`` (its first

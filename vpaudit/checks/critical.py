@@ -520,8 +520,14 @@ class CriticalResiduals(NamedTuple):
 def _every_comparison(ctx: AuditContext) -> CriticalResiduals | None:
     """Every comparison of :func:`critical_residuals`: each liquid record whose range
     reaches a reference Tc, with each pairing of a reference Tc and Pc of its substance
-    (rows ordered by record, then Tc row, then Pc row); None when there is none.
+    (rows ordered by record, then Tc row, then Pc row); None when there is none. Made once
+    per table (``critical-pressure-mismatch`` and ``reference-contradicted`` both read it).
     """
+    return ctx.memo(("critical comparisons",), lambda: _compare_every(ctx))
+
+
+def _compare_every(ctx: AuditContext) -> CriticalResiduals | None:
+    """:func:`_every_comparison`, computed."""
     th = ctx.thresholds("critical-pressure-mismatch")
     tcs = ctx.references_of("critical_temperature")
     pcs = ctx.references_of("critical_pressure")

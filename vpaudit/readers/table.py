@@ -137,6 +137,10 @@ class _Collector:
         self.errors.append(TableError(message, Location(raw.path, line, column)))
 
 
+#: Stands for an absent text column until the frame is made (:func:`frame_from_raw`).
+_ABSENT_TEXT = object()
+
+
 def _text_column(raw: RawFrame, name: str, default: str | None = None) -> pa.Array:
     """The cells of a text column as an Arrow string array, null (or ``default``) where
     empty.
@@ -145,7 +149,7 @@ def _text_column(raw: RawFrame, name: str, default: str | None = None) -> pa.Arr
     n = len(raw)
     if values is None:  # an absent column: one value throughout, without a list of cells
         if default is None:
-            return pa.nulls(n, pa.string())
+            return _ABSENT_TEXT  # frame_from_raw gives every such column one null array
         return pa.repeat(pa.scalar(default, pa.string()), n)
     arr = (
         values
@@ -195,9 +199,9 @@ def _parse_numbers(
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Parse one numeric column; returns values, their text, and the missing mask."""
     cells = raw.cells.get(name)
-    if cells is None:
+    if cells is None:  # absent: NaN throughout, held by one read-only value, no array
         n = len(raw)
-        return np.full(n, np.nan), pa.nulls(n, pa.string()), np.ones(n, dtype=bool)
+        return np.broadcast_to(np.float64(np.nan), (n,)), _ABSENT_TEXT, np.ones(n, dtype=bool)
     values, missing, invalid, texts = parse_number_texts(cells)
     texts = texts.to_pylist() if invalid.any() and normalize else texts
     for i in np.flatnonzero(invalid):
@@ -268,6 +272,8 @@ def _column(raw: RawFrame, col: _Col, normalize: bool) -> tuple[dict[str, object
         cats = [col.default] if col.default is not None else []
         fill = 0 if cats else -1
         return {col.name: text_categorical(np.full(n, fill, dtype=np.int8), cats)}, out
+    if not present:  # its default throughout, or null (one array for all such columns)
+        return {col.name: _text_column(raw, col.name, col.default)}, out
     arr = _text_column(raw, col.name, col.default)
     none = _np(pc.is_null(arr))
     if col.required and present:
@@ -338,6 +344,10 @@ def frame_from_raw(
         data.update(entries)
         out.errors.extend(local.errors)
         out.rewrites.extend(local.rewrites)
+    # the absent text columns (and the text of absent numbers) share one null array
+    if any(v is _ABSENT_TEXT for v in data.values()):
+        nulls = pa.nulls(n, pa.string())
+        data = {k: nulls if v is _ABSENT_TEXT else v for k, v in data.items()}
     data["file"] = text_categorical(np.zeros(n, dtype=np.int8), [raw.path])
     data["line"] = np.asarray(raw.lines, dtype=np.int64)
     # copy=False keeps one block per column: no consolidation copy of the numbers

@@ -11,7 +11,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from ..equations.engine import Curves, bracketed_root, evaluate
+from ..equations.engine import LOG_LINEAR, Curves, bracketed_root, evaluate
 from ..runtime import SharedBlocks
 from .joins import same_key_pairs
 
@@ -184,7 +184,7 @@ def crossings(
     """
     x_hi = (1.0 + w) / anchor
     x_lo = 1.0 / (anchor * (1.0 + w))
-    simple, diff = _difference_curves(cs, cl)
+    simple, joint, diff = _difference_curves(cs, cl)
     d_a, d_b, d_c = (np.ascontiguousarray(diff.params[:, i]) for i in range(3))
     k = anchor.size
     count = np.zeros(k, dtype=np.int64)
@@ -212,7 +212,7 @@ def crossings(
         count[slow], significant[slow], lo_b[slow], hi_b[slow] = _scan_crossings(
             cs.take(slow),
             cl.take(slow),
-            simple[slow],
+            joint[slow],
             diff.take(slow),
             x_lo[slow],
             x_hi[slow],
@@ -374,28 +374,35 @@ def newton_from_end(a, b, c, start, other, iterations: int = 40, xtol: float = 1
     return x
 
 
-def _difference_curves(cs: Curves, cl: Curves) -> tuple[np.ndarray, Curves]:
-    """Where both curves are log-linear without a D term, y_s - y_l is itself such a curve
-    (A, B, C subtract): returns that mask and the difference curves (zeros elsewhere).
+def _difference_curves(cs: Curves, cl: Curves) -> tuple[np.ndarray, np.ndarray, Curves]:
+    """Where both curves are log-linear, with at most one D T^E term between them or the
+    same exponent E in both, y_s - y_l is itself a log-linear curve (A, B, C and D
+    subtract). Returns where both have no D term (``simple``: a closed form), where the
+    difference is such a curve (``joint``), and the difference curves (zeros elsewhere).
     """
     simple = cs.plain & cl.plain
-    d = np.zeros_like(cs.params)
-    d[simple, :3] = cs.params[simple, :3] - cl.params[simple, :3]
-    return simple, Curves(np.zeros_like(cs.family), d, cs.t_min, cs.t_max)
+    ps, pl = cs.params, cl.params
+    log_linear = (cs.family == LOG_LINEAR) & (cl.family == LOG_LINEAR)
+    one_d = (ps[:, 3] == 0) | (pl[:, 3] == 0) | (ps[:, 4] == pl[:, 4])
+    joint = log_linear & one_d
+    d = np.zeros_like(ps)
+    d[joint, :4] = ps[joint, :4] - pl[joint, :4]
+    d[joint, 4] = np.where(ps[joint, 3] != 0, ps[joint, 4], pl[joint, 4])
+    return simple, joint, Curves(np.zeros_like(cs.family), d, cs.t_min, cs.t_max)
 
 
 def _difference(
-    cs: Curves, cl: Curves, simple: np.ndarray, diff: Curves, ts: np.ndarray
+    cs: Curves, cl: Curves, joint: np.ndarray, diff: Curves, ts: np.ndarray
 ) -> np.ndarray:
     """y_s - y_l at ``ts`` (one row per pair), one evaluation where the difference is itself
-    a log-linear curve (``simple``).
+    a log-linear curve (``joint``).
     """
-    if simple.all():
+    if joint.all():
         return ln_p_rows(diff, ts)
     f = np.empty(ts.shape)
-    if simple.any():
-        f[simple] = ln_p_rows(diff.take(simple), ts[simple])
-    rest = ~simple
+    if joint.any():
+        f[joint] = ln_p_rows(diff.take(joint), ts[joint])
+    rest = ~joint
     f[rest] = ln_p_rows(cs.take(rest), ts[rest]) - ln_p_rows(cl.take(rest), ts[rest])
     return f
 
@@ -403,7 +410,7 @@ def _difference(
 def _scan_crossings(
     cs: Curves,
     cl: Curves,
-    simple: np.ndarray,
+    joint: np.ndarray,
     diff: Curves,
     x_lo,
     x_hi,
@@ -422,7 +429,7 @@ def _scan_crossings(
     xs = x_lo[:, None] + (x_hi - x_lo)[:, None] * frac
     with np.errstate(divide="ignore", invalid="ignore"):
         ts = 1.0 / xs
-        f = _difference(cs, cl, simple, diff, ts)
+        f = _difference(cs, cl, joint, diff, ts)
         sign = np.sign(f)
         finite = np.isfinite(f)
         change = (sign[:, 1:] * sign[:, :-1] < 0) & finite[:, 1:] & finite[:, :-1]

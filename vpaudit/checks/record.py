@@ -619,6 +619,13 @@ def _delta_z(ctx: AuditContext, rows: np.ndarray, t: np.ndarray, y: np.ndarray):
     "known).",
     (
         Threshold("tolerance", 0.05, "-", "relative difference accepted"),
+        Threshold(
+            "factor",
+            3.0,
+            "-",
+            "coverage factor on a reference's stated uncertainty, which widens the tolerance "
+            "beyond it (as boiling-point-mismatch's)",
+        ),
         Threshold("nonideal_allowance", 0.07, "-", "added when P > 10 kPa and dZ is unknown"),
         Threshold("error_above", 0.30, "-", "relative difference above which it is an error"),
     ),
@@ -628,7 +635,10 @@ def _delta_z(ctx: AuditContext, rows: np.ndarray, t: np.ndarray, y: np.ndarray):
 def enthalpy_mismatch(ctx: AuditContext, th: dict[str, float]):
     """Each reference enthalpy of vaporization (liquid records) or sublimation (solid
     records) is compared with R T^2 dlnP/dT * dZ at its stated temperature (298.15 K if none
-    is given), when that temperature lies within the record's range (+/- 5 %).
+    is given), when that temperature lies within the record's range (+/- 5 %). A reference
+    that states its uncertainty u widens the relative tolerance to ``factor`` u / dH where
+    that is larger (never below ``tolerance``, the slope's own uncertainty), and an error
+    needs a difference beyond both ``error_above`` and that.
     """
     refs = ctx.table.references
     if not len(refs):
@@ -649,17 +659,31 @@ def enthalpy_mismatch(ctx: AuditContext, th: dict[str, float]):
     h = np.where(known, apparent * dz, apparent)
     ref = m["value_si"].to_numpy(dtype=float)
     rel = (h - ref) / ref
-    tol = th["tolerance"] + np.where(~known & (np.exp(y) > 1e4), th["nonideal_allowance"], 0)
+    u_ref = np.full(len(refs), np.nan)  # stated uncertainties [J/mol], NaN where none
+    for q in ("enthalpy_of_vaporization", "enthalpy_of_sublimation"):
+        got = ctx.references_of(q)
+        u_ref[got.rows] = got.uncertainty
+    u_ref = u_ref[ref_rows]
+    with np.errstate(invalid="ignore", divide="ignore"):
+        stated = th["factor"] * u_ref / np.abs(ref)
+    widened = stated > th["tolerance"]  # False where none is stated
+    tol = np.where(widened, stated, th["tolerance"])
+    tol = tol + np.where(~known & (np.exp(y) > 1e4), th["nonideal_allowance"], 0)
     with np.errstate(invalid="ignore"):
         bad = inside & ~(np.abs(rel) <= tol)
     for k in np.flatnonzero(bad):
         i = rows[k]
         what = "vaporization" if ctx.liquid[i] else "sublimation"
+        why = (
+            f" ({th['factor']:g} times the reference's stated uncertainty of {kj(u_ref[k])})"
+            if widened[k]
+            else ""
+        )
         yield Hit(
             i,
             f"the implied enthalpy of {what} at {kelvin(t[k])} is {kj(h[k])}, "
             f"{rel[k] * 100:+.1f} % from the reference {kj(ref[k])} "
-            f"({m['source'].iat[k]}); tolerance {tol[k] * 100:.0f} %.",
+            f"({m['source'].iat[k]}); tolerance {tol[k] * 100:.0f} %{why}.",
             {
                 "implied_J_per_mol": h[k],
                 "apparent_J_per_mol": apparent[k],
@@ -669,7 +693,7 @@ def enthalpy_mismatch(ctx: AuditContext, th: dict[str, float]):
                 "tolerance": tol[k],
                 "at_K": t[k],
             },
-            tier="beyond-error-above" if abs(rel[k]) > th["error_above"] else None,
+            tier="beyond-error-above" if abs(rel[k]) > max(th["error_above"], tol[k]) else None,
         )
 
 

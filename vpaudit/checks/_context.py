@@ -424,6 +424,16 @@ class AuditContext:
         ttp = self.reference("triple_point_temperature", rows)
         return np.where(np.isnan(tm), ttp, tm)
 
+    def melting_uncertainty(self, rows: np.ndarray | None = None) -> np.ndarray:
+        """The stated uncertainty of :meth:`melting_reference` (of the melting point, or of
+        the triple-point temperature where it stands in), NaN where none is stated. [K]
+        """
+        tm = self.reference("melting_point", rows)
+        u_tm = self.reference_uncertainty("melting_point", rows)
+        return np.where(
+            np.isnan(tm), self.reference_uncertainty("triple_point_temperature", rows), u_tm
+        )
+
     def critical_temperature(self) -> np.ndarray:
         """Critical temperature per record: the median of the substance's reference values
         (:meth:`reference_median`), else the Wagner record's own. [K]

@@ -308,7 +308,36 @@ def crossing_outside_range(ctx: AuditContext, th: dict[str, float]):
     )
 
 
-def _widened_tolerance(ctx: AuditContext, ks: np.ndarray, t: np.ndarray, tol: float):
+def melting_tolerance(
+    ctx: AuditContext, solid: np.ndarray, slope_diff: np.ndarray, th: dict[str, float]
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """The tolerance [ln P] of ``melting-point-mismatch`` for the pairs of solid records
+    ``solid`` whose curves part by ``slope_diff`` (d(y_s - y_l)/dT at the melting point,
+    [1/K]): ``factor`` times the slope difference times a stated uncertainty of the
+    reference melting point where that is larger than ``tolerance``, else ``tolerance``.
+    Returns (tolerance, whether the stated uncertainty set it, that uncertainty [K]); the
+    check and the diagnosis both use it.
+    """
+    u_tm = ctx.melting_uncertainty(solid)
+    with np.errstate(invalid="ignore"):
+        stated = th["factor"] * np.abs(slope_diff) * u_tm
+    by_stated = stated > th["tolerance"]  # False where none is stated
+    return np.where(by_stated, stated, th["tolerance"]), by_stated, u_tm
+
+
+def _tolerance_text(th: dict[str, float], by_stated: bool, u: float) -> str:
+    """The melting-point tolerance in words: the threshold, or what a stated uncertainty
+    ``u`` [K] of the reference melting point made of it.
+    """
+    if not by_stated:
+        return f"{th['tolerance']:g}"
+    return (
+        f"{th['factor']:g} times the reference melting point's stated uncertainty of "
+        f"{u:.3g} K, through the curves' slopes"
+    )
+
+
+def _widened_tolerance(ctx: AuditContext, ks: np.ndarray, t: np.ndarray, tol):
     """The melting-point tolerance ``tol`` [ln P] of pairs ``ks`` compared at ``t`` [K],
     widened in quadrature by each curve's extrapolation allowance there
     (:mod:`vpaudit.checks.extrapolation`).
@@ -336,6 +365,13 @@ def _widened_tolerance(ctx: AuditContext, ks: np.ndarray, t: np.ndarray, tol: fl
             "ln P",
             "largest |ln P_s - ln P_l| at the melting point of curves that reach it",
         ),
+        Threshold(
+            "factor",
+            3.0,
+            "-",
+            "coverage factor on a reference melting point's stated uncertainty, carried into "
+            "ln P by the curves' slope difference (as boiling-point-mismatch's)",
+        ),
     ),
     tiers={"within-extrapolation-allowance": Severity.warning},
     witness="difference_lnP",
@@ -352,9 +388,12 @@ def melting_point_mismatch(ctx: AuditContext, th: dict[str, float]):
     (:mod:`vpaudit.checks.extrapolation`, measured on real compilations), added in
     quadrature. A mismatch beyond the tolerance but within that is a warning: it may be the
     extrapolation's, not the data's.
+
+    A reference melting point that states its uncertainty u widens the tolerance to
+    ``factor`` |y_s' - y_l'| u where that is larger: the curves' difference moves that much
+    across u (dH_fus / (R Tm^2) per kelvin; 0.027 in ln P per kelvin for 20 kJ/mol at 300 K).
     """
     pr = ctx.pairs
-    tol = th["tolerance"]
     tm = pr.tm
     rows = np.flatnonzero(pr.checkable & np.isfinite(tm))
     if rows.size == 0:
@@ -362,6 +401,7 @@ def melting_point_mismatch(ctx: AuditContext, th: dict[str, float]):
     at = ctx.melting_slopes  # at the reference melting point where there is one
     ys, s1, yl, l1 = at.ys[rows], at.s1[rows], at.yl[rows], at.l1[rows]
     d = ys - yl
+    tol, by_stated, u_tm = melting_tolerance(ctx, pr.solid[rows], s1 - l1, th)
     bad = ~(np.abs(d) <= tol)
     widened = _widened_tolerance(ctx, rows, tm[rows], tol)
     hfus_ref = ctx.reference("enthalpy_of_fusion", pr.solid[rows])
@@ -375,10 +415,11 @@ def melting_point_mismatch(ctx: AuditContext, th: dict[str, float]):
             continue
         ks = rows[sel]
         tk_, tm_, d_, ktol_, w_ = pr.t_cross[ks], tm[ks], d[sel], k_tol[sel], widened[sel]
+        base_ = [_tolerance_text(th, b, u) for b, u in zip(by_stated[sel], u_tm[sel], strict=True)]
         messages = [
             f"at the reference melting point {kelvin(tmk)} the solid and liquid curves "
             f"differ by {ln_ratio(dj)}, beyond the tolerance of "
-            + (f"{tol:g}" if wj == tol else f"{wj:.3g} for curves extrapolated this far")
+            + (base if wj == tj else f"{wj:.3g} for curves extrapolated this far")
             + (
                 f"; they cross at {kelvin(tk)}, {tk - tmk:+.4g} K from it"
                 if math.isfinite(tk)
@@ -387,7 +428,7 @@ def melting_point_mismatch(ctx: AuditContext, th: dict[str, float]):
             + f" (the tolerance in kelvin is about +/-{ktol:.3g} K)."
             if not within
             else f"at the reference melting point {kelvin(tmk)} the solid and liquid curves "
-            f"differ by {ln_ratio(dj)}, beyond the tolerance of {tol:g} for curves that "
+            f"differ by {ln_ratio(dj)}, beyond the tolerance of {base} for curves that "
             f"reach it, but within the {wj:.3g} that 95 % of real equations extrapolated "
             "this far stay within: the extrapolation may be the cause; "
             + (
@@ -395,8 +436,15 @@ def melting_point_mismatch(ctx: AuditContext, th: dict[str, float]):
                 if math.isfinite(tk)
                 else "they do not cross nearby."
             )
-            for tk, tmk, dj, ktol, wj in zip(
-                tk_.tolist(), tm_.tolist(), d_.tolist(), ktol_.tolist(), w_.tolist(), strict=True
+            for tk, tmk, dj, ktol, wj, tj, base in zip(
+                tk_.tolist(),
+                tm_.tolist(),
+                d_.tolist(),
+                ktol_.tolist(),
+                w_.tolist(),
+                tol[sel].tolist(),
+                base_,
+                strict=True,
             )
         ]
         yield ctx.pair_hits(

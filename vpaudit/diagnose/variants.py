@@ -17,6 +17,7 @@ from ..checks._context import LN_P_STANDARD, AuditContext, match, same_key_pairs
 from ..checks._registry import REGISTRY, Severity
 from ..checks.boiling import boiling_residuals
 from ..checks.finding import Finding
+from ..checks.pair import melting_tolerance
 from ..checks.record import entropy_band
 from ..constants import R
 from ..equations.engine import evaluate
@@ -195,14 +196,14 @@ def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
     add(unusable, np.full(unusable.size, np.inf))
     # solid/liquid pairs at the reference melting point, and Hess's law at the crossing
     pr = ctx.pairs
-    tol = policy.thresholds("melting-point-mismatch")["tolerance"]
     has_tm = np.isfinite(pr.tm)
     if has_tm.any():
         s, lq, tm = pr.solid[has_tm], pr.liquid[has_tm], pr.tm[has_tm]
-        d = (
-            evaluate(ctx.curves.take(s), tm, order=0)[0]
-            - evaluate(ctx.curves.take(lq), tm, order=0)[0]
-        )
+        ys, ys1, _ = evaluate(ctx.curves.take(s), tm, order=1)
+        yl, yl1, _ = evaluate(ctx.curves.take(lq), tm, order=1)
+        d = ys - yl
+        th_m = policy.thresholds("melting-point-mismatch")
+        tol = melting_tolerance(ctx, s, ys1 - yl1, th_m)[0]
         add(ctx.codes[s], d / (0.5 * tol))
         # a solid range usually ends, and a liquid range starts, at the melting point
         gap = np.abs(ctx.curves.t_max[s] - tm) + np.abs(ctx.curves.t_min[lq] - tm)
@@ -438,14 +439,14 @@ def _hard_failures(vctx: AuditContext, unit_of_code: np.ndarray, n: int) -> np.n
             counts[_column(name, sev)][mask] += 1.0
     # the pair checks no-crossing and melting-point-mismatch, counted at the solid record
     pr = vctx.pairs
-    tol = vctx.thresholds("melting-point-mismatch")["tolerance"]
     with np.errstate(invalid="ignore"):
         fails = {"no-crossing": pr.checkable & (pr.crossings == 0)}
         at = np.flatnonzero(pr.checkable & np.isfinite(pr.tm))
-        d = (
-            evaluate(vctx.curves.take(pr.solid[at]), pr.tm[at], 0)[0]
-            - evaluate(vctx.curves.take(pr.liquid[at]), pr.tm[at], 0)[0]
-        )
+        ys, ys1, _ = evaluate(vctx.curves.take(pr.solid[at]), pr.tm[at], 1)
+        yl, yl1, _ = evaluate(vctx.curves.take(pr.liquid[at]), pr.tm[at], 1)
+        d = ys - yl
+        th_m = vctx.thresholds("melting-point-mismatch")
+        tol = melting_tolerance(vctx, pr.solid[at], ys1 - yl1, th_m)[0]
         mm = np.zeros(pr.solid.size, dtype=bool)
         mm[at] = ~(np.abs(d) <= tol)
         fails["melting-point-mismatch"] = mm

@@ -25,23 +25,21 @@ class RangeExtrema:
 
     Attributes
     ----------
-    h_min, h_max : ndarray
-        Least and greatest implied enthalpy of the phase change over the range [J/mol];
-        ``h_min_T`` where the least is [K].
+    h_min : ndarray
+        Least implied enthalpy of the phase change over the range [J/mol]; ``h_min_T``
+        where it is [K].
     y_min, y_max : ndarray
         Least and greatest ln(P/Pa) over the range.
     cp_min, cp_max : ndarray
         Least and greatest implied dCp [J/(mol K)] over the near-ideal part of the range,
-        ``cp_lo`` to ``cp_hi`` [K]; ``cp_min_T`` and ``cp_max_T`` where they are [K].
+        ``cp_lo`` to ``cp_hi`` [K]; ``cp_max_T`` where the greatest is [K].
     """
 
     h_min: np.ndarray
     h_min_T: np.ndarray  # noqa: N815  (a temperature)
-    h_max: np.ndarray
     y_min: np.ndarray
     y_max: np.ndarray
     cp_min: np.ndarray
-    cp_min_T: np.ndarray  # noqa: N815
     cp_max: np.ndarray
     cp_max_T: np.ndarray  # noqa: N815
     cp_lo: np.ndarray
@@ -56,7 +54,7 @@ def extrema_over_ranges(
     block_rows: int,
     closed_form: bool = True,
 ) -> RangeExtrema:
-    """Exact extrema of dH(T), dCp(T) and ln P over each record's range.
+    """Exact least dH(T) and extrema of dCp(T) and ln P over each record's range.
 
     dH and ln P are taken over the whole range. dCp is taken only over the part where the
     vapour is near-ideal, P <= ``max_pressure`` of ``heat-capacity-sign`` (10 kPa by
@@ -77,11 +75,9 @@ def extrema_over_ranges(
         for k in (
             "h_min",
             "h_min_T",
-            "h_max",
             "y_min",
             "y_max",
             "cp_min",
-            "cp_min_T",
             "cp_max",
             "cp_max_T",
             "cp_lo",
@@ -110,7 +106,6 @@ def extrema_over_ranges(
             hm = np.argmin(np.where(np.isnan(h), np.inf, h), axis=1)
             out["h_min"][r] = np.where(np.isnan(h).any(axis=1), np.nan, h[k, hm])
             out["h_min_T"][r] = ts[k, hm]
-            out["h_max"][r] = np.nanmax(np.where(np.isnan(h), -np.inf, h), axis=1)
             finite = np.isfinite(y).all(axis=1)
             out["y_min"][r] = np.where(finite, y.min(axis=1), np.nan)
             out["y_max"][r] = np.where(finite, y.max(axis=1), np.nan)
@@ -135,7 +130,7 @@ def extrema_over_ranges(
         cp = R * c.params[sub, 2]
         lo_t = c.t_min[sub]
         out["cp_min"][rs] = out["cp_max"][rs] = cp
-        out["cp_min_T"][rs] = out["cp_max_T"][rs] = lo_t  # the first, as argmin takes
+        out["cp_max_T"][rs] = lo_t  # the first, as argmax takes
         out["cp_lo"][rs], out["cp_hi"][rs] = lo_t, hi[sub]
     for part in blocks:
         sub = part[ideal[part]]
@@ -148,7 +143,7 @@ def extrema_over_ranges(
             lo_i = np.argmin(np.where(np.isnan(cp), np.inf, cp), axis=1)
             hi_i = np.argmax(np.where(np.isnan(cp), -np.inf, cp), axis=1)
         rs = rows[sub]
-        out["cp_min"][rs], out["cp_min_T"][rs] = cp[j, lo_i], tcp[j, lo_i]
+        out["cp_min"][rs] = cp[j, lo_i]
         out["cp_max"][rs], out["cp_max_T"][rs] = cp[j, hi_i], tcp[j, hi_i]
         out["cp_lo"][rs], out["cp_hi"][rs] = cs.t_min, hi[sub]
     return RangeExtrema(**out)
@@ -243,9 +238,6 @@ def _plain_extrema(c: Curves, part: np.ndarray, rows: np.ndarray, out: dict):
         at_hi = np.where(nan_hi, np.inf, h_hi) < np.where(nan_lo, np.inf, h_lo)
         out["h_min"][rows] = np.where(nan_lo | nan_hi, np.nan, np.where(at_hi, h_hi, h_lo))
         out["h_min_T"][rows] = np.where(at_hi, hi, lo)
-        out["h_max"][rows] = np.maximum(
-            np.where(nan_lo, -np.inf, h_lo), np.where(nan_hi, -np.inf, h_hi)
-        )
         finite = np.isfinite(y_lo) & np.isfinite(y_hi)
         out["y_min"][rows] = np.where(finite, np.minimum(y_lo, y_hi), np.nan)
         out["y_max"][rows] = np.where(finite, np.maximum(y_lo, y_hi), np.nan)

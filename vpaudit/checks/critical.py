@@ -511,7 +511,8 @@ class CriticalResiduals(NamedTuple):
     pc: np.ndarray  # reference Pc [Pa]
     d: np.ndarray  # ln P(t) - ln Pc
     slack: np.ndarray  # what Tc's own uncertainty explains of d, through the slope [ln P]
-    residual: np.ndarray  # d beyond the slack, signed [ln P]
+    pc_slack: np.ndarray  # what a stated uncertainty of Pc explains of d (else 0) [ln P]
+    residual: np.ndarray  # d beyond both, added in quadrature, signed [ln P]
     tc_ref: np.ndarray  # the row of that Tc in the references table
     pc_ref: np.ndarray  # the row of that Pc
     pairings: np.ndarray  # how many pairings of reference Tc and Pc the record was compared with
@@ -551,9 +552,15 @@ def _compare_every(ctx: AuditContext) -> CriticalResiduals | None:
     u_tc = tcs.uncertainty[j]
     u_tc = np.where(np.isfinite(u_tc), u_tc, th["tc_uncertainty"] * tc)
     slack = np.abs(y1) * u_tc
-    residual = np.sign(d) * np.maximum(np.abs(d) - slack, 0.0)
+    u_pc = pcs.uncertainty[k]
+    with np.errstate(invalid="ignore", divide="ignore"):
+        pc_slack = np.where(np.isfinite(u_pc), u_pc / pc, 0.0)
+    # hypot(x, 0) is |x| exactly: without a stated Pc uncertainty nothing changes
+    residual = np.sign(d) * np.maximum(np.abs(d) - np.hypot(slack, pc_slack), 0.0)
     one = np.ones(rows.size, dtype=np.int64)
-    return CriticalResiduals(rows, t, tc, pc, d, slack, residual, tcs.rows[j], pcs.rows[k], one)
+    return CriticalResiduals(
+        rows, t, tc, pc, d, slack, pc_slack, residual, tcs.rows[j], pcs.rows[k], one
+    )
 
 
 def critical_residuals(ctx: AuditContext) -> CriticalResiduals | None:
@@ -563,7 +570,8 @@ def critical_residuals(ctx: AuditContext) -> CriticalResiduals | None:
 
     The curve is compared at Tc, or at its own range end (a Wagner record's own Tc) when that
     is lower: ln P(t) - ln Pc, less what moving Tc within its uncertainty explains (the
-    reference's stated uncertainty, else the relative ``tc_uncertainty``, times the slope).
+    reference's stated uncertainty, else the relative ``tc_uncertainty``, times the slope)
+    and what a stated uncertainty of Pc explains (u_Pc / Pc), added in quadrature.
     A substance with several reference values of Tc or Pc (several sources) is compared
     with each pairing of them, and each record is judged by the pairing it meets best, the
     first in the references table on a tie: a record is never held to one evaluation of
@@ -641,7 +649,7 @@ def _every_pairing(
 def critical_pressure_mismatch(ctx: AuditContext, th: dict[str, float]):
     """Compared in ln P at the reference Tc (or at the record's own range end when that is
     below it, by at most ``reach``), less what Tc's uncertainty explains through the curve's
-    slope. Beyond ``tolerance`` the two evaluations of the critical point disagree more than
+    slope and what a reference Pc's stated uncertainty explains, in quadrature. Beyond ``tolerance`` the two evaluations of the critical point disagree more than
     independent evaluations of Pc usually do, a note that may as well concern the
     reference; beyond ``error_above``, more than they ever do in the comparison, an error.
     A table that keeps several sources' Tc or Pc has each pairing of them tried, and the
@@ -692,6 +700,7 @@ def critical_pressure_mismatch(ctx: AuditContext, th: dict[str, float]):
                 "critical_pressure_Pa": got.pc[k],
                 "difference_lnP": got.d[k],
                 "tc_allowance_lnP": got.slack[k],
+                **({"pc_allowance_lnP": got.pc_slack[k]} if got.pc_slack[k] else {}),
                 "residual_lnP": got.residual[k],
                 "tolerance_lnP": th["tolerance"],
             },

@@ -426,16 +426,29 @@ def contradicted_critical_temperatures(ctx: AuditContext):
         return
     refs = ctx.table.references
     value = refs["value_si"].to_numpy(dtype=float)
-    own = ctx.curves.own_t_crit
-    for r in np.unique(got.pair_ref[~got.met]).tolist():
-        here = (got.pair_ref == r) & ~got.met
-        k = got.k[here]  # the liquids whose range passes it
-        k = k[~np.isfinite(own[k])]  # a Wagner record is held to its own Tc instead
-        meets = got.met & np.isin(got.k, k)
-        if not meets.any():
-            continue
-        other = int(got.pair_ref[meets][0])
-        by = np.unique(got.k[meets & (got.pair_ref == other)])
+    n_refs = len(refs)
+    # the comparisons are ordered by record, then reference row: each record's first met
+    # reference is the first of its met comparisons
+    met_at = np.flatnonzero(got.met)
+    first_met = np.full(ctx.n, -1, dtype=np.int64)
+    met_k, first = np.unique(got.k[met_at], return_index=True)
+    first_met[met_k] = met_at[first]
+    met_keys = np.sort(got.k[met_at].astype(np.int64) * n_refs + got.pair_ref[met_at])
+    # a range that passes a reference Tc while meeting another (a Wagner record is held to
+    # its own Tc instead), grouped by the reference it passes, in reference order
+    passes = ~got.met & ~np.isfinite(ctx.curves.own_t_crit[got.k]) & (first_met[got.k] >= 0)
+    at = np.flatnonzero(passes)
+    at = at[np.argsort(got.pair_ref[at], kind="stable")]
+    by_ref = got.pair_ref[at]
+    edges = np.flatnonzero(np.r_[True, by_ref[1:] != by_ref[:-1], True]) if at.size else []
+    for a, b in zip(edges[:-1], edges[1:], strict=False):
+        r = int(by_ref[a])
+        k = np.unique(got.k[at[a:b]])  # the liquids whose range passes it
+        other = int(got.pair_ref[first_met[k[0]]])  # the first met by any of them
+        keys = k.astype(np.int64) * n_refs + other
+        found = np.searchsorted(met_keys, keys)
+        found = np.minimum(found, met_keys.size - 1)
+        by = k[met_keys[found] == keys]  # those that meet it
         ids = tuple(ctx.id(x) for x in by.tolist())
         opening, file, line = ctx.reference_disagreement("critical temperature", r, other, kelvin)
         one = len(ids) == 1
@@ -649,7 +662,8 @@ def _every_pairing(
 def critical_pressure_mismatch(ctx: AuditContext, th: dict[str, float]):
     """Compared in ln P at the reference Tc (or at the record's own range end when that is
     below it, by at most ``reach``), less what Tc's uncertainty explains through the curve's
-    slope and what a reference Pc's stated uncertainty explains, in quadrature. Beyond ``tolerance`` the two evaluations of the critical point disagree more than
+    slope and what a reference Pc's stated uncertainty explains, in quadrature. Beyond
+    ``tolerance`` the two evaluations of the critical point disagree more than
     independent evaluations of Pc usually do, a note that may as well concern the
     reference; beyond ``error_above``, more than they ever do in the comparison, an error.
     A table that keeps several sources' Tc or Pc has each pairing of them tried, and the

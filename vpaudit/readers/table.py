@@ -141,9 +141,9 @@ class _Collector:
 _ABSENT_TEXT = object()
 
 
-def _text_column(raw: RawFrame, name: str, default: str | None = None) -> pa.Array:
+def _text_column(raw: RawFrame, name: str, default: str | None = None) -> pa.Array | object:
     """The cells of a text column as an Arrow string array, null (or ``default``) where
-    empty.
+    empty; :data:`_ABSENT_TEXT` for an absent column without a default.
     """
     values = raw.cells.get(name)
     n = len(raw)
@@ -197,7 +197,9 @@ def _original(raw: RawFrame, name: str, i: int) -> str:
 def _parse_numbers(
     raw: RawFrame, name: str, out: _Collector, normalize: bool
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Parse one numeric column; returns values, their text, and the missing mask."""
+    """Parse one numeric column; returns values, their text (:data:`_ABSENT_TEXT` for an
+    absent column), and the missing mask.
+    """
     cells = raw.cells.get(name)
     if cells is None:  # absent: NaN throughout, held by one read-only value, no array
         n = len(raw)

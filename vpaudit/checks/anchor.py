@@ -161,6 +161,15 @@ def _beyond(value, ref, warn, error, judged):
         return judged & ~(off <= warn), ~(off <= error)
 
 
+def _where(edge: float) -> str:
+    """Where the curve is taken: at 298.15 K within its range, or extrapolated to it from
+    the range edge ``edge`` [K].
+    """
+    if edge == T_ANCHOR:
+        return "at 298.15 K, within its range"
+    return f"extrapolated to 298.15 K with its own dCp from {kelvin(edge)}"
+
+
 def _what(is_liquid: bool) -> str:
     return "vaporization" if is_liquid else "sublimation"
 
@@ -196,7 +205,7 @@ def anchor_enthalpy(ctx: AuditContext, th: dict[str, float]):
         rel = (a.h[k] - a.h_ref[k]) / a.h_ref[k]
         yield Hit(
             i,
-            f"extrapolated to 298.15 K with its own dCp (from {kelvin(a.edge[k])}), the "
+            f"{_where(a.edge[k])}, the "
             f"curve implies dH_{_what(ctx.liquid[i])[:3]}(298) = {kj(a.h[k])} against the "
             f"standard-table {kj(a.h_ref[k])}: {rel * 100:+.1f} %, beyond the allowance of "
             f"{kj(allowed[k])}. Usual causes: log10 coefficients read as ln or the reverse "
@@ -243,7 +252,7 @@ def anchor_entropy(ctx: AuditContext, th: dict[str, float]):
         d = a.s[k] - a.s_ref[k]
         yield Hit(
             i,
-            f"extrapolated to 298.15 K with its own dCp (from {kelvin(a.edge[k])}), the "
+            f"{_where(a.edge[k])}, the "
             f"curve implies the standard entropy of {_what(ctx.liquid[i])} dS0(298) = "
             f"{a.s[k]:.1f} J/(mol K) (P = {pressure_at_ln(a.y[k], a.p[k], 3)}) against the "
             f"standard-table {a.s_ref[k]:.1f} J/(mol K): off by {d:+.1f}, beyond the allowance of "

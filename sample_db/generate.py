@@ -62,6 +62,8 @@ SUBSTANCES = [
     ("corlithane", 181.9, 6.14, 33.6, 109.5, 56.33, "volatile"),
     ("drennite", 1596.0, 53.7, 388.4, 106.2, 27.91, "metalloid"),
     ("eskerine", 1139.8, 34.06, 292.4, 109.5, 69.18, "metalloid"),
+    # last, so that the random draws of the others stay as they were: a lone liquid (plant)
+    ("pennarol", 250.0, 9.0, 42.0, 95.0, 88.1, "volatile"),
 ]
 
 
@@ -181,6 +183,25 @@ def build():
                 "source": "Harrowgate reference sheet RS-1 (invented demo source)",
             }
         )
+        if not metal:  # standard data of vaporization at 298.15 K (P0 = 1 bar), as
+            # standard thermochemical tables give them, from the liquid curve itself
+            a, b, c = liquid
+            t0 = 298.15
+            h298 = R * (-b + c * t0)
+            s298 = h298 / t0 + R * (a + b / t0 + c * math.log(t0) - math.log(1e5))
+            for quantity, value, unit in (
+                ("standard_enthalpy_of_vaporization", fmt(h298 / 1e3, 5), "kJ/mol"),
+                ("standard_entropy_of_vaporization", fmt(s298, 5), "J/(mol K)"),
+            ):
+                refs.append(
+                    {
+                        "substance": name,
+                        "quantity": quantity,
+                        "value": value,
+                        "unit": unit,
+                        "source": "Fictional Tables of Standard Properties (invented demo source)",
+                    }
+                )
         # Normal boiling point of the liquid curve, when it is reached below 2.5 Tm.
         a, b, c = liquid
         ts = np.linspace(tm, 2.5 * tm, 20001)
@@ -322,6 +343,19 @@ def plant(records, refs, points):
     # 10. Missing source.
     rec("norrane-s1")["source"] = None
     planted["norrane"] = ("norrane-s1", "missing-source")
+    # 11. A lone liquid (no solid record, no melting or boiling point on file: only its
+    # standard data at 298.15 K) whose coefficients give kPa but are marked Pa.
+    records.remove(rec("pennarol-s1"))
+    refs[:] = [
+        x
+        for x in refs
+        if x["substance"] != "pennarol"
+        or x["quantity"] not in ("melting_point", "enthalpy_of_fusion", "normal_boiling_point")
+    ]
+    r = rec("pennarol-l1")
+    r.update(convert_record(r, pressure_unit="kPa"))
+    r["pressure_unit"] = "Pa"
+    planted["pennarol"] = ("pennarol-l1", "anchor-entropy")
     return planted
 
 

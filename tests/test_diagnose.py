@@ -299,6 +299,7 @@ def test_sample_table_every_planted_slip_has_the_right_suggestion():
         "galdrite": ("decimal-shift", "galdrite-l1", {"A": 10.7706297}),
         "lanthorne": ("sign", "lanthorne-l1", {"D": -0.001}),
         "selmane": ("temperature-unit", "selmane-l1", None),
+        "pennarol": ("pressure-unit", "pennarol-l1", {"pressure_unit": "kPa"}),
     }
     no_slip = {"kestrium", "islingite", "norrane"}  # a disagreement, a range, a citation
     with open(root / "PLANTED.csv", encoding="utf-8") as fh:

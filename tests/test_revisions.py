@@ -69,6 +69,7 @@ def test_every_planted_fix_applies_and_the_audit_is_then_clean(table):
         "melting-point-mismatch:galdrite-s1,galdrite-l1",
         "heat-capacity-sign:lanthorne-l1",
         "boiling-point-mismatch:selmane-l1",
+        "anchor-entropy:pennarol-l1",
     ]
     for f in fixes:
         run = CliRunner().invoke(main, ["apply", str(table), f, "--by", "tester"])

@@ -117,7 +117,7 @@ def test_the_triage_view_gives_each_substance_once_with_its_fix_and_a_clean_stat
     page = render_report(audit_table(table, table_path=str(sample_db)), table, plots=False)
     triage = page[page.index("id='triage'") : page.index("</table>", page.index("id='triage'"))]
     # one row per flagged substance, the worst first, severity by colour class and by word
-    assert triage.count("<tr>") == 10 + 1  # header + the ten flagged demo substances
+    assert triage.count("<tr>") == 11 + 1  # header + the eleven flagged demo substances
     assert triage.index("bellorium") < triage.index("norrane")
     assert "sev-error" in triage and "\u2716 ERROR" in triage
     assert "elmsite-s1</b>: phase &rarr; solid; <b>elmsite-l1</b>: phase &rarr; liquid" in triage

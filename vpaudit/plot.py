@@ -227,8 +227,14 @@ def plot_substance(table: Table, substance: str, path: str | Path, unit: str = "
         for line in ax.get_lines()
         if line.get_marker() in ("D", "h", "o", "X", "s")
     ]
+    bands = [np.array([v - half, v + half]) for v, half in anchors.values()]  # whole bars
     ys = np.concatenate(
-        [np.empty(0), *finite_in_range, *(np.asarray(v, dtype=float) for v in shown_refs)]
+        [
+            np.empty(0),
+            *finite_in_range,
+            *(np.asarray(v, dtype=float) for v in shown_refs),
+            *bands,
+        ]
     )
     ys = ys[np.isfinite(ys)]
     if ys.size:  # limits from what is drawn in range and the data, never from a pole

@@ -101,3 +101,24 @@ def test_every_reference_boiling_point_is_marked_with_its_source(tmp_path):
     text = svg.read_text()
     assert "reference normal boiling point 395 K (table one)" in text
     assert "reference normal boiling point 383.8 K (table two)" in text
+
+
+def test_the_whole_allowance_bar_of_the_anchor_is_in_the_picture(tmp_path, sample_db):
+    # the demo's lone liquid, pennarol, has kPa coefficients marked Pa: its curve lies a
+    # factor 1000 below the standard data at 298.15 K, whose bar (the anchor-entropy
+    # allowance, 15 J/(mol K), over R in ln P) must be drawn whole, not cut by the limits
+    import math
+
+    info = plot_substance(load_table(sample_db), "pennarol", tmp_path / "p.svg")
+    assert info["anchors"] == ["liquid"]
+    refs = load_table(sample_db).references
+    mine = refs[refs["substance"].astype(str) == "pennarol"]
+    value = dict(zip(mine["quantity"].astype(str), mine["value_si"], strict=True))
+    r = 8.314462618  # J/(mol K), CODATA 2018
+    ln_p = (
+        math.log(1e5)
+        + value["standard_entropy_of_vaporization"] / r
+        - value["standard_enthalpy_of_vaporization"] / (r * 298.15)
+    )
+    lo, hi = info["ln_p_limits"]
+    assert lo < ln_p - 15.0 / r and ln_p + 15.0 / r < hi

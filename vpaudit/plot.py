@@ -286,6 +286,7 @@ def plot_substance(table: Table, substance: str, path: str | Path, unit: str = "
         "records": drawn,
         "not_drawn": skipped,
         "anchors": sorted(anchors),
+        "ln_p_limits": tuple(float(v) for v in ax.get_ylim()),
         "deviation_panel": True,
     }
 

@@ -7,7 +7,10 @@ NOT_TESTED = {
     "no_partner_phase": ("the triple point and Hess's law", "no partner phase"),
     "no_melting_reference": ("the melting-point tests", "no melting or triple point reference"),
     "no_boiling_reference": ("the boiling-point test", "no normal boiling point reference"),
-    "no_enthalpy_reference": ("the enthalpy comparison", "no reference enthalpy"),
+    "no_enthalpy_reference": (
+        "the enthalpy comparison at a reference's own temperature",
+        "no reference enthalpy of vaporization, sublimation or fusion",
+    ),
     "no_standard_reference": (
         "the 298.15 K anchor",
         "no standard enthalpy or entropy of the phase change",

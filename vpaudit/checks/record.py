@@ -309,16 +309,17 @@ def slope_too_flat(ctx: AuditContext, th: dict[str, float]):
     ),
 )
 def enthalpy_implausible(ctx: AuditContext, th: dict[str, float]):
-    """The entropy of the phase change to the ideal gas at P0 = 101325 Pa,
-    dS = dH(T)/T + R ln(P(T)/P0), is nearly the same for most substances at their normal
-    boiling point (Trouton's dH_vap/T_b). It is evaluated at the reference normal boiling
-    point when that lies in a liquid record's range, else at the middle of the range in
-    1/T. Below the boiling point it grows, since d(dS)/dT = dCp/T and dCp < 0 -- most for
-    heavy and long-chain liquids, measured far below their boiling point -- so the band of a
-    liquid widens upward as ln(P/P0) falls (:func:`entropy_band`). A log10/ln slip scales
-    dH by 2.3; a pressure-unit slip by a factor f moves dS by R ln f and ln(P/P0) by ln f
-    together, a step across the band's slope (mmHg read as Pa: -40.7 J/(mol K) at a
-    pressure 133 times lower, where the band's lower edge is higher): both leave the band.
+    """The entropy of the phase change to the ideal gas at P0 = 101325 Pa, dS = dH(T)/T + R
+    ln(P(T)/P0), is nearly the same for most substances at their normal boiling point
+    (Trouton's dH_vap/T_b). It is evaluated at the reference normal boiling point (the
+    median of the substance's values when it has several) when that lies in a liquid
+    record's range, else at the middle of the range in 1/T. Below the boiling point it
+    grows, since d(dS)/dT = dCp/T and dCp < 0 -- most for heavy and long-chain liquids,
+    measured far below their boiling point -- so the band of a liquid widens upward as
+    ln(P/P0) falls (:func:`entropy_band`). A log10/ln slip scales dH by 2.3; a
+    pressure-unit slip by a factor f moves dS by R ln f and ln(P/P0) by ln f together, a
+    step across the band's slope (mmHg read as Pa: -40.7 J/(mol K) at a pressure 133
+    times lower, where the band's lower edge is higher): both leave the band.
     """
     evaluable = np.flatnonzero(ctx.evaluable)
     # in blocks of rows, so that the band's temporaries stay block-sized; then the few rows
@@ -380,7 +381,7 @@ def _standard_entropy(ctx: AuditContext, th: dict[str, float], rows: np.ndarray)
     """
     c = ctx.curves.take(rows)
     t_mid = 2.0 / (1.0 / c.t_min + 1.0 / c.t_max)
-    tb = ctx.reference("normal_boiling_point", rows)
+    tb = ctx.reference_median("normal_boiling_point", rows)  # with one value, that value
     liquid = ctx.liquid[rows]
     use_tb = liquid & (tb >= c.t_min) & (tb <= c.t_max)
     t = np.where(use_tb, tb, t_mid)

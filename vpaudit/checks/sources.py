@@ -21,23 +21,29 @@ def _blamed_by_boiling_point(ctx: AuditContext, pair: tuple[int, int]):
     """For two liquid records, the one the reference normal boiling point singles out:
     (suspect row, the other row, Tb [K], the suspect's ln P(Tb) - ln 101325), or None when
     there is no reference, the rows are solids, or both (or neither) meet it within the
-    boiling-point check's own tolerance.
+    boiling-point check's own tolerance. A substance with several reference values is
+    weighed by every one: a record that meets none of them while the other meets one is
+    singled out, whatever the order of the rows, and Tb is the value the other meets best.
     """
     a, b = pair
     if not (ctx.liquid[a] and ctx.liquid[b]):
         return None
-    rows = np.array([a, b])
-    tb = ctx.reference("normal_boiling_point", rows)
-    if not np.isfinite(tb).all():
+    refs = ctx.references_of("normal_boiling_point")
+    tbs = refs.value[(refs.codes == ctx.codes[a]) & np.isfinite(refs.value)]
+    if tbs.size == 0:
         return None
-    y = evaluate(ctx.curves.take(rows), tb, 0)[0].reshape(-1)
-    off = y - LN_P_STANDARD
+    rows = np.array([a, b])
+    c = ctx.curves.take(np.repeat(rows, tbs.size))
+    off = evaluate(c, np.tile(tbs, 2), 0)[0].reshape(2, tbs.size) - LN_P_STANDARD
     tol = ctx.thresholds("boiling-point-mismatch")["tolerance"]
     meets = np.abs(off) <= tol
-    if meets[0] == meets[1]:
-        return None
-    k = 1 if meets[0] else 0
-    return int(rows[k]), int(rows[1 - k]), float(tb[k]), float(off[k])
+    if meets[0].any() == meets[1].any():
+        return None  # both meet some value (or neither does): no single record to blame
+    k = 1 if meets[0].any() else 0
+    # the value the other record meets best (the lowest on a tie): not the order of rows
+    score = np.where(meets[1 - k], np.abs(off[1 - k]), np.inf)
+    j = int(np.lexsort((tbs, score))[0])
+    return int(rows[k]), int(rows[1 - k]), float(tbs[j]), float(off[k, j])
 
 
 @check(

@@ -12,7 +12,7 @@ import numpy as np
 
 from ..constants import R
 from ..equations.engine import evaluate_rows
-from ._context import AuditContext
+from ._context import AuditContext, match
 from ._registry import Scope, Severity, Threshold, check
 from ._text import jk, kelvin, kj, ln_ratio, pressure
 from .extrapolation import allowance
@@ -325,6 +325,28 @@ def melting_tolerance(
     return np.where(by_stated, stated, th["tolerance"]), by_stated, u_tm
 
 
+def fusion_reference(ctx: AuditContext, solid: np.ndarray, implied: np.ndarray) -> np.ndarray:
+    """For the pairs of solid records ``solid``, whose curves imply the enthalpy of fusion
+    ``implied`` [J/mol], the substance's reference enthalpy of fusion nearest it (the first
+    in table order on a tie, and where ``implied`` is not a number); NaN where there is
+    none. [J/mol] A table may keep several
+    sources' values: each pair is held to the one it meets best, as for a boiling point, so
+    the order of the rows never decides; with one value, that value.
+    """
+    out = np.full(solid.size, np.nan)
+    refs = ctx.references_of("enthalpy_of_fusion")
+    i, j = match(ctx.codes[solid], np.where(np.isfinite(refs.value), refs.codes, -1))
+    if i.size == 0:
+        return out
+    with np.errstate(invalid="ignore"):
+        miss = np.abs(implied[i] - refs.value[j])
+    miss = np.where(np.isnan(miss), np.inf, miss)
+    order = np.lexsort((j, miss, i))  # per pair the nearest, the first on a tie
+    k = order[np.unique(i[order], return_index=True)[1]]
+    out[i[k]] = refs.value[j[k]]
+    return out
+
+
 def _tolerance_text(th: dict[str, float], by_stated: bool, u: float) -> str:
     """The melting-point tolerance in words: the threshold, or what a stated uncertainty
     ``u`` [K] of the reference melting point made of it.
@@ -407,8 +429,8 @@ def melting_point_mismatch(ctx: AuditContext, th: dict[str, float]):
     tol, by_stated, u_tm = melting_tolerance(ctx, pr.solid[rows], s1 - l1, th)
     bad = ~(np.abs(d) <= tol)
     widened = _widened_tolerance(ctx, rows, tm[rows], tol)
-    hfus_ref = ctx.reference("enthalpy_of_fusion", pr.solid[rows])
     hfus_imp = R * tm[rows] ** 2 * (s1 - l1)
+    hfus_ref = fusion_reference(ctx, pr.solid[rows], hfus_imp)
     hfus = np.where(np.isfinite(hfus_ref) & (hfus_ref > 0), hfus_ref, np.abs(hfus_imp))
     k_tol = tol * R * tm[rows] ** 2 / hfus
     excused = np.abs(d) <= widened
@@ -520,18 +542,21 @@ def fusion_enthalpy_mismatch(ctx: AuditContext, th: dict[str, float]):
     """The difference of two large slopes is sensitive: dH_fus of a metal is a few percent
     of dH_sub, so a 1 % error in one slope becomes a 30-40 % error in the implied dH_fus.
     Hence the residual relative to dH_sub. Evaluated at the reference melting point, else at
-    the crossing.
+    the crossing. A substance with several reference values is judged by the one the pair
+    meets best (:func:`fusion_reference`).
     """
     pr = ctx.pairs
     tol = th["tolerance"]
-    ref = ctx.reference("enthalpy_of_fusion", pr.solid)
-    at = np.where(np.isfinite(pr.tm), pr.tm, pr.t_cross)
-    rows = np.flatnonzero(pr.checkable & np.isfinite(ref) & np.isfinite(at))
-    if rows.size == 0:
+    if not len(ctx.references_of("enthalpy_of_fusion").rows):
         return
     ms = ctx.melting_slopes  # at the reference melting point, else at the crossing
     a = ms.at
     hs, hl = R * a * a * ms.s1, R * a * a * ms.l1
+    ref = fusion_reference(ctx, pr.solid, hs - hl)
+    at = np.where(np.isfinite(pr.tm), pr.tm, pr.t_cross)
+    rows = np.flatnonzero(pr.checkable & np.isfinite(ref) & np.isfinite(at))
+    if rows.size == 0:
+        return
     with np.errstate(invalid="ignore", divide="ignore"):
         residual = (hs - hl - ref) / hs
         # a non-positive slope is slope-not-positive's finding

@@ -127,7 +127,7 @@ def duplicate_record(ctx: AuditContext, th: dict[str, float]):
 
 #: Reference quantities of which every value is weighed: a substance may have several.
 _EVERY_VALUE_WEIGHED = frozenset(
-    {"normal_boiling_point", "critical_temperature", "critical_pressure"}
+    {"normal_boiling_point", "critical_temperature", "critical_pressure", "enthalpy_of_fusion"}
 )
 
 
@@ -147,7 +147,8 @@ def reference_not_used(ctx: AuditContext, th: dict[str, float]):
     the critical temperature that allows it most and to the critical pressure nearest its
     end, ``critical-pressure-mismatch`` tries every pairing of the two, and the rules of
     thumb that read them (the near-ideal limit 0.7 Tc of the dCp checks, the virial
-    correction of ``enthalpy-mismatch``) take their medians. Otherwise the checks use the
+    correction of ``enthalpy-mismatch``) take their medians; every enthalpy of fusion too
+    (each solid/liquid pair is held to the one it meets best). Otherwise the checks use the
     first value per substance; when a later one differs, this note names both, at the later
     value's own file and line, so that a steward can keep the right one first or remove the
     other.

@@ -17,7 +17,7 @@ from ..checks._context import LN_P_STANDARD, AuditContext, match, same_key_pairs
 from ..checks._registry import REGISTRY, Severity
 from ..checks.boiling import boiling_residuals
 from ..checks.finding import Finding
-from ..checks.pair import melting_tolerance
+from ..checks.pair import fusion_reference, melting_tolerance
 from ..checks.record import entropy_band
 from ..constants import R
 from ..equations.engine import evaluate
@@ -208,7 +208,9 @@ def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
         # a solid range usually ends, and a liquid range starts, at the melting point
         gap = np.abs(ctx.curves.t_max[s] - tm) + np.abs(ctx.curves.t_min[lq] - tm)
         add(ctx.codes[s], gap / (0.05 * tm))
-    hfus = ctx.reference("enthalpy_of_fusion", pr.solid)
+    # the reference value each pair meets best (without a crossing: the first, which it
+    # misses as surely as any)
+    hfus = fusion_reference(ctx, pr.solid, R * pr.t_cross**2 * pr.slope_diff)
     cross = np.isfinite(pr.t_cross) & np.isfinite(hfus)
     # a reference dH_fus is evidence under every hypothesis: one whose curves do not cross
     # cannot meet it, and that counts as broken evidence, as an uncomputable residual does

@@ -329,9 +329,9 @@ def fusion_reference(ctx: AuditContext, solid: np.ndarray, implied: np.ndarray) 
     """For the pairs of solid records ``solid``, whose curves imply the enthalpy of fusion
     ``implied`` [J/mol], the substance's reference enthalpy of fusion nearest it (the first
     in table order on a tie, and where ``implied`` is not a number); NaN where there is
-    none. [J/mol] A table may keep several
-    sources' values: each pair is held to the one it meets best, as for a boiling point, so
-    the order of the rows never decides; with one value, that value.
+    none. [J/mol] A table may keep several sources' values: each pair is held to the one it
+    meets best, as for a boiling point, so the order of the rows never decides; with one
+    value, that value.
     """
     out = np.full(solid.size, np.nan)
     refs = ctx.references_of("enthalpy_of_fusion")

@@ -346,6 +346,54 @@ class AuditContext:
         met_codes[self.ref_codes[met_any]] = True
         return np.flatnonzero(tried & ~met_any & met_codes[self.ref_codes]).tolist()
 
+    def contradictions(
+        self,
+        k: np.ndarray,
+        ref: np.ndarray,
+        met: np.ndarray,
+        candidates: list[int] | None = None,
+        eligible: np.ndarray | None = None,
+    ):
+        """The reference rows that records contradict while meeting another reference of
+        their substance, from comparisons of record ``k`` with reference row ``ref``
+        (``met``: whether each meets it), ordered by record as every caller makes them.
+
+        For each candidate reference row r (``candidates``, ascending; by default
+        :meth:`contradicted_candidates`), yields ``(r, at, other, sides)``: ``at`` the
+        positions of the comparisons with r (those that are ``eligible``, when given), in
+        their order; ``other`` the first reference row met by any of their records (the
+        first met comparison of the first such record); ``sides`` whether each of those
+        comparisons' record meets ``other``. A candidate whose records meet nothing is left
+        out. One pass over the comparisons, whatever the number of candidates.
+        """
+        if candidates is None:
+            candidates = self.contradicted_candidates(ref, met)
+        if not len(candidates):
+            return
+        n_refs = len(self.table.references)
+        met_at = np.flatnonzero(met)
+        first_met = np.full(int(k.max()) + 1, -1, dtype=np.int64)
+        met_k, first = np.unique(k[met_at], return_index=True)
+        first_met[met_k] = met_at[first]
+        met_keys = np.sort(k[met_at].astype(np.int64) * n_refs + ref[met_at])
+        wanted = np.zeros(n_refs, dtype=bool)
+        wanted[np.asarray(candidates, dtype=np.int64)] = True
+        pick = wanted[ref] if eligible is None else wanted[ref] & eligible
+        at_all = np.flatnonzero(pick)
+        at_all = at_all[np.argsort(ref[at_all], kind="stable")]
+        by_ref = ref[at_all]
+        edges = np.flatnonzero(np.r_[True, by_ref[1:] != by_ref[:-1], True])
+        for a, b in zip(edges[:-1], edges[1:], strict=False):
+            at = at_all[a:b]
+            firsts = first_met[k[at]]
+            firsts = firsts[firsts >= 0]
+            if firsts.size == 0:
+                continue
+            other = int(ref[firsts.min()])
+            keys = k[at].astype(np.int64) * n_refs + other
+            found = np.minimum(np.searchsorted(met_keys, keys), met_keys.size - 1)
+            yield int(by_ref[a]), at, other, met_keys[found] == keys
+
     def reference_disagreement(
         self, words: str, row: int, other: int, fmt: Callable[[float], str]
     ) -> tuple[str, str, int]:

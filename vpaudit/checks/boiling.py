@@ -479,14 +479,12 @@ def _contradicted_by_another_reference(ctx: AuditContext, got: BoilingResiduals)
     if pairs.k.size == got.rows.size:  # one reference per substance: nothing to weigh
         return
     value = ctx.table.references["value_si"].to_numpy(dtype=float)
-    for r in ctx.contradicted_candidates(pairs.ref, pairs.met):
-        here = pairs.ref == r
-        k = pairs.k[here]  # the records of its substance, and how they miss it
-        meets = pairs.met & np.isin(pairs.k, k) & (pairs.ref != r)
-        other = int(pairs.ref[meets][0])  # the first other reference that they meet
-        by = np.isin(k, pairs.k[meets & (pairs.ref == other)])
+    # each: the records of its substance (and how they miss it), the first other
+    # reference that they meet, and which of them meet it
+    for r, at, other, by in ctx.contradictions(pairs.k, pairs.ref, pairs.met):
+        k = pairs.k[at]
         ids = tuple(ctx.id(got.rows[j]) for j in k[by])
-        miss = pairs.d[here][by]
+        miss = pairs.d[at][by]
         opening, file, line = ctx.reference_disagreement("normal boiling point", r, other, kelvin)
         worst = float(miss[np.argmax(np.abs(miss))])
         one = len(ids) == 1

@@ -424,31 +424,17 @@ def contradicted_critical_temperatures(ctx: AuditContext):
     got = critical_references(ctx, ctx.thresholds("above-critical")["tolerance"])
     if got.k.size == np.unique(got.k).size:  # one reference per substance: nothing to weigh
         return
-    refs = ctx.table.references
-    value = refs["value_si"].to_numpy(dtype=float)
-    n_refs = len(refs)
-    # the comparisons are ordered by record, then reference row: each record's first met
-    # reference is the first of its met comparisons
-    met_at = np.flatnonzero(got.met)
-    first_met = np.full(ctx.n, -1, dtype=np.int64)
-    met_k, first = np.unique(got.k[met_at], return_index=True)
-    first_met[met_k] = met_at[first]
-    met_keys = np.sort(got.k[met_at].astype(np.int64) * n_refs + got.pair_ref[met_at])
+    value = ctx.table.references["value_si"].to_numpy(dtype=float)
     # a range that passes a reference Tc while meeting another (a Wagner record is held to
-    # its own Tc instead), grouped by the reference it passes, in reference order
-    passes = ~got.met & ~np.isfinite(ctx.curves.own_t_crit[got.k]) & (first_met[got.k] >= 0)
-    at = np.flatnonzero(passes)
-    at = at[np.argsort(got.pair_ref[at], kind="stable")]
-    by_ref = got.pair_ref[at]
-    edges = np.flatnonzero(np.r_[True, by_ref[1:] != by_ref[:-1], True]) if at.size else []
-    for a, b in zip(edges[:-1], edges[1:], strict=False):
-        r = int(by_ref[a])
-        k = np.unique(got.k[at[a:b]])  # the liquids whose range passes it
-        other = int(got.pair_ref[first_met[k[0]]])  # the first met by any of them
-        keys = k.astype(np.int64) * n_refs + other
-        found = np.searchsorted(met_keys, keys)
-        found = np.minimum(found, met_keys.size - 1)
-        by = k[met_keys[found] == keys]  # those that meet it
+    # its own Tc instead)
+    passes = ~got.met & ~np.isfinite(ctx.curves.own_t_crit[got.k])
+    met_any = np.zeros(ctx.n, dtype=bool)
+    met_any[got.k[got.met]] = True
+    candidates = np.unique(got.pair_ref[passes & met_any[got.k]]).tolist()
+    for r, at, other, sides in ctx.contradictions(
+        got.k, got.pair_ref, got.met, candidates, eligible=passes
+    ):
+        by = np.unique(got.k[at][sides])  # the liquids that pass it and meet the other
         ids = tuple(ctx.id(x) for x in by.tolist())
         opening, file, line = ctx.reference_disagreement("critical temperature", r, other, kelvin)
         one = len(ids) == 1
@@ -483,16 +469,11 @@ def contradicted_critical_pressures(ctx: AuditContext):
     with np.errstate(invalid="ignore"):
         met = np.abs(got.residual) <= tol
     value = ctx.table.references["value_si"].to_numpy(dtype=float)
-    for r in ctx.contradicted_candidates(got.pc_ref, met):
-        here = got.pc_ref == r
-        k = np.unique(got.rows[here])  # the liquids compared with it
-        meets = met & np.isin(got.rows, k)
-        if not meets.any():
-            continue
-        other = int(got.pc_ref[meets][0])
-        by = np.unique(got.rows[meets & (got.pc_ref == other)])
+    # each: the liquids compared with it, the first other value they meet, which meet it
+    for r, at, other, sides in ctx.contradictions(got.rows, got.pc_ref, met):
+        by = np.unique(got.rows[at][sides])
         ids = tuple(ctx.id(x) for x in by.tolist())
-        miss = np.abs(got.d[here & np.isin(got.rows, by)])
+        miss = np.abs(got.d[at][sides])
         opening, file, line = ctx.reference_disagreement("critical pressure", r, other, pressure)
         one = len(ids) == 1
         yield Hit(

@@ -320,6 +320,28 @@ class AuditContext:
             np.full(rows.size, np.nan) if u is None else u,
         )
 
+    def nearest_references(
+        self, quantity: str, rows: np.ndarray, target: np.ndarray, log: bool = False
+    ) -> tuple[np.ndarray, np.ndarray, ReferenceRows]:
+        """For each record of ``rows`` whose substance has a finite reference ``quantity``,
+        the value nearest ``target`` (one per record, in ln of the value when ``log``; the
+        first in table order on a tie, and where the distance is not a number): returns
+        (positions into ``rows``, positions into the returned :class:`ReferenceRows`,
+        those reference rows). Every value of a substance is weighed, so that the order of
+        the rows never decides which one a record is held to.
+        """
+        refs = self.references_of(quantity)
+        i, j = match(self.codes[rows], np.where(np.isfinite(refs.value), refs.codes, -1))
+        if i.size == 0:
+            return i, j, refs
+        with np.errstate(invalid="ignore", divide="ignore"):
+            value = np.log(refs.value[j]) if log else refs.value[j]
+            miss = np.abs(target[i] - value)
+        miss = np.where(np.isnan(miss), np.inf, miss)
+        order = np.lexsort((j, miss, i))  # per record the nearest, the first on a tie
+        k = order[np.unique(i[order], return_index=True)[1]]
+        return i[k], j[k], refs
+
     def reference_row_at(self, row: int) -> tuple[str, str, int]:
         """(source, file, line) of reference row ``row``."""
         source, file, line = self._reference_cells

@@ -182,19 +182,10 @@ def _pressure_at_range_end(ctx: AuditContext, rows: np.ndarray) -> _RangeEnds:
     """:class:`_RangeEnds` of the records in ``rows``: every reference Pc of a substance is
     weighed, so that the order of the rows never decides which one a range is held to.
     """
-    pcs = ctx.references_of("critical_pressure")
-    i, j = match(ctx.codes[rows], np.where(np.isfinite(pcs.value), pcs.codes, -1))
-    if i.size == 0:
-        empty = np.empty(0, dtype=np.int64)
-        return _RangeEnds(empty, np.empty(0), np.empty(0), empty)
     c = ctx.curves.take(rows)
     y_end = evaluate(c, c.t_max, order=0)[0]
-    with np.errstate(invalid="ignore", divide="ignore"):
-        miss = np.abs(y_end[i] - np.log(pcs.value[j]))
-    miss = np.where(np.isnan(miss), np.inf, miss)
-    order = np.lexsort((j, miss, i))  # per record the nearest Pc, the first on a tie
-    k = order[np.unique(i[order], return_index=True)[1]]
-    return _RangeEnds(rows[i[k]], y_end[i[k]], pcs.value[j[k]], pcs.rows[j[k]])
+    i, j, pcs = ctx.nearest_references("critical_pressure", rows, y_end, log=True)
+    return _RangeEnds(rows[i], y_end[i], pcs.value[j], pcs.rows[j])
 
 
 def _critical_pressure_sides(ctx: AuditContext, end: _RangeEnds, tc_ref: np.ndarray) -> dict:

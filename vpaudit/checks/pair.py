@@ -12,7 +12,7 @@ import numpy as np
 
 from ..constants import R
 from ..equations.engine import evaluate_rows
-from ._context import AuditContext, match
+from ._context import AuditContext
 from ._registry import Scope, Severity, Threshold, check
 from ._text import jk, kelvin, kj, ln_ratio, pressure
 from .extrapolation import allowance
@@ -334,16 +334,8 @@ def fusion_reference(ctx: AuditContext, solid: np.ndarray, implied: np.ndarray) 
     value, that value.
     """
     out = np.full(solid.size, np.nan)
-    refs = ctx.references_of("enthalpy_of_fusion")
-    i, j = match(ctx.codes[solid], np.where(np.isfinite(refs.value), refs.codes, -1))
-    if i.size == 0:
-        return out
-    with np.errstate(invalid="ignore"):
-        miss = np.abs(implied[i] - refs.value[j])
-    miss = np.where(np.isnan(miss), np.inf, miss)
-    order = np.lexsort((j, miss, i))  # per pair the nearest, the first on a tie
-    k = order[np.unique(i[order], return_index=True)[1]]
-    out[i[k]] = refs.value[j[k]]
+    i, j, refs = ctx.nearest_references("enthalpy_of_fusion", solid, implied)
+    out[i] = refs.value[j]
     return out
 
 

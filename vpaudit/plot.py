@@ -294,19 +294,22 @@ def plot_substance(table: Table, substance: str, path: str | Path, unit: str = "
 def _anchor_points(ctx: AuditContext) -> dict[str, tuple[float, float]]:
     """For each phase with standard data at 298.15 K: the ln P they imply there (third law,
     ln P = ln P0 + dS0/R - dH/(R T)) and the half-width of the anchor's entropy allowance
-    in ln P.
+    in ln P. The standard data are those the anchor checks hold the phase's first record
+    to (with several sources' values, the ones its curve meets best).
     """
+    from .checks.anchor import anchor_values
     from .constants import R
 
+    a = anchor_values(ctx)
     out = {}
-    for phase, what in (("liquid", "vaporization"), ("solid", "sublimation")):
-        h = ctx.reference(f"standard_enthalpy_of_{what}")
-        s = ctx.reference(f"standard_entropy_of_{what}")
-        rows = np.flatnonzero((ctx.liquid if phase == "liquid" else ctx.solid) & np.isfinite(h))
-        rows = rows[np.isfinite(s[rows])]
-        if rows.size:
-            k = rows[0]
-            ln_p = math.log(1e5) + s[k] / R - h[k] / (R * 298.15)
+    if a is None:
+        return out
+    both = np.isfinite(a.h_ref) & np.isfinite(a.s_ref)
+    for phase in ("liquid", "solid"):
+        k = np.flatnonzero(both & (ctx.liquid[a.rows] == (phase == "liquid")))
+        if k.size:
+            h, s = a.h_ref[k[0]], a.s_ref[k[0]]
+            ln_p = math.log(1e5) + s / R - h / (R * 298.15)
             out[phase] = (ln_p, ctx.thresholds("anchor-entropy")["tolerance"] / R)
     return out
 

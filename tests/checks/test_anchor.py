@@ -54,6 +54,46 @@ def test_alcock_solids_meet_the_crc_standard_data(alcock_solids):
     assert not [f for f in result.findings if f.check.startswith("anchor")]
 
 
+def test_every_source_of_the_standard_data_is_weighed(alcock_solids):
+    # a second source's standard data, a factor 1000 off in the pressure its entropy
+    # implies (R ln 1000 = 57.4 J/(mol K) lower) and 30 % off in enthalpy (invented wrong
+    # values, not a real source), listed before or after the CRC's: each curve is held to
+    # the value it meets best, so the verdicts are the CRC's alone in either order
+    solids, refs = alcock_solids
+    wrong = []
+    for x in refs:
+        shift = -57.4 if "entropy" in x["quantity"] else 0.3 * x["value"]
+        wrong.append(dict(x, value=x["value"] + shift, source="another table"))
+
+    def anchor_findings(rows):
+        result = audit_table(table_from_rows(solids, rows), diagnose=False)
+        return sorted(
+            (f.check, f.records, f.message)
+            for f in result.findings
+            if f.check.startswith("anchor") or f.check == "reference-not-used"
+        )
+
+    alone = anchor_findings(refs)
+    assert alone == []  # (the test above: the CRC data alone draw nothing)
+    assert anchor_findings(wrong + refs) == alone  # before: every solid drew two errors
+    assert anchor_findings(refs + wrong) == alone
+    # and the curves name the wrong values: each at its own line, beside the CRC's
+    for rows, first in ((wrong + refs, 1), (refs + wrong, len(refs) + 1)):
+        result = audit_table(table_from_rows(solids, rows), diagnose=False)
+        named = [f for f in result.findings if f.check == "reference-contradicted"]
+        judged = {f.records for f in named}
+        assert len(named) >= 2 * 25 and all(len(r) == 1 for r in judged)
+        assert all(first <= f.line < first + len(wrong) for f in named)
+        assert all("(another table) disagrees" in f.message for f in named)
+    ctx = AuditContext(table_from_rows(solids, wrong + refs), Policy())
+    a = anchor_values(ctx)
+    crc = AuditContext(table_from_rows(solids, refs), Policy())
+    b = anchor_values(crc)
+    np.testing.assert_array_equal(a.rows, b.rows)
+    np.testing.assert_array_equal(a.h_ref, b.h_ref)
+    np.testing.assert_array_equal(a.s_ref, b.s_ref)
+
+
 @pytest.mark.parametrize("kind", ["log-base", "pressure-unit"])
 def test_a_slip_on_a_lone_curve_is_caught_by_the_anchor_alone(alcock_solids, kind):
     # lone solid curves: no partner, no boiling point, one source; the standard data are

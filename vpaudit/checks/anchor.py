@@ -23,7 +23,7 @@ import numpy as np
 
 from ..constants import R
 from ..equations.engine import evaluate
-from ._context import AuditContext
+from ._context import AuditContext, match
 from ._registry import Scope, Severity, Threshold, check
 from ._text import kelvin, kj, pressure_at_ln
 from .hits import Hit
@@ -96,19 +96,20 @@ def anchor_values(ctx: AuditContext) -> AnchorValues | None:
     """For every record with a standard reference of its phase: the implied dH and dS0 at
     298.15 K, the references, the distance of the extrapolation and the nearest range edge
     (:class:`AnchorValues`). None when no record has one.
+
+    A table may keep several sources' standard data for one substance: each curve is held
+    to the value of each quantity nearest what it implies (the first in table order on a
+    tie), as for a boiling point, so that the order of the rows never decides.
     """
     liquid = ctx.liquid
-    h_ref = np.where(
-        liquid,
-        ctx.reference("standard_enthalpy_of_vaporization"),
-        ctx.reference("standard_enthalpy_of_sublimation"),
-    )
-    s_ref = np.where(
-        liquid,
-        ctx.reference("standard_entropy_of_vaporization"),
-        ctx.reference("standard_entropy_of_sublimation"),
-    )
-    rows = np.flatnonzero(ctx.evaluable & (np.isfinite(h_ref) | np.isfinite(s_ref)))
+    quantities = {
+        "h": ("standard_enthalpy_of_vaporization", "standard_enthalpy_of_sublimation"),
+        "s": ("standard_entropy_of_vaporization", "standard_entropy_of_sublimation"),
+    }
+    has = np.zeros(ctx.n, dtype=bool)
+    for pair in quantities.values():
+        has |= np.isfinite(np.where(liquid, ctx.reference(pair[0]), ctx.reference(pair[1])))
+    rows = np.flatnonzero(ctx.evaluable & has)
     if rows.size == 0:
         return None
     c = ctx.curves.take(rows)
@@ -118,13 +119,21 @@ def anchor_values(ctx: AuditContext) -> AnchorValues | None:
         h = R * T_ANCHOR**2 * y1
         s = h / T_ANCHOR + R * (y - LN_P0_BAR)
         p = np.exp(y)  # a curve extrapolated to absurd heights overflows: y keeps it
+    implied = {"h": h, "s": s}
+    ref = {}
+    for key, (of_liquid, of_solid) in quantities.items():
+        ref[key] = np.full(rows.size, np.nan)
+        for quantity, phase in ((of_liquid, liquid[rows]), (of_solid, ~liquid[rows])):
+            at = np.flatnonzero(phase)
+            i, j, refs = ctx.nearest_references(quantity, rows[at], implied[key][at])
+            ref[key][at[i]] = refs.value[j]
     return AnchorValues(
         rows=rows,
         h=h,
         s=s,
         p=p,
-        h_ref=h_ref[rows],
-        s_ref=s_ref[rows],
+        h_ref=ref["h"],
+        s_ref=ref["s"],
         edge=edge,
         distance=np.abs(edge - T_ANCHOR),
         ratio=edge / T_ANCHOR,
@@ -267,3 +276,64 @@ def anchor_entropy(ctx: AuditContext, th: dict[str, float]):
             },
             tier=None if error[k] else "below-error-above",
         )
+
+
+def contradicted_standard_data(ctx: AuditContext):
+    """Hits of ``reference-contradicted`` for the standard data at 298.15 K: a substance's
+    reference standard enthalpy or entropy of a phase change that no curve of the phase
+    meets, within the anchor checks' warning allowance, while they meet another reference
+    value of it. The curves side with the other value; the contradicted one is named at its
+    own file and line (the checks hold each curve to the value it meets best, so the curves
+    draw no finding for it). Curves whose range is too far from 298.15 K to be judged take
+    no part.
+    """
+    a = anchor_values(ctx)
+    if a is None:
+        return
+    al = allowances(ctx, a)
+    th = {"h": ctx.thresholds("anchor-enthalpy"), "s": ctx.thresholds("anchor-entropy")}
+    growth = {"h": al.h_warn - al.h_base, "s": al.s_warn - al.s_base}
+    judged = {"h": a.ratio <= th["h"]["max_ratio"], "s": a.ratio <= th["s"]["max_ratio"]}
+    liquid = ctx.liquid[a.rows]
+    value = ctx.table.references["value_si"].to_numpy(dtype=float)
+    for key, implied, words, unit, si in (
+        ("h", a.h, "enthalpy", kj, "J_per_mol"),
+        ("s", a.s, "entropy", lambda v: f"{v:.1f} J/(mol K)", "J_per_mol_K"),
+    ):
+        for phase, what in ((liquid, "vaporization"), (~liquid, "sublimation")):
+            refs = ctx.references_of(f"standard_{words}_of_{what}")
+            at = np.flatnonzero(phase & judged[key] & np.isfinite(implied))
+            i, j = match(ctx.codes[a.rows[at]], np.where(np.isfinite(refs.value), refs.codes, -1))
+            if i.size == np.unique(i).size:  # one value per curve: nothing to weigh
+                continue
+            k, ref = at[i], refs.rows[j]
+            miss = implied[k] - refs.value[j]
+            base = th[key]["tolerance"] * (np.abs(refs.value[j]) if key == "h" else 1.0)
+            met = np.abs(miss) <= base + growth[key][k]
+            for r, on, other, sides in ctx.contradictions(a.rows[k], ref, met):
+                by = k[on][sides]
+                ids = tuple(ctx.id(int(x)) for x in a.rows[by])
+                worst = miss[on][sides]
+                worst = float(worst[np.argmax(np.abs(worst))])
+                opening, file, line = ctx.reference_disagreement(
+                    f"standard {words} of {what} at 298.15 K", r, other, unit
+                )
+                one = len(ids) == 1
+                yield Hit(
+                    int(a.rows[by[0]]),
+                    opening + f"the curve{'' if one else 's'} of {', '.join(ids)} "
+                    f"meet{'s' if one else ''} that one and miss{'es' if one else ''} this one "
+                    f"by {'' if one else 'up to '}"
+                    + (f"{worst / 1000:+.3g} kJ/mol" if key == "h" else f"{worst:+.1f} J/(mol K)")
+                    + ". The reference value looks wrong, not the "
+                    f"record{'' if one else 's'}: check it against its source.",
+                    {
+                        "quantity": f"standard_{words}_of_{what}",
+                        f"reference_{si}": float(value[r]),
+                        f"other_reference_{si}": float(value[other]),
+                        f"difference_{si}": worst,
+                    },
+                    records=ids,
+                    file=file,
+                    line=line,
+                )

@@ -426,14 +426,18 @@ def reference_contradicted(ctx: AuditContext, th: dict[str, float]):
     range passes while another reference value of the substance allows it
     (:func:`vpaudit.checks.critical.contradicted_critical_temperatures`), and a reference
     critical pressure that the liquids reaching Tc miss while they meet another
-    (:func:`vpaudit.checks.critical.contradicted_critical_pressures`).
+    (:func:`vpaudit.checks.critical.contradicted_critical_pressures`), and a reference
+    standard enthalpy or entropy at 298.15 K that the curves of its phase miss while they
+    meet another (:func:`vpaudit.checks.anchor.contradicted_standard_data`).
     """
-    # imported here: importing it at the top would register its checks before these
+    # imported here: importing them at the top would register their checks before these
+    from .anchor import contradicted_standard_data
     from .critical import contradicted_critical_pressures, contradicted_critical_temperatures
 
     yield from _contradicted_boiling_points(ctx)
     yield from contradicted_critical_temperatures(ctx)
     yield from contradicted_critical_pressures(ctx)
+    yield from contradicted_standard_data(ctx)
 
 
 def _contradicted_boiling_points(ctx: AuditContext):

@@ -127,7 +127,16 @@ def duplicate_record(ctx: AuditContext, th: dict[str, float]):
 
 #: Reference quantities of which every value is weighed: a substance may have several.
 _EVERY_VALUE_WEIGHED = frozenset(
-    {"normal_boiling_point", "critical_temperature", "critical_pressure", "enthalpy_of_fusion"}
+    {
+        "normal_boiling_point",
+        "critical_temperature",
+        "critical_pressure",
+        "enthalpy_of_fusion",
+        "standard_enthalpy_of_vaporization",
+        "standard_entropy_of_vaporization",
+        "standard_enthalpy_of_sublimation",
+        "standard_entropy_of_sublimation",
+    }
 )
 
 
@@ -148,7 +157,9 @@ def reference_not_used(ctx: AuditContext, th: dict[str, float]):
     end, ``critical-pressure-mismatch`` tries every pairing of the two, and the rules of
     thumb that read them (the near-ideal limit 0.7 Tc of the dCp checks, the virial
     correction of ``enthalpy-mismatch``) take their medians; every enthalpy of fusion too
-    (each solid/liquid pair is held to the one it meets best). Otherwise the checks use the
+    (each solid/liquid pair is held to the one it meets best), and every standard enthalpy
+    and entropy of a phase change at 298.15 K (each curve is held to the value of each that
+    it meets best). Otherwise the checks use the
     first value per substance; when a later one differs, this note names both, at the later
     value's own file and line, so that a steward can keep the right one first or remove the
     other.

@@ -280,3 +280,53 @@ def test_a_reference_median_is_each_substances_median_in_any_order(values):
                 assert got[i] == pytest.approx(np.median(mine), rel=1e-12)
             else:
                 assert np.isnan(got[i])
+
+
+@given(
+    st.lists(
+        st.tuples(st.integers(0, 3), st.floats(100.0, 1000.0, allow_nan=False)),
+        max_size=8,
+    ),
+    st.lists(st.floats(100.0, 1000.0, allow_nan=False), min_size=6, max_size=6),
+)
+def test_nearest_references_pick_each_records_nearest_value_first_on_a_tie(values, target):
+    """nearest_references against a plain loop (invented values): for each record whose
+    substance has a value, the value nearest its target, the first in table order on a tie;
+    with at most one value per substance (its shortcut) and with several."""
+    from refdata import table_from_rows
+
+    records = [
+        {
+            "id": f"r{i}",
+            "substance": f"s{i % 4}",
+            "phase": "liquid",
+            "form": "two-term",
+            "A": 20.0,
+            "B": -4000.0,
+            "t_min": 300.0,
+            "t_max": 400.0,
+            "log_base": "e",
+            "pressure_unit": "Pa",
+            "source": "invented for this test",
+        }
+        for i in range(6)
+    ]
+    refs = [
+        {
+            "substance": f"s{i}",
+            "quantity": "critical_temperature",
+            "value": v,
+            "unit": "K",
+            "source": f"invented {k}",
+        }
+        for k, (i, v) in enumerate(values)
+    ]
+    ctx = context.AuditContext(table_from_rows(records, refs), Policy())
+    rows = np.arange(6)[::-1]
+    i, j, got = ctx.nearest_references("critical_temperature", rows, np.asarray(target))
+    expected = {}
+    for p, r in enumerate(rows.tolist()):
+        mine = [(abs(target[p] - v), k) for k, (s, v) in enumerate(values) if s == r % 4]
+        if mine:
+            expected[p] = values[min(mine)[1]][1]
+    assert dict(zip(i.tolist(), got.value[j].tolist(), strict=True)) == expected

@@ -306,6 +306,10 @@ class AuditContext:
         """Every reference value of ``quantity`` that names a known substance, in the order
         of the table (a substance may have several, from different sources).
         """
+        return self.memo(("references of", quantity), lambda: self._references_of(quantity))
+
+    def _references_of(self, quantity: str) -> ReferenceRows:
+        """:meth:`references_of`, computed."""
         refs = self.table.references
         if not len(refs):
             empty = np.empty(0, dtype=np.int64)
@@ -313,12 +317,15 @@ class AuditContext:
         rows = np.flatnonzero(eq(refs["quantity"], quantity) & (self.ref_codes >= 0))
         value = refs["value_si"].to_numpy(dtype=float)[rows]
         u = self._reference_uncertainty_si(quantity, rows)
-        return ReferenceRows(
+        out = ReferenceRows(
             rows,
             self.ref_codes[rows],
             value,
             np.full(rows.size, np.nan) if u is None else u,
         )
+        for arr in out:  # shared by every check that asks (memo): read only
+            arr.flags.writeable = False
+        return out
 
     def nearest_references(
         self, quantity: str, rows: np.ndarray, target: np.ndarray, log: bool = False
@@ -331,9 +338,12 @@ class AuditContext:
         the rows never decides which one a record is held to.
         """
         refs = self.references_of(quantity)
+        single = self.memo(("single reference", quantity), lambda: self._single_position(refs))
+        if single is not None:  # at most one value per substance: that one, if any
+            j = single[self.codes[rows]]
+            i = np.flatnonzero(j >= 0)
+            return i, j[i], refs
         i, j = match(self.codes[rows], np.where(np.isfinite(refs.value), refs.codes, -1))
-        if i.size == 0:
-            return i, j, refs
         with np.errstate(invalid="ignore", divide="ignore"):
             value = np.log(refs.value[j]) if log else refs.value[j]
             miss = np.abs(target[i] - value)
@@ -341,6 +351,18 @@ class AuditContext:
         order = np.lexsort((j, miss, i))  # per record the nearest, the first on a tie
         k = order[np.unique(i[order], return_index=True)[1]]
         return i[k], j[k], refs
+
+    def _single_position(self, refs: ReferenceRows) -> np.ndarray | None:
+        """For ``refs`` of which no substance has two finite values: the position of each
+        substance code's value in ``refs`` (-1 where it has none, and for records of no
+        known substance, code -1); None when some substance has two.
+        """
+        ok = np.flatnonzero(np.isfinite(refs.value))
+        if np.bincount(refs.codes[ok], minlength=1).max(initial=0) > 1:
+            return None
+        out = np.full(self.n_names + 1, -1, dtype=np.int64)  # the last: no substance
+        out[refs.codes[ok]] = ok
+        return out
 
     def reference_row_at(self, row: int) -> tuple[str, str, int]:
         """(source, file, line) of reference row ``row``."""

@@ -154,6 +154,7 @@ def in_thread(func: Callable[..., Any], *args: Any, name: str = "vpaudit-work"):
 # mallopt parameters, from glibc's <malloc.h>
 _M_TRIM_THRESHOLD = -1
 _M_MMAP_THRESHOLD = -3
+_M_ARENA_MAX = -8
 
 
 def _keep_freed_memory(mmap_threshold: int = 256 << 20, trim_threshold: int = 1 << 30) -> bool:
@@ -172,6 +173,23 @@ def _keep_freed_memory(mmap_threshold: int = 256 << 20, trim_threshold: int = 1 
     return bool(mallopt(_M_MMAP_THRESHOLD, mmap_threshold)) and bool(
         mallopt(_M_TRIM_THRESHOLD, trim_threshold)
     )
+
+
+def _one_arena() -> bool:
+    """Ask glibc to serve every thread from one arena, so that the blocks a second thread
+    frees (the solid/liquid pairs' scan, the columns parsed beside each other) are reused
+    by the others instead of kept in an arena of their own; the threads rarely allocate at
+    the same moment. False on a C library without ``mallopt`` (nothing changes).
+    """
+    if not sys.platform.startswith("linux"):
+        return False
+    try:
+        mallopt = ctypes.CDLL(None).mallopt
+    except (OSError, AttributeError):
+        return False
+    mallopt.argtypes = (ctypes.c_int, ctypes.c_int)
+    mallopt.restype = ctypes.c_int
+    return bool(mallopt(_M_ARENA_MAX, 1))
 
 
 def _no_huge_page_advice() -> None:
@@ -200,6 +218,7 @@ def process_settings() -> None:
     import of the library: a library must not change its host's process).
     """
     _keep_freed_memory()
+    _one_arena()
     _no_huge_page_advice()
     _fewer_gc_passes()
 

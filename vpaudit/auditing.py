@@ -338,8 +338,8 @@ def run_checks(ctx: AuditContext, names: list[str], progress=None) -> Findings:
     waiting = _pairs_beside(ctx, active)
     order = names
     if waiting is not None:  # the checks without pairs first, while the pairs are made
-        order = [n for n in names if REGISTRY[n].scope.value != "pair"]
-        order += [n for n in names if REGISTRY[n].scope.value == "pair"]
+        order = [n for n in names if not REGISTRY[n].needs_pairs]
+        order += [n for n in names if REGISTRY[n].needs_pairs]
     found: dict[str, Findings] = {}
     try:
         for done, name in enumerate(order):
@@ -347,7 +347,7 @@ def run_checks(ctx: AuditContext, names: list[str], progress=None) -> Findings:
                 progress(done, len(names), name)
             if policy.severity(name) is None:
                 continue
-            if waiting is not None and REGISTRY[name].scope.value == "pair":
+            if waiting is not None and REGISTRY[name].needs_pairs:
                 ctx.lend_a_hand()  # the rest of the crossing search, on both threads
                 waiting()
                 waiting = None
@@ -425,8 +425,8 @@ def _pairs_beside(ctx: AuditContext, names: list[str]):
     """
     if not ctx.runtime.split(ctx.n):
         return None  # small tables, one core, or --jobs 1
-    scopes = [REGISTRY[n].scope.value for n in names]
-    if "pair" not in scopes or all(s == "pair" for s in scopes):
+    needs = [REGISTRY[n].needs_pairs for n in names]
+    if not any(needs) or all(needs):
         return None
     import threading
 

@@ -330,3 +330,13 @@ def test_nearest_references_pick_each_records_nearest_value_first_on_a_tie(value
         if mine:
             expected[p] = values[min(mine)[1]][1]
     assert dict(zip(i.tolist(), got.value[j].tolist(), strict=True)) == expected
+    # the lower value on a tie: the same whatever the order of the rows
+    i, j, got = ctx.nearest_references(
+        "critical_temperature", rows, np.asarray(target), lower_on_tie=True
+    )
+    lower = {}
+    for p, r in enumerate(rows.tolist()):
+        mine = [(abs(target[p] - v), v) for s, v in values if s == r % 4]
+        if mine:
+            lower[p] = min(mine)[1]
+    assert dict(zip(i.tolist(), got.value[j].tolist(), strict=True)) == lower

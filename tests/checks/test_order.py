@@ -1,8 +1,8 @@
 """The order of a table's rows never decides a verdict: the four compilations together
 (tests/_support/compilations.py: Landolt odd-CAS rows, Poling's Antoine, McGarry's and
-Poling's Wagner, Perry's, via chemicals), each substance with the normal boiling point and
-the critical temperature of every method chemicals carries, give the same findings with
-their reference rows in table order and reversed."""
+Poling's Wagner, Perry's, via chemicals), each substance with the normal boiling point, the
+critical temperature and the melting point of every method chemicals carries, give the same
+findings with their reference rows in table order and reversed."""
 
 from compilations import _complete, every_boiling_point, together
 from refdata import table_from_rows
@@ -14,6 +14,7 @@ def test_reversing_the_reference_rows_changes_no_verdict():
     records, refs = together(None)
     records = [r for r in records if _complete(r)]
     refs = every_boiling_point(every_boiling_point(refs), "critical_temperature")
+    refs = every_boiling_point(refs, "melting_point")
 
     def found(rows):
         result = audit_table(table_from_rows(records, rows), diagnose=False)

@@ -328,17 +328,24 @@ class AuditContext:
         return out
 
     def nearest_references(
-        self, quantity: str, rows: np.ndarray, target: np.ndarray, log: bool = False
+        self,
+        quantity: str,
+        rows: np.ndarray,
+        target: np.ndarray,
+        log: bool = False,
+        lower_on_tie: bool = False,
     ) -> tuple[np.ndarray, np.ndarray, ReferenceRows]:
         """For each record of ``rows`` whose substance has a finite reference ``quantity``,
         the value nearest ``target`` (one per record, in ln of the value when ``log``; the
-        first in table order on a tie, and where the distance is not a number): returns
+        first in table order on a tie, and where the distance is not a number, or with
+        ``lower_on_tie`` the lower value, so that not even a tie depends on the order of
+        the rows): returns
         (positions into ``rows``, positions into the returned :class:`ReferenceRows`,
         those reference rows). Every value of a substance is weighed, so that the order of
         the rows never decides which one a record is held to.
         """
         refs = self.references_of(quantity)
-        single = self.memo(("single reference", quantity), lambda: self._single_position(refs))
+        single = self._single_position(quantity)
         if single is not None:  # at most one value per substance: that one, if any
             j = single[self.codes[rows]]
             i = np.flatnonzero(j >= 0)
@@ -348,21 +355,33 @@ class AuditContext:
             value = np.log(refs.value[j]) if log else refs.value[j]
             miss = np.abs(target[i] - value)
         miss = np.where(np.isnan(miss), np.inf, miss)
-        order = np.lexsort((j, miss, i))  # per record the nearest, the first on a tie
+        tie = refs.value[j] if lower_on_tie else j
+        order = np.lexsort((j, tie, miss, i))  # per record the nearest, then by the tie rule
         k = order[np.unique(i[order], return_index=True)[1]]
         return i[k], j[k], refs
 
-    def _single_position(self, refs: ReferenceRows) -> np.ndarray | None:
-        """For ``refs`` of which no substance has two finite values: the position of each
-        substance code's value in ``refs`` (-1 where it has none, and for records of no
-        known substance, code -1); None when some substance has two.
+    def one_value_each(self, quantity: str) -> bool:
+        """Whether no substance has two finite reference values of ``quantity`` (then
+        there is nothing to weigh between sources).
         """
-        ok = np.flatnonzero(np.isfinite(refs.value))
-        if np.bincount(refs.codes[ok], minlength=1).max(initial=0) > 1:
-            return None
-        out = np.full(self.n_names + 1, -1, dtype=np.int64)  # the last: no substance
-        out[refs.codes[ok]] = ok
-        return out
+        return self._single_position(quantity) is not None
+
+    def _single_position(self, quantity: str) -> np.ndarray | None:
+        """Where no substance has two finite values of ``quantity``: the position of each
+        substance code's value in :meth:`references_of` (-1 where it has none, and for
+        records of no known substance, code -1); None when some substance has two.
+        """
+
+        def compute() -> np.ndarray | None:
+            refs = self.references_of(quantity)
+            ok = np.flatnonzero(np.isfinite(refs.value))
+            if np.bincount(refs.codes[ok], minlength=1).max(initial=0) > 1:
+                return None
+            out = np.full(self.n_names + 1, -1, dtype=np.int64)  # the last: no substance
+            out[refs.codes[ok]] = ok
+            return out
+
+        return self.memo(("single reference", quantity), compute)
 
     def reference_row_at(self, row: int) -> tuple[str, str, int]:
         """(source, file, line) of reference row ``row``."""
@@ -523,16 +542,6 @@ class AuditContext:
         tm = self.reference("melting_point", rows)
         ttp = self.reference("triple_point_temperature", rows)
         return np.where(np.isnan(tm), ttp, tm)
-
-    def melting_uncertainty(self, rows: np.ndarray | None = None) -> np.ndarray:
-        """The stated uncertainty of :meth:`melting_reference` (of the melting point, or of
-        the triple-point temperature where it stands in), NaN where none is stated. [K]
-        """
-        tm = self.reference("melting_point", rows)
-        u_tm = self.reference_uncertainty("melting_point", rows)
-        return np.where(
-            np.isnan(tm), self.reference_uncertainty("triple_point_temperature", rows), u_tm
-        )
 
     def critical_temperature(self) -> np.ndarray:
         """Critical temperature per record: the median of the substance's reference values

@@ -96,6 +96,14 @@ class CheckSpec:
     tiers: dict[str, Severity] = field(default_factory=dict)
     witness: str | None = None
     impossible: bool = False
+    reads_pairs: bool = False
+
+    @property
+    def needs_pairs(self) -> bool:
+        """Whether it reads the solid/liquid pairs: a pair check, or one that says so. The
+        runner runs such checks once the pairs are made (:func:`vpaudit.auditing.run_checks`).
+        """
+        return self.scope is Scope.pair or self.reads_pairs
 
     @property
     def escalates_to(self) -> Severity | None:
@@ -135,6 +143,7 @@ def check(
     tiers: dict[str, Severity] | None = None,
     witness: str | None = None,
     impossible: bool = False,
+    reads_pairs: bool = False,
 ):
     """Register a check under ``name``: a generator ``func(ctx, th)`` of hits
     (:mod:`vpaudit.checks.hits`) over the audit's arrays ``ctx`` and its own thresholds
@@ -171,6 +180,10 @@ def check(
         positive or flatter than any real curve), which clean real equations all but never
         draw: the diagnosis weighs such an error left unexplained more heavily than others
         (``impossible_cost`` of :data:`vpaudit.diagnose.CALIBRATION`).
+    reads_pairs : bool
+        For a check of records or sources that also reads the solid/liquid pairs
+        (``ctx.pairs``): the runner then runs it with the pair checks, once the pairs are
+        made (they may be being made on another thread until then).
     """
 
     def register(func):
@@ -188,6 +201,7 @@ def check(
             dict(tiers or {}),
             witness,
             impossible,
+            reads_pairs,
         )
         return func
 

@@ -12,10 +12,11 @@ import numpy as np
 
 from ..constants import R
 from ..equations.engine import evaluate_rows
-from ._context import AuditContext
+from ._context import AuditContext, match
 from ._registry import Scope, Severity, Threshold, check
 from ._text import jk, kelvin, kj, ln_ratio, pressure
 from .extrapolation import allowance
+from .hits import Hit
 
 __all__: list[str] = []
 
@@ -309,16 +310,15 @@ def crossing_outside_range(ctx: AuditContext, th: dict[str, float]):
 
 
 def melting_tolerance(
-    ctx: AuditContext, solid: np.ndarray, slope_diff: np.ndarray, th: dict[str, float]
+    u_tm: np.ndarray, slope_diff: np.ndarray, th: dict[str, float]
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """The tolerance [ln P] of ``melting-point-mismatch`` for the pairs of solid records
-    ``solid`` whose curves part by ``slope_diff`` (d(y_s - y_l)/dT at the melting point,
-    [1/K]): ``factor`` times the slope difference times a stated uncertainty of the
-    reference melting point where that is larger than ``tolerance``, else ``tolerance``.
-    Returns (tolerance, whether the stated uncertainty set it, that uncertainty [K]); the
-    check and the diagnosis both use it.
+    """The tolerance [ln P] of ``melting-point-mismatch`` for pairs whose reference melting
+    point states the uncertainty ``u_tm`` [K] (NaN where none; :attr:`Pairs.tm_uncertainty`)
+    and whose curves part by ``slope_diff`` (d(y_s - y_l)/dT at the melting point, [1/K]):
+    ``factor`` times the slope difference times that uncertainty where that is larger than
+    ``tolerance``, else ``tolerance``. Returns (tolerance, whether the stated uncertainty set
+    it, that uncertainty [K]); the check and the diagnosis both use it.
     """
-    u_tm = ctx.melting_uncertainty(solid)
     with np.errstate(invalid="ignore"):
         stated = th["factor"] * np.abs(slope_diff) * u_tm
     by_stated = stated > th["tolerance"]  # False where none is stated
@@ -337,6 +337,60 @@ def fusion_reference(ctx: AuditContext, solid: np.ndarray, implied: np.ndarray) 
     i, j, refs = ctx.nearest_references("enthalpy_of_fusion", solid, implied)
     out[i] = refs.value[j]
     return out
+
+
+def contradicted_melting_points(ctx: AuditContext):
+    """Hits of ``reference-contradicted`` for the reference melting points that no checkable
+    solid/liquid pair of their substance meets (within the tolerance of
+    ``melting-point-mismatch``) while the pairs meet another reference value of it: the
+    curves side with the other value, which the pair checks hold them to, and the
+    contradicted one is named at its own file and line when every such pair misses it by
+    more than twice that tolerance.
+    """
+    refs = ctx.references_of("melting_point")
+    if ctx.one_value_each("melting_point"):  # nothing to weigh (and no pairs to wait for)
+        return
+    pr = ctx.pairs
+    th = ctx.thresholds("melting-point-mismatch")
+    pairs = np.flatnonzero(pr.checkable)
+    i, j = match(ctx.codes[pr.solid[pairs]], np.where(np.isfinite(refs.value), refs.codes, -1))
+    if i.size == np.unique(i).size:  # one value per pair: nothing to weigh
+        return
+    k, t = pairs[i], refs.value[j]
+    ys, s1, _ = evaluate_rows(ctx.curves, pr.solid[k], t, order=1)
+    yl, l1, _ = evaluate_rows(ctx.curves, pr.liquid[k], t, order=1)
+    d = ys - yl
+    tol = melting_tolerance(refs.uncertainty[j], s1 - l1, th)[0]
+    met = np.abs(d) <= tol
+    value = ctx.table.references["value_si"].to_numpy(dtype=float)
+    for r, at, other, sides in ctx.contradictions(k, refs.rows[j], met):
+        if np.any(np.abs(d[at][sides]) <= 2.0 * tol[at][sides]):
+            # sources' melting points a kelvin apart, which the tolerance of an organic
+            # pair (0.05 in ln P: about 1 K) just separates: the pair checks take the one
+            # the curves meet, and naming the other as wrong would be a quibble
+            continue
+        by = k[at][sides]
+        ids = tuple(x for b in by.tolist() for x in (ctx.id(pr.solid[b]), ctx.id(pr.liquid[b])))
+        ids = tuple(dict.fromkeys(ids))
+        miss = d[at][sides]
+        worst = float(miss[np.argmax(np.abs(miss))])
+        opening, file, line = ctx.reference_disagreement("melting point", r, other, kelvin)
+        one = by.size == 1
+        yield Hit(
+            int(pr.solid[by[0]]),
+            opening + f"the solid and liquid curves of {', '.join(ids)} meet that one and "
+            f"differ by {'' if one else 'up to '}{ln_ratio(worst)} at this one. The reference "
+            f"value {kelvin(value[r])} looks wrong, not the records: check it against its "
+            "source.",
+            {
+                "melting_point_K": float(value[r]),
+                "other_melting_point_K": float(value[other]),
+                "difference_lnP": [float(x) for x in miss],
+            },
+            records=ids,
+            file=file,
+            line=line,
+        )
 
 
 def _tolerance_text(th: dict[str, float], by_stated: bool, u: float) -> str:
@@ -418,7 +472,7 @@ def melting_point_mismatch(ctx: AuditContext, th: dict[str, float]):
     at = ctx.melting_slopes  # at the reference melting point where there is one
     ys, s1, yl, l1 = at.ys[rows], at.s1[rows], at.yl[rows], at.l1[rows]
     d = ys - yl
-    tol, by_stated, u_tm = melting_tolerance(ctx, pr.solid[rows], s1 - l1, th)
+    tol, by_stated, u_tm = melting_tolerance(pr.tm_uncertainty[rows], s1 - l1, th)
     bad = ~(np.abs(d) <= tol)
     widened = _widened_tolerance(ctx, rows, tm[rows], tol)
     hfus_imp = R * tm[rows] ** 2 * (s1 - l1)

@@ -30,9 +30,15 @@ class Pairs:
     solid, liquid : ndarray of int
         Record rows.
     anchor : ndarray
-        The reference melting point, else the middle of the ranges' gap or overlap [K].
+        Where the crossing is searched: the median of the substance's reference melting
+        points, else its triple-point temperature, else the middle of the ranges' gap or
+        overlap [K].
     tm : ndarray
-        The reference melting point [K] (NaN where none).
+        The reference melting point the pair is held to [K]: of several sources' values the
+        one nearest the crossing (the first in table order on a tie or without a crossing),
+        else the triple-point temperature (NaN where there is neither).
+    tm_uncertainty : ndarray
+        The stated uncertainty of that value [K] (NaN where none is stated).
     checkable : ndarray of bool
         Whether neither range must be extrapolated beyond the limit to reach the anchor.
     extrapolation : ndarray
@@ -54,6 +60,7 @@ class Pairs:
     liquid: np.ndarray
     anchor: np.ndarray
     tm: np.ndarray
+    tm_uncertainty: np.ndarray
     checkable: np.ndarray
     extrapolation: np.ndarray
     crossings: np.ndarray
@@ -98,7 +105,10 @@ def find_pairs(
     )
     t_max_s = ctx.curves.t_max[s]
     t_min_l = ctx.curves.t_min[lq]
-    tm = ctx.melting_reference(s)
+    # where to search: the median of the melting points (the order of the rows never
+    # decides), else the triple-point temperature
+    tm = ctx.reference_median("melting_point", s)
+    tm = np.where(np.isnan(tm), ctx.reference("triple_point_temperature", s), tm)
     anchor = np.where(np.isnan(tm), 0.5 * (t_max_s + t_min_l), tm)
     # Keep, per substance, the solids whose range reaches the melting region; a solid
     # modification that ends far below it (it transforms before melting) is not paired.
@@ -122,6 +132,7 @@ def find_pairs(
     count = np.zeros(k, dtype=np.int64)
     significant = np.zeros(k, dtype=np.int64)
     t_cross, y_cross, slope_diff = (np.full(k, np.nan) for _ in range(3))
+    tm_u = np.full(k, np.nan)
 
     # both curves at the reference melting point, else at the crossing (melting_slopes),
     # taken in the same blocks while their curves are at hand
@@ -132,6 +143,7 @@ def find_pairs(
         count[r], significant[r], t_cross[r], y_cross[r], slope_diff[r] = crossings(
             cs, cl, anchor[r], w, int(p["grid"]), tol
         )
+        tm[r], tm_u[r] = _melting_point_held(ctx, s[r], t_cross[r], anchor[r])
         at = np.where(np.isfinite(tm[r]), tm[r], t_cross[r])
         melt["at"][r] = at = np.where(np.isfinite(at), at, 1.0)
         melt["ys"][r], melt["s1"][r], _ = evaluate(cs, at, order=1)
@@ -150,6 +162,7 @@ def find_pairs(
         liquid=lq,
         anchor=anchor,
         tm=tm,
+        tm_uncertainty=tm_u,
         checkable=checkable,
         extrapolation=extrapolation,
         crossings=count,
@@ -159,6 +172,25 @@ def find_pairs(
         slope_diff=slope_diff,
     )
     return pairs, MeltingSlopes(**melt)
+
+
+def _melting_point_held(
+    ctx: AuditContext, solid: np.ndarray, t_cross: np.ndarray, anchor: np.ndarray
+) -> tuple[np.ndarray, np.ndarray]:
+    """The reference melting point [K] each pair of solid records ``solid`` is held to, and
+    its stated uncertainty [K]: of the substance's melting points the one nearest the
+    crossing ``t_cross``, as for a boiling point (without a crossing, the one nearest the
+    ``anchor``, their median; the lower on a tie, whatever the order of the rows); else the
+    triple-point temperature; NaN where there is neither (or no uncertainty is stated).
+    """
+    tm, u = np.full(solid.size, np.nan), np.full(solid.size, np.nan)
+    target = np.where(np.isfinite(t_cross), t_cross, anchor)
+    i, j, refs = ctx.nearest_references("melting_point", solid, target, lower_on_tie=True)
+    tm[i], u[i] = refs.value[j], refs.uncertainty[j]
+    none = np.isnan(tm)
+    tm[none] = ctx.reference("triple_point_temperature", solid[none])
+    u[none] = ctx.reference_uncertainty("triple_point_temperature", solid[none])
+    return tm, u
 
 
 def crossings(

@@ -132,6 +132,7 @@ _EVERY_VALUE_WEIGHED = frozenset(
         "critical_temperature",
         "critical_pressure",
         "enthalpy_of_fusion",
+        "melting_point",
         "standard_enthalpy_of_vaporization",
         "standard_entropy_of_vaporization",
         "standard_enthalpy_of_sublimation",
@@ -156,8 +157,9 @@ def reference_not_used(ctx: AuditContext, th: dict[str, float]):
     the critical temperature that allows it most and to the critical pressure nearest its
     end, ``critical-pressure-mismatch`` tries every pairing of the two, and the rules of
     thumb that read them (the near-ideal limit 0.7 Tc of the dCp checks, the virial
-    correction of ``enthalpy-mismatch``) take their medians; every enthalpy of fusion too
-    (each solid/liquid pair is held to the one it meets best), and every standard enthalpy
+    correction of ``enthalpy-mismatch``) take their medians; every melting point and
+    enthalpy of fusion too (each solid/liquid pair is held to the melting point nearest its
+    crossing and to the enthalpy of fusion it meets best), and every standard enthalpy
     and entropy of a phase change at 298.15 K (each curve is held to the value of each that
     it meets best). Otherwise the checks use the
     first value per substance; when a later one differs, this note names both, at the later

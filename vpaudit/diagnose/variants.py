@@ -203,7 +203,7 @@ def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
         yl, yl1, _ = evaluate(ctx.curves.take(lq), tm, order=1)
         d = ys - yl
         th_m = policy.thresholds("melting-point-mismatch")
-        tol = melting_tolerance(ctx, s, ys1 - yl1, th_m)[0]
+        tol = melting_tolerance(pr.tm_uncertainty[has_tm], ys1 - yl1, th_m)[0]
         add(ctx.codes[s], d / (0.5 * tol))
         # a solid range usually ends, and a liquid range starts, at the melting point
         gap = np.abs(ctx.curves.t_max[s] - tm) + np.abs(ctx.curves.t_min[lq] - tm)
@@ -448,7 +448,7 @@ def _hard_failures(vctx: AuditContext, unit_of_code: np.ndarray, n: int) -> np.n
         yl, yl1, _ = evaluate(vctx.curves.take(pr.liquid[at]), pr.tm[at], 1)
         d = ys - yl
         th_m = vctx.thresholds("melting-point-mismatch")
-        tol = melting_tolerance(vctx, pr.solid[at], ys1 - yl1, th_m)[0]
+        tol = melting_tolerance(pr.tm_uncertainty[at], ys1 - yl1, th_m)[0]
         mm = np.zeros(pr.solid.size, dtype=bool)
         mm[at] = ~(np.abs(d) <= tol)
         fails["melting-point-mismatch"] = mm

@@ -340,3 +340,10 @@ def test_nearest_references_pick_each_records_nearest_value_first_on_a_tie(value
         if mine:
             lower[p] = min(mine)[1]
     assert dict(zip(i.tolist(), got.value[j].tolist(), strict=True)) == lower
+    # nearest_values: the same values, NaN where there is none (with one value each it
+    # takes them by the substance code)
+    value, _ = ctx.nearest_values(
+        "critical_temperature", rows, np.asarray(target), lower_on_tie=True
+    )
+    assert np.array_equal(np.flatnonzero(np.isfinite(value)), np.sort(i))
+    assert {p: value[p] for p in lower} == lower

@@ -229,10 +229,18 @@ class AuditContext:
     @cached_property
     def _refs_by_code(self) -> dict[str, np.ndarray]:
         """For each quantity, the first reference value (SI units) per substance code."""
+        return self._reference_layout[0]
+
+    @cached_property
+    def _reference_layout(self) -> tuple[dict[str, np.ndarray], frozenset[str]]:
+        """For each quantity, the first reference value (SI units) per substance code; and
+        the quantities of which some substance has several rows (one pass for both).
+        """
         refs = self.table.references
         out: dict[str, np.ndarray] = {}
+        several: set[str] = set()
         if not len(refs):
-            return out
+            return out, frozenset()
         ref_codes = self.ref_codes
         q_code, q_names = codes(refs["quantity"])
         value = refs["value_si"].to_numpy(dtype=float)
@@ -242,7 +250,9 @@ class AuditContext:
             arr = np.full(self.n_names, np.nan)
             arr[first_codes] = value[m][first]
             out[q] = arr
-        return out
+            if first_codes.size < np.count_nonzero(m):
+                several.add(str(q))
+        return out, frozenset(several)
 
     @cached_property
     def _ref_uncertainty_by_code(self) -> dict[str, np.ndarray]:
@@ -345,9 +355,8 @@ class AuditContext:
         the rows never decides which one a record is held to.
         """
         refs = self.references_of(quantity)
-        single = self._single_position(quantity)
-        if single is not None:  # at most one value per substance: that one, if any
-            j = single[self.codes[rows]]
+        if self.one_value_each(quantity):  # that one, if finite: by the substance code
+            j = self._single_position(quantity)[self.codes[rows]]
             i = np.flatnonzero(j >= 0)
             return i, j[i], refs
         i, j = match(self.codes[rows], np.where(np.isfinite(refs.value), refs.codes, -1))
@@ -361,22 +370,35 @@ class AuditContext:
         return i[k], j[k], refs
 
     def one_value_each(self, quantity: str) -> bool:
-        """Whether no substance has two finite reference values of ``quantity`` (then
-        there is nothing to weigh between sources).
+        """Whether no substance has two reference rows of ``quantity`` (then there is
+        nothing to weigh between sources).
         """
-        return self._single_position(quantity) is not None
+        return quantity not in self._reference_layout[1]
 
-    def _single_position(self, quantity: str) -> np.ndarray | None:
-        """Where no substance has two finite values of ``quantity``: the position of each
-        substance code's value in :meth:`references_of` (-1 where it has none, and for
-        records of no known substance, code -1); None when some substance has two.
+    def nearest_values(
+        self, quantity: str, rows: np.ndarray, target: np.ndarray, lower_on_tie: bool = False
+    ) -> tuple[np.ndarray, np.ndarray]:
+        """The reference ``quantity`` (SI units) that each record of ``rows`` is held to,
+        and its stated uncertainty: of its substance's values the one nearest ``target``
+        (:meth:`nearest_references`); NaN where there is none (or none is stated). With one
+        value per substance, that value, taken without a join.
+        """
+        if self.one_value_each(quantity):
+            return self.reference(quantity, rows), self.reference_uncertainty(quantity, rows)
+        value, u = np.full(rows.size, np.nan), np.full(rows.size, np.nan)
+        i, j, refs = self.nearest_references(quantity, rows, target, lower_on_tie=lower_on_tie)
+        value[i], u[i] = refs.value[j], refs.uncertainty[j]
+        return value, u
+
+    def _single_position(self, quantity: str) -> np.ndarray:
+        """For a quantity of which no substance has two rows (:meth:`one_value_each`): the
+        position in :meth:`references_of` of each substance code's finite value (-1 where it
+        has none, and for records of no known substance, code -1).
         """
 
-        def compute() -> np.ndarray | None:
+        def compute() -> np.ndarray:
             refs = self.references_of(quantity)
             ok = np.flatnonzero(np.isfinite(refs.value))
-            if np.bincount(refs.codes[ok], minlength=1).max(initial=0) > 1:
-                return None
             out = np.full(self.n_names + 1, -1, dtype=np.int64)  # the last: no substance
             out[refs.codes[ok]] = ok
             return out
@@ -503,6 +525,8 @@ class AuditContext:
         correction), so that the order of the rows never decides; with one value per
         substance it is that value.
         """
+        if self.one_value_each(quantity):
+            return self.reference(quantity, rows)
         arr = self.memo(("reference median", quantity), lambda: self._median_of(quantity))
         return arr[self.codes if rows is None else self.codes[rows]]
 

@@ -125,8 +125,7 @@ def anchor_values(ctx: AuditContext) -> AnchorValues | None:
         ref[key] = np.full(rows.size, np.nan)
         for quantity, phase in ((of_liquid, liquid[rows]), (of_solid, ~liquid[rows])):
             at = np.flatnonzero(phase)
-            i, j, refs = ctx.nearest_references(quantity, rows[at], implied[key][at])
-            ref[key][at[i]] = refs.value[j]
+            ref[key][at] = ctx.nearest_values(quantity, rows[at], implied[key][at])[0]
     return AnchorValues(
         rows=rows,
         h=h,

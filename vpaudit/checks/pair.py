@@ -333,10 +333,7 @@ def fusion_reference(ctx: AuditContext, solid: np.ndarray, implied: np.ndarray) 
     meets best, as for a boiling point, so the order of the rows never decides; with one
     value, that value.
     """
-    out = np.full(solid.size, np.nan)
-    i, j, refs = ctx.nearest_references("enthalpy_of_fusion", solid, implied)
-    out[i] = refs.value[j]
-    return out
+    return ctx.nearest_values("enthalpy_of_fusion", solid, implied)[0]
 
 
 def contradicted_melting_points(ctx: AuditContext):

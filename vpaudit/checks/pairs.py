@@ -183,10 +183,8 @@ def _melting_point_held(
     ``anchor``, their median; the lower on a tie, whatever the order of the rows); else the
     triple-point temperature; NaN where there is neither (or no uncertainty is stated).
     """
-    tm, u = np.full(solid.size, np.nan), np.full(solid.size, np.nan)
     target = np.where(np.isfinite(t_cross), t_cross, anchor)
-    i, j, refs = ctx.nearest_references("melting_point", solid, target, lower_on_tie=True)
-    tm[i], u[i] = refs.value[j], refs.uncertainty[j]
+    tm, u = ctx.nearest_values("melting_point", solid, target, lower_on_tie=True)
     none = np.isnan(tm)
     tm[none] = ctx.reference("triple_point_temperature", solid[none])
     u[none] = ctx.reference_uncertainty("triple_point_temperature", solid[none])

@@ -376,7 +376,12 @@ class AuditContext:
         return quantity not in self._reference_layout[1]
 
     def nearest_values(
-        self, quantity: str, rows: np.ndarray, target: np.ndarray, lower_on_tie: bool = False
+        self,
+        quantity: str,
+        rows: np.ndarray,
+        target: np.ndarray,
+        log: bool = False,
+        lower_on_tie: bool = False,
     ) -> tuple[np.ndarray, np.ndarray]:
         """The reference ``quantity`` (SI units) that each record of ``rows`` is held to,
         and its stated uncertainty: of its substance's values the one nearest ``target``
@@ -386,7 +391,9 @@ class AuditContext:
         if self.one_value_each(quantity):
             return self.reference(quantity, rows), self.reference_uncertainty(quantity, rows)
         value, u = np.full(rows.size, np.nan), np.full(rows.size, np.nan)
-        i, j, refs = self.nearest_references(quantity, rows, target, lower_on_tie=lower_on_tie)
+        i, j, refs = self.nearest_references(
+            quantity, rows, target, log=log, lower_on_tie=lower_on_tie
+        )
         value[i], u[i] = refs.value[j], refs.uncertainty[j]
         return value, u
 

@@ -540,12 +540,15 @@ def melting_point_mismatch(ctx: AuditContext, th: dict[str, float]):
     witness="difference_lnP",
 )
 def triple_pressure_mismatch(ctx: AuditContext, th: dict[str, float]):
-    """Compared in ln P at the crossing; the solid curve's value at the reference triple
-    temperature is used when the curves do not cross.
+    """Compared in ln P at the crossing (pairs whose curves do not cross are not compared
+    here: ``no-crossing`` reports them). A substance with several reference values is
+    judged by the one nearest the pressure at the crossing.
     """
     pr = ctx.pairs
     tol = th["tolerance"]
-    ptp = ctx.reference("triple_point_pressure", pr.solid)
+    ptp = ctx.nearest_values(
+        "triple_point_pressure", pr.solid, pr.y_cross, log=True, lower_on_tie=True
+    )[0]
     with np.errstate(invalid="ignore", divide="ignore"):
         diff = pr.y_cross - np.log(ptp)
         bad = pr.checkable & np.isfinite(diff) & (np.abs(diff) > tol)

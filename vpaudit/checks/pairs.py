@@ -31,12 +31,12 @@ class Pairs:
         Record rows.
     anchor : ndarray
         Where the crossing is searched: the median of the substance's reference melting
-        points, else its triple-point temperature, else the middle of the ranges' gap or
-        overlap [K].
+        points, else of its triple-point temperatures, else the middle of the ranges' gap
+        or overlap [K].
     tm : ndarray
         The reference melting point the pair is held to [K]: of several sources' values the
-        one nearest the crossing (the first in table order on a tie or without a crossing),
-        else the triple-point temperature (NaN where there is neither).
+        one nearest the crossing (without one, nearest their median; the lower on a tie),
+        else the triple-point temperature chosen so (NaN where there is neither).
     tm_uncertainty : ndarray
         The stated uncertainty of that value [K] (NaN where none is stated).
     checkable : ndarray of bool
@@ -108,7 +108,7 @@ def find_pairs(
     # where to search: the median of the melting points (the order of the rows never
     # decides), else the triple-point temperature
     tm = ctx.reference_median("melting_point", s)
-    tm = np.where(np.isnan(tm), ctx.reference("triple_point_temperature", s), tm)
+    tm = np.where(np.isnan(tm), ctx.reference_median("triple_point_temperature", s), tm)
     anchor = np.where(np.isnan(tm), 0.5 * (t_max_s + t_min_l), tm)
     # Keep, per substance, the solids whose range reaches the melting region; a solid
     # modification that ends far below it (it transforms before melting) is not paired.
@@ -180,14 +180,16 @@ def _melting_point_held(
     """The reference melting point [K] each pair of solid records ``solid`` is held to, and
     its stated uncertainty [K]: of the substance's melting points the one nearest the
     crossing ``t_cross``, as for a boiling point (without a crossing, the one nearest the
-    ``anchor``, their median; the lower on a tie, whatever the order of the rows); else the
-    triple-point temperature; NaN where there is neither (or no uncertainty is stated).
+    ``anchor``, their median; the lower on a tie, whatever the order of the rows); else its
+    triple-point temperature, chosen the same way; NaN where there is neither (or no
+    uncertainty is stated).
     """
     target = np.where(np.isfinite(t_cross), t_cross, anchor)
     tm, u = ctx.nearest_values("melting_point", solid, target, lower_on_tie=True)
-    none = np.isnan(tm)
-    tm[none] = ctx.reference("triple_point_temperature", solid[none])
-    u[none] = ctx.reference_uncertainty("triple_point_temperature", solid[none])
+    none = np.flatnonzero(np.isnan(tm))
+    tm[none], u[none] = ctx.nearest_values(
+        "triple_point_temperature", solid[none], target[none], lower_on_tie=True
+    )
     return tm, u
 
 

@@ -133,6 +133,11 @@ _EVERY_VALUE_WEIGHED = frozenset(
         "critical_pressure",
         "enthalpy_of_fusion",
         "melting_point",
+        "triple_point_temperature",
+        "triple_point_pressure",
+        # compared row by row, each at its own temperature (enthalpy-mismatch)
+        "enthalpy_of_vaporization",
+        "enthalpy_of_sublimation",
         "standard_enthalpy_of_vaporization",
         "standard_entropy_of_vaporization",
         "standard_enthalpy_of_sublimation",
@@ -145,26 +150,27 @@ _EVERY_VALUE_WEIGHED = frozenset(
     "reference-not-used",
     Severity.note,
     Scope.sources,
-    "A substance has several differing values of one reference quantity, and only the first "
-    "is compared.",
+    "A substance has several differing values of a reference quantity of which only the "
+    "first is read (the molar mass).",
     "An audit must not let the order of rows decide silently which of two sources' values "
     "a record is held to.",
 )
 def reference_not_used(ctx: AuditContext, th: dict[str, float]):
-    """Every value of a normal boiling point is weighed (each liquid against the one it
-    meets best; ``reference-contradicted`` names a value the records contradict), and so is
-    every value of a critical temperature and pressure: ``above-critical`` holds a range to
-    the critical temperature that allows it most and to the critical pressure nearest its
-    end, ``critical-pressure-mismatch`` tries every pairing of the two, and the rules of
-    thumb that read them (the near-ideal limit 0.7 Tc of the dCp checks, the virial
-    correction of ``enthalpy-mismatch``) take their medians; every melting point and
-    enthalpy of fusion too (each solid/liquid pair is held to the melting point nearest its
-    crossing and to the enthalpy of fusion it meets best), and every standard enthalpy
-    and entropy of a phase change at 298.15 K (each curve is held to the value of each that
-    it meets best). Otherwise the checks use the
-    first value per substance; when a later one differs, this note names both, at the later
-    value's own file and line, so that a steward can keep the right one first or remove the
-    other.
+    """A table may keep several sources' values of a reference quantity, and the checks
+    weigh every one, so that the order of the rows never decides which value a record is
+    held to: each liquid is held to the normal boiling point it meets best, a range to the
+    critical temperature that allows it most and to the critical pressure nearest its end
+    (``critical-pressure-mismatch`` tries every pairing of the two), each solid/liquid pair
+    to the melting point (or triple-point temperature) nearest its crossing, to the
+    triple-point pressure nearest its pressure there and to the enthalpy of fusion it meets
+    best, and each curve to the standard enthalpy and entropy at 298.15 K it meets best;
+    the rules of thumb (the near-ideal limit 0.7 Tc, a virial correction) take the medians,
+    and every enthalpy of vaporization or sublimation is compared at its own temperature.
+    ``reference-contradicted`` names a value that the records contradict while they meet
+    another. What remains is a quantity of which only the first value is read, by the other
+    commands (the molar mass, for the evaporation flux of ``vpaudit eval``): when a later
+    value differs from the first, this note names both, at the later value's own file and
+    line, so that a steward can keep the right one first or remove the other.
     """
     refs = ctx.table.references
     if not len(refs):
@@ -190,8 +196,8 @@ def reference_not_used(ctx: AuditContext, th: dict[str, float]):
                 None,
                 f"the {what} of {refs['substance'].iat[r]} is given twice: "
                 f"{refs['value'].iat[r0]:g} {refs['unit'].iat[r0]} ({used[0]}, line "
-                f"{used[2]}), which the checks use, and {refs['value'].iat[r]:g} "
-                f"{refs['unit'].iat[r]} ({source}) here, which they do not use. Keep the "
+                f"{used[2]}), which is read, and {refs['value'].iat[r]:g} "
+                f"{refs['unit'].iat[r]} ({source}) here, which is not. Keep the "
                 "value you trust first, or remove the other.",
                 {"quantity": str(quantity), "used_line": used[2]},
                 substance=str(refs["substance"].iat[r]),

@@ -12,6 +12,7 @@ from refdata import alcock_table
 
 import vpaudit.checks._context as context
 from vpaudit import runtime as rt
+from vpaudit.checks._registry import REGISTRY
 from vpaudit.policy import Policy
 
 #: Two threads from the first row, whatever the machine.
@@ -66,6 +67,25 @@ def test_pairs_made_beside_the_other_checks_give_the_same_findings_in_order(samp
     assert two == one
     assert seen_one == names and sorted(seen_two) == sorted(names)
     assert seen_two != seen_one  # reordered: the pair checks last
+
+
+def test_a_check_that_reads_the_pairs_runs_after_them_on_the_threaded_path():
+    # reference-contradicted weighs several melting points by the solid/liquid pairs
+    # (reads_pairs): beside the pairs' thread it must wait for them and find the same.
+    # Landolt's odd-CAS solid/liquid pairs with every method's melting point (chemicals)
+    from compilations import _complete, every_boiling_point, landolt
+    from refdata import table_from_rows
+
+    records, refs = landolt(None, pairs_only=True)
+    records = [r for r in records if _complete(r)]
+    table = table_from_rows(records, every_boiling_point(refs, "melting_point"))
+    one, _, _ = _checks_of(table, beside=False)
+    two, seen, names = _checks_of(table, beside=True)
+    assert two == one
+    named = [f for f in one if f.check == "reference-contradicted" and "melting" in f.message]
+    assert named  # (a melting point the pairs contradict: e.g. chlorine's second value)
+    others = [n for n in names if not REGISTRY[n].needs_pairs]
+    assert seen.index("reference-contradicted") > max(seen.index(n) for n in others)
 
 
 def test_an_error_while_making_the_pairs_becomes_each_pair_checks_internal_error(monkeypatch):

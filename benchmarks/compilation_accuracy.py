@@ -13,7 +13,8 @@ Wagner, Perry's; references through documented ``chemicals`` lookups), per compi
 
 With ``--every-tb`` each substance carries the normal boiling point of every method that
 knows it, not only the first (a table that keeps several sources' values); ``--every-tc``
-the same for the critical temperature; ``--anchors`` adds the CRC standard enthalpy and
+the same for the critical temperature, ``--every-tm`` for the melting point; ``--anchors``
+adds the CRC standard enthalpy and
 entropy of each phase change at 298.15 K (the 298.15 K anchor) where they exist.
 
 ``--judge-clean`` judges each clean record that draws an error against independent data
@@ -41,7 +42,13 @@ from slips import SLIP_KINDS, corrupt, reproduces  # noqa: E402
 from vpaudit.auditing import audit_table  # noqa: E402
 
 
-def clean_errors(name: str, every_tb: bool = False, every_tc: bool = False, anchors: bool = False):
+def clean_errors(
+    name: str,
+    every_tb: bool = False,
+    every_tc: bool = False,
+    anchors: bool = False,
+    every_tm: bool = False,
+):
     records, refs = COMPILATIONS[name](None)
     records = [r for r in records if _complete(r)]
     keep = {r["substance"] for r in records}
@@ -50,6 +57,8 @@ def clean_errors(name: str, every_tb: bool = False, every_tc: bool = False, anch
         refs = every_boiling_point(refs)
     if every_tc:
         refs = every_boiling_point(refs, "critical_temperature")
+    if every_tm:
+        refs = every_boiling_point(refs, "melting_point")
     if anchors:
         refs = refs + _anchor_references(records)
     result = audit_table(table_from_rows(records, refs), diagnose=False)
@@ -478,6 +487,11 @@ def main() -> None:
         help="the same for the critical temperature (IUPAC, MATTHEWS, CRC, YAWS, PINAMARTINES)",
     )
     ap.add_argument(
+        "--every-tm",
+        action="store_true",
+        help="the same for the melting point (every method of chemicals that knows it)",
+    )
+    ap.add_argument(
         "--anchors",
         action="store_true",
         help="give each substance the CRC standard enthalpy and entropy of its phase changes "
@@ -513,7 +527,7 @@ def main() -> None:
     for name in [args.only] if args.only else COMPILATIONS:
         t0 = time.perf_counter()
         records, refs, flagged, by_check, _ = clean_errors(
-            name, args.every_tb, args.every_tc, args.anchors
+            name, args.every_tb, args.every_tc, args.anchors, args.every_tm
         )
         n, det, right, conf, cw, missed, right_flagged, (near, silent) = planted(
             name, records, refs, flagged, args.sample, args.seed

@@ -254,21 +254,13 @@ def test_jobs_1_hashes_the_codes_on_this_thread(monkeypatch):
     assert np.array_equal(one.codes, two.codes) and one.n_names == two.n_names > 30
 
 
-@given(
-    st.lists(
-        st.tuples(st.integers(0, 3), st.floats(100.0, 1000.0, allow_nan=False)),
-        max_size=12,
-    )
-)
-def test_a_reference_median_is_each_substances_median_in_any_order(values):
-    """reference_median against numpy's median per substance, and unchanged when the rows of
-    the references come in the reverse order (invented values)."""
-    from refdata import table_from_rows
-
+def _invented(values, n_records: int):
+    """``n_records`` invented liquids of four substances s0..s3 (record i of s{i % 4}), and a
+    critical temperature for each (substance, value) of ``values``, in that order."""
     records = [
         {
             "id": f"r{i}",
-            "substance": f"s{i}",
+            "substance": f"s{i % 4}",
             "phase": "liquid",
             "form": "two-term",
             "A": 20.0,
@@ -279,7 +271,7 @@ def test_a_reference_median_is_each_substances_median_in_any_order(values):
             "pressure_unit": "Pa",
             "source": "invented for this test",
         }
-        for i in range(4)
+        for i in range(n_records)
     ]
     refs = [
         {
@@ -291,6 +283,21 @@ def test_a_reference_median_is_each_substances_median_in_any_order(values):
         }
         for k, (i, v) in enumerate(values)
     ]
+    return records, refs
+
+
+@given(
+    st.lists(
+        st.tuples(st.integers(0, 3), st.floats(100.0, 1000.0, allow_nan=False)),
+        max_size=12,
+    )
+)
+def test_a_reference_median_is_each_substances_median_in_any_order(values):
+    """reference_median against numpy's median per substance, and unchanged when the rows of
+    the references come in the reverse order (invented values)."""
+    from refdata import table_from_rows
+
+    records, refs = _invented(values, 4)
     for rows in (refs, refs[::-1]):
         ctx = context.AuditContext(table_from_rows(records, rows), Policy())
         got = ctx.reference_median("critical_temperature")
@@ -315,32 +322,7 @@ def test_nearest_references_pick_each_records_nearest_value_first_on_a_tie(value
     with at most one value per substance (its shortcut) and with several."""
     from refdata import table_from_rows
 
-    records = [
-        {
-            "id": f"r{i}",
-            "substance": f"s{i % 4}",
-            "phase": "liquid",
-            "form": "two-term",
-            "A": 20.0,
-            "B": -4000.0,
-            "t_min": 300.0,
-            "t_max": 400.0,
-            "log_base": "e",
-            "pressure_unit": "Pa",
-            "source": "invented for this test",
-        }
-        for i in range(6)
-    ]
-    refs = [
-        {
-            "substance": f"s{i}",
-            "quantity": "critical_temperature",
-            "value": v,
-            "unit": "K",
-            "source": f"invented {k}",
-        }
-        for k, (i, v) in enumerate(values)
-    ]
+    records, refs = _invented(values, 6)
     ctx = context.AuditContext(table_from_rows(records, refs), Policy())
     rows = np.arange(6)[::-1]
     i, j, got = ctx.nearest_references("critical_temperature", rows, np.asarray(target))

@@ -407,8 +407,9 @@ def boiling_point_mismatch(ctx: AuditContext, th: dict[str, float]):
     Scope.sources,
     "Several sources of a substance agree with each other and not with its reference normal "
     "boiling point, or its records meet another reference value (of the boiling point, "
-    "the critical temperature or pressure, the melting point, or the standard enthalpy or "
-    "entropy at 298.15 K) and not this one: the reference looks wrong, not the records.",
+    "the critical temperature or pressure, the melting point, the enthalpy of fusion, or the "
+    "standard enthalpy or entropy at 298.15 K) and not this one: the reference looks wrong, "
+    "not the records.",
     "Reference values in compilations are not all right; independent sources that agree "
     "outweigh one value from another evaluation.",
     reads_pairs=True,  # a melting point is weighed by the solid/liquid pairs
@@ -430,19 +431,21 @@ def reference_contradicted(ctx: AuditContext, th: dict[str, float]):
     (:func:`vpaudit.checks.critical.contradicted_critical_pressures`), and a reference
     standard enthalpy or entropy at 298.15 K that the curves of its phase miss while they
     meet another (:func:`vpaudit.checks.anchor.contradicted_standard_data`), and a
-    reference melting point that the solid/liquid pairs miss while they meet another
-    (:func:`vpaudit.checks.pair.contradicted_melting_points`).
+    reference melting point or enthalpy of fusion that the solid/liquid pairs miss while
+    they meet another (:func:`vpaudit.checks.pair.contradicted_melting_points`,
+    :func:`vpaudit.checks.pair.contradicted_fusion_enthalpies`).
     """
     # imported here: importing them at the top would register their checks before these
     from .anchor import contradicted_standard_data
     from .critical import contradicted_critical_pressures, contradicted_critical_temperatures
-    from .pair import contradicted_melting_points
+    from .pair import contradicted_fusion_enthalpies, contradicted_melting_points
 
     yield from _contradicted_boiling_points(ctx)
     yield from contradicted_critical_temperatures(ctx)
     yield from contradicted_critical_pressures(ctx)
     yield from contradicted_standard_data(ctx)
     yield from contradicted_melting_points(ctx)
+    yield from contradicted_fusion_enthalpies(ctx)
 
 
 def _contradicted_boiling_points(ctx: AuditContext):

@@ -327,13 +327,12 @@ def melting_tolerance(
 
 def fusion_reference(ctx: AuditContext, solid: np.ndarray, implied: np.ndarray) -> np.ndarray:
     """For the pairs of solid records ``solid``, whose curves imply the enthalpy of fusion
-    ``implied`` [J/mol], the substance's reference enthalpy of fusion nearest it (the first
-    in table order on a tie, and where ``implied`` is not a number); NaN where there is
-    none. [J/mol] A table may keep several sources' values: each pair is held to the one it
-    meets best, as for a boiling point, so the order of the rows never decides; with one
-    value, that value.
+    ``implied`` [J/mol], the substance's reference enthalpy of fusion nearest it (the lower
+    on a tie, and where ``implied`` is not a number); NaN where there is none. [J/mol] A
+    table may keep several sources' values: each pair is held to the one it meets best, as
+    for a boiling point, so the order of the rows never decides; with one value, that value.
     """
-    return ctx.nearest_values("enthalpy_of_fusion", solid, implied)[0]
+    return ctx.nearest_values("enthalpy_of_fusion", solid, implied, lower_on_tie=True)[0]
 
 
 def contradicted_melting_points(ctx: AuditContext):
@@ -383,6 +382,57 @@ def contradicted_melting_points(ctx: AuditContext):
                 "melting_point_K": float(value[r]),
                 "other_melting_point_K": float(value[other]),
                 "difference_lnP": [float(x) for x in miss],
+            },
+            records=ids,
+            file=file,
+            line=line,
+        )
+
+
+def contradicted_fusion_enthalpies(ctx: AuditContext):
+    """Hits of ``reference-contradicted`` for the reference enthalpies of fusion that no
+    checkable solid/liquid pair of their substance meets (within the tolerance of
+    ``fusion-enthalpy-mismatch``, a fraction of dH_sub) while the pairs meet another
+    reference value of it, each missing it by more than twice that tolerance: the curves
+    side with the other value, which the pair checks hold them to, and the contradicted one
+    is named at its own file and line.
+    """
+    if ctx.one_value_each("enthalpy_of_fusion"):  # nothing to weigh (and no pairs to wait for)
+        return
+    refs = ctx.references_of("enthalpy_of_fusion")
+    pr, ms = ctx.pairs, ctx.melting_slopes
+    tol = ctx.thresholds("fusion-enthalpy-mismatch")["tolerance"]
+    hs, hl = R * ms.at**2 * ms.s1, R * ms.at**2 * ms.l1
+    at = np.where(np.isfinite(pr.tm), pr.tm, pr.t_cross)
+    with np.errstate(invalid="ignore"):
+        pairs = np.flatnonzero(pr.checkable & np.isfinite(at) & (hs > 0) & (hl > 0))
+    i, j = match(ctx.codes[pr.solid[pairs]], np.where(np.isfinite(refs.value), refs.codes, -1))
+    if i.size == np.unique(i).size:  # one value per pair: nothing to weigh
+        return
+    k = pairs[i]
+    residual = (hs[k] - hl[k] - refs.value[j]) / hs[k]
+    met = np.abs(residual) <= tol
+    value = ctx.table.references["value_si"].to_numpy(dtype=float)
+    for r, on, other, sides in ctx.contradictions(k, refs.rows[j], met):
+        miss = residual[on][sides]
+        if np.any(np.abs(miss) <= 2.0 * tol):  # a near miss is not a contradiction
+            continue
+        by = k[on][sides]
+        ids = tuple(x for b in by.tolist() for x in (ctx.id(pr.solid[b]), ctx.id(pr.liquid[b])))
+        ids = tuple(dict.fromkeys(ids))
+        worst = float(miss[np.argmax(np.abs(miss))])
+        opening, file, line = ctx.reference_disagreement("enthalpy of fusion", r, other, kj)
+        one = by.size == 1
+        yield Hit(
+            int(pr.solid[by[0]]),
+            opening + f"the solid and liquid curves of {', '.join(ids)} meet that one and "
+            f"miss this one by {'' if one else 'up to '}{worst * 100:+.1f} % of dH_sub "
+            f"(Hess's law at the melting point). The reference value {kj(value[r])} looks "
+            "wrong, not the records: check it against its source.",
+            {
+                "fusion_J_per_mol": float(value[r]),
+                "other_fusion_J_per_mol": float(value[other]),
+                "residual_of_sublimation": [float(x) for x in miss],
             },
             records=ids,
             file=file,

@@ -343,50 +343,34 @@ def contradicted_melting_points(ctx: AuditContext):
     contradicted one is named at its own file and line when every such pair misses it by
     more than twice that tolerance.
     """
-    refs = ctx.references_of("melting_point")
     if ctx.one_value_each("melting_point"):  # nothing to weigh (and no pairs to wait for)
         return
+    refs = ctx.references_of("melting_point")
     pr = ctx.pairs
     th = ctx.thresholds("melting-point-mismatch")
-    pairs = np.flatnonzero(pr.checkable)
-    i, j = match(ctx.codes[pr.solid[pairs]], np.where(np.isfinite(refs.value), refs.codes, -1))
-    if i.size == np.unique(i).size:  # one value per pair: nothing to weigh
+    k, j = _pairs_by_reference(ctx, refs, np.flatnonzero(pr.checkable))
+    if k is None:
         return
-    k, t = pairs[i], refs.value[j]
+    t = refs.value[j]
     ys, s1, _ = evaluate_rows(ctx.curves, pr.solid[k], t, order=1)
     yl, l1, _ = evaluate_rows(ctx.curves, pr.liquid[k], t, order=1)
     d = ys - yl
     tol = melting_tolerance(refs.uncertainty[j], s1 - l1, th)[0]
-    met = np.abs(d) <= tol
-    value = ctx.table.references["value_si"].to_numpy(dtype=float)
-    for r, at, other, sides in ctx.contradictions(k, refs.rows[j], met):
-        if np.any(np.abs(d[at][sides]) <= 2.0 * tol[at][sides]):
-            # sources' melting points a kelvin apart, which the tolerance of an organic
-            # pair (0.05 in ln P: about 1 K) just separates: the pair checks take the one
-            # the curves meet, and naming the other as wrong would be a quibble
-            continue
-        by = k[at][sides]
-        ids = tuple(x for b in by.tolist() for x in (ctx.id(pr.solid[b]), ctx.id(pr.liquid[b])))
-        ids = tuple(dict.fromkeys(ids))
-        miss = d[at][sides]
-        worst = float(miss[np.argmax(np.abs(miss))])
-        opening, file, line = ctx.reference_disagreement("melting point", r, other, kelvin)
-        one = by.size == 1
-        yield Hit(
-            int(pr.solid[by[0]]),
-            opening + f"the solid and liquid curves of {', '.join(ids)} meet that one and "
-            f"differ by {'' if one else 'up to '}{ln_ratio(worst)} at this one. The reference "
-            f"value {kelvin(value[r])} looks wrong, not the records: check it against its "
-            "source.",
-            {
-                "melting_point_K": float(value[r]),
-                "other_melting_point_K": float(value[other]),
-                "difference_lnP": [float(x) for x in miss],
-            },
-            records=ids,
-            file=file,
-            line=line,
-        )
+    # sources' melting points a kelvin apart, which the tolerance of an organic pair (0.05
+    # in ln P: about 1 K) just separates, are not named: the pair checks take the one the
+    # curves meet, and naming the other as wrong would be a quibble
+    yield from _named_pair_references(
+        ctx,
+        "melting point",
+        kelvin,
+        k,
+        refs.rows[j],
+        d,
+        np.abs(d) <= tol,
+        np.abs(d) > 2.0 * tol,
+        lambda worst, one: f"differ by {'' if one else 'up to '}{ln_ratio(worst)} at this one",
+        ("melting_point_K", "other_melting_point_K", "difference_lnP"),
+    )
 
 
 def contradicted_fusion_enthalpies(ctx: AuditContext):
@@ -406,33 +390,65 @@ def contradicted_fusion_enthalpies(ctx: AuditContext):
     at = np.where(np.isfinite(pr.tm), pr.tm, pr.t_cross)
     with np.errstate(invalid="ignore"):
         pairs = np.flatnonzero(pr.checkable & np.isfinite(at) & (hs > 0) & (hl > 0))
+    k, j = _pairs_by_reference(ctx, refs, pairs)
+    if k is None:
+        return
+    residual = (hs[k] - hl[k] - refs.value[j]) / hs[k]
+    yield from _named_pair_references(
+        ctx,
+        "enthalpy of fusion",
+        kj,
+        k,
+        refs.rows[j],
+        residual,
+        np.abs(residual) <= tol,
+        np.abs(residual) > 2.0 * tol,
+        lambda worst, one: (
+            f"miss this one by {'' if one else 'up to '}{worst * 100:+.1f} % of dH_sub "
+            "(Hess's law at the melting point)"
+        ),
+        ("fusion_J_per_mol", "other_fusion_J_per_mol", "residual_of_sublimation"),
+    )
+
+
+def _pairs_by_reference(ctx: AuditContext, refs, pairs: np.ndarray):
+    """Every (pair, reference value) of one substance for the pairs ``pairs``: (pair
+    indices, positions into ``refs``), grouped by pair; (None, None) when no pair has two
+    values to weigh.
+    """
+    pr = ctx.pairs
     i, j = match(ctx.codes[pr.solid[pairs]], np.where(np.isfinite(refs.value), refs.codes, -1))
     if i.size == np.unique(i).size:  # one value per pair: nothing to weigh
-        return
-    k = pairs[i]
-    residual = (hs[k] - hl[k] - refs.value[j]) / hs[k]
-    met = np.abs(residual) <= tol
+        return None, None
+    return pairs[i], j
+
+
+def _named_pair_references(ctx, words, fmt, k, ref_rows, miss, met, clear, how_far, keys):
+    """The hits naming each reference value (``words``, written by ``fmt``) that the pairs
+    ``k`` miss (``miss``, not ``met``) while they meet another, when every such pair
+    misses it ``clear``-ly; ``how_far(worst, one)`` says by how much, ``keys`` name the
+    evidence (the value, the other value, the misses).
+    """
+    pr = ctx.pairs
     value = ctx.table.references["value_si"].to_numpy(dtype=float)
-    for r, on, other, sides in ctx.contradictions(k, refs.rows[j], met):
-        miss = residual[on][sides]
-        if np.any(np.abs(miss) <= 2.0 * tol):  # a near miss is not a contradiction
+    for r, on, other, sides in ctx.contradictions(k, ref_rows, met):
+        if not np.all(clear[on][sides]):
             continue
         by = k[on][sides]
         ids = tuple(x for b in by.tolist() for x in (ctx.id(pr.solid[b]), ctx.id(pr.liquid[b])))
         ids = tuple(dict.fromkeys(ids))
-        worst = float(miss[np.argmax(np.abs(miss))])
-        opening, file, line = ctx.reference_disagreement("enthalpy of fusion", r, other, kj)
-        one = by.size == 1
+        missed = miss[on][sides]
+        worst = float(missed[np.argmax(np.abs(missed))])
+        opening, file, line = ctx.reference_disagreement(words, r, other, fmt)
         yield Hit(
             int(pr.solid[by[0]]),
             opening + f"the solid and liquid curves of {', '.join(ids)} meet that one and "
-            f"miss this one by {'' if one else 'up to '}{worst * 100:+.1f} % of dH_sub "
-            f"(Hess's law at the melting point). The reference value {kj(value[r])} looks "
+            f"{how_far(worst, by.size == 1)}. The reference value {fmt(value[r])} looks "
             "wrong, not the records: check it against its source.",
             {
-                "fusion_J_per_mol": float(value[r]),
-                "other_fusion_J_per_mol": float(value[other]),
-                "residual_of_sublimation": [float(x) for x in miss],
+                keys[0]: float(value[r]),
+                keys[1]: float(value[other]),
+                keys[2]: [float(x) for x in missed],
             },
             records=ids,
             file=file,

@@ -122,3 +122,28 @@ def test_the_whole_allowance_bar_of_the_anchor_is_in_the_picture(tmp_path, sampl
     )
     lo, hi = info["ln_p_limits"]
     assert lo < ln_p - 15.0 / r and ln_p + 15.0 / r < hi
+
+
+def test_the_melting_point_drawn_is_the_one_the_pair_is_held_to(tmp_path):
+    # two sources' melting points, 1300 K listed first: the pair checks hold the invented
+    # pair (crossing near 1220 K; tests/checks/cases/melting-point-mismatch.yaml) to 1200 K,
+    # and the picture marks that one (it marked the first)
+    (tmp_path / "records").mkdir()
+    (tmp_path / "references").mkdir()
+    (tmp_path / "records" / "r.csv").write_text(
+        "id,substance,phase,form,log_base,pressure_unit,A,B,C,t_min,t_max,source\n"
+        "s1,xane,solid,three-term,e,Pa,30.825875279351756,-38246.60890429179,"
+        "-0.6013617752247136,600,1200,invented for this test\n"
+        "l1,xane,liquid,three-term,e,Pa,34.50821469656897,-37524.97477402213,"
+        "-1.2027235504494271,1200,2000,invented for this test\n"
+    )
+    (tmp_path / "references" / "ref.csv").write_text(
+        "substance,quantity,value,unit,source\n"
+        "xane,melting_point,1300,K,table one\n"
+        "xane,melting_point,1200,K,table two\n"
+    )
+    svg = tmp_path / "x.svg"
+    plot_substance(load_table(tmp_path), "xane", svg)
+    text = svg.read_text()
+    assert "reference melting point 1200 K" in text
+    assert "reference melting point 1300 K" not in text

@@ -348,7 +348,14 @@ def _only(table: Table, substance: str) -> Table:
 
 
 def _references(ax, ctx: AuditContext) -> None:
-    tm = ctx.melting_reference()[0] if ctx.n else np.nan
+    # the melting point the pair checks hold the first pair to (of several sources' values,
+    # the one nearest its crossing), else the substance's first
+    with np.errstate(all="ignore"):
+        pairs = ctx.pairs if ctx.n else None
+    if pairs is not None and len(pairs) and math.isfinite(pairs.tm[0]):
+        tm = float(pairs.tm[0])
+    else:
+        tm = ctx.melting_reference()[0] if ctx.n else np.nan
     if math.isfinite(tm):
         ax.axvline(1000.0 / tm, color="#555555", ls=":", lw=1.2)
         ax.annotate(

@@ -98,8 +98,8 @@ def anchor_values(ctx: AuditContext) -> AnchorValues | None:
     (:class:`AnchorValues`). None when no record has one.
 
     A table may keep several sources' standard data for one substance: each curve is held
-    to the value of each quantity nearest what it implies (the first in table order on a
-    tie), as for a boiling point, so that the order of the rows never decides.
+    to the value of each quantity nearest what it implies (the lower on a tie), as for a
+    boiling point, so that the order of the rows never decides.
     """
     liquid = ctx.liquid
     quantities = {
@@ -125,7 +125,9 @@ def anchor_values(ctx: AuditContext) -> AnchorValues | None:
         ref[key] = np.full(rows.size, np.nan)
         for quantity, phase in ((of_liquid, liquid[rows]), (of_solid, ~liquid[rows])):
             at = np.flatnonzero(phase)
-            ref[key][at] = ctx.nearest_values(quantity, rows[at], implied[key][at])[0]
+            ref[key][at] = ctx.nearest_values(
+                quantity, rows[at], implied[key][at], lower_on_tie=True
+            )[0]
     return AnchorValues(
         rows=rows,
         h=h,
@@ -300,7 +302,10 @@ def contradicted_standard_data(ctx: AuditContext):
         ("s", a.s, "entropy", lambda v: f"{v:.1f} J/(mol K)", "J_per_mol_K"),
     ):
         for phase, what in ((liquid, "vaporization"), (~liquid, "sublimation")):
-            refs = ctx.references_of(f"standard_{words}_of_{what}")
+            quantity = f"standard_{words}_of_{what}"
+            if ctx.one_value_each(quantity):  # nothing to weigh
+                continue
+            refs = ctx.references_of(quantity)
             at = np.flatnonzero(phase & judged[key] & np.isfinite(implied))
             i, j = match(ctx.codes[a.rows[at]], np.where(np.isfinite(refs.value), refs.codes, -1))
             if i.size == np.unique(i).size:  # one value per curve: nothing to weigh
@@ -327,7 +332,7 @@ def contradicted_standard_data(ctx: AuditContext):
                     + ". The reference value looks wrong, not the "
                     f"record{'' if one else 's'}: check it against its source.",
                     {
-                        "quantity": f"standard_{words}_of_{what}",
+                        "quantity": quantity,
                         f"reference_{si}": float(value[r]),
                         f"other_reference_{si}": float(value[other]),
                         f"difference_{si}": worst,

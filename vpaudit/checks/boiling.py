@@ -412,7 +412,7 @@ def boiling_point_mismatch(ctx: AuditContext, th: dict[str, float]):
     "not the records.",
     "Reference values in compilations are not all right; independent sources that agree "
     "outweigh one value from another evaluation.",
-    reads_pairs=True,  # a melting point is weighed by the solid/liquid pairs
+    reads_pairs=True,  # melting points and enthalpies of fusion are weighed by the pairs
 )
 def reference_contradicted(ctx: AuditContext, th: dict[str, float]):
     """Two or more liquid records of a substance miss the reference T_b on the same side,

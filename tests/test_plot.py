@@ -81,24 +81,31 @@ def test_an_equation_given_at_one_temperature_is_drawn_as_its_point(tmp_path, re
     assert not [w for w in recwarn if "legend" in str(w.message)]
 
 
-def test_every_reference_boiling_point_is_marked_with_its_source(tmp_path):
-    # a table may keep two sources' normal boiling points; the audit weighs both, so the
-    # picture marks both (it showed only the first); invented values
+def _xane_svg(tmp_path, records_csv: str, reference_rows: str) -> str:
+    """The SVG text of the invented substance xane drawn from a table of ``records_csv``
+    and the reference rows ``reference_rows`` (substance,quantity,value,unit,source)."""
     (tmp_path / "records").mkdir()
     (tmp_path / "references").mkdir()
-    (tmp_path / "records" / "r.csv").write_text(
-        "id,substance,phase,form,log_base,pressure_unit,temperature_unit,A,B,C,t_min,t_max,"
-        "source\n"
-        "x1,xane,liquid,antoine,10,mmHg,K,6.95464,1344.8,-53.67,280,410,invented for this test\n"
-    )
+    (tmp_path / "records" / "r.csv").write_text(records_csv)
     (tmp_path / "references" / "ref.csv").write_text(
-        "substance,quantity,value,unit,source\n"
-        "xane,normal_boiling_point,395.0,K,table one\n"
-        "xane,normal_boiling_point,383.8,K,table two\n"
+        "substance,quantity,value,unit,source\n" + reference_rows
     )
     svg = tmp_path / "x.svg"
     plot_substance(load_table(tmp_path), "xane", svg)
-    text = svg.read_text()
+    return svg.read_text()
+
+
+def test_every_reference_boiling_point_is_marked_with_its_source(tmp_path):
+    # a table may keep two sources' normal boiling points; the audit weighs both, so the
+    # picture marks both (it showed only the first); invented values
+    text = _xane_svg(
+        tmp_path,
+        "id,substance,phase,form,log_base,pressure_unit,temperature_unit,A,B,C,t_min,t_max,"
+        "source\n"
+        "x1,xane,liquid,antoine,10,mmHg,K,6.95464,1344.8,-53.67,280,410,invented for this test\n",
+        "xane,normal_boiling_point,395.0,K,table one\n"
+        "xane,normal_boiling_point,383.8,K,table two\n",
+    )
     assert "reference normal boiling point 395 K (table one)" in text
     assert "reference normal boiling point 383.8 K (table two)" in text
 
@@ -128,22 +135,14 @@ def test_the_melting_point_drawn_is_the_one_the_pair_is_held_to(tmp_path):
     # two sources' melting points, 1300 K listed first: the pair checks hold the invented
     # pair (crossing near 1220 K; tests/checks/cases/melting-point-mismatch.yaml) to 1200 K,
     # and the picture marks that one (it marked the first)
-    (tmp_path / "records").mkdir()
-    (tmp_path / "references").mkdir()
-    (tmp_path / "records" / "r.csv").write_text(
+    text = _xane_svg(
+        tmp_path,
         "id,substance,phase,form,log_base,pressure_unit,A,B,C,t_min,t_max,source\n"
         "s1,xane,solid,three-term,e,Pa,30.825875279351756,-38246.60890429179,"
         "-0.6013617752247136,600,1200,invented for this test\n"
         "l1,xane,liquid,three-term,e,Pa,34.50821469656897,-37524.97477402213,"
-        "-1.2027235504494271,1200,2000,invented for this test\n"
+        "-1.2027235504494271,1200,2000,invented for this test\n",
+        "xane,melting_point,1300,K,table one\nxane,melting_point,1200,K,table two\n",
     )
-    (tmp_path / "references" / "ref.csv").write_text(
-        "substance,quantity,value,unit,source\n"
-        "xane,melting_point,1300,K,table one\n"
-        "xane,melting_point,1200,K,table two\n"
-    )
-    svg = tmp_path / "x.svg"
-    plot_substance(load_table(tmp_path), "xane", svg)
-    text = svg.read_text()
     assert "reference melting point 1200 K" in text
     assert "reference melting point 1300 K" not in text

@@ -406,6 +406,33 @@ def test_log_sum_exp_equals_scipy(values):
     assert _logsumexp(x) == pytest.approx(float(logsumexp(x)), rel=1e-12, abs=1e-12)
 
 
+@given(
+    st.sampled_from(["", "-", "+"]),
+    st.integers(0, 10**6),
+    st.one_of(st.just(""), st.integers(0, 10**4).map(lambda f: f".{f}")),
+    st.one_of(st.just(""), st.integers(-30, 30).map(lambda e: f"e{e}")),
+)
+def test_a_transposition_is_a_number_a_source_could_print(sign, whole, frac, exp):
+    """Each digit-transposition candidate swaps two adjacent, different digits of the
+    mantissa, parses as a number, and never starts with a superfluous zero: a table's
+    ``-300`` is not a source's ``-030`` mistyped (that reading would be a decimal shift
+    wearing another name)."""
+    import re
+
+    from vpaudit.diagnose.candidates import _transpositions
+    from vpaudit.readers.grammar import parse_number
+
+    text = f"{sign}{whole}{frac}{exp}"
+    for i, new in _transpositions(text):
+        assert new[i] == text[i + 1] and new[i + 1] == text[i] and new[i] != new[i + 1]
+        assert new[:i] == text[:i] and new[i + 2 :] == text[i + 2 :]
+        assert "e" not in text[: i + 2]
+        assert not re.match(r"[+-]?0\d", new), new
+        assert parse_number(new) == float(new)  # the table grammar reads it
+    assert [new for _, new in _transpositions("-300")] == []
+    assert [new for _, new in _transpositions("0.05")] == ["0.50"]
+
+
 def test_screening_scores_all_units_at_once_as_one_at_a_time():
     """The screening scores all candidates in one pass over columns; each unit's score must
     equal its own sum, computed here one piece at a time: evidence costs (z^2, or the soft-L1

@@ -5,6 +5,7 @@ corrections of one record (:func:`candidates_for`).
 from __future__ import annotations
 
 import math
+import re
 from collections import Counter, defaultdict
 from decimal import Decimal, InvalidOperation
 from itertools import combinations as _combinations
@@ -107,14 +108,25 @@ def _shift_text(text: str, k: int) -> str | None:
 
 
 def _transpositions(text: str) -> list[tuple[int, str]]:
+    """Every text of ``text`` with two adjacent, different digits of its mantissa swapped,
+    with the position swapped, save those a source cannot have printed: a number whose
+    integer part starts with a zero followed by another digit (``-300`` is not ``-030``
+    mistyped; ``0.05`` keeps its ``0.``).
+    """
     t = text.strip()
     out = []
     mantissa_end = next((i for i, ch in enumerate(t) if ch in "eE"), len(t))
     for i in range(mantissa_end - 1):
         a, b = t[i], t[i + 1]
         if a.isdigit() and b.isdigit() and a != b:
-            out.append((i, t[:i] + b + a + t[i + 2 :]))
+            new = t[:i] + b + a + t[i + 2 :]
+            if not _LEADING_ZERO.match(new):
+                out.append((i, new))
     return out
+
+
+#: A number written with a superfluous leading zero: sign, a zero, then another digit.
+_LEADING_ZERO = re.compile(r"[+-]?0\d")
 
 
 def candidates_for(

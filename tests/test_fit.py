@@ -113,6 +113,26 @@ def test_wagner_needs_its_critical_point():
         fit_points([300.0, 310.0, 320.0, 330.0, 340.0], [1e3] * 5, "wagner-3-6")
 
 
+def test_a_pair_fit_without_the_solid_points_says_which_phase_has_points(tmp_path):
+    """The demo's drennite has liquid points only: a pair fit names the phase it lacks (it
+    said "no points" and listed every substance with points, its own among them); a
+    misspelt name gets the near matches, as the other commands give them."""
+    from click.testing import CliRunner
+
+    from vpaudit.cli import main as cli
+    from vpaudit.errors import FitError
+
+    runner = CliRunner()
+    got = runner.invoke(cli, ["fit", "sample_db", "--substance", "drennite", "--pair"])
+    assert got.exit_code == 2, got.output
+    assert "cannot fit: 'drennite' has measured points of the liquid only, none of the solid" in (
+        got.output
+    )
+    got = runner.invoke(cli, ["fit", "sample_db", "--substance", "drenite"])
+    assert got.exit_code == 2 and "no points of 'drenite'; did you mean drennite," in got.output
+    assert issubclass(FitError, EquationError)
+
+
 def _pair_points(seed=1):
     rng = np.random.default_rng(seed)
     ts = np.linspace(600.0, 1000.0, 20)

@@ -20,6 +20,7 @@ from typing import TYPE_CHECKING
 from ._lazy import lazy_names
 from .errors import (
     EquationError,
+    FitError,
     PolicyError,
     RecordRuleError,
     StoreError,
@@ -69,6 +70,7 @@ __all__ = [
     "AuditResult",
     "Curves",
     "EquationError",
+    "FitError",
     "Finding",
     "Policy",
     "PolicyError",

@@ -12,6 +12,7 @@ folder, too)::
     ├── WriteError            a file that cannot be written as asked (nothing is written)
     ├── UnitError             an unknown unit or a quantity that does not parse
     ├── EquationError         an equation that cannot be evaluated or converted exactly
+    │   └── FitError          measured points that cannot be fitted as asked
     ├── PolicyError           a policy file or override that is not valid
     ├── StoreError            the DuckDB store cannot be opened, read or written
     └── UnknownCheckError     a check name that is not registered
@@ -30,6 +31,7 @@ __all__ = [
     "UnitError",
     "WriteError",
     "EquationError",
+    "FitError",
     "PolicyError",
     "StoreError",
     "UnknownCheckError",
@@ -138,6 +140,14 @@ class EquationError(VpauditError):
     """An equation that cannot be evaluated, inverted or converted exactly."""
 
     kind = "cannot evaluate or convert the equation"
+
+
+class FitError(EquationError):
+    """Measured points that cannot be fitted as asked: none of the substance or phase, too
+    few for the form's coefficients, or a design that does not determine them.
+    """
+
+    kind = "cannot fit"
 
 
 class PolicyError(VpauditError):

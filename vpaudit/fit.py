@@ -42,7 +42,7 @@ from scipy.optimize import least_squares, minimize_scalar
 from .constants import R
 from .equations.families import family_of, log_linear
 from .equations.forms import FORMS, WAGNER
-from .errors import EquationError
+from .errors import EquationError, FitError
 
 __all__ = [
     "FITTABLE",
@@ -194,13 +194,13 @@ def _wls(x: np.ndarray, y: np.ndarray, w: np.ndarray) -> tuple[np.ndarray, np.nd
     scale = np.abs(xw).max(axis=0)
     scale[scale == 0] = 1.0
     if not (np.isfinite(xw).all() and np.isfinite(y).all()):
-        raise EquationError(_SINGULAR + " (a term overflows at these temperatures)")
+        raise FitError(_SINGULAR + " (a term overflows at these temperatures)")
     try:
         q, r = np.linalg.qr(xw / scale)
         beta = np.linalg.solve(r, q.T @ (y * sw)) / scale
         rinv = np.linalg.inv(r)
     except np.linalg.LinAlgError:
-        raise EquationError(_SINGULAR) from None
+        raise FitError(_SINGULAR) from None
     cov = (rinv @ rinv.T) / np.outer(scale, scale)
     return beta, cov
 
@@ -260,29 +260,30 @@ def fit_points(
 
     Raises
     ------
-    EquationError
-        Unknown form, too few points, or a Wagner form without a critical point.
+    FitError
+        Unknown form, too few points, or a Wagner form without a critical point (an
+        :class:`~vpaudit.errors.EquationError`).
     """
     if form not in FORMS:
-        raise EquationError(f"unknown equation form {form!r}; valid forms: {', '.join(FORMS)}")
+        raise FitError(f"unknown equation form {form!r}; valid forms: {', '.join(FORMS)}")
     t = np.asarray(temperature, dtype=float)
     p = np.asarray(pressure, dtype=float)
     if t.shape != p.shape or t.ndim != 1:
-        raise EquationError("temperature and pressure must be 1-D arrays of equal length")
+        raise FitError("temperature and pressure must be 1-D arrays of equal length")
     if not (np.all(t > 0) and np.all(p > 0) and np.all(np.isfinite(t + p))):
-        raise EquationError("every point needs a positive, finite T and P")
+        raise FitError("every point needs a positive, finite T and P")
     names = list(FORMS[form].coefficients)
     if t.size <= len(names):
-        raise EquationError(
+        raise FitError(
             f"form {form!r} has {len(names)} coefficients: it needs more than {len(names)} "
             f"points, got {t.size}"
         )
     fixed = {"t_crit": t_crit, "p_crit": p_crit}
     if form in WAGNER:
         if not (t_crit and p_crit):
-            raise EquationError(f"form {form!r} needs the critical point (t_crit, p_crit)")
+            raise FitError(f"form {form!r} needs the critical point (t_crit, p_crit)")
         if np.any(t >= t_crit):
-            raise EquationError(f"form {form!r}: every point must lie below t_crit {t_crit:g} K")
+            raise FitError(f"form {form!r}: every point must lie below t_crit {t_crit:g} K")
     absolute = uncertainty is not None
     sigma = (
         np.broadcast_to(np.asarray(uncertainty, dtype=float), t.shape).copy()
@@ -290,7 +291,7 @@ def fit_points(
         else np.ones_like(t)
     )
     if np.any(~(sigma > 0)):
-        raise EquationError("uncertainties must be positive")
+        raise FitError("uncertainties must be positive")
     y = np.log(p)
     keep = np.ones(t.size, dtype=bool)
     linear = family_of(form).linear(form)
@@ -321,7 +322,7 @@ def fit_points(
             z = z / max(1.4826 * np.median(np.abs(z)), 1e-300)
         keep = np.abs(z) <= reject_at
         if keep.sum() <= len(names):
-            raise EquationError("the robust fit rejected too many points to fit the form")
+            raise FitError("the robust fit rejected too many points to fit the form")
     beta = solve(keep)
     yk, g = _model(form, beta, t[keep], fixed)
     w = 1.0 / sigma[keep] ** 2
@@ -415,7 +416,7 @@ def _constrained(xs, ys, ws, xl, yl, wl, c, d):
     try:
         inv = np.linalg.inv(kkt)
     except np.linalg.LinAlgError:
-        raise EquationError(_SINGULAR) from None
+        raise FitError(_SINGULAR) from None
     sol = inv @ rhs
     beta = sol[:k] / scale
     cov = inv[:k, :k] / np.outer(scale, scale)
@@ -455,7 +456,7 @@ def fit_pair(
     PairFitResult
     """
     if form not in ("two-term", "three-term", "four-term-t", "four-term-cube"):
-        raise EquationError(
+        raise FitError(
             f"a pair fit needs a log-linear form (two-term, three-term, four-term-t, "
             f"four-term-cube), not {form!r}"
         )
@@ -551,15 +552,22 @@ def _points(table, substance: str, phase: str | None):
 
     pts = table.points
     if not len(pts):
-        raise EquationError("the table has no measured points to fit")
+        raise FitError("the table has no measured points to fit")
     m = eq(pts["substance"], substance)
     if phase:
         m = m & eq(pts["phase"], phase)  # eq may hand back a read-only view
     if not m.any():
+        own = eq(pts["substance"], substance)
+        if phase and own.any():
+            phases = " and ".join(sorted(set(pts.loc[own, "phase"].astype(object).dropna())))
+            raise FitError(
+                f"{substance!r} has measured points of the {phases} only, none of the {phase}"
+            )
+        from .substance import near_names
+
         have = sorted(set(pts["substance"].astype(object).dropna()))
-        raise EquationError(
-            f"no points of {substance!r}{' (' + phase + ')' if phase else ''}; substances "
-            f"with points: {', '.join(have) or 'none'}"
+        raise FitError(
+            f"no points of {substance!r}{near_names(substance, have, 'substance(s) with points')}"
         )
     sel = pts.loc[m]
     t = sel["T_K"].to_numpy(dtype=float)
@@ -614,7 +622,7 @@ def fit_table(
     t, p, unc, sources, sel = _points(table, substance, phase)
     phases = sorted(set(sel["phase"].astype(object)))
     if len(phases) > 1:
-        raise EquationError(
+        raise FitError(
             f"{substance!r} has points of both phases; choose one with --phase, or fit both "
             "together with --pair"
         )

@@ -51,8 +51,10 @@ def evaporation_flux(pressure, temperature, molar_mass, alpha: float = 1.0):
     return alpha * p * np.sqrt(molar_mass / (2.0 * math.pi * R * t))
 
 
-def _near(wanted: str, names: list[str]) -> str:
-    """A hint naming the names close to ``wanted`` (case, containment, spelling)."""
+def near_names(wanted: str, names: list[str], what: str = "") -> str:
+    """A hint naming the names close to ``wanted`` (case, containment, spelling), else how
+    many ``what`` the table has and the first few.
+    """
     import difflib
 
     low = wanted.lower()
@@ -62,8 +64,8 @@ def _near(wanted: str, names: list[str]) -> str:
     if close:
         return f"; did you mean {', '.join(close[:5])}?"
     if not names:
-        return "; the table has none"
-    return f"; the table has {len(names)}, e.g. {', '.join(names[:5])}"
+        return f"; the table has no{' ' + what if what else 'ne'}"
+    return f"; the table has {len(names)}{' ' + what if what else ''}, e.g. {', '.join(names[:5])}"
 
 
 def check_substances(table: Table, substances) -> None:
@@ -71,7 +73,9 @@ def check_substances(table: Table, substances) -> None:
     known = set(table.records["substance"].astype(object).dropna())
     for name in substances:
         if name not in known:
-            raise VpauditError(f"no records for substance {name!r}{_near(name, sorted(known))}")
+            raise VpauditError(
+                f"no records for substance {name!r}{near_names(name, sorted(known))}"
+            )
 
 
 def check_records(table: Table, ids) -> None:
@@ -79,7 +83,7 @@ def check_records(table: Table, ids) -> None:
     known = set(table.records["id"].astype(object).dropna())
     for rid in ids:
         if rid not in known:
-            raise VpauditError(f"no record with id {rid!r}{_near(rid, sorted(known))}")
+            raise VpauditError(f"no record with id {rid!r}{near_names(rid, sorted(known))}")
 
 
 def substance_records(table: Table, substance: str):

@@ -28,6 +28,7 @@ def test_public_api_is_explicit():
             "Curves",
             "EquationError",
             "Finding",
+            "FitError",
             "Policy",
             "PolicyError",
             "RecordRuleError",

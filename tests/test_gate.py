@@ -147,6 +147,44 @@ def test_a_change_that_touches_nothing_relevant_passes(repo):
     assert "New since base: 0 finding(s)" in r.output
 
 
+def test_a_change_that_mends_a_record_lists_what_it_cleared(repo, tmp_path):
+    """The demo's bellorium-l1 is a log10 equation marked ln (its planted slip): marking it
+    log10 clears its substance's findings. The gate lists exactly those the base audit has
+    on bellorium and the head audit has not (each table audited whole, here), as resolved,
+    in the text, the Markdown and the JSON; nothing is new, and the gate passes."""
+    from vpaudit import audit
+
+    metals = repo / "table" / "records" / "metals.csv"
+    before = audit(repo / "table")
+    lines = metals.read_text().splitlines(keepends=True)
+    at = next(i for i, line in enumerate(lines) if line.startswith("bellorium-l1,"))
+    assert ",liquid,,three-term,e,Pa," in lines[at]
+    lines[at] = lines[at].replace(",three-term,e,Pa,", ",three-term,10,Pa,")
+    metals.write_text("".join(lines))
+    git(repo, "commit", "-qam", "mend bellorium-l1")
+    after = audit(repo / "table")
+    cleared = {k for k in before.findings.keys() if k[1] == "bellorium"} - set(
+        after.findings.keys()
+    )
+    assert any(k[0] == "enthalpy-implausible" for k in cleared)
+
+    result = gate(repo / "table", "base")
+    assert {f.key for f in result.gate.resolved} == cleared
+    assert not any(result.status_of(f) == "new" for f in result.findings)
+    r = run("gate", repo / "table", "--base", "base")
+    assert r.exit_code == 0, r.output
+    assert f"Resolved (at base, cleared by the change): {len(cleared)} finding(s)" in r.output
+    assert "enthalpy-implausible:bellorium-l1" in r.output
+    r = run("gate", repo / "table", "--base", "base", "--format", "json")
+    out = json.loads(r.output)
+    assert out["summary"]["resolved"] == len(cleared) == len(out["resolved"])
+    assert {(d["check"], d["substance"], tuple(sorted(d["records"]))) for d in out["resolved"]} == (
+        cleared
+    )
+    r = run("gate", repo / "table", "--base", "base", "--format", "markdown")
+    assert f"{len(cleared)} resolved: at base, cleared by the change" in r.output
+
+
 def test_missing_base_revision_says_what_it_needs(repo):
     r = run("gate", repo / "table", "--base", "no-such-rev")
     assert r.exit_code == 2

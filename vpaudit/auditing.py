@@ -74,10 +74,28 @@ class AuditResult:
 
     def to_dict(self) -> dict[str, Any]:
         """The JSON output contract."""
-        return {
+        out = {
             "summary": self.summary_dict(),
             "findings": self.findings.dicts(status=self.gated),
         }
+        if self.gate is not None:
+            out["resolved"] = self.resolved_dicts()
+        return out
+
+    def resolved_dicts(self) -> list[dict[str, Any]]:
+        """A gate's findings at the base that the change cleared, for the JSON output
+        (``resolved``: check, severity, substance, records, message); none for an audit.
+        """
+        return [
+            {
+                "check": f.check,
+                "severity": f.severity.value,
+                "substance": f.substance,
+                "records": list(f.records),
+                "message": f.message,
+            }
+            for f in (self.gate.resolved if self.gate is not None else ())
+        ]
 
     def summary_dict(self) -> dict[str, Any]:
         """The ``summary`` of :meth:`to_dict`; a gate's adds the count of new findings, the
@@ -88,6 +106,7 @@ class AuditResult:
         return {
             **self.summary,
             "new": sum((s or "new") == "new" for s in self.findings.status),
+            "resolved": len(self.gate.resolved),
             "base": self.gate.base,
             "substances_reaudited": self.gate.affected,
         }
@@ -95,10 +114,13 @@ class AuditResult:
 
 @dataclass(frozen=True)
 class GateInfo:
-    """What a gate's result adds: the base revision and the substances re-audited."""
+    """What a gate's result adds: the base revision, the substances re-audited, and the
+    findings the base had on them that the change cleared.
+    """
 
     base: str
     affected: int
+    resolved: tuple[Finding, ...] = ()
 
 
 def point_at_suspects(

@@ -6,7 +6,10 @@ git, never fetched), and classifies each finding of the current table:
 * ``new`` -- its identity (check, substance, record ids; not its message) did not occur at
   REF, including findings on unchanged records caused by a changed partner or reference;
 * ``existing`` -- it occurred at REF too;
-* ``accepted`` -- a steward accepted it in the table's ``accepted.toml``.
+* ``accepted`` -- a steward accepted it in the table's ``accepted.toml``;
+
+and lists apart the findings of REF that the change cleared (``resolved``): what a change
+that mends records did, for its reviewer to see.
 
 Only substances whose rows changed are re-audited. Both sides are read as the audit reads
 them and their rows compared by content (every field but where the row stands), never by
@@ -396,20 +399,25 @@ def gate(
     else:
         changed = _changed_substances(head, base_table)
     head_result = audit_table(restrict(head, changed), pol, table_path=str(table))
-    base_keys = set()
+    head_keys = head_result.findings.keys()
+    base_keys: set = set()
+    resolved: list[Finding] = []
     if base_table is not None and changed:
-        base_keys = set(audit_table(restrict(base_table, changed), pol).findings.keys())
+        base_findings = audit_table(restrict(base_table, changed), pol).findings
+        keys = base_findings.keys()
+        base_keys = set(keys)
+        now = set(head_keys)
+        resolved = [f for f, key in zip(base_findings, keys, strict=True) if key not in now]
+        resolved.sort(key=lambda f: (-f.severity.rank, f.substance, f.check))
     result = AuditResult(
         head_result.findings,
         head_result.summary,
         head_result.policy_description,
         str(table),
         head_result.checks_run,
-        gate=GateInfo(base, len(changed)),
+        gate=GateInfo(base, len(changed), tuple(resolved)),
     )
-    result.findings.status = [
-        "existing" if key in base_keys else "new" for key in result.findings.keys()
-    ]
+    result.findings.status = ["existing" if key in base_keys else "new" for key in head_keys]
     if unreadable is not None:
         result.findings.append(
             Finding(

@@ -1,4 +1,6 @@
-"""JSON report: the output contract ``{"summary": {...}, "findings": [...]}``."""
+"""JSON report: the output contract ``{"summary": {...}, "findings": [...]}`` (a gate's adds
+``"resolved": [...]``, the base's findings the change cleared).
+"""
 
 from __future__ import annotations
 
@@ -127,6 +129,10 @@ def chunks(result) -> Iterator[str]:
             made += _lines(findings, b, min(b + _FIELD_ROWS, a + CHUNK, n), result.gated, cache)
         lines = b",\n".join(made)
         yield (b",\n" + lines if a else lines).decode("utf-8")
+    if result.gated:  # what the change cleared, after what it left
+        resolved = b",\n".join(_encode(d) for d in result.resolved_dicts()).decode("utf-8")
+        yield f'\n],\n"resolved": [\n{resolved}\n]}}\n' if resolved else '\n],\n"resolved": []}\n'
+        return
     yield "\n]}\n"
 
 

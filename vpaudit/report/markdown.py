@@ -54,6 +54,18 @@ def render(result) -> str:
                 f"({_cell(', '.join(f.records))}): {_cell(f.message)}"
             )
         out += ["", "</details>", ""]
+    if status_of is not None and result.gate.resolved:
+        resolved = result.gate.resolved
+        out += [
+            f"<details><summary>{len(resolved)} resolved: at {_cell(result.gate.base)}, "
+            "cleared by the change</summary>",
+            "",
+        ]
+        out += [
+            f"- {f.severity.label} `{f.check}` {_cell(f.substance)} ({_cell(', '.join(f.records))})"
+            for f in resolved
+        ]
+        out += ["", "</details>", ""]
     covered = coverage_sentence(s)
     if covered:
         out += [covered, ""]

@@ -94,6 +94,19 @@ def render(result, width: int = 100) -> str:
             lines.append(f"== {title.format(base=result.gate.base)}: {len(part)} finding(s)")
             lines.append("")
             block(part)
+        resolved = result.gate.resolved
+        lines.append(
+            f"== Resolved (at {result.gate.base}, cleared by the change): "
+            f"{len(resolved)} finding(s)"
+        )
+        lines.append("")
+        by_substance = defaultdict(list)
+        for f in resolved:
+            by_substance[f.substance].append(f)
+        for name, fs in by_substance.items():
+            lines.append(f"{name or '(table)'} -- {_counts(fs)}")
+            lines.extend(f"  {f.severity.label:<8}{f.check}:{','.join(f.records)}" for f in fs)
+            lines.append("")
         lines.append(
             f"{result.gate.affected} substance(s) changed since {result.gate.base} were "
             "re-audited; the others are unchanged."

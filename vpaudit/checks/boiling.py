@@ -462,14 +462,19 @@ def _contradicted_boiling_points(ctx: AuditContext):
         k = np.flatnonzero(out & (ctx.codes[rows] == code))
         source, file, line = ctx.reference_row_at(int(got.ref[k[0]]))
         implied = t_implied[k]
+        reached = implied[np.isfinite(implied)]
         ids = tuple(ctx.id(rows[j]) for j in k)
         yield Hit(
             int(rows[k[0]]),
             f"the reference normal boiling point {kelvin(t[k[0]])} ({source}) disagrees with "
-            f"all {k.size} liquid records, which agree with each other: they reach 101325 Pa "
-            f"at {kelvin(float(np.nanmean(implied)))} (off by {ln_ratio(float(d[k].mean()))} "
-            "at the reference). The reference value looks wrong, not the records: check it "
-            "against its source.",
+            f"all {k.size} liquid records, which agree with each other: "
+            + (
+                f"they reach 101325 Pa at {kelvin(float(reached.mean()))}"
+                if reached.size
+                else "none reaches 101325 Pa near its range"
+            )
+            + f" (off by {ln_ratio(float(d[k].mean()))} at the reference). The reference "
+            "value looks wrong, not the records: check it against its source.",
             {
                 "boiling_point_K": float(t[k[0]]),
                 "implied_boiling_points_K": [float(x) for x in implied],

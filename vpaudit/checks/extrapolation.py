@@ -52,8 +52,9 @@ def allowance(t_min, t_max, t) -> np.ndarray:
         end relative to t and (a, b) as :data:`BELOW` or :data:`ABOVE`. [-] (ln P)
     """
     t_min, t_max, t = (np.asarray(v, dtype=float) for v in (t_min, t_max, t))
-    with np.errstate(invalid="ignore", divide="ignore"):
+    with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
         below = np.clip((t_min - t) / t, 0.0, None)
         above = np.clip((t - t_max) / t, 0.0, None)
-    out = BELOW[0] * below + BELOW[1] * below**2 + ABOVE[0] * above + ABOVE[1] * above**2
+        # a temperature near 0 K puts f beyond any float's square: no allowance (below)
+        out = BELOW[0] * below + BELOW[1] * below**2 + ABOVE[0] * above + ABOVE[1] * above**2
     return np.where(np.isfinite(out), out, 0.0)

@@ -737,7 +737,9 @@ def points_misfit(ctx: AuditContext, th: dict[str, float]):
     u_rec = np.where(np.isnan(u_rec), 0.0, u_rec)
     sigma = np.sqrt(u_pt**2 + u_rec**2)
     z = np.abs(r) / sigma
-    frame = pd.DataFrame({"row": rows, "r": r, "z": z, "t": t})[inside]
+    # where the curve has no value (pressure-not-finite's, or a Wagner curve beyond its own
+    # critical temperature: above-critical's) there is no residual to weigh
+    frame = pd.DataFrame({"row": rows, "r": r, "z": z, "t": t})[inside & ~np.isnan(z)]
     if not len(frame):
         return
     g = frame.groupby("row")

@@ -116,6 +116,11 @@ def sources_disagree(ctx: AuditContext, th: dict[str, float]):
     ui = np.where(np.isnan(ctx.uncertainty[r_]), th["default_uncertainty"], ctx.uncertainty[r_])
     tol = th["factor"] * np.sqrt(ui**2 + cons["u"].to_numpy() ** 2)
     cons = cons.assign(d=d, tol=tol, t=tt, z=np.abs(d) / tol)
+    # where the record's own curve has no value (pressure-not-finite's, or a Wagner curve
+    # beyond its own critical temperature: above-critical's) there is nothing to compare
+    cons = cons[~np.isnan(cons["z"].to_numpy())]
+    if not len(cons):
+        return
     worst = cons.loc[cons.groupby("i")["z"].idxmax()]
     worst = worst[worst["z"] > 1.0]
     partner = dict(zip(i.tolist(), j.tolist(), strict=True))  # the other one, in pairs

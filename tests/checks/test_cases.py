@@ -61,7 +61,10 @@ def test_case(check, defaults, case):
             if "says" in case:
                 assert case["says"] in f.message, (case["name"], f.message)
             witness = REGISTRY[check].witness  # how far from its witness: a number
-            if witness is not None:
+            if witness is not None and case.get("residual") == "none":
+                # a curve with no value at its witness has no residual: null, said so
+                assert f.evidence.get(witness) is None, (case["name"], f.evidence)
+            elif witness is not None:
                 size = f.evidence.get(witness)
                 sizes = size if isinstance(size, list) else [size]
                 assert sizes and all(isinstance(x, int | float) for x in sizes), (

@@ -384,11 +384,26 @@ def boiling_point_mismatch(ctx: AuditContext, th: dict[str, float]):
             )
         else:
             where = ""
+        if np.isnan(y[k]):  # a Wagner curve beyond its own critical temperature
+            tc = c.own_t_crit[k]
+            gives = (
+                f"the curve has no value at the reference normal boiling point {kelvin(t[k])}"
+                + (
+                    f", above the record's own critical temperature {kelvin(tc)}"
+                    if t[k] > tc
+                    else ""
+                )
+            )
+        else:
+            gives = (
+                f"at the reference normal boiling point {kelvin(t[k])} the curve gives "
+                f"{pressure_at_ln(y[k], np.exp(y[k]))} instead of 101325 Pa, off by "
+                f"{ln_ratio(d[k])}"
+            )
         yield Hit(
             i,
-            f"at the reference normal boiling point {kelvin(t[k])} the curve gives "
-            f"{pressure_at_ln(y[k], np.exp(y[k]))} instead of 101325 Pa, off by "
-            f"{ln_ratio(d[k])}; "
+            gives
+            + "; "
             + (
                 f"it reaches 101325 Pa at {kelvin(t_implied[k])}"
                 if np.isfinite(t_implied[k])

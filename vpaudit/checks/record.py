@@ -4,6 +4,8 @@ enthalpies, measured points (the boiling point and the critical point have their
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 import pandas as pd
 
@@ -197,10 +199,20 @@ def slope_not_positive(ctx: AuditContext, th: dict[str, float]):
         bad = ctx.evaluable & ~(ex.h_min > 0)
     sel = np.flatnonzero(bad)
     h_min, h_min_t = ex.h_min[sel], ex.h_min_T[sel]
+    t_crit = ctx.curves.own_t_crit[sel]
     messages = [
         f"the implied enthalpy falls to {kj(h)} at {kelvin(t)}: vapour pressure must rise "
         "with temperature; a sign of the 1/T coefficient is the usual cause."
-        for h, t in zip(h_min.tolist(), h_min_t.tolist(), strict=True)
+        if not math.isnan(h)
+        else f"the implied enthalpy has no value at {kelvin(t)}"
+        + (
+            f", above the record's own critical temperature {kelvin(tc)}, where the curve "
+            "is not defined"
+            if t > tc
+            else ": the curve is not defined there"
+        )
+        + "; vapour pressure must rise with temperature over the whole range."
+        for h, t, tc in zip(h_min.tolist(), h_min_t.tolist(), t_crit.tolist(), strict=True)
     ]
     yield Hits(
         sel,

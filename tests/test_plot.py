@@ -146,3 +146,22 @@ def test_the_melting_point_drawn_is_the_one_the_pair_is_held_to(tmp_path):
     )
     assert "reference melting point 1200 K" in text
     assert "reference melting point 1300 K" not in text
+
+
+def test_a_curve_whose_pressure_cannot_be_represented_is_left_off_the_scale(tmp_path):
+    # an invented liquid whose A was typed 1e300 (ln P = 1e300: pressure-not-finite's)
+    # beside a sound solid: the picture is drawn (the pressure axis asked numpy for 1e299
+    # ticks, an internal error), on the solid's scale, and the legend says why the liquid is
+    # not seen; invented values
+    text = _xane_svg(
+        tmp_path,
+        "id,substance,phase,form,log_base,pressure_unit,A,B,C,t_min,t_max,source\n"
+        "x1,xane,liquid,three-term,e,Pa,1e300,-5000,0,300,400,invented for this test\n"
+        "x2,xane,solid,three-term,e,Pa,30,-6000,0,200,300,invented for this test\n",
+        "",
+    )
+    assert "x1 (liquid, 300-400 K; no pressure that can be drawn)" in text
+    info = plot_substance(load_table(tmp_path), "xane", tmp_path / "again.svg")
+    lo, hi = info["ln_p_limits"]
+    # the solid runs from ln P = 30 - 6000/200 = 0 to 30 - 6000/300 = 10
+    assert -2.0 < lo < 0.0 and 10.0 < hi < 12.0

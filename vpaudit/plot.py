@@ -130,6 +130,7 @@ def plot_substance(table: Table, substance: str, path: str | Path, unit: str = "
     t_all = 1.0 / np.linspace(1.0 / (hi * 1.08), 1.0 / (lo / 1.08), 400)
     x = 1000.0 / t_all
     drawn, styles, finite_in_range = [], {}, []
+    lim = ctx.thresholds("pressure-not-finite")["max_abs_lnP"]  # largest |ln(P/Pa)| drawn
     names: list[tuple[float, float, str, str]] = []  # where each record's name goes
     seen = {"solid": 0, "liquid": 0}
     for i in range(ctx.n):
@@ -144,8 +145,11 @@ def plot_substance(table: Table, substance: str, path: str | Path, unit: str = "
         c = ctx.curves.take([i])
         with np.errstate(all="ignore"):
             y = evaluate(c, t_all[None, :], 0)[0][0]
-        y = np.where(np.isfinite(y), y, np.nan)  # an Antoine pole gives no point, not an axis
+        # an Antoine pole gives no point, not an axis; nor does a pressure that cannot be
+        # represented (pressure-not-finite's), which would flatten every other curve
+        y = np.where(np.isfinite(y) & (np.abs(y) <= lim), y, np.nan)
         inside = (t_all >= c.t_min[0]) & (t_all <= c.t_max[0])
+        off = "" if np.isfinite(y[inside]).any() else "; no pressure that can be drawn"
         ax.plot(
             x, np.where(inside, np.nan, y), ls="--", lw=0.9, color=styles[i]["color"], alpha=0.6
         )
@@ -155,7 +159,7 @@ def plot_substance(table: Table, substance: str, path: str | Path, unit: str = "
                 np.where(inside, y, np.nan),
                 lw=2.2,
                 **styles[i],
-                label=_plain(f"{ctx.id(i)} ({phase}, {c.t_min[0]:.4g}-{c.t_max[0]:.4g} K)"),
+                label=_plain(f"{ctx.id(i)} ({phase}, {c.t_min[0]:.4g}-{c.t_max[0]:.4g} K{off})"),
             )
         else:  # a range of one temperature: the one point drawn
             with np.errstate(all="ignore"):
@@ -236,8 +240,10 @@ def plot_substance(table: Table, substance: str, path: str | Path, unit: str = "
             *bands,
         ]
     )
-    ys = ys[np.isfinite(ys)]
-    if ys.size:  # limits from what is drawn in range and the data, never from a pole
+    # limits from what is drawn in range and the data, never from a pole nor from a
+    # pressure that cannot be represented
+    ys = ys[np.isfinite(ys) & (np.abs(ys) <= lim)]
+    if ys.size:
         pad = 0.08 * max(float(np.ptp(ys)), 1.0)
         ax.set_ylim(float(ys.min()) - pad, float(ys.max()) + pad)
     ax.set_ylabel("ln(P / Pa)")
@@ -329,7 +335,13 @@ def _pressure_axis(ax, factor: float, unit: str) -> None:
     )
     lo, hi = ((v - ln_f) / ln10 for v in ax.get_ylim())
     span = max(hi - lo, 1e-9)
-    step = next((s for s in (1, 2, 3, 5, 10, 20, 50, 100) if span / s <= 8), 200)
+    # at most 8 ticks, in decades of decades for a curve at absurd heights
+    step = next((s for s in (1, 2, 3, 5, 10, 20, 50, 100) if span / s <= 8), None)
+    if step is None:
+        step = 10.0 ** math.ceil(math.log10(span / 8.0)) if math.isfinite(span) else None
+    right.set_ylabel(f"P / {_plain(unit)}")
+    if step is None or not math.isfinite(step):
+        return
     first = math.ceil(lo / step) * step
     right.yaxis.set_major_locator(FixedLocator(np.arange(first, hi + 1e-9, step)))
 
@@ -338,7 +350,6 @@ def _pressure_axis(ax, factor: float, unit: str) -> None:
         return "1" if k == 0 else ("10" if k == 1 else f"$10^{{{k}}}$")
 
     right.yaxis.set_major_formatter(FuncFormatter(label))
-    right.set_ylabel(f"P / {_plain(unit)}")
 
 
 def _only(table: Table, substance: str) -> Table:
@@ -431,7 +442,10 @@ def _deviations(ax, ctx: AuditContext, t_all: np.ndarray, styles: dict) -> None:
         with np.errstate(all="ignore"):
             y = evaluate(c, np.broadcast_to(t_all, (len(rows), t_all.size)), 0)[0]
         inside = (t_all[None, :] >= c.t_min[:, None]) & (t_all[None, :] <= c.t_max[:, None])
-        ym = np.where(inside & np.isfinite(y), y, np.nan)
+        # a pressure that cannot be represented (pressure-not-finite's) is not drawn here:
+        # the line fitted through it would bury every other curve's deviations
+        lim = ctx.thresholds("pressure-not-finite")["max_abs_lnP"]
+        ym = np.where(inside & (np.abs(y) <= lim), y, np.nan)
         xs, ys = np.broadcast_to(x, ym.shape)[np.isfinite(ym)], ym[np.isfinite(ym)]
         if xs.size >= 2 and np.ptp(xs) > 0:
             slope, icept = np.polyfit(xs, ys, 1)
@@ -440,6 +454,9 @@ def _deviations(ax, ctx: AuditContext, t_all: np.ndarray, styles: dict) -> None:
                     x, ym[j] - (icept + slope * x), lw=1.8, label=_plain(ctx.id(i)), **styles[i]
                 )
     ax.axhline(0.0, color="black", lw=0.8)
+    lo, hi = ax.get_ylim()
+    if hi - lo < 0.1:  # rounding noise of a straight curve is not blown up into a signal
+        ax.set_ylim(min(lo, -0.05), max(hi, 0.05))
     ax.set_title(
         "each curve minus one straight line fitted to all the curves within their ranges",
         fontsize=8.5,

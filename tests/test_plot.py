@@ -165,3 +165,18 @@ def test_a_curve_whose_pressure_cannot_be_represented_is_left_off_the_scale(tmp_
     lo, hi = info["ln_p_limits"]
     # the solid runs from ln P = 30 - 6000/200 = 0 to 30 - 6000/300 = 10
     assert -2.0 < lo < 0.0 and 10.0 < hi < 12.0
+
+
+def test_a_substance_with_no_curve_to_draw_is_refused_in_one_line(tmp_path):
+    # an invented liquid whose range was typed reversed (1752-1751 K): nothing can be
+    # drawn, and the command says so (it drew empty axes whose T scale divided by zero,
+    # an internal error); invented values
+    (tmp_path / "records").mkdir()
+    (tmp_path / "records" / "r.csv").write_text(
+        "id,substance,phase,form,log_base,pressure_unit,A,B,C,t_min,t_max,source\n"
+        "x1,xane,liquid,three-term,e,bar,25.0,-9000,0,1752,1751,invented for this test\n"
+    )
+    got = CliRunner().invoke(main, ["plot", str(tmp_path), "xane", "-o", str(tmp_path / "x.png")])
+    assert got.exit_code == 2, got.output
+    assert "no record of 'xane' can be drawn" in got.output
+    assert not (tmp_path / "x.png").exists()

@@ -117,6 +117,12 @@ def plot_substance(table: Table, substance: str, path: str | Path, unit: str = "
     substance_records(table, substance)  # an unknown name lists near matches
     sub_table = _only(table, substance)
     ctx = AuditContext(sub_table, load_policy(table.policy_path))
+    if not ctx.evaluable.any():
+        raise VpauditError(
+            f"no record of {substance!r} can be drawn: none of its {ctx.n} record(s) has a "
+            "curve over a valid range (an empty or reversed range, an Antoine pole in it: "
+            "'vpaudit audit' says which)"
+        )
     plt = _matplotlib()
     fig = plt.figure(figsize=(7.5, 7.2), dpi=150)
     grid = fig.add_gridspec(2, 1, height_ratios=[3, 1.4], hspace=0.08)

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-from hypothesis import given, settings
+from hypothesis import example, given, settings
 from hypothesis import strategies as st
 from numpy.testing import assert_allclose
 from scipy.constants import R
@@ -218,3 +218,57 @@ def test_convert_is_exact_when_it_can_be_and_refits_otherwise():
     assert np.max(np.abs(two["A"] + two["B"] / t - y)) <= dev * (1 + 1e-9)
     with pytest.raises(EquationError, match="deviates"):
         convert_or_refit(rec, form="two-term", max_deviation=1e-6)
+
+
+@settings(max_examples=150, deadline=None, derandomize=True)
+@given(
+    st.lists(st.tuples(st.floats(1.0, 5000.0), st.floats(1e-20, 1e9)), min_size=1, max_size=12),
+    st.sampled_from(
+        [
+            "two-term",
+            "three-term",
+            "four-term-t",
+            "four-term-cube",
+            "power-term",
+            "antoine",
+            "wagner-3-6",
+        ]
+    ),
+    st.booleans(),
+)
+@example(  # found by this test: it warned "overflow encountered in power"
+    list(
+        zip(
+            [4454.415825246225, 1.0, 3877.2230827353683, 1.0, 1.0, 1.0, 1.0, 1.0],
+            [
+                744498917.5368938,
+                565320164.1187983,
+                477384788.40066665,
+                0.5,
+                142805966.49663395,
+                626403506.8662516,
+                477384788.40066665,
+                1e-20,
+            ],
+            strict=True,
+        )
+    ),
+    "power-term",
+    True,
+)
+def test_any_points_fit_with_finite_coefficients_or_say_why(points, form, robust):
+    """Points anywhere from 1 K to 5000 K and 1e-20 to 1e9 Pa, repeated temperatures and
+    all: each fit gives finite coefficients or a FitError, and no floating-point warning
+    (the free exponent of the power-term form overflowed in the optimizer's trial steps)."""
+    import warnings
+
+    t = np.array([x for x, _ in points])
+    p = np.array([y for _, y in points])
+    extra = {"t_crit": float(t.max()) * 1.1, "p_crit": 1e7} if form.startswith("wagner") else {}
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", RuntimeWarning)
+        try:
+            fit = fit_points(t, p, form, robust=robust, **extra)
+        except EquationError:
+            return
+    assert np.all(np.isfinite(fit.values))

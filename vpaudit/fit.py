@@ -315,24 +315,29 @@ def fit_points(
         p0 = _start(form, tm, ym, w)
         return _nonlinear(form, tm, ym, sm, p0, loss)
 
-    if robust:
-        beta = solve(keep, "soft_l1")
-        z = (y - _model(form, beta, t, fixed)[0]) / sigma
-        if not absolute:  # no stated uncertainty: standardize by a robust scale (MAD)
-            z = z / max(1.4826 * np.median(np.abs(z)), 1e-300)
-        keep = np.abs(z) <= reject_at
-        if keep.sum() <= len(names):
-            raise FitError("the robust fit rejected too many points to fit the form")
-    beta = solve(keep)
-    yk, g = _model(form, beta, t[keep], fixed)
-    w = 1.0 / sigma[keep] ** 2
-    resid = y[keep] - yk
-    chi2 = float(np.sum(w * resid**2))
-    dof = int(keep.sum() - len(names))
-    jw = g * np.sqrt(w)[:, None]
-    scale = np.abs(jw).max(axis=0)
-    scale[scale == 0] = 1.0
-    cov = np.linalg.pinv((jw / scale).T @ (jw / scale)) / np.outer(scale, scale)
+    # the optimizer's trial steps may overflow (a free exponent, points no form fits):
+    # they are steps, not results, and the result is checked below
+    with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+        if robust:
+            beta = solve(keep, "soft_l1")
+            z = (y - _model(form, beta, t, fixed)[0]) / sigma
+            if not absolute:  # no stated uncertainty: standardize by a robust scale (MAD)
+                z = z / max(1.4826 * np.median(np.abs(z)), 1e-300)
+            keep = np.abs(z) <= reject_at
+            if keep.sum() <= len(names):
+                raise FitError("the robust fit rejected too many points to fit the form")
+        beta = solve(keep)
+        yk, g = _model(form, beta, t[keep], fixed)
+        w = 1.0 / sigma[keep] ** 2
+        resid = y[keep] - yk
+        chi2 = float(np.sum(w * resid**2))
+        dof = int(keep.sum() - len(names))
+        jw = g * np.sqrt(w)[:, None]
+        scale = np.abs(jw).max(axis=0)
+        scale[scale == 0] = 1.0
+        cov = np.linalg.pinv((jw / scale).T @ (jw / scale)) / np.outer(scale, scale)
+    if not np.all(np.isfinite(beta)):
+        raise FitError(_SINGULAR + " (no finite coefficients fit these points)")
     if not absolute:
         cov = cov * (chi2 / dof if dof > 0 else np.nan)
     return FitResult(

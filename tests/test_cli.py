@@ -21,6 +21,18 @@ def test_eval_prints_a_readable_answer(sample_db):
     assert "Caution: vpaudit screens" in run("--help").output
 
 
+def test_eval_at_a_pressure_answers_in_the_unit_it_was_asked_in(sample_db):
+    # asked at 0.01 Torr, it said "at 1.33322 Pa"; --unit still chooses
+    assert run("eval", sample_db, "ardenite", "--pressure", "0.01Torr").output.startswith(
+        "ardenite at 0.01 Torr\n"
+    )
+    assert run("eval", sample_db, "ardenite", "--pressure", "1").output.startswith(
+        "ardenite at 1 Pa\n"
+    )
+    r = run("eval", sample_db, "ardenite", "--pressure", "0.01Torr", "--unit", "Pa")
+    assert r.output.startswith("ardenite at 1.33322 Pa\n")
+
+
 def test_eval_far_outside_a_range_prints_no_numpy_warning(tmp_path):
     """An invented Antoine liquid whose pole lies 3 K below 298.15 K: its pressure there
     (ln P about 1607) is beyond a float. eval must answer (no value, marked extrapolated)

@@ -59,9 +59,12 @@ class Quantity(click.ParamType):
             "enthalpy": units.parse_enthalpy,
         }[self.kind]
         try:
-            return parse(value)
+            si = parse(value)
         except VpauditError as exc:
             self.fail(str(exc), param, ctx)
+        if self.kind == "pressure" and ctx is not None:  # the unit it was given in, for output
+            ctx.meta["pressure_unit"] = units.parse_quantity(value, "Pa", units.PRESSURE_UNITS)[1]
+        return si
 
 
 class UnitName(click.ParamType):
@@ -377,7 +380,10 @@ def checks_cmd(fmt):
 )
 @click.option("--pressure", type=PRESSURE, help="Pressure, e.g. 1Pa, 0.01Torr (bare number: Pa).")
 @click.option(
-    "--unit", type=UnitName(), default="Pa", show_default=True, help="Pressure unit of the output."
+    "--unit",
+    type=UnitName(),
+    default=None,
+    help="Pressure unit of the output [default: the unit --pressure is given in, else Pa].",
 )
 @click.option("--extrapolate", is_flag=True, help="With --pressure, search beyond the ranges.")
 @click.option(
@@ -393,6 +399,8 @@ def eval_cmd(table, substance, at, pressure, unit, extrapolate, fmt):
     if fmt == "json":
         click.echo(json.dumps(answer, indent=2))
     else:
+        if unit is None:
+            unit = click.get_current_context().meta.get("pressure_unit", "Pa")
         _say(render_eval(answer, unit), nl=False)
 
 

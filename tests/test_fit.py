@@ -272,3 +272,13 @@ def test_any_points_fit_with_finite_coefficients_or_say_why(points, form, robust
         except EquationError:
             return
     assert np.all(np.isfinite(fit.values))
+
+
+def test_a_pair_held_to_a_triple_point_no_pressure_can_reach_is_refused():
+    # invented points whose curves fall with temperature, held to a triple point at 1 K:
+    # the curves meet at ln(P/Pa) = 2.3e4 there, which overflowed math.exp (an internal
+    # error of `vpaudit fit --pair --triple-point 1K`)
+    solid = (np.array([1000.0, 1500.0, 2000.0]), np.array([1e5, 1e2, 1.0]), None)
+    liquid = (np.array([2100.0, 2500.0, 3000.0]), np.array([0.8, 0.1, 0.01]), None)
+    with pytest.raises(EquationError, match="a pressure no number can hold"):
+        fit_pair(solid, liquid, "two-term", triple_temperature=1.0)

@@ -533,11 +533,17 @@ def fit_pair(
     fs = result(b_s, cov[:ks, :ks], ts, ys, ws)
     fl = result(b_l, cov[ks:, ks:], tl, yl, wl)
     ds, rs = _gradient_t(form, ttp)
+    y_tp = float(rs @ b_s)
+    if not abs(y_tp) <= 700.0:  # exp() leaves a float's range near 709
+        raise FitError(
+            f"the fitted curves meet at the triple point {ttp:.6g} K at ln(P/Pa) = {y_tp:.4g}, "
+            "a pressure no number can hold: these points do not determine a pair there"
+        )
     return PairFitResult(
         fs,
         fl,
         ttp,
-        float(math.exp(rs @ b_s)),
+        math.exp(y_tp),
         float(R * ttp * ttp * (ds @ b_s - ds @ b_l)),
         chi2_free,
         chi2,

@@ -460,3 +460,47 @@ def _one_file(content):
     )
     empty = frame.iloc[:0]
     return SimpleNamespace(**{kind: frame if kind == "records" else empty for kind in PARTS})
+
+
+@pytest.mark.parametrize("seed", [1, 2, 3])
+def test_the_gate_says_what_auditing_both_whole_tables_says(repo, seed):
+    """Random edits of the demo table (a coefficient, range, log base, unit or phase
+    changed, a record deleted or copied under a new id), committed as head: the gate's new
+    and resolved findings are exactly the set differences of auditing the whole base and
+    the whole head (the gate re-audits only the changed substances)."""
+    import csv
+    import io
+    import random
+
+    from vpaudit import audit
+
+    rng = random.Random(seed)
+    table = repo / "table"
+    base = set(audit(table).findings.keys())
+    for _ in range(3):
+        path = rng.choice(sorted((table / "records").glob("*.csv")))
+        hdr, *body = list(csv.reader(io.StringIO(path.read_text())))
+        i = rng.randrange(len(body))
+        op = rng.choice(["edit", "delete", "copy"])
+        if op == "edit":
+            col = rng.choice(["A", "B", "t_min", "t_max", "log_base", "pressure_unit", "phase"])
+            k, old = hdr.index(col), body[i][hdr.index(col)]
+            body[i][k] = {
+                "log_base": {"e": "10", "10": "e"}.get(old, old),
+                "pressure_unit": "bar" if old != "bar" else "Torr",
+                "phase": {"solid": "liquid", "liquid": "solid"}.get(old, old),
+            }.get(col, repr(float(old) * rng.choice([-1.0, 10.0, 1.01])) if old else old)
+        elif op == "delete":
+            body.pop(i)
+        else:
+            body.append([body[i][0] + "-copy", *body[i][1:]])
+        out = io.StringIO()
+        csv.writer(out, lineterminator="\n").writerows([hdr, *body])
+        path.write_text(out.getvalue())
+    git(repo, "commit", "-qam", f"random edits {seed}")
+    head = set(audit(table).findings.keys())
+    result = gate(table, "base")
+    new = {f.key for f in result.findings if result.status_of(f) == "new"}
+    assert head != base  # the edits changed what the audit finds
+    assert new == head - base
+    assert {f.key for f in result.gate.resolved} == base - head

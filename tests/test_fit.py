@@ -10,6 +10,7 @@ from numpy.testing import assert_allclose
 from scipy.constants import R
 from scipy.optimize import brentq
 
+from vpaudit.equations.forms import FORMS
 from vpaudit.errors import EquationError
 from vpaudit.fit import convert_or_refit, fit_pair, fit_points
 
@@ -223,17 +224,7 @@ def test_convert_is_exact_when_it_can_be_and_refits_otherwise():
 @settings(max_examples=150, deadline=None, derandomize=True)
 @given(
     st.lists(st.tuples(st.floats(1.0, 5000.0), st.floats(1e-20, 1e9)), min_size=1, max_size=12),
-    st.sampled_from(
-        [
-            "two-term",
-            "three-term",
-            "four-term-t",
-            "four-term-cube",
-            "power-term",
-            "antoine",
-            "wagner-3-6",
-        ]
-    ),
+    st.sampled_from(sorted(FORMS)),
     st.booleans(),
 )
 @example(  # found by this test: it warned "overflow encountered in power"

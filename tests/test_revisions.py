@@ -95,6 +95,18 @@ def test_review_walks_the_suggestions(table):
     assert sum('"record"' in ln for ln in log.read_text().splitlines()) == 1  # one revision
 
 
+def test_review_whose_answers_run_out_stops_as_quit(table):
+    # a script that pipes one answer: the first fix is applied, then the input ends; the
+    # review stops there and says what it did (it printed "Aborted!" and exited 1, the
+    # status of findings)
+    run = CliRunner().invoke(main, ["review", str(table), "--by", "tester"], input="a\n")
+    assert run.exit_code == 0, run.output
+    assert "no answer: stopped here, as [q]uit" in run.output
+    assert "applied 1 of" in run.output
+    log = table / "history" / "revisions.jsonl"
+    assert sum('"record"' in ln for ln in log.read_text().splitlines()) == 1
+
+
 def test_second_revision_is_numbered_and_old_ones_kept(table):
     f = table / "records" / "metals.csv"
     rec = "galdrite-l1"

@@ -877,12 +877,16 @@ def review_cmd(table, by, db, min_confidence):
         # every field and line that applying it changes
         for line in offer_lines(k, len(offers), f, suggestion_edits(f.suggestion)):
             _say(line)
-        answer = click.prompt(
-            "  apply it? [a]pply, [s]kip, [q]uit",
-            default="s",
-            type=click.Choice(["a", "s", "q"]),
-            show_choices=False,
-        )
+        try:
+            answer = click.prompt(
+                "  apply it? [a]pply, [s]kip, [q]uit",
+                default="s",
+                type=click.Choice(["a", "s", "q"]),
+                show_choices=False,
+            )
+        except click.Abort:  # the answers ran out (a script's input) or Ctrl-C: as quit
+            _say("\n  no answer: stopped here, as [q]uit")
+            break
         if answer == "q":
             break
         if answer == "a":

@@ -283,3 +283,41 @@ def test_every_equation_form_is_offered_by_the_command_line():
     from vpaudit.equations.forms import FORMS as REGISTRY
 
     assert FORMS == tuple(REGISTRY)
+
+
+def test_a_reader_that_closes_the_output_early_ends_it_quietly(sample_db, tmp_path):
+    # `vpaudit audit ... | head`: the demo copied 40 times (its JSON about 1.3 MB) outgrows
+    # a pipe's buffer; once the reader is gone vpaudit says nothing more and exits as a
+    # program ended by SIGPIPE (128 + 13), not 2 with "cannot read or write a file: Broken
+    # pipe"
+    import csv
+    import io
+    import subprocess
+    import sys
+
+    for part in ("records", "references"):
+        (tmp_path / part).mkdir()
+        for path in (sample_db / part).glob("*.csv"):
+            hdr, *rows = list(csv.reader(io.StringIO(path.read_text())))
+            out = io.StringIO()
+            w = csv.writer(out, lineterminator="\n")
+            w.writerow(hdr)
+            for k in range(40):
+                for row in rows:
+                    row = list(row)
+                    for col in ("id", "substance"):
+                        if col in hdr:
+                            row[hdr.index(col)] += f"-{k}"
+                    w.writerow(row)
+            (tmp_path / part / path.name).write_text(out.getvalue())
+    code = "import sys; from vpaudit.cli import run; sys.argv[0] = 'vpaudit'; run()"
+    proc = subprocess.Popen(
+        [sys.executable, "-c", code, "audit", str(tmp_path), "--format", "json"],
+        stdout=subprocess.PIPE,
+        stderr=subprocess.PIPE,
+    )
+    assert proc.stdout.read(10) == b'{"summary"'
+    proc.stdout.close()
+    assert proc.wait(timeout=120) == 141
+    with proc.stderr:
+        assert proc.stderr.read() == b""

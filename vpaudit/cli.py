@@ -21,6 +21,9 @@ EXIT_OK = 0
 EXIT_FINDINGS = 1
 EXIT_USAGE = 2
 EXIT_INTERNAL = 3
+#: The reader of the output closed it early: the status a shell gives a program ended by
+#: SIGPIPE (128 + 13).
+EXIT_PIPE_CLOSED = 141
 
 FORMATS = ("text", "json", "markdown", "csv", "sarif")
 #: The equation forms, spelled out (as FORMATS) so that starting the command imports no
@@ -130,6 +133,14 @@ class _Group(click.Group):
         except VpauditError as exc:
             _say(f"vpaudit: {exc.kind}: {exc}", err=True)
             ctx.exit(EXIT_USAGE)
+        except BrokenPipeError:
+            # the program reading the output closed it early (| head): say nothing more, as
+            # a program ended by SIGPIPE; what is left to flush goes nowhere
+            try:
+                os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+            except (OSError, ValueError):  # no real stdout (a test's runner)
+                pass
+            ctx.exit(EXIT_PIPE_CLOSED)
         except OSError as exc:
             where = f"{exc.filename}: " if exc.filename else ""
             _say(f"vpaudit: cannot read or write a file: {where}{exc.strerror or exc}", err=True)

@@ -248,7 +248,12 @@ class FastExit(SystemExit):
     """
 
     def end_process(self) -> None:
-        """Flush stdout and stderr and end the process with this exit code."""
-        sys.stdout.flush()
-        sys.stderr.flush()
+        """Flush stdout and stderr and end the process with this exit code (141, as a
+        program ended by SIGPIPE, when the reader of the output has closed it).
+        """
+        try:
+            sys.stdout.flush()
+            sys.stderr.flush()
+        except BrokenPipeError:
+            os._exit(141)
         os._exit(self.code or 0)

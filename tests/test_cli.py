@@ -321,3 +321,16 @@ def test_a_reader_that_closes_the_output_early_ends_it_quietly(sample_db, tmp_pa
     assert proc.wait(timeout=120) == 141
     with proc.stderr:
         assert proc.stderr.read() == b""
+
+
+def test_an_interrupted_command_says_so_and_exits_as_sigint_would(sample_db, monkeypatch):
+    # Ctrl-C during an audit exited 1, the status of findings, after "Aborted!"
+    import vpaudit.api
+
+    def interrupted(*args, **kwargs):
+        raise KeyboardInterrupt
+
+    monkeypatch.setattr(vpaudit.api, "open_table", interrupted)
+    got = CliRunner().invoke(main, ["audit", str(sample_db)])
+    assert got.exit_code == 130
+    assert "vpaudit: interrupted" in got.output

@@ -24,6 +24,8 @@ EXIT_INTERNAL = 3
 #: The reader of the output closed it early: the status a shell gives a program ended by
 #: SIGPIPE (128 + 13).
 EXIT_PIPE_CLOSED = 141
+#: Interrupted (Ctrl-C): the status a shell gives a program ended by SIGINT (128 + 2).
+EXIT_INTERRUPTED = 130
 
 FORMATS = ("text", "json", "markdown", "csv", "sarif")
 #: The equation forms, spelled out (as FORMATS) so that starting the command imports no
@@ -145,7 +147,12 @@ class _Group(click.Group):
             where = f"{exc.filename}: " if exc.filename else ""
             _say(f"vpaudit: cannot read or write a file: {where}{exc.strerror or exc}", err=True)
             ctx.exit(EXIT_USAGE)
-        except (click.exceptions.Exit, click.ClickException, click.Abort, SystemExit):
+        except (KeyboardInterrupt, click.Abort):
+            # Ctrl-C: not the status of findings (1) but a shell's for SIGINT (128 + 2);
+            # every write vpaudit makes is whole or not at all
+            _say("\nvpaudit: interrupted", err=True)
+            ctx.exit(EXIT_INTERRUPTED)
+        except (click.exceptions.Exit, click.ClickException, SystemExit):
             raise
         except Exception as exc:  # noqa: BLE001  (a bug: said in one line, not a traceback)
             if os.environ.get("VPAUDIT_DEBUG"):

@@ -334,3 +334,25 @@ def test_an_interrupted_command_says_so_and_exits_as_sigint_would(sample_db, mon
     got = CliRunner().invoke(main, ["audit", str(sample_db)])
     assert got.exit_code == 130
     assert "vpaudit: interrupted" in got.output
+
+
+def test_a_report_cut_off_half_way_leaves_the_old_file_whole(tmp_path):
+    # `--output` wrote the report in place, a part at a time: an audit interrupted while
+    # writing left a truncated SARIF where a CI job would upload it
+    from vpaudit.cli import _emit
+
+    out = tmp_path / "report.sarif"
+    out.write_text("the previous report\n")
+
+    def parts():
+        yield '{"version": "2.1.0", '
+        raise KeyboardInterrupt
+
+    try:
+        _emit(parts(), str(out))
+    except KeyboardInterrupt:
+        pass
+    assert out.read_text() == "the previous report\n"
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["report.sarif"]  # no temporary file
+    _emit(iter(["a whole ", "new report\n"]), str(out))
+    assert out.read_text() == "a whole new report\n"

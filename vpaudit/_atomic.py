@@ -1,7 +1,8 @@
 """Writes that are whole or not at all, and a lock that makes writers take turns.
 
 Every file vpaudit writes for a user (a table file edited by ``apply``, ``accepted.toml``,
-a records file that ``fit --write`` extends, an export, a store's manifest) is written to a
+a records file that ``fit --write`` extends, an export, a store's manifest, a report or a
+picture written with ``-o``) is written to a
 temporary file beside it, flushed to disk, and renamed over the old one: a reader, or a
 process killed at any moment, sees the old file or the new one, never a mix.
 """
@@ -17,7 +18,7 @@ from pathlib import Path
 
 from .errors import VpauditError
 
-__all__ = ["append_line", "file_lock", "write_atomic"]
+__all__ = ["append_line", "atomic_path", "file_lock", "write_atomic"]
 
 
 def _sync_dir(folder: Path) -> None:
@@ -39,6 +40,35 @@ def write_atomic(path: str | Path, data: bytes | str) -> None:
             fh.flush()
             os.fsync(fh.fileno())
         os.replace(tmp, path)
+    finally:
+        tmp.unlink(missing_ok=True)
+    _sync_dir(path.parent)
+
+
+@contextlib.contextmanager
+def atomic_path(path: str | Path) -> Iterator[Path]:
+    """A path to write ``path`` through (a report, a picture): a temporary file beside it,
+    with the same ending, renamed over it when the block ends without an error. On an
+    error or an interrupt it is removed and the old file, if any, stands; a report cut off
+    half-way is never left where a CI job would upload it. A path that is not a regular
+    file (``/dev/stdout``, a named pipe) is written directly.
+    """
+    path = Path(path)
+    if path.exists() and not path.is_file():
+        yield path
+        return
+    tmp = path.with_name(f".{path.stem}.vpaudit-tmp-{os.getpid()}{path.suffix}")
+    try:
+        yield tmp
+        with open(tmp, "rb+") as fh:
+            os.fsync(fh.fileno())
+        os.replace(tmp, path)
+    except OSError as exc:
+        if exc.filename != str(tmp):
+            raise
+        # a missing folder or a refused write: said of the file asked for, not of the
+        # temporary one
+        raise type(exc)(exc.errno, exc.strerror, str(path)) from None
     finally:
         tmp.unlink(missing_ok=True)
     _sync_dir(path.parent)

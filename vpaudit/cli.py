@@ -9,7 +9,6 @@ from __future__ import annotations
 import json
 import os
 import sys
-from pathlib import Path
 
 import click
 
@@ -246,7 +245,9 @@ def _emit(text, output: str | None) -> None:
     """Write ``text`` (a string, or pieces of one) to ``output``, else to standard output."""
     parts = [text] if isinstance(text, str) else text
     if output:
-        with open(output, "w", encoding="utf-8") as fh:
+        from ._atomic import atomic_path
+
+        with atomic_path(output) as path, open(path, "w", encoding="utf-8") as fh:
             for part in parts:
                 fh.write(part)
     else:
@@ -588,7 +589,7 @@ def report_cmd(table, output, policy, no_plots):
 
     t = open_table(table)
     result = audit_table(t, load_policy(t.policy_path, policy), table_path=str(table))
-    Path(output).write_text(render_report(result, t, plots=not no_plots), encoding="utf-8")
+    _emit(render_report(result, t, plots=not no_plots), output)
     _say(f"wrote {output}: {len(result.findings)} finding(s)")
 
 

@@ -17,6 +17,7 @@ from pathlib import Path
 
 import numpy as np
 
+from ._atomic import atomic_path
 from .checks._context import AuditContext
 from .equations.engine import evaluate
 from .errors import VpauditError
@@ -291,7 +292,8 @@ def plot_substance(table: Table, substance: str, path: str | Path, unit: str = "
     _pressure_axis(ax, factor, unit)
     ax.tick_params(labelbottom=False)
     _deviations(fig.add_subplot(grid[1], sharex=ax), ctx, t_all, styles)
-    fig.savefig(path, bbox_inches="tight")
+    with atomic_path(path) as into:
+        fig.savefig(into, bbox_inches="tight")
     plt.close(fig)
     return {
         "crossings": crossings,

@@ -48,7 +48,8 @@ def write_atomic(path: str | Path, data: bytes | str) -> None:
 @contextlib.contextmanager
 def atomic_path(path: str | Path) -> Iterator[Path]:
     """A path to write ``path`` through (a report, a picture): a temporary file beside it,
-    with the same ending, renamed over it when the block ends without an error. On an
+    renamed over it when the block ends without an error (a writer that reads the format
+    from the ending must be told it). On an
     error or an interrupt it is removed and the old file, if any, stands; a report cut off
     half-way is never left where a CI job would upload it. A path that is not a regular
     file (``/dev/stdout``, a named pipe) is written directly.
@@ -57,7 +58,8 @@ def atomic_path(path: str | Path) -> Iterator[Path]:
     if path.exists() and not path.is_file():
         yield path
         return
-    tmp = path.with_name(f".{path.stem}.vpaudit-tmp-{os.getpid()}{path.suffix}")
+    # no table file's ending: a reader of the folder never takes it for one of its files
+    tmp = path.with_name(f".{path.name}.vpaudit-tmp-{os.getpid()}")
     try:
         yield tmp
         with open(tmp, "rb+") as fh:

@@ -293,7 +293,7 @@ def plot_substance(table: Table, substance: str, path: str | Path, unit: str = "
     ax.tick_params(labelbottom=False)
     _deviations(fig.add_subplot(grid[1], sharex=ax), ctx, t_all, styles)
     with atomic_path(path) as into:
-        fig.savefig(into, bbox_inches="tight")
+        fig.savefig(into, format=path.suffix.lower().lstrip("."), bbox_inches="tight")
     plt.close(fig)
     return {
         "crossings": crossings,

@@ -356,3 +356,14 @@ def test_a_report_cut_off_half_way_leaves_the_old_file_whole(tmp_path):
     assert sorted(p.name for p in tmp_path.iterdir()) == ["report.sarif"]  # no temporary file
     _emit(iter(["a whole ", "new report\n"]), str(out))
     assert out.read_text() == "a whole new report\n"
+
+
+def test_a_dash_as_output_is_standard_output(sample_db, tmp_path, monkeypatch):
+    # `report -o -` wrote a file named "-" into the working folder
+    monkeypatch.chdir(tmp_path)
+    got = CliRunner().invoke(main, ["report", str(sample_db), "-o", "-", "--no-plots"])
+    assert got.exit_code == 0, got.output
+    assert got.output.startswith("<!DOCTYPE html>") and got.output.rstrip().endswith("</html>")
+    got = CliRunner().invoke(main, ["audit", str(sample_db), "-o", "-", "--format", "json"])
+    assert json.loads(got.output)["summary"]["substances"] == 31
+    assert list(tmp_path.iterdir()) == []

@@ -221,7 +221,10 @@ def _report_options(fail_help: str):
                     "--format", "fmt", type=click.Choice(FORMATS), default="text", show_default=True
                 ),
                 click.option(
-                    "--output", "-o", type=click.Path(dir_okay=False), help="Write the report here."
+                    "--output",
+                    "-o",
+                    type=click.Path(dir_okay=False, allow_dash=True),
+                    help="Write the report here (- for standard output).",
                 ),
                 click.option(
                     "--fail-on",
@@ -242,9 +245,11 @@ def _report_options(fail_help: str):
 
 
 def _emit(text, output: str | None) -> None:
-    """Write ``text`` (a string, or pieces of one) to ``output``, else to standard output."""
+    """Write ``text`` (a string, or pieces of one) to ``output``, else (or for ``-``) to
+    standard output.
+    """
     parts = [text] if isinstance(text, str) else text
-    if output:
+    if output and output != "-":
         from ._atomic import atomic_path
 
         with atomic_path(output) as path, open(path, "w", encoding="utf-8") as fh:
@@ -576,7 +581,11 @@ def plot_cmd(table, substance, output, unit):
 @main.command("report")
 @click.argument("table", type=click.Path(exists=True))
 @click.option(
-    "--output", "-o", required=True, type=click.Path(dir_okay=False), help="The HTML file to write."
+    "--output",
+    "-o",
+    required=True,
+    type=click.Path(dir_okay=False, allow_dash=True),
+    help="The HTML file to write (- for standard output).",
 )
 @click.option("--policy", help="A preset (evaluated, compilation) or a policy TOML file.")
 @click.option("--no-plots", is_flag=True, help="Leave out the pictures (faster).")
@@ -590,7 +599,8 @@ def report_cmd(table, output, policy, no_plots):
     t = open_table(table)
     result = audit_table(t, load_policy(t.policy_path, policy), table_path=str(table))
     _emit(render_report(result, t, plots=not no_plots), output)
-    _say(f"wrote {output}: {len(result.findings)} finding(s)")
+    if output != "-":  # the page itself went to standard output
+        _say(f"wrote {output}: {len(result.findings)} finding(s)")
 
 
 # --- fit / convert ---------------------------------------------------------------------------

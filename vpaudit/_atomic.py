@@ -49,10 +49,10 @@ def write_atomic(path: str | Path, data: bytes | str) -> None:
 def atomic_path(path: str | Path) -> Iterator[Path]:
     """A path to write ``path`` through (a report, a picture): a temporary file beside it,
     renamed over it when the block ends without an error (a writer that reads the format
-    from the ending must be told it). On an
-    error or an interrupt it is removed and the old file, if any, stands; a report cut off
-    half-way is never left where a CI job would upload it. A path that is not a regular
-    file (``/dev/stdout``, a named pipe) is written directly.
+    from the ending must be told it). On an error or an interrupt it is removed and the old
+    file, if any, stands: a report cut off half-way is never left where a CI job would
+    upload it. A path that is not a regular file (``/dev/stdout``, a named pipe) is written
+    directly.
     """
     path = Path(path)
     if path.exists() and not path.is_file():

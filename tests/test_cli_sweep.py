@@ -76,7 +76,7 @@ CASES = {
     ),
     "accept check": (
         ["accept", "bogus-check:ardenite-l1", "--table", "{t}", "--reason", "x"],
-        "unknown check 'bogus-check'",
+        "'bogus-check' is not a check of vpaudit",
     ),
     # quantities
     "eval --at 1200k": (["eval", "{t}", "ardenite", "--at", "1200k"], "did you mean K?"),
@@ -85,6 +85,12 @@ CASES = {
     "eval --pressure subnormal": (["eval", "{t}", "ardenite", "--pressure", "1e-320Pa"], "under"),
     "audit --jobs -3": (["audit", "{t}", "--jobs", "-3"], "-3"),
     "query --timeout 0": (["query", "{t}", "select 1", "--timeout", "0"], "time limit"),
+    # nothing to convert to: it printed the record unchanged
+    "convert, no target": (["convert", "{t}", "ardenite-l1"], "say what to convert to"),
+    # a confidence above 1: it said there was nothing to review
+    "review --min-confidence 2": (["review", "{t}", "--min-confidence", "2"], "0.0<=x<=1.0"),
+    # a misspelt check: the near names, not all thirty
+    "audit --only typo": (["audit", "{t}", "--only", "range-gapp"], "did you mean range-gap"),
 }
 
 

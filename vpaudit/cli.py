@@ -790,6 +790,10 @@ def convert_cmd(
     from .substance import record_dict
     from .writers import records_csv
 
+    if not any((form, log_base, pressure_unit, temperature_unit)):
+        raise click.UsageError(
+            "say what to convert to: --form, --log-base, --pressure-unit or --temperature-unit"
+        )
     rec = record_dict(open_table(table), record)
     out, dev, exact = convert_or_refit(
         rec,
@@ -876,7 +880,7 @@ def apply_cmd(table, finding, reason, by, db):
 @click.option("--db", type=click.Path(dir_okay=False), help="Also rebuild this DuckDB store.")
 @click.option(
     "--min-confidence",
-    type=float,
+    type=click.FloatRange(0.0, 1.0),
     default=0.0,
     show_default=True,
     help="Only offer suggestions at least this confident.",

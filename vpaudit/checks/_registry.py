@@ -213,9 +213,15 @@ def get_check(name: str) -> CheckSpec:
     try:
         return REGISTRY[name]
     except KeyError:
-        raise UnknownCheckError(
-            f"unknown check {name!r}; registered checks: {', '.join(sorted(REGISTRY))}"
-        ) from None
+        import difflib
+
+        close = difflib.get_close_matches(name, sorted(REGISTRY), n=3)
+        hint = (
+            f"did you mean {', '.join(close)}? ('vpaudit checks' lists every check)"
+            if close
+            else f"the checks are {', '.join(sorted(REGISTRY))}"
+        )
+        raise UnknownCheckError(f"{name!r} is not a check of vpaudit; {hint}") from None
 
 
 def ordered() -> list[CheckSpec]:

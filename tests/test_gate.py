@@ -312,21 +312,25 @@ def test_a_change_that_mends_an_unreadable_base_audits_the_head(repo):
     assert "vpaudit-gate-" not in out.output  # no deleted temporary path
 
 
-def test_an_unreadable_work_tree_is_said_at_its_own_line_while_the_base_is_read(repo):
+def test_an_unreadable_work_tree_is_said_at_its_own_line_while_the_base_is_read(
+    repo, tmp_path, monkeypatch
+):
     """The base is fetched and read beside the work tree: a problem in the work tree is the
     error said (at its file and line), a missing base revision only when the work tree
-    reads, and the base's temporary copy is gone either way."""
+    reads, and the base's temporary copy is gone either way (in a temporary folder of this
+    test's own, so that another process's gate cannot come or go in it)."""
     import tempfile
-    from pathlib import Path
 
+    own = tmp_path / "tmp"
+    own.mkdir()
+    monkeypatch.setattr(tempfile, "tempdir", str(own))
     metals = repo / "table" / "records" / "metals.csv"
     metals.write_text(metals.read_text().replace(",29.4857321,", ",29,48573,"))  # ragged
-    before = set(Path(tempfile.gettempdir()).glob("vpaudit-gate-*"))
     for rev in ("base", "no-such-rev"):
         out = run("gate", repo / "table", "--base", rev)
         assert out.exit_code == 2, out.output
         assert "metals.csv:2" in out.output and "is not in this clone" not in out.output
-    assert set(Path(tempfile.gettempdir()).glob("vpaudit-gate-*")) == before
+    assert list(own.iterdir()) == []
 
 
 @pytest.mark.parametrize(

@@ -30,19 +30,12 @@ def _sync_dir(folder: Path) -> None:
 
 
 def write_atomic(path: str | Path, data: bytes | str) -> None:
-    """Replace ``path`` with ``data`` (text is written as UTF-8), all or nothing."""
-    path = Path(path)
+    """Replace ``path`` with ``data`` (text is written as UTF-8), all or nothing
+    (:func:`atomic_path`).
+    """
     blob = data.encode("utf-8") if isinstance(data, str) else data
-    tmp = path.with_name(f".{path.name}.vpaudit-tmp-{os.getpid()}")
-    try:
-        with open(tmp, "wb") as fh:
-            fh.write(blob)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.replace(tmp, path)
-    finally:
-        tmp.unlink(missing_ok=True)
-    _sync_dir(path.parent)
+    with atomic_path(path) as tmp:
+        tmp.write_bytes(blob)
 
 
 @contextlib.contextmanager

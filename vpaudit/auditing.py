@@ -467,6 +467,45 @@ def _pairs_beside(ctx: AuditContext, names: list[str]):
     return thread.join
 
 
+def audit_new_records(table: Table, records: list[dict], substance: str) -> list[Finding]:
+    """The findings on new records (a fit's result, before anything is written), audited
+    with the table's records of the other phase of their substance (the partner the triple
+    point and Hess's law need), its references and points, under the table's policy.
+
+    Parameters
+    ----------
+    table : Table
+        The table the records are meant for.
+    records : list of dict
+        The new records, as the fit makes them (one substance).
+    substance : str
+        Their substance.
+
+    Returns
+    -------
+    list of Finding
+        Only the findings that name one of the new records.
+    """
+    from .readers.table import records_table
+    from .substance import records_at
+
+    rec = table.records
+    phases = {r.get("phase") for r in records}
+    ids = {r.get("id") for r in records}
+    partner = (
+        (rec["substance"].astype(object) == substance)
+        & ~rec["phase"].astype(object).isin(phases)
+        & ~rec["id"].astype(object).isin(ids)
+    ).to_numpy()
+    rows = [int(i) for i in partner.nonzero()[0]]
+    others = [
+        {k: v for k, v in r.items() if k not in ("file", "line")} for r in records_at(table, rows)
+    ]
+    new = records_table(records + others, like=table)
+    result = audit_table(new, load_policy(table.policy_path), substances=[substance])
+    return [f for f in result.findings if ids & set(f.records)]
+
+
 def restrict(table: Table, names: set[str]) -> Table:
     """The part of ``table`` about the substances ``names``."""
 

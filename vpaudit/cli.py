@@ -606,33 +606,6 @@ def report_cmd(table, output, policy, no_plots):
 # --- fit / convert ---------------------------------------------------------------------------
 
 
-def _audit_new(t, records: list[dict], substance: str):
-    """The findings on new records, audited with the table's records of the other phase of
-    their substance (the partner the triple point and Hess's law need), its references and
-    points, before anything is written.
-    """
-    from .auditing import audit_table
-    from .policy import load_policy
-    from .readers.table import records_table
-    from .substance import records_at
-
-    rec = t.records
-    phases = {r.get("phase") for r in records}
-    ids = {r.get("id") for r in records}
-    partner = (
-        (rec["substance"].astype(object) == substance)
-        & ~rec["phase"].astype(object).isin(phases)
-        & ~rec["id"].astype(object).isin(ids)
-    ).to_numpy()
-    rows = [int(i) for i in partner.nonzero()[0]]
-    others = [
-        {k: v for k, v in r.items() if k not in ("file", "line")} for r in records_at(t, rows)
-    ]
-    new = records_table(records + others, like=t)
-    result = audit_table(new, load_policy(t.policy_path), substances=[substance])
-    return [f for f in result.findings if ids & set(f.records)]
-
-
 @main.command("fit")
 @click.argument("table", type=click.Path(exists=True))
 @click.option("--substance", required=True, help="The substance whose points are fitted.")
@@ -702,6 +675,7 @@ def fit_cmd(
     file without touching the file's other lines.
     """
     from .api import open_table
+    from .auditing import audit_new_records
     from .fit import fit_table, fit_table_pair
     from .report.fit_summary import render_fit, render_pair
 
@@ -716,7 +690,7 @@ def fit_cmd(
             fusion_enthalpy=fusion_enthalpy,
             use_references=not no_references,
         )
-        findings = _audit_new(t, recs, substance)
+        findings = audit_new_records(t, recs, substance)
         text = render_pair(res, recs, findings)
     else:
         res, rec = fit_table(
@@ -730,26 +704,13 @@ def fit_cmd(
             record_id=record_id,
         )
         recs = [rec]
-        findings = _audit_new(t, recs, substance)
+        findings = audit_new_records(t, recs, substance)
         text = render_fit(res, rec, findings)
     click.echo(text, nl=False)
     if write_to:
-        from .writers import append_records
+        from .revisions import add_records
 
-        known = set(t.records["id"].astype(object))
-        clash = [r["id"] for r in recs if r["id"] in known]
-        if clash:
-            raise VpauditError(
-                f"the table already holds a record with id {', '.join(map(repr, clash))}; "
-                "give the new record another id with --id"
-            )
-        errors = sum(f.severity.value == "error" for f in findings)
-        if errors and not force:
-            raise VpauditError(
-                f"not written: the new record draws {errors} error(s) beside its substance's "
-                "other records (above); --force writes it anyway"
-            )
-        line = append_records(write_to, recs)
+        line = add_records(write_to, t, recs, findings, force=force)
         _say(f"appended {len(recs)} record(s) to {write_to} at line {line}")
 
 
@@ -787,8 +748,8 @@ def convert_cmd(
     """Write RECORD in another form, log base or unit: exactly where possible, else refitted."""
     from .api import open_table
     from .fit import convert_or_refit
+    from .report.fit_summary import render_conversion
     from .substance import record_dict
-    from .writers import records_csv
 
     if not any((form, log_base, pressure_unit, temperature_unit)):
         raise click.UsageError(
@@ -805,19 +766,7 @@ def convert_cmd(
         t_crit=t_crit,
         p_crit=p_crit,
     )
-    if fmt == "json":
-        clean = {
-            k: v for k, v in out.items() if not k.endswith("_text") and k not in ("file", "line")
-        }
-        _say(
-            json.dumps(
-                {"record": clean, "exact": exact, "max_deviation_lnP": dev}, indent=2, default=str
-            )
-        )
-        return
-    how = "exact conversion" if exact else f"refit; max deviation {dev:.3g} in ln P over the range"
-    _say(f"# {record}: {how}")
-    click.echo(records_csv([out]), nl=False)
+    click.echo(render_conversion(record, out, dev, exact, fmt), nl=False)
 
 
 # --- apply / review / history ------------------------------------------------------------------
@@ -891,17 +840,12 @@ def review_cmd(table, by, db, min_confidence):
     from .auditing import audit_table
     from .policy import load_policy
     from .report.revisions import offer_lines
-    from .revisions import apply_suggestion, suggestion_edits
+    from .revisions import apply_suggestion, review_offers, suggestion_edits
 
     _table_dir(table)
     t = open_table(table)
     result = audit_table(t, load_policy(t.policy_path), table_path=str(table))
-    seen, offers = set(), []
-    for f in result.findings:
-        s = f.suggestion
-        if s and s["confidence"] >= min_confidence and s["record"] not in seen:
-            seen.add(s["record"])
-            offers.append(f)
+    offers = review_offers(result, min_confidence)
     if not offers:
         _say("no suggested fixes to review")
         return

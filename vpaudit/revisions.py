@@ -522,3 +522,44 @@ def apply_finding(
     after = audit_table(open_table(table_path), policy, substances=subs or None)
     remaining = sum(g.severity.rank >= 1 for g in after.findings)
     return Applied(entries, subs, remaining)
+
+
+def review_offers(result, min_confidence: float = 0.0) -> list:
+    """The findings whose suggested fix ``review`` offers: at least ``min_confidence``
+    confident, one per corrected record (the first, i.e. the most severe, finding on it).
+    """
+    seen, offers = set(), []
+    for f in result.findings:
+        s = f.suggestion
+        if s and s["confidence"] >= min_confidence and s["record"] not in seen:
+            seen.add(s["record"])
+            offers.append(f)
+    return offers
+
+
+def add_records(path: str | Path, table, records: list[dict], findings, force: bool = False) -> int:
+    """Append new records (a fit's result) to the records file ``path``, refusing an id the
+    table already holds and, unless ``force``, records that draw errors in ``findings``
+    (their audit beside the substance's other records). Returns the first new line.
+
+    Raises
+    ------
+    VpauditError
+        On an id clash, or on errors without ``force``; nothing is written then.
+    """
+    from .writers import append_records
+
+    known = set(table.records["id"].astype(object))
+    clash = [r["id"] for r in records if r["id"] in known]
+    if clash:
+        raise VpauditError(
+            f"the table already holds a record with id {', '.join(map(repr, clash))}; "
+            "give the new record another id with --id"
+        )
+    errors = sum(f.severity.value == "error" for f in findings)
+    if errors and not force:
+        raise VpauditError(
+            f"not written: the new record draws {errors} error(s) beside its substance's "
+            "other records (above); --force writes it anyway"
+        )
+    return append_records(path, records)

@@ -1,10 +1,15 @@
-"""Terminal report of a fit: coefficients, uncertainties, residuals, band, audit of the result."""
+"""Terminal report of a fit (coefficients, uncertainties, residuals, band, audit of the
+result) and of a conversion.
+"""
 
 from __future__ import annotations
+
+import json
 
 import numpy as np
 
 from ..writers import records_csv
+from ._escape import visible
 
 
 def _coefficients(fit) -> list[str]:
@@ -83,3 +88,22 @@ def render_pair(res, records: list[dict], findings) -> str:
         *_findings(findings),
     ]
     return "\n".join(lines) + "\n"
+
+
+def render_conversion(record_id: str, record: dict, deviation: float, exact: bool, fmt: str) -> str:
+    """A converted record: as a CSV line under a comment that says how it was made
+    (``fmt="csv"``), or as JSON with ``exact`` and ``max_deviation_lnP`` (ln P, over the
+    record's range) beside it.
+    """
+    if fmt == "json":
+        clean = {
+            k: v for k, v in record.items() if not k.endswith("_text") and k not in ("file", "line")
+        }
+        body = {"record": clean, "exact": exact, "max_deviation_lnP": deviation}
+        return json.dumps(body, indent=2, default=str) + "\n"
+    how = (
+        "exact conversion"
+        if exact
+        else f"refit; max deviation {deviation:.3g} in ln P over the range"
+    )
+    return f"# {visible(record_id)}: {how}\n" + records_csv([record])

@@ -4,14 +4,15 @@ Data: the metallic elements of Alcock, Itkin & Horrigan (1984) via ``chemicals``
 liquid equations), CRC Handbook melting points and enthalpies of fusion via ``chemicals``,
 and fits to the IAPWS water curves via ``iapws``. Run:
 
-    python benchmarks/calibrate.py [--priors | --boiling | --scatter]
+    python benchmarks/calibrate.py [--priors | --boiling | --scatter | --entropy-edge]
 
 ``--priors`` prints only the rarities behind the diagnosis's priors (a positive dCp, the
 exponent of a power term, a liquid below 1 Pa) and the odds behind the cost of an
 impossible curve; ``--boiling`` judges
 the clean Landolt liquids' boiling-point errors against the other boiling points carried;
 ``--scatter`` measures how far independent sources of one liquid disagree (the diagnosis's
-``SOURCE_SCATTER``).
+``SOURCE_SCATTER``); ``--entropy-edge`` measures the rise of the entropy band's lower
+edge below P0/e^3 (``enthalpy-implausible``'s ``liquid_min_dcp``).
 """
 
 from __future__ import annotations
@@ -259,8 +260,87 @@ def report_source_scatter():
     )
 
 
+def report_entropy_edge():
+    """The lower edge of enthalpy-implausible's band below P0/e^3, with and without its rise
+    (``liquid_min_dcp``; the curve's own |dCp| where it states a smaller one): the clean
+    liquid equations of the four compilations and of Alcock et al. (1984) that fall below
+    it, and the fraction of pressure-unit slips (coefficients for a larger unit marked with
+    the smaller: the pressure falls by the factor) on the equations inside the band that
+    leave it. At the tested point of the check (the reference T_b in range, else the middle
+    of the range in 1/T)."""
+    from compilations import COMPILATIONS, _complete
+
+    from vpaudit.checks.record import _standard_entropy, entropy_band
+    from vpaudit.equations.engine import heat_capacity_from
+
+    policy = Policy()
+    th = policy.thresholds("enthalpy-implausible")
+    flat = {**th, "liquid_min_dcp": 0.0}
+    sets = {n: COMPILATIONS[n]() for n in ("landolt", "poling-antoine", "wagner", "perry")}
+    sets["alcock"] = alcock_pairs()
+    cols = []
+    for name, (records, refs) in sets.items():
+        records = [r for r in records if _complete(r)]
+        ctx = AuditContext(table_from_rows(records, refs), policy)
+        rows = np.flatnonzero(ctx.evaluable & ctx.liquid)
+        _, liquid, t, y, y1, ds, _, _, _ = _standard_entropy(ctx, th, rows)
+        _, _, y2 = evaluate(ctx.curves.take(rows), t, order=2)
+        ids = ctx.table.records["id"].to_numpy()[rows]
+        keep = np.isfinite(ds)
+        cols.append(
+            (
+                name,
+                ids[keep],
+                t[keep],
+                (y - LN_P_STANDARD)[keep],
+                ds[keep],
+                heat_capacity_from(t, y1, y2)[keep],
+            )
+        )
+    for label, thr in (("without the rise", flat), ("with the rise", th)):
+        print(f"lower edge {label}:")
+        below_all = []
+        for name, ids, t, lp, ds, dcp in cols:
+            lo, hi = entropy_band(thr, np.ones(t.size, bool), t, lp, dcp)
+            below = ds < lo
+            below_all += [
+                f"{i} ({d:.1f} at ln(P/P0) {x:.1f})"
+                for i, d, x in zip(ids[below], ds[below], lp[below], strict=True)
+                if x < -3
+            ]
+            print(f"  {name}: {int(below.sum())} of {t.size} clean liquids below it")
+        print("  below it where ln(P/P0) < -3: " + ("; ".join(below_all) or "none"))
+    print(
+        "pressure-unit slips (pressure down by the factor) leaving the band, all "
+        "compilations (not Alcock):"
+    )
+    t, lp, ds, dcp = (
+        np.concatenate([c[k] for c in cols if c[0] != "alcock"]) for k in (2, 3, 4, 5)
+    )
+    liquid = np.ones(t.size, bool)
+    lo, hi = entropy_band(th, liquid, t, lp, dcp)
+    lo0, hi0 = entropy_band(flat, liquid, t, lp, dcp)
+    inside = (ds >= np.maximum(lo, lo0)) & (ds <= hi)
+    for unit, f in (
+        ("mbar", 100.0),
+        ("mmHg", 133.322387415),
+        ("kPa", 1e3),
+        ("psi", 6894.757293168),
+        ("bar", 1e5),
+    ):
+        d = np.log(f)
+        got = []
+        for thr in (flat, th):
+            l2, s2 = lp[inside] - d, ds[inside] - R * d
+            a, b = entropy_band(thr, liquid[inside], t[inside], l2, dcp[inside])
+            got.append(float(((s2 < a) | (s2 > b)).mean()))
+        print(f"  {unit:<5} ({f:.6g}): {got[0]:.0%} -> {got[1]:.0%} of {int(inside.sum())}")
+
+
 if __name__ == "__main__":
-    if "--scatter" in sys.argv:
+    if "--entropy-edge" in sys.argv:
+        report_entropy_edge()
+    elif "--scatter" in sys.argv:
         report_source_scatter()
     elif "--boiling" in sys.argv:
         report_boiling_opinions()

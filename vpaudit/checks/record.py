@@ -11,7 +11,7 @@ import pandas as pd
 
 from .._columns import eq
 from ..constants import R
-from ..equations.engine import evaluate, temperature_at
+from ..equations.engine import evaluate, heat_capacity_from, temperature_at
 from ._context import LN_P_STANDARD, AuditContext, match
 from ._registry import Scope, Severity, Threshold, check
 from ._text import jk, kelvin, kj, ln_ratio, pressure_at_ln
@@ -293,8 +293,15 @@ def slope_too_flat(ctx: AuditContext, th: dict[str, float]):
             "liquid_min_low_pressure",
             60.0,
             "J/(mol K)",
-            "lowest plausible dS of vaporization where P is below P0/e^3 (about 5 kPa); "
-            "linear in ln P between the two",
+            "lowest plausible dS of vaporization at P0/e^3 (about 5 kPa); linear in ln P "
+            "between the two",
+        ),
+        Threshold(
+            "liquid_min_dcp",
+            20.0,
+            "J/(mol K)",
+            "smallest |dCp| of vaporization by which the lower edge rises below P0/e^3 "
+            "(methane, argon: 21-29 via CoolProp)",
         ),
         Threshold(
             "cryogenic_fraction",
@@ -397,9 +404,10 @@ def _standard_entropy(ctx: AuditContext, th: dict[str, float], rows: np.ndarray)
     liquid = ctx.liquid[rows]
     use_tb = liquid & (tb >= c.t_min) & (tb <= c.t_max)
     t = np.where(use_tb, tb, t_mid)
-    y, y1, _ = evaluate(c, t, order=1)
+    y, y1, y2 = evaluate(c, t, order=1)
     ds = R * t * y1 + R * (y - LN_P_STANDARD)
-    lo, hi = entropy_band(th, liquid, t, y - LN_P_STANDARD)
+    dcp = heat_capacity_from(t, y1, y2)
+    lo, hi = entropy_band(th, liquid, t, y - LN_P_STANDARD, dcp)
     with np.errstate(invalid="ignore"):
         # a curve with no finite value there is pressure-not-finite's (its range extrema)
         outside = np.isfinite(ds) & ~((ds >= lo) & (ds <= hi))
@@ -407,11 +415,16 @@ def _standard_entropy(ctx: AuditContext, th: dict[str, float], rows: np.ndarray)
 
 
 def entropy_band(
-    th: dict, liquid: np.ndarray, t: np.ndarray, ln_p_rel: np.ndarray
+    th: dict,
+    liquid: np.ndarray,
+    t: np.ndarray,
+    ln_p_rel: np.ndarray,
+    dcp: np.ndarray | None = None,
 ) -> tuple[np.ndarray, np.ndarray]:
     """The plausible band of the standard entropy of the phase change at ``t`` [K], where
-    the curve gives ln(P/P0) = ``ln_p_rel`` (one definition, for ``enthalpy-implausible``
-    and the diagnosis). [J/(mol K)]
+    the curve gives ln(P/P0) = ``ln_p_rel`` and implies ``dcp`` [J/(mol K)] (engine's
+    ``heat_capacity_from``); one definition, for ``enthalpy-implausible`` and the
+    diagnosis. [J/(mol K)]
 
     Liquids: the entropy dS = dH/T + R ln(P/P0) is Trouton's dS_b at the normal boiling
     point T_b and grows below it as d(dS)/dT = dCp/T (Kirchhoff), by -dCp ln(T_b/T) for a
@@ -423,7 +436,15 @@ def entropy_band(
 
     The lower edge, which no dCp lowers below the boiling point, is ``liquid_min`` near and
     above it (compilations carry equations estimated from one point at the boiling point at
-    44-49 J/(mol K)) and ``liquid_min_low_pressure`` below P0/e^3, linear in ln P between.
+    44-49 J/(mol K)) and ``liquid_min_low_pressure`` at P0/e^3, linear in ln P between. Below
+    P0/e^3 it rises as the upper edge does, by k ln(1 + R ln(P1/P) / 88 J/(mol K)) with
+    P1 = P0/e^3 and k = ``liquid_min_dcp``: the growth of a liquid with the smallest |dCp|
+    of vaporization of ordinary molecular liquids (methane 20.5-22.6, argon 23.8-28.8
+    J/(mol K) between 0.75 T_b and T_b, ideal gas minus saturated liquid, CoolProp). A
+    curve that implies a smaller |dCp| there (a metal's, about 3-15 J/(mol K) in Alcock et
+    al.'s liquids) rises by its own |dCp| (none for a positive dCp, which
+    ``heat-capacity-sign`` reports); a straight line in 1/T (|dCp| below 1 J/(mol K): the
+    two-term form, an Antoine equation with C = 0) states no dCp and takes k.
     At cryogenic temperatures the entropy of vaporization at the normal boiling point falls
     with it (the Trouton-Hildebrand-Everett rule; CRC enthalpies of vaporization at T_b via
     chemicals, Hvap_data_CRC: argon 73.7 J/(mol K) at 87.3 K, nitrogen 72.0 at 77.4 K, neon
@@ -445,6 +466,12 @@ def entropy_band(
         below = np.maximum(-ln_p_rel, 0.0)
     ramp = np.clip((below - 1.0) / 2.0, 0.0, 1.0)
     rise = (th["liquid_min_low_pressure"] - th["liquid_min"]) * ramp
+    k = th["liquid_min_dcp"]
+    if dcp is not None:  # the curve's own |dCp| where it states a smaller one
+        with np.errstate(invalid="ignore"):
+            k = np.where(np.abs(dcp) < 1.0, k, np.clip(-dcp, 0.0, k))
+        k = np.where(np.isfinite(k), k, th["liquid_min_dcp"])
+    rise += k * np.log1p(R * np.maximum(below - 3.0, 0.0) / TROUTON)
     lo_liquid = np.where(cryo < th["liquid_min"], cryo, th["liquid_min"] + rise)
     lo = np.where(liquid, lo_liquid, th["solid_min"])
     rise_hi = th["liquid_max_dcp"] * np.log1p(R * below / TROUTON)

@@ -20,7 +20,7 @@ from ..checks.finding import Finding
 from ..checks.pair import fusion_reference, melting_tolerance
 from ..checks.record import entropy_band
 from ..constants import R
-from ..equations.engine import evaluate
+from ..equations.engine import evaluate, heat_capacity_from
 from ..readers.files import RawFrame
 from ..readers.table import Table, _Collector, _record_rules, text_categorical
 from .candidates import Change
@@ -238,10 +238,10 @@ def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
     if rows.size:
         c = ctx.curves.take(rows)
         t = 2.0 / (1.0 / c.t_min + 1.0 / c.t_max)
-        y, y1, _ = evaluate(c, t, order=1)
+        y, y1, y2 = evaluate(c, t, order=1)
         ds = R * t * y1 + R * (y - LN_P_STANDARD)
         liquid = ctx.liquid[rows]
-        lo, hi = entropy_band(th, liquid, t, y - LN_P_STANDARD)
+        lo, hi = entropy_band(th, liquid, t, y - LN_P_STANDARD, heat_capacity_from(t, y1, y2))
         add(ctx.codes[rows], np.maximum(lo - ds, 0.0) / 10.0 + np.maximum(ds - hi, 0.0) / 10.0)
     # the 298.15 K anchor: the standard enthalpy and entropy, each against the warning
     # allowance of its check (the checks' own definitions: checks.anchor.anchor_values)

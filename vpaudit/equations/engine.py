@@ -310,8 +310,16 @@ def heat_capacity_change(curves: Curves, temperature) -> np.ndarray:
     """Implied dCp = Cp(gas) - Cp(condensed) = R (2 T y' + T^2 y''). [J/(mol K)]"""
     t = np.asarray(temperature, dtype=float)
     _, y1, y2 = evaluate(curves, t)
-    tt = np.broadcast_to(t, y1.shape)
-    return R * (2.0 * tt * y1 + tt * tt * y2)
+    return heat_capacity_from(np.broadcast_to(t, y1.shape), y1, y2)
+
+
+def heat_capacity_from(t: np.ndarray, y1: np.ndarray, y2: np.ndarray) -> np.ndarray:
+    """:func:`heat_capacity_change` from derivatives already evaluated: dCp = d(dH)/dT =
+    R (2 T y' + T^2 y'') at ``t`` [K], y = ln(P/Pa) (Clausius-Clapeyron, dH = R T^2 y').
+    [J/(mol K)]
+    """
+    with np.errstate(invalid="ignore", over="ignore"):
+        return R * (2.0 * t * y1 + t * t * y2)
 
 
 #: Relative size of a Newton step below which a change of direction is taken for

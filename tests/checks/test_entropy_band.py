@@ -77,19 +77,20 @@ def test_an_mmhg_slip_on_a_lone_liquid_leaves_the_band_that_follows_the_pressure
 @pytest.mark.parametrize(
     ("cas", "factor", "what"),
     [
-        # (Landolt, 425-551 K, ln(P/P0) -7.8 at mid-range in 1/T): coefficients for bar marked
-        # Pa: dS = 158 -> 62 J/(mol K) at ln(P/P0) -19.3, where the edge stands at 79
+        # (Landolt, 425-551 K, ln(P/P0) -7.8 at mid-range in 1/T; dCp -15 J/(mol K) there):
+        # coefficients for bar marked Pa: dS = 158 -> 62 J/(mol K) at ln(P/P0) -19.3, where
+        # the edge that rises with that dCp stands at 73.9
         ("500061-92-7", 1e5, "bar read as Pa"),
-        # (Landolt, 337-367 K): coefficients for mmHg marked Pa: dS = 110 -> 69 J/(mol K) at
-        # ln(P/P0) -9.5, where the edge stands at 69.7
+        # (Landolt, 337-367 K; dCp -412 J/(mol K)): coefficients for mmHg marked Pa: dS = 110
+        # -> 69.0 J/(mol K) at ln(P/P0) -9.5, where the edge (rising by 20) stands at 69.6
         ("766-92-7", MMHG, "mmHg read as Pa"),
     ],
 )
 def test_a_unit_slip_far_below_the_boiling_point_leaves_the_rising_lower_edge(cas, factor, what):
     """Landolt's Antoine constants of lone liquids (odd-CAS rows, ln P[Pa], via chemicals;
     no reference value): the slip lands at 62-69 J/(mol K), above the lower edge of 60 that
-    held at every pressure below P0/e^3 before that edge rose with the smallest |dCp| of
-    vaporization of ordinary liquids (20 J/(mol K))."""
+    held at every pressure below P0/e^3 before that edge rose with the curve's own |dCp|, up
+    to 20 J/(mol K)."""
     records, _ = landolt()
     rec = next(r for r in records if r["substance"] == cas and r["phase"] == "liquid")
     assert _implausible([rec]) == []

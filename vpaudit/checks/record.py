@@ -300,8 +300,9 @@ def slope_too_flat(ctx: AuditContext, th: dict[str, float]):
             "liquid_min_dcp",
             20.0,
             "J/(mol K)",
-            "smallest |dCp| of vaporization by which the lower edge rises below P0/e^3 "
-            "(methane, argon: 21-29 via CoolProp)",
+            "below P0/e^3 the lower edge rises with the curve's own |dCp|, at most this: "
+            "the smallest |dCp| of vaporization of molecular liquids (methane, argon: "
+            "21-29 via CoolProp)",
         ),
         Threshold(
             "cryogenic_fraction",
@@ -437,14 +438,15 @@ def entropy_band(
     The lower edge, which no dCp lowers below the boiling point, is ``liquid_min`` near and
     above it (compilations carry equations estimated from one point at the boiling point at
     44-49 J/(mol K)) and ``liquid_min_low_pressure`` at P0/e^3, linear in ln P between. Below
-    P0/e^3 it rises as the upper edge does, by k ln(1 + R ln(P1/P) / 88 J/(mol K)) with
-    P1 = P0/e^3 and k = ``liquid_min_dcp``: the growth of a liquid with the smallest |dCp|
-    of vaporization of ordinary molecular liquids (methane 20.5-22.6, argon 23.8-28.8
-    J/(mol K) between 0.75 T_b and T_b, ideal gas minus saturated liquid, CoolProp). A
-    curve that implies a smaller |dCp| there (a metal's, about 3-15 J/(mol K) in Alcock et
-    al.'s liquids) rises by its own |dCp| (none for a positive dCp, which
-    ``heat-capacity-sign`` reports); a straight line in 1/T (|dCp| below 1 J/(mol K): the
-    two-term form, an Antoine equation with C = 0) states no dCp and takes k.
+    P1 = P0/e^3 it rises as the upper edge does, by k ln(1 + R ln(P1/P) / 88 J/(mol K)),
+    with k the curve's own |dCp| (``dcp``) there, at most ``liquid_min_dcp``: a curve is
+    held to the growth it states itself, up to the growth of the molecular liquid with the
+    smallest |dCp| of vaporization (methane 20.5-22.6, argon 23.8-28.8 J/(mol K) between
+    0.75 T_b and T_b, ideal gas minus saturated liquid, CoolProp). A straight line in 1/T
+    (the two-term form, an Antoine equation with C = 0) and a curve with a positive dCp
+    (``heat-capacity-sign``'s) state no growth and keep the edge of P1: a straight line
+    may be a metal's, whose entropy of vaporization can be low and its |dCp| small (barium:
+    140 kJ/mol at 2118 K, 66 J/(mol K), CRC via chemicals).
     At cryogenic temperatures the entropy of vaporization at the normal boiling point falls
     with it (the Trouton-Hildebrand-Everett rule; CRC enthalpies of vaporization at T_b via
     chemicals, Hvap_data_CRC: argon 73.7 J/(mol K) at 87.3 K, nitrogen 72.0 at 77.4 K, neon
@@ -466,12 +468,10 @@ def entropy_band(
         below = np.maximum(-ln_p_rel, 0.0)
     ramp = np.clip((below - 1.0) / 2.0, 0.0, 1.0)
     rise = (th["liquid_min_low_pressure"] - th["liquid_min"]) * ramp
-    k = th["liquid_min_dcp"]
-    if dcp is not None:  # the curve's own |dCp| where it states a smaller one
+    if dcp is not None:  # the growth the curve states, up to liquid_min_dcp
         with np.errstate(invalid="ignore"):
-            k = np.where(np.abs(dcp) < 1.0, k, np.clip(-dcp, 0.0, k))
-        k = np.where(np.isfinite(k), k, th["liquid_min_dcp"])
-    rise += k * np.log1p(R * np.maximum(below - 3.0, 0.0) / TROUTON)
+            k = np.clip(np.nan_to_num(-dcp, nan=0.0), 0.0, th["liquid_min_dcp"])
+        rise += k * np.log1p(R * np.maximum(below - 3.0, 0.0) / TROUTON)
     lo_liquid = np.where(cryo < th["liquid_min"], cryo, th["liquid_min"] + rise)
     lo = np.where(liquid, lo_liquid, th["solid_min"])
     rise_hi = th["liquid_max_dcp"] * np.log1p(R * below / TROUTON)

@@ -251,12 +251,15 @@ def parse_enthalpy(text: str) -> float:
     Raises
     ------
     UnitError
-        If the text does not parse or the enthalpy is not positive.
+        If the text does not parse, or the enthalpy is not positive or not finite in J/mol.
     """
     value, unit = parse_quantity(text, "J/mol", ENTHALPY_UNITS)
     if value <= 0:
         raise UnitError(f"{text!r}: an enthalpy of fusion must be positive")
-    return value * ENTHALPY_UNITS[unit]
+    j = value * ENTHALPY_UNITS[unit]
+    if not np.isfinite(j):
+        raise UnitError(f"{text!r} is beyond any enthalpy a float can hold in J/mol")
+    return j
 
 
 def parse_pressure(text: str) -> float:
@@ -265,9 +268,12 @@ def parse_pressure(text: str) -> float:
     Raises
     ------
     UnitError
-        If the text does not parse or the pressure is not positive.
+        If the text does not parse, or the pressure is not positive or not finite in Pa.
     """
     value, unit = parse_quantity(text, "Pa", PRESSURE_UNITS)
     if value <= 0:
         raise UnitError(f"{text!r}: a vapour pressure must be positive")
-    return value * pressure_factor(unit)
+    pa = value * pressure_factor(unit)
+    if not np.isfinite(pa):
+        raise UnitError(f"{text!r} is beyond any pressure a float can hold in Pa")
+    return pa

@@ -107,6 +107,55 @@ def test_review_whose_answers_run_out_stops_as_quit(table):
     assert sum('"record"' in ln for ln in log.read_text().splitlines()) == 1
 
 
+def test_review_offers_one_fix_per_record_at_or_above_the_confidence_asked():
+    """revisions.review_offers: what review walks through. The demo's planted slips (the
+    invented sample_db) draw several findings on one record; each record is offered once."""
+    from vpaudit.api import open_table
+    from vpaudit.auditing import audit_table
+    from vpaudit.revisions import review_offers
+
+    result = audit_table(open_table(SAMPLE))
+    offers = review_offers(result)
+    records = [f.suggestion["record"] for f in offers]
+    with_suggestion = {f.suggestion["record"] for f in result.findings if f.suggestion}
+    assert sorted(records) == sorted(with_suggestion)  # every one, once
+    sure = review_offers(result, 0.95)
+    assert sure and all(f.suggestion["confidence"] >= 0.95 for f in sure)
+    assert len(sure) <= len(offers)
+    assert review_offers(result, 1.0) == [f for f in offers if f.suggestion["confidence"] >= 1.0]
+
+
+def test_fitted_records_are_appended_only_when_their_ids_are_new_and_they_draw_no_error(
+    table,
+):
+    """revisions.add_records, behind fit --write: an id the table holds is refused, a record
+    with an error needs force, and nothing is written when refused."""
+    from vpaudit.api import open_table
+    from vpaudit.auditing import audit_new_records
+    from vpaudit.errors import VpauditError
+    from vpaudit.fit import fit_table
+    from vpaudit.revisions import add_records
+
+    t = open_table(table)
+    target = table / "records" / "fitted.csv"
+    _, rec = fit_table(t, "ardenite", "three-term", "liquid", record_id="ardenite-l1")
+    with pytest.raises(VpauditError, match="already holds a record with id 'ardenite-l1'"):
+        add_records(target, t, [rec], [])
+    assert not target.exists()
+    _, rec = fit_table(t, "ardenite", "three-term", "liquid", record_id="ardenite-l9")
+    findings = audit_new_records(t, [rec], "ardenite")
+    errors = [f for f in findings if f.severity.value == "error"]
+    broken = dict(rec, A=rec["A"] + 5.0)  # pressure e^5 too high: it meets nothing
+    bad = audit_new_records(t, [broken], "ardenite")
+    assert any(f.severity.value == "error" for f in bad)
+    with pytest.raises(VpauditError, match="--force writes it anyway"):
+        add_records(target, t, [broken], bad)
+    assert not target.exists()
+    assert errors == []  # the fit to ardenite's own points meets its solid
+    line = add_records(target, t, [rec], findings)
+    assert line == 2 and "ardenite-l9" in target.read_text()
+
+
 def test_second_revision_is_numbered_and_old_ones_kept(table):
     f = table / "records" / "metals.csv"
     rec = "galdrite-l1"

@@ -8,8 +8,8 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
+from vpaudit.checks.crossings import crossings
 from vpaudit.checks.extrema import sampled
-from vpaudit.checks.pairs import crossings
 from vpaudit.equations.engine import Curves
 
 TOL = 0.05  # the default melting-point tolerance in ln P
@@ -203,7 +203,7 @@ def test_pairs_with_d_terms_scan_their_difference_as_one_curve():
     sign changes and brackets as evaluating each curve, on 20,000 random invented pairs
     (E = 1, E = -3, a D term in one curve only, and different exponents, which keep two
     evaluations)."""
-    from vpaudit.checks.pairs import _difference_curves, _scan_crossings
+    from vpaudit.checks.crossings import _difference_curves, _scan_crossings
 
     rng = np.random.default_rng(11)
     k = 20000

@@ -6,7 +6,7 @@ end of the bracket."""
 import numpy as np
 from scipy.optimize import brentq
 
-from vpaudit.checks.pairs import newton_from_end
+from vpaudit.checks.crossings import newton_from_end
 from vpaudit.equations.engine import bracketed_root
 
 

@@ -23,12 +23,12 @@ from ..equations.engine import (
 from ..readers.table import Table
 from ..runtime import DEFAULT, Runtime, SharedBlocks, in_thread
 from ._registry import Severity
+from .crossings import MeltingSlopes, Pairs, find_pairs
 from .evidence import EvidenceColumn, clean
 from .extrema import RangeExtrema, extrema_over_ranges
 from .finding import Finding, Findings
 from .hits import Hit, Hits
 from .joins import match, same_key_pairs
-from .pairs import MeltingSlopes, Pairs, find_pairs
 
 if TYPE_CHECKING:
     from ..policy import Policy
@@ -702,7 +702,7 @@ class AuditContext:
     @cached_property
     def pairs(self) -> Pairs:
         """The solid/liquid pairs of the table and their crossings
-        (:func:`vpaudit.checks.pairs.find_pairs`), made once.
+        (:func:`vpaudit.checks.crossings.find_pairs`), made once.
         """
         pairs, self._melting = find_pairs(self, self._share_blocks)
         return pairs
@@ -721,7 +721,7 @@ class AuditContext:
     @cached_property
     def melting_slopes(self) -> MeltingSlopes:
         """Both curves of every pair at the reference melting point, else at the crossing
-        (:class:`vpaudit.checks.pairs.MeltingSlopes`); shared by ``melting-point-mismatch``
+        (:class:`vpaudit.checks.crossings.MeltingSlopes`); shared by ``melting-point-mismatch``
         and ``fusion-enthalpy-mismatch``.
         """
         self.pairs  # noqa: B018  (made with the pairs, block by block)

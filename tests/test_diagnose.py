@@ -544,6 +544,52 @@ def test_the_screening_bound_counts_a_placeholder_lower_end_as_the_check_does():
     assert impossible == 0 and warnings >= 1
 
 
+def test_the_screening_bound_counts_a_curve_flatter_than_any_real_one():
+    """Landolt's 61828-31-7 (odd-CAS row, via chemicals; Antoine, ln P[Pa], 520-804 K)
+    with B entered 1000 times too small (6254.51 -> 6.25451): the curve is flatter than any
+    real one (slope-too-flat, an impossible error) and misses the CRC boiling point by 10.4
+    in ln P. Its clean curve itself misses that boiling point by 0.15 (a warning), so the
+    true fix leaves a capped residual like every other candidate; the screening, which did
+    not count slope-too-flat, then ranked the true fix below ten candidates that keep the
+    flat line, and the full checks never saw it (no suggestion). Now it is found."""
+    from compilations import _complete, landolt
+
+    records, refs = landolt()
+    rid = "61828-31-7-lb-l"
+    rec = next(r for r in records if r["id"] == rid)
+    sub = rec["substance"]
+    bad = dict(rec, B=float(Decimal(repr(rec["B"])).scaleb(-3)))
+    recs = [bad if r["id"] == rid else r for r in records if r["substance"] == sub]
+    recs = [r for r in recs if _complete(r)]
+    result = audit_table(table_from_rows(recs, [r for r in refs if r["substance"] == sub]))
+    assert {f.check for f in result.findings if f.severity.value == "error"} == {
+        "boiling-point-mismatch",
+        "slope-too-flat",
+    }
+    sug = next(f.suggestion for f in result.findings if f.suggestion)
+    assert (sug["kind"], sug["record"]) == ("decimal-shift", rid)
+    assert sug["corrected"]["B"] == pytest.approx(rec["B"], rel=1e-12)
+
+
+def test_a_fix_that_takes_a_curve_farther_from_a_distant_boiling_point_is_held():
+    """Landolt's 126-84-1 as carried (odd-CAS row, via chemicals): C = +214 over 288-301 K,
+    a curve flatter than any real one. Flipping the sign of C makes it plausible, but the
+    fixed curve, extrapolated to the CRC boiling point 73 K above the range, misses it by
+    1.44 in ln P where the curve as written missed by 0.31. That boiling point is only a
+    note so far outside the range, yet the fix contradicts it: it is offered at even odds,
+    not as almost certain (it rose to 0.98 once the screening counted flat curves)."""
+    from compilations import _complete, landolt
+
+    records, refs = landolt()
+    sub = "126-84-1"
+    recs = [r for r in records if r["substance"] == sub and _complete(r)]
+    result = audit_table(table_from_rows(recs, [r for r in refs if r["substance"] == sub]))
+    sug = next(f.suggestion for f in result.findings if f.suggestion)
+    assert (sug["kind"], sug["corrected"]) == ("sign", {"C": pytest.approx(-214.382)})
+    assert sug["confidence"] == 0.5
+    assert "boiling-point-mismatch: difference_lnP 0.313 -> 1.44" in sug["explanation"]
+
+
 def test_an_unrelated_problem_does_not_hide_a_clear_slip_and_is_named():
     # Alcock's solid copper with coefficients for mmHg marked Pa, and the CRC enthalpy of
     # fusion (13.26 kJ/mol) doubled: a second problem the slip does not explain. A candidate

@@ -491,9 +491,11 @@ def _witness_gap(f: Finding) -> float:
 
 
 def _farther_from_witnesses(base: _Outcome, out: _Outcome, rid: str) -> list[tuple]:
-    """The errors and warnings on record ``rid`` that a fix leaves in place with the record
-    farther from their independent witness than as written: (check, distance before,
-    distance after), in the unit of the check's witness evidence.
+    """The findings on record ``rid`` that a fix leaves in place with the record farther
+    from their independent witness than as written: (check, distance before, distance
+    after), in the unit of the check's witness evidence. Notes count: a boiling point far
+    beyond the range is weak evidence of a slip, but a fix that takes the curve farther
+    from it still contradicts it.
 
     Capped evidence cannot see this: a record already beyond the cap of a witness scores
     the same however much farther the fix moves it. A finding the fix makes anew is left to
@@ -501,10 +503,10 @@ def _farther_from_witnesses(base: _Outcome, out: _Outcome, rid: str) -> list[tup
     disagreement that another check measured before, such as curves that now cross beyond
     a range instead of not crossing).
     """
-    before = {_key(f): _witness_gap(f) for f in base.findings if f.severity.rank >= 1}
+    before = {_key(f): _witness_gap(f) for f in base.findings}
     farther = []
     for f in out.findings:
-        if f.severity.rank < 1 or rid not in f.records or _key(f) not in before:
+        if rid not in f.records or _key(f) not in before:
             continue
         was, now = before[_key(f)], _witness_gap(f)
         if now > was:  # False where either is NaN (a check without a witness)

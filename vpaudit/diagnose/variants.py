@@ -402,7 +402,7 @@ def _severity(vctx: AuditContext, check: str, tier: str | None = None) -> Severi
 
 def _hard_failures(vctx: AuditContext, unit_of_code: np.ndarray, n: int) -> np.ndarray:
     """Errors and warnings that some checks must report for each unit (pressure-not-finite,
-    pressure-too-low, slope-not-positive, heat-capacity-sign, no-crossing,
+    pressure-too-low, slope-not-positive, slope-too-flat, heat-capacity-sign, no-crossing,
     melting-point-mismatch), counted from the same arrays as those checks without building
     findings: a lower bound of each unit's findings cost. Returns an (n, 3) array of counts:
     errors, warnings, and errors of checks that declare the curve impossible
@@ -425,11 +425,15 @@ def _hard_failures(vctx: AuditContext, unit_of_code: np.ndarray, n: int) -> np.n
         at_bottom = np.isfinite(ex.y_min) & (ex.y_min < -lim) & (np.abs(ex.y_max) <= lim)
         far = ex.cp_max > th["error_above"] * factor
         too_low = finite & (ex.y_max < vctx.thresholds("pressure-too-low")["min_top_lnP"])
+        flat = (ex.h_min > 0) & (
+            ex.h_min / (R * ex.h_min_T) < vctx.thresholds("slope-too-flat")["min_log_slope"]
+        )
         tiers = [
             (ev & ~finite & ~at_bottom, "pressure-not-finite", None),
             (ev & too_low, "pressure-too-low", None),
             (ev & ~finite & at_bottom, "pressure-not-finite", "placeholder-lower-end"),
             (ev & ~(ex.h_min > 0), "slope-not-positive", None),
+            (ev & flat, "slope-too-flat", None),
             (ev & far, "heat-capacity-sign", "beyond-error-above"),
             (ev & (ex.cp_max > th["tolerance"] * factor) & ~far, "heat-capacity-sign", None),
         ]

@@ -270,7 +270,7 @@ def report_entropy_edge():
     of the range in 1/T)."""
     from compilations import COMPILATIONS, _complete
 
-    from vpaudit.checks.record import _standard_entropy, entropy_band
+    from vpaudit.checks.record import entropy_band, standard_entropy
     from vpaudit.equations.engine import heat_capacity_from
 
     policy = Policy()
@@ -283,7 +283,7 @@ def report_entropy_edge():
         records = [r for r in records if _complete(r)]
         ctx = AuditContext(table_from_rows(records, refs), policy)
         rows = np.flatnonzero(ctx.evaluable & ctx.liquid)
-        _, liquid, t, y, y1, ds, _, _, _ = _standard_entropy(ctx, th, rows)
+        _, liquid, t, y, y1, ds, _, _, _ = standard_entropy(ctx, th, rows)
         _, _, y2 = evaluate(ctx.curves.take(rows), t, order=2)
         ids = ctx.table.records["id"].to_numpy()[rows]
         keep = np.isfinite(ds)

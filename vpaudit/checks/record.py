@@ -346,13 +346,13 @@ def enthalpy_implausible(ctx: AuditContext, th: dict[str, float]):
     # outside it once more, for their messages (the same arithmetic, row by row)
     step = ctx.runtime.block_rows
     found = [
-        part[_standard_entropy(ctx, th, part)[0]]
+        part[standard_entropy(ctx, th, part)[0]]
         for part in (evaluable[a : a + step] for a in range(0, evaluable.size, step))
     ]
     rows = np.concatenate(found) if found else evaluable
     if rows.size == 0:
         return
-    _, liquid, t, y, y1, ds, lo, hi, use_tb = _standard_entropy(ctx, th, rows)
+    _, liquid, t, y, y1, ds, lo, hi, use_tb = standard_entropy(ctx, th, rows)
     hint = (
         " Usual causes: log10 coefficients read as ln or the reverse (dH off by a "
         "factor 2.3), or a wrong pressure unit (dS shifted by R ln of the factor)."
@@ -392,7 +392,7 @@ def enthalpy_implausible(ctx: AuditContext, th: dict[str, float]):
     )
 
 
-def _standard_entropy(ctx: AuditContext, th: dict[str, float], rows: np.ndarray):
+def standard_entropy(ctx: AuditContext, th: dict[str, float], rows: np.ndarray):
     """For the records ``rows``: (outside, liquid, T, ln P, d ln P/dT, dS, band low, band
     high, at the boiling point) of :func:`enthalpy_implausible`: the standard entropy of the
     phase change dS [J/(mol K)] at the reference normal boiling point where it lies in a

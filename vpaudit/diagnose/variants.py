@@ -13,14 +13,14 @@ import pyarrow as pa
 import pyarrow.compute as pc
 
 from .._columns import TEXT, text_series
-from ..checks._context import LN_P_STANDARD, AuditContext, match, same_key_pairs
+from ..checks._context import AuditContext, match, same_key_pairs
 from ..checks._registry import REGISTRY, Severity
 from ..checks.boiling import boiling_residuals
 from ..checks.finding import Finding
 from ..checks.pair import fusion_reference, melting_tolerance
-from ..checks.record import entropy_band
+from ..checks.record import standard_entropy
 from ..constants import R
-from ..equations.engine import evaluate, heat_capacity_from
+from ..equations.engine import evaluate
 from ..readers.files import RawFrame
 from ..readers.table import Table, _Collector, _record_rules, text_categorical
 from .candidates import Change
@@ -233,15 +233,11 @@ def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
         tol_b = policy.thresholds("boiling-point-mismatch")["tolerance"]
         widen = 1.0 + 20.0 * dist
         add_widened(ctx.codes[r], d, 0.5 * tol_b * widen, widen)
-    # the entropy of the phase change (Trouton's rule generalised), outside its band
+    # the entropy of the phase change (Trouton's rule generalised), outside its band, where
+    # the check tests it (the reference boiling point in a liquid's range, else mid-range)
     th = policy.thresholds("enthalpy-implausible")
     if rows.size:
-        c = ctx.curves.take(rows)
-        t = 2.0 / (1.0 / c.t_min + 1.0 / c.t_max)
-        y, y1, y2 = evaluate(c, t, order=1)
-        ds = R * t * y1 + R * (y - LN_P_STANDARD)
-        liquid = ctx.liquid[rows]
-        lo, hi = entropy_band(th, liquid, t, y - LN_P_STANDARD, heat_capacity_from(t, y1, y2))
+        ds, lo, hi = standard_entropy(ctx, th, rows)[5:8]
         add(ctx.codes[rows], np.maximum(lo - ds, 0.0) / 10.0 + np.maximum(ds - hi, 0.0) / 10.0)
     # the 298.15 K anchor: the standard enthalpy and entropy, each against the warning
     # allowance of its check (the checks' own definitions: checks.anchor.anchor_values)

@@ -11,7 +11,7 @@ import numpy as np
 import pandas as pd
 
 from .constants import R
-from .equations.engine import curves_from_frame, evaluate, temperature_at
+from .equations.engine import curves_from_frame, evaluate, heat_capacity_from, temperature_at
 from .errors import VpauditError
 from .readers.table import Table
 
@@ -136,7 +136,7 @@ def eval_substance(
     with np.errstate(over="ignore", invalid="ignore"):
         p = np.where(found, np.exp(y), np.nan)
         h = np.where(found, R * t * t * y1, np.nan)
-        cp = np.where(found, R * (2 * t * y1 + t * t * y2), np.nan)
+        cp = np.where(found, heat_capacity_from(t, y1, y2), np.nan)
     with np.errstate(invalid="ignore"):
         in_range = found & (t >= curves.t_min) & (t <= curves.t_max)
     mm = table.references

@@ -10,7 +10,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..constants import R
-from ..equations.engine import Curves, evaluate, temperature_at
+from ..equations.engine import Curves, evaluate, heat_capacity_from, temperature_at
 from ..equations.families import BY_CODE
 
 __all__ = ["RangeExtrema", "extrema_over_ranges", "sampled"]
@@ -199,7 +199,7 @@ def sampled(c: Curves, lo: np.ndarray, hi: np.ndarray, need_h: bool = True, need
         else:
             ts = cand
     y, y1, y2 = evaluate(c, ts)
-    return R * ts * ts * y1, ts, y, R * (2.0 * ts * y1 + ts * ts * y2)
+    return R * ts * ts * y1, ts, y, heat_capacity_from(ts, y1, y2)
 
 
 def _blocks(c: Curves, simple: np.ndarray, block_rows: int, plain: bool = True):

@@ -420,7 +420,7 @@ def entropy_band(
     liquid: np.ndarray,
     t: np.ndarray,
     ln_p_rel: np.ndarray,
-    dcp: np.ndarray | None = None,
+    dcp: np.ndarray,
 ) -> tuple[np.ndarray, np.ndarray]:
     """The plausible band of the standard entropy of the phase change at ``t`` [K], where
     the curve gives ln(P/P0) = ``ln_p_rel`` and implies ``dcp`` [J/(mol K)] (engine's
@@ -468,10 +468,9 @@ def entropy_band(
         below = np.maximum(-ln_p_rel, 0.0)
     ramp = np.clip((below - 1.0) / 2.0, 0.0, 1.0)
     rise = (th["liquid_min_low_pressure"] - th["liquid_min"]) * ramp
-    if dcp is not None:  # the growth the curve states, up to liquid_min_dcp
-        with np.errstate(invalid="ignore"):
-            k = np.clip(np.nan_to_num(-dcp, nan=0.0), 0.0, th["liquid_min_dcp"])
-        rise += k * np.log1p(R * np.maximum(below - 3.0, 0.0) / TROUTON)
+    # below P0/e^3 (where the ramp ends), the growth the curve states, up to liquid_min_dcp
+    k = np.clip(np.nan_to_num(-dcp, nan=0.0), 0.0, th["liquid_min_dcp"])
+    rise += k * np.log1p(R * np.maximum(below - 3.0, 0.0) / TROUTON)
     lo_liquid = np.where(cryo < th["liquid_min"], cryo, th["liquid_min"] + rise)
     lo = np.where(liquid, lo_liquid, th["solid_min"])
     rise_hi = th["liquid_max_dcp"] * np.log1p(R * below / TROUTON)

@@ -83,6 +83,9 @@ def test_quantities_with_unit_suffixes():
     assert parse_pressure("1 bar") == 1e5
     with pytest.raises(UnitError, match="positive"):
         parse_temperature("-300degC")
+    # the option that reads an enthalpy names no particular phase change in its refusal
+    with pytest.raises(UnitError, match="an enthalpy of a phase change must be positive"):
+        parse_enthalpy("-6.0kJ/mol")
 
 
 @settings(max_examples=200, deadline=None)

@@ -255,7 +255,7 @@ def parse_enthalpy(text: str) -> float:
     """
     value, unit = parse_quantity(text, "J/mol", ENTHALPY_UNITS)
     if value <= 0:
-        raise UnitError(f"{text!r}: an enthalpy of fusion must be positive")
+        raise UnitError(f"{text!r}: an enthalpy of a phase change must be positive")
     j = value * ENTHALPY_UNITS[unit]
     if not np.isfinite(j):
         raise UnitError(f"{text!r} is beyond any enthalpy a float can hold in J/mol")

@@ -232,6 +232,8 @@ def test_show_prints_the_coefficients_and_marks_a_cut_source(sample_db):
     assert "Coefficients (as written in the table):" in r.output
     assert "-14736.5418" in r.output and "-0.659908723" in r.output
     assert "(invented …" in r.output  # cut with an ellipsis, then given in full
+    # the list gives only the cut ones, and says so (a source shown whole is not repeated)
+    assert "Sources cut short above, in full:" in r.output
     assert (
         "bellorium-s1: Fictional Compendium of Coating Vapours, 2nd ed. (invented demo source)"
         in r.output

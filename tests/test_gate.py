@@ -121,6 +121,41 @@ def test_a_findings_status_travels_with_it(repo):
         assert result.status_of(fresh) == "new"
 
 
+def test_the_gates_csv_says_which_findings_are_new(repo, tmp_path):
+    # a CI job that reads the CSV must tell the findings that fail the gate from those the
+    # base had: a last column gives each row's status, as the JSON's "status" does; read
+    # back by Python's csv module (a standard consumer)
+    import csv
+
+    metals = _head_change(repo)
+    # and bellorium re-entered by another hand: re-audited, its log-base error is not new
+    lines = metals.read_text().splitlines(keepends=True)
+    k = next(i for i, line in enumerate(lines) if line.startswith("bellorium-l1,"))
+    assert ",demo generator," in lines[k]
+    lines[k] = lines[k].replace(",demo generator,", ",demo steward,")
+    metals.write_text("".join(lines))
+    git(repo, "commit", "-qam", "bellorium re-entered")
+    out_csv, out_json = tmp_path / "gate.csv", tmp_path / "gate.json"
+    for fmt, out in (("csv", out_csv), ("json", out_json)):
+        r = run("gate", repo / "table", "--base", "base", "--format", fmt, "-o", out)
+        assert r.exit_code == 1
+    with out_csv.open(newline="", encoding="utf-8") as f:
+        rows = list(csv.DictReader(f))
+    findings = json.loads(out_json.read_text())["findings"]
+    assert [r["status"] for r in rows] == [f["status"] for f in findings]
+    assert {r["status"] for r in rows} == {"new", "existing"}
+    assert {(r["check"], r["substance"]) for r in rows if r["status"] == "new"} >= {
+        ("slope-not-positive", "zorvane"),
+        ("melting-point-mismatch", "ardenite"),
+    }
+    assert ("enthalpy-implausible", "bellorium", "existing") in {
+        (r["check"], r["substance"], r["status"]) for r in rows
+    }
+    # an audit's CSV has no such column (nothing to compare with)
+    audit = run("audit", repo / "table", "--format", "csv", "--fail-on", "never").output
+    assert audit.splitlines()[0].split(",")[-1] == "suggestion"
+
+
 def test_expired_acceptance_is_reported_and_fails_again(repo):
     _head_change(repo)
     run(

@@ -156,7 +156,8 @@ def render_show(table, substance: str, result) -> str:
     )
     long = [(r.id, r.source) for r in rec.itertuples() if len(str(r.source or "")) > 60]
     if long:
-        lines += ["", "Sources cut short above, in full:"] + [f"  {rid}: {src}" for rid, src in long]
+        lines += ["", "Sources cut short above, in full:"]
+        lines += [f"  {rid}: {src}" for rid, src in long]
     ref = table.references
     ref = ref[ref["substance"] == substance] if len(ref) else ref
     if len(ref):

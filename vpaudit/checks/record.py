@@ -82,18 +82,21 @@ def pressure_not_finite(ctx: AuditContext, th: dict[str, float]):
     range and falls below -limit only toward the bottom. Every vapour-pressure curve does
     that near 0 K (ln P goes as -dH/(R T)); a range that reaches there (compilations write
     t_min = 1 K for "no lower limit") claims pressures no measurement could give, which is
-    a fault of the range, not of the coefficients.
+    a fault of the range, not of the coefficients. That holds only for a curve whose top
+    is a pressure real equations reach: one that stays below ``pressure-too-low``'s limit
+    over its whole range is that check's (an error), not a placeholder.
     """
     lim = th["max_abs_lnP"]
+    min_top = ctx.thresholds("pressure-too-low")["min_top_lnP"]
     ex = ctx.range_extrema
     with np.errstate(invalid="ignore"):
+        top_ok = np.abs(ex.y_max) <= lim
+        low_top = top_ok & (ex.y_max < min_top)  # pressure-too-low's
         bad = ctx.evaluable & ~(
-            np.isfinite(ex.y_min)
-            & np.isfinite(ex.y_max)
-            & (np.abs(ex.y_min) <= lim)
-            & (np.abs(ex.y_max) <= lim)
+            np.isfinite(ex.y_min) & np.isfinite(ex.y_max) & (np.abs(ex.y_min) <= lim) & top_ok
         )
-        at_bottom = np.isfinite(ex.y_min) & (ex.y_min < -lim) & (np.abs(ex.y_max) <= lim)
+        bad &= ~(low_top & np.isfinite(ex.y_min))
+        at_bottom = np.isfinite(ex.y_min) & (ex.y_min < -lim) & top_ok
     for i in np.flatnonzero(bad):
         lo, hi = ex.y_min[i], ex.y_max[i]
         t_lo, t_hi = ctx.curves.t_min[i], ctx.curves.t_max[i]
@@ -148,7 +151,8 @@ def pressure_too_low(ctx: AuditContext, th: dict[str, float]):
     below the limit: the equation claims pressures ten decades below the lowest any real
     equation is stated for. A 1/T coefficient ten or a hundred times too large gives such a
     curve (ln P scales with it), and so does a pressure unit read many decades off. A curve
-    that cannot be represented at all is ``pressure-not-finite``'s.
+    whose top cannot be represented is ``pressure-not-finite``'s; one whose top can, but
+    whose bottom falls below what a double holds, is this check's (its top is the fault).
     """
     lim_finite = ctx.thresholds("pressure-not-finite")["max_abs_lnP"]
     ex = ctx.range_extrema
@@ -158,7 +162,6 @@ def pressure_too_low(ctx: AuditContext, th: dict[str, float]):
             & (ex.y_max < th["min_top_lnP"])
             & (ex.y_max >= -lim_finite)
             & np.isfinite(ex.y_min)
-            & (ex.y_min >= -lim_finite)
         )
     sel = np.flatnonzero(bad)
     top = ex.y_max[sel]

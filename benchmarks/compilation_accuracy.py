@@ -20,8 +20,13 @@ entropy of each phase change at 298.15 K (the 298.15 K anchor) where they exist.
 ``--judge-clean`` judges each clean record that draws an error against independent data
 (:func:`judge_clean`), and says which errors are the tool's own false alarms.
 
+``--troubled`` plants the slips in substances that already draw an error as carried (a pair
+inconsistent at its melting point, a boiling point the curve misses...) instead
+(:func:`planted_in_troubled`): the slip must be named although that problem stays.
+
     python benchmarks/compilation_accuracy.py [--sample 200] [--seed 20261202]
     python benchmarks/compilation_accuracy.py --judge-clean [--only landolt]
+    python benchmarks/compilation_accuracy.py --troubled --sample 240
 """
 
 from __future__ import annotations
@@ -406,6 +411,81 @@ def planted(name, records, refs, flagged_clean, sample, seed):
     return len(cases), detected, right, confident, confident_wrong, missed, right_flagged, near
 
 
+def planted_in_troubled(name, records, refs, flagged_clean, sample, seed):
+    """One slip in one record of each of ``sample`` substances that already draw an error
+    as the compilation carries them (an inconsistent solid/liquid pair, a boiling point the
+    curve misses, ...): the diagnosis must name the planted slip although another problem
+    stays. The same seeded orders as :func:`planted`.
+
+    Returns (cases, detected, right, confident, confident wrong, silent, other): detected is
+    a new error (check and records) on the slipped record; right, the substance's suggestion
+    undoes the planted slip; silent, no suggestion; other, a suggestion for another record.
+    """
+    by_sub: dict[str, list[dict]] = {}
+    for r in records:
+        by_sub.setdefault(r["substance"], []).append(r)
+    order = sorted(by_sub)
+    random.Random(seed).shuffle(order)
+    troubled = [s for s in order if any(r["id"] in flagged_clean for r in by_sub[s])]
+    position = {s: k for k, s in enumerate(order)}
+    refs_by: dict[str, list[dict]] = {}
+    for r in refs:
+        refs_by.setdefault(r["substance"], []).append(r)
+    kinds = [k for k in SLIP_KINDS if k != "phase-swap"]
+    cases, recs, plain, out_refs = [], [], [], []
+    for sub in troubled[:sample]:
+        k = position[sub]
+        rng = random.Random(f"{seed}:{sub}")
+        kind = kinds[k % len(kinds)]
+        rs = by_sub[sub]
+        target = rng.choice(rs)
+        got = corrupt(target, kind, rng)
+        if got is None:
+            got, kind = corrupt(target, "sign", rng), "sign"
+        bad, _ = got
+        if not _visible(target, bad):
+            continue
+        new = f"{sub}#{k}"
+        for r in rs:
+            recs.append(dict(bad if r is target else r, substance=new, id=f"{r['id']}#{k}"))
+            plain.append(dict(r, substance=new, id=f"{r['id']}#{k}"))
+        out_refs += [dict(x, substance=new) for x in refs_by.get(sub, [])]
+        rid = f"{target['id']}#{k}"
+        cases.append((new, kind, rid, dict(target, id=rid), bad))
+    before = audit_table(table_from_rows(plain, out_refs), diagnose=False)
+    had = {(f.check, f.records) for f in before.findings if f.severity.value == "error"}
+    result = audit_table(table_from_rows(recs, out_refs))
+    by_new: dict[str, list] = {}
+    for f in result.findings:
+        by_new.setdefault(f.substance, []).append(f)
+    det = right = conf = cw = silent = other = 0
+    for new, kind, rid, original, bad in cases:
+        fs = by_new.get(new, [])
+        det += any(
+            f.severity.value == "error" and rid in f.records and (f.check, f.records) not in had
+            for f in fs
+        )
+        sug = next((f.suggestion for f in fs if f.suggestion), None)
+        ok = False
+        if sug is None:
+            silent += 1
+        elif sug["record"] != rid:
+            other += 1
+        else:
+            ok = reproduces(original, dict(bad, id=rid), sug)
+        right += ok
+        if SHOW_WRONG and not ok:
+            what = "no suggestion"
+            if sug is not None:
+                what = f"{sug['kind']} on {sug['record']} {sug['corrected']}"
+                what += f" at {sug['confidence']:.2f}"
+            print(f"      {kind} in {rid}: {_describe(original, bad)}\n        {what}")
+        if sug is not None and sug["confidence"] >= 0.8:
+            conf += 1
+            cw += not ok
+    return len(cases), det, right, conf, cw, silent, other
+
+
 SHOW_MISSED = False
 SHOW_WRONG = False
 #: Per compilation: (suggestion kind, errors its fix creates) for every suggestion made.
@@ -498,6 +578,11 @@ def main() -> None:
         "at 298.15 K (the 298.15 K anchor) as reference rows",
     )
     ap.add_argument(
+        "--troubled",
+        action="store_true",
+        help="plant the slips in substances that already draw an error instead",
+    )
+    ap.add_argument(
         "--judge-clean",
         action="store_true",
         help="judge each clean record that draws an error against independent data",
@@ -520,6 +605,22 @@ def main() -> None:
         return
     global SHOW_MISSED, SHOW_WRONG
     SHOW_MISSED, SHOW_WRONG = args.show_missed, args.show_wrong
+    if args.troubled:
+        print(
+            "compilation      planted  detected  top-1 right  no suggestion  another record"
+            "  confident  confident wrong"
+        )
+        for name in [args.only] if args.only else COMPILATIONS:
+            records, refs, flagged, _, _ = clean_errors(name)
+            n, det, right, conf, cw, silent, other = planted_in_troubled(
+                name, records, refs, flagged, args.sample, args.seed
+            )
+            if n:
+                print(
+                    f"{name:15s} {n:8d} {det / n:9.1%} {right / n:12.1%} {silent:14d}"
+                    f" {other:15d} {conf:10d} {(cw / conf if conf else 0):16.1%}"
+                )
+        return
     print(
         "compilation      records  with error  false-alarm rate  | planted  detected  "
         "top-1 right  confident  confident wrong | confident fixes on clean records"

@@ -54,6 +54,16 @@ def test_clean_errors_are_judged_against_independent_data():
     assert counts.get("another reference value is met (false alarm)", 0) >= 1
 
 
+def test_slips_are_planted_in_substances_that_already_draw_an_error():
+    """benchmarks/compilation_accuracy.py --troubled: Perry's six records that draw an error
+    as the compilation carries them (via chemicals) each get one slip; each row of the
+    table counts them and its columns add up."""
+    out = _benchmark("compilation_accuracy.py", "--troubled", "--only", "perry").splitlines()
+    (row,) = [line.split() for line in out if line.startswith("perry")]
+    planted, silent, other, confident = int(row[1]), int(row[4]), int(row[5]), int(row[6])
+    assert planted == 6 and silent + other <= planted and confident <= planted
+
+
 def test_replica_tables_copy_real_pairs_and_their_slips_are_flagged(tmp_path):
     """benchmarks/synth.py::replicas: copies of the Alcock, Itkin & Horrigan (1984) metal
     pairs (as chemicals carries them) with a constant shift keep each pair's verdicts, and

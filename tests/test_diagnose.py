@@ -614,6 +614,31 @@ def test_an_unrelated_problem_does_not_hide_a_clear_slip_and_is_named():
     assert unexplained in sug["explanation"]
 
 
+def test_an_error_no_single_slip_explains_does_not_silence_the_fix_of_one_that_does():
+    """Perry's liquid of CAS 590-67-0 as carried (via chemicals, power-term form, ln P[Pa]):
+    as written it misses the CRC_ORG normal boiling point (428.15 K) beyond tolerance, a
+    problem of the record or of that reference that no candidate clears. With the sign of B
+    lost on top (-10682 -> 10682) the record also draws slope-not-positive, which the sign
+    fix clears. The diagnosis required a fix to clear every error on its record, so it said
+    nothing; now the fix is offered, held at even odds, and the error it leaves is named."""
+    from compilations import perry
+
+    records, refs = perry()
+    rid = "590-67-0-pe"
+    rec = next(r for r in records if r["id"] == rid)
+    bad = dict(rec, B=-rec["B"])
+    refs = [r for r in refs if r["substance"] == rec["substance"]]
+    result = audit_table(table_from_rows([rec], refs))
+    before = {(f.check, f.severity.value) for f in result.findings}
+    assert ("boiling-point-mismatch", "error") in before  # the record's own problem
+    sug, flagged = suggestion_for([bad], refs, rid)
+    assert flagged and sug is not None
+    assert (sug["kind"], sug["corrected"]) == ("sign", {"B": rec["B"]})
+    assert sug["confidence"] == 0.5
+    assert "which it does not explain: boiling-point-mismatch (590-67-0-pe)" in sug["explanation"]
+    assert "no single slip explains" in sug["explanation"]
+
+
 def test_an_anchor_whose_enthalpy_misses_weighs_its_entropy_less():
     # acetic acid (Landolt's liquid equation, odd CAS, via chemicals) with its coefficients
     # for atm marked Pa; the only witness is the CRC standard data at 298.15 K. Its vapour

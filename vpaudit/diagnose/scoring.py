@@ -318,17 +318,36 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
         # warnings alone (a range gap, a small heat-capacity excursion) are no evidence of a
         # transcription slip: a fix that clears no error is not suggested
         return {"suggestion": None, "clears": set(), "none": float(post[0])}
-    if cal["require_clear"]:
+    rid = ctx.id(cands[best].row)
+    # the errors on the fixed record that the fix leaves
+    left = [f for f in outs[best].findings if f.severity is Severity.error and rid in f.records]
+    if cal["require_clear"] and left:
         # a fix must clear the errors on the record it corrects: one that leaves them is at
-        # best part of the story, and is not suggested
-        rid = ctx.id(cands[best].row)
-        if any(
-            f.severity is Severity.error and rid in f.records and _key(f) in before
-            for f in outs[best].findings
-        ):
+        # best part of the story, and is not suggested -- save errors that no candidate
+        # clears (a reference the curve misses whatever its reading, a partner phase with a
+        # problem of its own): they are no single slip's, and do not hold back the fix of
+        # one that is, provided it clears an error of its record alone (what it clears is
+        # then the record's own, not another symptom of the problem it leaves: a solid and
+        # liquid 0.38 apart in ln P at the melting point are made to cross by many a
+        # fix). Its confidence is held below, and the suggestion names what it leaves.
+        unexplained = set.intersection(
+            *(
+                {_key(f) for f in o.findings if f.severity is Severity.error}
+                for o, bad in zip(outs, harmful, strict=True)
+                if not bad
+            )
+        )
+        own = any(key[1] == (rid,) for key in cleared & errors_before)
+        if not own or any(_key(f) not in unexplained for f in left):
             return {"suggestion": None, "clears": set(), "none": float(post[0])}
     conf = _stated(raw, cal)
     held = _held_because(ctx, base, outs[best], cands[best])
+    if left:
+        named = "; ".join(sorted({f"{f.check} ({', '.join(f.records)})" for f in left}))
+        held.append(
+            f"With it, {rid} still draws an error that no single slip explains ({named}): "
+            "the record has another problem, or the fix is not the whole story"
+        )
     held_down = bool(held) and conf > SCATTER_CAP
     if held_down:
         conf = SCATTER_CAP

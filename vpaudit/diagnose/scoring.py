@@ -323,20 +323,23 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
     left = [f for f in outs[best].findings if f.severity is Severity.error and rid in f.records]
     if cal["require_clear"] and left:
         # a fix must clear the errors on the record it corrects: one that leaves them is at
-        # best part of the story, and is not suggested -- save errors that no candidate
-        # clears (a reference the curve misses whatever its reading, a partner phase with a
-        # problem of its own): they are no single slip's, and do not hold back the fix of
-        # one that is, provided it clears an error of its record alone (what it clears is
-        # then the record's own, not another symptom of the problem it leaves: a solid and
-        # liquid 0.38 apart in ln P at the melting point are made to cross by many a
-        # fix). Its confidence is held below, and the suggestion names what it leaves.
-        unexplained = set.intersection(
-            *(
-                {_key(f) for f in o.findings if f.severity is Severity.error}
-                for o, bad in zip(outs, harmful, strict=True)
-                if not bad
-            )
-        )
+        # best part of the story, and is not suggested -- save errors that no single slip
+        # explains (a reference the curve misses whatever its reading, a partner phase with
+        # a problem of its own): no candidate that leaves its own record without an error
+        # clears them (one that trades an error for another, a range read in degF that
+        # escapes a critical temperature but misses the boiling point, explains nothing).
+        # They do not hold back the fix of a slip, provided it clears an error of its
+        # record alone (what it clears is then the record's own, not another symptom of
+        # the problem it leaves: a solid and liquid 0.38 apart in ln P at the melting
+        # point are made to cross by many a fix). Its confidence is held below, and the
+        # suggestion names what it leaves.
+        unexplained = set(errors_before)
+        for c, o, bad in zip(cands, outs, harmful, strict=True):
+            own_errors = [
+                f for f in o.findings if f.severity is Severity.error and ctx.id(c.row) in f.records
+            ]
+            if not bad and not own_errors:
+                unexplained &= {_key(f) for f in o.findings if f.severity is Severity.error}
         own = any(key[1] == (rid,) for key in cleared & errors_before)
         if not own or any(_key(f) not in unexplained for f in left):
             return {"suggestion": None, "clears": set(), "none": float(post[0])}

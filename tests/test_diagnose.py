@@ -636,7 +636,7 @@ def test_an_error_no_single_slip_explains_does_not_silence_the_fix_of_one_that_d
     assert (sug["kind"], sug["corrected"]) == ("sign", {"B": rec["B"]})
     assert sug["confidence"] == 0.5
     assert "which it does not explain: boiling-point-mismatch (590-67-0-pe)" in sug["explanation"]
-    assert "no single slip explains" in sug["explanation"]
+    assert "No single slip explains the error it leaves on 590-67-0-pe" in sug["explanation"]
 
 
 def test_an_anchor_whose_enthalpy_misses_weighs_its_entropy_less():

@@ -345,11 +345,10 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
             return {"suggestion": None, "clears": set(), "none": float(post[0])}
     conf = _stated(raw, cal)
     held = _held_because(ctx, base, outs[best], cands[best])
-    if left:
-        named = "; ".join(sorted({f"{f.check} ({', '.join(f.records)})" for f in left}))
+    if left:  # named with what remains (_suggestion): here only why it holds the fix
         held.append(
-            f"With it, {rid} still draws an error that no single slip explains ({named}): "
-            "the record has another problem, or the fix is not the whole story"
+            f"No single slip explains the error{'s' if len(left) > 1 else ''} it leaves on "
+            f"{rid}: the record has another problem, or the fix is not the whole story"
         )
     held_down = bool(held) and conf > SCATTER_CAP
     if held_down:

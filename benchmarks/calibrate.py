@@ -4,7 +4,8 @@ Data: the metallic elements of Alcock, Itkin & Horrigan (1984) via ``chemicals``
 liquid equations), CRC Handbook melting points and enthalpies of fusion via ``chemicals``,
 and fits to the IAPWS water curves via ``iapws``. Run:
 
-    python benchmarks/calibrate.py [--priors | --boiling | --scatter | --entropy-edge]
+    python benchmarks/calibrate.py [--priors | --boiling | --scatter | --entropy-edge
+                                    | --solid-ranges]
 
 ``--priors`` prints only the rarities behind the diagnosis's priors (a positive dCp, the
 exponent of a power term, a liquid below 1 Pa) and the odds behind the cost of an
@@ -12,7 +13,8 @@ impossible curve; ``--boiling`` judges
 the clean Landolt liquids' boiling-point errors against the other boiling points carried;
 ``--scatter`` measures how far independent sources of one liquid disagree (the diagnosis's
 ``SOURCE_SCATTER``); ``--entropy-edge`` measures the rise of the entropy band's lower
-edge below P0/e^3 (``enthalpy-implausible``'s ``liquid_min_dcp``).
+edge below P0/e^3 (``enthalpy-implausible``'s ``liquid_min_dcp``); ``--solid-ranges`` where
+real solids' ranges start and end against their CRC melting point (``solid-above-melting``).
 """
 
 from __future__ import annotations
@@ -337,8 +339,41 @@ def report_entropy_edge():
         print(f"  {unit:<5} ({f:.6g}): {got[0]:.0%} -> {got[1]:.0%} of {int(inside.sum())}")
 
 
+def report_solid_ranges():
+    """Where the ranges of real solid equations start and end, relative to the highest CRC
+    melting point of their substance (via chemicals): Alcock et al. (1984) and Landolt's
+    solids (odd CAS). ``solid-above-melting`` makes an error of a start above it by more
+    than its tolerance."""
+    from compilations import COMPILATIONS, _complete
+
+    tol = Policy().thresholds("solid-above-melting")["tolerance"]
+    sets = {"landolt": COMPILATIONS["landolt"](), "alcock": alcock_pairs()}
+    for name, (records, refs) in sets.items():
+        tm: dict[str, float] = {}
+        for r in refs:
+            if r["quantity"] == "melting_point":
+                tm[r["substance"]] = max(tm.get(r["substance"], 0.0), float(r["value"]))
+        got = [
+            (r["t_min"] / tm[r["substance"]], r["t_max"] / tm[r["substance"]], r["id"])
+            for r in records
+            if r["phase"] == "solid" and _complete(r) and r["substance"] in tm
+        ]
+        start = np.array([g[0] for g in got])
+        end = np.array([g[1] for g in got])
+        above = sorted((g for g in got if g[0] > 1.0 + tol), key=lambda g: -g[0])
+        print(
+            f"{name}: {len(got)} solids with a melting point; range start / Tm at most "
+            f"{start.max():.3f}; range end / Tm p50 {np.percentile(end, 50):.3f}, p99 "
+            f"{np.percentile(end, 99):.3f}, max {end.max():.3f}; starting more than "
+            f"{tol:.0%} above it: "
+            + (", ".join(f"{i} ({a:.3f}..{b:.3f})" for a, b, i in above) or "none")
+        )
+
+
 if __name__ == "__main__":
-    if "--entropy-edge" in sys.argv:
+    if "--solid-ranges" in sys.argv:
+        report_solid_ranges()
+    elif "--entropy-edge" in sys.argv:
         report_entropy_edge()
     elif "--scatter" in sys.argv:
         report_source_scatter()

@@ -16,7 +16,7 @@ from ._context import AuditContext, match
 from ._registry import Scope, Severity, Threshold, check
 from ._text import jk, kelvin, kj, ln_ratio, pressure
 from .extrapolation import allowance
-from .hits import Hit
+from .hits import Hit, Hits
 
 __all__: list[str] = []
 
@@ -779,4 +779,82 @@ def range_gap(ctx: AuditContext, th: dict[str, float]):
             "gap_fraction": gap,
             "limit": lim,
         },
+    )
+
+
+@check(
+    "solid-above-melting",
+    Severity.error,
+    Scope.record,
+    "A solid's range lies above the reference melting point.",
+    "A crystal does not outlast its melting point: its vapour-pressure curve ends at the "
+    "triple point, within hundredths of a kelvin of the normal melting point.",
+    (
+        Threshold(
+            "tolerance",
+            0.03,
+            "-",
+            "how far above the highest reference melting point, relative to it, a solid's "
+            "range may start (loosely stated ranges; range-gap's limit)",
+        ),
+        Threshold(
+            "factor",
+            3.0,
+            "-",
+            "coverage factor on a reference melting point's stated uncertainty",
+        ),
+    ),
+)
+def solid_above_melting(ctx: AuditContext, th: dict[str, float]):
+    """A solid record whose whole range lies above every reference melting point of its
+    substance (else the triple-point temperature) by more than the tolerance (and than
+    ``factor`` times the value's stated uncertainty) describes a solid where none exists.
+    Its label may be wrong (a liquid's equation filed as solid), its range may be in
+    another temperature unit (a range in degC read as K lies 273 K higher), or the melting
+    point may be another substance's. Measured on the solids with a CRC melting point:
+    Alcock et al.'s 33 start at most at 0.69 of it; of
+    Landolt's 130 (odd CAS) one starts above it, at 1.057 (3,4-dichlorophenyl isocyanate,
+    whose solid equation carries the liquid's range, 333-463 K, against a melting point of
+    315 K; ``python benchmarks/calibrate.py --solid-ranges``). A range that only ends above
+    the melting point is not tested here: its pair checks see where the curves meet.
+    """
+    solid = ctx.solid & np.isfinite(ctx.curves.t_min)
+    if not solid.any():
+        return
+    refs = ctx.references_of("melting_point")
+    top = np.full(ctx.n_names, np.nan)
+    u_top = np.zeros(ctx.n_names)
+    if refs.rows.size:
+        ok = np.isfinite(refs.value)
+        c, v = refs.codes[ok], refs.value[ok]
+        u = np.nan_to_num(refs.uncertainty[ok], nan=0.0)
+        order = np.lexsort((v, c))  # the highest value of each substance last
+        c, v, u = c[order], v[order], u[order]
+        last = np.flatnonzero(np.r_[c[1:] != c[:-1], True])
+        top[c[last]], u_top[c[last]] = v[last], u[last]
+    codes = ctx.codes
+    tm = np.where(codes >= 0, top[np.maximum(codes, 0)], np.nan)
+    u_tm = np.where(codes >= 0, u_top[np.maximum(codes, 0)], 0.0)
+    ttp = ctx.reference("triple_point_temperature")
+    missing = np.isnan(tm)
+    tm = np.where(missing, ttp, tm)
+    u_tm = np.where(missing, 0.0, u_tm)
+    t_min = ctx.curves.t_min
+    with np.errstate(invalid="ignore"):
+        limit = np.maximum(tm * (1.0 + th["tolerance"]), tm + th["factor"] * u_tm)
+        bad = solid & np.isfinite(tm) & (t_min > limit)
+    rows = np.flatnonzero(bad)
+    if rows.size == 0:
+        return
+    t0, t1, m = t_min[rows], ctx.curves.t_max[rows], tm[rows]
+    yield Hits(
+        rows,
+        [
+            f"the solid's range {kelvin(a)}..{kelvin(b)} starts {(a / x - 1) * 100:.1f} % "
+            f"above the reference melting point {kelvin(x)} (limit {th['tolerance'] * 100:g} "
+            "%): no solid exists there. Look for a liquid's equation filed as solid, a range "
+            "in another temperature unit, or a melting point of another substance."
+            for a, b, x in zip(t0.tolist(), t1.tolist(), m.tolist(), strict=True)
+        ],
+        {"t_min_K": t0, "melting_point_K": m, "limit_K": limit[rows]},
     )

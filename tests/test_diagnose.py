@@ -637,6 +637,10 @@ def test_an_error_no_single_slip_explains_does_not_silence_the_fix_of_one_that_d
     assert sug["confidence"] == 0.5
     assert "which it does not explain: boiling-point-mismatch (590-67-0-pe)" in sug["explanation"]
     assert "No single slip explains the error it leaves on 590-67-0-pe" in sug["explanation"]
+    # the fix is shown on the finding it clears, not on the one it leaves
+    result = audit_table(table_from_rows([bad], refs))
+    carries = {f.check: f.suggestion is not None for f in result.findings}
+    assert carries == {"slope-not-positive": True, "boiling-point-mismatch": False}
 
 
 def test_an_anchor_whose_enthalpy_misses_weighs_its_entropy_less():

@@ -233,7 +233,8 @@ def diagnose(
     Returns
     -------
     dict
-        Substance -> ``{"suggestion": dict or None, "clears": set of finding keys}``.
+        Substance -> ``{"suggestion": dict or None, "clears": set of finding keys, "leaves":
+        the keys of the errors and warnings it leaves (with a suggestion)}``.
     """
     return {
         name: choose(ctx, h, calibration)
@@ -244,7 +245,8 @@ def diagnose(
 @_quiet
 def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None) -> dict:
     """Weigh the audited candidates of one substance (from :func:`hypotheses`) and return
-    ``{"suggestion": dict or None, "clears": set of finding keys, "none": float}``.
+    ``{"suggestion": dict or None, "clears": set of finding keys, "none": float}``, and with
+    a suggestion ``"leaves"``: the keys of the errors and warnings the fix leaves.
     """
     cal = {**CALIBRATION, **(calibration or {})}
     base, cands, outs, dropped = hypothesis
@@ -365,7 +367,8 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
         cleared2 = before - _errors_and_warnings(outs[k2])
         sug["runner_up"] = _suggestion(ctx, cands[k2], outs[k2], c2, cleared2, before, ks2, cands)
         sug["explanation"] += f" Close runner-up ({c2:.2f}): {cands[k2].label}."
-    return {"suggestion": sug, "clears": cleared, "none": float(post[0])}
+    leaves = _errors_and_warnings(outs[best]) & before
+    return {"suggestion": sug, "clears": cleared, "leaves": leaves, "none": float(post[0])}
 
 
 def _held_because(ctx: AuditContext, base: _Outcome, out: _Outcome, cand: Candidate) -> list:
@@ -636,9 +639,10 @@ def attach_suggestions(ctx: AuditContext, findings: Findings, limit: int = DIAGN
     left undiagnosed.
 
     Each error or warning that the best fix of its substance clears, or that names the
-    corrected record, carries it as ``suggestion``. A finding on several records that the
-    fix singles one of out points at that one (its file and line), not at the first named:
-    a pair's error lands on the suspect, not on its clean partner.
+    corrected record, carries it as ``suggestion``, save one that the fix leaves as it is (a
+    problem it does not explain; its explanation names it). A finding on several records
+    that the fix singles one of out points at that one (its file and line), not at the first
+    named: a pair's error lands on the suspect, not on its clean partner.
     """
     suspects, skipped = _suspects(findings, limit)
     diag = diagnose(ctx, findings, limit=limit, suspects=suspects)
@@ -651,7 +655,10 @@ def attach_suggestions(ctx: AuditContext, findings: Findings, limit: int = DIAGN
         if (
             sug is not None
             and sev.rank >= 1
-            and (_key(findings[k]) in d["clears"] or sug["record"] in recs)
+            and (
+                _key(findings[k]) in d["clears"]
+                or (sug["record"] in recs and _key(findings[k]) not in d.get("leaves", ()))
+            )
         ):
             findings.set(k, suggestion=sug)
             if sug["record"] in recs:

@@ -86,6 +86,44 @@ def test_a_finding_without_suggestion_is_refused(table):
     assert "carries no suggestion" in run.output
 
 
+def test_a_finding_the_suggested_fix_leaves_names_the_finding_that_carries_it(tmp_path):
+    """Perry's liquid of CAS 590-67-0 (via chemicals) with the sign of B lost, beside the
+    CRC_ORG boiling point that it misses as carried: the sign fix is suggested on
+    slope-not-positive, and asking to apply it through the boiling-point finding it does
+    not explain says where the fix is, and changes nothing."""
+    import csv
+    import sys
+
+    sys.path.insert(0, str(Path(__file__).resolve().parent / "_support"))
+    from compilations import perry
+
+    records, refs = perry()
+    rec = next(r for r in records if r["id"] == "590-67-0-pe")
+    cols = ["id", "substance", "phase", "form", "log_base", "pressure_unit"]
+    cols += ["A", "B", "C", "D", "E", "t_min", "t_max", "source"]
+    (tmp_path / "records").mkdir()
+    (tmp_path / "references").mkdir()
+    with open(tmp_path / "records" / "r.csv", "w", newline="", encoding="utf-8") as f:
+        w = csv.DictWriter(f, cols, extrasaction="ignore")
+        w.writeheader()
+        w.writerow(
+            {k: repr(v) if isinstance(v, float) else v for k, v in rec.items()}
+            | {"B": repr(-rec["B"])}
+        )
+    with open(tmp_path / "references" / "x.csv", "w", newline="", encoding="utf-8") as f:
+        w = csv.DictWriter(f, ["substance", "quantity", "value", "unit", "source"])
+        w.writeheader()
+        w.writerows(r for r in refs if r["substance"] == rec["substance"])
+    before = (tmp_path / "records" / "r.csv").read_bytes()
+    run = CliRunner().invoke(main, ["apply", str(tmp_path), "boiling-point-mismatch:590-67-0-pe"])
+    assert run.exit_code == 2
+    assert "the fix suggested for 590-67-0 (slope-not-positive:590-67-0-pe)" in run.output
+    assert (tmp_path / "records" / "r.csv").read_bytes() == before
+    run = CliRunner().invoke(main, ["apply", str(tmp_path), "slope-not-positive:590-67-0-pe"])
+    assert run.exit_code == 0, run.output
+    assert "B: " in run.output
+
+
 def test_review_walks_the_suggestions(table):
     # apply the first, skip the second, stop at the third
     run = CliRunner().invoke(main, ["review", str(table), "--by", "tester"], input="a\ns\nq\n")

@@ -517,7 +517,21 @@ def apply_finding(
     records = table.records
     subs = sorted(set(records.loc[records["id"].isin(ids), "substance"].astype(object)))
     policy = load_policy(table.policy_path)
-    finding = find_finding(audit_table(table, policy, substances=subs or None), check, ids)
+    result = audit_table(table, policy, substances=subs or None)
+    finding = find_finding(result, check, ids)
+    if not finding.suggestion:
+        # a fix suggested for the substance on another finding, which it does not explain
+        other = next(
+            (f for f in result.findings if f.substance == finding.substance and f.suggestion),
+            None,
+        )
+        if other is not None:
+            raise RevisionError(
+                f"finding {finding.check}:{','.join(finding.records)} carries no suggestion: "
+                f"the fix suggested for {finding.substance} "
+                f"({other.check}:{','.join(other.records)}) does not explain it; apply that "
+                "one, or correct the record by hand"
+            )
     entries = apply_suggestion(table_path, table, finding, reason, by)
     after = audit_table(open_table(table_path), policy, substances=subs or None)
     remaining = sum(g.severity.rank >= 1 for g in after.findings)

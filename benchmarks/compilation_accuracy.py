@@ -316,6 +316,30 @@ def cross_validation() -> None:
         )
 
 
+def _seeded_order(records, refs, seed):
+    """The records by substance, the substances in one seeded order, each one's position in
+    it, and the references by substance: what both ways of planting slips draw from."""
+    by_sub: dict[str, list[dict]] = {}
+    for r in records:
+        by_sub.setdefault(r["substance"], []).append(r)
+    order = sorted(by_sub)
+    random.Random(seed).shuffle(order)
+    refs_by: dict[str, list[dict]] = {}
+    for r in refs:
+        refs_by.setdefault(r["substance"], []).append(r)
+    return by_sub, order, {s: k for k, s in enumerate(order)}, refs_by
+
+
+def _draw(sub, by_sub, position, seed, kinds):
+    """Substance ``sub``'s slip, from its own generator: (its position, the generator, the
+    kind of slip, its records, the record that takes the slip)."""
+    k = position[sub]
+    rng = random.Random(f"{seed}:{sub}")
+    rs = by_sub[sub]
+    kind = kinds[k % len(kinds)]
+    return k, rng, kind, rs, rng.choice(rs)
+
+
 def planted(name, records, refs, flagged_clean, sample, seed):
     """One slip in one record of each of ``sample`` clean substances (no error before).
 
@@ -324,23 +348,11 @@ def planted(name, records, refs, flagged_clean, sample, seed):
     a check's verdict on one clean substance adds or removes that substance alone, so runs
     of two versions of the code compare the same planted slips.
     """
-    by_sub: dict[str, list[dict]] = {}
-    for r in records:
-        by_sub.setdefault(r["substance"], []).append(r)
-    order = sorted(by_sub)
-    random.Random(seed).shuffle(order)
+    by_sub, order, position, refs_by = _seeded_order(records, refs, seed)
     clean = [s for s in order if not any(r["id"] in flagged_clean for r in by_sub[s])]
-    position = {s: k for k, s in enumerate(order)}
     cases, recs, out_refs = [], [], []
-    refs_by = {}
-    for r in refs:
-        refs_by.setdefault(r["substance"], []).append(r)
     for sub in clean[:sample]:
-        k = position[sub]
-        rng = random.Random(f"{seed}:{sub}")
-        kind = SLIP_KINDS[k % len(SLIP_KINDS)]
-        rs = by_sub[sub]
-        target = rng.choice(rs)
+        k, rng, kind, rs, target = _draw(sub, by_sub, position, seed, list(SLIP_KINDS))
         if kind == "phase-swap":
             if len({r["phase"] for r in rs}) < 2:
                 kind = "sign"
@@ -421,24 +433,12 @@ def planted_in_troubled(name, records, refs, flagged_clean, sample, seed):
     a new error (check and records) on the slipped record; right, the substance's suggestion
     undoes the planted slip; silent, no suggestion; other, a suggestion for another record.
     """
-    by_sub: dict[str, list[dict]] = {}
-    for r in records:
-        by_sub.setdefault(r["substance"], []).append(r)
-    order = sorted(by_sub)
-    random.Random(seed).shuffle(order)
+    by_sub, order, position, refs_by = _seeded_order(records, refs, seed)
     troubled = [s for s in order if any(r["id"] in flagged_clean for r in by_sub[s])]
-    position = {s: k for k, s in enumerate(order)}
-    refs_by: dict[str, list[dict]] = {}
-    for r in refs:
-        refs_by.setdefault(r["substance"], []).append(r)
     kinds = [k for k in SLIP_KINDS if k != "phase-swap"]
     cases, recs, plain, out_refs = [], [], [], []
     for sub in troubled[:sample]:
-        k = position[sub]
-        rng = random.Random(f"{seed}:{sub}")
-        kind = kinds[k % len(kinds)]
-        rs = by_sub[sub]
-        target = rng.choice(rs)
+        k, rng, kind, rs, target = _draw(sub, by_sub, position, seed, kinds)
         got = corrupt(target, kind, rng)
         if got is None:
             got, kind = corrupt(target, "sign", rng), "sign"

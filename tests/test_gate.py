@@ -53,6 +53,15 @@ def _head_change(repo):
     return metals
 
 
+def _edit_record(path, rid, old, new):
+    """Replace ``old`` by ``new`` in the line of record ``rid`` of the CSV file ``path``."""
+    lines = path.read_text().splitlines(keepends=True)
+    at = next(i for i, line in enumerate(lines) if line.startswith(f"{rid},"))
+    assert old in lines[at]
+    lines[at] = lines[at].replace(old, new)
+    path.write_text("".join(lines))
+
+
 def run(*args):
     return CliRunner().invoke(main, [str(a) for a in args], catch_exceptions=False)
 
@@ -129,11 +138,7 @@ def test_the_gates_csv_says_which_findings_are_new(repo, tmp_path):
 
     metals = _head_change(repo)
     # and bellorium re-entered by another hand: re-audited, its log-base error is not new
-    lines = metals.read_text().splitlines(keepends=True)
-    k = next(i for i, line in enumerate(lines) if line.startswith("bellorium-l1,"))
-    assert ",demo generator," in lines[k]
-    lines[k] = lines[k].replace(",demo generator,", ",demo steward,")
-    metals.write_text("".join(lines))
+    _edit_record(metals, "bellorium-l1", ",demo generator,", ",demo steward,")
     git(repo, "commit", "-qam", "bellorium re-entered")
     out_csv, out_json = tmp_path / "gate.csv", tmp_path / "gate.json"
     for fmt, out in (("csv", out_csv), ("json", out_json)):
@@ -191,11 +196,7 @@ def test_a_change_that_mends_a_record_lists_what_it_cleared(repo, tmp_path):
 
     metals = repo / "table" / "records" / "metals.csv"
     before = audit(repo / "table")
-    lines = metals.read_text().splitlines(keepends=True)
-    at = next(i for i, line in enumerate(lines) if line.startswith("bellorium-l1,"))
-    assert ",liquid,,three-term,e,Pa," in lines[at]
-    lines[at] = lines[at].replace(",three-term,e,Pa,", ",three-term,10,Pa,")
-    metals.write_text("".join(lines))
+    _edit_record(metals, "bellorium-l1", ",liquid,,three-term,e,Pa,", ",liquid,,three-term,10,Pa,")
     git(repo, "commit", "-qam", "mend bellorium-l1")
     after = audit(repo / "table")
     cleared = {k for k in before.findings.keys() if k[1] == "bellorium"} - set(

@@ -219,6 +219,11 @@ def test_convert_is_exact_when_it_can_be_and_refits_otherwise():
     assert np.max(np.abs(two["A"] + two["B"] / t - y)) <= dev * (1 + 1e-9)
     with pytest.raises(EquationError, match="deviates"):
         convert_or_refit(rec, form="two-term", max_deviation=1e-6)
+    # a range that starts at 0 K (range-invalid in the audit) cannot be sampled: said, not a
+    # ZeroDivisionError (found by fuzzing the command line)
+    for t_min, t_max in ((0.0, 1200.0), (-5.0, 1200.0), (800.0, float("nan"))):
+        with pytest.raises(EquationError, match="no range a refit could sample"):
+            convert_or_refit(dict(rec, t_min=t_min, t_max=t_max), form="antoine")
 
 
 @settings(max_examples=150, deadline=None, derandomize=True)

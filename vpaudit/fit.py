@@ -760,6 +760,12 @@ def convert_or_refit(
     fields = {"id": "x", "substance": "x", "phase": "liquid", "source": "x", **fields}
     curve = curves_from_frame(records_table([fields]).records)  # the reader's own path
     lo, hi = float(curve.t_min[0]), float(curve.t_max[0])
+    if not (0.0 < lo <= hi < math.inf):  # NaN fails too
+        raise EquationError(
+            f"record {record.get('id', '?')!r} has no range a refit could sample "
+            f"({record.get('t_min')}..{record.get('t_max')} K, in K: {lo:g}..{hi:g}): "
+            "give it a range of positive temperatures (the audit's range-invalid says why)"
+        )
     t = 1.0 / np.linspace(1.0 / hi, 1.0 / lo, 200)
     y = evaluate(curve, t, 0)[0].reshape(-1)
     if target_form in WAGNER:

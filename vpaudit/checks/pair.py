@@ -818,7 +818,7 @@ def solid_above_melting(ctx: AuditContext, th: dict[str, float]):
     315 K; ``python benchmarks/calibrate.py --solid-ranges``). A range that only ends above
     the melting point is not tested here: its pair checks see where the curves meet.
     """
-    solid = ctx.solid & np.isfinite(ctx.curves.t_min)
+    solid = ctx.solid & np.isfinite(ctx.curves.t_min) & (ctx.codes >= 0)
     if not solid.any():
         return
     refs = ctx.references_of("melting_point")

@@ -316,6 +316,12 @@ def cross_validation() -> None:
         )
 
 
+def _first_suggestion(findings):
+    """The substance's suggestion (not a second slip beside it, which names ``beside``)."""
+    sugs = [f.suggestion for f in findings if f.suggestion]
+    return next((g for g in sugs if "beside" not in g), sugs[0] if sugs else None)
+
+
 def _seeded_order(records, refs, seed):
     """The records by substance, the substances in one seeded order, each one's position in
     it, and the references by substance: what both ways of planting slips draw from."""
@@ -395,7 +401,7 @@ def planted(name, records, refs, flagged_clean, sample, seed):
                 print(f"      missed {kind} in {rid}: {_describe(original, bad)}")
                 for f in fs:
                     print(f"        {f.severity.value} {f.check}: {f.message[:160]}")
-        sug = next((f.suggestion for f in fs if f.suggestion), None)
+        sug = _first_suggestion(fs)
         if sug is None:
             silent_flagged += flagged
             continue
@@ -465,7 +471,7 @@ def planted_in_troubled(name, records, refs, flagged_clean, sample, seed):
             f.severity.value == "error" and rid in f.records and (f.check, f.records) not in had
             for f in fs
         )
-        sug = next((f.suggestion for f in fs if f.suggestion), None)
+        sug = _first_suggestion(fs)
         ok = False
         if sug is None:
             silent += 1
@@ -502,7 +508,7 @@ def new_defects(result, recs: list[dict], refs: list[dict]) -> list[tuple[str, l
     for f in result.findings:
         if f.severity.value == "error":
             before.setdefault(f.substance, set()).add((f.check, f.records))
-        if f.suggestion and f.substance not in first:
+        if f.suggestion and "beside" not in f.suggestion and f.substance not in first:
             first[f.substance] = f.suggestion
     if not first:
         return []

@@ -286,6 +286,42 @@ def test_a_disagreement_no_single_slip_explains_gets_no_suggestion():
     assert all(f.suggestion is None for f in flagged)
 
 
+def test_a_second_slip_on_the_partner_record_gets_its_own_possible_fix(tmp_path):
+    """The demo's bellorium (invented) carries a log-base slip on its liquid; a pull request
+    then loses the sign of B on its solid. One slip per substance cannot explain both: the
+    liquid's fix is offered where it clears the liquid's error, and the solid's own errors
+    carry the sign fix as a second slip beside it, each at even odds at most."""
+    import shutil
+    from pathlib import Path
+
+    root = tmp_path / "db"
+    shutil.copytree(Path(__file__).resolve().parents[1] / "sample_db", root)
+    metals = root / "records" / "metals.csv"
+    lines = metals.read_text().splitlines(keepends=True)
+    at = next(i for i, line in enumerate(lines) if line.startswith("bellorium-s1,"))
+    assert ",-14736.5418," in lines[at]
+    lines[at] = lines[at].replace(",-14736.5418,", ",14736.5418,")
+    metals.write_text("".join(lines))
+    result = audit(root, substances=["bellorium"])
+    by_check = {f.check: f.suggestion for f in result.findings}
+    first, second = by_check["enthalpy-implausible"], by_check["slope-not-positive"]
+    assert (first["kind"], first["record"], first["corrected"]) == (
+        "log-base",
+        "bellorium-l1",
+        {"log_base": "10"},
+    )
+    assert (second["kind"], second["record"], second["corrected"]) == (
+        "sign",
+        "bellorium-s1",
+        {"B": -14736.5418},
+    )
+    assert second["beside"] == "bellorium-l1" and "beside" not in first
+    assert first["confidence"] <= 0.5 and second["confidence"] <= 0.5
+    assert "A second slip beside the fix suggested for bellorium-l1" in second["explanation"]
+    # the solid/liquid mismatch needs both fixes: it carries neither
+    assert by_check["melting-point-mismatch"] is None
+
+
 def test_sample_table_every_planted_slip_has_the_right_suggestion():
     import csv
     from pathlib import Path
@@ -737,7 +773,10 @@ def test_a_fix_that_brings_its_record_back_to_its_sources_keeps_its_confidence()
         if r["id"] == "123-96-6-pw":
             r["log_base"] = "10"
     result = audit_table(table_from_rows(recs, [r for r in refs if r["substance"] == sub]))
-    sug = next(f.suggestion for f in result.findings if f.suggestion)
+    # the substance's fix (McGarry's equation may carry a second, possible, one beside it)
+    sug = next(
+        f.suggestion for f in result.findings if f.suggestion and "beside" not in f.suggestion
+    )
     assert (sug["kind"], sug["record"]) == ("log-base", "123-96-6-pw")
     assert sug["confidence"] >= 0.8
     assert "farther from an independent witness" not in sug["explanation"]

@@ -56,7 +56,9 @@ suggestion is its posterior through a Platt scaling; T, P0 and the cap were chos
 scaling fitted, on corrupted real data (``benchmarks/diagnosis_accuracy.py``,
 docs/diagnosis.md) so that a confidence c is right about a fraction c of the time. When the
 evidence does not single out one fix the suggestion is ``None``; when the runner-up is
-close it is reported too.
+close it is reported too. A fix that leaves an error no single slip explains is held at even
+odds; when it leaves one on a record it does not touch, a fix of that record may be offered
+beside it, held too (``scoring._second_fix``).
 """
 
 from __future__ import annotations

@@ -335,13 +335,7 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
         # the problem it leaves: a solid and liquid 0.38 apart in ln P at the melting
         # point are made to cross by many a fix). Its confidence is held below, and the
         # suggestion names what it leaves.
-        unexplained = set(errors_before)
-        for c, o, bad in zip(cands, outs, harmful, strict=True):
-            own_errors = [
-                f for f in o.findings if f.severity is Severity.error and ctx.id(c.row) in f.records
-            ]
-            if not bad and not own_errors:
-                unexplained &= {_key(f) for f in o.findings if f.severity is Severity.error}
+        unexplained = _unexplained(ctx, cands, outs, harmful, errors_before)
         own = any(key[1] == (rid,) for key in cleared & errors_before)
         if not own or any(_key(f) not in unexplained for f in left):
             return {"suggestion": None, "clears": set(), "none": float(post[0])}
@@ -368,7 +362,79 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
         sug["runner_up"] = _suggestion(ctx, cands[k2], outs[k2], c2, cleared2, before, ks2, cands)
         sug["explanation"] += f" Close runner-up ({c2:.2f}): {cands[k2].label}."
     leaves = _errors_and_warnings(outs[best]) & before
-    return {"suggestion": sug, "clears": cleared, "leaves": leaves, "none": float(post[0])}
+    out = {"suggestion": sug, "clears": cleared, "leaves": leaves, "none": float(post[0])}
+    second = _second_fix(ctx, cands, outs, harmful, post, best, before, errors_before, cal)
+    if second is not None:
+        out["second"] = second
+    return out
+
+
+def _unexplained(ctx, cands, outs, harmful, errors_before: set) -> set:
+    """The errors as written that no single slip explains: that no candidate clears while
+    leaving its own record without an error (one that trades an error for another explains
+    nothing).
+    """
+    unexplained = set(errors_before)
+    for c, o, bad in zip(cands, outs, harmful, strict=True):
+        rid = ctx.id(c.row)
+        if not bad and not any(
+            f.severity is Severity.error and rid in f.records for f in o.findings
+        ):
+            unexplained &= {_key(f) for f in o.findings if f.severity is Severity.error}
+    return unexplained
+
+
+def _second_fix(ctx, cands, outs, harmful, post, best, before, errors_before, cal):
+    """A fix of another record of the substance, when the chosen one leaves an error it
+    does not explain on a record it does not touch: two records may each carry a slip (a
+    new one beside an old one). The likeliest candidate of another record that clears an
+    error of its record alone and one of those the first fix leaves, and leaves on its
+    record only errors no single slip explains; held at even odds at most, as a fix weighed
+    one slip at a time. Returns {"suggestion", "clears", "leaves"} or None.
+    """
+    row1 = cands[best].row
+    left1 = {
+        _key(f)
+        for f in outs[best].findings
+        if f.severity is Severity.error and ctx.id(row1) not in f.records
+    }
+    if not left1:
+        return None
+    unexplained = None
+    # weighed against the other readings of the records the first fix leaves alone (and no
+    # slip at all): given that one, how likely each of them is
+    apart = np.array([not any(ch.row == row1 for ch in c.changes) for c in cands], dtype=bool)
+    norm = float(post[0] + post[1:][apart].sum())
+    for k in np.argsort(-post[1:], kind="stable").tolist():
+        if post[1 + k] < 1e-4:
+            break
+        c = cands[k]
+        if harmful[k] or not apart[k]:
+            continue
+        rid = ctx.id(c.row)
+        cleared = before - _errors_and_warnings(outs[k])
+        if not (cleared & left1) or not any(key[1] == (rid,) for key in cleared & errors_before):
+            continue
+        if unexplained is None:
+            unexplained = _unexplained(ctx, cands, outs, harmful, errors_before)
+        left = {
+            _key(f) for f in outs[k].findings if f.severity is Severity.error and rid in f.records
+        }
+        if not left <= unexplained:
+            continue
+        conf = min(_stated(float(post[1 + k]) / norm, cal), SCATTER_CAP)
+        sug = _suggestion(ctx, c, outs[k], conf, cleared, before, [k], cands, held=True)
+        sug["beside"] = ctx.id(row1)  # the record of the substance's first suggestion
+        sug["explanation"] += (
+            f" A second slip beside the fix suggested for {ctx.id(row1)}: each is weighed as"
+            " if it were the only one, so neither is stated as more than possible."
+        )
+        return {
+            "suggestion": sug,
+            "clears": cleared,
+            "leaves": _errors_and_warnings(outs[k]) & before,
+        }
+    return None
 
 
 def _held_because(ctx: AuditContext, base: _Outcome, out: _Outcome, cand: Candidate) -> list:
@@ -651,16 +717,16 @@ def attach_suggestions(ctx: AuditContext, findings: Findings, limit: int = DIAGN
     columns = zip(findings.substance, findings.severity, findings.records, strict=True)
     for k, (sub, sev, recs) in enumerate(columns):
         d = diag.get(sub)
-        sug = d["suggestion"] if d else None
-        if (
-            sug is not None
-            and sev.rank >= 1
-            and (
-                _key(findings[k]) in d["clears"]
-                or (sug["record"] in recs and _key(findings[k]) not in d.get("leaves", ()))
-            )
-        ):
-            findings.set(k, suggestion=sug)
-            if sug["record"] in recs:
-                findings.set(k, **sug["location"])
+        if not d or d["suggestion"] is None or sev.rank < 1:
+            continue
+        key = _key(findings[k])
+        for fix in (d, d.get("second")):
+            sug = fix["suggestion"] if fix else None
+            if sug is not None and (
+                key in fix["clears"] or (sug["record"] in recs and key not in fix["leaves"])
+            ):
+                findings.set(k, suggestion=sug)
+                if sug["record"] in recs:
+                    findings.set(k, **sug["location"])
+                break
     return skipped

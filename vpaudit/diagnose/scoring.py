@@ -234,7 +234,8 @@ def diagnose(
     -------
     dict
         Substance -> ``{"suggestion": dict or None, "clears": set of finding keys, "leaves":
-        the keys of the errors and warnings it leaves (with a suggestion)}``.
+        the keys of the errors and warnings it leaves (with a suggestion), "second": a fix of
+        another record beside it (where there is one)}``.
     """
     return {
         name: choose(ctx, h, calibration)
@@ -246,7 +247,9 @@ def diagnose(
 def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None) -> dict:
     """Weigh the audited candidates of one substance (from :func:`hypotheses`) and return
     ``{"suggestion": dict or None, "clears": set of finding keys, "none": float}``, and with
-    a suggestion ``"leaves"``: the keys of the errors and warnings the fix leaves.
+    a suggestion ``"leaves"``: the keys of the errors and warnings the fix leaves, and
+    ``"second"`` where a fix of a second slip in another record goes beside it
+    (:func:`_second_fix`).
     """
     cal = {**CALIBRATION, **(calibration or {})}
     base, cands, outs, dropped = hypothesis

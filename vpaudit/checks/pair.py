@@ -1,7 +1,9 @@
-"""Checks of solid/liquid pairs of one substance: the triple point and Hess's law.
+"""Checks of solid/liquid pairs of one substance, and of a solid against its melting point:
+the triple point, Hess's law, and where a solid can exist.
 
 At the triple point the solid's and the liquid's vapour pressures are equal, the solid curve
-is the steeper one (d(y_s - y_l)/dT = dH_fus/(R T^2) > 0), and dH_sub = dH_fus + dH_vap.
+is the steeper one (d(y_s - y_l)/dT = dH_fus/(R T^2) > 0), and dH_sub = dH_fus + dH_vap; no
+solid exists above it (``solid-above-melting``).
 """
 
 from __future__ import annotations

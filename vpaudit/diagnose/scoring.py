@@ -7,6 +7,7 @@ from __future__ import annotations
 import math
 from collections import defaultdict
 from dataclasses import dataclass
+from functools import cache
 
 import numpy as np
 
@@ -324,6 +325,8 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
         # transcription slip: a fix that clears no error is not suggested
         return {"suggestion": None, "clears": set(), "none": float(post[0])}
     rid = ctx.id(cands[best].row)
+    # the errors no single slip explains, made once and only when asked for
+    unexplained = cache(lambda: _unexplained(ctx, cands, outs, harmful, errors_before))
     # the errors on the fixed record that the fix leaves
     left = [f for f in outs[best].findings if f.severity is Severity.error and rid in f.records]
     if cal["require_clear"] and left:
@@ -338,9 +341,7 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
         # the problem it leaves: a solid and liquid 0.38 apart in ln P at the melting
         # point are made to cross by many a fix). Its confidence is held below, and the
         # suggestion names what it leaves.
-        unexplained = _unexplained(ctx, cands, outs, harmful, errors_before)
-        own = any(key[1] == (rid,) for key in cleared & errors_before)
-        if not own or any(_key(f) not in unexplained for f in left):
+        if not _fixes_its_record(ctx, cands[best], outs[best], cleared, errors_before, unexplained):
             return {"suggestion": None, "clears": set(), "none": float(post[0])}
     conf = _stated(raw, cal)
     held = _held_because(ctx, base, outs[best], cands[best])
@@ -366,7 +367,9 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
         sug["explanation"] += f" Close runner-up ({c2:.2f}): {cands[k2].label}."
     leaves = _errors_and_warnings(outs[best]) & before
     out = {"suggestion": sug, "clears": cleared, "leaves": leaves, "none": float(post[0])}
-    second = _second_fix(ctx, cands, outs, harmful, post, best, before, errors_before, cal)
+    second = _second_fix(
+        ctx, cands, outs, harmful, post, best, before, errors_before, unexplained, cal
+    )
     if second is not None:
         out["second"] = second
     return out
@@ -387,7 +390,19 @@ def _unexplained(ctx, cands, outs, harmful, errors_before: set) -> set:
     return unexplained
 
 
-def _second_fix(ctx, cands, outs, harmful, post, best, before, errors_before, cal):
+def _fixes_its_record(ctx, cand, out, cleared: set, errors_before: set, unexplained) -> bool:
+    """Whether the fix ``cand`` (outcome ``out``, clearing ``cleared``) clears an error of
+    its record alone and leaves on it only errors no single slip explains
+    (``unexplained()``, :func:`_unexplained`).
+    """
+    rid = ctx.id(cand.row)
+    if not any(key[1] == (rid,) for key in cleared & errors_before):
+        return False
+    left = {_key(f) for f in out.findings if f.severity is Severity.error and rid in f.records}
+    return left <= unexplained()
+
+
+def _second_fix(ctx, cands, outs, harmful, post, best, before, errors_before, unexplained, cal):
     """A fix of another record of the substance, when the chosen one leaves an error it
     does not explain on a record it does not touch: two records may each carry a slip (a
     new one beside an old one). The likeliest candidate of another record that clears an
@@ -403,7 +418,6 @@ def _second_fix(ctx, cands, outs, harmful, post, best, before, errors_before, ca
     }
     if not left1:
         return None
-    unexplained = None
     # weighed against the other readings of the records the first fix leaves alone (and no
     # slip at all): given that one, how likely each of them is
     apart = np.array([not any(ch.row == row1 for ch in c.changes) for c in cands], dtype=bool)
@@ -414,16 +428,10 @@ def _second_fix(ctx, cands, outs, harmful, post, best, before, errors_before, ca
         c = cands[k]
         if harmful[k] or not apart[k]:
             continue
-        rid = ctx.id(c.row)
         cleared = before - _errors_and_warnings(outs[k])
-        if not (cleared & left1) or not any(key[1] == (rid,) for key in cleared & errors_before):
+        if not cleared & left1:
             continue
-        if unexplained is None:
-            unexplained = _unexplained(ctx, cands, outs, harmful, errors_before)
-        left = {
-            _key(f) for f in outs[k].findings if f.severity is Severity.error and rid in f.records
-        }
-        if not left <= unexplained:
+        if not _fixes_its_record(ctx, c, outs[k], cleared, errors_before, unexplained):
             continue
         conf = min(_stated(float(post[1 + k]) / norm, cal), SCATTER_CAP)
         sug = _suggestion(ctx, c, outs[k], conf, cleared, before, [k], cands, held=True)

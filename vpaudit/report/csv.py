@@ -31,7 +31,7 @@ CHUNK = 20_000
 def chunks(result) -> Iterator[str]:
     """The CSV text of :func:`render`, in pieces that join to it, a chunk of findings each."""
     findings = result.findings
-    gated = getattr(result, "gated", False)
+    gated = result.gated
     for a in range(0, max(len(findings), 1), CHUNK):
         buf = io.StringIO()
         w = csv.writer(buf, lineterminator="\n")

@@ -435,9 +435,11 @@ def planted_in_troubled(name, records, refs, flagged_clean, sample, seed):
     curve misses, ...): the diagnosis must name the planted slip although another problem
     stays. The same seeded orders as :func:`planted`.
 
-    Returns (cases, detected, right, confident, confident wrong, silent, other): detected is
-    a new error (check and records) on the slipped record; right, the substance's suggestion
-    undoes the planted slip; silent, no suggestion; other, a suggestion for another record.
+    Returns (cases, detected, right, confident, confident wrong, silent, other, second):
+    detected is a new error (check and records) on the slipped record; right, the
+    substance's suggestion undoes the planted slip; silent, no suggestion; other, a
+    suggestion for another record; second, of those, the fix offered beside it (a second
+    slip, ``beside``) undoes the planted one.
     """
     by_sub, order, position, refs_by = _seeded_order(records, refs, seed)
     troubled = [s for s in order if any(r["id"] in flagged_clean for r in by_sub[s])]
@@ -464,19 +466,28 @@ def planted_in_troubled(name, records, refs, flagged_clean, sample, seed):
     by_new: dict[str, list] = {}
     for f in result.findings:
         by_new.setdefault(f.substance, []).append(f)
-    det = right = conf = cw = silent = other = 0
+    det = right = conf = cw = silent = other = second = 0
     for new, kind, rid, original, bad in cases:
         fs = by_new.get(new, [])
-        det += any(
+        seen = any(
             f.severity.value == "error" and rid in f.records and (f.check, f.records) not in had
             for f in fs
         )
+        det += seen
         sug = _first_suggestion(fs)
         ok = False
         if sug is None:
             silent += 1
         elif sug["record"] != rid:
             other += 1
+            # the planted slip named by the fix offered beside the substance's first one
+            second += any(
+                f.suggestion
+                and "beside" in f.suggestion
+                and f.suggestion["record"] == rid
+                and reproduces(original, dict(bad, id=rid), f.suggestion)
+                for f in fs
+            )
         else:
             ok = reproduces(original, dict(bad, id=rid), sug)
         right += ok
@@ -485,11 +496,13 @@ def planted_in_troubled(name, records, refs, flagged_clean, sample, seed):
             if sug is not None:
                 what = f"{sug['kind']} on {sug['record']} {sug['corrected']}"
                 what += f" at {sug['confidence']:.2f}"
+            if not seen:
+                what += " (no new error: not detected)"
             print(f"      {kind} in {rid}: {_describe(original, bad)}\n        {what}")
         if sug is not None and sug["confidence"] >= 0.8:
             conf += 1
             cw += not ok
-    return len(cases), det, right, conf, cw, silent, other
+    return len(cases), det, right, conf, cw, silent, other, second
 
 
 SHOW_MISSED = False
@@ -614,17 +627,17 @@ def main() -> None:
     if args.troubled:
         print(
             "compilation      planted  detected  top-1 right  no suggestion  another record"
-            "  confident  confident wrong"
+            " (second fix right)  confident  confident wrong"
         )
         for name in [args.only] if args.only else COMPILATIONS:
             records, refs, flagged, _, _ = clean_errors(name)
-            n, det, right, conf, cw, silent, other = planted_in_troubled(
+            n, det, right, conf, cw, silent, other, second = planted_in_troubled(
                 name, records, refs, flagged, args.sample, args.seed
             )
             if n:
                 print(
                     f"{name:15s} {n:8d} {det / n:9.1%} {right / n:12.1%} {silent:14d}"
-                    f" {other:15d} {conf:10d} {(cw / conf if conf else 0):16.1%}"
+                    f" {other:15d} {second:19d} {conf:10d} {(cw / conf if conf else 0):16.1%}"
                 )
         return
     print(

@@ -318,6 +318,8 @@ def test_a_second_slip_on_the_partner_record_gets_its_own_possible_fix(tmp_path)
     assert second["beside"] == "bellorium-l1" and "beside" not in first
     assert first["confidence"] <= 0.5 and second["confidence"] <= 0.5
     assert "A second slip beside the fix suggested for bellorium-l1" in second["explanation"]
+    # the liquid's fix is held, among other reasons, because of the solid: named so
+    assert "With it, bellorium-s1 still falls with temperature" in first["explanation"]
     # the solid/liquid mismatch needs both fixes: it carries neither
     assert by_check["melting-point-mismatch"] is None
 

@@ -473,11 +473,24 @@ def _held_because(ctx: AuditContext, base: _Outcome, out: _Outcome, cand: Candid
         )
     flattest = _flattest_slope(out)
     if flattest is not None and flattest < FLATTEST_REAL:
-        held.append(
-            f"With it, a curve of {ctx.substance_of(cand.row)} is still flatter than any real "
-            f"vapour-pressure curve (d ln P/d ln T down to {flattest:.2g}, below "
-            f"{FLATTEST_REAL:g}): the fix does not make the records plausible"
+        # the record the slope checks name, else the substance (a grid point the checks'
+        # extrema do not single out)
+        flat = sorted(
+            {
+                r
+                for f in out.findings
+                if f.check in ("slope-not-positive", "slope-too-flat")
+                for r in f.records
+            }
         )
+        which = " and ".join(flat) if flat else f"a curve of {ctx.substance_of(cand.row)}"
+        how = (
+            f"still falls with temperature (d ln P/d ln T down to {flattest:.2g})"
+            if flattest <= 0
+            else "is still flatter than any real vapour-pressure curve (d ln P/d ln T down "
+            f"to {flattest:.2g}, below {FLATTEST_REAL:g})"
+        )
+        held.append(f"With it, {which} {how}: the fix does not make the records plausible")
     return held
 
 

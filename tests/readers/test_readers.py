@@ -6,6 +6,8 @@ import pyarrow as pa
 import pyarrow.parquet as pq
 import pytest
 from conftest import write
+from hypothesis import given
+from hypothesis import strategies as st
 
 from vpaudit.errors import TableError, TableErrors
 from vpaudit.readers import load_table, read_file
@@ -420,3 +422,37 @@ def test_a_file_of_a_million_columns_is_refused_before_it_is_parsed(tmp_path, su
 def test_deep_nesting_is_a_located_error_not_a_recursion_error(tmp_path, name, text):
     (msg,) = errors_of(write(tmp_path / name, text))
     assert "malformed" in msg or "expected" in msg
+
+
+def test_no_two_columns_of_a_kind_differ_only_in_spelling():
+    """A column name misspelt in case, spacing or underscores points at one column only:
+    no two columns of one kind of file squash to the same name."""
+    from vpaudit.readers.table import _SPECS, _squashed
+
+    for kind, spec in _SPECS.items():
+        names = [c.name for c in spec]
+        assert len({_squashed(n) for n in names}) == len(names), kind
+
+
+@given(
+    kind=st.sampled_from(["records", "references", "points"]),
+    pick=st.integers(min_value=0),
+    flips=st.lists(st.booleans(), min_size=40, max_size=40),
+    spaced=st.sampled_from(["", " ", "-"]),
+    unit=st.sampled_from(["", " (K)", " [Pa]", "(J/mol)"]),
+)
+def test_a_misspelt_header_is_pointed_at_its_column(kind, pick, flips, spaced, unit):
+    """Any change of case, underscores written as spaces or hyphens, and a unit in brackets
+    after the name: the reader's hint names the column meant, and never a column for its
+    own exact name (property-based)."""
+    from vpaudit.readers.table import _SPECS, near_column
+
+    names = [c.name for c in _SPECS[kind]]
+    name = names[pick % len(names)]
+    written = "".join(
+        (ch.swapcase() if flip else ch) for ch, flip in zip(name, flips, strict=False)
+    )
+    written = written.replace("_", spaced) + unit
+    assert near_column(name, names) is None
+    if written != name:
+        assert near_column(written, names) == name

@@ -14,6 +14,7 @@ Only rows that fail get a per-row message. Two kinds of problem are kept apart:
 
 from __future__ import annotations
 
+import re
 import tomllib
 from collections.abc import Iterable
 from concurrent.futures import ThreadPoolExecutor
@@ -110,6 +111,24 @@ POINT_COLUMNS: tuple[_Col, ...] = (
     _Col("note", "text"),
 )
 _SPECS = {"records": RECORD_COLUMNS, "references": REFERENCE_COLUMNS, "points": POINT_COLUMNS}
+
+
+def _squashed(name: str) -> str:
+    """A column name without case, spaces, underscores, hyphens and a trailing unit in
+    brackets: ``Tmin (K)``, ``T_MIN`` and ``t_min`` are one name to :func:`near_column`.
+    """
+    name = re.sub(r"\s*[(\[][^)\]]*[)\]]\s*$", "", str(name))
+    return re.sub(r"[\s_\-]", "", name).casefold()
+
+
+def near_column(name: str, valid: Iterable[str]) -> str | None:
+    """The valid column that ``name`` spells differently only in case, spacing,
+    underscores or a unit in brackets (``Substance`` for ``substance``, ``Tmin (K)`` for
+    ``t_min``); None when there is none or more than one.
+    """
+    want = _squashed(name)
+    hits = [v for v in valid if v != name and _squashed(v) == want]
+    return hits[0] if len(hits) == 1 else None
 
 
 def detect_kind(columns: Iterable[str]) -> str | None:
@@ -259,7 +278,14 @@ def _column(raw: RawFrame, col: _Col, normalize: bool) -> tuple[dict[str, object
     n = len(raw)
     present = col.name in raw.cells
     if col.required and not present:
-        out.error(raw, None, col.name, f"required column {col.name!r} is missing")
+        near = near_column(col.name, raw.columns)
+        out.error(
+            raw,
+            None,
+            col.name,
+            f"required column {col.name!r} is missing"
+            + (f" (the file has {near!r})" if near is not None else ""),
+        )
         if col.kind == "number":
             return {col.name: np.full(n, np.nan), col.name + "_text": pa.nulls(n, pa.string())}, out
         return {col.name: pa.nulls(n, pa.string())}, out
@@ -315,12 +341,17 @@ def frame_from_raw(
     known = {c.name for c in spec}
     for name in raw.columns:
         if name not in known:
+            near = near_column(name, known)
             out.error(
                 raw,
                 None,
                 name,
-                f"unknown column {name!r} for {kind}; valid columns: "
-                f"{', '.join(c.name for c in spec)}",
+                f"unknown column {name!r} for {kind}; "
+                + (
+                    f"did you mean {near!r}? (column names are matched exactly)"
+                    if near is not None
+                    else f"valid columns: {', '.join(c.name for c in spec)}"
+                ),
             )
     n = len(raw)
     # Each column is parsed on its own (pyarrow's kernels release the GIL, so large tables
@@ -693,10 +724,20 @@ def _load(
         kind = kinds.get(path) or raw.kind_hint or detect_kind(raw.columns)
         detected = detect_kind(raw.columns)
         if kind is None:
+            near = [
+                f"{v!r} for {c!r}"
+                for c in raw.columns
+                if (v := near_column(c, ("form", "quantity", "T", "P"))) is not None
+            ]
+            hint = (
+                f" (did you mean {', '.join(near)}? column names are matched exactly)"
+                if near
+                else ""
+            )
             out.errors.append(
                 TableError(
                     "cannot tell the kind of this file from its columns: records have 'form', "
-                    "references 'quantity', points 'T' and 'P'",
+                    f"references 'quantity', points 'T' and 'P'{hint}",
                     Location(str(path), 1),
                 )
             )

@@ -122,6 +122,8 @@ def test_a_finding_the_suggested_fix_leaves_names_the_finding_that_carries_it(tm
     run = CliRunner().invoke(main, ["apply", str(tmp_path), "slope-not-positive:590-67-0-pe"])
     assert run.exit_code == 0, run.output
     assert "B: " in run.output
+    # what the fix leaves is named, not only counted
+    assert "1 error remains: boiling-point-mismatch (590-67-0-pe)" in run.output
 
 
 def test_review_walks_the_suggestions(table):

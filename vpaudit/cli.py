@@ -812,15 +812,26 @@ def apply_cmd(table, finding, reason, by, db):
     done = apply_finding(table, finding, reason, by)
     for e in done.entries:
         _show_entry(e)
-    _say(
-        f"re-audited {', '.join(done.substances)}: "
-        + (
-            "clean (no errors or warnings)"
-            if not done.remaining
-            else f"{done.remaining} error(s)/warning(s) remain"
-        )
-    )
+    _say(f"re-audited {', '.join(done.substances)}: {_what_remains(done.left)}")
     _reimport(table, db)
+
+
+def _what_remains(left: list, shown: int = 3) -> str:
+    """The errors and warnings left after a fix, in words: how many of each, and which
+    (check and records, the first ``shown``), so that what remains is not a surprise.
+    """
+    if not left:
+        return "clean (no errors or warnings)"
+    errors = sum(f.severity.rank >= 2 for f in left)
+    counts = [
+        f"{n} {word}{'s' if n > 1 else ''}"
+        for n, word in ((errors, "error"), (len(left) - errors, "warning"))
+        if n
+    ]
+    named = "; ".join(f"{f.check} ({', '.join(f.records)})" for f in left[:shown])
+    more = f" and {len(left) - shown} more (vpaudit audit lists them)" if len(left) > shown else ""
+    verb = "remains" if len(left) == 1 else "remain"
+    return f"{' and '.join(counts)} {verb}: {named}{more}"
 
 
 @main.command("review")

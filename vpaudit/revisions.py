@@ -23,13 +23,16 @@ import re
 import uuid
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from ._atomic import append_line, file_lock, write_atomic
 from .checks._text import confidence
 from .errors import Location, TableError, VpauditError
 from .readers.lines import split_lines
 from .writers import csv_cell
+
+if TYPE_CHECKING:
+    from .checks.finding import Finding
 
 __all__ = [
     "Applied",
@@ -488,12 +491,18 @@ def apply_suggestion(
 @dataclass(frozen=True)
 class Applied:
     """What :func:`apply_finding` did: the revision log entries it wrote, the substances it
-    audited again, and how many errors and warnings remain on them.
+    audited again, and the errors and warnings that remain on them (the findings, errors
+    first).
     """
 
     entries: list[dict]
     substances: list[str]
-    remaining: int
+    left: list[Finding]
+
+    @property
+    def remaining(self) -> int:
+        """How many errors and warnings remain."""
+        return len(self.left)
 
 
 def apply_finding(
@@ -534,8 +543,10 @@ def apply_finding(
             )
     entries = apply_suggestion(table_path, table, finding, reason, by)
     after = audit_table(open_table(table_path), policy, substances=subs or None)
-    remaining = sum(g.severity.rank >= 1 for g in after.findings)
-    return Applied(entries, subs, remaining)
+    left = sorted(
+        (g for g in after.findings if g.severity.rank >= 1), key=lambda g: -g.severity.rank
+    )
+    return Applied(entries, subs, left)
 
 
 def review_offers(result, min_confidence: float = 0.0) -> list:

@@ -21,6 +21,16 @@ def test_eval_prints_a_readable_answer(sample_db):
     assert "Caution: vpaudit screens" in run("--help").output
 
 
+def test_eval_takes_the_temperature_after_the_substance_too(sample_db):
+    """'vpaudit eval TABLE ardenite 1200K' answers as --at 1200K does; both at once is a
+    usage error, as a temperature with --pressure is."""
+    positional = run("eval", sample_db, "ardenite", "1200K")
+    assert positional.exit_code == 0
+    assert positional.output == run("eval", sample_db, "ardenite", "--at", "1200K").output
+    assert run("eval", sample_db, "ardenite", "1200K", "--at", "1300K").exit_code == 2
+    assert run("eval", sample_db, "ardenite", "1200K", "--pressure", "1Pa").exit_code == 2
+
+
 def test_eval_at_a_pressure_answers_in_the_unit_it_was_asked_in(sample_db):
     # asked at 0.01 Torr, it said "at 1.33322 Pa"; --unit still chooses
     assert run("eval", sample_db, "ardenite", "--pressure", "0.01Torr").output.startswith(

@@ -12,7 +12,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from vpaudit.cli import main
-from vpaudit.gate import gate
+from vpaudit.gate import gate, load_accepted
 
 
 def git(repo, *args):
@@ -176,6 +176,32 @@ def test_expired_acceptance_is_reported_and_fails_again(repo):
     result = gate(repo / "table", "base", today=dt.date.today() + dt.timedelta(days=31))
     checks = {f.check for f in result.findings if result.status_of(f) == "new"}
     assert "acceptance-expired" in checks and "slope-not-positive" in checks
+
+
+def test_an_acceptance_renewed_after_it_expired_is_the_one_in_force(repo):
+    """Accepting a finding again (here after its acceptance expired, with the table before
+    the finding, as the other commands take it) renews it: the gate reads the last entry
+    for the finding, reports no expiry, does not fail on it, and the earlier entry stays in
+    the file."""
+    _head_change(repo)
+    table = repo / "table"
+    later = dt.date.today() + dt.timedelta(days=31)
+    first = run(
+        "accept", table, "slope-not-positive:zorvane-l1", "--reason", "temporary",
+        "--until", (dt.date.today() + dt.timedelta(days=30)).isoformat(),
+    )  # fmt: skip
+    assert first.exit_code == 0, first.output
+    again = run(
+        "accept", table, "slope-not-positive:zorvane-l1", "--reason", "reviewed again",
+        "--until", (later + dt.timedelta(days=60)).isoformat(),
+    )  # fmt: skip
+    assert again.exit_code == 0, again.output
+    assert "replaces the earlier acceptance ('temporary'" in again.output
+    assert len(load_accepted(table / "accepted.toml")) == 2
+    result = gate(table, "base", today=later)
+    status = {f.check: result.status_of(f) for f in result.findings}
+    assert status["slope-not-positive"] == "accepted"
+    assert "acceptance-expired" not in status and "acceptance-unused" not in status
 
 
 def test_a_change_that_touches_nothing_relevant_passes(repo):
@@ -389,8 +415,6 @@ def test_accept_refuses_what_it_cannot_write_and_leaves_the_file_valid(repo, arg
     out = run(*base, *(args if "--reason" in args else ["--reason", "x", *args]))
     assert out.exit_code == 2 and message in out.output, out.output
     assert (table / "accepted.toml").read_bytes() == before
-    from vpaudit.gate import load_accepted
-
     assert len(load_accepted(table / "accepted.toml")) == 1
 
 
@@ -399,8 +423,6 @@ def test_accept_writes_any_reason_that_reads_back_exactly(repo):
     reason = 'quoted "text", a back\\slash, a tab\t, an emoji \U0001f600 and a new\nline'
     out = run("accept", "range-gap:ardenite-s1", "--table", table, "--reason", reason)
     assert out.exit_code == 0, out.output
-    from vpaudit.gate import load_accepted
-
     (entry,) = load_accepted(table / "accepted.toml")
     assert entry.reason == reason
 

@@ -399,6 +399,7 @@ def checks_cmd(fmt):
 @main.command("eval")
 @click.argument("table", type=click.Path(exists=True))
 @click.argument("substance")
+@click.argument("temperature", required=False, type=TEMPERATURE)
 @click.option(
     "--at", "at", type=TEMPERATURE, help="Temperature, e.g. 1200K, 926.85degC (bare number: K)."
 )
@@ -413,11 +414,21 @@ def checks_cmd(fmt):
 @click.option(
     "--format", "fmt", type=click.Choice(["text", "json"]), default="text", show_default=True
 )
-def eval_cmd(table, substance, at, pressure, unit, extrapolate, fmt):
-    """Vapour pressure of SUBSTANCE at a temperature, or the temperature at a pressure."""
+def eval_cmd(table, substance, temperature, at, pressure, unit, extrapolate, fmt):
+    """Vapour pressure of SUBSTANCE at a temperature, or the temperature at a pressure.
+
+    The temperature may follow SUBSTANCE (vpaudit eval TABLE water 50degC) or be given
+    with --at (a negative one with --at, or after '--': vpaudit eval TABLE water --
+    -10degC).
+    """
     from .api import open_table
     from .report.answers import render_eval
     from .substance import eval_substance
+
+    if temperature is not None:
+        if at is not None:
+            raise click.UsageError("give the temperature once: after SUBSTANCE or with --at")
+        at = temperature
 
     answer = eval_substance(open_table(table), substance, at, pressure, extrapolate)
     if fmt == "json":
@@ -532,23 +543,42 @@ def gate_cmd(table, base, fmt, output, fail_on, policy):
 
 
 @main.command("accept")
-@click.argument("finding")
+@click.argument("first", metavar="[TABLE] FINDING")
+@click.argument("second", required=False, metavar="")
 @click.option(
     "--table",
+    "table_opt",
     type=click.Path(exists=True, file_okay=False),
-    default=".",
-    show_default=True,
-    help="The table directory holding accepted.toml.",
+    default=None,
+    help="The table directory holding accepted.toml [default: the current directory].",
 )
 @click.option("--reason", required=True, help="Why the finding is accepted.")
 @click.option("--until", help="Expiry date, e.g. 2027-06-30.")
 @click.option("--by", help="Who accepts it (default: git user.name).")
-def accept_cmd(finding, table, reason, until, by):
-    """Accept FINDING (CHECK:RECORD[,RECORD]) in the table's accepted.toml."""
+def accept_cmd(first, second, table_opt, reason, until, by):
+    """Accept FINDING (CHECK:RECORD[,RECORD]) in the table's accepted.toml.
+
+    The table directory comes first, as in the other commands (vpaudit accept TABLE
+    FINDING), or with --table; without either it is the current directory.
+    """
     from .gate import accept
 
-    path = accept(table, finding, reason, until, by)
-    _say(f"accepted {finding} in {path}")
+    if second is None:
+        table, finding = table_opt or ".", first
+    elif table_opt is not None:
+        raise click.UsageError("give the table once: before FINDING or with --table")
+    else:
+        table, finding = first, second
+        if not os.path.isdir(table):
+            raise click.UsageError(f"TABLE {table!r} is not a table directory")
+    path, replaced = accept(table, finding, reason, until, by)
+    said = f"accepted {finding} in {path}"
+    if replaced is not None:
+        was = f"{replaced.reason!r}, by {replaced.by}"
+        if replaced.until is not None:
+            was += f", until {replaced.until}"
+        said += f"; it replaces the earlier acceptance ({was}), kept in the file as history"
+    _say(said)
 
 
 # --- plot ----------------------------------------------------------------------------------

@@ -66,6 +66,20 @@ class Acceptance:
             and (self.substance is None or self.substance == f.substance)
         )
 
+    @property
+    def key(self) -> tuple:
+        """The finding it is for: check, record ids (in any order) and substance."""
+        return (self.check, tuple(sorted(self.records)), self.substance)
+
+
+def in_force(accepted: list[Acceptance]) -> list[int]:
+    """The indices of the entries in force: of several entries for one finding, the last
+    (a later ``vpaudit accept`` of the same finding renews or replaces the earlier ones,
+    which stay in the file as its history).
+    """
+    last = {a.key: k for k, a in enumerate(accepted)}
+    return sorted(last.values())
+
 
 #: A gate's result: an :class:`AuditResult` with ``gate`` set (one result type for both).
 GateResult = AuditResult
@@ -298,14 +312,17 @@ def _apply_acceptances(
     result: GateResult, accepted: list[Acceptance], path: Path, today: dt.date
 ) -> None:
     used = set()
+    live = in_force(accepted)
     for row, f in enumerate(result.findings):
-        for k, a in enumerate(accepted):
+        for k in live:
+            a = accepted[k]
             if a.matches(f) and (a.until is None or a.until >= today):
                 result.findings.set(row, status="accepted")
                 used.add(k)
                 break
     extra = []
-    for k, a in enumerate(accepted):
+    for k in live:
+        a = accepted[k]
         if a.until is not None and a.until < today:
             extra.append(
                 Finding(
@@ -449,13 +466,24 @@ def gate(
 
 def accept(
     table: str | Path, finding: str, reason: str, until: str | None = None, by: str | None = None
-) -> Path:
+) -> tuple[Path, Acceptance | None]:
     """Append an acceptance to the table's ``accepted.toml`` (unrelated lines untouched).
+
+    An entry for a finding already accepted there renews or replaces it: the last entry
+    for a finding is the one in force (:func:`in_force`), and the earlier ones stay as its
+    history.
 
     Parameters
     ----------
     finding : str
         ``CHECK:RECORD[,RECORD...]``, as the gate's text report prints it.
+
+    Returns
+    -------
+    path : Path
+        The ``accepted.toml`` written.
+    replaced : Acceptance or None
+        The entry that was in force for the finding before, if any.
     """
     import getpass
 
@@ -508,9 +536,11 @@ def accept(
             )
         )
         new = text.rstrip("\n") + "\n" + "\n".join(entry) + "\n"
-        _parse_accepted(new, path)  # the file must stay valid: checked before it is written
+        after = _parse_accepted(new, path)  # the file must stay valid: checked before writing
         write_atomic(path, new)
-    return path
+    key = after[-1].key
+    replaced = next((a for a in reversed(after[:-1]) if a.key == key), None)
+    return path, replaced
 
 
 def _toml_string(text: str, what: str) -> str:

@@ -133,6 +133,9 @@ def test_review_walks_the_suggestions(table):
     assert "[1/" in run.output and "applied 1 of" in run.output
     log = table / "history" / "revisions.jsonl"
     assert sum('"record"' in ln for ln in log.read_text().splitlines()) == 1  # one revision
+    # what the applied fix left on its substance is said, as apply says it
+    first = run.output.split("[1/", 1)[1].split(":", 1)[0].split("] ", 1)[1]
+    assert f"re-audited {first}: " in run.output.split("applied 1 of", 1)[1]
 
 
 def test_review_whose_answers_run_out_stops_as_quit(table):

@@ -881,7 +881,7 @@ def review_cmd(table, by, db, min_confidence):
     from .auditing import audit_table
     from .policy import load_policy
     from .report.revisions import offer_lines
-    from .revisions import apply_suggestion, review_offers, suggestion_edits
+    from .revisions import apply_suggestion, review_offers, suggestion_edits, what_remains
 
     _table_dir(table)
     t = open_table(table)
@@ -891,6 +891,7 @@ def review_cmd(table, by, db, min_confidence):
         _say("no suggested fixes to review")
         return
     applied = 0
+    changed: set[str] = set()
     for k, f in enumerate(offers, 1):
         # every field and line that applying it changes
         for line in offer_lines(k, len(offers), f, suggestion_edits(f.suggestion)):
@@ -911,8 +912,11 @@ def review_cmd(table, by, db, min_confidence):
             for e in apply_suggestion(table, t, f, None, by):
                 _show_entry(e)
             applied += 1
+            changed.add(f.substance)
     _say(f"\napplied {applied} of {len(offers)} suggested fix(es)")
     if applied:
+        subs = sorted(changed)
+        _say(f"re-audited {', '.join(subs)}: {_what_remains(what_remains(table, subs))}")
         _reimport(table, db)
 
 

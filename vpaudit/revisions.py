@@ -542,11 +542,23 @@ def apply_finding(
                 "one, or correct the record by hand"
             )
     entries = apply_suggestion(table_path, table, finding, reason, by)
-    after = audit_table(open_table(table_path), policy, substances=subs or None)
-    left = sorted(
+    return Applied(entries, subs, what_remains(table_path, subs))
+
+
+def what_remains(table_path: str | Path, substances: list[str]) -> list[Finding]:
+    """Audit ``substances`` of the table at ``table_path`` again (as its files now are,
+    under its own policy) and return their errors and warnings, errors first: what a fix
+    left.
+    """
+    from .api import open_table
+    from .auditing import audit_table
+    from .policy import load_policy
+
+    table = open_table(table_path)
+    after = audit_table(table, load_policy(table.policy_path), substances=substances or None)
+    return sorted(
         (g for g in after.findings if g.severity.rank >= 1), key=lambda g: -g.severity.rank
     )
-    return Applied(entries, subs, left)
 
 
 def review_offers(result, min_confidence: float = 0.0) -> list:

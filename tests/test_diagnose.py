@@ -971,3 +971,27 @@ def test_an_exponent_a_hundred_times_too_large_is_shifted_back_not_dropped():
     sug, _ = suggestion_for([rec], [r for r in refs if r["substance"] == "67-63-0"], rec["id"])
     assert sug is not None and sug["kind"] == "decimal-shift", sug
     assert sug["corrected"] == {"E": 6.0}
+
+
+def test_a_fix_that_makes_a_record_match_another_source_says_so():
+    """Two liquid records of one invented substance (not real properties), the second typed
+    in with ln for log10 (the water-like Antoine constants 8.07131, 1730.63, 233.426 in
+    log10 mmHg and degC). The fix of its log base makes it the first record's curve: the
+    explanation says that record agrees (and the table then holds one equation twice). A
+    third record of another source (1 % higher pressures) is not named: it is not the same
+    curve."""
+    base = {
+        "substance": "aqualine", "phase": "liquid", "form": "antoine", "log_base": "10",
+        "pressure_unit": "mmHg", "temperature_unit": "degC", "A": 8.07131, "B": 1730.63,
+        "C": 233.426, "t_min": 1.0, "t_max": 100.0,
+    }  # fmt: skip
+    recs = [
+        dict(base, id="aq-1", source="invented handbook"),
+        dict(base, id="aq-2", log_base="e", source="invented, typed in"),
+        dict(base, id="aq-3", A=8.07131 + 0.00432, source="invented, another lab"),
+    ]
+    result = audit_table(table_from_rows(recs, []))
+    sug = next(f.suggestion for f in result.findings if f.suggestion)
+    assert (sug["kind"], sug["record"]) == ("log-base", "aq-2")
+    assert "gives the same curve over the same range as aq-1, which agrees" in sug["explanation"]
+    assert "aq-3" not in sug["explanation"]

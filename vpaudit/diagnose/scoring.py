@@ -710,11 +710,37 @@ def _suggestion(
             named = [f"{check} ({', '.join(ids)})" for check, ids in sorted(remaining)]
             more = f" and {len(named) - 3} more" if len(named) > 3 else ""
             text += f", which it does not explain: {'; '.join(named[:3])}{more}."
+    same = _same_curve_as(ctx, out, cand.row)
+    if same:
+        text += (
+            f" With it, {rid} gives the same curve over the same range as "
+            f"{' and '.join(same)}, which {'agrees' if len(same) == 1 else 'agree'} with the"
+            " fix; if they came from one source, the table then holds that source twice."
+        )
     alt = sorted({cands[k].label for k in group if cands[k].label != cand.label})
     if alt:
         text += f" Equivalent: {alt[0]}."
     sug["explanation"] = text
     return sug
+
+
+def _same_curve_as(ctx: AuditContext, out: _Outcome, row: int) -> list[str]:
+    """The other records of ``row``'s substance whose curve, range and phase the fixed
+    record then matches (from the outcome's keys, ln P at five temperatures over each range
+    to 1e-4, whose rows are the substance's records in table order:
+    :func:`~vpaudit.diagnose.variants._unit_keys`): another source that agrees with the fix.
+    """
+    k = _key_rows(out)
+    members = np.flatnonzero(ctx.codes == ctx.codes[row])
+    if k is None or len(k) != members.size or members.size < 2:
+        return []
+    j = int(np.searchsorted(members, row))
+    with np.errstate(invalid="ignore"):
+        match = (np.abs(k[:, :5] - k[j, :5]).max(axis=1) <= 1e-4) & (
+            np.abs(k[:, 5:] - k[j, 5:]).max(axis=1) <= 1e-6
+        )
+    match[j] = False
+    return [ctx.id(int(r)) for r in members[match]]
 
 
 #: Substances diagnosed in one audit by default (the cost per substance is in

@@ -166,7 +166,7 @@ def plot_substance(table: Table, substance: str, path: str | Path, unit: str = "
                 np.where(inside, y, np.nan),
                 lw=2.2,
                 **styles[i],
-                label=_plain(f"{ctx.id(i)} ({phase}, {c.t_min[0]:.4g}-{c.t_max[0]:.4g} K{off})"),
+                label=_plain(f"{ctx.id(i)} ({phase}, {c.t_min[0]:.5g}-{c.t_max[0]:.5g} K{off})"),
             )
         else:  # a range of one temperature: the one point drawn
             with np.errstate(all="ignore"):
@@ -179,7 +179,7 @@ def plot_substance(table: Table, substance: str, path: str | Path, unit: str = "
                     ms=9,
                     ls="none",
                     color=styles[i]["color"],
-                    label=_plain(f"{ctx.id(i)} ({phase}, at {c.t_min[0]:.4g} K only)"),
+                    label=_plain(f"{ctx.id(i)} ({phase}, at {c.t_min[0]:.5g} K only)"),
                 )
                 names.append((1000.0 / c.t_min[0], y0[0], _plain(ctx.id(i)), styles[i]["color"]))
                 finite_in_range.append(y0)

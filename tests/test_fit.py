@@ -134,6 +134,30 @@ def test_a_pair_fit_without_the_solid_points_says_which_phase_has_points(tmp_pat
     assert issubclass(FitError, EquationError)
 
 
+def test_a_fit_the_audit_finds_nothing_on_says_what_it_was_audited_with(tmp_path):
+    """Ten saturation pressures of water from IAPWS-IF97 (the iapws package), 280-370 K,
+    fitted in the three-term form: the new record draws no finding, and the command says
+    what it was audited with rather than a bare "nothing found"."""
+    from click.testing import CliRunner
+    from iapws import IAPWS97
+
+    from vpaudit.cli import main as cli
+
+    (tmp_path / "points").mkdir()
+    rows = ["substance,phase,T,P,temperature_unit,pressure_unit,source"]
+    rows += [
+        f"water,liquid,{t},{IAPWS97(T=t, x=0).P * 1e6!r},K,Pa,IAPWS-IF97 via iapws"
+        for t in range(280, 371, 10)
+    ]
+    (tmp_path / "points" / "water.csv").write_text("\n".join(rows) + "\n")
+    got = CliRunner().invoke(cli, ["fit", str(tmp_path), "--substance", "water"])
+    assert got.exit_code == 0, got.output
+    assert got.output.rstrip().endswith(
+        "audit of the new record(s), with the substance's references, measured points and "
+        "records of the other phase: no errors, warnings or notes"
+    )
+
+
 def _pair_points(seed=1):
     rng = np.random.default_rng(seed)
     ts = np.linspace(600.0, 1000.0, 20)

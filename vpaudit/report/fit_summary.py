@@ -53,10 +53,17 @@ def _fit_lines(fit, label: str) -> list[str]:
     return lines
 
 
+#: What the new records are audited with (:func:`vpaudit.auditing.audit_new_records`).
+_AUDITED_WITH = (
+    "audit of the new record(s), with the substance's references, measured points and "
+    "records of the other phase"
+)
+
+
 def _findings(findings) -> list[str]:
     if not findings:
-        return ["audit of the new record(s): nothing found"]
-    out = ["audit of the new record(s):"]
+        return [f"{_AUDITED_WITH}: no errors, warnings or notes"]
+    out = [f"{_AUDITED_WITH}:"]
     for f in findings:
         out.append(f"  {f.severity.label:<8}{f.check}: {f.message}")
     return out

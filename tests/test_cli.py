@@ -219,6 +219,17 @@ def test_console_command_writes_everything_before_its_quick_exit(sample_db, clea
     assert missing.returncode == 2 and "nowhere" in missing.stderr
 
 
+def test_a_query_of_a_table_or_column_that_is_not_there_names_those_that_are(sample_db):
+    """The user asks for a table the directory does not hold, or misspells a column: the
+    error lists the tables, or passes on DuckDB's candidate columns (it kept only the first
+    line of DuckDB's message, which names neither)."""
+    r = run("query", sample_db, "SELECT * FROM findings")
+    assert r.exit_code == 2
+    assert "(the tables are points, problems, records, references)" in r.output
+    r = run("query", sample_db, "SELECT substanse FROM records")
+    assert r.exit_code == 2 and "Candidate bindings:" in r.output and 'substance"' in r.output
+
+
 def test_every_report_says_what_it_could_not_test(sample_db):
     # metals.csv alone has no references and no points: 9 errors instead of 24, silently
     r = run("audit", sample_db / "records" / "metals.csv", "--fail-on", "never")

@@ -613,8 +613,23 @@ def query(table: Table | str | Path, sql: str, timeout: float = 10.0) -> pd.Data
         raise VpauditError(f"the query ran longer than {timeout:g} s and was stopped") from None
     except duckdb.PermissionException as exc:
         raise VpauditError(f"refused: {str(exc).splitlines()[0]}") from None
+    except duckdb.CatalogException as exc:  # a table or column that is not there: say which are
+        got = con.execute("SELECT table_name FROM duckdb_tables() ORDER BY 1").fetchall()
+        names = [r[0] for r in got]
+        raise VpauditError(
+            f"the query failed: {_first_lines(exc)} (the tables are {', '.join(names)})"
+        ) from None
     except duckdb.Error as exc:
-        raise VpauditError(f"the query failed: {str(exc).splitlines()[0]}") from None
+        raise VpauditError(f"the query failed: {_first_lines(exc)}") from None
     finally:
         timer.cancel()
         con.close()
+
+
+def _first_lines(exc: Exception) -> str:
+    """A DuckDB error's first line, and its candidate names when it gives them (a column
+    not found: ``Candidate bindings: "check"``).
+    """
+    lines = str(exc).splitlines()
+    hint = [ln.strip() for ln in lines[1:3] if ln.startswith("Candidate")]
+    return " ".join([lines[0] if lines else type(exc).__name__, *hint])

@@ -110,15 +110,16 @@ class TableErrors(TableError):
 class RecordRuleError(VpauditError):
     """Records that read fine but break a rule of the table format."""
 
-    kind = "the table breaks a rule of its format"
+    kind = "nothing imported"
 
     def __init__(self, problems: Iterable[str], limit: int = 50) -> None:
         self.problems = list(problems)
         shown = self.problems[:limit]
         more = len(self.problems) - len(shown)
-        text = f"{len(self.problems)} record(s) break a rule of the table format:\n  " + (
-            "\n  ".join(shown)
-        )
+        text = (
+            f"{len(self.problems)} record(s) break a rule of the table format, and a store "
+            "takes a table whole or not at all (it is left as it was):\n  "
+        ) + ("\n  ".join(shown))
         if more > 0:
             text += f"\n  ... and {more} more"
         super().__init__(text)

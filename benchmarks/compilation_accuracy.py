@@ -404,6 +404,8 @@ def planted(name, records, refs, flagged_clean, sample, seed):
         sug = _first_suggestion(fs)
         if sug is None:
             silent_flagged += flagged
+            if SHOW_WRONG and flagged:
+                print(f"      no suggestion for {kind} in {rid}: {_describe(original, bad)}")
             continue
         if kind == "phase-swap":
             ok = near = sug["kind"] == "phase-swap"

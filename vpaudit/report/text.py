@@ -8,6 +8,7 @@ from collections import defaultdict
 from ..auditing import CAUTION
 from ._coverage import coverage_sentence
 from ._escape import visible
+from ._fixes import fix_key, same_fix
 
 
 def _counts(findings) -> str:
@@ -69,9 +70,9 @@ def render(result, width: int = 100) -> str:
                 lines.extend(wrap.wrap(f.message))
                 if f.suggestion:
                     sug = f.suggestion
-                    fix = (sug.get("record"), sug.get("kind"), repr(sug.get("corrected")))
+                    fix = fix_key(sug)
                     if fix in shown:
-                        lines.append(f"      suggestion: the same fix ({sug.get('kind')}, above)")
+                        lines.append(f"      suggestion: {same_fix(sug)}")
                         continue
                     shown.add(fix)
                     lines.extend(wrap.wrap(f"suggestion: {sug.get('explanation', '')}"))

@@ -133,3 +133,24 @@ def test_the_triage_view_gives_each_substance_once_with_its_fix_and_a_clean_stat
     t = load_table(clean)
     empty = render_report(audit_table(t, table_path=str(clean)), t, plots=False)
     assert "class='clean'>No findings" in empty and "Each flagged substance" not in empty
+
+
+def test_a_second_fix_beside_the_first_is_in_the_triage_view_and_its_section(tmp_path, sample_db):
+    """The demo's bellorium (invented) with its log-base slip and, as a pull request would
+    bring it, a lost sign of B on its solid: the diagnosis offers two fixes, one per record.
+    The report showed only the first; each is now in the triage row and explained once in
+    the substance's section."""
+    root = tmp_path / "db"
+    shutil.copytree(sample_db, root)
+    metals = root / "records" / "metals.csv"
+    text = metals.read_text()
+    assert text.count(",-14736.5418,") == 1
+    metals.write_text(text.replace(",-14736.5418,", ",14736.5418,"))
+    table = load_table(root)
+    result = audit_table(table, table_path=str(root), substances=["bellorium"])
+    page = render_report(result, table, plots=False)
+    triage = page[page.index("id='triage'") : page.index("</table>", page.index("id='triage'"))]
+    assert "<b>bellorium-l1</b>: log_base &rarr; 10" in triage
+    assert "<b>bellorium-s1</b>: B &rarr; -14736.5418" in triage
+    assert page.count("Suggested fix: Possibly the coefficients are for log10") == 1
+    assert page.count("Suggested fix: Possibly the sign of B was lost") == 1

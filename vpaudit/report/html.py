@@ -14,6 +14,7 @@ from pathlib import Path
 from ..auditing import CAUTION
 from ..checks._text import confidence
 from ._escape import visible
+from ._fixes import fix_key
 
 __all__ = ["render_report"]
 
@@ -247,13 +248,13 @@ def _triage(result, status_of) -> list[str]:
         worst = max(fs, key=lambda f: f.severity.rank).severity.value
         counts = [sum(f.severity.value == k for f in fs) for k in ("error", "warning", "note")]
         checks = sorted({f.check for f in fs})
-        fix = next((f.suggestion for f in fs if f.suggestion), None)
+        fixes = list({fix_key(f.suggestion): f.suggestion for f in fs if f.suggestion}.values())
         label = _e(name) if name else "(the table as a whole)"
         out.append(
             f"<tr><td>{_badge(worst)}</td><td><a href='#s-{_e(name)}'>{label}</a></td>"
             + "".join(f"<td class='num'>{n or ''}</td>" for n in counts)
             + f"<td>{'<br>'.join(f'<code>{_e(c)}</code>' for c in checks)}</td>"
-            f"<td>{_fix(fix)}</td></tr>"
+            f"<td>{'<br>'.join(_fix(x) for x in fixes) or _fix(None)}</td></tr>"
         )
     out.append("</tbody></table>")
     return out
@@ -314,20 +315,20 @@ def _sections(result, table, plots: bool, max_sections: int) -> list[str]:
                 + "</tr>"
             )
         out.append("</tbody></table><ul>")
-        shown = False
+        shown: set = set()  # each fix explained once, at the first finding that carries it
         for f in result.findings:
             if f.substance == name:
                 out.append(
                     f"<li>{_badge(f.severity.value)} <code>{_e(f.check)}</code>: "
                     f"{_e(f.message)}</li>"
                 )
-                if f.suggestion and not shown:
+                if f.suggestion and fix_key(f.suggestion) not in shown:
                     out.append(
                         f"<li class='fix'>Suggested fix: {_e(f.suggestion['explanation'])} "
                         f"To apply it: <code>vpaudit apply {_e(result.table_path or 'TABLE')} "
                         f"{_e(f.check)}:{_e(','.join(f.records))}</code></li>"
                     )
-                    shown = True
+                    shown.add(fix_key(f.suggestion))
         out.append("</ul>")
         if plots:
             try:

@@ -286,11 +286,13 @@ def test_a_disagreement_no_single_slip_explains_gets_no_suggestion():
     assert all(f.suggestion is None for f in flagged)
 
 
-def test_a_second_slip_on_the_partner_record_gets_its_own_possible_fix(tmp_path):
+def test_two_slips_in_two_records_are_found_and_weighed_together(tmp_path):
     """The demo's bellorium (invented) carries a log-base slip on its liquid; a pull request
     then loses the sign of B on its solid. One slip per substance cannot explain both: the
     liquid's fix is offered where it clears the liquid's error, and the solid's own errors
-    carry the sign fix as a second slip beside it, each at even odds at most."""
+    carry the sign fix as a second slip beside it. Weighed together (both applied, audited
+    as one hypothesis against every single slip and none), the two clear every finding,
+    which either alone cannot: both are stated almost certain, and each names the other."""
     import shutil
     from pathlib import Path
 
@@ -316,12 +318,34 @@ def test_a_second_slip_on_the_partner_record_gets_its_own_possible_fix(tmp_path)
         {"B": -14736.5418},
     )
     assert second["beside"] == "bellorium-l1" and "beside" not in first
-    assert first["confidence"] <= 0.5 and second["confidence"] <= 0.5
-    assert "A second slip beside the fix suggested for bellorium-l1" in second["explanation"]
-    # the liquid's fix is held, among other reasons, because of the solid: named so
-    assert "With it, bellorium-s1 still falls with temperature" in first["explanation"]
+    assert first["confidence"] == second["confidence"] >= 0.8
+    for sug, other in ((first, "bellorium-s1"), (second, "bellorium-l1")):
+        assert f"and beside it, in {other}," in sug["explanation"]
+        assert "two slips, one in each record, weighed together" in sug["explanation"]
+        assert "4 of the 4 error(s) and warning(s) on bellorium clear" in sug["explanation"]
     # the solid/liquid mismatch needs both fixes: it carries neither
     assert by_check["melting-point-mismatch"] is None
+
+
+def test_one_fix_alone_is_held_where_a_second_record_has_a_problem_no_slip_explains(tmp_path):
+    """The same bellorium, its solid's B made 0.5 % steeper instead (no single slip of the
+    solid gives that back): the liquid's log-base fix leaves the pair's problem, the
+    weighing of two fixes together has no second fix to weigh, and the fix stays held at
+    even odds, saying why."""
+    import shutil
+    from pathlib import Path
+
+    root = tmp_path / "db"
+    shutil.copytree(Path(__file__).resolve().parents[1] / "sample_db", root)
+    metals = root / "records" / "metals.csv"
+    text = metals.read_text()
+    assert text.count(",-14736.5418,") == 1
+    metals.write_text(text.replace(",-14736.5418,", ",-14810.2245,"))
+    result = audit(root, substances=["bellorium"])
+    sugs = [f.suggestion for f in result.findings if f.suggestion]
+    assert sugs and all(s["record"] == "bellorium-l1" and s["kind"] == "log-base" for s in sugs)
+    assert all(s["confidence"] <= 0.5 for s in sugs)
+    assert "weighed together" not in sugs[0]["explanation"]
 
 
 def test_sample_table_every_planted_slip_has_the_right_suggestion():

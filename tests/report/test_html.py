@@ -152,5 +152,5 @@ def test_a_second_fix_beside_the_first_is_in_the_triage_view_and_its_section(tmp
     triage = page[page.index("id='triage'") : page.index("</table>", page.index("id='triage'"))]
     assert "<b>bellorium-l1</b>: log_base &rarr; 10" in triage
     assert "<b>bellorium-s1</b>: B &rarr; -14736.5418" in triage
-    assert page.count("Suggested fix: Possibly the coefficients are for log10") == 1
-    assert page.count("Suggested fix: Possibly the sign of B was lost") == 1
+    assert page.count("Suggested fix: Almost certainly the coefficients are for log10") == 1
+    assert page.count("Suggested fix: Almost certainly the sign of B was lost") == 1

@@ -507,6 +507,79 @@ def planted_in_troubled(name, records, refs, flagged_clean, sample, seed):
     return len(cases), det, right, conf, cw, silent, other, second
 
 
+def planted_two(name, records, refs, flagged_clean, sample, seed):
+    """One slip in each record of ``sample`` clean substances with a solid and a liquid
+    record (no error before): two slips in two records, which the diagnosis weighs one at a
+    time and then together. The same seeded orders as :func:`planted`; each record's slip
+    from its own generator.
+
+    Returns (cases, both named, one named, silent, confident, confident wrong): both named,
+    the substance's two suggestions (the first and the one ``beside`` it) undo the two
+    planted slips; one named, one of them does; confident, the suggestions at 0.8 or more;
+    confident wrong, those that do not undo their record's slip.
+    """
+    by_sub, order, position, refs_by = _seeded_order(records, refs, seed)
+    pairs = [
+        s
+        for s in order
+        if len(by_sub[s]) == 2
+        and {r["phase"] for r in by_sub[s]} == {"solid", "liquid"}
+        and not any(r["id"] in flagged_clean for r in by_sub[s])
+    ]
+    kinds = [k for k in SLIP_KINDS if k not in ("phase-swap", "metadata-combination")]
+    cases, recs, out_refs = [], [], []
+    for sub in pairs[:sample]:
+        k = position[sub]
+        planted_here = []
+        for j, r in enumerate(by_sub[sub]):
+            rng = random.Random(f"{seed}:{sub}:{j}")
+            got = corrupt(r, kinds[(k + 3 * j) % len(kinds)], rng) or corrupt(r, "sign", rng)
+            bad = got[0]
+            if not _visible(r, bad):
+                break
+            planted_here.append((r, bad))
+        if len(planted_here) < 2:
+            continue
+        new = f"{sub}#{k}"
+        for r, bad in planted_here:
+            recs.append(dict(bad, substance=new, id=f"{r['id']}#{k}"))
+        out_refs += [dict(x, substance=new) for x in refs_by.get(sub, [])]
+        cases.append((new, [(dict(r, id=f"{r['id']}#{k}"), bad) for r, bad in planted_here]))
+    result = audit_table(table_from_rows(recs, out_refs))
+    by_new: dict[str, list] = {}
+    for f in result.findings:
+        by_new.setdefault(f.substance, []).append(f)
+    both = one = silent = conf = cw = 0
+    for new, planted_here in cases:
+        sugs = {}
+        for f in by_new.get(new, []):
+            if f.suggestion:
+                sugs.setdefault(f.suggestion["record"], f.suggestion)
+        if not sugs:
+            silent += 1
+            continue
+        truth = {original["id"]: (original, bad) for original, bad in planted_here}
+        ok = {
+            rid: rid in truth and reproduces(truth[rid][0], dict(truth[rid][1], id=rid), sug)
+            for rid, sug in sugs.items()
+        }
+        right = [ok.get(rid, False) for rid in truth]
+        both += all(right)
+        one += sum(right) == 1
+        for rid, sug in sugs.items():
+            if sug["confidence"] >= 0.8:
+                conf += 1
+                cw += not ok[rid]
+        if SHOW_WRONG and not all(right):
+            said = "; ".join(
+                f"{s['kind']} on {r} {s['corrected']} at {s['confidence']:.2f}"
+                for r, s in sugs.items()
+            )
+            planted_said = "; ".join(_describe(o, b) for o, b in planted_here)
+            print(f"      {new}: planted {planted_said}\n        suggested {said}")
+    return len(cases), both, one, silent, conf, cw
+
+
 SHOW_MISSED = False
 SHOW_WRONG = False
 #: Per compilation: (suggestion kind, errors its fix creates) for every suggestion made.
@@ -599,6 +672,12 @@ def main() -> None:
         "at 298.15 K (the 298.15 K anchor) as reference rows",
     )
     ap.add_argument(
+        "--two-slips",
+        action="store_true",
+        help="plant a slip in each record of clean solid/liquid pairs instead (two slips in "
+        "two records, weighed together)",
+    )
+    ap.add_argument(
         "--troubled",
         action="store_true",
         help="plant the slips in substances that already draw an error instead",
@@ -626,6 +705,32 @@ def main() -> None:
         return
     global SHOW_MISSED, SHOW_WRONG
     SHOW_MISSED, SHOW_WRONG = args.show_missed, args.show_wrong
+    if args.two_slips:
+        print(
+            "compilation      pairs  both named  one named  no suggestion  confident"
+            "  confident wrong"
+        )
+        sets = [args.only] if args.only else [*COMPILATIONS, "alcock"]
+        for name in sets:
+            if name == "alcock":  # the evaluated metal pairs (Alcock et al. 1984, CRC Tm, Hfus)
+                from refdata import alcock_pairs
+
+                records, refs = alcock_pairs()
+                result = audit_table(table_from_rows(records, refs), diagnose=False)
+                flagged = {
+                    x for f in result.findings if f.severity.value == "error" for x in f.records
+                }
+            else:
+                records, refs, flagged, _, _ = clean_errors(name)
+            n, both, one, silent, conf, cw = planted_two(
+                name, records, refs, flagged, args.sample, args.seed
+            )
+            if n:
+                print(
+                    f"{name:15s} {n:6d} {both / n:11.1%} {one / n:10.1%} {silent:14d}"
+                    f" {conf:10d} {(cw / conf if conf else 0):16.1%}"
+                )
+        return
     if args.troubled:
         print(
             "compilation      planted  detected  top-1 right  no suggestion  another record"

@@ -66,6 +66,18 @@ def test_slips_are_planted_in_substances_that_already_draw_an_error():
     assert second <= other
 
 
+def test_two_slips_are_planted_one_in_each_record_of_real_pairs():
+    """benchmarks/compilation_accuracy.py --two-slips on the Alcock et al. (1984) metal
+    pairs (via chemicals): a slip in each record of each clean pair; the columns add up, and
+    no suggestion stated almost certain (both fixes weighed together) is wrong."""
+    out = _benchmark("compilation_accuracy.py", "--two-slips", "--only", "alcock").splitlines()
+    (row,) = [line.split() for line in out if line.startswith("alcock")]
+    pairs, silent, confident = int(row[1]), int(row[4]), int(row[5])
+    both, one = float(row[2].rstrip("%")), float(row[3].rstrip("%"))
+    assert 20 <= pairs <= 31 and silent <= pairs and both + one <= 100.0
+    assert confident > 0 and row[6] == "0.0%"
+
+
 def test_replica_tables_copy_real_pairs_and_their_slips_are_flagged(tmp_path):
     """benchmarks/synth.py::replicas: copies of the Alcock, Itkin & Horrigan (1984) metal
     pairs (as chemicals carries them) with a constant shift keep each pair's verdicts, and

@@ -78,8 +78,21 @@ CASES = {
         ["accept", "bogus-check:ardenite-l1", "--table", "{t}", "--reason", "x"],
         "'bogus-check' is not a check of vpaudit",
     ),
+    "accept TABLE record": (
+        ["accept", "{t}", "range-gap:nosuch-l1", "--reason", "x"],
+        "no record with id 'nosuch-l1'",
+    ),
+    "accept, table twice": (
+        ["accept", "{t}", "range-gap:ardenite-l1", "--table", "{t}", "--reason", "x"],
+        "give the table once",
+    ),
     # quantities
     "eval --at 1200k": (["eval", "{t}", "ardenite", "--at", "1200k"], "did you mean K?"),
+    "eval 1200k": (["eval", "{t}", "ardenite", "1200k"], "did you mean K?"),
+    "eval, temperature twice": (
+        ["eval", "{t}", "ardenite", "1200K", "--at", "1200K"],
+        "give the temperature once",
+    ),
     "eval --at 1200°C": (["eval", "{t}", "ardenite", "--at", "1200°C"], "did you mean degC?"),
     "eval --pressure hPa": (["eval", "{t}", "ardenite", "--pressure", "3hPa"], "mbar"),
     "eval --pressure subnormal": (["eval", "{t}", "ardenite", "--pressure", "1e-320Pa"], "under"),

@@ -500,8 +500,7 @@ def _weigh_together(ctx: AuditContext, diag: dict[str, dict], cal: dict) -> None
         if any(_key(f) not in t.errors_before or rows & set(f.records) for f in errors):
             continue  # an error created, or one left on either record: not the whole story
         w = t.first.log_prior + t.second.log_prior + _SECOND_SLIP - out.score(cal) / (2 * T)
-        conf = _stated(1.0 / (1.0 + math.exp(min(t.log_norm - w, 700.0))), cal)
-        conf = min(math.floor(conf * 1000 + 1e-9) / 1000, 0.999)
+        conf = _rounded(_stated(1.0 / (1.0 + math.exp(min(t.log_norm - w, 700.0))), cal))
         first, second = d["suggestion"], d["second"]["suggestion"]
         if conf <= max(first["confidence"], second["confidence"]):
             continue
@@ -516,9 +515,8 @@ def _together_text(
     ctx: AuditContext, cand: Candidate, other: Candidate, conf: float, before: set, left: list
 ) -> str:
     """The explanation of one of two fixes weighed together (:func:`_weigh_together`)."""
-    lead = "Almost certainly" if conf >= 0.8 else "Probably" if conf >= 0.5 else "Possibly"
     text = (
-        f"{lead} {cand.label} [{cand.kind}, confidence {confidence(conf)}], and beside it, "
+        f"{_lead(conf)} {cand.label} [{cand.kind}, confidence {confidence(conf)}], and beside it, "
         f"in {ctx.id(other.row)}, {other.label} [{other.kind}]: two slips, one in each "
         "record, weighed together. With both fixed, "
         f"{len(before) - len(left)} of the {len(before)} error(s) and warning(s) on "
@@ -750,11 +748,7 @@ def _suggestion(
         "kind": cand.kind,
         "record": rid,
         "corrected": corrected,
-        # rounded down, as the text shows it: never above what it is (0.9996 is not 1.0,
-        # 0.7996 not the 0.8 of "Almost certainly" and of --min-confidence 0.8), and a
-        # posterior that reaches 1 in floating point is stated as 0.999: a diagnosis from
-        # the numbers alone is never certain
-        "confidence": min(math.floor(float(conf) * 1000 + 1e-9) / 1000, 0.999),
+        "confidence": _rounded(conf),
         "explanation": "",
         "location": ctx.location(cand.row),
     }
@@ -773,15 +767,7 @@ def _suggestion(
     remaining = _errors_and_warnings(out)
     n_before = len(before)
     stated = sug["confidence"]
-    if held:
-        lead = "Possibly"
-    elif stated >= 0.8:
-        lead = "Almost certainly"
-    elif stated >= 0.5:
-        lead = "Probably"
-    else:
-        lead = "Possibly (the evidence does not single out one fix)"
-    text = f"{lead} {cand.label} [{cand.kind}, confidence {confidence(stated)}]."
+    text = f"{_lead(stated, held)} {cand.label} [{cand.kind}, confidence {confidence(stated)}]."
     if n_before:
         text += (
             f" With that fixed, {len(cleared)} of the {n_before} error(s) and warning(s) on "
@@ -810,6 +796,26 @@ def _suggestion(
     return sug
 
 
+def _rounded(conf: float) -> float:
+    """A confidence as stated: rounded down, as the text shows it, never above what it is
+    (0.9996 is not 1.0, 0.7996 not the 0.8 of "Almost certainly" and of --min-confidence
+    0.8); a posterior that reaches 1 in floating point is stated as 0.999: a diagnosis
+    from the numbers alone is never certain.
+    """
+    return min(math.floor(float(conf) * 1000 + 1e-9) / 1000, 0.999)
+
+
+def _lead(stated: float, held: bool = False) -> str:
+    """The words a suggestion opens with, by its stated confidence (a held one is possible)."""
+    if held:
+        return "Possibly"
+    if stated >= 0.8:
+        return "Almost certainly"
+    if stated >= 0.5:
+        return "Probably"
+    return "Possibly (the evidence does not single out one fix)"
+
+
 def _same_curve_as(ctx: AuditContext, out: _Outcome, row: int) -> list[str]:
     """The other records of ``row``'s substance whose curve, range and phase the fixed
     record then matches (from the outcome's keys, ln P at five temperatures over each range
@@ -817,16 +823,20 @@ def _same_curve_as(ctx: AuditContext, out: _Outcome, row: int) -> list[str]:
     :func:`~vpaudit.diagnose.variants._unit_keys`): another source that agrees with the fix.
     """
     k = _key_rows(out)
+    if k is None or len(k) < 2:
+        return []
+    with np.errstate(invalid="ignore"):
+        same = (np.abs(k[:, None, :5] - k[None, :, :5]).max(axis=2) <= 1e-4) & (
+            np.abs(k[:, None, 5:] - k[None, :, 5:]).max(axis=2) <= 1e-6
+        )
+    np.fill_diagonal(same, False)
+    if not same.any():  # the usual case, told without looking up the substance's rows
+        return []
     members = np.flatnonzero(ctx.codes == ctx.codes[row])
-    if k is None or len(k) != members.size or members.size < 2:
+    if len(k) != members.size:
         return []
     j = int(np.searchsorted(members, row))
-    with np.errstate(invalid="ignore"):
-        match = (np.abs(k[:, :5] - k[j, :5]).max(axis=1) <= 1e-4) & (
-            np.abs(k[:, 5:] - k[j, 5:]).max(axis=1) <= 1e-6
-        )
-    match[j] = False
-    return [ctx.id(int(r)) for r in members[match]]
+    return [ctx.id(int(r)) for r in members[same[j]]]
 
 
 #: Substances diagnosed in one audit by default (the cost per substance is in

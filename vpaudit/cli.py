@@ -842,26 +842,10 @@ def apply_cmd(table, finding, reason, by, db):
     done = apply_finding(table, finding, reason, by)
     for e in done.entries:
         _show_entry(e)
-    _say(f"re-audited {', '.join(done.substances)}: {_what_remains(done.left)}")
+    from .report.revisions import remains_line
+
+    _say(f"re-audited {', '.join(done.substances)}: {remains_line(done.left)}")
     _reimport(table, db)
-
-
-def _what_remains(left: list, shown: int = 3) -> str:
-    """The errors and warnings left after a fix, in words: how many of each, and which
-    (check and records, the first ``shown``), so that what remains is not a surprise.
-    """
-    if not left:
-        return "clean (no errors or warnings)"
-    errors = sum(f.severity.rank >= 2 for f in left)
-    counts = [
-        f"{n} {word}{'s' if n > 1 else ''}"
-        for n, word in ((errors, "error"), (len(left) - errors, "warning"))
-        if n
-    ]
-    named = "; ".join(f"{f.check} ({', '.join(f.records)})" for f in left[:shown])
-    more = f" and {len(left) - shown} more (vpaudit audit lists them)" if len(left) > shown else ""
-    verb = "remains" if len(left) == 1 else "remain"
-    return f"{' and '.join(counts)} {verb}: {named}{more}"
 
 
 @main.command("review")
@@ -880,7 +864,7 @@ def review_cmd(table, by, db, min_confidence):
     from .api import open_table
     from .auditing import audit_table
     from .policy import load_policy
-    from .report.revisions import offer_lines
+    from .report.revisions import offer_lines, remains_line
     from .revisions import apply_suggestion, review_offers, suggestion_edits, what_remains
 
     _table_dir(table)
@@ -916,7 +900,7 @@ def review_cmd(table, by, db, min_confidence):
     _say(f"\napplied {applied} of {len(offers)} suggested fix(es)")
     if applied:
         subs = sorted(changed)
-        _say(f"re-audited {', '.join(subs)}: {_what_remains(what_remains(table, subs))}")
+        _say(f"re-audited {', '.join(subs)}: {remains_line(what_remains(table, subs))}")
         _reimport(table, db)
 
 

@@ -53,3 +53,21 @@ def history_lines(record: str, entries: list[dict]) -> list[str]:
             lines.append(f"  {k}: {e['before'].get(k)!r} -> {v!r}")
         lines.append(f"  {e['line_after'].rstrip()}")
     return lines
+
+
+def remains_line(left: list, shown: int = 3) -> str:
+    """The errors and warnings left after a fix, in words: how many of each, and which
+    (check and records, the first ``shown``), so that what remains is not a surprise.
+    """
+    if not left:
+        return "clean (no errors or warnings)"
+    errors = sum(f.severity.rank >= 2 for f in left)
+    counts = [
+        f"{n} {word}{'s' if n > 1 else ''}"
+        for n, word in ((errors, "error"), (len(left) - errors, "warning"))
+        if n
+    ]
+    named = "; ".join(f"{f.check} ({', '.join(f.records)})" for f in left[:shown])
+    more = f" and {len(left) - shown} more (vpaudit audit lists them)" if len(left) > shown else ""
+    verb = "remains" if len(left) == 1 else "remain"
+    return f"{' and '.join(counts)} {verb}: {named}{more}"

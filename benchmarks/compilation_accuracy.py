@@ -637,6 +637,25 @@ def confident_on_clean(records, refs):
     ), len({f.suggestion["record"] for f in result.findings if f.suggestion})
 
 
+def _rows(header: str, names, measure, row, args) -> None:
+    """Print ``header``, then one row per set of real records with planted slips that
+    ``measure`` counts (``row`` formats its counts), skipping a set with no case. ``alcock``
+    is the evaluated metal pairs (Alcock et al. 1984, with their CRC Tm and Hfus)."""
+    print(header)
+    for name in names:
+        if name == "alcock":
+            from refdata import alcock_pairs
+
+            records, refs = alcock_pairs()
+            result = audit_table(table_from_rows(records, refs), diagnose=False)
+            flagged = {x for f in result.findings if f.severity.value == "error" for x in f.records}
+        else:
+            records, refs, flagged, _, _ = clean_errors(name)
+        got = measure(name, records, refs, flagged, args.sample, args.seed)
+        if got[0]:
+            print(f"{name:15s} {row(*got)}")
+
+
 def main() -> None:
     ap = argparse.ArgumentParser()
     ap.add_argument("--sample", type=int, default=200, help="substances given a slip each")
@@ -706,46 +725,30 @@ def main() -> None:
     global SHOW_MISSED, SHOW_WRONG
     SHOW_MISSED, SHOW_WRONG = args.show_missed, args.show_wrong
     if args.two_slips:
-        print(
+        _rows(
             "compilation      pairs  both named  one named  no suggestion  confident"
-            "  confident wrong"
+            "  confident wrong",
+            [args.only] if args.only else [*COMPILATIONS, "alcock"],
+            planted_two,
+            lambda n, both, one, silent, conf, cw: (
+                f"{n:6d} {both / n:11.1%} {one / n:10.1%} {silent:14d}"
+                f" {conf:10d} {(cw / conf if conf else 0):16.1%}"
+            ),
+            args,
         )
-        sets = [args.only] if args.only else [*COMPILATIONS, "alcock"]
-        for name in sets:
-            if name == "alcock":  # the evaluated metal pairs (Alcock et al. 1984, CRC Tm, Hfus)
-                from refdata import alcock_pairs
-
-                records, refs = alcock_pairs()
-                result = audit_table(table_from_rows(records, refs), diagnose=False)
-                flagged = {
-                    x for f in result.findings if f.severity.value == "error" for x in f.records
-                }
-            else:
-                records, refs, flagged, _, _ = clean_errors(name)
-            n, both, one, silent, conf, cw = planted_two(
-                name, records, refs, flagged, args.sample, args.seed
-            )
-            if n:
-                print(
-                    f"{name:15s} {n:6d} {both / n:11.1%} {one / n:10.1%} {silent:14d}"
-                    f" {conf:10d} {(cw / conf if conf else 0):16.1%}"
-                )
         return
     if args.troubled:
-        print(
+        _rows(
             "compilation      planted  detected  top-1 right  no suggestion  another record"
-            " (second fix right)  confident  confident wrong"
+            " (second fix right)  confident  confident wrong",
+            [args.only] if args.only else COMPILATIONS,
+            planted_in_troubled,
+            lambda n, det, right, conf, cw, silent, other, second: (
+                f"{n:8d} {det / n:9.1%} {right / n:12.1%} {silent:14d}"
+                f" {other:15d} {second:19d} {conf:10d} {(cw / conf if conf else 0):16.1%}"
+            ),
+            args,
         )
-        for name in [args.only] if args.only else COMPILATIONS:
-            records, refs, flagged, _, _ = clean_errors(name)
-            n, det, right, conf, cw, silent, other, second = planted_in_troubled(
-                name, records, refs, flagged, args.sample, args.seed
-            )
-            if n:
-                print(
-                    f"{name:15s} {n:8d} {det / n:9.1%} {right / n:12.1%} {silent:14d}"
-                    f" {other:15d} {second:19d} {conf:10d} {(cw / conf if conf else 0):16.1%}"
-                )
         return
     print(
         "compilation      records  with error  false-alarm rate  | planted  detected  "

@@ -241,6 +241,27 @@ def test_a_query_of_a_table_or_column_that_is_not_there_names_those_that_are(sam
     assert r.exit_code == 2 and "Candidate bindings:" in r.output and 'substance"' in r.output
 
 
+def test_a_report_without_matplotlib_says_its_pictures_are_left_out(
+    sample_db, tmp_path, monkeypatch
+):
+    """Without the plot extra the HTML report is written without pictures (each says why in
+    the page); the command's own line said nothing of it. matplotlib is hidden from the
+    check the command makes, not uninstalled."""
+    import importlib.util
+
+    real = importlib.util.find_spec
+    monkeypatch.setattr(
+        importlib.util,
+        "find_spec",
+        lambda name, *a: None if name == "matplotlib" else real(name, *a),
+    )
+    out = tmp_path / "r.html"
+    r = run("report", sample_db, "-o", out)
+    assert r.exit_code == 0 and "(without pictures: they need matplotlib" in r.output
+    r = run("report", sample_db, "-o", out, "--no-plots")
+    assert "without pictures" not in r.output  # asked for: nothing to say
+
+
 def test_every_report_says_what_it_could_not_test(sample_db):
     # metals.csv alone has no references and no points: 9 errors instead of 24, silently
     r = run("audit", sample_db / "records" / "metals.csv", "--fail-on", "never")

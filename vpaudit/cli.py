@@ -630,7 +630,12 @@ def report_cmd(table, output, policy, no_plots):
     result = audit_table(t, load_policy(t.policy_path, policy), table_path=str(table))
     _emit(render_report(result, t, plots=not no_plots), output)
     if output != "-":  # the page itself went to standard output
-        _say(f"wrote {output}: {len(result.findings)} finding(s)")
+        import importlib.util
+
+        bare = ""
+        if not no_plots and importlib.util.find_spec("matplotlib") is None:
+            bare = " (without pictures: they need matplotlib, pip install 'vpaudit[plot]')"
+        _say(f"wrote {output}: {len(result.findings)} finding(s){bare}")
 
 
 # --- fit / convert ---------------------------------------------------------------------------

@@ -1019,3 +1019,38 @@ def test_a_fix_that_makes_a_record_match_another_source_says_so():
     assert (sug["kind"], sug["record"]) == ("log-base", "aq-2")
     assert "gives the same curve over the same range as aq-1, which agrees" in sug["explanation"]
     assert "aq-3" not in sug["explanation"]
+
+
+@given(
+    base=st.sampled_from(["e", "10"]),
+    unit=st.sampled_from(["Pa", "kPa", "bar", "mmHg", "psi"]),
+    tunit=st.sampled_from(["K", "degC", "degF"]),
+)
+@settings(max_examples=30, deadline=None)
+def test_metadata_combinations_are_every_pairing_of_fixes_of_different_kinds(base, unit, tunit):
+    """candidates_for's metadata combinations, made kind by kind, are exactly the pairings
+    and triples of the single metadata fixes (log base, pressure unit, temperature unit)
+    that change different kinds, in the order of all the pairings (the order breaks ties
+    between equal fixes, so it is part of the output). An invented Antoine liquid."""
+    from itertools import combinations
+
+    from vpaudit.diagnose.candidates import candidates_for
+
+    rec = {
+        "id": "r", "phase": "liquid", "form": "antoine", "log_base": base,
+        "pressure_unit": unit, "temperature_unit": tunit, "A": 9.1, "A_text": "9.1",
+        "B": 1700.0, "B_text": "1700", "C": -40.0 if tunit == "K" else 230.0,
+        "C_text": "-40" if tunit == "K" else "230", "t_min": 280.0, "t_max": 380.0,
+    }  # fmt: skip
+    if tunit != "K":
+        rec["t_min"], rec["t_max"] = 10.0, 100.0
+    got = candidates_for(rec, 0, [])
+    single = [c for c in got if c.kind in ("log-base", "pressure-unit", "temperature-unit")]
+    expected = [
+        " and ".join(c.label for c in combo)
+        for n in (2, 3)
+        for combo in combinations(single, n)
+        if len({c.kind for c in combo}) == n
+    ]
+    assert [c.label for c in got if c.kind == "metadata-combination"] == expected
+    assert expected  # a log base and a pressure unit at least

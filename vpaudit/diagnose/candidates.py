@@ -9,6 +9,7 @@ import re
 from collections import Counter, defaultdict
 from decimal import Decimal, InvalidOperation
 from itertools import combinations as _combinations
+from itertools import product as _product
 from typing import NamedTuple
 
 import numpy as np
@@ -271,20 +272,17 @@ def candidates_for(
     # Two or three metadata slips at once: every pairing of the single metadata fixes above
     # that change different fields (a temperature-unit fix that converted the range counts
     # as one temperature fix).
-    meta = [
-        (k, ch, label)
-        for k in ("log-base", "pressure-unit", "temperature-unit")
-        for ch, label in by_kind.get(k, [])
-    ]
+    # Made kind by kind (one fix of each of two or three kinds), in the order of all the
+    # metadata fixes' pairings: the same candidates as pairing every two fixes and keeping
+    # those of different kinds, without making the others.
+    meta = [by_kind[k] for k in ("log-base", "pressure-unit", "temperature-unit") if by_kind.get(k)]
     for n in (2, 3):
-        for combo in _combinations(meta, n):
-            if len({k for k, _, _ in combo}) < n:
-                continue
-            changes = tuple(c for _, ch, _ in combo for c in ch)
+        for combo in (c for kinds in _combinations(meta, n) for c in _product(*kinds)):
+            changes = tuple(c for ch, _ in combo for c in ch)
             by_kind["metadata-combination"].append(
-                (changes, " and ".join(label for _, _, label in combo))
+                (changes, " and ".join(label for _, label in combo))
             )
-            rare = [implausible[ch] for _, ch, _ in combo if ch in implausible]
+            rare = [implausible[ch] for ch, _ in combo if ch in implausible]
             if rare:
                 implausible[changes] = min(rare)
     if "E" in spec.coefficients:  # the exponent of the power term

@@ -113,11 +113,15 @@ POINT_COLUMNS: tuple[_Col, ...] = (
 _SPECS = {"records": RECORD_COLUMNS, "references": REFERENCE_COLUMNS, "points": POINT_COLUMNS}
 
 
+#: A unit in brackets at the end of a column name: ``Tmin (K)``, ``P [mmHg]``.
+_UNIT_IN_NAME = re.compile(r"\s*[(\[][^)\]]*[)\]]\s*$")
+
+
 def _squashed(name: str) -> str:
     """A column name without case, spaces, underscores, hyphens and a trailing unit in
     brackets: ``Tmin (K)``, ``T_MIN`` and ``t_min`` are one name to :func:`near_column`.
     """
-    name = re.sub(r"\s*[(\[][^)\]]*[)\]]\s*$", "", str(name))
+    name = _UNIT_IN_NAME.sub("", str(name))
     return re.sub(r"[\s_\-]", "", name).casefold()
 
 
@@ -342,13 +346,19 @@ def frame_from_raw(
     for name in raw.columns:
         if name not in known:
             near = near_column(name, known)
+            # a unit written into the header is not read: it goes in the unit columns
+            unit = (
+                " and a unit goes in its own column, not in the header"
+                if _UNIT_IN_NAME.search(str(name))
+                else ""
+            )
             out.error(
                 raw,
                 None,
                 name,
                 f"unknown column {name!r} for {kind}; "
                 + (
-                    f"did you mean {near!r}? (column names are matched exactly)"
+                    f"did you mean {near!r}? (column names are matched exactly{unit})"
                     if near is not None
                     else f"valid columns: {', '.join(c.name for c in spec)}"
                 ),

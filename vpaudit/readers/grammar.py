@@ -62,6 +62,14 @@ _HINTS = {
 _NORMALIZE_TYPOGRAPHY_HINT = " (or pass --normalize-typography to rewrite PDF look-alikes)"
 
 
+#: What spreadsheets and exports write for a missing value (compared without case).
+_MISSING = frozenset(
+    {"nan", "na", "n/a", "n.a.", "#n/a", "null", "none", "missing", "-", "--", "\u2014", "?"}
+)
+#: What they write for an infinite one.
+_INFINITE = frozenset({"inf", "+inf", "-inf", "infinity", "+infinity", "-infinity", "\u221e"})
+
+
 class NumberSyntaxError(ValueError):
     """A cell that is not a number in vpaudit's grammar; the message says why."""
 
@@ -77,6 +85,10 @@ def explain(text: str) -> str:
     stripped = text.strip(" \t")
     if stripped == "":
         return "empty value where a number is required"
+    if stripped.casefold() in _MISSING:
+        return f"{text!r} stands for a missing value, which is an empty cell here"
+    if stripped.casefold() in _INFINITE:
+        return f"{text!r} is not a finite number: only finite values are read"
     for ch in stripped:
         if ch not in _ALLOWED:
             hint = _HINTS.get(ch, "only ASCII digits, sign, '.', and 'e'/'E' are read")

@@ -213,6 +213,18 @@ def test_table_directory_and_kind_mismatch(tmp_path, sample_db):
         load_table(tmp_path / "tbl")
 
 
+def test_a_spreadsheet_in_a_table_folder_is_refused_by_name_and_notes_are_passed_over(tmp_path):
+    """A sheet saved beside the CSV files is a table the user meant to audit: it was passed
+    over in silence, and the audit looked clean. It is refused with its name and what to do;
+    a note in the folder is still not read."""
+    write(tmp_path / "tbl" / "records" / "r.csv", csv_text())
+    (tmp_path / "tbl" / "records" / "README.md").write_text("where these came from\n")
+    assert len(load_table(tmp_path / "tbl").records) == 1
+    (tmp_path / "tbl" / "records" / "more.xlsx").write_bytes(b"PK\x03\x04 not read")
+    with pytest.raises(TableError, match=r"more\.xlsx: a spreadsheet is not read: save each"):
+        load_table(tmp_path / "tbl")
+
+
 def test_no_value_is_ever_different_from_the_text(sample_db):
     t = load_table(sample_db)
     for col in ("A", "B", "C", "t_min", "t_max"):

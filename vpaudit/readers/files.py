@@ -745,16 +745,24 @@ def read_parquet(path: str, data: bytes | None = None) -> RawFrame:
 _READERS = {"csv": read_csv, "yaml": read_yaml, "json": read_json, "parquet": read_parquet}
 
 
+#: Spreadsheet files: never read, but never passed over in silence in a table folder either
+#: (a sheet saved beside the CSV files is a table the user meant to audit).
+SPREADSHEETS = frozenset({".xlsx", ".xlsm", ".xls", ".ods", ".numbers"})
+
+
 def table_files(root: Path) -> list[tuple[Path, str]]:
     """The table files of the directory ``root`` with the kind of each, in reading order:
     ``records/``, ``references/``, ``points/``, each folder's files (at any depth) sorted.
+    A spreadsheet there is listed too, so that reading it says it is not read; other files
+    (notes, backups) are passed over.
     """
     found = []
     for kind in PARTS:
         folder = root / kind
         if folder.is_dir():
             for f in sorted(folder.rglob("*")):
-                if f.is_file() and f.suffix.lower() in SUFFIXES:
+                suffix = f.suffix.lower()
+                if f.is_file() and (suffix in SUFFIXES or suffix in SPREADSHEETS):
                     found.append((f, kind))
     return found
 
@@ -822,8 +830,8 @@ def read_ahead(path: str | Path) -> ReadAhead | None:
     nothing, so it never imports beside the calling thread's imports of pandas and the rest.
     """
     p = Path(path)
-    if p.is_dir():
-        paths = [f for f, _ in table_files(p)]
+    if p.is_dir():  # a spreadsheet is not read ahead: reading it says it is not read
+        paths = [f for f, _ in table_files(p) if f.suffix.lower() in SUFFIXES]
     elif p.is_file() and p.suffix.lower() in SUFFIXES:
         paths = [p]
     else:
@@ -878,6 +886,12 @@ def _read_raw(path: str | Path) -> RawFrame:
     p = Path(path)
     fmt = SUFFIXES.get(p.suffix.lower())
     if fmt is None:
+        if p.suffix.lower() in SPREADSHEETS:
+            raise _err(
+                str(path),
+                "a spreadsheet is not read: save each sheet as CSV (UTF-8) and move the "
+                "spreadsheet out of the table's folders",
+            )
         raise _err(
             str(path),
             f"unknown file type {p.suffix!r}; expected one of {', '.join(sorted(SUFFIXES))}",

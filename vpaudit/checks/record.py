@@ -63,6 +63,27 @@ def range_invalid(ctx: AuditContext, th: dict[str, float]):
         yield Hit(int(row), f"{pr.message}.", {"field": pr.column})
 
 
+def pressure_tiers(ctx: AuditContext, ex) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Which evaluable records ``pressure-not-finite`` reports as not representable, which
+    as a placeholder lower end of the range (finite and within the limit at the top, beyond
+    it only toward the bottom), and which ``pressure-too-low`` reports (a top within the
+    limit but below 1e-30 Pa, whatever the bottom does): one definition for both checks and
+    for the diagnosis's screening. ``ex`` holds the range extrema of ``ctx``'s curves.
+    """
+    lim = ctx.thresholds("pressure-not-finite")["max_abs_lnP"]
+    min_top = ctx.thresholds("pressure-too-low")["min_top_lnP"]
+    with np.errstate(invalid="ignore"):
+        top_ok = np.abs(ex.y_max) <= lim
+        too_low = ctx.evaluable & top_ok & (ex.y_max < min_top) & np.isfinite(ex.y_min)
+        bad = (
+            ctx.evaluable
+            & ~(np.isfinite(ex.y_min) & np.isfinite(ex.y_max) & (np.abs(ex.y_min) <= lim) & top_ok)
+            & ~too_low
+        )
+        at_bottom = bad & np.isfinite(ex.y_min) & (ex.y_min < -lim) & top_ok
+    return bad & ~at_bottom, at_bottom, too_low
+
+
 @check(
     "pressure-not-finite",
     Severity.error,
@@ -87,17 +108,9 @@ def pressure_not_finite(ctx: AuditContext, th: dict[str, float]):
     over its whole range is that check's (an error), not a placeholder.
     """
     lim = th["max_abs_lnP"]
-    min_top = ctx.thresholds("pressure-too-low")["min_top_lnP"]
     ex = ctx.range_extrema
-    with np.errstate(invalid="ignore"):
-        top_ok = np.abs(ex.y_max) <= lim
-        low_top = top_ok & (ex.y_max < min_top)  # pressure-too-low's
-        bad = ctx.evaluable & ~(
-            np.isfinite(ex.y_min) & np.isfinite(ex.y_max) & (np.abs(ex.y_min) <= lim) & top_ok
-        )
-        bad &= ~(low_top & np.isfinite(ex.y_min))
-        at_bottom = np.isfinite(ex.y_min) & (ex.y_min < -lim) & top_ok
-    for i in np.flatnonzero(bad):
+    not_finite, at_bottom, _ = pressure_tiers(ctx, ex)
+    for i in np.flatnonzero(not_finite | at_bottom):
         lo, hi = ex.y_min[i], ex.y_max[i]
         t_lo, t_hi = ctx.curves.t_min[i], ctx.curves.t_max[i]
         if at_bottom[i]:
@@ -154,16 +167,8 @@ def pressure_too_low(ctx: AuditContext, th: dict[str, float]):
     whose top cannot be represented is ``pressure-not-finite``'s; one whose top can, but
     whose bottom falls below what a double holds, is this check's (its top is the fault).
     """
-    lim_finite = ctx.thresholds("pressure-not-finite")["max_abs_lnP"]
     ex = ctx.range_extrema
-    with np.errstate(invalid="ignore"):
-        bad = (
-            ctx.evaluable
-            & (ex.y_max < th["min_top_lnP"])
-            & (ex.y_max >= -lim_finite)
-            & np.isfinite(ex.y_min)
-        )
-    sel = np.flatnonzero(bad)
+    sel = np.flatnonzero(pressure_tiers(ctx, ex)[2])
     top = ex.y_max[sel]
     messages = [
         f"ln(P/Pa) reaches at most {y:.4g} over {kelvin(a)}..{kelvin(b)} (P = "

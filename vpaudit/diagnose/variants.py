@@ -18,7 +18,7 @@ from ..checks._registry import REGISTRY, Severity
 from ..checks.boiling import boiling_residuals
 from ..checks.finding import Finding
 from ..checks.pair import fusion_reference, melting_tolerance
-from ..checks.record import standard_entropy
+from ..checks.record import pressure_tiers, standard_entropy
 from ..constants import R
 from ..equations.engine import evaluate
 from ..readers.files import RawFrame
@@ -406,28 +406,19 @@ def _hard_failures(vctx: AuditContext, unit_of_code: np.ndarray, n: int) -> np.n
     """
     ex = vctx.range_extrema
     ev = vctx.evaluable
-    lim = vctx.thresholds("pressure-not-finite")["max_abs_lnP"]
     th = vctx.thresholds("heat-capacity-sign")
     factor = np.where(vctx.antoine, th["antoine_factor"], 1.0)
+    # the pressure checks' own tiers (a placeholder lower end, a top below 1e-30 Pa)
+    not_finite, at_bottom, too_low = pressure_tiers(vctx, ex)
     with np.errstate(invalid="ignore"):
-        finite = (
-            np.isfinite(ex.y_min)
-            & np.isfinite(ex.y_max)
-            & (np.abs(ex.y_min) <= lim)
-            & (np.abs(ex.y_max) <= lim)
-        )
-        # as pressure-not-finite: a curve beyond the limit only at the bottom of its range
-        # is a placeholder lower end (its own tier), not an unrepresentable curve
-        at_bottom = np.isfinite(ex.y_min) & (ex.y_min < -lim) & (np.abs(ex.y_max) <= lim)
         far = ex.cp_max > th["error_above"] * factor
-        too_low = finite & (ex.y_max < vctx.thresholds("pressure-too-low")["min_top_lnP"])
         flat = (ex.h_min > 0) & (
             ex.h_min / (R * ex.h_min_T) < vctx.thresholds("slope-too-flat")["min_log_slope"]
         )
         tiers = [
-            (ev & ~finite & ~at_bottom, "pressure-not-finite", None),
-            (ev & too_low, "pressure-too-low", None),
-            (ev & ~finite & at_bottom, "pressure-not-finite", "placeholder-lower-end"),
+            (not_finite, "pressure-not-finite", None),
+            (too_low, "pressure-too-low", None),
+            (at_bottom, "pressure-not-finite", "placeholder-lower-end"),
             (ev & ~(ex.h_min > 0), "slope-not-positive", None),
             (ev & flat, "slope-too-flat", None),
             (ev & far, "heat-capacity-sign", "beyond-error-above"),

@@ -376,9 +376,9 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
         ctx, cands, outs, harmful, post, best, before, errors_before, unexplained, cal
     )
     if second is not None:
-        out["second"] = second
+        out["second"], other = second
         # what weighing both fixes together needs (:func:`_weigh_together`)
-        out["together"] = _Together(cands[best], second.pop("candidate"), z, before, errors_before)
+        out["together"] = _Together(cands[best], other, z, before, errors_before)
     return out
 
 
@@ -429,7 +429,8 @@ def _second_fix(ctx, cands, outs, harmful, post, best, before, errors_before, un
     new one beside an old one). The likeliest candidate of another record that clears an
     error of its record alone and one of those the first fix leaves, and leaves on its
     record only errors no single slip explains; held at even odds at most, as a fix weighed
-    one slip at a time. Returns {"suggestion", "clears", "leaves"} or None.
+    one slip at a time. Returns ({"suggestion", "clears", "leaves"}, its candidate) or
+    None.
     """
     row1 = cands[best].row
     left1 = {
@@ -461,12 +462,12 @@ def _second_fix(ctx, cands, outs, harmful, post, best, before, errors_before, un
             f" A second slip beside the fix suggested for {ctx.id(row1)}: each is weighed as"
             " if it were the only one, so neither is stated as more than possible."
         )
-        return {
+        fix = {
             "suggestion": sug,
             "clears": cleared,
             "leaves": _errors_and_warnings(outs[k]) & before,
-            "candidate": c,
         }
+        return fix, c
     return None
 
 

@@ -56,6 +56,19 @@ def _key(f: Finding) -> tuple[str, tuple[str, ...]]:
     return (f.check, tuple(sorted(f.records)))
 
 
+def _errors_and_warnings(out: _Outcome) -> set:
+    """The identities of an outcome's errors and warnings."""
+    return {_key(f) for f in out.findings if f.severity.rank >= 1}
+
+
+def _key_rows(out: _Outcome) -> np.ndarray | None:
+    """An outcome's key as one row per record (:func:`~vpaudit.diagnose.variants._unit_keys`:
+    ln P at five temperatures, the range ends, whether liquid); None if malformed.
+    """
+    k = np.frombuffer(out.key)
+    return None if k.size % _KEY_WIDTH else k.reshape(-1, _KEY_WIDTH)
+
+
 def _rho(z: np.ndarray) -> np.ndarray:
     """The robust (soft-L1) cost of a standardized residual."""
     return 2.0 * (np.sqrt(1.0 + z * z) - 1.0)

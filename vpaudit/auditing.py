@@ -248,8 +248,13 @@ def coverage(ctx: AuditContext) -> dict[str, int]:
         points[pc[pc >= 0]] = True
     per_phase = np.bincount(codes[has], minlength=n)
     # the 298.15 K anchor judges a curve whose range starts within its reach of 298.15 K
-    reach = ctx.policy.thresholds("anchor-enthalpy")["max_ratio"] * 298.15
-    near = has & ctx.evaluable & (ctx.curves.t_min <= reach)
+    reach = ctx.policy.thresholds("anchor-enthalpy")["max_ratio"]
+    near = (
+        has
+        & ctx.evaluable
+        & (ctx.curves.t_min <= reach * 298.15)
+        & (ctx.curves.t_max >= 298.15 / reach)
+    )
     liquid_near = np.bincount(codes[near & ctx.liquid], minlength=n) > 0
     solid_near = np.bincount(codes[near & ctx.solid], minlength=n) > 0
     vaporization = referenced(

@@ -27,6 +27,7 @@ from ._context import AuditContext, match
 from ._registry import Scope, Severity, Threshold, check
 from ._text import kelvin, kj, pressure_at_ln
 from .hits import Hit
+from .joins import outvoted
 
 T_ANCHOR = 298.15
 LN_P0_BAR = float(np.log(1e5))
@@ -221,6 +222,27 @@ def allowances(ctx: AuditContext, a: AnchorValues) -> Allowances:
         )
 
 
+def _outvoted(ctx: AuditContext, a: AnchorValues, al: Allowances, key: str):
+    """For the enthalpy (``key`` "h") or the entropy ("s"): each row of ``a``'s group (its
+    substance, phase and standard value; -1 where the curve is not judged) and whether two
+    or more judged curves of the group miss the value on the same side, beyond the warning
+    allowance, while agreeing with each other within it: several records against one
+    standard value, which ``reference-contradicted`` names instead of an error on each.
+    """
+    if key == "h":
+        implied, ref, allowed, judged = a.h, a.h_ref, al.h_warn, al.h_judged
+    else:
+        implied, ref, allowed, judged = a.s, a.s_ref, al.s_warn, al.s_judged
+    codes_ = ctx.codes[a.rows]
+    judged = judged & (codes_ >= 0)
+    groups = np.full(a.rows.size, -1)
+    if judged.any():
+        cells = np.column_stack([codes_[judged], ctx.liquid[a.rows][judged], ref[judged]])
+        groups[judged] = np.unique(cells, axis=0, return_inverse=True)[1].ravel()
+    with np.errstate(invalid="ignore"):
+        return groups, outvoted(groups, implied - ref, allowed)
+
+
 def _beyond(value, ref, warn, error, judged):
     """Rows beyond the warning bound, and whether each is beyond the error bound too."""
     with np.errstate(invalid="ignore"):
@@ -269,6 +291,7 @@ def anchor_enthalpy(ctx: AuditContext, th: dict[str, float]):
     al = allowances(ctx, a)
     allowed = al.h_warn
     bad, error = _beyond(a.h, a.h_ref, allowed, al.h_error, al.h_judged)
+    bad &= ~_outvoted(ctx, a, al, "h")[1]  # reported once, by reference-contradicted
     for k in np.flatnonzero(bad):
         i = int(a.rows[k])
         rel = (a.h[k] - a.h_ref[k]) / a.h_ref[k]
@@ -317,6 +340,7 @@ def anchor_entropy(ctx: AuditContext, th: dict[str, float]):
     al = allowances(ctx, a)
     allowed = al.s_warn
     bad, error = _beyond(a.s, a.s_ref, allowed, al.s_error, al.s_judged)
+    bad &= ~_outvoted(ctx, a, al, "s")[1]  # reported once, by reference-contradicted
     for k in np.flatnonzero(bad):
         i = int(a.rows[k])
         d = a.s[k] - a.s_ref[k]
@@ -347,11 +371,15 @@ def contradicted_standard_data(ctx: AuditContext):
     own file and line (the checks hold each curve to the value it meets best, so the curves
     draw no finding for it). Curves whose range is too far from 298.15 K to be judged take
     no part.
+
+    So is a standard value that two or more curves of its phase miss on the same side while
+    they agree with each other (:func:`_outvoted`): several records against one value.
     """
     a = anchor_values(ctx)
     if a is None:
         return
     al = allowances(ctx, a)
+    yield from _outvoted_hits(ctx, a, al)
     th = {"h": ctx.thresholds("anchor-enthalpy"), "s": ctx.thresholds("anchor-entropy")}
     growth = {"h": al.h_warn - al.h_base, "s": al.s_warn - al.s_base}
     judged = {k: within_reach(a.ratio, th[k]["max_ratio"]) for k in th}
@@ -401,3 +429,43 @@ def contradicted_standard_data(ctx: AuditContext):
                     file=file,
                     line=line,
                 )
+
+
+def _outvoted_hits(ctx: AuditContext, a: AnchorValues, al: Allowances):
+    """The hits of :func:`contradicted_standard_data` for standard values that the curves
+    of their phase outvote (:func:`_outvoted`), one per value, at the value's file and line.
+    """
+    for key, implied, ref, words, fmt, si in (
+        ("h", a.h, a.h_ref, "enthalpy", kj, "J_per_mol"),
+        ("s", a.s, a.s_ref, "entropy", lambda v: f"{v:.1f} J/(mol K)", "J_per_mol_K"),
+    ):
+        groups, out = _outvoted(ctx, a, al, key)
+        for g in np.unique(groups[out]):
+            k = np.flatnonzero(groups == g)
+            i = int(a.rows[k[0]])
+            what = _what(bool(ctx.liquid[i]))
+            refs = ctx.references_of(f"standard_{words}_of_{what}")
+            at = np.flatnonzero((refs.codes == ctx.codes[i]) & (refs.value == ref[k[0]]))
+            source, file, line = ctx.reference_row_at(int(refs.rows[at[0]]))
+            miss = implied[k] - ref[k]
+            worst = float(miss[np.argmax(np.abs(miss))])
+            ids = tuple(ctx.id(int(x)) for x in a.rows[k])
+            yield Hit(
+                i,
+                f"the reference standard {words} of {what} at 298.15 K {fmt(float(ref[k[0]]))} "
+                f"({source}) disagrees with the {k.size} curves of {', '.join(ids)}, which "
+                f"agree with each other: they imply {fmt(float(np.mean(implied[k])))} (off by "
+                "up to "
+                + (f"{worst / 1000:+.3g} kJ/mol" if key == "h" else f"{worst:+.1f} J/(mol K)")
+                + "). The reference value looks wrong, not the records: check it against its "
+                "source.",
+                {
+                    "quantity": f"standard_{words}_of_{what}",
+                    f"reference_{si}": float(ref[k[0]]),
+                    f"implied_{si}": [float(x) for x in implied[k]],
+                    f"difference_{si}": worst,
+                },
+                records=ids,
+                file=file,
+                line=line,
+            )

@@ -16,6 +16,7 @@ from ._registry import Scope, Severity, Threshold, check
 from ._text import jk, kelvin, ln_ratio, pressure_at_ln
 from .extrapolation import allowance
 from .hits import Hit
+from .joins import outvoted
 
 __all__ = ["BoilingResiduals", "ReferenceMeets", "boiling_residuals"]
 
@@ -107,26 +108,6 @@ def boiling_residuals(ctx: AuditContext) -> BoilingResiduals | None:
         refs.rows[j[best]],
         ReferenceMeets(k.reshape(-1), refs.rows[j], d, met),
     )
-
-
-def _outvoted(ctx: AuditContext, rows: np.ndarray, d: np.ndarray, tol: np.ndarray) -> np.ndarray:
-    """For each row, whether its substance has two or more liquid records that all miss the
-    reference T_b on the same side, beyond their tolerance, while agreeing with each other
-    within it: several sources against one reference value.
-    """
-    out = np.zeros(rows.size, dtype=bool)
-    codes_ = ctx.codes[rows]
-    with np.errstate(invalid="ignore"):
-        miss = ~(np.abs(d) <= tol)
-    for code in np.unique(codes_[miss]):
-        k = np.flatnonzero(codes_ == code)
-        if k.size < 2 or not miss[k].all():
-            continue
-        same_side = (np.sign(d[k]) == np.sign(d[k[0]])).all()
-        agree = (d[k].max() - d[k].min()) <= tol[k].min()
-        if same_side and agree:
-            out[k] = True
-    return out
 
 
 def _corroborated(
@@ -308,7 +289,7 @@ def boiling_point_mismatch(ctx: AuditContext, th: dict[str, float]):
     with np.errstate(invalid="ignore"):
         # a reference that the substance's agreeing sources outvote is reported by
         # reference-contradicted, once, instead of an error on each record
-        bad = ~(np.abs(d) <= tol) & ~_outvoted(ctx, rows, d, tol)
+        bad = ~(np.abs(d) <= tol) & ~outvoted(ctx.codes[rows], d, tol)
     if not bad.any():
         return
     dist = np.maximum(c.t_min - t, t - c.t_max).clip(min=0.0) / t
@@ -421,7 +402,8 @@ def boiling_point_mismatch(ctx: AuditContext, th: dict[str, float]):
     Severity.warning,
     Scope.sources,
     "Several sources of a substance agree with each other and not with its reference normal "
-    "boiling point, or its records meet another reference value (of the boiling point, "
+    "boiling point or standard enthalpy or entropy at 298.15 K, or its records meet another "
+    "reference value (of the boiling point, "
     "the critical temperature or pressure, the melting point, the enthalpy of fusion, or the "
     "standard enthalpy or entropy at 298.15 K) and not this one: the reference looks wrong, "
     "not the records.",
@@ -445,7 +427,8 @@ def reference_contradicted(ctx: AuditContext, th: dict[str, float]):
     critical pressure that the liquids reaching Tc miss while they meet another
     (:func:`vpaudit.checks.critical.contradicted_critical_pressures`), and a reference
     standard enthalpy or entropy at 298.15 K that the curves of its phase miss while they
-    meet another (:func:`vpaudit.checks.anchor.contradicted_standard_data`), and a
+    meet another, or that two or more agreeing curves of its phase miss on the same side
+    (:func:`vpaudit.checks.anchor.contradicted_standard_data`), and a
     reference melting point or enthalpy of fusion that the solid/liquid pairs miss while
     they meet another (:func:`vpaudit.checks.pair.contradicted_melting_points`,
     :func:`vpaudit.checks.pair.contradicted_fusion_enthalpies`).
@@ -469,7 +452,7 @@ def _contradicted_boiling_points(ctx: AuditContext):
     if got is None:
         return
     rows, c, t, d, tol = got.rows, got.curves, got.t, got.d, got.tol
-    out = _outvoted(ctx, rows, d, tol)
+    out = outvoted(ctx.codes[rows], d, tol)
     t_implied = None
     if out.any():
         t_implied = temperature_at(c, LN_P_STANDARD, 0.5 * c.t_min, 3.0 * c.t_max)

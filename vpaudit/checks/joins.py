@@ -6,7 +6,7 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["match", "same_key_pairs"]
+__all__ = ["match", "outvoted", "same_key_pairs"]
 
 
 def match(key_a: np.ndarray, key_b: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -48,3 +48,23 @@ def same_key_pairs(keys: np.ndarray, a: np.ndarray, b: np.ndarray) -> tuple[np.n
     starts = np.repeat(lo - np.concatenate(([0], np.cumsum(counts)[:-1])), counts)
     ib = b_sorted[starts + np.arange(ia.size)]
     return ia.astype(np.int64), ib.astype(np.int64)
+
+
+def outvoted(keys: np.ndarray, d: np.ndarray, tol: np.ndarray) -> np.ndarray:
+    """For each row, whether its group (rows of one ``key``, e.g. a substance and phase) has
+    two or more rows that all miss their reference on the same side, each by ``d`` beyond
+    its tolerance ``tol``, while agreeing with each other within the smallest tolerance:
+    several records against one reference value. Negative keys form no group.
+    """
+    out = np.zeros(keys.size, dtype=bool)
+    with np.errstate(invalid="ignore"):
+        miss = ~(np.abs(d) <= tol) & (keys >= 0)
+    for key in np.unique(keys[miss]):
+        k = np.flatnonzero(keys == key)
+        if k.size < 2 or not miss[k].all():
+            continue
+        same_side = (np.sign(d[k]) == np.sign(d[k[0]])).all()
+        agree = (d[k].max() - d[k].min()) <= tol[k].min()
+        if same_side and agree:
+            out[k] = True
+    return out

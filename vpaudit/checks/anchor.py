@@ -26,6 +26,7 @@ from ..equations.engine import evaluate
 from ._context import AuditContext, match
 from ._registry import Scope, Severity, Threshold, check
 from ._text import kelvin, kj, pressure_at_ln
+from .boiling import boiling_residuals
 from .hits import Hit
 from .joins import outvoted
 
@@ -243,6 +244,20 @@ def _outvoted(ctx: AuditContext, a: AnchorValues, al: Allowances, key: str):
         return groups, outvoted(groups, implied - ref, allowed)
 
 
+def _lands_on_boiling_point(ctx: AuditContext, rows: np.ndarray) -> np.ndarray:
+    """Whether each record of ``rows`` is a liquid whose curve lands on its reference normal
+    boiling point within the unwidened tolerance of ``boiling-point-mismatch``: a witness of
+    its level that no log-base, pressure-unit or temperature-scale slip would leave met.
+    """
+    out = np.zeros(rows.size, dtype=bool)
+    got = boiling_residuals(ctx)
+    if got is None:
+        return out
+    with np.errstate(invalid="ignore"):
+        lands = got.rows[np.abs(got.d) <= got.base]
+    return np.isin(rows, lands)
+
+
 def _beyond(value, ref, warn, error, judged):
     """Rows beyond the warning bound, and whether each is beyond the error bound too."""
     with np.errstate(invalid="ignore"):
@@ -274,7 +289,7 @@ def _what(is_liquid: bool) -> str:
     "1.4 %) and Landolt's liquids (95 % within 17.7 %) against the CRC standard data "
     "carried by chemicals.",
     _ENTHALPY,
-    tiers={"below-error-above": Severity.warning},
+    tiers={"below-error-above": Severity.warning, "boiling-point-met": Severity.warning},
     witness="relative_difference",
 )
 def anchor_enthalpy(ctx: AuditContext, th: dict[str, float]):
@@ -292,6 +307,7 @@ def anchor_enthalpy(ctx: AuditContext, th: dict[str, float]):
     allowed = al.h_warn
     bad, error = _beyond(a.h, a.h_ref, allowed, al.h_error, al.h_judged)
     bad &= ~_outvoted(ctx, a, al, "h")[1]  # reported once, by reference-contradicted
+    lands = _lands_on_boiling_point(ctx, a.rows)
     for k in np.flatnonzero(bad):
         i = int(a.rows[k])
         rel = (a.h[k] - a.h_ref[k]) / a.h_ref[k]
@@ -300,8 +316,13 @@ def anchor_enthalpy(ctx: AuditContext, th: dict[str, float]):
             f"{_where(a.edge[k])}, the "
             f"curve implies dH_{_what(ctx.liquid[i])[:3]}(298) = {kj(a.h[k])} against the "
             f"standard-table {kj(a.h_ref[k])}: {rel * 100:+.1f} %, beyond the allowance of "
-            f"{kj(allowed[k])}. Usual causes: log10 coefficients read as ln or the reverse "
-            "(a factor 2.3), or an Antoine equation in degC marked K.",
+            f"{kj(allowed[k])}. "
+            + (
+                _LANDS.format("a log-base or temperature-scale slip")
+                if lands[k]
+                else "Usual causes: log10 coefficients read as ln or the reverse (a factor "
+                "2.3), or an Antoine equation in degC marked K."
+            ),
             {
                 "enthalpy_J_per_mol": a.h[k],
                 "reference_J_per_mol": a.h_ref[k],
@@ -309,8 +330,26 @@ def anchor_enthalpy(ctx: AuditContext, th: dict[str, float]):
                 "allowance_J_per_mol": allowed[k],
                 "extrapolated_from_K": a.edge[k],
             },
-            tier=None if error[k] else "below-error-above",
+            tier=_tier(error[k], lands[k]),
         )
+
+
+#: What an anchor finding says of a curve that lands on its reference normal boiling point.
+_LANDS = (
+    "The curve lands on its reference normal boiling point, which {} would not leave it "
+    "doing: the standard value, or the curve's shape far from its range, is off; which one, "
+    "this table cannot say."
+)
+
+
+def _tier(error: bool, lands: bool) -> str | None:
+    """An anchor finding's tier: an error beyond ``error_above``, save for a curve that lands
+    on its reference normal boiling point, which a slip of its level would not leave met (a
+    warning: the standard value may be the party that is off); a warning within it.
+    """
+    if not error:
+        return "below-error-above"
+    return "boiling-point-met" if lands else None
 
 
 @check(
@@ -324,7 +363,7 @@ def anchor_enthalpy(ctx: AuditContext, th: dict[str, float]):
     "29 within 2.8 J/(mol K)) and Landolt's liquids (95 % within 13.8 J/(mol K)) against "
     "the CRC standard data carried by chemicals.",
     _ENTROPY,
-    tiers={"below-error-above": Severity.warning},
+    tiers={"below-error-above": Severity.warning, "boiling-point-met": Severity.warning},
     witness="difference_J_per_mol_K",
 )
 def anchor_entropy(ctx: AuditContext, th: dict[str, float]):
@@ -341,6 +380,7 @@ def anchor_entropy(ctx: AuditContext, th: dict[str, float]):
     allowed = al.s_warn
     bad, error = _beyond(a.s, a.s_ref, allowed, al.s_error, al.s_judged)
     bad &= ~_outvoted(ctx, a, al, "s")[1]  # reported once, by reference-contradicted
+    lands = _lands_on_boiling_point(ctx, a.rows)
     for k in np.flatnonzero(bad):
         i = int(a.rows[k])
         d = a.s[k] - a.s_ref[k]
@@ -350,8 +390,13 @@ def anchor_entropy(ctx: AuditContext, th: dict[str, float]):
             f"curve implies the standard entropy of {_what(ctx.liquid[i])} dS0(298) = "
             f"{a.s[k]:.1f} J/(mol K) (P = {pressure_at_ln(a.y[k], a.p[k], 3)}) against the "
             f"standard-table {a.s_ref[k]:.1f} J/(mol K): off by {d:+.1f}, beyond the allowance of "
-            f"{allowed[k]:.3g}. Usual cause: a wrong pressure unit (R ln of the factor: 40.7 "
-            "J/(mol K) for Torr read as Pa, 57 for kPa, 96 for atm or bar).",
+            f"{allowed[k]:.3g}. "
+            + (
+                _LANDS.format("a wrong pressure unit")
+                if lands[k]
+                else "Usual cause: a wrong pressure unit (R ln of the factor: 40.7 J/(mol K) "
+                "for Torr read as Pa, 57 for kPa, 96 for atm or bar)."
+            ),
             {
                 "entropy_J_per_mol_K": a.s[k],
                 "reference_J_per_mol_K": a.s_ref[k],
@@ -359,7 +404,7 @@ def anchor_entropy(ctx: AuditContext, th: dict[str, float]):
                 "allowance_J_per_mol_K": allowed[k],
                 "extrapolated_from_K": a.edge[k],
             },
-            tier=None if error[k] else "below-error-above",
+            tier=_tier(error[k], lands[k]),
         )
 
 

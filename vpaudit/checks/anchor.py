@@ -337,8 +337,8 @@ def anchor_enthalpy(ctx: AuditContext, th: dict[str, float]):
 #: What an anchor finding says of a curve that lands on its reference normal boiling point.
 _LANDS = (
     "The curve lands on its reference normal boiling point, which {} would not leave it "
-    "doing: the standard value, or the curve's shape far from its range, is off; which one, "
-    "this table cannot say."
+    "doing: the standard value, or the curve's shape between its boiling point and 298.15 K, "
+    "is off; which one, this table cannot say."
 )
 
 

@@ -31,6 +31,24 @@ def test_eval_takes_the_temperature_after_the_substance_too(sample_db):
     assert run("eval", sample_db, "ardenite", "1200K", "--pressure", "1Pa").exit_code == 2
 
 
+def test_eval_reads_a_negative_temperature_after_the_substance(sample_db):
+    """'vpaudit eval TABLE rostane -10degC' is that temperature, not an unknown option '-1'
+    (it needed '--' before it); --at -10degC and the options after it read as before."""
+    at = run("eval", sample_db, "rostane", "--at", "-10degC", "--format", "json")
+    assert at.exit_code == 0, at.output
+    for args in (
+        ("rostane", "-10degC"),
+        ("rostane", "-10degC", "--format", "json"),
+        ("--format", "json", "rostane", "-10degC"),
+        ("--format", "json", "rostane", "--", "-10degC"),
+    ):
+        r = run("eval", sample_db, *args)
+        assert r.exit_code == 0, (args, r.output)
+        if "json" in args:
+            assert r.output == at.output
+    assert run("eval", sample_db, "rostane", "-10degC", "--at", "1K").exit_code == 2
+
+
 def test_eval_at_a_pressure_answers_in_the_unit_it_was_asked_in(sample_db):
     # asked at 0.01 Torr, it said "at 1.33322 Pa"; --unit still chooses
     assert run("eval", sample_db, "ardenite", "--pressure", "0.01Torr").output.startswith(

@@ -396,7 +396,30 @@ def checks_cmd(fmt):
 # --- eval ----------------------------------------------------------------------------------
 
 
-@main.command("eval")
+class _NegativeTemperature(click.Command):
+    """``eval``'s command: a temperature after SUBSTANCE that starts with a minus sign
+    (``-10degC``) is read as that temperature, not as an unknown option. It moves to the end
+    of the arguments after ``--``, where click reads only positional arguments; the value of
+    an option (``--at -10degC``) stays where it is.
+    """
+
+    def parse_args(self, ctx, args):  # noqa: D102
+        if "--" not in args:
+            valued = {
+                name
+                for p in self.params
+                if isinstance(p, click.Option) and not p.is_flag
+                for name in p.opts
+            }
+            for k, arg in enumerate(args):
+                negative = len(arg) > 1 and arg[0] == "-" and (arg[1].isdigit() or arg[1] == ".")
+                if negative and not (k and args[k - 1] in valued):
+                    args = [*args[:k], *args[k + 1 :], "--", arg]
+                    break
+        return super().parse_args(ctx, args)
+
+
+@main.command("eval", cls=_NegativeTemperature)
 @click.argument("table", type=click.Path(exists=True))
 @click.argument("substance")
 @click.argument("temperature", required=False, type=TEMPERATURE)
@@ -417,9 +440,8 @@ def checks_cmd(fmt):
 def eval_cmd(table, substance, temperature, at, pressure, unit, extrapolate, fmt):
     """Vapour pressure of SUBSTANCE at a temperature, or the temperature at a pressure.
 
-    The temperature may follow SUBSTANCE (vpaudit eval TABLE water 50degC) or be given
-    with --at (a negative one with --at, or after '--': vpaudit eval TABLE water --
-    -10degC).
+    The temperature may follow SUBSTANCE (vpaudit eval TABLE water 50degC, or -10degC)
+    or be given with --at.
     """
     from .api import open_table
     from .report.answers import render_eval

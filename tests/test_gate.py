@@ -204,6 +204,28 @@ def test_an_acceptance_renewed_after_it_expired_is_the_one_in_force(repo):
     assert "acceptance-expired" not in status and "acceptance-unused" not in status
 
 
+def test_a_hand_written_entry_with_its_substance_and_a_later_accept_are_one_finding(repo):
+    """An entry written by hand with ``substance =`` and a later ``vpaudit accept`` of the
+    same finding (check and record ids, which are unique in a table) are one finding: the
+    later is in force and renews it, and the earlier is history, not a second entry in
+    force that the gate would report as unused."""
+    _head_change(repo)
+    table = repo / "table"
+    (table / "accepted.toml").write_text(
+        '[[accepted]]\ncheck = "slope-not-positive"\nrecords = ["zorvane-l1"]\n'
+        'substance = "zorvane"\nreason = "written by hand"\nby = "steward"\n'
+        "until = 2000-01-01\n",
+        encoding="utf-8",
+    )
+    again = run("accept", table, "slope-not-positive:zorvane-l1", "--reason", "reviewed")
+    assert again.exit_code == 0, again.output
+    assert "replaces the earlier acceptance ('written by hand'" in again.output
+    result = gate(table, "base")
+    status = {f.check: result.status_of(f) for f in result.findings}
+    assert status["slope-not-positive"] == "accepted"
+    assert "acceptance-expired" not in status and "acceptance-unused" not in status
+
+
 def test_a_change_that_touches_nothing_relevant_passes(repo):
     readme = repo / "table" / "README.md"
     readme.write_text(readme.read_text() + "\nA note for stewards.\n")

@@ -68,8 +68,13 @@ class Acceptance:
 
     @property
     def key(self) -> tuple:
-        """The finding it is for: check, record ids (in any order) and substance."""
-        return (self.check, tuple(sorted(self.records)), self.substance)
+        """The finding it is for: check and record ids (in any order), which are unique in a
+        table that reads; the substance only for a finding on no record. An entry written by
+        hand with its substance and a later ``vpaudit accept`` of the finding without it are
+        for one finding.
+        """
+        records = tuple(sorted(self.records))
+        return (self.check, records, None if records else self.substance)
 
 
 def in_force(accepted: list[Acceptance]) -> list[int]:

@@ -511,6 +511,12 @@ def _weigh_together(ctx: AuditContext, diag: dict[str, dict], cal: dict) -> None
         for sug, cand, other in ((first, t.first, t.second), (second, t.second, t.first)):
             sug["confidence"] = conf
             sug["explanation"] = _together_text(ctx, cand, other, conf, t.before, left)
+        # what only both fixes clear (the pair's disagreement at the melting point) is
+        # explained too: it carries the first fix, whose explanation names the second
+        jointly = t.before - _errors_and_warnings(out) - d["clears"] - d["second"]["clears"]
+        for fix in (d, d["second"]):
+            fix["clears"] = fix["clears"] | jointly
+            fix["leaves"] = fix["leaves"] - jointly
         del d["together"]
 
 

@@ -1,5 +1,6 @@
 """Joins on integer keys (the substance codes), vectorized: how checks relate the rows of
-records, references and points without a Python loop.
+records, references and points without a Python loop; and, per key, whether a group of
+records agrees against its reference value (:func:`outvoted`).
 """
 
 from __future__ import annotations

@@ -47,7 +47,10 @@ _CP_MAX = Threshold(
     "allowance",
 )
 _REACH = Threshold(
-    "max_ratio", 2.0, "-", "longest extrapolation judged: range edge / 298.15 K (beyond: none)"
+    "max_ratio",
+    2.0,
+    "-",
+    "longest extrapolation judged: range edge / 298.15 K, or its inverse (beyond: none)",
 )
 # Measured on Landolt's liquids of odd CAS number against the CRC standard data (chemicals):
 # with 298.15 K in the range, |dH(298) - reference| is within 1.5 % for half of 164 curves,
@@ -298,7 +301,10 @@ def anchor_enthalpy(ctx: AuditContext, th: dict[str, float]):
     dH(edge) is the integral of dCp), plus the part of the curve's own change over the
     extrapolation that a dCp of ``cp_max`` would not give. Curves whose range lies more
     than ``max_ratio`` above 298.15 K, or wholly below 298.15 K / ``max_ratio``, are not
-    judged: the extrapolation is too long.
+    judged: the extrapolation is too long. A curve that lands on its reference normal
+    boiling point gets a warning where it would get an error (boiling-point-met): no slip of
+    its level leaves it there, so the standard value may be the party that is off; two or
+    more agreeing curves that miss one standard value leave it to reference-contradicted.
     """
     a = anchor_values(ctx)
     if a is None:
@@ -371,7 +377,8 @@ def anchor_entropy(ctx: AuditContext, th: dict[str, float]):
     ``cp_uncertainty`` times |ln(edge / 298.15 K)| (dS(298) - dS(edge) is the integral of
     dCp/T), plus the part of the curve's own change that ``cp_max`` would not give. A
     pressure-unit slip shifts dS0 by R ln(factor) and leaves dH alone: this is its witness
-    on a lone curve.
+    on a lone curve. The reach, the boiling-point-met warning and the curves that outvote
+    a standard value are as for ``anchor-enthalpy``.
     """
     a = anchor_values(ctx)
     if a is None:

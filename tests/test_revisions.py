@@ -38,6 +38,30 @@ def test_apply_finding_writes_the_fix_and_audits_again(table):
         apply_finding(table, "slope-not-positive:dorvane-s1", by="tester")  # fixed already
 
 
+def test_apply_of_one_of_two_slips_names_the_command_for_the_other(table):
+    """The demo's bellorium (invented) with a second slip, a lost sign of B on its solid:
+    applying the fix on the pair's mismatch at the melting point (the liquid's log base)
+    leaves the solid's errors, and the line that names them gives the command that applies
+    the fix now suggested for them; run, it leaves the substance clean."""
+    metals = table / "records" / "metals.csv"
+    text = metals.read_text()
+    at = next(line for line in text.splitlines() if line.startswith("bellorium-s1,"))
+    assert ",-14736.5418," in at
+    metals.write_text(text.replace(at, at.replace(",-14736.5418,", ",14736.5418,")))
+    spec = "melting-point-mismatch:bellorium-s1,bellorium-l1"
+    first = CliRunner().invoke(main, ["apply", str(table), spec, "--by", "tester"])
+    assert first.exit_code == 0, first.output
+    assert "log_base: 'e' -> '10'" in first.output
+    tail = first.output.split("re-audited bellorium: ", 1)[1]
+    assert "slope-not-positive (bellorium-s1)" in tail
+    command = tail.split("; a fix is suggested for ", 1)[1].split(": vpaudit ", 1)[1].split()
+    assert command[:2] == ["apply", str(table)]
+    second = CliRunner().invoke(main, [*command, "--by", "tester"])
+    assert second.exit_code == 0, second.output
+    assert "B: '14736.5418' -> '-14736.5418'" in second.output
+    assert "re-audited bellorium: clean" in second.output
+
+
 def test_apply_then_history_shows_both_and_only_the_line_changes(table):
     before = _lines(table / "records" / "metals.csv")
     run = CliRunner().invoke(

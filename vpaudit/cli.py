@@ -871,7 +871,7 @@ def apply_cmd(table, finding, reason, by, db):
         _show_entry(e)
     from .report.revisions import remains_line
 
-    _say(f"re-audited {', '.join(done.substances)}: {remains_line(done.left)}")
+    _say(f"re-audited {', '.join(done.substances)}: {remains_line(done.left, table=table)}")
     _reimport(table, db)
 
 

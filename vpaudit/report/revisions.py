@@ -4,6 +4,8 @@ at the terminal about revisions of records. The command line only prints these l
 
 from __future__ import annotations
 
+import shlex
+
 __all__ = ["history_lines", "offer_lines", "revised_line"]
 
 
@@ -55,9 +57,11 @@ def history_lines(record: str, entries: list[dict]) -> list[str]:
     return lines
 
 
-def remains_line(left: list, shown: int = 3) -> str:
+def remains_line(left: list, shown: int = 3, table: str | None = None) -> str:
     """The errors and warnings left after a fix, in words: how many of each, and which
-    (check and records, the first ``shown``), so that what remains is not a surprise.
+    (check and records, the first ``shown``), so that what remains is not a surprise; with
+    ``table``, the command that applies the fix suggested for one of them, if any (a second
+    slip, in another record, that the fix just applied did not explain).
     """
     if not left:
         return "clean (no errors or warnings)"
@@ -70,4 +74,12 @@ def remains_line(left: list, shown: int = 3) -> str:
     named = "; ".join(f"{f.check} ({', '.join(f.records)})" for f in left[:shown])
     more = f" and {len(left) - shown} more (vpaudit audit lists them)" if len(left) > shown else ""
     verb = "remains" if len(left) == 1 else "remain"
-    return f"{' and '.join(counts)} {verb}: {named}{more}"
+    line = f"{' and '.join(counts)} {verb}: {named}{more}"
+    nxt = next((f for f in left if f.suggestion), None) if table is not None else None
+    if nxt is not None:
+        spec = f"{nxt.check}:{','.join(nxt.records)}"
+        line += (
+            f"; a fix is suggested for {nxt.check} ({', '.join(nxt.records)}): "
+            f"vpaudit apply {shlex.quote(str(table))} {shlex.quote(spec)}"
+        )
+    return line

@@ -54,6 +54,7 @@ def test_apply_of_one_of_two_slips_names_the_command_for_the_other(table):
     assert "log_base: 'e' -> '10'" in first.output
     tail = first.output.split("re-audited bellorium: ", 1)[1]
     assert "slope-not-positive (bellorium-s1)" in tail
+    assert "[sign on bellorium-s1, confidence 0." in tail
     command = tail.split("; a fix is suggested for ", 1)[1].split(": vpaudit ", 1)[1].split()
     assert command[:2] == ["apply", str(table)]
     second = CliRunner().invoke(main, [*command, "--by", "tester"])

@@ -6,6 +6,8 @@ from __future__ import annotations
 
 import shlex
 
+from ..checks._text import confidence
+
 __all__ = ["history_lines", "offer_lines", "revised_line"]
 
 
@@ -78,8 +80,11 @@ def remains_line(left: list, shown: int = 3, table: str | None = None) -> str:
     nxt = next((f for f in left if f.suggestion), None) if table is not None else None
     if nxt is not None:
         spec = f"{nxt.check}:{','.join(nxt.records)}"
+        sug = nxt.suggestion
         line += (
-            f"; a fix is suggested for {nxt.check} ({', '.join(nxt.records)}): "
+            f"; a fix is suggested for {nxt.check} ({', '.join(nxt.records)}) "
+            f"[{sug.get('kind', 'fix')} on {sug.get('record', '?')}, confidence "
+            f"{confidence(sug.get('confidence', 0.0))}]: "
             f"vpaudit apply {shlex.quote(str(table))} {shlex.quote(spec)}"
         )
     return line

@@ -120,7 +120,10 @@ def eval_substance(
         The ``vpaudit eval --format json`` contract (see the README).
     """
     if (temperature is None) == (pressure is None):
-        raise VpauditError("give exactly one of a temperature (--at) or a pressure (--pressure)")
+        raise VpauditError(
+            "give exactly one of a temperature (after SUBSTANCE, or --at) or a pressure "
+            "(--pressure)"
+        )
     rows = substance_records(table, substance)
     curves = curves_from_frame(rows)
     n = len(rows)

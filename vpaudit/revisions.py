@@ -416,9 +416,7 @@ def find_finding(result, check: str, ids: list[str]):
     for f in result.findings:
         if f.check == check and sorted(f.records) == want:
             return f
-    near = [
-        f"{f.check}:{','.join(f.records)}" for f in result.findings if set(ids) & set(f.records)
-    ]
+    near = [f.spec for f in result.findings if set(ids) & set(f.records)]
     hint = f"; findings on these records: {', '.join(near)}" if near else ""
     raise RevisionError(f"no finding {check}:{','.join(ids)} in the audit{hint}")
 
@@ -454,10 +452,10 @@ def apply_suggestion(
     sug = finding.suggestion
     if not sug:
         raise RevisionError(
-            f"finding {finding.check}:{','.join(finding.records)} carries no suggestion "
+            f"finding {finding.spec} carries no suggestion "
             "(the evidence does not single out one fix); correct the record by hand"
         )
-    spec = f"{finding.check}:{','.join(finding.records)}"
+    spec = finding.spec
     why = reason or (
         f"{sug['kind']} (confidence {confidence(sug['confidence'])}): {sug['explanation']}"
     )
@@ -536,9 +534,9 @@ def apply_finding(
         )
         if other is not None:
             raise RevisionError(
-                f"finding {finding.check}:{','.join(finding.records)} carries no suggestion: "
+                f"finding {finding.spec} carries no suggestion: "
                 f"the fix suggested for {finding.substance} "
-                f"({other.check}:{','.join(other.records)}) does not explain it; apply that "
+                f"({other.spec}) does not explain it; apply that "
                 "one, or correct the record by hand"
             )
     entries = apply_suggestion(table_path, table, finding, reason, by)

@@ -73,6 +73,11 @@ class Finding:
         """Identity across revisions: check, substance and record ids (not the message)."""
         return (self.check, self.substance, tuple(sorted(self.records)))
 
+    @property
+    def spec(self) -> str:
+        """The finding as ``apply`` and ``accept`` take it: ``CHECK:RECORD[,RECORD]``."""
+        return f"{self.check}:{','.join(self.records)}"
+
     def to_dict(self) -> dict[str, Any]:
         """The JSON form (the output contract), with the location added."""
         return _as_dict(

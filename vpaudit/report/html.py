@@ -326,7 +326,7 @@ def _sections(result, table, plots: bool, max_sections: int) -> list[str]:
                     out.append(
                         f"<li class='fix'>Suggested fix: {_e(f.suggestion['explanation'])} "
                         f"To apply it: <code>vpaudit apply {_e(result.table_path or 'TABLE')} "
-                        f"{_e(f.check)}:{_e(','.join(f.records))}</code></li>"
+                        f"{_e(f.spec)}</code></li>"
                     )
                     shown.add(fix_key(f.suggestion))
         out.append("</ul>")

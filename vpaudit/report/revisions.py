@@ -79,12 +79,11 @@ def remains_line(left: list, shown: int = 3, table: str | None = None) -> str:
     line = f"{' and '.join(counts)} {verb}: {named}{more}"
     nxt = next((f for f in left if f.suggestion), None) if table is not None else None
     if nxt is not None:
-        spec = f"{nxt.check}:{','.join(nxt.records)}"
         sug = nxt.suggestion
         line += (
             f"; a fix is suggested for {nxt.check} ({', '.join(nxt.records)}) "
             f"[{sug.get('kind', 'fix')} on {sug.get('record', '?')}, confidence "
             f"{confidence(sug.get('confidence', 0.0))}]: "
-            f"vpaudit apply {shlex.quote(str(table))} {shlex.quote(spec)}"
+            f"vpaudit apply {shlex.quote(str(table))} {shlex.quote(nxt.spec)}"
         )
     return line

@@ -61,11 +61,7 @@ def render(result, width: int = 100) -> str:
             shown: set = set()  # each substance's fix is explained once
             for f in fs:
                 where = f" ({f.file}{f':{f.line}' if f.line else ''})" if f.file else ""
-                ident = (
-                    f"{f.check}:{','.join(f.records)}"
-                    if status_of
-                    else (f"{f.check}: {', '.join(f.records)}")
-                )
+                ident = f.spec if status_of else (f"{f.check}: {', '.join(f.records)}")
                 lines.append(f"  {f.severity.label:<8}{ident}{where}")
                 lines.extend(wrap.wrap(f.message))
                 if f.suggestion:
@@ -79,7 +75,7 @@ def render(result, width: int = 100) -> str:
                     if not status_of:
                         lines.append(
                             f"      to apply it: vpaudit apply {result.table_path or 'TABLE'} "
-                            f"{f.check}:{','.join(f.records)}"
+                            f"{f.spec}"
                         )
             lines.append("")
 
@@ -106,7 +102,7 @@ def render(result, width: int = 100) -> str:
             by_substance[f.substance].append(f)
         for name, fs in by_substance.items():
             lines.append(f"{name or '(table)'} -- {_counts(fs)}")
-            lines.extend(f"  {f.severity.label:<8}{f.check}:{','.join(f.records)}" for f in fs)
+            lines.extend(f"  {f.severity.label:<8}{f.spec}" for f in fs)
             lines.append("")
         lines.append(
             f"{result.gate.affected} substance(s) changed since {result.gate.base} were "

@@ -118,7 +118,15 @@ def anchor_values(ctx: AuditContext) -> AnchorValues | None:
     A table may keep several sources' standard data for one substance: each curve is held
     to the value of each quantity nearest what it implies (the lower on a tie), as for a
     boiling point, so that the order of the rows never decides.
+
+    Computed once per table (the two checks, ``reference-contradicted`` and the witnesses
+    read it).
     """
+    return ctx.memo(("anchor values",), lambda: _anchor_values(ctx))
+
+
+def _anchor_values(ctx: AuditContext) -> AnchorValues | None:
+    """:func:`anchor_values`, computed."""
     liquid = ctx.liquid
     quantities = {
         "h": ("standard_enthalpy_of_vaporization", "standard_enthalpy_of_sublimation"),
@@ -247,18 +255,21 @@ def _outvoted(ctx: AuditContext, a: AnchorValues, al: Allowances, key: str):
         return groups, outvoted(groups, implied - ref, allowed)
 
 
-def _lands_on_boiling_point(ctx: AuditContext, rows: np.ndarray) -> np.ndarray:
-    """Whether each record of ``rows`` is a liquid whose curve lands on its reference normal
+def _lands_on_boiling_point(ctx: AuditContext, a: AnchorValues) -> np.ndarray:
+    """Whether each record of ``a`` is a liquid whose curve lands on its reference normal
     boiling point within the unwidened tolerance of ``boiling-point-mismatch``: a witness of
     its level that no log-base, pressure-unit or temperature-scale slip would leave met.
+    Computed once per table (both anchor checks read it).
     """
-    out = np.zeros(rows.size, dtype=bool)
-    got = boiling_residuals(ctx)
-    if got is None:
-        return out
-    with np.errstate(invalid="ignore"):
-        lands = got.rows[np.abs(got.d) <= got.base]
-    return np.isin(rows, lands)
+
+    def compute() -> np.ndarray:
+        got = boiling_residuals(ctx)
+        if got is None:
+            return np.zeros(a.rows.size, dtype=bool)
+        with np.errstate(invalid="ignore"):
+            return np.isin(a.rows, got.rows[np.abs(got.d) <= got.base])
+
+    return ctx.memo(("anchor lands on its boiling point",), compute)
 
 
 def _beyond(value, ref, warn, error, judged):
@@ -313,7 +324,7 @@ def anchor_enthalpy(ctx: AuditContext, th: dict[str, float]):
     allowed = al.h_warn
     bad, error = _beyond(a.h, a.h_ref, allowed, al.h_error, al.h_judged)
     bad &= ~_outvoted(ctx, a, al, "h")[1]  # reported once, by reference-contradicted
-    lands = _lands_on_boiling_point(ctx, a.rows)
+    lands = _lands_on_boiling_point(ctx, a)
     for k in np.flatnonzero(bad):
         i = int(a.rows[k])
         rel = (a.h[k] - a.h_ref[k]) / a.h_ref[k]
@@ -387,7 +398,7 @@ def anchor_entropy(ctx: AuditContext, th: dict[str, float]):
     allowed = al.s_warn
     bad, error = _beyond(a.s, a.s_ref, allowed, al.s_error, al.s_judged)
     bad &= ~_outvoted(ctx, a, al, "s")[1]  # reported once, by reference-contradicted
-    lands = _lands_on_boiling_point(ctx, a.rows)
+    lands = _lands_on_boiling_point(ctx, a)
     for k in np.flatnonzero(bad):
         i = int(a.rows[k])
         d = a.s[k] - a.s_ref[k]

@@ -9,7 +9,9 @@ Wagner, Perry's; references through documented ``chemicals`` lookups), per compi
   flagged at error level -- a slip that moves ln P by less than 0.03 everywhere in the
   range (a transposed last digit) is not counted, since no data can tell it;
 * the diagnosis on those: top suggestion is the planted slip, confident (>= 0.8)
-  suggestions that are wrong, and confident suggestions on clean substances.
+  suggestions that are wrong, and confident suggestions on clean substances;
+* the same figures as the compilation's substances come (:func:`overall`): the clean
+  sample and the troubled one (``--troubled`` below) weighted by their shares.
 
 With ``--every-tb`` each substance carries the normal boiling point of every method that
 knows it, not only the first (a table that keeps several sources' values); ``--every-tc``
@@ -669,6 +671,41 @@ def _meets_boiling_points(record: dict, refs: list[dict]) -> bool:
     return not got.findings
 
 
+def overall(name, records, refs, flagged, clean, args) -> str:
+    """The planted-slip figures of a compilation as its substances come: the clean sample
+    (:func:`planted`) and the troubled one (:func:`planted_in_troubled`, the same sample
+    size and seed) each weighted by its share of the compilation's substances (a stratified
+    estimate). A sample of all substances drawn at random would hold a few troubled ones
+    only, and say little about them; the strata are measured apart and weighed.
+
+    The troubled stratum plants no phase swap (its pairs are already inconsistent); its
+    detection is a new error on the slipped record.
+    """
+    global SHOW_WRONG
+    subs = {r["substance"] for r in records}
+    troubled = {r["substance"] for r in records if r["id"] in flagged}
+    show, SHOW_WRONG = SHOW_WRONG, False  # the troubled sample's misses are --troubled's
+    try:
+        got = planted_in_troubled(name, records, refs, flagged, args.sample, args.seed)
+    finally:
+        SHOW_WRONG = show
+    strata = [(len(subs) - len(troubled), clean)]
+    if got[0]:
+        strata.append((len(troubled), got[:5]))
+    total = sum(w for w, _ in strata)
+
+    def rate(k: int) -> float:  # the weighted fraction of planted slips with measure k
+        return sum(w / total * m[k] / m[0] for w, m in strata)
+
+    conf = rate(3)
+    return (
+        f"    as the compilation's substances come ({len(troubled)} of {len(subs)} already "
+        f"draw an error; each stratum weighted by its share): detected {rate(1):.1%}, "
+        f"top-1 right {rate(2):.1%}, confident wrong {(rate(4) / conf if conf else 0):.1%} "
+        f"of the confident (troubled stratum: {got[0]} planted)"
+    )
+
+
 def _rows(header: str, names, measure, row, args) -> None:
     """Print ``header``, then one row per set of real records with planted slips that
     ``measure`` counts (``row`` formats its counts), skipping a set with no case. ``alcock``
@@ -816,6 +853,7 @@ def main() -> None:
             f"    suggested fixes that create a new error when applied: {len(bad)} of {len(made)}",
             dict(Counter(c for _, errs in bad for c in errs).most_common()),
         )
+        print(overall(name, records, refs, flagged, (n, det, right, conf, cw), args))
     calibration_table()
     if not args.only:
         cross_validation()

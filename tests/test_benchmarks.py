@@ -66,6 +66,31 @@ def test_slips_are_planted_in_substances_that_already_draw_an_error():
     assert second <= other
 
 
+def test_overall_figures_weigh_the_clean_and_the_troubled_substances_by_their_share():
+    """benchmarks/compilation_accuracy.py on Perry's table 2-8 (via chemicals): the figures
+    as the compilation's substances come are the clean sample's and the troubled sample's
+    (the same as ``--troubled`` measures) weighted by the substances of each kind."""
+    import re
+
+    out = _benchmark("compilation_accuracy.py", "--only", "perry", "--sample", "30")
+    (row,) = [
+        line.split() for line in out.splitlines() if line.startswith("perry ") and "|" in line
+    ]
+    clean_top1 = float(row[7].rstrip("%")) / 100
+    got = re.search(
+        r"\((\d+) of (\d+) already draw an error; .*top-1 right ([\d.]+)%.*\((?:troubled "
+        r"stratum: )(\d+) planted\)",
+        out,
+    )
+    troubled, subs, top1, planted = int(got[1]), int(got[2]), float(got[3]) / 100, int(got[4])
+    assert troubled == planted == 6 and subs == 340
+    alone = _benchmark("compilation_accuracy.py", "--troubled", "--only", "perry", "--sample", "30")
+    (trow,) = [line.split() for line in alone.splitlines() if line.startswith("perry")]
+    troubled_top1 = float(trow[3].rstrip("%")) / 100
+    expected = (subs - troubled) / subs * clean_top1 + troubled / subs * troubled_top1
+    assert abs(top1 - expected) < 0.0006  # both printed to 0.1 %
+
+
 def test_two_slips_are_planted_one_in_each_record_of_real_pairs():
     """benchmarks/compilation_accuracy.py --two-slips on the Alcock et al. (1984) metal
     pairs (via chemicals): a slip in each record of each clean pair; the columns add up, and

@@ -46,6 +46,13 @@ _CP_MAX = Threshold(
     "largest |dCp| of a real phase change; an extrapolation's change beyond it widens the "
     "allowance",
 )
+_FACTOR = Threshold(
+    "factor",
+    3.0,
+    "-",
+    "coverage factor on a standard value's stated uncertainty, which widens the allowance "
+    "beyond it (as enthalpy-mismatch's)",
+)
 _REACH = Threshold(
     "max_ratio",
     2.0,
@@ -63,6 +70,7 @@ _ENTHALPY = (
     _GROWTH,
     _CP_MAX,
     _REACH,
+    _FACTOR,
 )
 _ENTROPY = (
     Threshold("tolerance", 15.0, "J/(mol K)", "dS0 difference beyond which it is a warning"),
@@ -70,6 +78,7 @@ _ENTROPY = (
     _GROWTH,
     _CP_MAX,
     _REACH,
+    _FACTOR,
 )
 
 
@@ -84,6 +93,8 @@ class AnchorValues(NamedTuple):
     p: np.ndarray  # the curve's P(298) [Pa] (infinite where ln P overflows: see y)
     h_ref: np.ndarray  # standard dH(298) of the phase change, NaN if none [J/mol]
     s_ref: np.ndarray  # standard dS0(298), NaN if none [J/(mol K)]
+    h_u: np.ndarray  # the stated uncertainty of h_ref, NaN if none [J/mol]
+    s_u: np.ndarray  # the stated uncertainty of s_ref, NaN if none [J/(mol K)]
     edge: np.ndarray  # the range edge nearest 298.15 K [K]
     distance: np.ndarray  # |edge - 298.15 K|, the extrapolation [K]
     ratio: np.ndarray  # edge / 298.15 K [-]
@@ -97,7 +108,8 @@ class AnchorValues(NamedTuple):
 class Allowances(NamedTuple):
     """The anchor checks' bounds on |implied - reference| for :class:`AnchorValues`: the
     warning bound with no extrapolation (``*_base``), the warning and error bounds grown
-    with the extrapolation, and where each is judged at all (``*_judged``).
+    with the extrapolation, where each is judged at all (``*_judged``), and whether the
+    standard value's stated uncertainty set the bounds (``*_stated``).
     """
 
     h_base: np.ndarray  # [J/mol]
@@ -108,6 +120,8 @@ class Allowances(NamedTuple):
     s_warn: np.ndarray
     s_error: np.ndarray
     s_judged: np.ndarray  # bool
+    h_stated: np.ndarray  # bool
+    s_stated: np.ndarray  # bool
 
 
 def anchor_values(ctx: AuditContext) -> AnchorValues | None:
@@ -152,14 +166,14 @@ def _anchor_values(ctx: AuditContext) -> AnchorValues | None:
         down = np.sign(edge - T_ANCHOR)  # +1 extrapolated downwards, -1 upwards, 0 in range
         h_change, s_change = down * (h - h_edge), down * (s - s_edge)
     implied = {"h": h, "s": s}
-    ref = {}
+    ref, unc = {}, {}
     for key, (of_liquid, of_solid) in quantities.items():
-        ref[key] = np.full(rows.size, np.nan)
+        ref[key], unc[key] = np.full(rows.size, np.nan), np.full(rows.size, np.nan)
         for quantity, phase in ((of_liquid, liquid[rows]), (of_solid, ~liquid[rows])):
             at = np.flatnonzero(phase)
-            ref[key][at] = ctx.nearest_values(
+            ref[key][at], unc[key][at] = ctx.nearest_values(
                 quantity, rows[at], implied[key][at], lower_on_tie=True
-            )[0]
+            )
     return AnchorValues(
         rows=rows,
         h=h,
@@ -167,6 +181,8 @@ def _anchor_values(ctx: AuditContext) -> AnchorValues | None:
         p=p,
         h_ref=ref["h"],
         s_ref=ref["s"],
+        h_u=unc["h"],
+        s_u=unc["s"],
         edge=edge,
         distance=np.abs(edge - T_ANCHOR),
         ratio=edge / T_ANCHOR,
@@ -197,6 +213,9 @@ def allowances(ctx: AuditContext, a: AnchorValues) -> Allowances:
     """The two checks' allowances for :func:`anchor_values` ``a`` (one definition, for the
     checks and for the diagnosis, which weighs the same residuals).
 
+    A standard value that states its uncertainty u is met within ``factor`` u where that is
+    more than the tolerance (and an error needs more than both ``error_above`` and that):
+    the tolerances are how far real curves land from values that state none.
     Extrapolated, the allowance grows by ``cp_uncertainty`` per kelvin (dH) or per unit of
     |ln(edge / 298.15 K)| (dS0), and by whatever the curve's own change over the
     extrapolation exceeds what a dCp of ``cp_max`` gives. Measured on Landolt's liquids of
@@ -216,21 +235,27 @@ def allowances(ctx: AuditContext, a: AnchorValues) -> Allowances:
         s_real = th_s["cp_max"] * log_ratio
         growth_h = th_h["cp_uncertainty"] * a.distance + _unreal(a.h_change, h_real)
         growth_s = th_s["cp_uncertainty"] * log_ratio + _unreal(a.s_change, s_real)
+        # a stated uncertainty widens a bound beyond it (NaN where none: fmax ignores it)
+        stated_h, stated_s = th_h["factor"] * a.h_u, th_s["factor"] * a.s_u
+        h_base = np.fmax(th_h["tolerance"] * np.abs(a.h_ref), stated_h)
+        s_base = np.fmax(np.full_like(growth_s, th_s["tolerance"]), stated_s)
         return Allowances(
-            h_base=th_h["tolerance"] * np.abs(a.h_ref),
-            h_warn=th_h["tolerance"] * np.abs(a.h_ref) + growth_h,
-            h_error=th_h["error_above"] * np.abs(a.h_ref) + growth_h,
+            h_base=h_base,
+            h_warn=h_base + growth_h,
+            h_error=np.fmax(th_h["error_above"] * np.abs(a.h_ref), stated_h) + growth_h,
             # a curve with no finite value at 298.15 K (its extrapolation meets a pole) is
             # not judged: there is no extrapolation to weigh
             h_judged=np.isfinite(a.h_ref)
             & within_reach(a.ratio, th_h["max_ratio"])
             & np.isfinite(a.h),
-            s_base=np.full_like(growth_s, th_s["tolerance"]),
-            s_warn=th_s["tolerance"] + growth_s,
-            s_error=th_s["error_above"] + growth_s,
+            s_base=s_base,
+            s_warn=s_base + growth_s,
+            s_error=np.fmax(th_s["error_above"], stated_s) + growth_s,
             s_judged=np.isfinite(a.s_ref)
             & within_reach(a.ratio, th_s["max_ratio"])
             & np.isfinite(a.s),
+            h_stated=stated_h > th_h["tolerance"] * np.abs(a.h_ref),
+            s_stated=stated_s > th_s["tolerance"],
         )
 
 
@@ -308,7 +333,8 @@ def _what(is_liquid: bool) -> str:
 )
 def anchor_enthalpy(ctx: AuditContext, th: dict[str, float]):
     """A warning beyond ``tolerance`` times the reference, an error beyond ``error_above``
-    times it, each plus ``cp_uncertainty`` times the kelvins extrapolated (dH(298) -
+    times it (a reference that states its uncertainty u: beyond ``factor`` u where that is
+    more), each plus ``cp_uncertainty`` times the kelvins extrapolated (dH(298) -
     dH(edge) is the integral of dCp), plus the part of the curve's own change over the
     extrapolation that a dCp of ``cp_max`` would not give. Curves whose range lies more
     than ``max_ratio`` above 298.15 K, or wholly below 298.15 K / ``max_ratio``, are not
@@ -333,7 +359,9 @@ def anchor_enthalpy(ctx: AuditContext, th: dict[str, float]):
             f"{_where(a.edge[k])}, the "
             f"curve implies dH_{_what(ctx.liquid[i])[:3]}(298) = {kj(a.h[k])} against the "
             f"standard-table {kj(a.h_ref[k])}: {rel * 100:+.1f} %, beyond the allowance of "
-            f"{kj(allowed[k])}. "
+            f"{kj(allowed[k])}"
+            + _stated(al.h_stated[k], th["factor"], kj(a.h_u[k]))
+            + ". "
             + (
                 _LANDS.format("a log-base or temperature-scale slip")
                 if lands[k]
@@ -346,9 +374,15 @@ def anchor_enthalpy(ctx: AuditContext, th: dict[str, float]):
                 "relative_difference": rel,
                 "allowance_J_per_mol": allowed[k],
                 "extrapolated_from_K": a.edge[k],
+                **({"reference_uncertainty_J_per_mol": a.h_u[k]} if np.isfinite(a.h_u[k]) else {}),
             },
             tier=_tier(error[k], lands[k]),
         )
+
+
+def _stated(widened: bool, factor: float, u: str) -> str:
+    """The words that say a standard value's stated uncertainty ``u`` set the allowance."""
+    return f" ({factor:g} times the standard value's stated uncertainty of {u})" if widened else ""
 
 
 #: What an anchor finding says of a curve that lands on its reference normal boiling point.
@@ -384,7 +418,8 @@ def _tier(error: bool, lands: bool) -> str | None:
     witness="difference_J_per_mol_K",
 )
 def anchor_entropy(ctx: AuditContext, th: dict[str, float]):
-    """A warning beyond ``tolerance``, an error beyond ``error_above``, each plus
+    """A warning beyond ``tolerance``, an error beyond ``error_above`` (a reference that
+    states its uncertainty u: beyond ``factor`` u where that is more), each plus
     ``cp_uncertainty`` times |ln(edge / 298.15 K)| (dS(298) - dS(edge) is the integral of
     dCp/T), plus the part of the curve's own change that ``cp_max`` would not give. A
     pressure-unit slip shifts dS0 by R ln(factor) and leaves dH alone: this is its witness
@@ -408,7 +443,9 @@ def anchor_entropy(ctx: AuditContext, th: dict[str, float]):
             f"curve implies the standard entropy of {_what(ctx.liquid[i])} dS0(298) = "
             f"{a.s[k]:.1f} J/(mol K) (P = {pressure_at_ln(a.y[k], a.p[k], 3)}) against the "
             f"standard-table {a.s_ref[k]:.1f} J/(mol K): off by {d:+.1f}, beyond the allowance of "
-            f"{allowed[k]:.3g}. "
+            f"{allowed[k]:.3g}"
+            + _stated(al.s_stated[k], th["factor"], f"{a.s_u[k]:.3g} J/(mol K)")
+            + ". "
             + (
                 _LANDS.format("a wrong pressure unit")
                 if lands[k]
@@ -421,6 +458,9 @@ def anchor_entropy(ctx: AuditContext, th: dict[str, float]):
                 "difference_J_per_mol_K": d,
                 "allowance_J_per_mol_K": allowed[k],
                 "extrapolated_from_K": a.edge[k],
+                **(
+                    {"reference_uncertainty_J_per_mol_K": a.s_u[k]} if np.isfinite(a.s_u[k]) else {}
+                ),
             },
             tier=_tier(error[k], lands[k]),
         )
@@ -464,6 +504,7 @@ def contradicted_standard_data(ctx: AuditContext):
             k, ref = at[i], refs.rows[j]
             miss = implied[k] - refs.value[j]
             base = th[key]["tolerance"] * (np.abs(refs.value[j]) if key == "h" else 1.0)
+            base = np.fmax(base, th[key]["factor"] * refs.uncertainty[j])  # as allowances()
             met = np.abs(miss) <= base + growth[key][k]
             for r, on, other, sides in ctx.contradictions(a.rows[k], ref, met):
                 by = k[on][sides]

@@ -327,14 +327,32 @@ def melting_tolerance(
     return np.where(by_stated, stated, th["tolerance"]), by_stated, u_tm
 
 
-def fusion_reference(ctx: AuditContext, solid: np.ndarray, implied: np.ndarray) -> np.ndarray:
+def fusion_reference(
+    ctx: AuditContext, solid: np.ndarray, implied: np.ndarray
+) -> tuple[np.ndarray, np.ndarray]:
     """For the pairs of solid records ``solid``, whose curves imply the enthalpy of fusion
     ``implied`` [J/mol], the substance's reference enthalpy of fusion nearest it (the lower
-    on a tie, and where ``implied`` is not a number); NaN where there is none. [J/mol] A
-    table may keep several sources' values: each pair is held to the one it meets best, as
-    for a boiling point, so the order of the rows never decides; with one value, that value.
+    on a tie, and where ``implied`` is not a number) and its stated uncertainty; NaN where
+    there is none (or none is stated). [J/mol] A table may keep several sources' values:
+    each pair is held to the one it meets best, as for a boiling point, so the order of the
+    rows never decides; with one value, that value.
     """
-    return ctx.nearest_values("enthalpy_of_fusion", solid, implied, lower_on_tie=True)[0]
+    return ctx.nearest_values("enthalpy_of_fusion", solid, implied, lower_on_tie=True)
+
+
+def fusion_tolerance(
+    u: np.ndarray, h_sub: np.ndarray, th: dict[str, float]
+) -> tuple[np.ndarray, np.ndarray]:
+    """The tolerance of ``fusion-enthalpy-mismatch``, relative to dH_sub, for pairs whose
+    reference dH_fus states the uncertainty ``u`` [J/mol] (NaN where none) and whose solid
+    implies ``h_sub`` [J/mol]: ``factor`` u / dH_sub where that is larger than
+    ``tolerance``, else ``tolerance``. Returns (tolerance, whether the stated uncertainty set
+    it); the check and the diagnosis both use it.
+    """
+    with np.errstate(invalid="ignore", divide="ignore"):
+        stated = th["factor"] * u / np.abs(h_sub)
+    by_stated = stated > th["tolerance"]  # False where none is stated
+    return np.where(by_stated, stated, th["tolerance"]), by_stated
 
 
 def contradicted_melting_points(ctx: AuditContext):
@@ -541,7 +559,7 @@ def melting_point_mismatch(ctx: AuditContext, th: dict[str, float]):
     bad = ~(np.abs(d) <= tol)
     widened = _widened_tolerance(ctx, rows, tm[rows], tol)
     hfus_imp = R * tm[rows] ** 2 * (s1 - l1)
-    hfus_ref = fusion_reference(ctx, pr.solid[rows], hfus_imp)
+    hfus_ref = fusion_reference(ctx, pr.solid[rows], hfus_imp)[0]
     hfus = np.where(np.isfinite(hfus_ref) & (hfus_ref > 0), hfus_ref, np.abs(hfus_imp))
     k_tol = tol * R * tm[rows] ** 2 / hfus
     excused = np.abs(d) <= widened
@@ -649,7 +667,16 @@ def triple_pressure_mismatch(ctx: AuditContext, th: dict[str, float]):
     "Hess's law at the melting point: dH_sub - dH_vap differs from the reference dH_fus.",
     "Hess's law at the triple point, dH_sub = dH_fus + dH_vap; the residual is measured "
     "relative to dH_sub, the quantity the curves determine.",
-    (Threshold("tolerance", 0.03, "-", "largest |dH_sub - dH_vap - dH_fus| / dH_sub"),),
+    (
+        Threshold("tolerance", 0.03, "-", "largest |dH_sub - dH_vap - dH_fus| / dH_sub"),
+        Threshold(
+            "factor",
+            3.0,
+            "-",
+            "coverage factor on a reference dH_fus's stated uncertainty, which widens the "
+            "tolerance beyond it (as enthalpy-mismatch's)",
+        ),
+    ),
     witness="residual_of_sublimation",
 )
 def fusion_enthalpy_mismatch(ctx: AuditContext, th: dict[str, float]):
@@ -657,37 +684,48 @@ def fusion_enthalpy_mismatch(ctx: AuditContext, th: dict[str, float]):
     of dH_sub, so a 1 % error in one slope becomes a 30-40 % error in the implied dH_fus.
     Hence the residual relative to dH_sub. Evaluated at the reference melting point, else at
     the crossing. A substance with several reference values is judged by the one the pair
-    meets best (:func:`fusion_reference`).
+    meets best (:func:`fusion_reference`); one that states its uncertainty u widens the
+    tolerance to ``factor`` u / dH_sub where that is larger (:func:`fusion_tolerance`).
     """
     pr = ctx.pairs
-    tol = th["tolerance"]
     if not len(ctx.references_of("enthalpy_of_fusion").rows):
         return
     ms = ctx.melting_slopes  # at the reference melting point, else at the crossing
     a = ms.at
     hs, hl = R * a * a * ms.s1, R * a * a * ms.l1
-    ref = fusion_reference(ctx, pr.solid, hs - hl)
+    ref, u = fusion_reference(ctx, pr.solid, hs - hl)
     at = np.where(np.isfinite(pr.tm), pr.tm, pr.t_cross)
     rows = np.flatnonzero(pr.checkable & np.isfinite(ref) & np.isfinite(at))
     if rows.size == 0:
         return
+    tol, by_stated = fusion_tolerance(u, hs, th)
     with np.errstate(invalid="ignore", divide="ignore"):
         residual = (hs - hl - ref) / hs
         # a non-positive slope is slope-not-positive's finding
-        bad = (hs[rows] > 0) & (hl[rows] > 0) & (np.abs(residual[rows]) > tol)
+        bad = (hs[rows] > 0) & (hl[rows] > 0) & (np.abs(residual[rows]) > tol[rows])
     ks = rows[bad]
     at, hs, hl, ref, residual = at[ks], hs[ks], hl[ks], ref[ks], residual[ks]
+    tol, by_stated, u = tol[ks], by_stated[ks], u[ks]
     implied = hs - hl
     messages = [
         f"at {kelvin(atk)} the curves imply dH_sub - dH_vap = {kj(imp)} against "
         f"the reference dH_fus {kj(refk)}: a residual of {rel * 100:+.1f} % of "
-        f"dH_sub ({kj(hsk)}), beyond {tol * 100:g} %."
-        for atk, imp, refk, rel, hsk in zip(
+        f"dH_sub ({kj(hsk)}), beyond {tk * 100:.3g} %"
+        + (
+            f" ({th['factor']:g} times the reference's stated uncertainty of {kj(uk)})"
+            if stated
+            else ""
+        )
+        + "."
+        for atk, imp, refk, rel, hsk, tk, stated, uk in zip(
             at.tolist(),
             implied.tolist(),
             ref.tolist(),
             residual.tolist(),
             hs.tolist(),
+            tol.tolist(),
+            by_stated.tolist(),
+            u.tolist(),
             strict=True,
         )
     ]

@@ -17,7 +17,7 @@ from ..checks._context import AuditContext, match, same_key_pairs
 from ..checks._registry import REGISTRY, Severity
 from ..checks.boiling import boiling_residuals
 from ..checks.finding import Finding
-from ..checks.pair import fusion_reference, melting_tolerance
+from ..checks.pair import fusion_reference, fusion_tolerance, melting_tolerance
 from ..checks.record import pressure_tiers, standard_entropy
 from ..constants import R
 from ..equations.engine import evaluate
@@ -223,7 +223,7 @@ def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
         add(ctx.codes[s], gap / (0.05 * tm))
     # the reference value each pair meets best (without a crossing: the first, which it
     # misses as surely as any)
-    hfus = fusion_reference(ctx, pr.solid, R * pr.t_cross**2 * pr.slope_diff)
+    hfus, u_fus = fusion_reference(ctx, pr.solid, R * pr.t_cross**2 * pr.slope_diff)
     cross = np.isfinite(pr.t_cross) & np.isfinite(hfus)
     # a reference dH_fus is evidence under every hypothesis: one whose curves do not cross
     # cannot meet it, and that counts as broken evidence, as an uncomputable residual does
@@ -235,7 +235,7 @@ def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
         h_sub = R * t * t * ys1
         resid = (R * t * t * pr.slope_diff[cross] - hfus[cross]) / np.abs(h_sub)
         hess = policy.thresholds("fusion-enthalpy-mismatch")
-        add(ctx.codes[s], resid / (0.5 * hess.get("tolerance", 0.03)))
+        add(ctx.codes[s], resid / (0.5 * fusion_tolerance(u_fus[cross], h_sub, hess)[0]))
     rows = np.flatnonzero(ctx.evaluable)
     # the normal boiling point, in ln P, looser the farther it lies outside the range (each
     # liquid against the reference of its substance that it meets best, as the check has it)

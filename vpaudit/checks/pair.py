@@ -622,20 +622,32 @@ def melting_point_mismatch(ctx: AuditContext, th: dict[str, float]):
     Scope.pair,
     "The pressure at the crossing differs from a reference triple-point pressure.",
     "Both curves pass through the triple point (T_tp, P_tp).",
-    (Threshold("tolerance", 0.10, "ln P", "largest |ln P_cross - ln P_tp|"),),
+    (
+        Threshold("tolerance", 0.10, "ln P", "largest |ln P_cross - ln P_tp|"),
+        Threshold(
+            "factor",
+            3.0,
+            "-",
+            "coverage factor on a reference P_tp's stated uncertainty, carried into ln P "
+            "(u / P_tp), which widens the tolerance beyond it (as enthalpy-mismatch's)",
+        ),
+    ),
     witness="difference_lnP",
 )
 def triple_pressure_mismatch(ctx: AuditContext, th: dict[str, float]):
     """Compared in ln P at the crossing (pairs whose curves do not cross are not compared
     here: ``no-crossing`` reports them). A substance with several reference values is
-    judged by the one nearest the pressure at the crossing.
+    judged by the one nearest the pressure at the crossing; one that states its
+    uncertainty u widens the tolerance to ``factor`` u / P_tp where that is larger.
     """
     pr = ctx.pairs
-    tol = th["tolerance"]
-    ptp = ctx.nearest_values(
+    ptp, u = ctx.nearest_values(
         "triple_point_pressure", pr.solid, pr.y_cross, log=True, lower_on_tie=True
-    )[0]
+    )
     with np.errstate(invalid="ignore", divide="ignore"):
+        stated = th["factor"] * u / ptp
+        by_stated = stated > th["tolerance"]  # False where none is stated
+        tol = np.where(by_stated, stated, th["tolerance"])
         diff = pr.y_cross - np.log(ptp)
         bad = pr.checkable & np.isfinite(diff) & (np.abs(diff) > tol)
     ks = np.flatnonzero(bad)
@@ -646,16 +658,30 @@ def triple_pressure_mismatch(ctx: AuditContext, th: dict[str, float]):
         ks,
         [
             f"the curves cross at {pressure(p)} ({kelvin(t)}), "
-            f"{ln_ratio(x)} away from the reference triple-point pressure {pressure(r)}."
-            for p, t, x, r in zip(
-                p_cross.tolist(), pr.t_cross[ks].tolist(), d.tolist(), ref.tolist(), strict=True
+            f"{ln_ratio(x)} away from the reference triple-point pressure {pressure(r)}"
+            + (
+                f", beyond {tk:.3g} ({th['factor']:g} times its stated uncertainty of "
+                f"{pressure(uk)})"
+                if widened
+                else ""
+            )
+            + "."
+            for p, t, x, r, tk, widened, uk in zip(
+                p_cross.tolist(),
+                pr.t_cross[ks].tolist(),
+                d.tolist(),
+                ref.tolist(),
+                tol[ks].tolist(),
+                by_stated[ks].tolist(),
+                u[ks].tolist(),
+                strict=True,
             )
         ],
         {
             "crossing_pressure_Pa": p_cross,
             "reference_Pa": ref,
             "difference_lnP": d,
-            "tolerance_lnP": tol,
+            "tolerance_lnP": tol[ks],
         },
     )
 

@@ -221,21 +221,24 @@ def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
         # a solid range usually ends, and a liquid range starts, at the melting point
         gap = np.abs(ctx.curves.t_max[s] - tm) + np.abs(ctx.curves.t_min[lq] - tm)
         add(ctx.codes[s], gap / (0.05 * tm))
-    # the reference value each pair meets best (without a crossing: the first, which it
-    # misses as surely as any)
-    hfus, u_fus = fusion_reference(ctx, pr.solid, R * pr.t_cross**2 * pr.slope_diff)
-    cross = np.isfinite(pr.t_cross) & np.isfinite(hfus)
-    # a reference dH_fus is evidence under every hypothesis: one whose curves do not cross
-    # cannot meet it, and that counts as broken evidence, as an uncomputable residual does
-    lost = ~np.isfinite(pr.t_cross) & np.isfinite(hfus)
+    # Hess's law as fusion-enthalpy-mismatch tests it: at the reference melting point, else
+    # at the crossing, against the reference value the pair meets best, relative to dH_sub
+    ms = ctx.melting_slopes
+    hs, hl = R * ms.at**2 * ms.s1, R * ms.at**2 * ms.l1
+    hfus, u_fus = fusion_reference(ctx, pr.solid, hs - hl)
+    has_ref = np.isfinite(hfus)
+    # a reference dH_fus is evidence under every hypothesis: a pair with neither a melting
+    # point nor a crossing cannot meet it, and that counts as broken evidence, as an
+    # uncomputable residual does
+    lost = has_ref & ~np.isfinite(ms.at)
     add(ctx.codes[pr.solid[lost]], np.full(int(lost.sum()), np.inf))
-    if cross.any():
-        s, t = pr.solid[cross], pr.t_cross[cross]
-        _, ys1, _ = evaluate(ctx.curves.take(s), t, order=1)
-        h_sub = R * t * t * ys1
-        resid = (R * t * t * pr.slope_diff[cross] - hfus[cross]) / np.abs(h_sub)
+    judged = has_ref & np.isfinite(ms.at)
+    if judged.any():
+        with np.errstate(invalid="ignore", divide="ignore"):
+            resid = (hs[judged] - hl[judged] - hfus[judged]) / np.abs(hs[judged])
         hess = policy.thresholds("fusion-enthalpy-mismatch")
-        add(ctx.codes[s], resid / (0.5 * fusion_tolerance(u_fus[cross], h_sub, hess)[0]))
+        tol = fusion_tolerance(u_fus[judged], hs[judged], hess)[0]
+        add(ctx.codes[pr.solid[judged]], resid / (0.5 * tol))
     rows = np.flatnonzero(ctx.evaluable)
     # the normal boiling point, in ln P, looser the farther it lies outside the range (each
     # liquid against the reference of its substance that it meets best, as the check has it)

@@ -199,14 +199,14 @@ def test_markdown_shows_a_suggestion_when_there_is_one():
 
 
 def test_markdown_explains_a_fix_once_and_names_it_at_its_other_findings(sample_db):
-    """The demo's selmane: one temperature-unit fix clears its six findings. The pull-request
-    comment explains it at the first and says "the same fix" at the others, as the text
-    report does (it repeated the whole explanation on every row)."""
+    """The demo's selmane: one temperature-unit fix clears its seven findings. The
+    pull-request comment explains it at the first and says "the same fix" at the others, as
+    the text report does (it repeated the whole explanation on every row)."""
     md = run("audit", sample_db, "--format", "markdown", "--fail-on", "never").output
     rows = [line for line in md.splitlines() if line.startswith("|") and "| selmane |" in line]
-    assert len(rows) == 6
+    assert len(rows) == 7
     assert sum("Almost certainly the Antoine constants" in r for r in rows) == 1
-    assert sum("**Suggestion:** the same fix \\(temperature-unit, above\\)" in r for r in rows) == 5
+    assert sum("**Suggestion:** the same fix \\(temperature-unit, above\\)" in r for r in rows) == 6
 
 
 def _console(*args, cwd=None):

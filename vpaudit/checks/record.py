@@ -279,6 +279,77 @@ def slope_too_flat(ctx: AuditContext, th: dict[str, float]):
 
 
 @check(
+    "slope-flatter-than-real",
+    Severity.error,
+    Scope.record,
+    "Above 45 K, where only classical fluids are liquid, the curve is flatter than any real "
+    "one: d ln P/d ln T = dH/(R T) falls below 4.",
+    "Clausius-Clapeyron: d ln P/d ln T = dH/(R T dZ) is least at the critical point, about "
+    "-A of the Wagner form (argon, via CoolProp: 5.8 at 0.98 Tc). Measured on the "
+    "compilations via chemicals: of the clean Poling, McGarry, Poling-Wagner and Perry "
+    "equations above 45 K none falls below 4.8 (McGarry's 1-heptanol at its critical point); "
+    "the flatter ones, down to 4.4, are quantum fluids below 45 K.",
+    (
+        Threshold(
+            "min_log_slope",
+            4.0,
+            "-",
+            "least d ln P/d ln T accepted above quantum_limit: a sixth below the least of the "
+            "clean compilations' equations there (4.8)",
+        ),
+        Threshold(
+            "quantum_limit",
+            45.0,
+            "K",
+            "above it no quantum fluid is liquid (critical points via chemicals, method "
+            "MATTHEWS: helium-4 5.19 K, hydrogen 33.2 K, neon 44.4 K)",
+        ),
+    ),
+)
+def slope_flatter_than_real(ctx: AuditContext, th: dict[str, float]):
+    """``slope-too-flat``'s test with the floor of classical fluids, where the curve is least
+    steep above ``quantum_limit``: an Antoine equation in degC marked K (its C 273.15 K too
+    large) rises at a few times R T, like a liquid at its critical point, at pressures no
+    such liquid has, and its pressure level alone can fall inside the entropy band. A
+    curve flatter than ``slope-too-flat``'s floor is that check's. Strong evidence, not
+    proof: the floor lies a sixth below the least real equation, where ``slope-too-flat``'s
+    lies half below it, so the diagnosis weighs it as an ordinary error, not as a curve
+    that cannot exist.
+    """
+    ex = ctx.range_extrema
+    impossible = ctx.thresholds("slope-too-flat")["min_log_slope"]
+    with np.errstate(invalid="ignore", divide="ignore"):
+        ratio = ex.h_min / (R * ex.h_min_T)
+        bad = flatter_than_real(ex, th) & ctx.evaluable & ~(ratio < impossible)
+    sel = np.flatnonzero(bad)
+    h_min, h_min_t, r = ex.h_min[sel], ex.h_min_T[sel], ratio[sel]
+    messages = [
+        f"the implied enthalpy falls to {kj(h)} at {kelvin(t)}, {rk:.2g} R T (d ln P/d ln T "
+        f"= {rk:.2g}): flatter than any real vapour-pressure curve above "
+        f"{th['quantum_limit']:g} K, where only classical fluids are liquid (the least steep "
+        "stay above 4.8, at their critical points). An Antoine equation in degC marked K (C "
+        "273.15 K too large), B and C swapped or a slipped decimal of B is the usual cause."
+        for h, t, rk in zip(h_min.tolist(), h_min_t.tolist(), r.tolist(), strict=True)
+    ]
+    yield Hits(
+        sel,
+        messages,
+        {"enthalpy_min_J_per_mol": h_min, "at_K": h_min_t, "log_slope": r},
+    )
+
+
+def flatter_than_real(ex, th: dict[str, float]) -> np.ndarray:
+    """Whether each curve of the range extrema ``ex`` is flatter than ``min_log_slope`` of
+    ``slope-flatter-than-real`` (``th``) where its enthalpy is least, above
+    ``quantum_limit``, its enthalpy there positive. The check and the diagnosis's screening
+    both use it.
+    """
+    with np.errstate(invalid="ignore", divide="ignore"):
+        ratio = ex.h_min / (R * ex.h_min_T)
+        return (ex.h_min > 0) & (ex.h_min_T >= th["quantum_limit"]) & (ratio < th["min_log_slope"])
+
+
+@check(
     "enthalpy-implausible",
     Severity.error,
     Scope.record,

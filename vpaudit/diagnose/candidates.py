@@ -42,6 +42,8 @@ _DECIMAL_SHIFTS = (-3, -2, -1, 1, 2, 3)
 #: Landolt's odd-CAS equations, none of Poling's): the prior of a temperature-unit fix that
 #: would put it there.
 _POLE_NEAR_RANGE = math.log(0.003)
+#: The same above 0.63 t_min (1.0 % of Landolt's odd-CAS equations, none of Poling's).
+_POLE_NEARER_THAN_MOST = math.log(0.010)
 #: Log of how rare a real liquid equation is whose range starts above 1.2 times its own
 #: normal boiling point (measured on the liquids of four compilations with an implied boiling
 #: point: 0.2 % of Landolt's 2,938 odd-CAS equations, 0.3 % of the 339 Wagner equations of
@@ -322,6 +324,8 @@ def _rarity(pole: float, t_lo: float, tb: float) -> float:
     """
     if pole > 0.85 * t_lo:
         return _POLE_NEAR_RANGE
+    if pole > 0.63 * t_lo:
+        return _POLE_NEARER_THAN_MOST
     if t_lo > 1.2 * tb:
         return _RANGE_ABOVE_BOILING
     return 0.0

@@ -326,9 +326,10 @@ def slope_flatter_than_real(ctx: AuditContext, th: dict[str, float]):
     messages = [
         f"the implied enthalpy falls to {kj(h)} at {kelvin(t)}, {rk:.2g} R T (d ln P/d ln T "
         f"= {rk:.2g}): flatter than any real vapour-pressure curve above "
-        f"{th['quantum_limit']:g} K, where only classical fluids are liquid (the least steep "
-        "stay above 4.8, at their critical points). An Antoine equation in degC marked K (C "
-        "273.15 K too large), B and C swapped or a slipped decimal of B is the usual cause."
+        f"{th['quantum_limit']:g} K, where only classical fluids are liquid (real curves are "
+        "least steep at their critical points, and stay above 4.8 there). An Antoine equation "
+        "in degC marked K (C 273.15 K too large), B and C swapped or a slipped decimal of B is "
+        "the usual cause."
         for h, t, rk in zip(h_min.tolist(), h_min_t.tolist(), r.tolist(), strict=True)
     ]
     yield Hits(

@@ -60,7 +60,15 @@ def boiling_residuals(ctx: AuditContext) -> BoilingResiduals | None:
     is compared with all of them and judged against the one it meets best (the smallest
     |d| over its tolerance), since a reference that another reference and the record
     contradict is the one to doubt (``reference-contradicted`` reports it).
+
+    Computed once per table (the boiling-point check, ``reference-contradicted``, the anchor
+    checks and the witnesses read it); the arrays are shared, not to be changed.
     """
+    return ctx.memo(("boiling residuals",), lambda: _boiling_residuals(ctx))
+
+
+def _boiling_residuals(ctx: AuditContext) -> BoilingResiduals | None:
+    """:func:`boiling_residuals`, computed."""
     th = ctx.thresholds("boiling-point-mismatch")
     refs = ctx.references_of("normal_boiling_point")
     key = np.where(ctx.evaluable & ctx.liquid, ctx.codes, -1)  # negative codes never match

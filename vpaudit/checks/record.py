@@ -262,20 +262,27 @@ def slope_too_flat(ctx: AuditContext, th: dict[str, float]):
     with np.errstate(invalid="ignore", divide="ignore"):
         ratio = ex.h_min / (R * ex.h_min_T)
         bad = ctx.evaluable & (ex.h_min > 0) & (ratio < th["min_log_slope"])
-    sel = np.flatnonzero(bad)
+    yield _flat_hits(
+        ex,
+        np.flatnonzero(bad),
+        ratio,
+        "flatter than any vapour-pressure curve (the flattest real ones, of helium near its "
+        "critical point, stay above 4). An Antoine C far larger than the temperatures (B and C "
+        "swapped) or a slipped decimal of B is the usual cause.",
+    )
+
+
+def _flat_hits(ex, sel: np.ndarray, ratio: np.ndarray, why: str) -> Hits:
+    """The hits of the slope checks for the rows ``sel`` of the range extrema ``ex``, whose
+    d ln P/d ln T where the enthalpy is least is ``ratio``: each message ends in ``why``.
+    """
     h_min, h_min_t, r = ex.h_min[sel], ex.h_min_T[sel], ratio[sel]
     messages = [
         f"the implied enthalpy falls to {kj(h)} at {kelvin(t)}, {rk:.2g} R T (d ln P/d ln T "
-        f"= {rk:.2g}): flatter than any vapour-pressure curve (the flattest real ones, of "
-        "helium near its critical point, stay above 4). An Antoine C far larger than the "
-        "temperatures (B and C swapped) or a slipped decimal of B is the usual cause."
+        f"= {rk:.2g}): {why}"
         for h, t, rk in zip(h_min.tolist(), h_min_t.tolist(), r.tolist(), strict=True)
     ]
-    yield Hits(
-        sel,
-        messages,
-        {"enthalpy_min_J_per_mol": h_min, "at_K": h_min_t, "log_slope": r},
-    )
+    return Hits(sel, messages, {"enthalpy_min_J_per_mol": h_min, "at_K": h_min_t, "log_slope": r})
 
 
 @check(
@@ -321,21 +328,14 @@ def slope_flatter_than_real(ctx: AuditContext, th: dict[str, float]):
     with np.errstate(invalid="ignore", divide="ignore"):
         ratio = ex.h_min / (R * ex.h_min_T)
         bad = flatter_than_real(ex, th) & ctx.evaluable & ~(ratio < impossible)
-    sel = np.flatnonzero(bad)
-    h_min, h_min_t, r = ex.h_min[sel], ex.h_min_T[sel], ratio[sel]
-    messages = [
-        f"the implied enthalpy falls to {kj(h)} at {kelvin(t)}, {rk:.2g} R T (d ln P/d ln T "
-        f"= {rk:.2g}): flatter than any real vapour-pressure curve above "
-        f"{th['quantum_limit']:g} K, where only classical fluids are liquid (real curves are "
-        "least steep at their critical points, and stay above 4.8 there). An Antoine equation "
-        "in degC marked K (C 273.15 K too large), B and C swapped or a slipped decimal of B is "
-        "the usual cause."
-        for h, t, rk in zip(h_min.tolist(), h_min_t.tolist(), r.tolist(), strict=True)
-    ]
-    yield Hits(
-        sel,
-        messages,
-        {"enthalpy_min_J_per_mol": h_min, "at_K": h_min_t, "log_slope": r},
+    yield _flat_hits(
+        ex,
+        np.flatnonzero(bad),
+        ratio,
+        f"flatter than any real vapour-pressure curve above {th['quantum_limit']:g} K, where "
+        "only classical fluids are liquid (real curves are least steep at their critical "
+        "points, and stay above 4.8 there). An Antoine equation in degC marked K (C 273.15 K "
+        "too large), B and C swapped or a slipped decimal of B is the usual cause.",
     )
 
 

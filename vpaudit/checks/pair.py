@@ -660,8 +660,8 @@ def triple_pressure_mismatch(ctx: AuditContext, th: dict[str, float]):
             f"the curves cross at {pressure(p)} ({kelvin(t)}), "
             f"{ln_ratio(x)} away from the reference triple-point pressure {pressure(r)}"
             + (
-                f", beyond {tk:.3g} ({th['factor']:g} times its stated uncertainty of "
-                f"{pressure(uk)})"
+                f", beyond {tk:.3g} in ln P ({th['factor']:g} times its stated uncertainty of "
+                f"{pressure(uk)}, relative to it)"
                 if widened
                 else ""
             )

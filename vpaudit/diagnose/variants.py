@@ -223,6 +223,8 @@ def _misfit(ctx: AuditContext) -> tuple[np.ndarray, np.ndarray]:
         add(ctx.codes[s], gap / (0.05 * tm))
     # Hess's law as fusion-enthalpy-mismatch tests it: at the reference melting point, else
     # at the crossing, against the reference value the pair meets best, relative to dH_sub
+    # (for the pairs the check does not judge too, their ranges far from the melting point:
+    # a candidate must not escape the evidence by moving a range away)
     ms = ctx.melting_slopes
     hs, hl = R * ms.at**2 * ms.s1, R * ms.at**2 * ms.l1
     hfus, u_fus = fusion_reference(ctx, pr.solid, hs - hl)

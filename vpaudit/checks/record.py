@@ -295,7 +295,7 @@ def _flat_hits(ex, sel: np.ndarray, ratio: np.ndarray, why: str) -> Hits:
     "-A of the Wagner form (argon, via CoolProp: 5.8 at 0.98 Tc). Measured on the "
     "compilations via chemicals: of the clean Poling, McGarry, Poling-Wagner and Perry "
     "equations above 45 K none falls below 4.8 (McGarry's 1-heptanol at its critical point); "
-    "the flatter ones, down to 4.4, are quantum fluids below 45 K.",
+    "the one flatter, at 4.4, is Poling's helium-3 at 1.1 K.",
     (
         Threshold(
             "min_log_slope",

@@ -6,6 +6,7 @@ analytic stationary points), on a grid for the Wagner forms.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 
@@ -44,6 +45,14 @@ class RangeExtrema:
     cp_max_T: np.ndarray  # noqa: N815
     cp_lo: np.ndarray
     cp_hi: np.ndarray
+
+    @cached_property
+    def log_slope(self) -> np.ndarray:
+        """The curve's slope on log-log axes, d ln P/d ln T = dH/(R T), where its implied
+        enthalpy is least [-]: the slope checks' measure of how flat a curve is.
+        """
+        with np.errstate(invalid="ignore", divide="ignore"):
+            return self.h_min / (R * self.h_min_T)
 
 
 def extrema_over_ranges(

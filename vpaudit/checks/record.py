@@ -259,24 +259,20 @@ def slope_too_flat(ctx: AuditContext, th: dict[str, float]):
     positive is that check's.
     """
     ex = ctx.range_extrema
-    with np.errstate(invalid="ignore", divide="ignore"):
-        ratio = ex.h_min / (R * ex.h_min_T)
-        bad = ctx.evaluable & (ex.h_min > 0) & (ratio < th["min_log_slope"])
     yield _flat_hits(
         ex,
-        np.flatnonzero(bad),
-        ratio,
+        np.flatnonzero(ctx.evaluable & too_flat(ex, th)),
         "flatter than any vapour-pressure curve (the flattest real ones, of helium near its "
         "critical point, stay above 4). An Antoine C far larger than the temperatures (B and C "
         "swapped) or a slipped decimal of B is the usual cause.",
     )
 
 
-def _flat_hits(ex, sel: np.ndarray, ratio: np.ndarray, why: str) -> Hits:
-    """The hits of the slope checks for the rows ``sel`` of the range extrema ``ex``, whose
-    d ln P/d ln T where the enthalpy is least is ``ratio``: each message ends in ``why``.
+def _flat_hits(ex, sel: np.ndarray, why: str) -> Hits:
+    """The hits of the slope checks for the rows ``sel`` of the range extrema ``ex``: each
+    message ends in ``why``.
     """
-    h_min, h_min_t, r = ex.h_min[sel], ex.h_min_T[sel], ratio[sel]
+    h_min, h_min_t, r = ex.h_min[sel], ex.h_min_T[sel], ex.log_slope[sel]
     messages = [
         f"the implied enthalpy falls to {kj(h)} at {kelvin(t)}, {rk:.2g} R T (d ln P/d ln T "
         f"= {rk:.2g}): {why}"
@@ -324,14 +320,12 @@ def slope_flatter_than_real(ctx: AuditContext, th: dict[str, float]):
     that cannot exist.
     """
     ex = ctx.range_extrema
-    impossible = ctx.thresholds("slope-too-flat")["min_log_slope"]
-    with np.errstate(invalid="ignore", divide="ignore"):
-        ratio = ex.h_min / (R * ex.h_min_T)
-        bad = flatter_than_real(ex, th) & ctx.evaluable & ~(ratio < impossible)
+    bad = (
+        ctx.evaluable & flatter_than_real(ex, th) & ~too_flat(ex, ctx.thresholds("slope-too-flat"))
+    )
     yield _flat_hits(
         ex,
         np.flatnonzero(bad),
-        ratio,
         f"flatter than any real vapour-pressure curve above {th['quantum_limit']:g} K, where "
         "only classical fluids are liquid (real curves are least steep at their critical "
         "points, and stay above 4.8 there). An Antoine equation in degC marked K (C 273.15 K "
@@ -339,15 +333,21 @@ def slope_flatter_than_real(ctx: AuditContext, th: dict[str, float]):
     )
 
 
-def flatter_than_real(ex, th: dict[str, float]) -> np.ndarray:
+def too_flat(ex, th: dict[str, float]) -> np.ndarray:
     """Whether each curve of the range extrema ``ex`` is flatter than ``min_log_slope`` of
-    ``slope-flatter-than-real`` (``th``) where its enthalpy is least, above
-    ``quantum_limit``, its enthalpy there positive. The check and the diagnosis's screening
-    both use it.
+    ``slope-too-flat`` (``th``) where its enthalpy is least, that enthalpy positive. The
+    check and the diagnosis's screening both use it.
     """
-    with np.errstate(invalid="ignore", divide="ignore"):
-        ratio = ex.h_min / (R * ex.h_min_T)
-        return (ex.h_min > 0) & (ex.h_min_T >= th["quantum_limit"]) & (ratio < th["min_log_slope"])
+    with np.errstate(invalid="ignore"):
+        return (ex.h_min > 0) & (ex.log_slope < th["min_log_slope"])
+
+
+def flatter_than_real(ex, th: dict[str, float]) -> np.ndarray:
+    """:func:`too_flat` with ``slope-flatter-than-real``'s floor (``th``), above its
+    ``quantum_limit``. The check and the diagnosis's screening both use it.
+    """
+    with np.errstate(invalid="ignore"):
+        return too_flat(ex, th) & (ex.h_min_T >= th["quantum_limit"])
 
 
 @check(

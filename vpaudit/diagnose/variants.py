@@ -18,7 +18,7 @@ from ..checks._registry import REGISTRY, Severity
 from ..checks.boiling import boiling_residuals
 from ..checks.finding import Finding
 from ..checks.pair import fusion_reference, fusion_tolerance, melting_tolerance
-from ..checks.record import flatter_than_real, pressure_tiers, standard_entropy
+from ..checks.record import flatter_than_real, pressure_tiers, standard_entropy, too_flat
 from ..constants import R
 from ..equations.engine import evaluate
 from ..readers.files import RawFrame
@@ -430,9 +430,7 @@ def _hard_failures(vctx: AuditContext, unit_of_code: np.ndarray, n: int) -> np.n
     not_finite, at_bottom, too_low = pressure_tiers(vctx, ex)
     with np.errstate(invalid="ignore"):
         far = ex.cp_max > th["error_above"] * factor
-        flat = (ex.h_min > 0) & (
-            ex.h_min / (R * ex.h_min_T) < vctx.thresholds("slope-too-flat")["min_log_slope"]
-        )
+        flat = too_flat(ex, vctx.thresholds("slope-too-flat"))
         unreal = flatter_than_real(ex, vctx.thresholds("slope-flatter-than-real")) & ~flat
         tiers = [
             (not_finite, "pressure-not-finite", None),

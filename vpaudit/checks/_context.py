@@ -33,7 +33,14 @@ from .joins import match, same_key_pairs
 if TYPE_CHECKING:
     from ..policy import Policy
 
-__all__ = ["AuditContext", "P_STANDARD", "LN_P_STANDARD", "match", "same_key_pairs"]
+__all__ = [
+    "AuditContext",
+    "P_STANDARD",
+    "LN_P_STANDARD",
+    "match",
+    "same_key_pairs",
+    "stated_tolerance",
+]
 
 #: Standard pressure of the normal boiling point and of Trouton's rule. [Pa]
 P_STANDARD = 101325.0
@@ -47,6 +54,18 @@ class ReferenceRows(NamedTuple):
     codes: np.ndarray  # the substance code of each
     value: np.ndarray  # the value in SI units
     uncertainty: np.ndarray  # its stated absolute uncertainty in SI units, NaN where none
+
+
+def stated_tolerance(th: dict[str, float], u: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """A check's tolerance where a reference states its uncertainty: ``factor`` times that
+    uncertainty ``u``, carried into the check's own scale (NaN where none is stated), where
+    that is larger than ``tolerance``, else ``tolerance``. Returns (tolerance, whether the
+    stated uncertainty set it): one rule for every check that compares with a reference.
+    """
+    with np.errstate(invalid="ignore"):
+        stated = th["factor"] * u
+        by_stated = stated > th["tolerance"]  # False where none is stated
+    return np.where(by_stated, stated, th["tolerance"]), by_stated
 
 
 class AuditContext:

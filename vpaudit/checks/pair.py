@@ -14,7 +14,7 @@ import numpy as np
 
 from ..constants import R
 from ..equations.engine import evaluate_rows
-from ._context import AuditContext, match
+from ._context import AuditContext, match, stated_tolerance
 from ._registry import Scope, Severity, Threshold, check
 from ._text import jk, kelvin, kj, ln_ratio, pressure
 from .extrapolation import allowance
@@ -322,9 +322,8 @@ def melting_tolerance(
     it, that uncertainty [K]); the check and the diagnosis both use it.
     """
     with np.errstate(invalid="ignore"):
-        stated = th["factor"] * np.abs(slope_diff) * u_tm
-    by_stated = stated > th["tolerance"]  # False where none is stated
-    return np.where(by_stated, stated, th["tolerance"]), by_stated, u_tm
+        tol, by_stated = stated_tolerance(th, np.abs(slope_diff) * u_tm)
+    return tol, by_stated, u_tm
 
 
 def fusion_reference(
@@ -350,9 +349,7 @@ def fusion_tolerance(
     it); the check and the diagnosis both use it.
     """
     with np.errstate(invalid="ignore", divide="ignore"):
-        stated = th["factor"] * u / np.abs(h_sub)
-    by_stated = stated > th["tolerance"]  # False where none is stated
-    return np.where(by_stated, stated, th["tolerance"]), by_stated
+        return stated_tolerance(th, u / np.abs(h_sub))
 
 
 def contradicted_melting_points(ctx: AuditContext):
@@ -645,9 +642,7 @@ def triple_pressure_mismatch(ctx: AuditContext, th: dict[str, float]):
         "triple_point_pressure", pr.solid, pr.y_cross, log=True, lower_on_tie=True
     )
     with np.errstate(invalid="ignore", divide="ignore"):
-        stated = th["factor"] * u / ptp
-        by_stated = stated > th["tolerance"]  # False where none is stated
-        tol = np.where(by_stated, stated, th["tolerance"])
+        tol, by_stated = stated_tolerance(th, u / ptp)
         diff = pr.y_cross - np.log(ptp)
         bad = pr.checkable & np.isfinite(diff) & (np.abs(diff) > tol)
     ks = np.flatnonzero(bad)

@@ -12,7 +12,7 @@ import pandas as pd
 from .._columns import eq
 from ..constants import R
 from ..equations.engine import evaluate, heat_capacity_from, temperature_at
-from ._context import LN_P_STANDARD, AuditContext, match
+from ._context import LN_P_STANDARD, AuditContext, match, stated_tolerance
 from ._registry import Scope, Severity, Threshold, check
 from ._text import jk, kelvin, kj, ln_ratio, pressure_at_ln
 from .hits import Hit, Hits
@@ -784,9 +784,7 @@ def enthalpy_mismatch(ctx: AuditContext, th: dict[str, float]):
         u_ref[got.rows] = got.uncertainty
     u_ref = u_ref[ref_rows]
     with np.errstate(invalid="ignore", divide="ignore"):
-        stated = th["factor"] * u_ref / np.abs(ref)
-    widened = stated > th["tolerance"]  # False where none is stated
-    tol = np.where(widened, stated, th["tolerance"])
+        tol, widened = stated_tolerance(th, u_ref / np.abs(ref))
     tol = tol + np.where(~known & (np.exp(y) > 1e4), th["nonideal_allowance"], 0)
     with np.errstate(invalid="ignore"):
         bad = inside & ~(np.abs(rel) <= tol)

@@ -10,6 +10,7 @@ from refdata import invented_antoine, table_from_rows
 
 from vpaudit.auditing import audit_table
 from vpaudit.checks._context import LN_P_STANDARD
+from vpaudit.checks._registry import get_check
 from vpaudit.equations.engine import curves_from_frame, temperature_at
 
 
@@ -132,3 +133,54 @@ def test_a_pressure_beyond_a_float_is_written_from_its_logarithm():
     assert "the curve gives e^-837.1 Pa instead of 101325 Pa" in f.message, f.message
     assert "a factor e^849 in pressure" in f.message
     assert " inf" not in f.message and " 0 Pa" not in f.message
+
+
+def test_the_boiling_over_critical_bound_is_guldbergs_rule_as_measured():
+    """The ratio T_b/T_c of real liquids, from chemicals' normal boiling points (methods
+    CRC_ORG, CRC_INORG, YAWS, COMMON_CHEMISTRY, the first that knows it) and critical
+    temperatures (IUPAC, MATTHEWS, CRC), over every substance of the three critical tables:
+    Guldberg's rule (about 2/3). The bound beyond which a curve's own boiling point is not
+    believed against a reference Tb is its 99.5th percentile."""
+    from chemicals import Tc, critical
+    from compilations import _TB, _TC, _lookup
+
+    cas = (
+        set(critical.critical_data_IUPAC.index)
+        | set(critical.critical_data_Matthews.index)
+        | set(critical.critical_data_CRC.index)
+    )
+    ratios = []
+    for c in sorted(cas):
+        tb, tc = _lookup(Tb, c, _TB), _lookup(Tc, c, _TC)
+        if tb is not None and tc is not None:
+            ratios.append(tb[0] / tc[0])
+    ratios = np.array(ratios)
+    assert ratios.size > 900
+    assert abs(np.median(ratios) - 2 / 3) < 0.03
+    th = {k: t.default for k, t in get_check("boiling-point-mismatch").thresholds.items()}
+    assert abs(np.percentile(ratios, 99.5) - th["boiling_over_critical"]) < 0.01
+
+
+@pytest.mark.parametrize(
+    "rid, change, slip",
+    [
+        # benzene (Poling's Antoine constants) with two digits of B transposed, and sulfur
+        # trioxide with its constants for mmHg: each reaches 101325 Pa at 0.91 and 0.95 of
+        # the reference Tc (IUPAC 562.05 K, MATTHEWS 490.9 K), so the reference Tb is not
+        # taken for one at reduced pressure
+        ("71-43-2-pa-l", {"B": 1814.24}, "digit-transposition"),
+        ("7446-11-9-pa-l", {"A": 9.05084697986706}, "pressure-unit"),
+    ],
+)
+def test_a_curve_boiling_near_its_critical_point_is_blamed_not_the_reference(rid, change, slip):
+    from compilations import poling_antoine
+
+    records, refs = poling_antoine()
+    rec = dict(next(r for r in records if r["id"] == rid), **change)
+    mine = [x for x in refs if x["substance"] == rec["substance"]]
+    assert {x["quantity"] for x in mine} >= {"normal_boiling_point", "critical_temperature"}
+    result = audit_table(table_from_rows([rec], mine))
+    (f,) = [f for f in result.findings if f.check == "boiling-point-mismatch"]
+    assert f.severity.value == "error", f.message
+    assert "of the critical temperature" in f.message
+    assert f.suggestion is not None and f.suggestion["kind"] == slip

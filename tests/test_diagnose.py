@@ -8,6 +8,7 @@ Antoine constants of Poling, Prausnitz & O'Connell, The Properties of Gases and 
 
 from __future__ import annotations
 
+import math
 import random
 from decimal import Decimal
 
@@ -705,6 +706,30 @@ def test_an_error_no_single_slip_explains_does_not_silence_the_fix_of_one_that_d
     result = audit_table(table_from_rows([bad], refs))
     carries = {f.check: f.suggestion is not None for f in result.findings}
     assert carries == {"slope-not-positive": True, "boiling-point-mismatch": False}
+
+
+def test_a_likelier_fix_that_leaves_its_record_broken_gives_way_to_one_that_does_not():
+    """Landolt's 1-tetradecanol (112-72-1, odd-CAS row, via chemicals) with its constants
+    for bar marked Pa (A lowered by ln 1e5). The log-base reading is likelier on its prior
+    (one hypothesis against one per pressure unit) and clears the entropy error, but leaves
+    the record missing its CRC_ORG normal boiling point by far: it does not explain its
+    record. The bar and atm readings clear every error (the record as carried misses that
+    boiling point by 0.19 in ln P, within how far evaluations differ: a warning). The
+    diagnosis said nothing; now it offers the likeliest fix that explains its record, at the
+    low confidence its share of the evidence gives."""
+    from compilations import _complete, landolt
+
+    records, refs = landolt()
+    rec = next(r for r in records if r["id"] == "112-72-1-lb-l" and _complete(r))
+    bad = dict(rec, A=rec["A"] - math.log(1e5))
+    refs = [r for r in refs if r["substance"] == rec["substance"]]
+    sug, flagged = suggestion_for([bad], refs, rec["id"])
+    assert flagged and sug is not None
+    assert sug["kind"] == "pressure-unit" and sug["corrected"]["pressure_unit"] in ("bar", "atm")
+    assert sug["confidence"] < 0.5
+    result = audit_table(table_from_rows([bad], refs))
+    log_base = [f for f in result.findings if f.suggestion and f.suggestion["kind"] == "log-base"]
+    assert not log_base
 
 
 def test_an_anchor_whose_enthalpy_misses_weighs_its_entropy_less():

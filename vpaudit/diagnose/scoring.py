@@ -321,23 +321,25 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
         ),
         key=lambda g: -g[0],
     )
-    if not ranked or ranked[0][0] < max(cal["min_confidence"], post[0]):
-        return {"suggestion": None, "clears": set(), "none": float(post[0])}
-    raw, ks = ranked[0]
-    # equivalent fixes: the one the evidence fits best (to rounding), then the likelier kind,
-    # then the first generated (Torr before mmHg)
-    best = min(ks, key=lambda k: (round(outs[k].score(cal), 3), -cands[k].log_prior, k))
-    cleared = before - _errors_and_warnings(outs[best])
-    if not cleared & errors_before:
-        # warnings alone (a range gap, a small heat-capacity excursion) are no evidence of a
-        # transcription slip: a fix that clears no error is not suggested
-        return {"suggestion": None, "clears": set(), "none": float(post[0])}
-    rid = ctx.id(cands[best].row)
     # the errors no single slip explains, made once and only when asked for
     unexplained = cache(lambda: _unexplained(ctx, cands, outs, harmful, errors_before))
-    # the errors on the fixed record that the fix leaves
-    left = [f for f in outs[best].findings if f.severity is Severity.error and rid in f.records]
-    if cal["require_clear"] and left:
+    # the likeliest fix that explains its own record: where a likelier one fails that, the
+    # next (its confidence is its own posterior share, so it says how little it is sure)
+    for pick in range(len(ranked)):
+        raw, ks = ranked[pick]
+        if raw < max(cal["min_confidence"], post[0]):
+            return {"suggestion": None, "clears": set(), "none": float(post[0])}
+        # equivalent fixes: the one the evidence fits best (to rounding), then the likelier
+        # kind, then the first generated (Torr before mmHg)
+        best = min(ks, key=lambda k: (round(outs[k].score(cal), 3), -cands[k].log_prior, k))
+        cleared = before - _errors_and_warnings(outs[best])
+        if not cleared & errors_before:
+            # warnings alone (a range gap, a small heat-capacity excursion) are no evidence
+            # of a transcription slip: a fix that clears no error is not suggested
+            continue
+        rid = ctx.id(cands[best].row)
+        # the errors on the fixed record that the fix leaves
+        left = [f for f in outs[best].findings if f.severity is Severity.error and rid in f.records]
         # a fix must clear the errors on the record it corrects: one that leaves them is at
         # best part of the story, and is not suggested -- save errors that no single slip
         # explains (a reference the curve misses whatever its reading, a partner phase with
@@ -349,8 +351,17 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
         # the problem it leaves: a solid and liquid 0.38 apart in ln P at the melting
         # point are made to cross by many a fix). Its confidence is held below, and the
         # suggestion names what it leaves.
-        if not _fixes_its_record(ctx, cands[best], outs[best], cleared, errors_before, unexplained):
-            return {"suggestion": None, "clears": set(), "none": float(post[0])}
+        if (
+            cal["require_clear"]
+            and left
+            and not _fixes_its_record(
+                ctx, cands[best], outs[best], cleared, errors_before, unexplained
+            )
+        ):
+            continue
+        break
+    else:
+        return {"suggestion": None, "clears": set(), "none": float(post[0])}
     conf = _stated(raw, cal)
     held = _held_because(ctx, base, outs[best], cands[best])
     if left:  # named with what remains (_suggestion): here only why it holds the fix
@@ -366,8 +377,9 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
     )
     if held_down:
         sug["explanation"] += f" {'. '.join(held)}, so its confidence is held at {SCATTER_CAP:g}."
-    if len(ranked) > 1 and ranked[1][0] >= 0.5 * raw:  # a close runner-up is reported too
-        raw2, ks2 = ranked[1]
+    after = ranked[pick + 1 :]
+    if after and after[0][0] >= 0.5 * raw:  # a close runner-up is reported too
+        raw2, ks2 = after[0]
         k2 = ks2[0]
         c2 = _stated(raw2, cal)
         cleared2 = before - _errors_and_warnings(outs[k2])

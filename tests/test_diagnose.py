@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import math
 import random
+import re
 from decimal import Decimal
 
 import numpy as np
@@ -730,6 +731,11 @@ def test_a_likelier_fix_that_leaves_its_record_broken_gives_way_to_one_that_does
     result = audit_table(table_from_rows([bad], refs))
     log_base = [f for f in result.findings if f.suggestion and f.suggestion["kind"] == "log-base"]
     assert not log_base
+    # the close runner-up (the other of bar and atm) is shown rounded down, as the fix's
+    # own figure is, never above it (it read "confidence 0.07" beside "runner-up (0.08)")
+    shown = float(re.search(r"confidence (\d\.\d\d)\]", sug["explanation"]).group(1))
+    runner = float(re.search(r"Close runner-up \((\d\.\d\d)\)", sug["explanation"]).group(1))
+    assert runner <= shown
 
 
 def test_an_anchor_whose_enthalpy_misses_weighs_its_entropy_less():

@@ -13,6 +13,7 @@ import numpy as np
 
 from ..checks._context import AuditContext
 from ..checks._registry import REGISTRY, Severity
+from ..checks._text import confidence
 from ..checks.finding import Finding, Findings
 from ..equations.forms import FORMS
 from ..substance import records_at
@@ -384,7 +385,8 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
         c2 = _stated(raw2, cal)
         cleared2 = before - _errors_and_warnings(outs[k2])
         sug["runner_up"] = _suggestion(ctx, cands[k2], outs[k2], c2, cleared2, before, ks2, cands)
-        sug["explanation"] += f" Close runner-up ({c2:.2f}): {cands[k2].label}."
+        # shown rounded down, as the suggestion's own figure is: never above the fix's
+        sug["explanation"] += f" Close runner-up ({confidence(c2)}): {cands[k2].label}."
     leaves = _errors_and_warnings(outs[best]) & before
     out = {"suggestion": sug, "clears": cleared, "leaves": leaves, "none": float(post[0])}
     second = _second_fix(

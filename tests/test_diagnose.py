@@ -728,6 +728,9 @@ def test_a_likelier_fix_that_leaves_its_record_broken_gives_way_to_one_that_does
     assert flagged and sug is not None
     assert sug["kind"] == "pressure-unit" and sug["corrected"]["pressure_unit"] in ("bar", "atm")
     assert sug["confidence"] < 0.5
+    # it says which likelier reading it passed over, and why
+    passed = "A likelier reading is not suggested, since it leaves an error on 112-72-1-lb-l: "
+    assert passed + "the coefficients are for log10 P" in sug["explanation"]
     result = audit_table(table_from_rows([bad], refs))
     log_base = [f for f in result.findings if f.suggestion and f.suggestion["kind"] == "log-base"]
     assert not log_base

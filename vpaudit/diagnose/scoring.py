@@ -326,6 +326,8 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
     unexplained = cache(lambda: _unexplained(ctx, cands, outs, harmful, errors_before))
     # the likeliest fix that explains its own record: where a likelier one fails that, the
     # next (its confidence is its own posterior share, so it says how little it is sure)
+    # likelier fixes that do not explain their record, and why
+    passed_over: list[tuple[Candidate, str]] = []
     for pick in range(len(ranked)):
         raw, ks = ranked[pick]
         if raw < max(cal["min_confidence"], post[0]):
@@ -337,6 +339,7 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
         if not cleared & errors_before:
             # warnings alone (a range gap, a small heat-capacity excursion) are no evidence
             # of a transcription slip: a fix that clears no error is not suggested
+            passed_over.append((cands[best], "clears no error on"))
             continue
         rid = ctx.id(cands[best].row)
         # the errors on the fixed record that the fix leaves
@@ -359,6 +362,7 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
                 ctx, cands[best], outs[best], cleared, errors_before, unexplained
             )
         ):
+            passed_over.append((cands[best], "leaves an error on"))
             continue
         break
     else:
@@ -378,6 +382,12 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
     )
     if held_down:
         sug["explanation"] += f" {'. '.join(held)}, so its confidence is held at {SCATTER_CAP:g}."
+    if passed_over:
+        other, why = passed_over[0]
+        sug["explanation"] += (
+            f" A likelier reading is not suggested, since it {why} {ctx.id(other.row)}: "
+            f"{other.label}."
+        )
     after = ranked[pick + 1 :]
     if after and after[0][0] >= 0.5 * raw:  # a close runner-up is reported too
         raw2, ks2 = after[0]

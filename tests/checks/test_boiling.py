@@ -166,7 +166,7 @@ def test_the_boiling_over_critical_bound_is_guldbergs_rule_as_measured():
     [
         # benzene (Poling's Antoine constants) with two digits of B transposed, and sulfur
         # trioxide with its constants for mmHg: each reaches 101325 Pa at 0.91 and 0.95 of
-        # the reference Tc (IUPAC 562.05 K, MATTHEWS 490.9 K), so the reference Tb is not
+        # the reference Tc (IUPAC 562.05 K, MATTHEWS 491.0 K), so the reference Tb is not
         # taken for one at reduced pressure
         ("71-43-2-pa-l", {"B": 1814.24}, "digit-transposition"),
         ("7446-11-9-pa-l", {"A": 9.05084697986706}, "pressure-unit"),

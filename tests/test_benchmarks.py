@@ -88,7 +88,9 @@ def test_overall_figures_weigh_the_clean_and_the_troubled_substances_by_their_sh
     (trow,) = [line.split() for line in alone.splitlines() if line.startswith("perry")]
     troubled_top1 = float(trow[3].rstrip("%")) / 100
     expected = (subs - troubled) / subs * clean_top1 + troubled / subs * troubled_top1
-    assert abs(top1 - expected) < 0.0006  # both printed to 0.1 %
+    # each figure is printed to 0.1 %: the weighted sum of two printed figures and the
+    # printed total each carry up to 0.05 % of rounding
+    assert abs(top1 - expected) < 0.0010001
 
 
 def test_two_slips_are_planted_one_in_each_record_of_real_pairs():

@@ -729,6 +729,70 @@ def _delta_z(ctx: AuditContext, rows: np.ndarray, t: np.ndarray, y: np.ndarray):
 
 
 @check(
+    "term-without-effect",
+    Severity.error,
+    Scope.record,
+    "A fitted D T^E term changes ln P by almost nothing over the range.",
+    "A coefficient a fit gave changes the curve it was fitted to; a term worth less than a "
+    "part per million in P was not printed by any source (the least such term of Perry's 339 "
+    "power-term equations is worth 0.0055 in ln P; docs/calibration.md).",
+    (
+        Threshold(
+            "least_effect",
+            1.0e-6,
+            "ln P",
+            "largest change of ln P over the range below which a nonzero D T^E term is "
+            "taken to have no effect (a part per million in P)",
+        ),
+    ),
+)
+def term_without_effect(ctx: AuditContext, th: dict[str, float]):
+    """The D T^E term of a log-linear record (the four-term and power-term forms) is worth
+    abs(D T^E) in ln P, largest at one end of the range (a power of T is monotone). A nonzero D
+    whose term stays below ``least_effect`` everywhere in the range cannot be the fitted
+    equation: a lost sign of the exponent E turns Perry's D T^6, worth 0.005-1 in ln P, into
+    D T^-6, worth 1e-32; a slipped decimal of E (6 read as 0.6) does the same. The curve as
+    written lacks the term the source fitted, which moved it by up to a few tenths in ln P.
+    """
+    rows, effect = _weak_terms(ctx, th)
+    if not rows.size:
+        return
+    e = ctx.curves.params[rows, 4]
+    yield Hits(
+        rows,
+        [
+            f"its D T^E term (E = {ex:g}) changes ln P by at most {ef:.2g} over the range, "
+            "less than a part per million in P: a fitted term has an effect. A lost sign of "
+            "the exponent E, or a slipped decimal of E or D, is the usual cause."
+            for ex, ef in zip(e.tolist(), effect.tolist(), strict=True)
+        ],
+        {"term_effect_max_lnP": effect},
+    )
+
+
+def _weak_terms(ctx: AuditContext, th: dict[str, float]) -> tuple[np.ndarray, np.ndarray]:
+    """The rows whose D T^E term changes ln P by less than ``least_effect`` over their
+    range, and by how much at most (abs(D T^E) at the end of the range where it is largest).
+    """
+    c = ctx.curves
+    rows = np.flatnonzero(ctx.evaluable & c.power_term)
+    d, e = c.params[rows, 3], c.params[rows, 4]
+    with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+        effect = np.fmax(np.abs(d * c.t_min[rows] ** e), np.abs(d * c.t_max[rows] ** e))
+    bad = effect < th["least_effect"]
+    return rows[bad], effect[bad]
+
+
+def without_effect(ctx: AuditContext, th: dict[str, float]) -> np.ndarray:
+    """Which records carry a D T^E term without effect (``term-without-effect``), as a
+    mask over all records (for the diagnosis's screening).
+    """
+    mask = np.zeros(ctx.n, dtype=bool)
+    mask[_weak_terms(ctx, th)[0]] = True
+    return mask
+
+
+@check(
     "enthalpy-mismatch",
     Severity.warning,
     Scope.record,

@@ -18,7 +18,13 @@ from ..checks._registry import REGISTRY, Severity
 from ..checks.boiling import boiling_residuals
 from ..checks.finding import Finding
 from ..checks.pair import fusion_reference, fusion_tolerance, melting_tolerance
-from ..checks.record import flatter_than_real, pressure_tiers, standard_entropy, too_flat
+from ..checks.record import (
+    flatter_than_real,
+    pressure_tiers,
+    standard_entropy,
+    too_flat,
+    without_effect,
+)
 from ..constants import R
 from ..equations.engine import evaluate
 from ..readers.files import RawFrame
@@ -417,8 +423,9 @@ def _severity(vctx: AuditContext, check: str, tier: str | None = None) -> Severi
 def _hard_failures(vctx: AuditContext, unit_of_code: np.ndarray, n: int) -> np.ndarray:
     """Errors and warnings that some checks must report for each unit (pressure-not-finite,
     pressure-too-low, slope-not-positive, slope-too-flat, slope-flatter-than-real,
-    heat-capacity-sign, no-crossing, melting-point-mismatch), counted from the same arrays
-    as those checks without building findings: a lower bound of each unit's findings cost.
+    term-without-effect, heat-capacity-sign, no-crossing, melting-point-mismatch), counted
+    from the same arrays as those checks without building findings: a lower bound of each
+    unit's findings cost.
     Returns an (n, 3) array of counts: errors, warnings, and errors of checks that declare
     the curve impossible (:attr:`CheckSpec.impossible`).
     """
@@ -439,6 +446,11 @@ def _hard_failures(vctx: AuditContext, unit_of_code: np.ndarray, n: int) -> np.n
             (ev & ~(ex.h_min > 0), "slope-not-positive", None),
             (ev & flat, "slope-too-flat", None),
             (ev & unreal, "slope-flatter-than-real", None),
+            (
+                without_effect(vctx, vctx.thresholds("term-without-effect")),
+                "term-without-effect",
+                None,
+            ),
             (ev & far, "heat-capacity-sign", "beyond-error-above"),
             (ev & (ex.cp_max > th["tolerance"] * factor) & ~far, "heat-capacity-sign", None),
         ]

@@ -95,6 +95,13 @@ class Curves:
         return (self.family == LOG_LINEAR) & (self.params[:, 3] == 0)
 
     @property
+    def power_term(self) -> np.ndarray:
+        """Which curves are log-linear with a D T^E term (D, E in slots 3 and 4, canonical:
+        the term is in ln P), y = A + B/T + C ln T + D T^E.
+        """
+        return (self.family == LOG_LINEAR) & (self.params[:, 3] != 0)
+
+    @property
     def own_t_crit(self) -> np.ndarray:
         """Each curve's own critical temperature (Wagner equations), NaN elsewhere. [K]"""
         return np.where(self.is_wagner, self.params[:, 6], np.nan)

@@ -35,16 +35,22 @@ def test_every_power_term_of_perrys_table_has_an_effect():
     assert not result.findings
 
 
+def _exponent_sign_lost(rid: str):
+    """Perry's record ``rid`` with the sign of its exponent E lost, audited beside its
+    substance's references: (the record, the slipped record, the references, the result)."""
+    records, refs = perry()
+    rec = next(r for r in records if r["id"] == rid)
+    bad = dict(rec, E=-rec["E"])
+    refs = [r for r in refs if r["substance"] == rec["substance"]]
+    return rec, bad, refs, audit_table(table_from_rows([bad], refs))
+
+
 def test_a_lost_sign_of_the_exponent_is_found():
     # Perry's 1-butene (106-98-9) with E = 6 entered as -6: the T^6 term, worth 0.27 in ln P
     # at 419.5 K, becomes worth 1e-28, and only the critical point (a note: 0.27 in ln P off
     # the reference Pc) moved. The error names the usual cause; with no other witness the
     # diagnosis does not single out the fix (a lone error weighs as any other)
-    records, refs = perry()
-    rec = next(r for r in records if r["id"] == "106-98-9-pe")
-    bad = dict(rec, E=-rec["E"])
-    refs = [r for r in refs if r["substance"] == rec["substance"]]
-    result = audit_table(table_from_rows([bad], refs))
+    _, bad, refs, result = _exponent_sign_lost("106-98-9-pe")
     errors = [f for f in result.findings if f.severity.value == "error"]
     assert [f.check for f in errors] == ["term-without-effect"]
     assert "A lost sign of the exponent E" in errors[0].message
@@ -59,11 +65,7 @@ def test_a_lost_sign_of_the_exponent_is_found():
 def test_a_lost_sign_of_the_exponent_beside_a_boiling_point_is_undone():
     # Perry's acrylic acid (79-10-7): C4 T^2 with E entered as -2. Its CRC boiling point,
     # inside the range, is missed by the term lost (0.09 in ln P), which names the fix
-    records, refs = perry()
-    rec = next(r for r in records if r["id"] == "79-10-7-pe")
-    bad = dict(rec, E=-rec["E"])
-    refs = [r for r in refs if r["substance"] == rec["substance"]]
-    result = audit_table(table_from_rows([bad], refs))
+    rec, _, _, result = _exponent_sign_lost("79-10-7-pe")
     (f,) = [f for f in result.findings if f.check == "term-without-effect"]
     sug = f.suggestion
     assert sug is not None and sug["kind"] == "sign" and sug["corrected"] == {"E": rec["E"]}

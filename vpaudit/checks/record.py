@@ -750,9 +750,10 @@ def term_without_effect(ctx: AuditContext, th: dict[str, float]):
     """The D T^E term of a log-linear record (the four-term and power-term forms) is worth
     abs(D T^E) in ln P, largest at one end of the range (a power of T is monotone). A nonzero D
     whose term stays below ``least_effect`` everywhere in the range cannot be the fitted
-    equation: a lost sign of the exponent E turns Perry's D T^6, worth 0.005-1 in ln P, into
-    D T^-6, worth 1e-32; a slipped decimal of E (6 read as 0.6) does the same. The curve as
-    written lacks the term the source fitted, which moved it by up to a few tenths in ln P.
+    equation: a lost sign of the exponent E turns Perry's D T^6 (D about 1e-17; Perry's terms
+    are worth 0.0055 to 49 in ln P over their ranges, 1.4 at the median) into D T^-6, worth
+    1e-28 or less; a slipped decimal of E (6 read as 0.6) does the same. The curve as written
+    lacks the term the source fitted.
     """
     rows, effect = _weak_terms(ctx, th)
     if not rows.size:

@@ -326,8 +326,8 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
     unexplained = cache(lambda: _unexplained(ctx, cands, outs, harmful, errors_before))
     # the likeliest fix that explains its own record: where a likelier one fails that, the
     # next (its confidence is its own posterior share, so it says how little it is sure)
-    # likelier fixes that do not explain their record, and why
-    passed_over: list[tuple[Candidate, str]] = []
+    # the likeliest fix passed over for not explaining its record, and why
+    passed_over: tuple[Candidate, str] | None = None
     for pick in range(len(ranked)):
         raw, ks = ranked[pick]
         if raw < max(cal["min_confidence"], post[0]):
@@ -339,7 +339,7 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
         if not cleared & errors_before:
             # warnings alone (a range gap, a small heat-capacity excursion) are no evidence
             # of a transcription slip: a fix that clears no error is not suggested
-            passed_over.append((cands[best], "clears no error on"))
+            passed_over = passed_over or (cands[best], "clears no error on")
             continue
         rid = ctx.id(cands[best].row)
         # the errors on the fixed record that the fix leaves
@@ -362,7 +362,7 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
                 ctx, cands[best], outs[best], cleared, errors_before, unexplained
             )
         ):
-            passed_over.append((cands[best], "leaves an error on"))
+            passed_over = passed_over or (cands[best], "leaves an error on")
             continue
         break
     else:
@@ -382,8 +382,8 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
     )
     if held_down:
         sug["explanation"] += f" {'. '.join(held)}, so its confidence is held at {SCATTER_CAP:g}."
-    if passed_over:
-        other, why = passed_over[0]
+    if passed_over is not None:
+        other, why = passed_over
         sug["explanation"] += (
             f" A likelier reading is not suggested, since it {why} {ctx.id(other.row)}: "
             f"{other.label}."

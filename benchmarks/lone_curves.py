@@ -18,11 +18,13 @@ original curve and range), the same within 0.03 in ln P (the default relative un
 record: bar for atm is 1.3 % off), and the confident (>= 0.8) suggestions with how many are
 wrong.
 
-Run: ``python benchmarks/lone_curves.py`` (about a minute).
+Run: ``python benchmarks/lone_curves.py`` (about a minute); ``--critical`` gives Landolt's
+liquids their critical temperature and pressure as well.
 """
 
 from __future__ import annotations
 
+import argparse
 import math
 import sys
 from collections import Counter, defaultdict
@@ -31,7 +33,7 @@ from pathlib import Path
 sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests" / "_support"))
 
 from anchors import anchor_rows  # noqa: E402
-from compilations import _complete, landolt  # noqa: E402
+from compilations import _complete, landolt, references  # noqa: E402
 from refdata import alcock_pairs, table_from_rows  # noqa: E402
 from slips import reproduces, unit_slips  # noqa: E402
 
@@ -54,7 +56,7 @@ def alcock_pool() -> list[tuple[dict, list[dict]]]:
     return pool
 
 
-def landolt_pool() -> list[tuple[dict, list[dict]]]:
+def landolt_pool(critical: bool = False) -> list[tuple[dict, list[dict]]]:
     records, _ = landolt(None)
     pool = []
     for r in records:
@@ -62,6 +64,12 @@ def landolt_pool() -> list[tuple[dict, list[dict]]]:
             continue
         rows = anchor_rows(r["substance"], r["substance"], "liquid")
         if len(rows) == 2 and float(r["t_min"]) / 298.15 <= 2.0:
+            if critical:  # Tc and Pc too, each with its method named (compilations.py)
+                rows += [
+                    x
+                    for x in references(r["substance"], r["substance"], True, False)
+                    if x["quantity"] in ("critical_temperature", "critical_pressure")
+                ]
             pool.append((r, rows))
     return pool
 
@@ -141,8 +149,22 @@ def _miss_class(what: str, original: dict, sug: dict | None) -> str:
 
 
 def main() -> None:
-    measure("Alcock et al. (1984) solids, CRC standard data of sublimation", alcock_pool())
-    measure("Landolt liquids (odd CAS), CRC standard data of vaporization", landolt_pool())
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument(
+        "--critical",
+        action="store_true",
+        help="give Landolt's liquids their critical temperature and pressure too (IUPAC, "
+        "MATTHEWS or CRC via chemicals), as a table that carries them would: the anchor then "
+        "takes the vapour as a real gas, and the critical point is a witness of its own",
+    )
+    args = ap.parse_args()
+    if not args.critical:
+        measure("Alcock et al. (1984) solids, CRC standard data of sublimation", alcock_pool())
+    measure(
+        "Landolt liquids (odd CAS), CRC standard data of vaporization"
+        + (", with Tc and Pc" if args.critical else ""),
+        landolt_pool(args.critical),
+    )
 
 
 if __name__ == "__main__":

@@ -16,6 +16,7 @@ from ._context import LN_P_STANDARD, AuditContext, match, stated_tolerance
 from ._registry import Scope, Severity, Threshold, check
 from ._text import jk, kelvin, kj, ln_ratio, pressure_at_ln
 from .hits import Hit, Hits
+from .real_gas import departure
 
 __all__: list[str] = []
 
@@ -707,27 +708,6 @@ def heat_capacity_magnitude(ctx: AuditContext, th: dict[str, float]):
         )
 
 
-def _delta_z(ctx: AuditContext, rows: np.ndarray, t: np.ndarray, y: np.ndarray):
-    """Z_vapour - Z_condensed estimated from a second-virial coefficient (Pitzer-Curl
-    correlation in the Abbott form, B Pc/(R Tc) = B0 + omega B1), the condensed Z neglected;
-    NaN where Tc and Pc are not known. The acentric factor comes from the curve itself. Tc
-    and Pc are the medians of the substance's reference values (a correction of a few per
-    cent, which the spread of evaluations moves by a few per cent of itself).
-    """
-    tc = ctx.critical_temperature()[rows]
-    pc = ctx.reference_median("critical_pressure", rows)
-    pc = np.where(np.isnan(pc), np.exp(ctx.curves.own_ln_p_crit[rows]), pc)  # else its own
-    c = ctx.curves.take(rows)
-    y07 = evaluate(c, 0.7 * tc, order=0)[0]
-    with np.errstate(invalid="ignore", divide="ignore"):
-        omega = -1.0 - (y07 - np.log(pc)) / np.log(10.0)
-        tr = t / tc
-        b0 = 0.083 - 0.422 / tr**1.6
-        b1 = 0.139 - 0.172 / tr**4.2
-        z = 1.0 + (b0 + omega * b1) * (np.exp(y) / pc) / tr
-    return z
-
-
 @check(
     "term-without-effect",
     Severity.error,
@@ -799,8 +779,8 @@ def without_effect(ctx: AuditContext, th: dict[str, float]) -> np.ndarray:
     Scope.record,
     "The implied dH_vap or dH_sub differs from a reference value.",
     "Clausius-Clapeyron; the slope gives dH/dZ, 2-7 % above dH_vap at a normal boiling "
-    "point (corrected with a Pitzer-Curl second virial coefficient where Tc and Pc are "
-    "known).",
+    "point (corrected with a Pitzer-Curl second virial coefficient and the liquid's Rackett "
+    "volume where Tc and Pc are known).",
     (
         Threshold("tolerance", 0.05, "-", "relative difference accepted"),
         Threshold(
@@ -838,7 +818,7 @@ def enthalpy_mismatch(ctx: AuditContext, th: dict[str, float]):
     inside = ctx.evaluable[rows] & (t >= 0.95 * c.t_min) & (t <= 1.05 * c.t_max)
     y, y1, _ = evaluate(c, t, order=1)
     apparent = R * t * t * y1
-    dz = _delta_z(ctx, rows, t, y)
+    dz = departure(ctx, rows, t, y).delta_z
     known = np.isfinite(dz)
     h = np.where(known, apparent * dz, apparent)
     ref = m["value_si"].to_numpy(dtype=float)

@@ -307,9 +307,10 @@ def plot_substance(table: Table, substance: str, path: str | Path, unit: str = "
 
 def _anchor_points(ctx: AuditContext) -> dict[str, tuple[float, float]]:
     """For each phase with standard data at 298.15 K: the ln P they imply there (third law,
-    ln P = ln P0 + dS0/R - dH/(R T)) and the half-width of the anchor's entropy allowance
-    in ln P. The standard data are those the anchor checks hold the phase's first record
-    to (with several sources' values, the ones its curve meets best).
+    ln P = ln P0 + dS0/R - dH/(R T), for an ideal vapour: a real one lies higher by -B P / (R
+    T), 0.3 at most where the anchor corrects it, well inside the band) and the half-width of
+    the anchor's entropy allowance in ln P. The standard data are those the anchor checks hold
+    the phase's first record to (with several sources' values, the ones its curve meets best).
     """
     from .checks.anchor import anchor_values
     from .constants import R

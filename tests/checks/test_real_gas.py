@@ -147,3 +147,28 @@ def test_abbott_form_at_known_points():
     tr, om, e = np.array(0.7), np.array(0.3), 1e-6
     num = (abbott(tr + e, om)[0] - abbott(tr - e, om)[0]) / (2 * e)
     assert abbott(tr, om)[1] == pytest.approx(num, rel=1e-6)
+
+
+def test_show_says_which_vapour_was_taken_as_a_real_gas():
+    from vpaudit.auditing import audit_table
+    from vpaudit.report.answers import render_show
+
+    record, dh0, ds0, tc, pc = _coolprop("n-Hexane")
+    ideal = dict(record, id="hexane-b", source="the same curve, a second copy (test data)")
+    src = "CoolProp reference equation of state (test data)"
+    refs = [
+        {"substance": "n-Hexane", "quantity": q, "value": v, "unit": u, "source": src}
+        for q, v, u in (
+            ("standard_enthalpy_of_vaporization", dh0, "J/mol"),
+            ("standard_entropy_of_vaporization", ds0, "J/(mol K)"),
+            ("critical_temperature", tc, "K"),
+            ("critical_pressure", pc, "Pa"),
+        )
+    ]
+    table = table_from_rows([record], refs)
+    text = render_show(table, "n-Hexane", audit_table(table))
+    assert "vapour" in text and "real gas" in text
+    # without Tc and Pc no column is added: every curve is read as before
+    table = table_from_rows([ideal], refs[:2])
+    text = render_show(table, "n-Hexane", audit_table(table))
+    assert "real gas" not in text and "Anchor at 298.15 K" in text

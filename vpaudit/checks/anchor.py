@@ -109,6 +109,7 @@ class AnchorValues(NamedTuple):
     # positive amount: dH(298) - dH(edge) above 298.15 K, the reverse below [J/mol]
     h_change: np.ndarray
     s_change: np.ndarray  # the same for dS0 [J/(mol K)]
+    real_gas: np.ndarray  # bool: h and s take the vapour as a real gas (Tc and Pc known)
 
 
 class Allowances(NamedTuple):
@@ -163,11 +164,11 @@ def _anchor_values(ctx: AuditContext) -> AnchorValues | None:
     with np.errstate(all="ignore"):
         t = np.full(rows.size, T_ANCHOR)
         y, y1, _ = evaluate(c, t, order=1)
-        h, s = standard_state(ctx, rows, t, y, y1)
+        h, s, real_gas = standard_state(ctx, rows, t, y, y1)
         p = np.exp(y)  # a curve extrapolated to absurd heights overflows: y keeps it
         # the same at the range edge: what the curve's own dCp adds on the way to 298.15 K
         ye, ye1, _ = evaluate(c, edge, order=1)
-        h_edge, s_edge = standard_state(ctx, rows, edge, ye, ye1)
+        h_edge, s_edge, _ = standard_state(ctx, rows, edge, ye, ye1)
         down = np.sign(edge - T_ANCHOR)  # +1 extrapolated downwards, -1 upwards, 0 in range
         h_change, s_change = down * (h - h_edge), down * (s - s_edge)
     implied = {"h": h, "s": s}
@@ -194,6 +195,7 @@ def _anchor_values(ctx: AuditContext) -> AnchorValues | None:
         y=y,
         h_change=h_change,
         s_change=s_change,
+        real_gas=real_gas,
     )
 
 

@@ -119,11 +119,11 @@ def departure(ctx: AuditContext, rows: np.ndarray, t: np.ndarray, y: np.ndarray)
 
 def standard_state(
     ctx: AuditContext, rows: np.ndarray, t: np.ndarray, y: np.ndarray, y1: np.ndarray
-) -> tuple[np.ndarray, np.ndarray]:
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """The enthalpy [J/mol] and entropy [J/(mol K)] of the phase change to the ideal gas at
     1 bar that records ``rows`` imply at ``t`` [K] from ln(P/Pa) = ``y`` and its derivative
-    ``y1`` [1/K]: the real-gas terms of :func:`departure` where Tc and Pc are known, the
-    ideal-gas reading (dZ = 1) elsewhere.
+    ``y1`` [1/K], and whether the vapour was taken as a real gas: with the terms of
+    :func:`departure` where Tc and Pc are known, as an ideal gas (dZ = 1) elsewhere.
     """
     apparent = R * t * t * y1
     d = departure(ctx, rows, t, y)
@@ -131,4 +131,4 @@ def standard_state(
     dz = np.where(known, d.delta_z, 1.0)
     h = dz * apparent + np.where(known, d.h_ideal, 0.0)
     s = dz * apparent / t + np.where(known, d.s_ideal, 0.0) + R * (y - LN_P0_BAR)
-    return h, s
+    return h, s, known

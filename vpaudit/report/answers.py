@@ -108,12 +108,26 @@ def _anchor_lines(ctx) -> list[str]:
                 f"{a.edge[k]:.5g}",
             ]
         )
+    real = a.real_gas.any()
     return [
         "",
         "Anchor at 298.15 K (each curve extrapolated with its own dCp; the standard data):",
         *_table(
-            ["record", "dH [kJ/mol]", "standard", "dS0 [J/(mol K)]", "standard", "from [K]"],
-            rows,
+            ["record", "dH [kJ/mol]", "standard", "dS0 [J/(mol K)]", "standard", "from [K]"]
+            + (["vapour"] if real else []),
+            [
+                r + (["real gas" if g else "ideal"] if real else [])
+                for r, g in zip(rows, a.real_gas.tolist(), strict=True)
+            ],
+        ),
+        *(
+            [
+                "vapour: real gas = its dZ and its step to the ideal gas at 1 bar from a second "
+                "virial coefficient (Tc and Pc of the references, else a Wagner record's own); "
+                "ideal = no Tc and Pc to estimate them."
+            ]
+            if real
+            else []
         ),
     ]
 

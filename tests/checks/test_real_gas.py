@@ -2,8 +2,8 @@
 
 Reference: CoolProp's reference equations of state (``PropsSI``). At 298.15 K the standard
 enthalpy and entropy of vaporization, to the ideal gas at 1 bar, are taken from the equation
-of state itself: the gas at 1 Pa is ideal to within 1e-5 of the correction, and its entropy
-is carried to 1 bar by R ln(1e5 / 1).
+of state itself: the gas at 1 Pa (its departure from the ideal gas below 3e-4 of the one at
+the saturation pressure), its entropy carried to 1 bar by R ln(1e5 / 1).
 """
 
 from __future__ import annotations

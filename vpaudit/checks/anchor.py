@@ -13,8 +13,8 @@ for an ideal vapour; where the substance's Tc and Pc are known, the vapour is ta
 real gas it is (:mod:`.real_gas`: dZ and the step to the ideal-gas standard state, a
 second virial coefficient). Without it a volatile liquid's curve misses its standard values
 by itself: Landolt's liquids with P(298) above 30 kPa, 13 with the CRC data, by +2.1 % in
-dH and +2.8 J/(mol K) in dS0 at the median, corrected +0.5 % and +0.3 J/(mol K) -- the
-2.4 J/(mol K) that tell mbar from mmHg.
+dH and +2.8 J/(mol K) in dS0 at the median, corrected +0.4 % and +0.1 J/(mol K) -- the
+2.4 J/(mol K) that tell mbar from mmHg (docs/calibration.md).
 
 A log10/ln slip scales dH by 2.3; a wrong pressure unit shifts dS0 by R ln(factor) (40.7
 J/(mol K) for Torr read as Pa) and leaves dH alone; a degC/K slip in an Antoine equation

@@ -18,7 +18,8 @@ same T and P by
 B comes from the Pitzer-Curl correlation in Abbott's form, B Pc / (R Tc) = B0 + omega B1
 with B0 = 0.083 - 0.422 / Tr^1.6 and B1 = 0.139 - 0.172 / Tr^4.2 (coefficients as widely
 tabulated; written from memory), and the saturated liquid's Z from Rackett's equation with
-the Yamada-Gunn critical compressibility, Zc = 0.29056 - 0.08775 omega (the same). A
+the Yamada-Gunn critical compressibility, Zc = 0.29056 - 0.08775 omega (likewise from
+memory). A
 solid's own Z is neglected (its vapour pressure is low where it is a solid).
 
 Checked against the reference equations of state in CoolProp at 298.15 K

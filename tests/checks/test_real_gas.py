@@ -172,3 +172,27 @@ def test_show_says_which_vapour_was_taken_as_a_real_gas():
     table = table_from_rows([ideal], refs[:2])
     text = render_show(table, "n-Hexane", audit_table(table))
     assert "real gas" not in text and "Anchor at 298.15 K" in text
+
+
+def test_a_finding_gives_the_ideal_gas_reading_beside_the_real_one():
+    # n-hexane's curve against standard values 30 % and 30 J/(mol K) off (invented wrong
+    # values): each anchor finding states the real-gas value it judged and what R T^2
+    # dlnP/dT alone gives, so that a reader can follow the number
+    from vpaudit.auditing import audit_table
+
+    record, dh0, ds0, tc, pc = _coolprop("n-Hexane")
+    src = "standard values made wrong on purpose (test data)"
+    refs = [
+        {"substance": "n-Hexane", "quantity": q, "value": v, "unit": u, "source": src}
+        for q, v, u in (
+            ("standard_enthalpy_of_vaporization", 0.7 * dh0, "J/mol"),
+            ("standard_entropy_of_vaporization", ds0 - 30.0, "J/(mol K)"),
+            ("critical_temperature", tc, "K"),
+            ("critical_pressure", pc, "Pa"),
+        )
+    ]
+    found = {f.check: f for f in audit_table(table_from_rows([record], refs)).findings}
+    h, s = found["anchor-enthalpy"], found["anchor-entropy"]
+    assert "as an ideal gas" in h.message and "as an ideal gas" in s.message
+    assert h.evidence["ideal_gas_enthalpy_J_per_mol"] > h.evidence["enthalpy_J_per_mol"]
+    assert s.evidence["ideal_gas_entropy_J_per_mol_K"] > s.evidence["entropy_J_per_mol_K"]

@@ -118,18 +118,29 @@ def departure(ctx: AuditContext, rows: np.ndarray, t: np.ndarray, y: np.ndarray)
         )
 
 
+class StandardState(NamedTuple):
+    """What curves imply for their phase change to the ideal gas at 1 bar (arrays)."""
+
+    h: np.ndarray  # the enthalpy [J/mol], the vapour a real gas where it can be
+    s: np.ndarray  # the entropy [J/(mol K)], the same
+    real_gas: np.ndarray  # bool: h and s take the vapour as a real gas (Tc and Pc known)
+    h_ideal_gas: np.ndarray  # the enthalpy read as for an ideal vapour, R T^2 y' [J/mol]
+    s_ideal_gas: np.ndarray  # the entropy so read, R T y' + R ln(P / P0) [J/(mol K)]
+
+
 def standard_state(
     ctx: AuditContext, rows: np.ndarray, t: np.ndarray, y: np.ndarray, y1: np.ndarray
-) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """The enthalpy [J/mol] and entropy [J/(mol K)] of the phase change to the ideal gas at
-    1 bar that records ``rows`` imply at ``t`` [K] from ln(P/Pa) = ``y`` and its derivative
-    ``y1`` [1/K], and whether the vapour was taken as a real gas: with the terms of
-    :func:`departure` where Tc and Pc are known, as an ideal gas (dZ = 1) elsewhere.
+) -> StandardState:
+    """The enthalpy and entropy of the phase change to the ideal gas at 1 bar that records
+    ``rows`` imply at ``t`` [K] from ln(P/Pa) = ``y`` and its derivative ``y1`` [1/K]
+    (:class:`StandardState`): with the terms of :func:`departure` where Tc and Pc are
+    known, as an ideal gas (dZ = 1) elsewhere.
     """
     apparent = R * t * t * y1
+    level = R * (y - LN_P0_BAR)
     d = departure(ctx, rows, t, y)
     known = np.isfinite(d.delta_z) & np.isfinite(d.h_ideal) & np.isfinite(d.s_ideal)
     dz = np.where(known, d.delta_z, 1.0)
     h = dz * apparent + np.where(known, d.h_ideal, 0.0)
-    s = dz * apparent / t + np.where(known, d.s_ideal, 0.0) + R * (y - LN_P0_BAR)
-    return h, s, known
+    s = dz * apparent / t + np.where(known, d.s_ideal, 0.0) + level
+    return StandardState(h, s, known, apparent, apparent / t + level)

@@ -9,12 +9,14 @@ evaluation):
     dH(298)  = R T^2 y'(T)                      (second law: from the slope)
     dS0(298) = dH(298)/T + R ln(P(298)/P0)      (third law: from the level)
 
-for an ideal vapour; where the substance's Tc and Pc are known, the vapour is taken as the
-real gas it is (:mod:`.real_gas`: dZ and the step to the ideal-gas standard state, a
-second virial coefficient). Without it a volatile liquid's curve misses its standard values
-by itself: Landolt's liquids with P(298) above 30 kPa, 13 with the CRC data, by +2.1 % in
-dH and +2.8 J/(mol K) in dS0 at the median, corrected +0.4 % and +0.1 J/(mol K) -- the
-2.4 J/(mol K) that tell mbar from mmHg (docs/calibration.md).
+for an ideal vapour; the vapour is taken as the real gas it is (:mod:`.real_gas`: dZ and
+the step to the ideal-gas standard state, a second virial coefficient) where the
+substance's Tc and Pc are known or, for a liquid, can be estimated from its own curve.
+Without it a volatile liquid's curve misses its standard values by itself: Landolt's
+liquids with P(298) above 30 kPa, 13 with the CRC data, by +2.1 % in dH and +2.8 J/(mol K)
+in dS0 at the median; corrected with their tabulated Tc and Pc, +0.4 % and +0.1 J/(mol K),
+with estimated ones -0.1 % and -0.7 J/(mol K) -- against the 2.4 J/(mol K) that tell mbar
+from mmHg (docs/calibration.md).
 
 A log10/ln slip scales dH by 2.3; a wrong pressure unit shifts dS0 by R ln(factor) (40.7
 J/(mol K) for Torr read as Pa) and leaves dH alone; a degC/K slip in an Antoine equation
@@ -109,7 +111,8 @@ class AnchorValues(NamedTuple):
     # positive amount: dH(298) - dH(edge) above 298.15 K, the reverse below [J/mol]
     h_change: np.ndarray
     s_change: np.ndarray  # the same for dS0 [J/(mol K)]
-    real_gas: np.ndarray  # bool: h and s take the vapour as a real gas (Tc and Pc known)
+    real_gas: np.ndarray  # bool: h and s take the vapour as a real gas
+    estimated: np.ndarray  # bool: that with a Tc and a Pc estimated from the curve itself
     h_ideal_gas: np.ndarray  # h read as for an ideal vapour, R T^2 y' [J/mol]
     s_ideal_gas: np.ndarray  # s so read [J/(mol K)]
 
@@ -169,12 +172,14 @@ def _anchor_values(ctx: AuditContext) -> AnchorValues | None:
         at298 = standard_state(ctx, rows, t, y, y1)
         h, s = at298.h, at298.s
         p = np.exp(y)  # a curve extrapolated to absurd heights overflows: y keeps it
-        # the same at the range edge: what the curve's own dCp adds on the way to 298.15 K
+        # the same at the range edge: what the curve's own dCp adds on the way to 298.15 K,
+        # both ends read alike as for an ideal vapour (the curve's own curvature: at a range
+        # edge of high pressure the real-gas terms may not be computable at all)
         ye, ye1, _ = evaluate(c, edge, order=1)
         at_edge = standard_state(ctx, rows, edge, ye, ye1)
-        h_edge, s_edge = at_edge.h, at_edge.s
         down = np.sign(edge - T_ANCHOR)  # +1 extrapolated downwards, -1 upwards, 0 in range
-        h_change, s_change = down * (h - h_edge), down * (s - s_edge)
+        h_change = down * (at298.h_ideal_gas - at_edge.h_ideal_gas)
+        s_change = down * (at298.s_ideal_gas - at_edge.s_ideal_gas)
     implied = {"h": h, "s": s}
     ref, unc = {}, {}
     for key, (of_liquid, of_solid) in quantities.items():
@@ -200,6 +205,7 @@ def _anchor_values(ctx: AuditContext) -> AnchorValues | None:
         h_change=h_change,
         s_change=s_change,
         real_gas=at298.real_gas,
+        estimated=at298.estimated,
         h_ideal_gas=at298.h_ideal_gas,
         s_ideal_gas=at298.s_ideal_gas,
     )
@@ -337,10 +343,10 @@ def _what(is_liquid: bool) -> str:
     "The enthalpy the curve implies at 298.15 K misses the standard-table value of its phase "
     "change.",
     "Second law: dH(298) = R T^2 dlnP/dT, against dH_f(gas) - dH_f(condensed) from standard "
-    "thermochemical tables (the vapour taken as a real gas, by a second virial coefficient, "
-    "where Tc and Pc are known). Calibrated on Alcock et al. (1984) solids (28 of 29 within "
-    "1.4 %) and Landolt's liquids (95 % within 17.7 %) against the CRC standard data "
-    "carried by chemicals.",
+    "thermochemical tables (the vapour taken as a real gas by a second virial coefficient, "
+    "from the table's Tc and Pc or ones estimated from the curve). Calibrated on Alcock et "
+    "al. (1984) solids (28 of 29 within 1.4 %) and Landolt's liquids (95 % within 17.7 %) "
+    "against the CRC standard data carried by chemicals.",
     _ENTHALPY,
     tiers={"below-error-above": Severity.warning, "boiling-point-met": Severity.warning},
     witness="relative_difference",
@@ -372,7 +378,7 @@ def anchor_enthalpy(ctx: AuditContext, th: dict[str, float]):
             i,
             f"{_where(a.edge[k])}, the "
             f"curve implies dH_{_what(ctx.liquid[i])[:3]}(298) = {kj(a.h[k])}"
-            + (f" ({_as_real_gas(kj(a.h_ideal_gas[k]))})" if a.real_gas[k] else "")
+            + (f" ({_as_real_gas(kj(a.h_ideal_gas[k]), a.estimated[k])})" if a.real_gas[k] else "")
             + " against the "
             f"standard-table {kj(a.h_ref[k])}: {rel * 100:+.1f} %, beyond the allowance of "
             f"{kj(allowed[k])}"
@@ -397,11 +403,13 @@ def anchor_enthalpy(ctx: AuditContext, th: dict[str, float]):
         )
 
 
-def _as_real_gas(ideal: str) -> str:
-    """The words that say a value takes the vapour as a real gas, with its ideal-gas reading
-    ``ideal`` (what R T^2 dlnP/dT alone gives), so that a reader can follow the number.
+def _as_real_gas(ideal: str, estimated: bool) -> str:
+    """The words that say a value takes the vapour as a real gas (with a Tc and a Pc
+    ``estimated`` from the curve, or given), with its ideal-gas reading ``ideal`` (what R
+    T^2 dlnP/dT alone gives), so that a reader can follow the number.
     """
-    return f"its vapour taken as a real gas; as an ideal gas, {ideal}"
+    how = ", Tc and Pc estimated from the curve" if estimated else ""
+    return f"its vapour taken as a real gas{how}; as an ideal gas, {ideal}"
 
 
 def _stated(widened: bool, factor: float, u: str) -> str:
@@ -434,8 +442,8 @@ def _tier(error: bool, lands: bool) -> str | None:
     "The standard entropy the curve implies at 298.15 K misses the standard-table value of "
     "its phase change.",
     "Third law: dS0(298) = dH(298)/T + R ln(P(298)/1 bar), against S0(gas) - S0(condensed) "
-    "from standard thermochemical tables (the vapour taken as a real gas where Tc and Pc are "
-    "known). Calibrated on Alcock et al. (1984) solids (28 of "
+    "from standard thermochemical tables (the vapour taken as a real gas, as for "
+    "anchor-enthalpy). Calibrated on Alcock et al. (1984) solids (28 of "
     "29 within 2.8 J/(mol K)) and Landolt's liquids (95 % within 13.8 J/(mol K)) against "
     "the CRC standard data carried by chemicals.",
     _ENTROPY,
@@ -467,7 +475,11 @@ def anchor_entropy(ctx: AuditContext, th: dict[str, float]):
             f"{_where(a.edge[k])}, the "
             f"curve implies the standard entropy of {_what(ctx.liquid[i])} dS0(298) = "
             f"{a.s[k]:.1f} J/(mol K) (P = {pressure_at_ln(a.y[k], a.p[k], 3)}"
-            + (f"; {_as_real_gas(f'{a.s_ideal_gas[k]:.1f} J/(mol K)')}" if a.real_gas[k] else "")
+            + (
+                f"; {_as_real_gas(f'{a.s_ideal_gas[k]:.1f} J/(mol K)', a.estimated[k])}"
+                if a.real_gas[k]
+                else ""
+            )
             + ") against the "
             f"standard-table {a.s_ref[k]:.1f} J/(mol K): off by {d:+.1f}, beyond the allowance of "
             f"{allowed[k]:.3g}"

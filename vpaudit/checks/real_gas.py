@@ -26,8 +26,10 @@ Checked against the reference equations of state in CoolProp at 298.15 K
 (``tests/checks/test_real_gas.py``): for n-hexane (20 kPa) the ideal reading misses the
 standard dH0 by +1.2 % and dS0 by +1.4 J/(mol K), the corrected one by +0.02 % and +0.03;
 for propane (952 kPa, Tr 0.81) +15.9 % and +10.0 against +1.5 % and +0.9. The correction
-needs Tc and Pc (the medians of the substance's reference values, else a Wagner record's
-own); without them it is not made (NaN).
+needs Tc and Pc: the medians of the substance's reference values, else a Wagner record's
+own; for the 298.15 K anchor of a liquid with neither, an estimate from its own curve
+(:func:`estimated_critical_constants`: Guldberg's rule and the acentric factor's
+vapour-pressure relation). Without them it is not made (NaN).
 """
 
 from __future__ import annotations
@@ -37,8 +39,8 @@ from typing import NamedTuple
 import numpy as np
 
 from ..constants import R
-from ..equations.engine import evaluate
-from ._context import AuditContext
+from ..equations.engine import evaluate, temperature_at
+from ._context import LN_P_STANDARD, AuditContext
 
 #: ln of the standard pressure of thermochemical tables, P0 = 1 bar, in Pa.
 LN_P0_BAR = float(np.log(1e5))
@@ -51,6 +53,12 @@ LN_P0_BAR = float(np.log(1e5))
 MAX_VIRIAL_TERM = 0.3
 
 
+#: The least |B P / (R T)| for which Tc and Pc estimated from a curve are used: below, the
+#: vapour is ideal to 0.1 % and the correction moves dS0 by about 0.1 J/(mol K) or less
+#: (the last figure a finding shows), so an estimate would add words, not information.
+MIN_ESTIMATED_TERM = 1e-3
+
+
 class Departure(NamedTuple):
     """The real-gas terms of records at temperatures ``t`` (arrays; NaN where Tc or Pc is
     not known).
@@ -59,6 +67,7 @@ class Departure(NamedTuple):
     delta_z: np.ndarray  # Z_vapour - Z_condensed [-]
     h_ideal: np.ndarray  # H_ideal - H of the vapour at T and P, P (T dB/dT - B) [J/mol]
     s_ideal: np.ndarray  # S_ideal - S of the vapour at T and P, P dB/dT [J/(mol K)]
+    estimated: np.ndarray  # bool: Tc and Pc estimated from the curve itself
 
 
 def abbott(tr: np.ndarray, omega: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -96,13 +105,62 @@ def critical_constants(ctx: AuditContext, rows: np.ndarray):
     return tc, pc, omega
 
 
-def departure(ctx: AuditContext, rows: np.ndarray, t: np.ndarray, y: np.ndarray) -> Departure:
+#: T_b/T_c of real liquids at the median: 0.68 over the 1,005 substances for which chemicals
+#: knows both (Guldberg's rule, about 2/3; measured with boiling-point-mismatch's
+#: ``boiling_over_critical``, its 99.5th percentile; tests/checks/test_boiling.py).
+GULDBERG_RATIO = 0.68
+
+
+def estimated_critical_constants(ctx: AuditContext, rows: np.ndarray):
+    """Tc [K], Pc [Pa] and the acentric factor of liquid records ``rows`` estimated from
+    their curves alone, for a substance whose table gives no Tc or Pc: Tc = T_b / 0.68
+    (:data:`GULDBERG_RATIO`) from the curve's own normal boiling point T_b, then (1 +
+    omega) and Pc from the acentric factor's own vapour-pressure relation, log10(P/Pc) =
+    (7/3) (1 + omega) (1 - Tc/T) (exact at 0.7 Tc by the definition of omega; common
+    practice elsewhere), held to the curve's slope and its 101325 Pa at T_b. NaN for a
+    solid, a curve that does not reach 101325 Pa between half its lower and three times its
+    upper range end, or an acentric factor outside -0.4 to 2.
+
+    Measured on Landolt's odd-CAS Antoine liquids with P(298.15 K) between 10 kPa and 2 MPa
+    and a Tc and Pc in chemicals (302): the real-gas correction of dS0(298) so estimated is
+    1.17 times the one from the tabulated constants at the median (quartiles 1.03 and 1.30,
+    5-95 % 0.65-1.99), off by 0.35 J/(mol K) at the median against a median correction of
+    -1.54: most of the ideal reading's bias goes, not all.
+    """
+    c = ctx.curves.take(rows)
+    liquid = ctx.liquid[rows]
+    with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
+        tb = temperature_at(c, np.full(rows.size, LN_P_STANDARD), 0.5 * c.t_min, 3.0 * c.t_max)
+        tb = np.where(liquid, tb, np.nan)
+        slope = evaluate(c, np.where(np.isfinite(tb), tb, c.t_min), order=1)[1]
+        tc = tb / GULDBERG_RATIO
+        # d ln P / d(1/T) = -(7/3) ln 10 (1 + omega) Tc, and ln(P0 / Pc) at T_b
+        one_omega = slope * tb * tb / (7.0 / 3.0 * np.log(10.0) * tc)
+        ln_pc = LN_P_STANDARD - 7.0 / 3.0 * np.log(10.0) * one_omega * (1.0 - tc / tb)
+        # an acentric factor no real substance has (helium's -0.39 to about 2 for the
+        # heaviest organics; values from memory) says the curve is no real one near T_b
+        omega = np.where((one_omega >= 0.6) & (one_omega <= 3.0), one_omega - 1.0, np.nan)
+    return tc, np.exp(ln_pc), omega
+
+
+def departure(
+    ctx: AuditContext, rows: np.ndarray, t: np.ndarray, y: np.ndarray, estimate: bool = False
+) -> Departure:
     """The real-gas terms (:class:`Departure`) of records ``rows`` at temperatures ``t`` [K],
     where their curves give ln(P/Pa) = ``y``: the liquid's Z from :func:`rackett_z`, a
-    solid's neglected. NaN where Tc or Pc is not known, at or above Tc, or where
-    |B P / (R T)| exceeds :data:`MAX_VIRIAL_TERM`.
+    solid's neglected. With ``estimate``, a liquid whose table gives no Tc or Pc takes
+    them from its own curve (:func:`estimated_critical_constants`) where the correction is
+    at least :data:`MIN_ESTIMATED_TERM`. NaN where Tc or Pc is not known, at or above Tc,
+    or where |B P / (R T)| exceeds :data:`MAX_VIRIAL_TERM`.
     """
     tc, pc, omega = critical_constants(ctx, rows)
+    unknown = np.zeros(rows.size, dtype=bool)
+    if estimate:
+        unknown = ~(np.isfinite(tc) & np.isfinite(pc) & np.isfinite(omega)) & ctx.liquid[rows]
+        if unknown.any():
+            at = np.flatnonzero(unknown)
+            tc, pc, omega = tc.copy(), pc.copy(), omega.copy()
+            tc[at], pc[at], omega[at] = estimated_critical_constants(ctx, rows[at])
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
         tr = np.where((t > 0.0) & (t < tc), t / tc, np.nan)
         pr = np.exp(y) / pc
@@ -110,11 +168,14 @@ def departure(ctx: AuditContext, rows: np.ndarray, t: np.ndarray, y: np.ndarray)
         virial = b * pr / tr  # B P / (R T)
         # beyond what a real saturated vapour has, the curve is not one: no correction
         pr = np.where(np.abs(virial) <= MAX_VIRIAL_TERM, pr, np.nan)
+        # an estimate is made only where it changes what one can see
+        pr = np.where(unknown & (np.abs(virial) < MIN_ESTIMATED_TERM), np.nan, pr)
         z_condensed = np.where(ctx.liquid[rows], rackett_z(tr, pr, omega), 0.0)
         return Departure(
             delta_z=1.0 + b * pr / tr - z_condensed,
             h_ideal=R * t * pr * (db - b / tr),
             s_ideal=R * pr * db,
+            estimated=unknown,
         )
 
 
@@ -123,7 +184,8 @@ class StandardState(NamedTuple):
 
     h: np.ndarray  # the enthalpy [J/mol], the vapour a real gas where it can be
     s: np.ndarray  # the entropy [J/(mol K)], the same
-    real_gas: np.ndarray  # bool: h and s take the vapour as a real gas (Tc and Pc known)
+    real_gas: np.ndarray  # bool: h and s take the vapour as a real gas
+    estimated: np.ndarray  # bool: with a Tc and a Pc estimated from the curve itself
     h_ideal_gas: np.ndarray  # the enthalpy read as for an ideal vapour, R T^2 y' [J/mol]
     s_ideal_gas: np.ndarray  # the entropy so read, R T y' + R ln(P / P0) [J/(mol K)]
 
@@ -134,13 +196,14 @@ def standard_state(
     """The enthalpy and entropy of the phase change to the ideal gas at 1 bar that records
     ``rows`` imply at ``t`` [K] from ln(P/Pa) = ``y`` and its derivative ``y1`` [1/K]
     (:class:`StandardState`): with the terms of :func:`departure` where Tc and Pc are
-    known, as an ideal gas (dZ = 1) elsewhere.
+    known or, for a liquid, can be estimated from its curve; as an ideal gas (dZ = 1)
+    elsewhere.
     """
     apparent = R * t * t * y1
     level = R * (y - LN_P0_BAR)
-    d = departure(ctx, rows, t, y)
+    d = departure(ctx, rows, t, y, estimate=True)
     known = np.isfinite(d.delta_z) & np.isfinite(d.h_ideal) & np.isfinite(d.s_ideal)
     dz = np.where(known, d.delta_z, 1.0)
     h = dz * apparent + np.where(known, d.h_ideal, 0.0)
     s = dz * apparent / t + np.where(known, d.s_ideal, 0.0) + level
-    return StandardState(h, s, known, apparent, apparent / t + level)
+    return StandardState(h, s, known, known & d.estimated, apparent, apparent / t + level)

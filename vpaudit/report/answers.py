@@ -116,20 +116,28 @@ def _anchor_lines(ctx) -> list[str]:
             ["record", "dH [kJ/mol]", "standard", "dS0 [J/(mol K)]", "standard", "from [K]"]
             + (["vapour"] if real else []),
             [
-                r + (["real gas" if g else "ideal"] if real else [])
-                for r, g in zip(rows, a.real_gas.tolist(), strict=True)
+                r + ([_vapour(g, e)] if real else [])
+                for r, g, e in zip(rows, a.real_gas.tolist(), a.estimated.tolist(), strict=True)
             ],
         ),
         *(
             [
                 "vapour: real gas = its dZ and its step to the ideal gas at 1 bar from a second "
-                "virial coefficient (Tc and Pc of the references, else a Wagner record's own); "
-                "ideal = no Tc and Pc to estimate them."
+                "virial coefficient, with the Tc and Pc of the references (else a Wagner "
+                "record's own; estimated = from the curve's own boiling point and slope); "
+                "ideal = no Tc and Pc to take them from."
             ]
             if real
             else []
         ),
     ]
+
+
+def _vapour(real: bool, estimated: bool) -> str:
+    """How the anchor took a curve's vapour (:func:`_anchor_lines`)."""
+    if not real:
+        return "ideal"
+    return "real gas, estimated" if estimated else "real gas"
 
 
 def _clip(text: str, width: int) -> str:

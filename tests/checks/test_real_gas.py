@@ -122,6 +122,10 @@ def test_the_vapour_pressure_of_an_unreal_reading_is_not_corrected():
     a = _anchor(dict(record, pressure_unit="kPa"), dh0, ds0, tc, pc)
     assert not a.real_gas[0]
     assert a.h[0] == a.h_ideal_gas[0] and a.s[0] == a.s_ideal_gas[0]
+    # nor is a curve that falls as T rises (a lost sign of B): no saturation curve at all
+    for critical in ((tc, pc), ()):
+        a = _anchor(dict(record, B=-record["B"], C=0.0), dh0, ds0, *critical)
+        assert a.h_ideal_gas[0] < 0 and not a.real_gas[0] and a.h[0] == a.h_ideal_gas[0]
 
 
 @given(tr=st.floats(0.3, 0.99), omega=st.floats(-0.2, 1.2), log_pr=st.floats(-40.0, -18.5))

@@ -196,13 +196,15 @@ def standard_state(
     """The enthalpy and entropy of the phase change to the ideal gas at 1 bar that records
     ``rows`` imply at ``t`` [K] from ln(P/Pa) = ``y`` and its derivative ``y1`` [1/K]
     (:class:`StandardState`): with the terms of :func:`departure` where Tc and Pc are
-    known or, for a liquid, can be estimated from its curve; as an ideal gas (dZ = 1)
-    elsewhere.
+    known or, for a liquid, can be estimated from its curve, and the curve rises with T; as
+    an ideal gas (dZ = 1) elsewhere.
     """
     apparent = R * t * t * y1
     level = R * (y - LN_P0_BAR)
     d = departure(ctx, rows, t, y, estimate=True)
     known = np.isfinite(d.delta_z) & np.isfinite(d.h_ideal) & np.isfinite(d.s_ideal)
+    # a curve that falls as T rises is no saturation curve there: nothing to correct
+    known &= apparent > 0.0
     dz = np.where(known, d.delta_z, 1.0)
     h = dz * apparent + np.where(known, d.h_ideal, 0.0)
     s = dz * apparent / t + np.where(known, d.s_ideal, 0.0) + level

@@ -111,15 +111,18 @@ def critical_constants(ctx: AuditContext, rows: np.ndarray):
 GULDBERG_RATIO = 0.68
 
 
-def estimated_critical_constants(ctx: AuditContext, rows: np.ndarray):
+def estimated_critical_constants(
+    ctx: AuditContext, rows: np.ndarray, tc: np.ndarray, pc: np.ndarray
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Tc [K], Pc [Pa] and the acentric factor of liquid records ``rows`` estimated from
-    their curves alone, for a substance whose table gives no Tc or Pc: Tc = T_b / 0.68
-    (:data:`GULDBERG_RATIO`) from the curve's own normal boiling point T_b, then (1 +
-    omega) and Pc from the acentric factor's own vapour-pressure relation, log10(P/Pc) =
-    (7/3) (1 + omega) (1 - Tc/T) (exact at 0.7 Tc by the definition of omega; common
-    practice elsewhere), held to the curve's slope and its 101325 Pa at T_b. NaN for a
-    solid, a curve that does not reach 101325 Pa between half its lower and three times its
-    upper range end, or an acentric factor outside -0.4 to 2.
+    their curves, for a substance whose table lacks a Tc or a Pc (``tc``, ``pc``: the known
+    ones, NaN where none; a known one is kept): Tc = T_b / 0.68 (:data:`GULDBERG_RATIO`)
+    from the curve's own normal boiling point T_b, then (1 + omega) and Pc from the
+    acentric factor's own vapour-pressure relation, log10(P/Pc) = (7/3) (1 + omega) (1 -
+    Tc/T) (exact at 0.7 Tc by the definition of omega; common practice elsewhere), held to
+    the curve's slope and its 101325 Pa at T_b. NaN for a solid, a curve that does not
+    reach 101325 Pa between half its lower and three times its upper range end, or an
+    acentric factor outside -0.4 to 2.
 
     Measured on Landolt's odd-CAS Antoine liquids with P(298.15 K) between 10 kPa and 2 MPa
     and a Tc and Pc in chemicals (302): the real-gas correction of dS0(298) so estimated is
@@ -133,14 +136,15 @@ def estimated_critical_constants(ctx: AuditContext, rows: np.ndarray):
         tb = temperature_at(c, np.full(rows.size, LN_P_STANDARD), 0.5 * c.t_min, 3.0 * c.t_max)
         tb = np.where(liquid, tb, np.nan)
         slope = evaluate(c, np.where(np.isfinite(tb), tb, c.t_min), order=1)[1]
-        tc = tb / GULDBERG_RATIO
+        tc = np.where(np.isfinite(tc), tc, tb / GULDBERG_RATIO)
         # d ln P / d(1/T) = -(7/3) ln 10 (1 + omega) Tc, and ln(P0 / Pc) at T_b
         one_omega = slope * tb * tb / (7.0 / 3.0 * np.log(10.0) * tc)
         ln_pc = LN_P_STANDARD - 7.0 / 3.0 * np.log(10.0) * one_omega * (1.0 - tc / tb)
+        pc = np.where(np.isfinite(pc), pc, np.exp(ln_pc))
         # an acentric factor no real substance has (helium's -0.39 to about 2 for the
         # heaviest organics; values from memory) says the curve is no real one near T_b
         omega = np.where((one_omega >= 0.6) & (one_omega <= 3.0), one_omega - 1.0, np.nan)
-    return tc, np.exp(ln_pc), omega
+    return tc, pc, omega
 
 
 def departure(
@@ -160,7 +164,7 @@ def departure(
         if unknown.any():
             at = np.flatnonzero(unknown)
             tc, pc, omega = tc.copy(), pc.copy(), omega.copy()
-            tc[at], pc[at], omega[at] = estimated_critical_constants(ctx, rows[at])
+            tc[at], pc[at], omega[at] = estimated_critical_constants(ctx, rows[at], tc[at], pc[at])
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
         tr = np.where((t > 0.0) & (t < tc), t / tc, np.nan)
         pr = np.exp(y) / pc

@@ -125,7 +125,8 @@ def _anchor_lines(ctx) -> list[str]:
                 "vapour: real gas = its dZ and its step to the ideal gas at 1 bar from a second "
                 "virial coefficient, with the Tc and Pc of the references (else a Wagner "
                 "record's own; estimated = from the curve's own boiling point and slope); "
-                "ideal = no Tc and Pc to take them from."
+                "ideal = read as an ideal gas (ideal to 0.1 % there, no Tc and Pc to be had, or "
+                "a curve no saturated vapour follows)."
             ]
             if real
             else []

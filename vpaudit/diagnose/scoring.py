@@ -301,7 +301,8 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
     z = _logsumexp(np.concatenate([logw, rest, extra]))
     post = np.exp(logw - z)
     # merge equivalent corrections (same curves, ranges and phases)
-    order = np.argsort(-post[1:])
+    # stable: equally likely fixes keep the order they were made in, whatever numpy's sort
+    order = np.argsort(-post[1:], kind="stable")
     groups: dict[bytes, list[int]] = {}
     # two names of one pressure unit (Torr and mmHg, 1.4e-7 apart) are one fix even where
     # the rounding of their keys falls apart

@@ -37,7 +37,7 @@ from ._text import kelvin, kj, pressure_at_ln
 from .boiling import boiling_residuals
 from .hits import Hit
 from .joins import outvoted
-from .real_gas import standard_state
+from .real_gas import ideal_gas, standard_state
 
 T_ANCHOR = 298.15
 
@@ -176,10 +176,10 @@ def _anchor_values(ctx: AuditContext) -> AnchorValues | None:
         # both ends read alike as for an ideal vapour (the curve's own curvature: at a range
         # edge of high pressure the real-gas terms may not be computable at all)
         ye, ye1, _ = evaluate(c, edge, order=1)
-        at_edge = standard_state(ctx, rows, edge, ye, ye1)
+        h_edge, s_edge = ideal_gas(edge, ye, ye1)
         down = np.sign(edge - T_ANCHOR)  # +1 extrapolated downwards, -1 upwards, 0 in range
-        h_change = down * (at298.h_ideal_gas - at_edge.h_ideal_gas)
-        s_change = down * (at298.s_ideal_gas - at_edge.s_ideal_gas)
+        h_change = down * (at298.h_ideal_gas - h_edge)
+        s_change = down * (at298.s_ideal_gas - s_edge)
     implied = {"h": h, "s": s}
     ref, unc = {}, {}
     for key, (of_liquid, of_solid) in quantities.items():

@@ -203,13 +203,21 @@ def standard_state(
     known or, for a liquid, can be estimated from its curve, and the curve rises with T; as
     an ideal gas (dZ = 1) elsewhere.
     """
-    apparent = R * t * t * y1
-    level = R * (y - LN_P0_BAR)
+    apparent, ideal_s = ideal_gas(t, y, y1)
     d = departure(ctx, rows, t, y, estimate=True)
     known = np.isfinite(d.delta_z) & np.isfinite(d.h_ideal) & np.isfinite(d.s_ideal)
     # a curve that falls as T rises is no saturation curve there: nothing to correct
     known &= apparent > 0.0
     dz = np.where(known, d.delta_z, 1.0)
     h = dz * apparent + np.where(known, d.h_ideal, 0.0)
-    s = dz * apparent / t + np.where(known, d.s_ideal, 0.0) + level
-    return StandardState(h, s, known, known & d.estimated, apparent, apparent / t + level)
+    s = dz * apparent / t + np.where(known, d.s_ideal, 0.0) + R * (y - LN_P0_BAR)
+    return StandardState(h, s, known, known & d.estimated, apparent, ideal_s)
+
+
+def ideal_gas(t: np.ndarray, y: np.ndarray, y1: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """The enthalpy [J/mol] and entropy [J/(mol K)] of the phase change to the ideal gas at
+    1 bar that curves with ln(P/Pa) = ``y`` and slope ``y1`` [1/K] at ``t`` [K] imply read as
+    for an ideal vapour: R T^2 y' and R T y' + R ln(P / P0).
+    """
+    apparent = R * t * t * y1
+    return apparent, apparent / t + R * (y - LN_P0_BAR)

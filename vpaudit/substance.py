@@ -93,6 +93,22 @@ def substance_records(table: Table, substance: str):
     return rec[rec["substance"] == substance].reset_index(drop=True)
 
 
+def substance_table(table: Table, substance: str) -> Table:
+    """The part of ``table`` about ``substance``: its records (numbered from 0 in table
+    order), its references and its points.
+    """
+    rec = table.records
+    ref, pts = table.references, table.points
+    return type(table)(
+        rec[rec["substance"] == substance].reset_index(drop=True),
+        ref[ref["substance"] == substance] if len(ref) else ref,
+        pts[pts["substance"] == substance] if len(pts) else pts,
+        table.problems,
+        [],
+        table.policy_path,
+    )
+
+
 def eval_substance(
     table: Table,
     substance: str,
@@ -138,8 +154,11 @@ def eval_substance(
     # a curve extrapolated far from its range can leave a float's range: no value (null)
     with np.errstate(over="ignore", invalid="ignore"):
         p = np.where(found, np.exp(y), np.nan)
-        h = np.where(found, R * t * t * y1, np.nan)
+        h_ideal = np.where(found, R * t * t * y1, np.nan)
         cp = np.where(found, heat_capacity_from(t, y1, y2), np.nan)
+    dz, critical = _real_gas(table, substance, np.where(found, t, np.nan), y, h_ideal)
+    real = np.isfinite(dz)
+    h = np.where(real, dz * h_ideal, h_ideal)
     with np.errstate(invalid="ignore"):
         in_range = found & (t >= curves.t_min) & (t <= curves.t_max)
     mm = table.references
@@ -161,6 +180,10 @@ def eval_substance(
                 "pressure_Pa": _num(p[i] if temperature is not None else pressure),
                 "temperature_K": _num(t[i]),
                 "enthalpy_J_per_mol": _num(h[i]),
+                "ideal_gas_enthalpy_J_per_mol": _num(h_ideal[i]),
+                "vapour": "real gas" if real[i] else "ideal gas",
+                "critical_constants_given": bool(critical[i]),
+                "compressibility_change": _num(dz[i]),
                 "heat_capacity_change_J_per_mol_K": _num(cp[i]),
                 "in_range": bool(in_range[i]),
                 "evaporation_flux_kg_per_m2_s": _num(flux[i]),
@@ -176,6 +199,32 @@ def eval_substance(
         "molar_mass_kg_per_mol": molar_mass,
         "records": records,
     }
+
+
+def _real_gas(
+    table: Table, substance: str, t: np.ndarray, y: np.ndarray, h_ideal: np.ndarray
+) -> tuple[np.ndarray, np.ndarray]:
+    """The change of compressibility dZ = Z_vapour - Z_condensed of each record of
+    ``substance`` at ``t`` [K] where its
+    curve gives ln(P/Pa) = ``y`` (NaN where the vapour is taken as an ideal gas), and
+    whether the table gives the Tc and Pc the correction needs (a reference, or a Wagner
+    record's own). The exact Clapeyron equation makes the enthalpy of the phase change dZ
+    R T^2 dlnP/dT (:mod:`vpaudit.checks.real_gas`); it is not corrected where the curve
+    falls as T rises (no saturation curve there). Tc and Pc are never estimated here: the
+    estimate from a curve's own boiling point (Guldberg's rule) holds for organic liquids,
+    and ``eval`` serves metals near their boiling points as well.
+    """
+    from .checks._context import AuditContext
+    from .checks.real_gas import critical_constants, departure
+    from .policy import load_policy
+
+    ctx = AuditContext(substance_table(table, substance), load_policy(table.policy_path))
+    rows = np.arange(len(t))
+    with np.errstate(invalid="ignore"):
+        d = departure(ctx, rows, t, y)
+        dz = np.where(np.isfinite(t) & (h_ideal > 0.0), d.delta_z, np.nan)
+    known = np.isfinite(np.column_stack(critical_constants(ctx, rows))).all(axis=1)
+    return dz, known
 
 
 def _num(v) -> float | None:

@@ -29,7 +29,9 @@ for propane (952 kPa, Tr 0.81) +15.9 % and +10.0 against +1.5 % and +0.9. The co
 needs Tc and Pc: the medians of the substance's reference values, else a Wagner record's
 own; for the 298.15 K anchor of a liquid with neither, an estimate from its own curve
 (:func:`estimated_critical_constants`: Guldberg's rule and the acentric factor's
-vapour-pressure relation). Without them it is not made (NaN).
+vapour-pressure relation). Without them it is not made (NaN). ``vpaudit eval`` uses dZ for
+the enthalpy of the phase change at saturation, dZ R T^2 y', with given Tc and Pc only
+(``vpaudit.substance``).
 """
 
 from __future__ import annotations

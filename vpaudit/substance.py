@@ -156,7 +156,7 @@ def eval_substance(
         p = np.where(found, np.exp(y), np.nan)
         h_ideal = np.where(found, R * t * t * y1, np.nan)
         cp = np.where(found, heat_capacity_from(t, y1, y2), np.nan)
-    dz, critical = _real_gas(table, substance, np.where(found, t, np.nan), y, h_ideal)
+    dz, critical, tc = _real_gas(table, substance, np.where(found, t, np.nan), y, h_ideal)
     real = np.isfinite(dz)
     h = np.where(real, dz * h_ideal, h_ideal)
     with np.errstate(invalid="ignore"):
@@ -183,6 +183,7 @@ def eval_substance(
                 "ideal_gas_enthalpy_J_per_mol": _num(h_ideal[i]),
                 "vapour": "real gas" if real[i] else "ideal gas",
                 "critical_constants_given": bool(critical[i]),
+                "critical_temperature_K": _num(tc[i]),
                 "compressibility_change": _num(dz[i]),
                 "heat_capacity_change_J_per_mol_K": _num(cp[i]),
                 "in_range": bool(in_range[i]),
@@ -203,16 +204,17 @@ def eval_substance(
 
 def _real_gas(
     table: Table, substance: str, t: np.ndarray, y: np.ndarray, h_ideal: np.ndarray
-) -> tuple[np.ndarray, np.ndarray]:
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """The change of compressibility dZ = Z_vapour - Z_condensed of each record of
-    ``substance`` at ``t`` [K] where its
-    curve gives ln(P/Pa) = ``y`` (NaN where the vapour is taken as an ideal gas), and
-    whether the table gives the Tc and Pc the correction needs (a reference, or a Wagner
-    record's own). The exact Clapeyron equation makes the enthalpy of the phase change dZ
-    R T^2 dlnP/dT (:mod:`vpaudit.checks.real_gas`); it is not corrected where the curve
-    falls as T rises (no saturation curve there). Tc and Pc are never estimated here: the
-    estimate from a curve's own boiling point (Guldberg's rule) holds for organic liquids,
-    and ``eval`` serves metals near their boiling points as well.
+    ``substance`` at ``t`` [K] where its curve gives ln(P/Pa) = ``y`` (NaN where the vapour
+    is taken as an ideal gas); whether the table gives the Tc and Pc the correction needs
+    (a reference, or a Wagner record's own); and that Tc [K] (NaN where none).
+
+    The exact Clapeyron equation makes the enthalpy of the phase change dZ R T^2 dlnP/dT
+    (:mod:`vpaudit.checks.real_gas`); it is not corrected where the curve falls as T rises
+    (no saturation curve there). Tc and Pc are never estimated here: the estimate from a
+    curve's own boiling point (Guldberg's rule) holds for organic liquids, and ``eval``
+    serves metals near their boiling points as well.
     """
     from .checks._context import AuditContext
     from .checks.real_gas import critical_constants, departure
@@ -223,8 +225,8 @@ def _real_gas(
     with np.errstate(invalid="ignore"):
         d = departure(ctx, rows, t, y)
         dz = np.where(np.isfinite(t) & (h_ideal > 0.0), d.delta_z, np.nan)
-    known = np.isfinite(np.column_stack(critical_constants(ctx, rows))).all(axis=1)
-    return dz, known
+    tc, pc, omega = critical_constants(ctx, rows)
+    return dz, np.isfinite(tc) & np.isfinite(pc) & np.isfinite(omega), tc
 
 
 def _num(v) -> float | None:

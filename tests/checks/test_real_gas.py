@@ -230,14 +230,13 @@ def test_a_finding_gives_the_ideal_gas_reading_beside_the_real_one():
 EVAL_TOLERANCE = {0.6: 0.004, 0.7: 0.01, 0.8: 0.04}
 
 
-@pytest.mark.parametrize("fluid", ["Propane", "n-Hexane", "Ethanol", "Benzene", "Toluene"])
-def test_eval_gives_the_enthalpy_of_vaporization_of_the_real_vapour(fluid):
+def _wide(fluid: str, top: float = 0.85):
+    """A four-term-t curve fitted to CoolProp's saturation pressure over 0.55 Tc to ``top``
+    Tc, CoolProp's Tc and Pc as references, and Tc."""
     from CoolProp.CoolProp import PropsSI
 
-    from vpaudit.substance import eval_substance
-
     tc, pc = PropsSI("Tcrit", fluid), PropsSI("pcrit", fluid)
-    t = np.linspace(0.55 * tc, 0.85 * tc, 60)
+    t = np.linspace(0.55 * tc, top * tc, 60)
     y = np.log([PropsSI("P", "T", x, "Q", 0, fluid) for x in t])
     design = np.column_stack([np.ones_like(t), 1 / t, np.log(t), t])
     a, b, c, d = np.linalg.lstsq(design, y, rcond=None)[0]
@@ -250,6 +249,16 @@ def test_eval_gives_the_enthalpy_of_vaporization_of_the_real_vapour(fluid):
         {"substance": fluid, "quantity": q, "value": v, "unit": u, "source": "CoolProp"}
         for q, v, u in (("critical_temperature", tc, "K"), ("critical_pressure", pc, "Pa"))
     ]
+    return record, refs, tc
+
+
+@pytest.mark.parametrize("fluid", ["Propane", "n-Hexane", "Ethanol", "Benzene", "Toluene"])
+def test_eval_gives_the_enthalpy_of_vaporization_of_the_real_vapour(fluid):
+    from CoolProp.CoolProp import PropsSI
+
+    from vpaudit.substance import eval_substance
+
+    record, refs, tc = _wide(fluid)
     for tr, tolerance in EVAL_TOLERANCE.items():
         true = PropsSI("Hmolar", "T", tr * tc, "Q", 1, fluid) - PropsSI(
             "Hmolar", "T", tr * tc, "Q", 0, fluid
@@ -291,3 +300,26 @@ def test_eval_says_how_it_took_the_vapour():
     text = render_eval(eval_substance(table_from_rows([low], []), "n-Hexane", 300.0))
     assert "vapour" not in text and "dZ" not in text and "Tc" not in text
     assert text.rstrip().endswith("dH = R T^2 dlnP/dT.")
+
+
+def test_eval_says_why_it_did_not_take_the_vapour_as_a_real_gas():
+    from vpaudit.report.answers import render_eval
+    from vpaudit.substance import eval_substance
+
+    record, refs, tc = _wide("n-Hexane", top=0.99)
+
+    def said(rec, t):
+        answer = eval_substance(table_from_rows([rec], refs), "n-Hexane", t)
+        return answer["records"][0], render_eval(answer)
+
+    # above the reference Tc the three-term curve still gives a number: it means nothing
+    r, text = said(record, 1.02 * tc)
+    assert r["critical_temperature_K"] == pytest.approx(tc) and r["vapour"] == "ideal gas"
+    assert "Above the critical temperature: n-Hexane" in text
+    # just below Tc the saturated vapour is beyond a second virial coefficient
+    r, text = said(record, 0.98 * tc)
+    assert r["vapour"] == "ideal gas" and "too near Tc" in text and "twofold" in text
+    # the curve read in kPa at 300 K: denser than any saturated vapour so far below Tc
+    r, text = said(dict(record, pressure_unit="kPa"), 300.0)
+    assert r["vapour"] == "ideal gas" and "a wrong pressure unit?" in text
+    assert "too near Tc" not in text

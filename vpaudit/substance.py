@@ -159,6 +159,7 @@ def eval_substance(
     dz, critical, tc = _real_gas(table, substance, np.where(found, t, np.nan), y, h_ideal)
     real = np.isfinite(dz)
     h = np.where(real, dz * h_ideal, h_ideal)
+    because = _why_ideal(t, h_ideal, real, critical, tc)
     with np.errstate(invalid="ignore"):
         in_range = found & (t >= curves.t_min) & (t <= curves.t_max)
     mm = table.references
@@ -182,6 +183,7 @@ def eval_substance(
                 "enthalpy_J_per_mol": _num(h[i]),
                 "ideal_gas_enthalpy_J_per_mol": _num(h_ideal[i]),
                 "vapour": "real gas" if real[i] else "ideal gas",
+                "ideal_gas_because": because[i],
                 "critical_constants_given": bool(critical[i]),
                 "critical_temperature_K": _num(tc[i]),
                 "compressibility_change": _num(dz[i]),
@@ -225,8 +227,41 @@ def _real_gas(
     with np.errstate(invalid="ignore"):
         d = departure(ctx, rows, t, y)
         dz = np.where(np.isfinite(t) & (h_ideal > 0.0), d.delta_z, np.nan)
-    tc, pc, omega = critical_constants(ctx, rows)
-    return dz, np.isfinite(tc) & np.isfinite(pc) & np.isfinite(omega), tc
+    tc, pc, _ = critical_constants(ctx, rows)
+    return dz, np.isfinite(tc) & np.isfinite(pc), tc
+
+
+#: From this T/Tc up, a vapour too dense for a second virial coefficient is a real one near
+#: its critical point (a real saturated vapour reaches |B P/(R T)| = 0.3 only from about
+#: 0.95 Tc); below, no saturated vapour is that dense.
+NEAR_CRITICAL = 0.9
+
+
+def _why_ideal(
+    t: np.ndarray, h_ideal: np.ndarray, real: np.ndarray, critical: np.ndarray, tc: np.ndarray
+) -> list[str | None]:
+    """Why ``eval`` read each record's vapour at ``t`` [K] as an ideal gas (None where it
+    did not, or where the record has no value there): ``h_ideal`` = R T^2 dlnP/dT [J/mol];
+    ``real``, ``critical`` and ``tc`` [K] as :func:`_real_gas` gives them.
+    """
+    out: list[str | None] = []
+    rows = zip(
+        t.tolist(), h_ideal.tolist(), real.tolist(), critical.tolist(), tc.tolist(), strict=True
+    )
+    for tk, hk, r, c, tck in rows:
+        if r or not math.isfinite(tk):
+            out.append(None)
+        elif math.isfinite(tck) and tk >= tck:
+            out.append("above the critical temperature")
+        elif hk <= 0.0:
+            out.append("the curve falls as T rises")
+        elif not c:
+            out.append("no Tc and Pc in the table")
+        elif tk >= NEAR_CRITICAL * tck:
+            out.append("too near the critical point")
+        else:  # too dense a vapour, or an acentric factor no real substance has
+            out.append("no saturated vapour there")
+    return out
 
 
 def _num(v) -> float | None:

@@ -72,6 +72,16 @@ class Departure(NamedTuple):
     estimated: np.ndarray  # bool: Tc and Pc estimated from the curve itself
 
 
+#: The acentric factors of real substances, with a margin: helium-3's -0.47 to about 2 for
+#: the heaviest organics (values from memory). Of the 1,233 clean liquids of the four
+#: compilations with a Tc and a Pc in chemicals, the curves give -0.48 to 1.46, but for
+#: three Landolt curves far from their ranges at 0.7 Tc (-3.9, -1.4, 10.6). Outside it a
+#: curve is no real one at 0.7 Tc (a wrong unit, or an extrapolation far from its range) and
+#: is not corrected: the correlations could give a B of the wrong sign (a kPa slip moves
+#: omega by 3).
+OMEGA_RANGE = (-0.5, 2.0)
+
+
 def abbott(tr: np.ndarray, omega: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """The reduced second virial coefficient B Pc / (R Tc) = B0 + omega B1 and its
     derivative with respect to Tr (Pitzer-Curl correlation, Abbott's form). Dimensionless.
@@ -96,7 +106,7 @@ def critical_constants(ctx: AuditContext, rows: np.ndarray):
     of the substance's reference values (a correction of a few per cent, which the spread
     of evaluations moves by a few per cent of itself), else a Wagner record's own; the
     acentric factor omega = -1 - log10(P(0.7 Tc) / Pc) from the curve itself. NaN where
-    not known.
+    not known, and the acentric factor where no real substance's is (:data:`OMEGA_RANGE`).
     """
     tc = ctx.critical_temperature()[rows]
     pc = ctx.reference_median("critical_pressure", rows)
@@ -104,7 +114,14 @@ def critical_constants(ctx: AuditContext, rows: np.ndarray):
     y07 = evaluate(ctx.curves.take(rows), 0.7 * tc, order=0)[0]
     with np.errstate(invalid="ignore", divide="ignore"):
         omega = -1.0 - (y07 - np.log(pc)) / np.log(10.0)
-    return tc, pc, omega
+    return tc, pc, _real_omega(omega)
+
+
+def _real_omega(omega: np.ndarray) -> np.ndarray:
+    """``omega`` where it lies within :data:`OMEGA_RANGE`, else NaN."""
+    lo, hi = OMEGA_RANGE
+    with np.errstate(invalid="ignore"):
+        return np.where((omega >= lo) & (omega <= hi), omega, np.nan)
 
 
 #: T_b/T_c of real liquids at the median: 0.68 over the 1,005 substances for which chemicals
@@ -124,7 +141,7 @@ def estimated_critical_constants(
     Tc/T) (exact at 0.7 Tc by the definition of omega; common practice elsewhere), held to
     the curve's slope and its 101325 Pa at T_b. NaN for a solid, a curve that does not
     reach 101325 Pa between half its lower and three times its upper range end, or an
-    acentric factor outside -0.4 to 2.
+    acentric factor outside :data:`OMEGA_RANGE`.
 
     Measured on Landolt's odd-CAS Antoine liquids with P(298.15 K) between 10 kPa and 2 MPa
     and a Tc and Pc in chemicals (302): the real-gas correction of dS0(298) so estimated is
@@ -143,9 +160,8 @@ def estimated_critical_constants(
         one_omega = slope * tb * tb / (7.0 / 3.0 * np.log(10.0) * tc)
         ln_pc = LN_P_STANDARD - 7.0 / 3.0 * np.log(10.0) * one_omega * (1.0 - tc / tb)
         pc = np.where(np.isfinite(pc), pc, np.exp(ln_pc))
-        # an acentric factor no real substance has (helium's -0.39 to about 2 for the
-        # heaviest organics; values from memory) says the curve is no real one near T_b
-        omega = np.where((one_omega >= 0.6) & (one_omega <= 3.0), one_omega - 1.0, np.nan)
+        # an acentric factor no real substance has says the curve is no real one near T_b
+        omega = _real_omega(one_omega - 1.0)
     return tc, pc, omega
 
 
@@ -157,12 +173,14 @@ def departure(
     solid's neglected. With ``estimate``, a liquid whose table gives no Tc or Pc takes
     them from its own curve (:func:`estimated_critical_constants`) where the correction is
     at least :data:`MIN_ESTIMATED_TERM`. NaN where Tc or Pc is not known, at or above Tc,
-    or where |B P / (R T)| exceeds :data:`MAX_VIRIAL_TERM`.
+    where the curve gives no real acentric factor (:data:`OMEGA_RANGE`), or where |B P /
+    (R T)| exceeds :data:`MAX_VIRIAL_TERM`.
     """
     tc, pc, omega = critical_constants(ctx, rows)
     unknown = np.zeros(rows.size, dtype=bool)
     if estimate:
-        unknown = ~(np.isfinite(tc) & np.isfinite(pc) & np.isfinite(omega)) & ctx.liquid[rows]
+        # a table's Tc and Pc whose curve gives no real acentric factor: not corrected
+        unknown = ~(np.isfinite(tc) & np.isfinite(pc)) & ctx.liquid[rows]
         if unknown.any():
             at = np.flatnonzero(unknown)
             tc, pc, omega = tc.copy(), pc.copy(), omega.copy()

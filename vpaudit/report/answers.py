@@ -116,51 +116,43 @@ def render_eval(answer: dict, unit: str = "Pa") -> str:
 
 def _vapour_notes(records: list[dict]) -> list[str]:
     """What ``eval`` could not take as a real gas, and why, where it matters: above the
-    critical temperature, too dense a vapour for a second virial coefficient (near Tc, or
-    far below it: no saturated vapour), or no Tc and Pc in the table, from
+    critical temperature and where the curve falls, always; near the critical point, where
+    no saturated vapour is, or without a Tc and a Pc in the table, from
     :data:`DENSE_VAPOUR_PA` up. The ideal reading's excess near Tc is CoolProp's (propane,
     n-hexane, ethanol, benzene, toluene, argon at 0.95 Tc).
     """
-    above, near, unreal, unknown = [], [], [], []
+    said: dict[str, list[str]] = {}
     for r in records:
-        t, tc = r["temperature_K"], r.get("critical_temperature_K")
-        if t is not None and tc is not None and t >= tc:
-            above.append(f"{r['id']} ({tc:.5g} K)")
-        elif r.get("vapour") != "ideal gas" or not r["enthalpy_J_per_mol"]:
+        why = r.get("ideal_gas_because")
+        if why is None or (
+            why not in ("above the critical temperature", "the curve falls as T rises")
+            and (not r["enthalpy_J_per_mol"] or (r["pressure_Pa"] or 0.0) < DENSE_VAPOUR_PA)
+        ):
             continue
-        elif (r["pressure_Pa"] or 0.0) < DENSE_VAPOUR_PA:
-            continue
-        elif r.get("critical_constants_given", True) and tc and t:
-            # a real saturated vapour reaches |B P/(R T)| = 0.3 only from about 0.95 Tc
-            (near if t / tc >= 0.9 else unreal).append(f"{r['id']} (T/Tc = {t / tc:.3f})")
-        else:
-            unknown.append(r["id"])
-    lines = []
-    if above:
-        lines.append(
-            f"Above the critical temperature: {', '.join(above)}. No liquid is there, and no "
-            "vapour pressure: a value the curve gives is an extrapolation of no meaning."
+        tc = r.get("critical_temperature_K")
+        said.setdefault(why, []).append(
+            f"{r['id']} (T/Tc = {r['temperature_K'] / tc:.3f})" if tc else r["id"]
         )
-    if near:
-        lines.append(
-            f"{', '.join(near)}: too near Tc for a second virial coefficient (|B P/(R T)| above "
-            f"{MAX_VIRIAL_TERM}), so dH is read as for an ideal gas, which overstates it there "
-            "about twofold or more (by 84-136 % at 0.95 Tc for organic liquids and argon)."
-        )
-    if unreal:
-        lines.append(
-            f"{', '.join(unreal)}: a vapour denser than any saturated vapour so far below Tc "
-            f"(|B P/(R T)| above {MAX_VIRIAL_TERM}): a wrong pressure unit? dH is read as for "
-            "an ideal gas."
-        )
-    if unknown:
-        lines.append(
-            f"{', '.join(unknown)}: no Tc and Pc in the table, so dH is read as for an ideal gas, "
-            "which overstates it where the vapour is dense (for organic liquids by about 1 % "
-            "at 10 kPa, 4-6 % at 1 atm, 19-40 % at 1 MPa); critical_temperature and "
-            "critical_pressure references correct it."
-        )
-    return lines
+    words = {
+        "above the critical temperature": "above the critical temperature, where there is "
+        "no liquid and no vapour pressure: a value the curve gives there is an extrapolation "
+        "of no meaning.",
+        "the curve falls as T rises": "the curve falls as T rises here, as no vapour-pressure "
+        "curve does (its dH is negative).",
+        "too near the critical point": f"too near Tc for a second virial coefficient (|B P/(R "
+        f"T)| above {MAX_VIRIAL_TERM}), so dH is read as for an ideal gas, which overstates "
+        "it there about twofold or more (by 84-136 % at 0.95 Tc for organic liquids and "
+        "argon).",
+        "no saturated vapour there": "no saturated vapour is like this so far below Tc (too "
+        f"dense for its temperature, |B P/(R T)| above {MAX_VIRIAL_TERM}, or a curve whose "
+        "acentric factor no real substance has): a wrong pressure unit? dH is read as for an "
+        "ideal gas.",
+        "no Tc and Pc in the table": "no Tc and Pc in the table, so dH is read as for an "
+        "ideal gas, which overstates it where the vapour is dense (for organic liquids by "
+        "about 1 % at 10 kPa, 4-6 % at 1 atm, 19-40 % at 1 MPa); critical_temperature and "
+        "critical_pressure references correct it.",
+    }
+    return [f"{', '.join(ids)}: {words[why]}" for why, ids in said.items()]
 
 
 def _anchor_lines(ctx) -> list[str]:

@@ -134,6 +134,27 @@ def test_the_vapour_pressure_of_an_unreal_reading_is_not_corrected():
         assert a.h_ideal_gas[0] < 0 and not a.real_gas[0] and a.h[0] == a.h_ideal_gas[0]
 
 
+def test_a_curve_with_no_real_acentric_factor_is_not_corrected():
+    # n-hexane's curve 1000 times too low (a pressure-unit slip): its 20 Pa at 298.15 K
+    # would be corrected with the table's Tc and Pc, as any pressure is, but the curve then
+    # gives an acentric factor of 3.3 at 0.7 Tc (n-hexane's is 0.30), which no substance
+    # has: the correlations are not read with it
+    from vpaudit.checks.real_gas import OMEGA_RANGE, critical_constants
+
+    record, dh0, ds0, tc, pc = _coolprop("n-Hexane")
+    low = dict(record, A=record["A"] - math.log(1000.0))
+    refs = [
+        {"substance": "n-Hexane", "quantity": q, "value": v, "unit": u, "source": "CoolProp"}
+        for q, v, u in (("critical_temperature", tc, "K"), ("critical_pressure", pc, "Pa"))
+    ]
+    for rec, real in ((record, True), (low, False)):
+        ctx = AuditContext(table_from_rows([rec], refs), Policy())
+        omega = critical_constants(ctx, np.array([0]))[2][0]
+        assert np.isfinite(omega) == real
+        assert _anchor(rec, dh0, ds0, tc, pc).real_gas[0] == real
+    assert OMEGA_RANGE[0] <= -0.47  # helium-3's, the lowest (value from memory)
+
+
 @given(tr=st.floats(0.3, 0.99), omega=st.floats(-0.2, 1.2), log_pr=st.floats(-40.0, -18.5))
 def test_the_real_gas_terms_vanish_with_the_pressure(tr, omega, log_pr):
     # at a vanishing reduced pressure (below 1e-8) the vapour is ideal and the liquid's

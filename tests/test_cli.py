@@ -99,7 +99,7 @@ def test_eval_json_contract(sample_db):
         "in_range",
     }
     # at 0.76 Pa, with no Tc or Pc and an estimate that would change nothing: an ideal gas
-    assert rec["vapour"] == "ideal gas" and rec["compressibility_change"] is None
+    assert rec["vapour"] == "ideal-gas" and rec["compressibility_change"] is None
     assert rec["enthalpy_J_per_mol"] == rec["ideal_gas_enthalpy_J_per_mol"]
     r = run("eval", sample_db, "ardenite", "--pressure", "0.01Torr", "--format", "json")
     data = json.loads(r.output)

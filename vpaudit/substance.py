@@ -182,7 +182,7 @@ def eval_substance(
                 "temperature_K": _num(t[i]),
                 "enthalpy_J_per_mol": _num(h[i]),
                 "ideal_gas_enthalpy_J_per_mol": _num(h_ideal[i]),
-                "vapour": "real gas" if real[i] else "ideal gas",
+                "vapour": "real-gas" if real[i] else "ideal-gas",
                 "ideal_gas_because": because[i],
                 "critical_constants_given": bool(critical[i]),
                 "critical_temperature_K": _num(tc[i]),
@@ -252,15 +252,15 @@ def _why_ideal(
         if r or not math.isfinite(tk):
             out.append(None)
         elif math.isfinite(tck) and tk >= tck:
-            out.append("above the critical temperature")
+            out.append("above-critical-temperature")
         elif hk <= 0.0:
-            out.append("the curve falls as T rises")
+            out.append("curve-falls")
         elif not c:
-            out.append("no Tc and Pc in the table")
+            out.append("no-critical-constants")
         elif tk >= NEAR_CRITICAL * tck:
-            out.append("too near the critical point")
+            out.append("near-critical-point")
         else:  # too dense a vapour, or an acentric factor no real substance has
-            out.append("no saturated vapour there")
+            out.append("no-saturated-vapour")
     return out
 
 

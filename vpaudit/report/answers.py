@@ -44,7 +44,7 @@ def render_eval(answer: dict, unit: str = "Pa") -> str:
         head = f"{answer['substance']} at {p / f:.6g} {unit}"
         col = "T [K]"
     rows = []
-    real = any(r.get("vapour", "ideal gas") != "ideal gas" for r in answer["records"])
+    real = any(r.get("vapour", "ideal-gas") != "ideal-gas" for r in answer["records"])
     for r in answer["records"]:
         value = (
             _g(r["pressure_Pa"] / f if r["pressure_Pa"] is not None else None)
@@ -65,7 +65,7 @@ def render_eval(answer: dict, unit: str = "Pa") -> str:
                 if r["temperature_K"]
                 else "not reached in range",
             ]
-            + ([r["vapour"] if r["enthalpy_J_per_mol"] else "-"] if real else [])
+            + ([r["vapour"].replace("-", " ") if r["enthalpy_J_per_mol"] else "-"] if real else [])
         )
     lines = [head, ""] + _table(
         ["record", "phase", col, "dH [kJ/mol]", "dCp [J/(mol K)]", "range [K]", "in range"]
@@ -106,7 +106,7 @@ def render_eval(answer: dict, unit: str = "Pa") -> str:
             + ", ".join(
                 f"{r['id']} {r['compressibility_change']:.3f}"
                 for r in answer["records"]
-                if r["vapour"] == "real gas"
+                if r["vapour"] == "real-gas"
             )
             + ". dCp is read as for an ideal gas."
         ]
@@ -125,7 +125,7 @@ def _vapour_notes(records: list[dict]) -> list[str]:
     for r in records:
         why = r.get("ideal_gas_because")
         if why is None or (
-            why not in ("above the critical temperature", "the curve falls as T rises")
+            why not in ("above-critical-temperature", "curve-falls")
             and (not r["enthalpy_J_per_mol"] or (r["pressure_Pa"] or 0.0) < DENSE_VAPOUR_PA)
         ):
             continue
@@ -134,20 +134,20 @@ def _vapour_notes(records: list[dict]) -> list[str]:
             f"{r['id']} (T/Tc = {r['temperature_K'] / tc:.3f})" if tc else r["id"]
         )
     words = {
-        "above the critical temperature": "above the critical temperature, where there is "
+        "above-critical-temperature": "above the critical temperature, where there is "
         "no liquid and no vapour pressure: a value the curve gives there is an extrapolation "
         "of no meaning.",
-        "the curve falls as T rises": "the curve falls as T rises here, as no vapour-pressure "
+        "curve-falls": "the curve falls as T rises here, as no vapour-pressure "
         "curve does (its dH is negative).",
-        "too near the critical point": f"too near Tc for a second virial coefficient (|B P/(R "
+        "near-critical-point": f"too near Tc for a second virial coefficient (|B P/(R "
         f"T)| above {MAX_VIRIAL_TERM}), so dH is read as for an ideal gas, which overstates "
         "it there about twofold or more (by 84-136 % at 0.95 Tc for organic liquids and "
         "argon).",
-        "no saturated vapour there": "no saturated vapour is like this so far below Tc (too "
+        "no-saturated-vapour": "no saturated vapour is like this so far below Tc (too "
         f"dense for its temperature, |B P/(R T)| above {MAX_VIRIAL_TERM}, or a curve whose "
         "acentric factor no real substance has): a wrong pressure unit? dH is read as for an "
         "ideal gas.",
-        "no Tc and Pc in the table": "no Tc and Pc in the table, so dH is read as for an "
+        "no-critical-constants": "no Tc and Pc in the table, so dH is read as for an "
         "ideal gas, which overstates it where the vapour is dense (for organic liquids by "
         "about 1 % at 10 kPa, 4-6 % at 1 atm, 19-40 % at 1 MPa); critical_temperature and "
         "critical_pressure references correct it.",

@@ -441,7 +441,8 @@ def eval_cmd(table, substance, temperature, at, pressure, unit, extrapolate, fmt
     """Vapour pressure of SUBSTANCE at a temperature, or the temperature at a pressure.
 
     The temperature may follow SUBSTANCE (vpaudit eval TABLE water 50degC, or -10degC)
-    or be given with --at.
+    or be given with --at. Each record's enthalpy of the phase change there comes with it,
+    its vapour taken as a real gas where the table gives a Tc and a Pc.
     """
     from .api import open_table
     from .report.answers import render_eval

@@ -78,6 +78,8 @@ def test_eval_far_outside_a_range_prints_no_numpy_warning(tmp_path):
     assert r.exit_code == 0
     (rec,) = json.loads(r.output)["records"]
     assert rec["pressure_Pa"] is None and rec["in_range"] is False
+    # below its pole the curve falls as T rises, which eval names
+    assert rec["enthalpy_J_per_mol"] < 0 and rec["ideal_gas_because"] == "curve-falls"
 
 
 def test_eval_json_contract(sample_db):

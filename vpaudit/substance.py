@@ -253,6 +253,8 @@ def _why_ideal(
             out.append(None)
         elif math.isfinite(tck) and tk >= tck:
             out.append("above-critical-temperature")
+        elif not math.isfinite(hk):  # no value there (a float's range left)
+            out.append(None)
         elif hk <= 0.0:
             out.append("curve-falls")
         elif not c:

@@ -251,7 +251,7 @@ def _why_ideal(
     for tk, hk, r, c, tck in rows:
         if r or not math.isfinite(tk):
             out.append(None)
-        elif math.isfinite(tck) and tk >= tck:
+        elif math.isfinite(tck) and tk > tck:
             out.append("above-critical-temperature")
         elif not math.isfinite(hk):  # no value there (a float's range left)
             out.append(None)

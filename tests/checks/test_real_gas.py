@@ -338,6 +338,8 @@ def test_eval_says_why_it_did_not_take_the_vapour_as_a_real_gas():
     assert r["critical_temperature_K"] == pytest.approx(tc) and r["vapour"] == "ideal-gas"
     assert r["ideal_gas_because"] == "above-critical-temperature"
     assert "n-Hexane (T/Tc = 1.020): above the critical temperature" in text
+    # at Tc itself the curve has its value (Pc), and the vapour no second virial coefficient
+    assert said(record, tc)[0]["ideal_gas_because"] == "near-critical-point"
     # just below Tc the saturated vapour is beyond a second virial coefficient
     r, text = said(record, 0.98 * tc)
     assert r["ideal_gas_because"] == "near-critical-point"

@@ -448,3 +448,25 @@ def test_a_dash_as_output_is_standard_output(sample_db, tmp_path, monkeypatch):
     got = CliRunner().invoke(main, ["audit", str(sample_db), "-o", "-", "--format", "json"])
     assert json.loads(got.output)["summary"]["substances"] == 31
     assert list(tmp_path.iterdir()) == []
+
+
+def test_show_gives_each_fix_and_a_command_that_applies_it(sample_db, tmp_path):
+    # a table whose path holds a space: the command printed by show and by the audit's text
+    # report, pasted into a shell as it is, applies the fix
+    import shlex
+    import shutil
+
+    table = tmp_path / "my tables" / "demo"
+    shutil.copytree(sample_db, table)
+    r = run("show", table, "pennarol")
+    assert r.exit_code == 0
+    assert "suggestion: Almost certainly the coefficients give P in kPa" in r.output
+    assert "suggestion: the same fix (pressure-unit, above)" in r.output  # explained once
+    (command,) = [x for x in r.output.splitlines() if "to apply it:" in x]
+    words = shlex.split(command.split("to apply it:", 1)[1])
+    assert words[:3] == ["vpaudit", "apply", str(table)]
+    text = run("audit", table, "--substance", "pennarol", "--fail-on", "never").output
+    assert command.strip() in text  # the same command in both
+    r = run(*words[1:])
+    assert r.exit_code == 0 and "pressure_unit: 'Pa' -> 'kPa'" in r.output
+    assert "Findings: 0" in run("show", table, "pennarol").output

@@ -470,7 +470,9 @@ def eval_cmd(table, substance, temperature, at, pressure, unit, extrapolate, fmt
 @click.argument("substance")
 @click.option("--policy", help="A preset or a policy TOML file.")
 def show_cmd(table, substance, policy):
-    """Everything about one substance: records, crossings, references and findings."""
+    """Everything about one substance: records, crossings, references, findings and the
+    suggested fixes, each with the command that applies it.
+    """
     from .api import open_table
     from .auditing import audit_table
     from .policy import load_policy

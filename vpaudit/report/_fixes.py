@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import shlex
+
 
 def fix_key(suggestion: dict) -> tuple:
     """The identity of a suggested fix (its record, kind and corrected fields): findings
@@ -17,3 +19,10 @@ def fix_key(suggestion: dict) -> tuple:
 def same_fix(suggestion: dict) -> str:
     """How a report names a fix it explained above."""
     return f"the same fix ({suggestion.get('kind')}, above)"
+
+
+def apply_command(table_path: str | None, spec: str) -> str:
+    """The command that applies the fix of finding ``spec`` in the table at ``table_path``
+    (``TABLE`` when unknown), quoted for a POSIX shell where a path or an id needs it.
+    """
+    return f"vpaudit apply {shlex.quote(str(table_path or 'TABLE'))} {shlex.quote(spec)}"

@@ -10,6 +10,7 @@ from ..checks._context import AuditContext
 from ..checks.real_gas import MAX_VIRIAL_TERM
 from ..constants import R
 from ..units import pressure_factor
+from ._fixes import apply_command, fix_key, same_fix
 
 
 def _g(v, fmt="{:.4g}") -> str:
@@ -213,7 +214,9 @@ def _clip(text: str, width: int) -> str:
 
 
 def render_show(table, substance: str, result) -> str:
-    """Everything about one substance for a terminal."""
+    """Everything about one substance for a terminal, its findings with their suggested
+    fixes and the command that applies each.
+    """
     rec = table.records[table.records["substance"] == substance].reset_index(drop=True)
     lines = [f"{substance}: {len(rec)} record(s)", ""]
     rows = [
@@ -288,7 +291,16 @@ def render_show(table, substance: str, result) -> str:
         )
     lines += _anchor_lines(ctx)
     lines += ["", f"Findings: {len(result.findings)}"]
+    shown: set = set()  # each fix is explained once, as in the audit's text report
     for f in result.findings:
         lines.append(f"  {f.severity.label:<8}{f.check} ({', '.join(f.records)}): {f.message}")
+        if f.suggestion:
+            fix = fix_key(f.suggestion)
+            if fix in shown:
+                lines.append(f"    suggestion: {same_fix(f.suggestion)}")
+                continue
+            shown.add(fix)
+            lines.append(f"    suggestion: {f.suggestion.get('explanation', '')}")
+            lines.append(f"    to apply it: {apply_command(result.table_path, f.spec)}")
     lines.append("")
     return "\n".join(lines) + "\n"

@@ -14,7 +14,7 @@ from pathlib import Path
 from ..auditing import CAUTION
 from ..checks._text import confidence
 from ._escape import visible
-from ._fixes import fix_key
+from ._fixes import apply_command, fix_key
 
 __all__ = ["render_report"]
 
@@ -325,8 +325,8 @@ def _sections(result, table, plots: bool, max_sections: int) -> list[str]:
                 if f.suggestion and fix_key(f.suggestion) not in shown:
                     out.append(
                         f"<li class='fix'>Suggested fix: {_e(f.suggestion['explanation'])} "
-                        f"To apply it: <code>vpaudit apply {_e(result.table_path or 'TABLE')} "
-                        f"{_e(f.spec)}</code></li>"
+                        f"To apply it: <code>{_e(apply_command(result.table_path, f.spec))}"
+                        "</code></li>"
                     )
                     shown.add(fix_key(f.suggestion))
         out.append("</ul>")

@@ -4,9 +4,8 @@ at the terminal about revisions of records. The command line only prints these l
 
 from __future__ import annotations
 
-import shlex
-
 from ..checks._text import confidence
+from ._fixes import apply_command
 
 __all__ = ["history_lines", "offer_lines", "revised_line"]
 
@@ -84,6 +83,6 @@ def remains_line(left: list, shown: int = 3, table: str | None = None) -> str:
             f"; a fix is suggested for {nxt.check} ({', '.join(nxt.records)}) "
             f"[{sug.get('kind', 'fix')} on {sug.get('record', '?')}, confidence "
             f"{confidence(sug.get('confidence', 0.0))}]: "
-            f"vpaudit apply {shlex.quote(str(table))} {shlex.quote(nxt.spec)}"
+            f"{apply_command(table, nxt.spec)}"
         )
     return line

@@ -8,7 +8,7 @@ from collections import defaultdict
 from ..auditing import CAUTION
 from ._coverage import coverage_sentence
 from ._escape import visible
-from ._fixes import fix_key, same_fix
+from ._fixes import apply_command, fix_key, same_fix
 
 
 def _counts(findings) -> str:
@@ -74,8 +74,7 @@ def render(result, width: int = 100) -> str:
                     lines.extend(wrap.wrap(f"suggestion: {sug.get('explanation', '')}"))
                     if not status_of:
                         lines.append(
-                            f"      to apply it: vpaudit apply {result.table_path or 'TABLE'} "
-                            f"{f.spec}"
+                            f"      to apply it: {apply_command(result.table_path, f.spec)}"
                         )
             lines.append("")
 

@@ -27,6 +27,7 @@ import json
 import math
 import os
 import re
+import shlex
 import sys
 import time
 from pathlib import Path
@@ -378,7 +379,9 @@ def verify(db: str | Path, table: Table | None = None) -> Table:
         the manifests; the message says how to rebuild the store.
     """
     db = Path(db)
-    rebuild = f"rebuild it from the table files with: vpaudit import TABLE --db {db}"
+    rebuild = (
+        f"rebuild it from the table files with: vpaudit import TABLE --db {shlex.quote(str(db))}"
+    )
     if not db.is_file():
         raise StoreError(f"{db}: no such store")
     if _side(db, ".wal").exists():

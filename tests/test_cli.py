@@ -470,3 +470,19 @@ def test_show_gives_each_fix_and_a_command_that_applies_it(sample_db, tmp_path):
     r = run(*words[1:])
     assert r.exit_code == 0 and "pressure_unit: 'Pa' -> 'kPa'" in r.output
     assert "Findings: 0" in run("show", table, "pennarol").output
+
+
+def test_a_fix_found_in_a_store_names_the_files_to_apply_it_to(clean_sample, tmp_path):
+    # apply writes to the table's files, never to a store: audited from its store, a table's
+    # fix is given as a command on TABLE, with the import that rebuilds the store after it
+    db = tmp_path / "demo.duckdb"
+    assert run("import", clean_sample, "--db", db, "--quiet").exit_code == 0
+    text = run("audit", db, "--fail-on", "never").output
+    commands = [x for x in text.splitlines() if "to apply it:" in x]
+    assert commands and all(f"vpaudit apply {db}" not in x for x in commands)
+    assert all("(TABLE: the table the store" in x for x in commands)
+    assert f"then vpaudit import TABLE --db {db}" in commands[0]
+    # the refused command says why, as before
+    spec = commands[0].split("vpaudit apply TABLE ", 1)[1].split(" (TABLE:", 1)[0]
+    r = run("apply", db, spec)
+    assert r.exit_code == 2 and "source of truth" in r.output

@@ -7,7 +7,15 @@ from pathlib import Path
 from .readers.table import Table, load_table
 from .runtime import DEFAULT, Runtime
 
-__all__ = ["open_table"]
+__all__ = ["is_store", "open_table"]
+
+#: The endings of a DuckDB store made by ``vpaudit import``.
+STORE_SUFFIXES = (".duckdb", ".db")
+
+
+def is_store(path: str | Path) -> bool:
+    """Whether ``path`` names a DuckDB store rather than a table's files."""
+    return str(path).endswith(STORE_SUFFIXES)
 
 
 def open_table(path: str | Path, normalize: bool = False, runtime: Runtime = DEFAULT) -> Table:
@@ -23,7 +31,7 @@ def open_table(path: str | Path, normalize: bool = False, runtime: Runtime = DEF
     runtime : Runtime
         Threads, and files read ahead (:mod:`vpaudit.runtime`); text files only.
     """
-    if str(path).endswith((".duckdb", ".db")):
+    if is_store(path):
         from .store import verify
 
         return verify(path)

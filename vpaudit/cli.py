@@ -833,7 +833,9 @@ def convert_cmd(
 
 
 def _table_dir(table: str) -> None:
-    if str(table).endswith((".duckdb", ".db")):
+    from .api import is_store
+
+    if is_store(table):
         raise click.UsageError(
             "corrections are written to the table's text files, the source of truth: give the "
             "table directory, then rebuild the store with 'vpaudit import'"
@@ -983,10 +985,10 @@ def query_cmd(table, sql, fmt, timeout):
     The query cannot read or write files (DuckDB's external access is off and its
     configuration locked) and is stopped after --timeout seconds.
     """
-    from .api import open_table
+    from .api import is_store, open_table
     from .store import query
 
-    source = table if str(table).endswith((".duckdb", ".db")) else open_table(table)
+    source = table if is_store(table) else open_table(table)
     frame = query(source, sql, timeout)
     if fmt == "csv":
         click.echo(frame.to_csv(index=False), nl=False)

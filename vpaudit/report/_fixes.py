@@ -23,6 +23,16 @@ def same_fix(suggestion: dict) -> str:
 
 def apply_command(table_path: str | None, spec: str) -> str:
     """The command that applies the fix of finding ``spec`` in the table at ``table_path``
-    (``TABLE`` when unknown), quoted for a POSIX shell where a path or an id needs it.
+    (``TABLE`` when unknown), quoted for a POSIX shell where a path or an id needs it. A fix
+    is written to the table's files, never to a store: for a table audited from its store,
+    the command names the files as TABLE and says how to rebuild the store from them.
     """
+    from ..api import is_store
+
+    if table_path is not None and is_store(table_path):
+        store = shlex.quote(str(table_path))
+        return (
+            f"vpaudit apply TABLE {shlex.quote(spec)} (TABLE: the table the store {store} was "
+            f"imported from), then vpaudit import TABLE --db {store}"
+        )
     return f"vpaudit apply {shlex.quote(str(table_path or 'TABLE'))} {shlex.quote(spec)}"

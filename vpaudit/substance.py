@@ -224,10 +224,10 @@ def _real_gas(
 
     ctx = AuditContext(substance_table(table, substance), load_policy(table.policy_path))
     rows = np.arange(len(t))
+    tc, pc, omega = critical_constants(ctx, rows)
     with np.errstate(invalid="ignore"):
-        d = departure(ctx, rows, t, y)
+        d = departure(ctx, rows, t, y, constants=(tc, pc, omega))
         dz = np.where(np.isfinite(t) & (h_ideal > 0.0), d.delta_z, np.nan)
-    tc, pc, _ = critical_constants(ctx, rows)
     return dz, np.isfinite(tc) & np.isfinite(pc), tc
 
 

@@ -166,7 +166,12 @@ def estimated_critical_constants(
 
 
 def departure(
-    ctx: AuditContext, rows: np.ndarray, t: np.ndarray, y: np.ndarray, estimate: bool = False
+    ctx: AuditContext,
+    rows: np.ndarray,
+    t: np.ndarray,
+    y: np.ndarray,
+    estimate: bool = False,
+    constants: tuple[np.ndarray, np.ndarray, np.ndarray] | None = None,
 ) -> Departure:
     """The real-gas terms (:class:`Departure`) of records ``rows`` at temperatures ``t`` [K],
     where their curves give ln(P/Pa) = ``y``: the liquid's Z from :func:`rackett_z`, a
@@ -174,9 +179,10 @@ def departure(
     them from its own curve (:func:`estimated_critical_constants`) where the correction is
     at least :data:`MIN_ESTIMATED_TERM`. NaN where Tc or Pc is not known, at or above Tc,
     where the curve gives no real acentric factor (:data:`OMEGA_RANGE`), or where |B P /
-    (R T)| exceeds :data:`MAX_VIRIAL_TERM`.
+    (R T)| exceeds :data:`MAX_VIRIAL_TERM`. ``constants`` are :func:`critical_constants`
+    of ``rows`` when the caller has them already.
     """
-    tc, pc, omega = critical_constants(ctx, rows)
+    tc, pc, omega = critical_constants(ctx, rows) if constants is None else constants
     unknown = np.zeros(rows.size, dtype=bool)
     if estimate:
         # a table's Tc and Pc whose curve gives no real acentric factor: not corrected

@@ -217,7 +217,11 @@ def render_show(table, substance: str, result) -> str:
     """Everything about one substance for a terminal, its findings with their suggested
     fixes and the command that applies each.
     """
-    rec = table.records[table.records["substance"] == substance].reset_index(drop=True)
+    from ..policy import load_policy
+    from ..substance import substance_table
+
+    sub = substance_table(table, substance)
+    rec = sub.records
     lines = [f"{substance}: {len(rec)} record(s)", ""]
     rows = [
         [
@@ -250,17 +254,13 @@ def render_show(table, substance: str, result) -> str:
     if long:
         lines += ["", "Sources cut short above, in full:"]
         lines += [f"  {rid}: {src}" for rid, src in long]
-    ref = table.references
-    ref = ref[ref["substance"] == substance] if len(ref) else ref
+    ref = sub.references
     if len(ref):
         lines += ["", "References:"]
         lines += [
             f"  {r.quantity} = {r.value_text} {r.unit} ({r.source})" for r in ref.itertuples()
         ]
-    from ..policy import load_policy
-    from ..substance import substance_table
-
-    ctx = AuditContext(substance_table(table, substance), load_policy(table.policy_path))
+    ctx = AuditContext(sub, load_policy(table.policy_path))
     pr = ctx.pairs
     if len(pr.solid):
         lines += ["", "Solid/liquid pairs (implied at the crossing):"]

@@ -324,16 +324,18 @@ def audit_table(
     not_checked = coverage(ctx) if len(table.records) else {}
     n_pairs = len(ctx.pairs.solid) if any(REGISTRY[n].scope.value == "pair" for n in names) else 0
     ctx.drop_shared()  # not needed any more: the diagnosis and the output use their memory
-    skipped = 0
+    skipped, shared = 0, []
     if diagnose:
         if ctx.n >= PARALLEL_ROWS:  # the diagnosis' Arrow columns cannot reuse numpy's
             from .runtime import release_scratch
 
             release_scratch()
         from .diagnose import DIAGNOSE_LIMIT, attach_suggestions
+        from .diagnose.shared import shared_slips
 
         limit = DIAGNOSE_LIMIT if diagnose is True else int(diagnose)
         skipped = attach_suggestions(ctx, findings, limit)
+        shared = shared_slips(ctx, findings)
     point_at_suspects(ctx, findings, witnesses)
     findings.sort()
     summary = {
@@ -349,6 +351,8 @@ def audit_table(
     }
     if skipped:
         summary["not_diagnosed"] = skipped
+    if shared:
+        summary["shared_slips"] = shared
     return AuditResult(findings, summary, policy.describe(), table_path, names)
 
 

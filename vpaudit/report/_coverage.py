@@ -31,3 +31,33 @@ def coverage_sentence(summary: dict) -> str:
         if key in NOT_TESTED
     ]
     return "Not tested for want of data: " + "; ".join(parts) + "." if parts else ""
+
+
+def shared_slip_sentences(summary: dict) -> list[str]:
+    """One sentence per slip that many records of one file and source share
+    (``summary["shared_slips"]``, :mod:`vpaudit.diagnose.shared`), for the human-readable
+    reports; none when there is none.
+    """
+    out = []
+    for g in summary.get("shared_slips") or ():
+        change = " and ".join(f"{f} {old} -> {new}" for f, (old, new) in g["change"].items())
+        written = " and ".join(f"{f} {old}" for f, (old, _) in g["change"].items())
+        phase = g["phase"] or "unlabelled"
+        source = f'source "{g["source"]}"' if g["source"] else "no source"
+        head = (
+            f"{'Shared' if g['whole_source'] else 'Recurring'} slip: the diagnosis gives "
+            f"{g['substances']} substances the same fix of their {phase} record in "
+            f"{g['file']} ({source}), {change}"
+            f" ({g['confident']} of them at 0.8 or above; e.g. {', '.join(g['records'][:3])}). "
+            f"Of the {g['same_metadata']} {phase} records there written with {written}, "
+            f"{g['flagged']} draw errors or warnings"
+        )
+        if g["whole_source"]:
+            tail = (
+                ": the source's header was likely misread once for all of them. Check how "
+                "the source writes its equations before applying the fixes one by one."
+            )
+        else:
+            tail = ": a slip that recurs in the typing of this source, not one of its header."
+        out.append(head + tail)
+    return out

@@ -27,6 +27,7 @@ h1{font-size:1.5em;margin:.2em 0}h2{font-size:1.2em;border-bottom:2px solid #d8d
 .run dd{margin:0 0 .1em 8.5em}
 .caution{border-left:4px solid #6b6b6b;padding:.4em .8em;background:#f3f3f3}
 .coverage{border-left:4px solid #9a9a9a;padding:.4em .8em;background:#fafafa}
+.shared{border-left:4px solid #dcb86a;padding:.4em .8em;background:#fdf8ec}
 .clean{border:2px solid #2f6b3a;background:#eef6ef;padding:.6em .9em;font-weight:600}
 table{border-collapse:collapse;width:100%;font-size:.9em;margin:.4em 0}
 th,td{border:1px solid #c8c8c8;padding:.25em .45em;vertical-align:top;text-align:left}
@@ -156,7 +157,7 @@ def render_report(result, table=None, plots: bool = True, max_sections: int = 10
     max_sections : int
         At most this many substance sections (worst first); the findings table is complete.
     """
-    from ._coverage import coverage_sentence
+    from ._coverage import coverage_sentence, shared_slip_sentences
 
     s = result.summary
     status_of = result.status_of if result.gated else None
@@ -179,6 +180,7 @@ def render_report(result, table=None, plots: bool = True, max_sections: int = 10
         )
         + "</p>",
     ]
+    out += [f"<p class='shared'>{_e(sentence)}</p>" for sentence in shared_slip_sentences(s)]
     covered = coverage_sentence(s)
     if covered:
         out.append(f"<p class='coverage'>{_e(covered)}</p>")

@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from ..auditing import CAUTION
-from ._coverage import coverage_sentence
+from ._coverage import coverage_sentence, shared_slip_sentences
 from ._escape import markdown_text as _cell
 from ._fixes import fix_key, same_fix
 
@@ -74,6 +74,8 @@ def render(result) -> str:
             for f in resolved
         ]
         out += ["", "</details>", ""]
+    for sentence in shared_slip_sentences(s):
+        out += [_cell(sentence), ""]
     covered = coverage_sentence(s)
     if covered:
         out += [covered, ""]

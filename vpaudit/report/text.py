@@ -6,7 +6,7 @@ import textwrap
 from collections import defaultdict
 
 from ..auditing import CAUTION
-from ._coverage import coverage_sentence
+from ._coverage import coverage_sentence, shared_slip_sentences
 from ._escape import visible
 from ._fixes import apply_command, fix_key, same_fix
 
@@ -121,6 +121,8 @@ def render(result, width: int = 100) -> str:
     if whole:
         summary += f"; {whole} about the table as a whole"
     lines.append(summary + ".")
+    for sentence in shared_slip_sentences(s):
+        lines.extend(textwrap.wrap(sentence, width=width))
     covered = coverage_sentence(s)
     if covered:
         lines.extend(textwrap.wrap(covered, width=width))

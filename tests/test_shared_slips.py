@@ -1,0 +1,92 @@
+"""A slip many records of one source share (vpaudit.diagnose.shared), on real equations.
+
+The records are the first liquids of the Antoine constants of Poling, Prausnitz and
+O'Connell (2001), "The Properties of Gases and Liquids", 5th ed., as the chemicals package
+carries them (``Psat_data_AntoinePoling``: log10 of P in Pa, T in K), with their reference
+values from chemicals (tests/_support/compilations.py). The slips are planted by
+tests/_support/slips.py.
+"""
+
+from __future__ import annotations
+
+import random
+
+import pytest
+from compilations import POLING_ANT, poling_antoine
+from refdata import table_from_rows
+from slips import corrupt
+
+from vpaudit.auditing import audit_table
+from vpaudit.report import RENDERERS
+from vpaudit.report.html import render_report as html
+
+N = 40
+
+
+@pytest.fixture(scope="module")
+def poling():
+    records, refs = poling_antoine(N)
+    assert len(records) == N and all(r["log_base"] == "10" for r in records)
+    return records, refs
+
+
+def _audit(records, refs):
+    return audit_table(table_from_rows(records, refs))
+
+
+def test_a_header_misread_for_the_whole_source_is_named(poling):
+    """Every record marked ln P while its source prints log10 P (a header misread once): the
+    report names the one change, says that every record so written is flagged, and points at
+    the source's header.
+    """
+    records, refs = poling
+    result = _audit([dict(r, log_base="e") for r in records], refs)
+    (g,) = result.summary["shared_slips"]
+    assert g["change"] == {"log_base": ["e", "10"]}
+    assert (g["source"], g["phase"], g["file"]) == (POLING_ANT, "liquid", "<records>")
+    assert g["same_metadata"] == g["flagged"] == N
+    assert g["whole_source"]
+    # most substances are given that fix (each on its own evidence), most of them confidently
+    assert g["substances"] >= 0.75 * N and g["confident"] >= 0.5 * N
+    text = RENDERERS["text"](result)
+    assert "Shared slip:" in text and "log_base e -> 10" in text
+    assert "header was likely misread" in text
+    assert "log_base e -&gt; 10" in html(result, plots=False)
+
+
+def test_a_recurring_slip_is_not_called_a_header(poling):
+    """The same log-base slip in a few records of the source, the others right: reported as a
+    slip that recurs, since most records written the same way draw nothing.
+    """
+    records, refs = poling
+    rng = random.Random(7)
+    slipped = set(rng.sample(range(N), 6))
+    planted = [
+        corrupt(r, "log-base", rng)[0] if k in slipped else dict(r) for k, r in enumerate(records)
+    ]
+    result = _audit(planted, refs)
+    groups = result.summary.get("shared_slips", [])
+    assert [g["change"] for g in groups] == [{"log_base": ["10", "e"]}]
+    (g,) = groups
+    assert g["substances"] >= 3 and g["flagged"] < 0.5 * g["same_metadata"] == N / 2
+    assert not g["whole_source"]
+    assert "Recurring slip:" in RENDERERS["text"](result)
+
+
+def test_slips_of_many_kinds_add_up_to_no_shared_slip(poling):
+    """Single slips of every kind, one per record in a third of the records (as typed one
+    by one): no change is shared by most of the suggestions, so none is reported.
+    """
+    records, refs = poling
+    rng = random.Random(11)
+    kinds = ["log-base", "pressure-unit", "sign", "decimal-shift", "digit-transposition"]
+    planted, k = [], 0
+    for i, r in enumerate(records):
+        got = corrupt(r, kinds[k % len(kinds)], rng) if i % 3 == 0 else None
+        if got is not None:
+            k += 1
+        planted.append(got[0] if got is not None else dict(r))
+    result = _audit(planted, refs)
+    assert any(f.suggestion for f in result.findings)  # the slips are diagnosed one by one
+    assert "shared_slips" not in result.summary
+    assert "slip:" not in RENDERERS["text"](result)

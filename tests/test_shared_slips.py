@@ -90,3 +90,20 @@ def test_slips_of_many_kinds_add_up_to_no_shared_slip(poling):
     assert any(f.suggestion for f in result.findings)  # the slips are diagnosed one by one
     assert "shared_slips" not in result.summary
     assert "slip:" not in RENDERERS["text"](result)
+
+
+def test_review_names_the_shared_slip_before_the_fixes(poling, tmp_path):
+    """``vpaudit review`` says first that one change explains the whole source, so that a
+    reviewer checks the source before walking its fixes one by one.
+    """
+    from click.testing import CliRunner
+
+    from vpaudit.cli import main
+    from vpaudit.writers import export_table
+
+    records, refs = poling
+    export_table(table_from_rows([dict(r, log_base="e") for r in records], refs), tmp_path)
+    run = CliRunner().invoke(main, ["review", str(tmp_path)], input="q\n")
+    assert run.exit_code == 0, run.output
+    first = run.output.index("Shared slip:")
+    assert "log_base e -> 10" in run.output and first < run.output.index("[1/")

@@ -9,6 +9,7 @@ from __future__ import annotations
 import json
 import os
 import sys
+import textwrap
 
 import click
 
@@ -906,6 +907,10 @@ def review_cmd(table, by, db, min_confidence):
     if not offers:
         _say("no suggested fixes to review")
         return
+    from .report._coverage import shared_slip_sentences
+
+    for sentence in shared_slip_sentences(result.summary):  # before the fixes one by one
+        _say(textwrap.fill(sentence, width=100))
     applied = 0
     changed: set[str] = set()
     for k, f in enumerate(offers, 1):

@@ -194,7 +194,9 @@ def replicas(
                 r = pair[(metal, phase)]
                 a, b, c, d = r["A"] + shift[i], r["B"], r["C"], r["D"]
                 if slip[i] == "log-base" and phase == "liquid":
-                    a, b, c, d = a / ln10, b / ln10, c / ln10, d / ln10
+                    # log10 P = A/ln 10 + (B/ln 10)/T + C log10 T + (D/ln 10) T: the
+                    # coefficient of the log T term stays (ln 10 C log10 T = C ln T)
+                    a, b, d = a / ln10, b / ln10, d / ln10
                 elif slip[i] == "pressure-unit" and phase == "solid":
                     a -= ln_mmhg
                 elif slip[i] == "sign-B" and phase == "solid":

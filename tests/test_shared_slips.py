@@ -9,6 +9,7 @@ tests/_support/slips.py.
 
 from __future__ import annotations
 
+import math
 import random
 
 import pytest
@@ -34,10 +35,14 @@ def _audit(records, refs):
     return audit_table(table_from_rows(records, refs))
 
 
+def _errored(result) -> int:
+    return len({f.substance for f in result.findings if f.severity.value == "error"})
+
+
 def test_a_header_misread_for_the_whole_source_is_named(poling):
     """Every record marked ln P while its source prints log10 P (a header misread once): the
-    report names the one change, says that every record so written is flagged, and points at
-    the source's header.
+    report names the one change and points at the source's header; applied to the whole
+    source, the change leaves errors only where the clean compilation has them.
     """
     records, refs = poling
     result = _audit([dict(r, log_base="e") for r in records], refs)
@@ -46,12 +51,48 @@ def test_a_header_misread_for_the_whole_source_is_named(poling):
     assert (g["source"], g["phase"], g["file"]) == (POLING_ANT, "liquid", "<records>")
     assert g["same_metadata"] == g["flagged"] == N
     assert g["whole_source"]
+    tried = g["tried"]
+    assert tried["substances"] == tried["of"] == tried["with_errors"] == N
+    assert tried["with_errors_after"] == _errored(_audit(records, refs))
     # most substances are given that fix (each on its own evidence), most of them confidently
     assert g["substances"] >= 0.75 * N and g["confident"] >= 0.5 * N
     text = RENDERERS["text"](result)
     assert "Shared slip:" in text and "log_base e -> 10" in text
     assert "header was likely misread" in text
     assert "log_base e -&gt; 10" in html(result, plots=False)
+
+
+def test_two_header_slips_at_once_are_singled_out_by_the_whole_source(poling):
+    """A source that prints log10 of P in mmHg, entered as ln P in Pa (two metadata slips at
+    once): each substance's evidence cannot tell that compound change from its neighbours, so
+    no fix is confident, but applied to the whole source it alone clears it.
+    """
+    records, refs = poling
+    # 1 Torr = 101325/760 Pa by definition; 1 mmHg is 1.4e-7 of it larger (NIST SP 811)
+    torr = math.log10(101325 / 760)
+    result = _audit([dict(r, log_base="e", A=r["A"] - torr) for r in records], refs)
+    (g,) = result.summary["shared_slips"]
+    assert g["change"]["log_base"] == ["e", "10"]
+    assert g["change"]["pressure_unit"][0] == "Pa"
+    assert g["change"]["pressure_unit"][1] in ("mmHg", "Torr")  # one fix, two names
+    assert g["substances"] >= 0.75 * N
+    assert g["whole_source"] and g["tried"]["with_errors"] == N
+    assert g["tried"]["with_errors_after"] == _errored(_audit(records, refs))
+    assert "Shared slip:" in RENDERERS["text"](result)
+
+
+def test_constants_in_degc_with_the_range_in_kelvin_are_one_shared_slip(poling):
+    """A source whose Antoine constants are for theta in degC, entered as K with the range
+    already converted to K (C 273.15 too large): the change tried on the whole source
+    rewrites each record's range in degC with its unit, and clears it.
+    """
+    records, refs = poling
+    result = _audit([dict(r, C=r["C"] + 273.15) for r in records], refs)
+    (g,) = result.summary["shared_slips"]
+    assert g["change"] == {"temperature_unit": ["K", "degC"]} and g["range_rewritten"]
+    assert g["whole_source"] and g["tried"]["with_errors"] == N
+    assert g["tried"]["with_errors_after"] == _errored(_audit(records, refs))
+    assert "the range, already in K, rewritten in degC" in RENDERERS["text"](result)
 
 
 def test_a_recurring_slip_is_not_called_a_header(poling):
@@ -69,7 +110,9 @@ def test_a_recurring_slip_is_not_called_a_header(poling):
     assert [g["change"] for g in groups] == [{"log_base": ["10", "e"]}]
     (g,) = groups
     assert g["substances"] >= 3 and g["flagged"] < 0.5 * g["same_metadata"] == N / 2
+    # applied to every record so written, the change would break the others
     assert not g["whole_source"]
+    assert g["tried"]["with_errors_after"] > g["tried"]["with_errors"]
     assert "Recurring slip:" in RENDERERS["text"](result)
 
 

@@ -205,12 +205,7 @@ def candidates_for(
                 )
             )
             # the range was converted to the record's unit but the constants were not
-            changes = [Change(row, "temperature_unit", v)]
-            for f in ("t_min", "t_max"):
-                val = rec.get(f)
-                if val is not None and np.isfinite(val):
-                    new = round(((val * s1 + o1) - o2) / s2, 10)
-                    changes.append(Change(row, f, float(new), repr(float(new))))
+            changes = [Change(row, "temperature_unit", v), *range_read_in(rec, row, v)]
             by_kind["temperature-unit"].append(
                 (
                     tuple(changes),
@@ -312,6 +307,23 @@ def candidates_for(
             )
             for (ch, label), key in zip(items, canonical, strict=True)
         )
+    return out
+
+
+def range_read_in(rec: dict, row: int, unit: str) -> list[Change]:
+    """The changes that rewrite the range of record ``rec`` (at ``row``) from its own
+    temperature unit into ``unit``: the same temperatures, written in ``unit`` (rounded to
+    1e-10 of it), for a correction whose constants are in ``unit`` while its range was
+    already converted to the record's.
+    """
+    s1, o1 = TEMPERATURE_UNITS[rec.get("temperature_unit") or "K"]
+    s2, o2 = TEMPERATURE_UNITS[unit]
+    out = []
+    for f in ("t_min", "t_max"):
+        val = rec.get(f)
+        if val is not None and np.isfinite(val):
+            new = round(((val * s1 + o1) - o2) / s2, 10)
+            out.append(Change(row, f, float(new), repr(float(new))))
     return out
 
 

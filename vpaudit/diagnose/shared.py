@@ -7,21 +7,28 @@ suggests the same change of metadata for many substances whose records stand in 
 and cite one source, that is itself a finding about the source, and the reviewer should
 check the source's header before applying the fixes one by one.
 
-:func:`shared_slips` tallies the suggested fixes (as attached to the findings) by file,
-source and phase of the record they correct, and reports each change that at least
-:data:`MIN_SUBSTANCES` substances are confidently given (at :data:`CONFIDENT` or above: a
-less confident fix is often wrong, and the substances diagnosed first, the worst, may share
-another problem) and that most of the confident suggestions there are (so that slips of many
-kinds, each typed on its own, do not add up to one). Beside it, it counts the records of
-that file, source and phase written with the same metadata, and how many of them draw
-errors or warnings: most of them point at a header misread for the whole source; a few, at
-a slip that recurs in the typing. It changes no finding, suggestion or confidence.
+:func:`shared_slips` groups the suggested fixes (as attached to the findings) by file,
+source and phase of the record they correct. A change of log base or unit (or of several
+at once) that at least :data:`MIN_SUBSTANCES` substances of a group are given, and that
+most of the group's suggestions are, is then tested on the source as a whole: applied to
+every record of the group written with the same metadata, for up to
+:data:`SAMPLE_SUBSTANCES` of its substances in table order (flagged or not), are the
+substances left with errors fewer than half as many as before, most of them having had
+one? Then the source's header was likely misread once for all its records (a *shared*
+slip), however unsure each substance's own fix is: a change that each substance's evidence
+alone cannot single out among its neighbours (log10 and mmHg at once, say) is singled out by
+clearing the whole source. Where the test fails, a change that at least
+:data:`MIN_SUBSTANCES` substances are given at :data:`CONFIDENT` or above, most of the
+confident suggestions of the group, is a slip that *recurs* in the typing of the source.
+Less confident fixes count only through the test: they are often wrong, and the substances
+diagnosed first, the worst of a large table, may share another problem. Slips of many kinds
+typed one by one never add up to either. No finding, suggestion or confidence changes.
 """
 
 from __future__ import annotations
 
 import operator
-from collections import Counter, defaultdict
+from collections import defaultdict
 from itertools import chain, compress, repeat
 from typing import Any
 
@@ -31,44 +38,58 @@ from .._columns import eq
 from ..checks._context import AuditContext
 from ..checks._registry import Severity
 from ..checks.finding import Findings
+from ..substance import records_at
+from .candidates import Change, range_read_in
+from .variants import _audit_units
 
-__all__ = ["CONFIDENT", "MIN_SUBSTANCES", "METADATA", "shared_slips"]
+__all__ = ["CONFIDENT", "METADATA", "MIN_SUBSTANCES", "SAMPLE_SUBSTANCES", "shared_slips"]
 
 #: The metadata fields a slip of a whole source changes (its header: the log base, the
 #: pressure and the temperature unit of its equations).
 METADATA = ("log_base", "pressure_unit", "temperature_unit")
 
-#: Least confidence of a suggestion counted as evidence of a shared slip (the project's
+#: Least confidence of a suggestion counted as evidence of a recurring slip (the project's
 #: "confident": a fix stated at 0.8 or above is right at least that often, docs/diagnosis.md).
 CONFIDENT = 0.8
 
-#: Least number of substances confidently given the same change of metadata for it to be
-#: reported as shared (fewer can be a coincidence of independent slips). A choice, not a
-#: measurement, as are the two shares below: the report states the counts beside it.
+#: Least number of substances given the same change of metadata for it to be reported
+#: (fewer can be a coincidence of independent slips). A choice, not a measurement, as are
+#: the shares below: the report states the counts beside it.
 MIN_SUBSTANCES = 3
 
-#: Least share of the confident suggestions on records of one file, source and phase that
-#: the change must have: where slips of many kinds were typed one by one, none has most.
+#: Least share of the suggestions of a group (file, source, phase) that the change must be:
+#: where slips of many kinds were typed one by one, none has most.
 MIN_SHARE = 0.5
 
-#: Least share of the records with the same metadata that draw errors or warnings for the
-#: slip to be called one of the whole source (a header misread once), not a recurring one.
-WHOLE_SOURCE = 0.5
+#: Substances of a group on which a change is tried as a whole (in table order): a bound on
+#: the cost, about that of diagnosing as many.
+SAMPLE_SUBSTANCES = 1000
+
+#: A change explains the whole source when, applied to all of the sample, it leaves at most
+#: this share of the substances with errors that had them, and most had them.
+CLEARS = 0.5
 
 
-def _change(sug: dict, rec: dict[str, Any]) -> tuple[tuple[str, str, str], ...]:
-    """The metadata that ``sug`` changes on its record: (field, as written, corrected)."""
+#: A change of metadata: (field, as written, corrected) for each field it changes, and
+#: whether the range was already written in the record's unit (a temperature-unit fix).
+ChangeKey = tuple[tuple[tuple[str, str, str], ...], bool]
+
+
+def _change(sug: dict, rec: dict[str, Any]) -> ChangeKey:
+    """The metadata that ``sug`` changes on its record, as a :data:`ChangeKey`."""
     corrected = sug.get("corrected") or {}
-    return tuple(
+    fields = tuple(
         (f, str(rec[f]), str(corrected[f]))
         for f in METADATA
         if f in corrected and str(corrected[f]) != str(rec[f])
     )
+    return fields, "t_min" in corrected or "t_max" in corrected
 
 
 def shared_slips(ctx: AuditContext, findings: Findings) -> list[dict[str, Any]]:
-    """The changes of metadata that the diagnosis confidently suggests for several
-    substances whose records share a file, a source and a phase.
+    """The changes of metadata that the diagnosis suggests for several substances whose
+    records share a file, a source and a phase, and that explain the whole source or recur
+    in it.
 
     Parameters
     ----------
@@ -80,12 +101,19 @@ def shared_slips(ctx: AuditContext, findings: Findings) -> list[dict[str, Any]]:
     Returns
     -------
     list of dict
-        One per shared change, most substances first: ``file``, ``source``, ``phase``,
-        ``change`` (``{field: [as written, corrected]}``), ``substances`` (how many are
+        One per such change, most substances first: ``file``, ``source``, ``phase``,
+        ``change`` (``{field: [as written, corrected]}``), ``range_rewritten`` (whether the
+        range, already in the record's temperature unit, is rewritten in the corrected
+        one, as the constants alone were in it), ``substances`` (how many are
         given it), ``confident`` (of those, at :data:`CONFIDENT` or above), ``records`` (the
         first five records it corrects, by id), ``same_metadata`` (records of that file,
         source and phase written with the same metadata), ``flagged`` (of those, how many
-        draw errors or warnings) and ``whole_source`` (whether most of those are flagged).
+        draw errors or warnings), ``tried`` (``{"substances", "of", "with_errors",
+        "with_errors_after"}``: the change applied to every such record of the first
+        :data:`SAMPLE_SUBSTANCES` of their substances in the table, of how many, and how
+        many of those have errors before and after; None where it was not tried) and
+        ``whole_source`` (whether it cleared most of them: a header misread once for the
+        whole source).
     """
     seen: dict[tuple[str, str], dict] = {}  # (substance, record) -> its suggestion
     given_one = map(operator.is_not, findings.suggestion, repeat(None))
@@ -118,44 +146,88 @@ def shared_slips(ctx: AuditContext, findings: Findings) -> list[dict[str, Any]]:
     out = []
     flagged_rows = None
     for (file, source, phase), items in by_group.items():
-        changes = Counter()
-        given: dict[tuple, list[tuple[str, dict, dict]]] = defaultdict(list)
+        given: dict[ChangeKey, list[tuple[str, dict]]] = defaultdict(list)
         for sub, sug, at in items:
-            change = _change(sug, at)
-            if change:
-                changes[change] += 1
-                given[change].append((sub, sug, at))
-        # only confident suggestions are evidence (those below 0.8 are often wrong, and
-        # the worst substances, which are diagnosed first, may share another problem)
+            key = _change(sug, at)
+            if key[0]:
+                given[key].append((sub, sug))
         n_confident = sum(s["confidence"] >= CONFIDENT for _, s, _ in items)
-        for change, _ in changes.most_common():
-            sure = {sub for sub, s, _ in given[change] if s["confidence"] >= CONFIDENT}
-            if len(sure) < MIN_SUBSTANCES or len(sure) < MIN_SHARE * n_confident:
+        for key, got in sorted(given.items(), key=lambda kv: -len(kv[1])):
+            subs = {sub for sub, _ in got}
+            sure = {sub for sub, s in got if s["confidence"] >= CONFIDENT}
+            recurs = len(sure) >= MIN_SUBSTANCES and len(sure) >= MIN_SHARE * n_confident
+            proposed = len(subs) >= MIN_SUBSTANCES and len(got) >= MIN_SHARE * len(items)
+            if not (recurs or proposed):
                 continue
-            subs = {sub for sub, _, _ in given[change]}
             same = _is(rec["file"], file) & _is(rec["source"], source) & eq(rec["phase"], phase)
-            for f, written, _ in change:
+            for f, written, _ in key[0]:
                 same &= eq(rec[f], written)
+            tried = _try_on_source(ctx, np.flatnonzero(same), key) if proposed else None
+            whole = tried is not None and _clears(tried)
+            if not (whole or recurs):
+                continue
             if flagged_rows is None:
                 flagged_rows = _flagged_rows(findings, len(rec))
-            flagged = flagged_rows & same
-            n_same, n_flagged = int(same.sum()), int(flagged.sum())
             out.append(
                 {
                     "file": file,
                     "source": source,
                     "phase": phase,
-                    "change": {f: [written, new] for f, written, new in change},
+                    "change": {f: [written, new] for f, written, new in key[0]},
+                    "range_rewritten": key[1],
                     "substances": len(subs),
                     "confident": len(sure),
-                    "records": sorted(s["record"] for _, s, _ in given[change])[:5],
-                    "same_metadata": n_same,
-                    "flagged": n_flagged,
-                    "whole_source": n_flagged >= WHOLE_SOURCE * n_same,
+                    "records": sorted(s["record"] for _, s in got)[:5],
+                    "same_metadata": int(same.sum()),
+                    "flagged": int((flagged_rows & same).sum()),
+                    "tried": tried,
+                    "whole_source": whole,
                 }
             )
     out.sort(key=lambda g: (-g["substances"], g["file"], g["source"], g["phase"]))
     return out
+
+
+def _clears(tried: dict[str, int]) -> bool:
+    """Whether a change tried on a source's records explains the whole source: most of the
+    substances tried had errors, and it leaves at most :data:`CLEARS` of them with any.
+    """
+    before, after = tried["with_errors"], tried["with_errors_after"]
+    return before > 0.5 * tried["substances"] and after <= CLEARS * before
+
+
+def _try_on_source(ctx: AuditContext, rows: np.ndarray, key: ChangeKey) -> dict[str, int]:
+    """Apply the change ``key`` to every record ``rows`` of up to :data:`SAMPLE_SUBSTANCES`
+    of their substances (the first in table order) and audit those substances as written
+    and as changed: how many have errors either way.
+    """
+    codes = ctx.codes[rows]
+    rows, codes = rows[codes >= 0], codes[codes >= 0]
+    first = np.sort(np.unique(codes, return_index=True)[1])
+    n_all = first.size
+    first = first[:SAMPLE_SUBSTANCES]
+    sample = codes[first]
+    keep = np.isin(codes, sample)
+    rows, codes = rows[keep], codes[keep]
+    fields, range_converted = key
+    changes: dict[int, list[Change]] = defaultdict(list)
+    table = ctx.table
+    written = records_at(table, rows) if range_converted else repeat(None)
+    unit = next((new for f, _, new in fields if f == "temperature_unit"), None)
+    for r, code, at in zip(rows.tolist(), codes.tolist(), written, strict=False):
+        changes[code] += [Change(r, f, new) for f, _, new in fields]
+        if at is not None and unit is not None:  # the range as written, read in the new unit
+            changes[code] += range_read_in(at, r, unit)
+    units = [(int(c), ()) for c in sample] + [(int(c), tuple(changes[int(c)])) for c in sample]
+    outcomes = _audit_units(table, ctx, units)
+    errored = [any(f.severity is Severity.error for f in o.findings) for o in outcomes]
+    n = len(sample)
+    return {
+        "substances": n,
+        "of": n_all,
+        "with_errors": sum(errored[:n]),
+        "with_errors_after": sum(errored[n:]),
+    }
 
 
 def _text(value: Any) -> str:

@@ -150,3 +150,32 @@ def test_review_names_the_shared_slip_before_the_fixes(poling, tmp_path):
     assert run.exit_code == 0, run.output
     first = run.output.index("Shared slip:")
     assert "log_base e -> 10" in run.output and first < run.output.index("[1/")
+
+
+def test_the_gate_names_a_shared_slip_a_change_brings(poling, tmp_path):
+    """A pull request that re-enters a whole source under a wrong header (every record's log
+    base marked ln): the gate's report names the shared slip beside the new findings.
+    """
+    import subprocess
+
+    from click.testing import CliRunner
+
+    from vpaudit.cli import main
+    from vpaudit.writers import export_table
+
+    def git(*args):
+        subprocess.run(["git", "-C", str(repo), *args], check=True, capture_output=True)
+
+    records, refs = poling
+    repo = tmp_path / "repo"
+    export_table(table_from_rows(records, refs), repo / "table")
+    git("init", "-q")
+    git("config", "user.email", "steward@example.invalid")
+    git("config", "user.name", "Steward")
+    git("add", "-A")
+    git("commit", "-qm", "base")
+    export_table(table_from_rows([dict(r, log_base="e") for r in records], refs), repo / "table")
+    git("commit", "-qam", "head: the source entered again")
+    run = CliRunner().invoke(main, ["gate", str(repo / "table"), "--base", "HEAD~1"])
+    assert run.exit_code == 1, run.output  # new errors
+    assert "Shared slip:" in run.output and "log_base e -> 10" in run.output

@@ -907,7 +907,7 @@ def review_cmd(table, by, db, min_confidence):
     if not offers:
         _say("no suggested fixes to review")
         return
-    from .report._coverage import shared_slip_sentences
+    from .report._shared import shared_slip_sentences
 
     for sentence in shared_slip_sentences(result.summary):  # before the fixes one by one
         _say(textwrap.fill(sentence, width=100))

@@ -157,7 +157,8 @@ def render_report(result, table=None, plots: bool = True, max_sections: int = 10
     max_sections : int
         At most this many substance sections (worst first); the findings table is complete.
     """
-    from ._coverage import coverage_sentence, shared_slip_sentences
+    from ._coverage import coverage_sentence
+    from ._shared import shared_slip_sentences
 
     s = result.summary
     status_of = result.status_of if result.gated else None

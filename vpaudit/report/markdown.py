@@ -3,9 +3,10 @@
 from __future__ import annotations
 
 from ..auditing import CAUTION
-from ._coverage import coverage_sentence, shared_slip_sentences
+from ._coverage import coverage_sentence
 from ._escape import markdown_text as _cell
 from ._fixes import fix_key, same_fix
+from ._shared import shared_slip_sentences
 
 
 def _suggestion(f, shown: set) -> str:

@@ -6,9 +6,10 @@ import textwrap
 from collections import defaultdict
 
 from ..auditing import CAUTION
-from ._coverage import coverage_sentence, shared_slip_sentences
+from ._coverage import coverage_sentence
 from ._escape import visible
 from ._fixes import apply_command, fix_key, same_fix
+from ._shared import shared_slip_sentences
 
 
 def _counts(findings) -> str:

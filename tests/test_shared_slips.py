@@ -179,3 +179,33 @@ def test_the_gate_names_a_shared_slip_a_change_brings(poling, tmp_path):
     run = CliRunner().invoke(main, ["gate", str(repo / "table"), "--base", "HEAD~1"])
     assert run.exit_code == 1, run.output  # new errors
     assert "Shared slip:" in run.output and "log_base e -> 10" in run.output
+
+
+def test_units_no_evidence_tells_apart_are_named_together():
+    """The solids of Alcock, Itkin & Horrigan (1984) as chemicals carries them, with the CRC
+    standard enthalpy and entropy of sublimation (tests/_support/anchors.py) as their only
+    witness, every one entered in Pa while its coefficients give bar: bar and atm (1.3 %
+    apart in pressure) each clear the source, so the report names both, whichever the
+    diagnosis gave more substances.
+    """
+    from anchors import anchor_rows
+    from chemicals.vapor_pressure import Psub_data_Alcock_elements as sol
+    from refdata import alcock_pairs
+    from slips import _cells, _pressure_slip
+
+    by_name = {str(sol.loc[c, "Name"]): c for c in sol.index}
+    records, refs = [], []
+    for r in alcock_pairs()[0]:
+        rows = anchor_rows(by_name[r["substance"]], r["substance"], "solid")
+        if r["phase"] == "solid" and len(rows) == 2:
+            records.append(_pressure_slip(r, _cells(r), "bar")[0])
+            refs += rows
+    clean = _errored(
+        _audit([r for r in alcock_pairs()[0] if r["id"] in {x["id"] for x in records}], refs)
+    )
+    result = _audit(records, refs)
+    (g,) = result.summary["shared_slips"]
+    named = [g["change"]] + [o["change"] for o in g["or"]]
+    assert sorted(c["pressure_unit"][1] for c in named) == ["atm", "bar"]
+    assert g["whole_source"] and g["tried"]["with_errors_after"] == clean
+    assert "no evidence tells them apart" in RENDERERS["text"](result)

@@ -17,7 +17,9 @@ substances left with errors fewer than half as many as before, most of them havi
 one? Then the source's header was likely misread once for all its records (a *shared*
 slip), however unsure each substance's own fix is: a change that each substance's evidence
 alone cannot single out among its neighbours (log10 and mmHg at once, say) is singled out by
-clearing the whole source. Where the test fails, a change that at least
+clearing the whole source. Changes that no evidence tells apart (bar and atm, 1.3 % apart
+in pressure) propose the test together; each that clears the source is named. Where the
+test fails, a change that at least
 :data:`MIN_SUBSTANCES` substances are given at :data:`CONFIDENT` or above, most of the
 confident suggestions of the group, is a slip that *recurs* in the typing of the source.
 Less confident fixes count only through the test: they are often wrong, and the substances
@@ -27,6 +29,7 @@ typed one by one never add up to either. No finding, suggestion or confidence ch
 
 from __future__ import annotations
 
+import math
 import operator
 from collections import defaultdict
 from itertools import chain, compress, repeat
@@ -39,6 +42,7 @@ from ..checks._context import AuditContext
 from ..checks._registry import Severity
 from ..checks.finding import Findings
 from ..substance import records_at
+from ..units import PRESSURE_UNITS
 from .candidates import Change, range_read_in
 from .variants import _audit_units
 
@@ -68,6 +72,14 @@ SAMPLE_SUBSTANCES = 1000
 #: A change explains the whole source when, applied to all of the sample, it leaves at most
 #: this share of the substances with errors that had them, and most had them.
 CLEARS = 0.5
+
+#: Pressure units whose factors differ by less than this (in ln P) are one correction to any
+#: evidence (bar and atm: 0.013; a record's default uncertainty is 0.03).
+ALIKE_PRESSURE = 0.02
+
+#: A change alike to a shared slip that, tried on the source instead, leaves errors on at most
+#: this share of the substances tried more than it does, clears it as well: both are named.
+ALIKE = 0.05
 
 
 #: A change of metadata: (field, as written, corrected) for each field it changes, and
@@ -111,9 +123,11 @@ def shared_slips(ctx: AuditContext, findings: Findings) -> list[dict[str, Any]]:
         draw errors or warnings), ``tried`` (``{"substances", "of", "with_errors",
         "with_errors_after"}``: the change applied to every such record of the first
         :data:`SAMPLE_SUBSTANCES` of their substances in the table, of how many, and how
-        many of those have errors before and after; None where it was not tried) and
+        many of those have errors before and after; None where it was not tried),
         ``whole_source`` (whether it cleared most of them: a header misread once for the
-        whole source).
+        whole source) and ``or`` (the changes alike to it that clear the source as well,
+        each ``{"change", "substances", "tried"}``: bar beside atm, which no evidence tells
+        apart).
     """
     seen: dict[tuple[str, str], dict] = {}  # (substance, record) -> its suggestion
     given_one = map(operator.is_not, findings.suggestion, repeat(None))
@@ -152,20 +166,39 @@ def shared_slips(ctx: AuditContext, findings: Findings) -> list[dict[str, Any]]:
             if key[0]:
                 given[key].append((sub, sug))
         n_confident = sum(s["confidence"] >= CONFIDENT for _, s, _ in items)
+        done: set[ChangeKey] = set()
         for key, got in sorted(given.items(), key=lambda kv: -len(kv[1])):
+            if key in done:
+                continue
+            # changes no evidence tells apart (bar and atm, 1.3 % apart) propose one fix
+            alike = [k for k in given if k not in done and _alike(k, key)]
+            done.update(alike)
             subs = {sub for sub, _ in got}
             sure = {sub for sub, s in got if s["confidence"] >= CONFIDENT}
             recurs = len(sure) >= MIN_SUBSTANCES and len(sure) >= MIN_SHARE * n_confident
-            proposed = len(subs) >= MIN_SUBSTANCES and len(got) >= MIN_SHARE * len(items)
+            proposers = {sub for k in alike for sub, _ in given[k]}
+            n_alike = sum(len(given[k]) for k in alike)
+            proposed = len(proposers) >= MIN_SUBSTANCES and n_alike >= MIN_SHARE * len(items)
             if not (recurs or proposed):
                 continue
             same = _is(rec["file"], file) & _is(rec["source"], source) & eq(rec["phase"], phase)
             for f, written, _ in key[0]:
                 same &= eq(rec[f], written)
-            tried = _try_on_source(ctx, np.flatnonzero(same), key) if proposed else None
+            rows = np.flatnonzero(same)
+            tried = _try_on_source(ctx, rows, key) if proposed else None
             whole = tried is not None and _clears(tried)
             if not (whole or recurs):
                 continue
+            also = []
+            if whole:  # each change alike that clears the source as well is named beside it
+                for k in (a for a in alike if a != key):
+                    other = _try_on_source(ctx, rows, k)
+                    if other["with_errors_after"] <= tried["with_errors_after"] + max(
+                        1, ALIKE * tried["substances"]
+                    ):
+                        also.append(
+                            {"change": _as_dict(k), "substances": len(given[k]), "tried": other}
+                        )
             if flagged_rows is None:
                 flagged_rows = _flagged_rows(findings, len(rec))
             out.append(
@@ -173,7 +206,7 @@ def shared_slips(ctx: AuditContext, findings: Findings) -> list[dict[str, Any]]:
                     "file": file,
                     "source": source,
                     "phase": phase,
-                    "change": {f: [written, new] for f, written, new in key[0]},
+                    "change": _as_dict(key),
                     "range_rewritten": key[1],
                     "substances": len(subs),
                     "confident": len(sure),
@@ -182,10 +215,36 @@ def shared_slips(ctx: AuditContext, findings: Findings) -> list[dict[str, Any]]:
                     "flagged": int((flagged_rows & same).sum()),
                     "tried": tried,
                     "whole_source": whole,
+                    "or": also,
                 }
             )
     out.sort(key=lambda g: (-g["substances"], g["file"], g["source"], g["phase"]))
     return out
+
+
+def _as_dict(key: ChangeKey) -> dict[str, list[str]]:
+    """A change as the output gives it: ``{field: [as written, corrected]}``."""
+    return {f: [written, new] for f, written, new in key[0]}
+
+
+def _alike(a: ChangeKey, b: ChangeKey) -> bool:
+    """Whether two changes of metadata amount to the same correction within what no
+    evidence tells apart: the same fields and values, save pressure units whose factors
+    differ by less than :data:`ALIKE_PRESSURE` (bar and atm, 1.3 %).
+    """
+    if a[1] != b[1] or [f for f, _, _ in a[0]] != [f for f, _, _ in b[0]]:
+        return False
+    for (f, w1, n1), (_, w2, n2) in zip(a[0], b[0], strict=True):
+        if w1 != w2:
+            return False
+        if n1 != n2 and not (
+            f == "pressure_unit"
+            and n1 in PRESSURE_UNITS
+            and n2 in PRESSURE_UNITS
+            and abs(math.log(PRESSURE_UNITS[n1] / PRESSURE_UNITS[n2])) < ALIKE_PRESSURE
+        ):
+            return False
+    return True
 
 
 def _clears(tried: dict[str, int]) -> bool:

@@ -16,6 +16,11 @@ def shared_slip_sentences(summary: dict) -> list[str]:
         if g.get("range_rewritten"):
             old, new = g["change"]["temperature_unit"]
             change += f" (the constants only: the range, already in {old}, rewritten in {new})"
+        others = [
+            " and ".join(f"{f} {old} -> {new}" for f, (old, new) in o["change"].items())
+            + f", given to {o['substances']}"
+            for o in g.get("or") or ()
+        ]
         written = " and ".join(f"{f} {old}" for f, (old, _) in g["change"].items())
         phase = g["phase"] or "unlabelled"
         source = f'source "{g["source"]}"' if g["source"] else "no source"
@@ -31,9 +36,12 @@ def shared_slip_sentences(summary: dict) -> list[str]:
                 f" Applied to every {phase} record there written with {written} "
                 f"({g['same_metadata']} records; tried on {_tried(tried)}), it leaves errors "
                 f"on {tried['with_errors_after']} of the {tried['with_errors']} substances "
-                "that had them: the source's header "
-                "was likely misread once for all of its records. Check how the source writes "
-                "its equations before applying the fixes one by one."
+                "that had them"
+                + "".join(f"; so does {o}" for o in others)
+                + (": no evidence tells them apart" if others else "")
+                + ". The source's header was likely misread once for all of its records: "
+                "check how the source writes its equations before applying the fixes one "
+                "by one."
             )
         else:
             tail = (

@@ -19,9 +19,9 @@ slip), however unsure each substance's own fix is: a change that each substance'
 alone cannot single out among its neighbours (log10 and mmHg at once, say) is singled out by
 clearing the whole source. Changes that no evidence tells apart (bar and atm, 1.3 % apart
 in pressure) propose the test together; each that clears the source is named. Where the
-test fails, a change that at least
-:data:`MIN_SUBSTANCES` substances are given at :data:`CONFIDENT` or above, most of the
-confident suggestions of the group, is a slip that *recurs* in the typing of the source.
+test fails, a change that at least :data:`MIN_SUBSTANCES` substances are given at
+:data:`CONFIDENT` or above, most of the confident suggestions of the group, is a slip that
+*recurs* in the typing of the source.
 Less confident fixes count only through the test: they are often wrong, and the substances
 diagnosed first, the worst of a large table, may share another problem. Slips of many kinds
 typed one by one never add up to either. No finding, suggestion or confidence changes.
@@ -66,7 +66,7 @@ MIN_SUBSTANCES = 3
 MIN_SHARE = 0.5
 
 #: Substances of a group on which a change is tried as a whole (in table order): a bound on
-#: the cost, about that of diagnosing as many.
+#: the cost, the diagnosis's own limit (docs/diagnosis.md gives the cost).
 SAMPLE_SUBSTANCES = 1000
 
 #: A change explains the whole source when, applied to all of the sample, it leaves at most

@@ -63,4 +63,4 @@ def shared_slip_sentences(summary: dict) -> list[str]:
 def _tried(tried: dict) -> str:
     """The substances a shared change was tried on, in words."""
     n, of = tried["substances"], tried.get("of", tried["substances"])
-    return f"all {n} of their substances" if n >= of else f"the first {n} of their {of} substances"
+    return f"their {n} substances" if n >= of else f"the first {n} of their {of} substances"

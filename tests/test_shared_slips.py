@@ -3,8 +3,9 @@
 The records are the first liquids of the Antoine constants of Poling, Prausnitz and
 O'Connell (2001), "The Properties of Gases and Liquids", 5th ed., as the chemicals package
 carries them (``Psat_data_AntoinePoling``: log10 of P in Pa, T in K), with their reference
-values from chemicals (tests/_support/compilations.py). The slips are planted by
-tests/_support/slips.py.
+values from chemicals (tests/_support/compilations.py); one test takes the solids of Alcock,
+Itkin & Horrigan (1984) with the CRC standard data of sublimation instead. The slips are
+planted by tests/_support/slips.py.
 """
 
 from __future__ import annotations

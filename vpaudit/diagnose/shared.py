@@ -184,21 +184,21 @@ def shared_slips(ctx: AuditContext, findings: Findings) -> list[dict[str, Any]]:
             same = _is(rec["file"], file) & _is(rec["source"], source) & eq(rec["phase"], phase)
             for f, written, _ in key[0]:
                 same &= eq(rec[f], written)
-            rows = np.flatnonzero(same)
-            tried = _try_on_source(ctx, rows, key) if proposed else None
+            # the change and those alike, each tried on the source (as written once)
+            others = [k for k in alike if k != key]
+            trials = _try_on_source(ctx, np.flatnonzero(same), [key, *others]) if proposed else []
+            tried = trials[0] if trials else None
             whole = tried is not None and _clears(tried)
             if not (whole or recurs):
                 continue
-            also = []
-            if whole:  # each change alike that clears the source as well is named beside it
-                for k in (a for a in alike if a != key):
-                    other = _try_on_source(ctx, rows, k)
-                    if other["with_errors_after"] <= tried["with_errors_after"] + max(
-                        1, ALIKE * tried["substances"]
-                    ):
-                        also.append(
-                            {"change": _as_dict(k), "substances": len(given[k]), "tried": other}
-                        )
+            # each change alike that clears the source as well is named beside it
+            also = [
+                {"change": _as_dict(k), "substances": len(given[k]), "tried": t}
+                for k, t in zip(others, trials[1:], strict=True)
+                if whole
+                and t["with_errors_after"]
+                <= tried["with_errors_after"] + max(1, ALIKE * tried["substances"])
+            ]
             if flagged_rows is None:
                 flagged_rows = _flagged_rows(findings, len(rec))
             out.append(
@@ -255,38 +255,52 @@ def _clears(tried: dict[str, int]) -> bool:
     return before > 0.5 * tried["substances"] and after <= CLEARS * before
 
 
-def _try_on_source(ctx: AuditContext, rows: np.ndarray, key: ChangeKey) -> dict[str, int]:
-    """Apply the change ``key`` to every record ``rows`` of up to :data:`SAMPLE_SUBSTANCES`
-    of their substances (the first in table order) and audit those substances as written
-    and as changed: how many have errors either way.
+def _try_on_source(
+    ctx: AuditContext, rows: np.ndarray, keys: list[ChangeKey]
+) -> list[dict[str, int]]:
+    """Apply each change of ``keys`` in turn to every record ``rows`` of up to
+    :data:`SAMPLE_SUBSTANCES` of their substances (the first in table order) and audit
+    those substances as written (once) and as changed: how many have errors either way,
+    one dict per change.
     """
     codes = ctx.codes[rows]
     rows, codes = rows[codes >= 0], codes[codes >= 0]
     first = np.sort(np.unique(codes, return_index=True)[1])
     n_all = first.size
-    first = first[:SAMPLE_SUBSTANCES]
-    sample = codes[first]
+    sample = codes[first[:SAMPLE_SUBSTANCES]].tolist()
     keep = np.isin(codes, sample)
     rows, codes = rows[keep], codes[keep]
-    fields, range_converted = key
-    changes: dict[int, list[Change]] = defaultdict(list)
-    table = ctx.table
-    written = records_at(table, rows) if range_converted else repeat(None)
-    unit = next((new for f, _, new in fields if f == "temperature_unit"), None)
-    for r, code, at in zip(rows.tolist(), codes.tolist(), written, strict=False):
-        changes[code] += [Change(r, f, new) for f, _, new in fields]
-        if at is not None and unit is not None:  # the range as written, read in the new unit
-            changes[code] += range_read_in(at, r, unit)
-    units = [(int(c), ()) for c in sample] + [(int(c), tuple(changes[int(c)])) for c in sample]
-    outcomes = _audit_units(table, ctx, units)
+    units = [(c, ()) for c in sample]
+    for key in keys:
+        changes = _changes(ctx, rows, codes, key)
+        units += [(c, tuple(changes[c])) for c in sample]
+    outcomes = _audit_units(ctx.table, ctx, units)
     errored = [any(f.severity is Severity.error for f in o.findings) for o in outcomes]
     n = len(sample)
-    return {
-        "substances": n,
-        "of": n_all,
-        "with_errors": sum(errored[:n]),
-        "with_errors_after": sum(errored[n:]),
-    }
+    return [
+        {
+            "substances": n,
+            "of": n_all,
+            "with_errors": sum(errored[:n]),
+            "with_errors_after": sum(errored[n * (k + 1) : n * (k + 2)]),
+        }
+        for k in range(len(keys))
+    ]
+
+
+def _changes(
+    ctx: AuditContext, rows: np.ndarray, codes: np.ndarray, key: ChangeKey
+) -> dict[int, list[Change]]:
+    """The change ``key`` as the cell changes of records ``rows``, by substance code."""
+    fields, range_converted = key
+    out: dict[int, list[Change]] = defaultdict(list)
+    written = records_at(ctx.table, rows) if range_converted else repeat(None)
+    unit = next((new for f, _, new in fields if f == "temperature_unit"), None)
+    for r, code, at in zip(rows.tolist(), codes.tolist(), written, strict=False):
+        out[code] += [Change(r, f, new) for f, _, new in fields]
+        if at is not None and unit is not None:  # the range as written, read in the new unit
+            out[code] += range_read_in(at, r, unit)
+    return out
 
 
 def _text(value: Any) -> str:

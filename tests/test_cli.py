@@ -349,18 +349,18 @@ def test_the_checks_page_renders_as_markdown_tables_and_prose():
 
 
 def test_every_report_format_is_offered_by_the_command_line():
-    # cli.FORMATS is spelled out so that starting the command imports no reporter; this
+    # cli._options.FORMATS is spelled out so that starting the command imports no reporter; this
     # keeps it equal to the reporters that exist (report.RENDERERS)
-    from vpaudit.cli import FORMATS
+    from vpaudit.cli._options import FORMATS
     from vpaudit.report import RENDERERS
 
     assert set(FORMATS) == set(RENDERERS)
 
 
 def test_every_equation_form_is_offered_by_the_command_line():
-    # cli.FORMS is spelled out so that starting the command imports no numpy; this keeps
+    # cli._options.FORMS is spelled out so that starting the command imports no numpy; this keeps
     # it equal to the form registry, in its order
-    from vpaudit.cli import FORMS
+    from vpaudit.cli._options import FORMS
     from vpaudit.equations.forms import FORMS as REGISTRY
 
     assert FORMS == tuple(REGISTRY)
@@ -420,7 +420,7 @@ def test_an_interrupted_command_says_so_and_exits_as_sigint_would(sample_db, mon
 def test_a_report_cut_off_half_way_leaves_the_old_file_whole(tmp_path):
     # `--output` wrote the report in place, a part at a time: an audit interrupted while
     # writing left a truncated SARIF where a CI job would upload it
-    from vpaudit.cli import _emit
+    from vpaudit.cli._options import emit
 
     out = tmp_path / "report.sarif"
     out.write_text("the previous report\n")
@@ -430,12 +430,12 @@ def test_a_report_cut_off_half_way_leaves_the_old_file_whole(tmp_path):
         raise KeyboardInterrupt
 
     try:
-        _emit(parts(), str(out))
+        emit(parts(), str(out))
     except KeyboardInterrupt:
         pass
     assert out.read_text() == "the previous report\n"
     assert sorted(p.name for p in tmp_path.iterdir()) == ["report.sarif"]  # no temporary file
-    _emit(iter(["a whole ", "new report\n"]), str(out))
+    emit(iter(["a whole ", "new report\n"]), str(out))
     assert out.read_text() == "a whole new report\n"
 
 

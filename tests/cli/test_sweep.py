@@ -12,7 +12,7 @@ from click.testing import CliRunner
 
 from vpaudit.cli import main
 
-SAMPLE = Path(__file__).resolve().parents[1] / "sample_db"
+SAMPLE = Path(__file__).resolve().parents[2] / "sample_db"
 
 
 @pytest.fixture(scope="module")

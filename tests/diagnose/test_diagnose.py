@@ -299,7 +299,7 @@ def test_two_slips_in_two_records_are_found_and_weighed_together(tmp_path):
     from pathlib import Path
 
     root = tmp_path / "db"
-    shutil.copytree(Path(__file__).resolve().parents[1] / "sample_db", root)
+    shutil.copytree(Path(__file__).resolve().parents[2] / "sample_db", root)
     metals = root / "records" / "metals.csv"
     lines = metals.read_text().splitlines(keepends=True)
     at = next(i for i, line in enumerate(lines) if line.startswith("bellorium-s1,"))
@@ -340,7 +340,7 @@ def test_one_fix_alone_is_held_where_a_second_record_has_a_problem_no_slip_expla
     from pathlib import Path
 
     root = tmp_path / "db"
-    shutil.copytree(Path(__file__).resolve().parents[1] / "sample_db", root)
+    shutil.copytree(Path(__file__).resolve().parents[2] / "sample_db", root)
     metals = root / "records" / "metals.csv"
     text = metals.read_text()
     assert text.count(",-14736.5418,") == 1
@@ -356,7 +356,7 @@ def test_sample_table_every_planted_slip_has_the_right_suggestion():
     import csv
     from pathlib import Path
 
-    root = Path(__file__).resolve().parents[1] / "sample_db"
+    root = Path(__file__).resolve().parents[2] / "sample_db"
     expected = {
         "bellorium": ("log-base", "bellorium-l1", {"log_base": "10"}),
         "cassine": ("pressure-unit", "cassine-s1", {"pressure_unit": "Torr"}),
@@ -393,7 +393,7 @@ def test_suggestion_contract_in_json():
 
     from vpaudit.report import RENDERERS
 
-    data = json.loads(RENDERERS["json"](audit(Path(__file__).resolve().parents[1] / "sample_db")))
+    data = json.loads(RENDERERS["json"](audit(Path(__file__).resolve().parents[2] / "sample_db")))
     sugs = [f["suggestion"] for f in data["findings"] if f["suggestion"]]
     assert sugs
     for s in sugs:

@@ -10,12 +10,14 @@ planted by tests/_support/slips.py.
 
 from __future__ import annotations
 
+import json
 import math
 import random
 
 import pytest
 from compilations import POLING_ANT, poling_antoine
 from refdata import table_from_rows
+from sarif_schema import validate
 from slips import corrupt
 
 from vpaudit.auditing import audit_table
@@ -153,6 +155,43 @@ def test_review_names_the_shared_slip_before_the_fixes(poling, tmp_path):
     assert "log_base e -> 10" in run.output and first < run.output.index("[1/")
 
 
+def test_show_tries_a_substance_s_fix_on_its_whole_source(poling, tmp_path):
+    """``vpaudit show`` audits one substance, yet says whether its fix of metadata is the
+    source's: with every record marked ln P (the source prints log10 P) the change clears
+    the whole source; with the slip in one record only, it would break the others.
+    """
+    from click.testing import CliRunner
+
+    from vpaudit.cli import main
+    from vpaudit.writers import export_table
+
+    records, refs = poling
+    name = records[0]["substance"]
+    export_table(table_from_rows([dict(r, log_base="e") for r in records], refs), tmp_path / "a")
+    run = CliRunner().invoke(main, ["show", str(tmp_path / "a"), name])
+    assert run.exit_code == 0, run.output
+    said = run.output.split("The source as a whole:")[1]
+    assert said.lstrip().startswith("Shared slip: the fix of")
+    assert "log_base e -> 10" in said and f"tried on their {N} substances" in said
+    clean = _errored(_audit(records, refs))
+    assert f"leaves errors on {clean} of the {N} substances that had them" in said
+
+    # the same source written in ln P (A and B times ln 10: the same curves), one record
+    # keeping its log10 constants: the fix is that record's, and on the others it breaks
+    ln10 = math.log(10.0)
+    as_ln = [dict(r, A=r["A"] * ln10, B=r["B"] * ln10, log_base="e") for r in records]
+    as_ln[0] = dict(records[0], log_base="e")
+    export_table(table_from_rows(as_ln, refs), tmp_path / "b")
+    run = CliRunner().invoke(main, ["show", str(tmp_path / "b"), name])
+    assert run.exit_code == 0, run.output
+    assert "log_base e -> 10" in run.output  # the record's own fix
+    said = run.output.split("The source as a whole:")[1]
+    assert "Shared slip" not in said
+    # fixed, it clears; every other record is read as log10 and breaks
+    assert f"would leave {N - 1} of those {N} substances with errors, against {clean + 1}" in said
+    assert "a slip of this record, not of the source's header" in said
+
+
 def test_the_gate_names_a_shared_slip_a_change_brings(poling, tmp_path):
     """A pull request that re-enters a whole source under a wrong header (every record's log
     base marked ln): the gate's report names the shared slip beside the new findings.
@@ -180,6 +219,23 @@ def test_the_gate_names_a_shared_slip_a_change_brings(poling, tmp_path):
     run = CliRunner().invoke(main, ["gate", str(repo / "table"), "--base", "HEAD~1"])
     assert run.exit_code == 1, run.output  # new errors
     assert "Shared slip:" in run.output and "log_base e -> 10" in run.output
+    # a code-scanning consumer of the SARIF log sees it too: one result of its own, new,
+    # at the line of the first record it names, the others related
+    run = CliRunner().invoke(
+        main, ["gate", str(repo / "table"), "--base", "HEAD~1", "--format", "sarif"]
+    )
+    log = json.loads(run.output)
+    validate(log)
+    (shared,) = [r for r in log["runs"][0]["results"] if r["ruleId"] == "shared-slip"]
+    assert shared["level"] == "warning" and shared["baselineState"] == "new"
+    assert shared["message"]["text"].startswith("Shared slip:")
+    g = shared["properties"]["shared_slip"]
+    first, *others = g["records"]
+    lines = (repo / "table" / "records" / "records.csv").read_text().splitlines()
+    at = shared["locations"][0]["physicalLocation"]
+    assert at["artifactLocation"]["uri"].endswith("records/records.csv")
+    assert lines[at["region"]["startLine"] - 1].startswith(first + ",")
+    assert [r["message"]["text"] for r in shared["relatedLocations"]] == others
 
 
 def test_units_no_evidence_tells_apart_are_named_together():

@@ -100,10 +100,11 @@ def show_cmd(table, substance, policy):
     from ..substance import substance_records
 
     substance_records(t, substance)
-    result = audit_table(
-        t, load_policy(t.policy_path, policy), substances=[substance], table_path=str(table)
-    )
-    say(render_show(t, substance, result), nl=False)
+    pol = load_policy(t.policy_path, policy)
+    result = audit_table(t, pol, substances=[substance], table_path=str(table))
+    from ..diagnose.shared import tried_on_source
+
+    say(render_show(t, substance, result, tried_on_source(t, pol, result.findings)), nl=False)
 
 
 # --- plot ----------------------------------------------------------------------------------

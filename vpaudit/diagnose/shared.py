@@ -41,12 +41,21 @@ from .._columns import eq
 from ..checks._context import AuditContext
 from ..checks._registry import Severity
 from ..checks.finding import Findings
+from ..policy import Policy
+from ..readers.table import Table
 from ..substance import records_at
 from ..units import PRESSURE_UNITS
 from .candidates import Change, range_read_in
 from .variants import _audit_units
 
-__all__ = ["CONFIDENT", "METADATA", "MIN_SUBSTANCES", "SAMPLE_SUBSTANCES", "shared_slips"]
+__all__ = [
+    "CONFIDENT",
+    "METADATA",
+    "MIN_SUBSTANCES",
+    "SAMPLE_SUBSTANCES",
+    "shared_slips",
+    "tried_on_source",
+]
 
 #: The metadata fields a slip of a whole source changes (its header: the log base, the
 #: pressure and the temperature unit of its equations).
@@ -181,9 +190,7 @@ def shared_slips(ctx: AuditContext, findings: Findings) -> list[dict[str, Any]]:
             proposed = len(proposers) >= MIN_SUBSTANCES and n_alike >= MIN_SHARE * len(items)
             if not (recurs or proposed):
                 continue
-            same = _is(rec["file"], file) & _is(rec["source"], source) & eq(rec["phase"], phase)
-            for f, written, _ in key[0]:
-                same &= eq(rec[f], written)
+            same = _same_metadata(rec, (file, source, phase), key)
             # the change and those alike, each tried on the source (as written once)
             others = [k for k in alike if k != key]
             trials = _try_on_source(ctx, np.flatnonzero(same), [key, *others]) if proposed else []
@@ -220,6 +227,86 @@ def shared_slips(ctx: AuditContext, findings: Findings) -> list[dict[str, Any]]:
             )
     out.sort(key=lambda g: (-g["substances"], g["file"], g["source"], g["phase"]))
     return out
+
+
+def tried_on_source(table: Table, policy: Policy, findings: Findings) -> list[dict[str, Any]]:
+    """Each change of metadata suggested in ``findings`` (the audit of one substance, as
+    ``vpaudit show`` makes it), tried on the whole source of the record it corrects: every
+    record of ``table`` in the same file, source and phase written with the same metadata,
+    for the first :data:`SAMPLE_SUBSTANCES` of their substances in table order, audited as
+    written and as changed (as :func:`shared_slips` tries a change many substances are
+    given).
+
+    Parameters
+    ----------
+    table : Table
+        The whole table the substance was audited in.
+    policy : Policy
+        The audit's policy.
+    findings : Findings
+        The substance's findings, with the diagnosis's suggestions attached.
+
+    Returns
+    -------
+    list of dict
+        One per corrected record whose source has at least :data:`MIN_SUBSTANCES`
+        substances written that way: ``record``, ``file``, ``source``, ``phase``,
+        ``change``, ``range_rewritten``, ``same_metadata`` (records), ``tried`` (as in
+        :func:`shared_slips`) and ``whole_source`` (whether the change clears most of the
+        source's substances that have errors: its header misread once for all of them).
+    """
+    from ..auditing import restrict
+
+    rec = table.records
+    fields = ["file", "source", "phase", *METADATA]
+    out: list[dict[str, Any]] = []
+    done: set[str] = set()
+    for sug in findings.suggestion:
+        if sug is None or sug["record"] in done:
+            continue
+        done.add(sug["record"])
+        rows = np.flatnonzero(eq(rec["id"], sug["record"]))
+        if not rows.size:
+            continue
+        at = dict(zip(fields, rec[fields].iloc[rows[0]].astype(object), strict=True))
+        key = _change(sug, at)
+        if not key[0]:
+            continue
+        group = (_text(at["file"]), _text(at["source"]), _text(at["phase"]))
+        same = np.flatnonzero(_same_metadata(rec, group, key))
+        names = list(dict.fromkeys(rec["substance"].iloc[same].astype(str)))
+        if len(names) < MIN_SUBSTANCES:
+            continue
+        part = restrict(table, set(names[:SAMPLE_SUBSTANCES]))
+        ctx = AuditContext(part, policy)
+        rows = np.flatnonzero(_same_metadata(part.records, group, key))
+        (tried,) = _try_on_source(ctx, rows, [key])
+        tried["of"] = len(names)
+        out.append(
+            {
+                "record": sug["record"],
+                "file": group[0],
+                "source": group[1],
+                "phase": group[2],
+                "change": _as_dict(key),
+                "range_rewritten": key[1],
+                "same_metadata": int(same.size),
+                "tried": tried,
+                "whole_source": _clears(tried),
+            }
+        )
+    return out
+
+
+def _same_metadata(rec, group: tuple[str, str, str], key: ChangeKey) -> np.ndarray:
+    """Which records stand in the file, source and phase ``group`` written with the metadata
+    that the change ``key`` corrects.
+    """
+    file, source, phase = group
+    same = _is(rec["file"], file) & _is(rec["source"], source) & eq(rec["phase"], phase)
+    for f, written, _ in key[0]:
+        same &= eq(rec[f], written)
+    return same
 
 
 def _as_dict(key: ChangeKey) -> dict[str, list[str]]:

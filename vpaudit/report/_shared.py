@@ -1,5 +1,6 @@
 """The sentences the human-readable reports give on a slip that many records of one source
-share or that recurs there (:mod:`vpaudit.diagnose.shared`).
+share or that recurs there, and ``vpaudit show`` on a fix tried on its record's whole source
+(:mod:`vpaudit.diagnose.shared`).
 """
 
 from __future__ import annotations
@@ -57,6 +58,41 @@ def shared_slip_sentences(summary: dict) -> list[str]:
                 + ": a slip that recurs in the typing of this source, not one of its header."
             )
         out.append(head + tail)
+    return out
+
+
+def source_trial_sentences(trials: list[dict]) -> list[str]:
+    """One sentence per suggested change of metadata tried on its record's whole source
+    (:func:`vpaudit.diagnose.shared.tried_on_source`), for ``vpaudit show``: a shared slip
+    where it clears the source, else a slip of the record alone.
+    """
+    out = []
+    for g in trials:
+        change = " and ".join(f"{f} {old} -> {new}" for f, (old, new) in g["change"].items())
+        written = " and ".join(f"{f} {old}" for f, (old, _) in g["change"].items())
+        phase = g["phase"] or "unlabelled"
+        source = f'source "{g["source"]}"' if g["source"] else "no source"
+        tried = g["tried"]
+        head = (
+            f"The fix of {g['record']} ({change}), applied to every {phase} record in "
+            f"{g['file']} ({source}) written with {written} ({g['same_metadata']} records; "
+            f"tried on {_tried(tried)}),"
+        )
+        if g["whole_source"]:
+            out.append(
+                f"Shared slip: {head[0].lower()}{head[1:]} leaves errors on "
+                f"{tried['with_errors_after']} of the {tried['with_errors']} substances that "
+                "had them. The source's header was likely misread once for all of its "
+                "records: check how the source writes its equations before applying the "
+                "fixes one by one."
+            )
+        else:
+            out.append(
+                f"{head} would leave {tried['with_errors_after']} of those "
+                f"{tried['substances']} substances with errors, against "
+                f"{tried['with_errors']} as written: a slip of this record, not of the "
+                "source's header."
+            )
     return out
 
 

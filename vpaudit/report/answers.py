@@ -213,9 +213,10 @@ def _clip(text: str, width: int) -> str:
     return text if len(text) <= width else text[: width - 1] + "…"
 
 
-def render_show(table, substance: str, result) -> str:
+def render_show(table, substance: str, result, trials: list[dict] = ()) -> str:
     """Everything about one substance for a terminal, its findings with their suggested
-    fixes and the command that applies each.
+    fixes and the command that applies each, and each fix of metadata as tried on its
+    record's whole source (``trials``, :func:`vpaudit.diagnose.shared.tried_on_source`).
     """
     from ..policy import load_policy
     from ..substance import substance_table
@@ -302,5 +303,10 @@ def render_show(table, substance: str, result) -> str:
             shown.add(fix)
             lines.append(f"    suggestion: {f.suggestion.get('explanation', '')}")
             lines.append(f"    to apply it: {apply_command(result.table_path, f.spec)}")
+    if trials:
+        from ._shared import source_trial_sentences
+
+        lines += ["", "The source as a whole:"]
+        lines += [f"  {sentence}" for sentence in source_trial_sentences(trials)]
     lines.append("")
     return "\n".join(lines) + "\n"

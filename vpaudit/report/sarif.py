@@ -1,5 +1,6 @@
 """SARIF 2.1.0 report: one run, the check registry as the rules, one result per finding
-located at the record's file and line.
+located at the record's file and line, and one per slip that many records of a source share
+(``shared-slip``, at the first of its records, the others as related locations).
 """
 
 from __future__ import annotations
@@ -17,6 +18,9 @@ _EXTRA_RULES = {
     "acceptance-expired": "An accepted finding's acceptance has expired.",
     "acceptance-unused": "An accepted finding no longer occurs.",
     "base-unreadable": "The table could not be read at the gate's base revision.",
+    "shared-slip": "Many records of one source are given the same fix of their metadata: "
+    "the source's header misread once for all of them, or a slip that recurs in its typing "
+    "(not a check: the records' own findings carry the verdicts).",
 }
 
 
@@ -78,6 +82,8 @@ def render(result) -> str:
     index = {r["id"]: i for i, r in enumerate(rules)}
     status_of = result.status_of if result.gated else None
     results = []
+    fixed_at: dict[str, dict] = {}  # a corrected record -> its location, for the shared slips
+    new_records: set[str] = set()
     for f in result.findings:
         r = {
             "ruleId": f.check,
@@ -99,8 +105,12 @@ def render(result) -> str:
             if f.line:
                 loc["physicalLocation"]["region"] = {"startLine": int(f.line)}
             r["locations"] = [loc]
+            if f.suggestion:
+                fixed_at.setdefault(f.suggestion.get("record"), loc)
         if status_of:
             status = status_of(f)
+            if status == "new":
+                new_records.update(f.records)
             r["baselineState"] = {"new": "new", "existing": "unchanged", "accepted": "unchanged"}[
                 status
             ]
@@ -117,6 +127,7 @@ def render(result) -> str:
             if fix is not None:
                 r["fixes"] = [fix]
         results.append(r)
+    results += _shared_slips(result, index, fixed_at, new_records if status_of else None)
     log = {
         "$schema": SCHEMA,
         "version": "2.1.0",
@@ -128,3 +139,42 @@ def render(result) -> str:
         ],
     }
     return json.dumps(log, indent=1, default=float) + "\n"
+
+
+def _shared_slips(
+    result, index: dict[str, int], fixed_at: dict[str, dict], new_records: set[str] | None
+) -> list[dict]:
+    """One result per slip that many records of one source share or that recurs there
+    (``summary["shared_slips"]``), worded as the text report words it: a warning for a
+    source's header misread once, a note for a slip that recurs. It stands at the first of
+    its records whose fix the log locates, the others as related locations; in a gate's log
+    it is new when one of its records has a new finding.
+    """
+    from ._shared import shared_slip_sentences
+
+    groups = result.summary.get("shared_slips") or []
+    out = []
+    for g, sentence in zip(groups, shared_slip_sentences(result.summary), strict=True):
+        key = ["shared-slip", g["file"], g["source"], g["phase"], g["change"]]
+        r = {
+            "ruleId": "shared-slip",
+            "ruleIndex": index["shared-slip"],
+            "level": "warning" if g["whole_source"] else "note",
+            "message": {"text": sentence},
+            "partialFingerprints": {
+                "vpaudit/v1": hashlib.sha256(json.dumps(key).encode()).hexdigest()[:32]
+            },
+            "properties": {"shared_slip": g},
+        }
+        where = [(rec, fixed_at[rec]) for rec in g["records"] if rec in fixed_at]
+        if where:
+            r["locations"] = [where[0][1]]
+            r["relatedLocations"] = [
+                {**loc, "id": k, "message": {"text": rec}}
+                for k, (rec, loc) in enumerate(where[1:], 1)
+            ]
+        if new_records is not None:
+            new = any(rec in new_records for rec in g["records"])
+            r["baselineState"] = "new" if new else "unchanged"
+        out.append(r)
+    return out

@@ -16,6 +16,23 @@ def fix_key(suggestion: dict) -> tuple:
     )
 
 
+class Explained:
+    """The fixes a report has explained so far: each fix is explained at the first finding
+    that carries it and named :func:`same_fix` at the others (one per report section).
+    """
+
+    def __init__(self) -> None:
+        self._keys: set[tuple] = set()
+
+    def first(self, suggestion: dict) -> bool:
+        """Whether ``suggestion`` is met for the first time (and note that it has been)."""
+        key = fix_key(suggestion)
+        if key in self._keys:
+            return False
+        self._keys.add(key)
+        return True
+
+
 def same_fix(suggestion: dict) -> str:
     """How a report names a fix it explained above."""
     return f"the same fix ({suggestion.get('kind')}, above)"

@@ -10,7 +10,7 @@ from ..checks._context import AuditContext
 from ..checks.real_gas import MAX_VIRIAL_TERM
 from ..constants import R
 from ..units import pressure_factor
-from ._fixes import apply_command, fix_key, same_fix
+from ._fixes import Explained, apply_command, same_fix
 
 
 def _g(v, fmt="{:.4g}") -> str:
@@ -292,15 +292,13 @@ def render_show(table, substance: str, result, trials: list[dict] = ()) -> str:
         )
     lines += _anchor_lines(ctx)
     lines += ["", f"Findings: {len(result.findings)}"]
-    shown: set = set()  # each fix is explained once, as in the audit's text report
+    explained = Explained()  # each fix is explained once, as in the audit's text report
     for f in result.findings:
         lines.append(f"  {f.severity.label:<8}{f.check} ({', '.join(f.records)}): {f.message}")
         if f.suggestion:
-            fix = fix_key(f.suggestion)
-            if fix in shown:
+            if not explained.first(f.suggestion):
                 lines.append(f"    suggestion: {same_fix(f.suggestion)}")
                 continue
-            shown.add(fix)
             lines.append(f"    suggestion: {f.suggestion.get('explanation', '')}")
             lines.append(f"    to apply it: {apply_command(result.table_path, f.spec)}")
     if trials:

@@ -14,7 +14,7 @@ from pathlib import Path
 from ..auditing import CAUTION
 from ..checks._text import confidence
 from ._escape import visible
-from ._fixes import apply_command, fix_key
+from ._fixes import Explained, apply_command, fix_key
 
 __all__ = ["render_report"]
 
@@ -318,20 +318,19 @@ def _sections(result, table, plots: bool, max_sections: int) -> list[str]:
                 + "</tr>"
             )
         out.append("</tbody></table><ul>")
-        shown: set = set()  # each fix explained once, at the first finding that carries it
+        explained = Explained()  # each fix explained once, at the first finding with it
         for f in result.findings:
             if f.substance == name:
                 out.append(
                     f"<li>{_badge(f.severity.value)} <code>{_e(f.check)}</code>: "
                     f"{_e(f.message)}</li>"
                 )
-                if f.suggestion and fix_key(f.suggestion) not in shown:
+                if f.suggestion and explained.first(f.suggestion):
                     out.append(
                         f"<li class='fix'>Suggested fix: {_e(f.suggestion['explanation'])} "
                         f"To apply it: <code>{_e(apply_command(result.table_path, f.spec))}"
                         "</code></li>"
                     )
-                    shown.add(fix_key(f.suggestion))
         out.append("</ul>")
         if plots:
             try:

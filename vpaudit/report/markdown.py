@@ -5,20 +5,18 @@ from __future__ import annotations
 from ..auditing import CAUTION
 from ._coverage import coverage_sentence
 from ._escape import markdown_text as _cell
-from ._fixes import fix_key, same_fix
+from ._fixes import Explained, same_fix
 from ._shared import shared_slip_sentences
 
 
-def _suggestion(f, shown: set) -> str:
+def _suggestion(f, explained: Explained) -> str:
     """The likely cause and fix, when the diagnosis found one: explained at its first
-    finding, named as the same fix at the others (``shown`` holds the fixes explained).
+    finding, named as the same fix at the others.
     """
     if not f.suggestion:
         return ""
-    key = fix_key(f.suggestion)
-    if key in shown:
+    if not explained.first(f.suggestion):
         return f" **Suggestion:** {_cell(same_fix(f.suggestion))}"
-    shown.add(key)
     return f" **Suggestion:** {_cell(f.suggestion.get('explanation', ''))}"
 
 
@@ -46,11 +44,11 @@ def render(result) -> str:
         notes = [f for f in result.findings if f.severity.value == "note"]
     if serious:
         out += ["| severity | check | substance | records | finding |", "|---|---|---|---|---|"]
-        shown: set = set()
+        explained = Explained()
         for f in serious:
             out.append(
                 f"| {f.severity.label} | `{f.check}` | {_cell(f.substance)} | "
-                f"{_cell(', '.join(f.records))} | {_cell(f.message)}{_suggestion(f, shown)} |"
+                f"{_cell(', '.join(f.records))} | {_cell(f.message)}{_suggestion(f, explained)} |"
             )
         out.append("")
     if notes:

@@ -8,7 +8,7 @@ from collections import defaultdict
 from ..auditing import CAUTION
 from ._coverage import coverage_sentence
 from ._escape import visible
-from ._fixes import apply_command, fix_key, same_fix
+from ._fixes import Explained, apply_command, same_fix
 from ._shared import shared_slip_sentences
 
 
@@ -59,7 +59,7 @@ def render(result, width: int = 100) -> str:
         for name in sorted(groups, key=rank):
             fs = groups[name]
             lines.append(f"{name or '(table)'} -- {_counts(fs)}")
-            shown: set = set()  # each substance's fix is explained once
+            explained = Explained()  # each substance's fix is explained once
             for f in fs:
                 where = f" ({f.file}{f':{f.line}' if f.line else ''})" if f.file else ""
                 ident = f.spec if status_of else (f"{f.check}: {', '.join(f.records)}")
@@ -67,11 +67,9 @@ def render(result, width: int = 100) -> str:
                 lines.extend(wrap.wrap(f.message))
                 if f.suggestion:
                     sug = f.suggestion
-                    fix = fix_key(sug)
-                    if fix in shown:
+                    if not explained.first(sug):
                         lines.append(f"      suggestion: {same_fix(sug)}")
                         continue
-                    shown.add(fix)
                     lines.extend(wrap.wrap(f"suggestion: {sug.get('explanation', '')}"))
                     if not status_of:
                         lines.append(

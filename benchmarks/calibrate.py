@@ -272,7 +272,7 @@ def report_entropy_edge():
     of the range in 1/T)."""
     from compilations import COMPILATIONS, _complete
 
-    from vpaudit.checks.record import entropy_band, standard_entropy
+    from vpaudit.checks.implied import entropy_band, standard_entropy
     from vpaudit.equations.engine import heat_capacity_from
 
     policy = Policy()

@@ -9,7 +9,7 @@ from refdata import table_from_rows
 from vpaudit.auditing import audit_table
 from vpaudit.checks._context import AuditContext
 from vpaudit.checks._registry import get_check
-from vpaudit.checks.record import without_effect
+from vpaudit.checks.implied import without_effect
 from vpaudit.diagnose.variants import _hard_failures
 from vpaudit.policy import Policy
 

@@ -466,13 +466,13 @@ def reference_contradicted(ctx: AuditContext, th: dict[str, float]):
     meet another, or that two or more agreeing curves of its phase miss on the same side
     (:func:`vpaudit.checks.anchor.contradicted_standard_data`), and a
     reference melting point or enthalpy of fusion that the solid/liquid pairs miss while
-    they meet another (:func:`vpaudit.checks.pair.contradicted_melting_points`,
-    :func:`vpaudit.checks.pair.contradicted_fusion_enthalpies`).
+    they meet another (:func:`vpaudit.checks.triple.contradicted_melting_points`,
+    :func:`vpaudit.checks.triple.contradicted_fusion_enthalpies`).
     """
     # imported here: importing them at the top would register their checks before these
     from .anchor import contradicted_standard_data
     from .critical import contradicted_critical_pressures, contradicted_critical_temperatures
-    from .pair import contradicted_fusion_enthalpies, contradicted_melting_points
+    from .triple import contradicted_fusion_enthalpies, contradicted_melting_points
 
     yield from _contradicted_boiling_points(ctx)
     yield from contradicted_critical_temperatures(ctx)

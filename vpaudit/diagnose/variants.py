@@ -17,14 +17,9 @@ from ..checks._context import AuditContext, match, same_key_pairs
 from ..checks._registry import REGISTRY, Severity
 from ..checks.boiling import boiling_residuals
 from ..checks.finding import Finding
-from ..checks.pair import fusion_reference, fusion_tolerance, melting_tolerance
-from ..checks.record import (
-    flatter_than_real,
-    pressure_tiers,
-    standard_entropy,
-    too_flat,
-    without_effect,
-)
+from ..checks.implied import standard_entropy, without_effect
+from ..checks.record import flatter_than_real, pressure_tiers, too_flat
+from ..checks.triple import fusion_reference, fusion_tolerance, melting_tolerance
 from ..constants import R
 from ..equations.engine import evaluate
 from ..readers.files import RawFrame

@@ -57,7 +57,7 @@ def _read_back(path: Path, text: str, names: list[str], rows: list[list[str]], s
     (after its first ``skip`` rows).
     """
     from .errors import WriteError
-    from .readers.files import read_csv
+    from .readers.csv_format import read_csv
 
     raw = read_csv(str(path), text.encode("utf-8"))
     for j, name in enumerate(names):
@@ -115,7 +115,7 @@ def append_records(path: str | Path, records: list[dict]) -> int:
         one of their ids.
     """
     from .errors import WriteError
-    from .readers.files import read_csv
+    from .readers.csv_format import read_csv
 
     p = Path(path)
     if p.suffix.lower() not in (".csv", ".tsv"):

@@ -16,8 +16,8 @@ import random
 import pytest
 
 from vpaudit.errors import TableError
-from vpaudit.readers import files
-from vpaudit.readers.files import read_csv
+from vpaudit.readers import csv_format, files
+from vpaudit.readers.csv_format import read_csv
 
 HEADER = "a,b,c"
 # pieces that stress quoting, line ends and numbers: weighted towards the hard ones
@@ -93,8 +93,8 @@ def test_csv_reader_agrees_with_the_strict_csv_module_on_random_files(
 ):
     path = None
     if streamed:  # every file takes the large-file path, read in blocks of 5 bytes
-        monkeypatch.setattr(files, "STREAM_BYTES", 0)
-        monkeypatch.setattr(files, "_BLOCK", 5)
+        monkeypatch.setattr(csv_format, "STREAM_BYTES", 0)
+        monkeypatch.setattr(csv_format, "_BLOCK", 5)
         path = tmp_path / "fuzz.csv"
     n, read, refused = 400, 0, 0
     BULK.clear()

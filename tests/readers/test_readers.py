@@ -260,7 +260,7 @@ STREAM_CASES = {
 def test_streamed_large_file_path_reads_exactly_as_the_whole_file_path(tmp_path, monkeypatch, case):
     """Files above STREAM_BYTES are checked block by block and read by pyarrow from the file;
     forcing that path on small files must give the same frame or the same located errors."""
-    from vpaudit.readers import files
+    from vpaudit.readers import csv_format
 
     path = write(tmp_path / "r.csv", STREAM_CASES[case].encode("utf-8", "surrogateescape"))
 
@@ -273,11 +273,13 @@ def test_streamed_large_file_path_reads_exactly_as_the_whole_file_path(tmp_path,
         return t.records, []
 
     whole, whole_errors = outcome()
-    monkeypatch.setattr(files, "STREAM_BYTES", 0)
-    monkeypatch.setattr(files, "_BLOCK", 7)  # blocks split lines, quotes and CR LF pairs
+    monkeypatch.setattr(csv_format, "STREAM_BYTES", 0)
+    monkeypatch.setattr(csv_format, "_BLOCK", 7)  # blocks split lines, quotes and CR LF pairs
     taken = []
-    real = files._read_csv_streamed
-    monkeypatch.setattr(files, "_read_csv_streamed", lambda p: taken.append(real(p)) or taken[-1])
+    real = csv_format.read_csv_streamed
+    monkeypatch.setattr(
+        csv_format, "read_csv_streamed", lambda p: taken.append(real(p)) or taken[-1]
+    )
     streamed, streamed_errors = outcome()
     # the regular files really take the streamed path; the others fall back to the whole file
     plain = case in {"plain", "bom-crlf", "comments-and-blank-lines", "quoted-cells", "semicolons"}
@@ -363,7 +365,8 @@ def test_a_note_with_line_separators_does_not_move_line_numbers(tmp_path):
     (msg,) = errors_of(path)
     assert "r.csv:3 [A]" in msg
     yaml_text = f'- id: r1\n  note: "{note[:-6]}"\n  A: 1\n- id: r2\n  A: 2\n'  # YAML: no FF
-    from vpaudit.readers.files import read_json, read_yaml
+    from vpaudit.readers.json_format import read_json
+    from vpaudit.readers.yaml_format import read_yaml
 
     assert read_yaml("t.yaml", yaml_text.encode()).lines == [1, 4]
     json_text = f'[{{"id": "r1", "note": "{note[:-6]}"}},\n {{"id": "r2"}}]'
@@ -388,15 +391,15 @@ def test_a_yaml_null_source_is_a_missing_source_not_a_citation(tmp_path, null):
 
 def test_a_parquet_file_is_measured_before_it_is_decoded(tmp_path, monkeypatch):
     # a 440 KB file under the row limit decoded to 4.5 GB before failing with MemoryError
-    from vpaudit.readers import files
+    from vpaudit.readers import parquet_format
 
     path = tmp_path / "r.parquet"
     pq.write_table(pa.table({"note": ["x" * 1000] * 2000}), path, compression="zstd")
-    monkeypatch.setattr(files, "MAX_FILE_BYTES", 1_000_000)
+    monkeypatch.setattr(parquet_format, "MAX_FILE_BYTES", 1_000_000)
     (msg,) = errors_of(path)
     assert "decode to more than 1000000 bytes" in msg  # stopped batch by batch
-    monkeypatch.setattr(files, "MAX_ROWS", 100)
-    monkeypatch.setattr(files, "MAX_FILE_BYTES", 10**9)
+    monkeypatch.setattr(parquet_format, "MAX_ROWS", 100)
+    monkeypatch.setattr(parquet_format, "MAX_FILE_BYTES", 10**9)
     decoded = []
     monkeypatch.setattr(pq.ParquetFile, "iter_batches", lambda *a, **k: decoded.append(1))
     (msg,) = errors_of(path)

@@ -172,6 +172,8 @@ def test_show_tries_a_substance_s_fix_on_its_whole_source(poling, tmp_path):
     assert run.exit_code == 0, run.output
     said = run.output.split("The source as a whole:")[1]
     assert said.lstrip().startswith("Shared slip: the fix of")
+    # said before the findings and their commands: check the source before applying them
+    assert run.output.index("The source as a whole:") < run.output.index("to apply it:")
     assert "log_base e -> 10" in said and f"tried on their {N} substances" in said
     clean = _errored(_audit(records, refs))
     assert f"leaves errors on {clean} of the {N} substances that had them" in said

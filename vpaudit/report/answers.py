@@ -291,6 +291,11 @@ def render_show(table, substance: str, result, trials: list[dict] = ()) -> str:
             prow,
         )
     lines += _anchor_lines(ctx)
+    if trials:  # before the fixes, as review says it: check the source first
+        from ._shared import source_trial_sentences
+
+        lines += ["", "The source as a whole:"]
+        lines += [f"  {sentence}" for sentence in source_trial_sentences(trials)]
     lines += ["", f"Findings: {len(result.findings)}"]
     explained = Explained()  # each fix is explained once, as in the audit's text report
     for f in result.findings:
@@ -301,10 +306,5 @@ def render_show(table, substance: str, result, trials: list[dict] = ()) -> str:
                 continue
             lines.append(f"    suggestion: {f.suggestion.get('explanation', '')}")
             lines.append(f"    to apply it: {apply_command(result.table_path, f.spec)}")
-    if trials:
-        from ._shared import source_trial_sentences
-
-        lines += ["", "The source as a whole:"]
-        lines += [f"  {sentence}" for sentence in source_trial_sentences(trials)]
     lines.append("")
     return "\n".join(lines) + "\n"

@@ -7,7 +7,8 @@ from pydantic import ValidationError
 
 import vpaudit
 from vpaudit.readers.files import RawFrame
-from vpaudit.readers.table import _Collector, frame_from_raw
+from vpaudit.readers.rules import Collector
+from vpaudit.readers.table import frame_from_raw
 from vpaudit.schema import CoefficientRecord, json_schemas
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -131,7 +132,7 @@ def test_column_wise_verdicts_equal_the_per_row_model():
     rows = [{**GOOD, **case, "id": f"r{i}"} for i, case in enumerate(CASES)]
     cols = list(GOOD) + ["D", "t_crit", "p_crit", "uncertainty"]
     cells = {c: [r.get(c) for r in rows] for c in cols}
-    out = _Collector()
+    out = Collector()
     frame_from_raw(RawFrame("<cases>", cols, cells, list(range(2, len(rows) + 2))), "records", out)
     flagged = {e.location.line for e in out.errors} | {p["line"] for p in out.problems}
     column_ok = [i + 2 not in flagged for i in range(len(rows))]

@@ -17,7 +17,8 @@ import numpy as np
 import pandas as pd
 
 from vpaudit.readers.files import RawFrame
-from vpaudit.readers.table import Table, _Collector, frame_from_raw
+from vpaudit.readers.rules import Collector
+from vpaudit.readers.table import Table, frame_from_raw
 
 ALCOCK = "Alcock, Itkin & Horrigan (1984), Can. Metall. Q. 23, 309, via the chemicals package"
 CRC = "CRC Handbook of Chemistry and Physics, via chemicals (CRC_INORG / CRC)"
@@ -29,7 +30,7 @@ def table_from_rows(
     """Build a Table from plain dicts through the real column-wise reader path."""
     from vpaudit.readers.table import _finish
 
-    out = _Collector()
+    out = Collector()
     parts = {"records": [], "references": [], "points": []}
     for kind, rows in (("records", records), ("references", references), ("points", points)):
         if not rows:

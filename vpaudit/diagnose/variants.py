@@ -23,7 +23,8 @@ from ..checks.triple import fusion_reference, fusion_tolerance, melting_toleranc
 from ..constants import R
 from ..equations.engine import evaluate
 from ..readers.files import RawFrame
-from ..readers.table import Table, _Collector, _record_rules, text_categorical
+from ..readers.rules import Collector, record_rules
+from ..readers.table import Table, text_categorical
 from .candidates import Change
 
 # --- variants: all candidates audited at once ------------------------------------------------
@@ -170,9 +171,9 @@ def _variant_table(
     recs["line"] = np.arange(1, len(recs) + 1, dtype=np.int64)
     refs = _replicate(table.references, ctx.ref_codes, unit_codes, names)[0]
     pts = _replicate(table.points, ctx.point_codes, unit_codes, names)[0]
-    out = _Collector()
+    out = Collector()
     raw = RawFrame("<variant>", list(recs.columns), {}, recs["line"].tolist())
-    _record_rules(recs, raw, out)
+    record_rules(recs, raw, out)
     problems = pd.DataFrame(
         out.problems, columns=["file", "line", "column", "rule", "message", "id", "substance"]
     )

@@ -8,8 +8,8 @@ Only rows that fail get a per-row message. Two kinds of problem are kept apart:
   unknown column, form, unit or phase, coefficients that do not fit the form): collected and
   raised together as :class:`~vpaudit.errors.TableErrors`;
 * *rule problems* -- records that read fine but break a rule of the format (range, source,
-  duplicate id, an Antoine pole in range): returned in :attr:`Table.problems`, so that the
-  import rejects the table while the audit reports each as a finding.
+  duplicate id, an Antoine pole in range; :mod:`.rules`): returned in :attr:`Table.problems`,
+  so that the import rejects the table while the audit reports each as a finding.
 """
 
 from __future__ import annotations
@@ -26,21 +26,18 @@ import pandas as pd
 import pyarrow as pa
 import pyarrow.compute as pc
 
-from .._columns import empty as blank
-from .._columns import eq, isin, lookup, text_series
+from .._columns import text_series
 from ..equations.forms import COEFFICIENTS, FORMS
 from ..errors import Location, PolicyError, TableError, TableErrors
 from ..runtime import DEFAULT, PARALLEL_ROWS, Runtime
 from ..units import (
-    ENTHALPY_UNITS,
-    ENTROPY_UNITS,
-    MOLAR_MASS_UNITS,
     PRESSURE_UNITS,
     QUANTITY_UNITS,
     TEMPERATURE_UNITS,
 )
 from .files import PARTS, RawFrame, read_raw, table_files
 from .grammar import explain, normalize_typography, parse_number_column, parse_number_texts
+from .rules import Collector, point_rules, problem, record_rules, reference_rules
 
 __all__ = [
     "PARTS",
@@ -149,17 +146,6 @@ def detect_kind(columns: Iterable[str]) -> str | None:
     return None
 
 
-@dataclass
-class _Collector:
-    errors: list[TableError] = field(default_factory=list)
-    problems: list[dict] = field(default_factory=list)
-    rewrites: list[dict] = field(default_factory=list)
-
-    def error(self, raw: RawFrame, row: int | None, column: str | None, message: str) -> None:
-        line = raw.lines[row] if row is not None else None
-        self.errors.append(TableError(message, Location(raw.path, line, column)))
-
-
 #: Stands for an absent text column until the frame is made (:func:`frame_from_raw`).
 _ABSENT_TEXT = object()
 
@@ -218,7 +204,7 @@ def _original(raw: RawFrame, name: str, i: int) -> str:
 
 
 def _parse_numbers(
-    raw: RawFrame, name: str, out: _Collector, normalize: bool
+    raw: RawFrame, name: str, out: Collector, normalize: bool
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Parse one numeric column; returns values, their text (:data:`_ABSENT_TEXT` for an
     absent column), and the missing mask.
@@ -276,9 +262,9 @@ def _range_message(text: str) -> str:
     return f"{text!r} cannot be read"  # pragma: no cover - both paths agree by test
 
 
-def _column(raw: RawFrame, col: _Col, normalize: bool) -> tuple[dict[str, object], _Collector]:
+def _column(raw: RawFrame, col: _Col, normalize: bool) -> tuple[dict[str, object], Collector]:
     """Parse and validate one column; returns its entries and its own errors."""
-    out = _Collector()
+    out = Collector()
     n = len(raw)
     present = col.name in raw.cells
     if col.required and not present:
@@ -331,7 +317,7 @@ def _column(raw: RawFrame, col: _Col, normalize: bool) -> tuple[dict[str, object
 def frame_from_raw(
     raw: RawFrame,
     kind: str,
-    out: _Collector,
+    out: Collector,
     normalize: bool = False,
     runtime: Runtime = DEFAULT,
 ) -> pd.DataFrame:
@@ -404,230 +390,12 @@ def frame_from_raw(
     if distinct:
         frame.attrs["distinct_ids"] = distinct[0]  # cells as written, empty ones included
     if kind == "records":
-        _record_rules(frame, raw, out)
+        record_rules(frame, raw, out)
     elif kind == "references":
-        _reference_rules(frame, raw, out)
+        reference_rules(frame, raw, out)
     else:
-        _point_rules(frame, raw, out)
+        point_rules(frame, raw, out)
     return frame
-
-
-def _problem(
-    out: _Collector, frame: pd.DataFrame, rows: np.ndarray, rule: str, column: str, messages
-) -> None:
-    if not len(rows):
-        return
-    if isinstance(messages, str):
-        messages = [messages] * len(rows)
-    rows = np.asarray(rows, dtype=np.int64)
-
-    def pick(name):  # the cells of these rows only, one column access each
-        return frame[name].take(rows).astype(object).tolist()
-
-    files, lines, subs = pick("file"), frame["line"].to_numpy()[rows], pick("substance")
-    ids = pick("id") if "id" in frame else [None] * len(rows)
-    for k, msg in enumerate(messages):
-        out.problems.append(
-            {
-                "file": files[k],
-                "line": int(lines[k]),
-                "column": column,
-                "rule": rule,
-                "message": msg,
-                "id": None if ids[k] is pd.NA else ids[k],
-                "substance": None if subs[k] is pd.NA else subs[k],
-            }
-        )
-
-
-def _kelvin(values: np.ndarray, units: pd.Series) -> np.ndarray:
-    """Temperatures in kelvin from values in the units of each row (K, degC, degF)."""
-    scale = lookup(units, {u: s for u, (s, _) in TEMPERATURE_UNITS.items()}, 1.0)
-    offset = lookup(units, {u: o for u, (_, o) in TEMPERATURE_UNITS.items()}, 0.0)
-    return values * scale + offset
-
-
-def _record_rules(frame: pd.DataFrame, raw: RawFrame, out: _Collector) -> None:
-    # Coefficients must fit the form exactly (a read error: the equation cannot be
-    # interpreted otherwise).
-    for name, spec in FORMS.items():
-        rows = eq(frame["form"], name)
-        if not rows.any():
-            continue
-        for c in COEFFICIENTS:
-            given = ~np.isnan(frame[c].to_numpy()) | frame[c + "_text"].notna().to_numpy()
-            if c in spec.coefficients:
-                for i in np.flatnonzero(rows & ~given):
-                    out.error(
-                        raw, int(i), c, f"form {name!r} needs coefficient {c} ({spec.equation})"
-                    )
-            else:
-                for i in np.flatnonzero(rows & given):
-                    out.error(
-                        raw,
-                        int(i),
-                        c,
-                        f"form {name!r} does not use coefficient {c} "
-                        f"({spec.equation}); leave it empty",
-                    )
-        units = frame["temperature_unit"]
-        bad_unit = rows & ~isin(units, spec.temperature_units)
-        for i in np.flatnonzero(bad_unit):
-            out.error(
-                raw,
-                int(i),
-                "temperature_unit",
-                f"form {name!r} needs an absolute "
-                f"temperature: temperature_unit must be {', '.join(spec.temperature_units)}"
-                f", not {units.iat[i]!r}",
-            )
-        if spec.needs_critical:
-            for c in ("t_crit", "p_crit"):
-                v = frame[c].to_numpy()
-                for i in np.flatnonzero(rows & ~(v > 0)):
-                    out.error(raw, int(i), c, f"form {name!r} needs a positive {c}")
-    # Rules: range, source, pole (reported, not raised).
-    unit = frame["temperature_unit"]
-    lo = _kelvin(frame["t_min"].to_numpy(), unit)
-    hi = _kelvin(frame["t_max"].to_numpy(), unit)
-    missing = np.isnan(lo) | np.isnan(hi)
-    _problem(
-        out,
-        frame,
-        np.flatnonzero(missing),
-        "range",
-        "t_min",
-        "the validity range is missing (t_min and t_max are required)",
-    )
-    with np.errstate(invalid="ignore"):
-        nonpos = ~missing & (lo <= 0)
-        order = ~missing & ~nonpos & ~(lo < hi)
-    _problem(
-        out,
-        frame,
-        np.flatnonzero(nonpos),
-        "range",
-        "t_min",
-        [
-            f"t_min is {lo[i]:g} K: an absolute temperature must be positive"
-            for i in np.flatnonzero(nonpos)
-        ],
-    )
-    _problem(
-        out,
-        frame,
-        np.flatnonzero(order),
-        "range",
-        "t_max",
-        [
-            f"the range is empty: t_min {frame['t_min'].iat[i]:g} is not below t_max "
-            f"{frame['t_max'].iat[i]:g}"
-            for i in np.flatnonzero(order)
-        ],
-    )
-    antoine = eq(frame["form"], "antoine")
-    if antoine.any():
-        pole = -frame["C"].to_numpy()
-        with np.errstate(invalid="ignore"):
-            inside = (
-                antoine
-                & ~missing
-                & (frame["t_min"].to_numpy() <= pole)
-                & (pole <= frame["t_max"].to_numpy())
-            )
-        _problem(
-            out,
-            frame,
-            np.flatnonzero(inside),
-            "pole",
-            "C",
-            [
-                f"the Antoine pole theta = -C = {pole[i]:g} {unit.iat[i]} lies inside the range "
-                f"{frame['t_min'].iat[i]:g}..{frame['t_max'].iat[i]:g}"
-                for i in np.flatnonzero(inside)
-            ],
-        )
-    _source_rule(frame, out)
-    unc = frame["uncertainty"].to_numpy()
-    with np.errstate(invalid="ignore"):
-        bad = ~np.isnan(unc) & ~(unc > 0)
-    for i in np.flatnonzero(bad):
-        out.error(
-            raw, int(i), "uncertainty", "uncertainty must be a positive relative value (0.05 = 5 %)"
-        )
-
-
-def _source_rule(frame: pd.DataFrame, out: _Collector) -> None:
-    empty = blank(frame["source"])
-    _problem(
-        out,
-        frame,
-        np.flatnonzero(empty),
-        "source",
-        "source",
-        "no source is cited: every value needs its citation",
-    )
-
-
-_UNIT_FACTORS = {
-    "pressure": PRESSURE_UNITS,
-    "enthalpy": ENTHALPY_UNITS,
-    "molar_mass": MOLAR_MASS_UNITS,
-    "entropy": ENTROPY_UNITS,
-}
-
-
-def _reference_rules(frame: pd.DataFrame, raw: RawFrame, out: _Collector) -> None:
-    q = frame["quantity"]
-    unit = frame["unit"]
-    value = frame["value"].to_numpy()
-    si = np.full(len(frame), np.nan)
-    unit_missing = unit.isna().to_numpy()
-    for quantity, (kind, units) in QUANTITY_UNITS.items():
-        rows = eq(q, quantity)
-        if not rows.any():
-            continue
-        ok = rows & isin(unit, units)
-        for i in np.flatnonzero(rows & ~ok & ~unit_missing):
-            out.error(
-                raw,
-                int(i),
-                "unit",
-                f"unit {unit.iat[i]!r} does not fit {quantity}; use {', '.join(units)}",
-            )
-        if kind == "temperature":
-            si[ok] = _kelvin(value, unit)[ok]
-        else:
-            factors = _UNIT_FACTORS[kind]
-            si[ok] = (value * lookup(unit, factors))[ok]
-    with np.errstate(invalid="ignore"):
-        # an entropy of the phase change may be of either sign in principle; every other
-        # quantity but the enthalpy of fusion is a size
-        signed = eq(q, "enthalpy_of_fusion") | eq(q, "standard_entropy_of_vaporization")
-        signed |= eq(q, "standard_entropy_of_sublimation")
-        bad = ~np.isnan(si) & (si <= 0) & ~signed
-    for i in np.flatnonzero(bad):
-        out.error(
-            raw, int(i), "value", f"{q.iat[i]} must be positive, got {value[i]:g} {unit.iat[i]}"
-        )
-    frame["value_si"] = si
-    _source_rule(frame, out)
-
-
-def _point_rules(frame: pd.DataFrame, raw: RawFrame, out: _Collector) -> None:
-    with np.errstate(invalid="ignore", over="ignore"):
-        t = _kelvin(frame["T"].to_numpy(), frame["temperature_unit"])
-        p = frame["P"].to_numpy() * lookup(frame["pressure_unit"], PRESSURE_UNITS)
-        for i in np.flatnonzero(~np.isnan(t) & (t <= 0)):
-            out.error(raw, int(i), "T", "T must be a positive absolute temperature")
-        for i in np.flatnonzero(~np.isnan(p) & (p <= 0)):
-            out.error(raw, int(i), "P", "P must be positive")
-        for i in np.flatnonzero(np.isinf(p) | np.isinf(t)):  # finite as written, not in SI
-            col = "P" if np.isinf(p[i]) else "T"
-            out.error(raw, int(i), col, f"{col} is beyond the largest double once in SI units")
-    frame["T_K"] = t
-    frame["P_Pa"] = p
-    _source_rule(frame, out)
 
 
 @dataclass
@@ -664,10 +432,10 @@ _PROBLEM_COLUMNS = ["file", "line", "column", "rule", "message", "id", "substanc
 
 def _empty(kind: str) -> pd.DataFrame:
     raw = RawFrame("<none>", [], {}, [])
-    return frame_from_raw(raw, kind, _Collector())
+    return frame_from_raw(raw, kind, Collector())
 
 
-def _finish(parts: dict[str, list[pd.DataFrame]], out: _Collector, **kw) -> Table:
+def _finish(parts: dict[str, list[pd.DataFrame]], out: Collector, **kw) -> Table:
     frames = {}
     for kind in PARTS:
         pieces = [p for p in parts[kind] if len(p)]
@@ -691,7 +459,7 @@ def _finish(parts: dict[str, list[pd.DataFrame]], out: _Collector, **kw) -> Tabl
         rows = np.flatnonzero(dup)
         firsts = rec.loc[dup].groupby("id")["line"].transform("min")
         files = rec.loc[dup].groupby("id")["file"].transform("first")
-        _problem(
+        problem(
             out,
             rec,
             rows,
@@ -723,7 +491,7 @@ def _load(
     runtime: Runtime = DEFAULT,
     **kw,
 ) -> Table:
-    out = _Collector()
+    out = Collector()
     parts: dict[str, list[pd.DataFrame]] = {k: [] for k in PARTS}
     for path in paths:
         try:
@@ -847,7 +615,7 @@ def records_table(rows: list[dict], like: Table | None = None, path: str = "<new
 
     cells = {c: [text(r, c) for r in rows] for c in cols}
     raw = RawFrame(path, cols, cells, list(range(1, len(rows) + 1)))
-    out = _Collector()
+    out = Collector()
     frame = frame_from_raw(raw, "records", out)
     if out.errors:
         raise TableErrors(out.errors)

@@ -13,18 +13,12 @@ def shared_slip_sentences(summary: dict) -> list[str]:
     """
     out = []
     for g in summary.get("shared_slips") or ():
-        change = " and ".join(f"{f} {old} -> {new}" for f, (old, new) in g["change"].items())
-        if g.get("range_rewritten"):
-            old, new = g["change"]["temperature_unit"]
-            change += f" (the constants only: the range, already in {old}, rewritten in {new})"
+        change, written, phase, source = _words(g)
         others = [
             " and ".join(f"{f} {old} -> {new}" for f, (old, new) in o["change"].items())
             + f", given to {o['substances']}"
             for o in g.get("or") or ()
         ]
-        written = " and ".join(f"{f} {old}" for f, (old, _) in g["change"].items())
-        phase = g["phase"] or "unlabelled"
-        source = f'source "{g["source"]}"' if g["source"] else "no source"
         tried = g.get("tried")
         head = (
             f"{'Shared' if g['whole_source'] else 'Recurring'} slip: the diagnosis gives "
@@ -40,9 +34,7 @@ def shared_slip_sentences(summary: dict) -> list[str]:
                 "that had them"
                 + "".join(f"; so does {o}" for o in others)
                 + (": no evidence tells them apart" if others else "")
-                + ". The source's header was likely misread once for all of its records: "
-                "check how the source writes its equations before applying the fixes one "
-                "by one."
+                + f". {_HEADER}"
             )
         else:
             tail = (
@@ -68,32 +60,47 @@ def source_trial_sentences(trials: list[dict]) -> list[str]:
     """
     out = []
     for g in trials:
-        change = " and ".join(f"{f} {old} -> {new}" for f, (old, new) in g["change"].items())
-        written = " and ".join(f"{f} {old}" for f, (old, _) in g["change"].items())
-        phase = g["phase"] or "unlabelled"
-        source = f'source "{g["source"]}"' if g["source"] else "no source"
+        change, written, phase, source = _words(g)
         tried = g["tried"]
-        head = (
-            f"The fix of {g['record']} ({change}), applied to every {phase} record in "
+        trial = (
+            f"fix of {g['record']} ({change}), applied to every {phase} record in "
             f"{g['file']} ({source}) written with {written} ({g['same_metadata']} records; "
             f"tried on {_tried(tried)}),"
         )
         if g["whole_source"]:
             out.append(
-                f"Shared slip: {head[0].lower()}{head[1:]} leaves errors on "
-                f"{tried['with_errors_after']} of the {tried['with_errors']} substances that "
-                "had them. The source's header was likely misread once for all of its "
-                "records: check how the source writes its equations before applying the "
-                "fixes one by one."
+                f"Shared slip: the {trial} leaves errors on {tried['with_errors_after']} of the "
+                f"{tried['with_errors']} substances that had them. {_HEADER}"
             )
         else:
             out.append(
-                f"{head} would leave {tried['with_errors_after']} of those "
+                f"The {trial} would leave {tried['with_errors_after']} of those "
                 f"{tried['substances']} substances with errors, against "
                 f"{tried['with_errors']} as written: a slip of this record, not of the "
                 "source's header."
             )
     return out
+
+
+#: What a shared slip asks of the reviewer.
+_HEADER = (
+    "The source's header was likely misread once for all of its records: check how the "
+    "source writes its equations before applying the fixes one by one."
+)
+
+
+def _words(g: dict) -> tuple[str, str, str, str]:
+    """A shared change (:mod:`vpaudit.diagnose.shared`) in words: the change (with the range
+    rewritten where it is), the metadata it corrects as written, the phase and the source.
+    """
+    change = " and ".join(f"{f} {old} -> {new}" for f, (old, new) in g["change"].items())
+    if g.get("range_rewritten"):
+        old, new = g["change"]["temperature_unit"]
+        change += f" (the constants only: the range, already in {old}, rewritten in {new})"
+    written = " and ".join(f"{f} {old}" for f, (old, _) in g["change"].items())
+    phase = g["phase"] or "unlabelled"
+    source = f'source "{g["source"]}"' if g["source"] else "no source"
+    return change, written, phase, source
 
 
 def _tried(tried: dict) -> str:

@@ -735,7 +735,11 @@ def main() -> None:
     ap.add_argument(
         "--show-wrong", action="store_true", help="print each flagged slip given a wrong top fix"
     )
-    ap.add_argument("--only", help="one compilation")
+    ap.add_argument(
+        "--only",
+        choices=[*COMPILATIONS, "alcock"],
+        help="one compilation (alcock: with --two-slips only)",
+    )
     ap.add_argument(
         "--every-tb",
         action="store_true",

@@ -392,6 +392,7 @@ def planted(name, records, refs, flagged_clean, sample, seed):
     near_flagged = silent_flagged = 0
     missed: Counter = Counter()
     stated = STATED.setdefault(name, [])
+    open_ = {u["substance"]: u for u in result.summary.get("undecided", ())}
     for new, kind, rid, original, bad in cases:
         fs = [f for f in result.findings if f.substance == new]
         flagged = any(f.severity.value == "error" for f in fs)
@@ -406,6 +407,17 @@ def planted(name, records, refs, flagged_clean, sample, seed):
         sug = _first_suggestion(fs)
         if sug is None:
             silent_flagged += flagged
+            if flagged and kind != "phase-swap":
+                tally = UNDECIDED.setdefault(name, [0, 0, 0])
+                lead = open_.get(new)
+                tally[0] += 1
+                tally[1] += lead is not None
+                tally[2] += lead is not None and any(
+                    fix["record"] == rid
+                    and "also" not in fix
+                    and reproduces(original, dict(bad, id=rid), fix)
+                    for fix in lead["fixes"]
+                )
             if SHOW_WRONG and flagged:
                 print(f"      no suggestion for {kind} in {rid}: {_describe(original, bad)}")
             continue
@@ -586,6 +598,10 @@ SHOW_MISSED = False
 SHOW_WRONG = False
 #: Per compilation: (suggestion kind, errors its fix creates) for every suggestion made.
 NEW_DEFECTS: dict[str, list[tuple[str, list[str]]]] = {}
+#: per compilation: flagged slips given no suggestion, those given the readings that each
+#: clear their errors instead (summary "undecided"), and those whose readings hold the
+#: true fix
+UNDECIDED: dict[str, list[int]] = {}
 
 
 def new_defects(result, recs: list[dict], refs: list[dict]) -> list[tuple[str, list[str]]]:
@@ -851,6 +867,13 @@ def main() -> None:
             f"true one (as bar is of atm): {near} ({near / det if det else 0:.1%}); "
             f"no suggestion: {silent}"
         )
+        if name in UNDECIDED:
+            silent_other, led, among = UNDECIDED[name]
+            print(
+                f"    of the {silent_other} flagged slips given no suggestion (phase swaps "
+                f"aside), {led} are given the readings that each clear their errors, the "
+                f"true fix among them for {among}"
+            )
         made = NEW_DEFECTS.get(name, [])
         bad = [(kind, errs) for kind, errs in made if errs]
         print(

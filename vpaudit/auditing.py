@@ -324,7 +324,7 @@ def audit_table(
     not_checked = coverage(ctx) if len(table.records) else {}
     n_pairs = len(ctx.pairs.solid) if any(REGISTRY[n].scope.value == "pair" for n in names) else 0
     ctx.drop_shared()  # not needed any more: the diagnosis and the output use their memory
-    skipped, shared = 0, []
+    skipped, shared, open_ = 0, [], []
     if diagnose:
         if ctx.n >= PARALLEL_ROWS:  # the diagnosis' Arrow columns cannot reuse numpy's
             from .runtime import release_scratch
@@ -334,7 +334,7 @@ def audit_table(
         from .diagnose.shared import shared_slips
 
         limit = DIAGNOSE_LIMIT if diagnose is True else int(diagnose)
-        skipped = attach_suggestions(ctx, findings, limit)
+        skipped, open_ = attach_suggestions(ctx, findings, limit)
         shared = shared_slips(ctx, findings)
     point_at_suspects(ctx, findings, witnesses)
     findings.sort()
@@ -353,6 +353,8 @@ def audit_table(
         summary["not_diagnosed"] = skipped
     if shared:
         summary["shared_slips"] = shared
+    if open_:
+        summary["undecided"] = open_
     return AuditResult(findings, summary, policy.describe(), table_path, names)
 
 

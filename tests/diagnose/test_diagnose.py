@@ -286,6 +286,7 @@ def test_a_disagreement_no_single_slip_explains_gets_no_suggestion():
     flagged = [f for f in result.findings if f.severity.rank >= 1]
     assert flagged
     assert all(f.suggestion is None for f in flagged)
+    assert "undecided" not in result.summary  # nor is any reading said to clear it
 
 
 def test_two_slips_in_two_records_are_found_and_weighed_together(tmp_path):
@@ -1139,3 +1140,51 @@ def test_metadata_combinations_are_every_pairing_of_fixes_of_different_kinds(bas
     ]
     assert [c.label for c in got if c.kind == "metadata-combination"] == expected
     assert expected  # a log base and a pressure unit at least
+
+
+def _propane_for_mmhg_marked_pa():
+    """Poling et al.'s Antoine equation of propane (via chemicals), rewritten for mmHg and
+    marked Pa: a lone liquid whose entropy of vaporization falls 40.7 J/(mol K) (R ln
+    133.3) below where it was, out of its plausible band."""
+    from chemicals.vapor_pressure import Psat_data_AntoinePoling as ant
+
+    from vpaudit.equations.convert import convert_record
+
+    rec = poling_record(ant.loc["74-98-6"], "propane-l", "propane")
+    conv = convert_record(rec, pressure_unit="mmHg")
+    return rec, dict(rec, A=conv["A"], B=conv["B"], C=conv["C"])
+
+
+def test_readings_that_each_clear_the_errors_are_named_when_none_is_singled_out():
+    # with no witness but its own entropy band, the mmHg reading cannot be told from kPa,
+    # mbar, psi or a degC range: no fix is suggested, yet the readings and what the table
+    # lacks are said (and the true one is among them)
+    from compilations import references
+
+    from vpaudit.report import RENDERERS
+    from vpaudit.report.html import render_report
+
+    rec, bad = _propane_for_mmhg_marked_pa()
+    table = table_from_rows([bad], [])
+    result = audit_table(table)
+    flagged = [f for f in result.findings if f.severity.rank >= 1]
+    assert flagged and all(f.suggestion is None for f in flagged)
+    (lead,) = result.summary["undecided"]
+    assert lead["substance"] == "propane" and lead["record"] == "propane-l"
+    assert len(lead["fixes"]) >= 2 and lead["share"] >= 0.5
+    assert any(reproduces(rec, bad, fix, tol=1e-6) for fix in lead["fixes"])
+    assert "normal boiling point" in lead["lacking"]
+    text = RENDERERS["text"](result)
+    assert "No fix is suggested" in text and "normal boiling point" in text
+    assert text.count("No fix is suggested") == 1
+    assert "**Diagnosis:** No fix is suggested" in RENDERERS["markdown"](result)
+    page = render_report(result, table, plots=False)
+    assert "none singled out; " in page and page.count("No fix is suggested") == 1
+    # with the CRC normal boiling point (chemicals, method CRC_ORG or the next that knows
+    # it) the readings are told apart: the pressure unit is suggested, nothing is left open
+    refs = [x for x in references("74-98-6", "propane", True, False) if "Tb" in x["source"]]
+    assert refs
+    result = audit_table(table_from_rows([bad], refs))
+    sug = next(f.suggestion for f in result.findings if f.suggestion)
+    assert sug["kind"] == "pressure-unit" and reproduces(rec, bad, sug, tol=1e-6)
+    assert "undecided" not in result.summary

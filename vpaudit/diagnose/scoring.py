@@ -18,6 +18,7 @@ from ..checks.finding import Finding, Findings
 from ..equations.forms import FORMS
 from ..substance import records_at
 from .candidates import SLIP_KINDS, Candidate, Change, _canonical, candidates_for
+from .undecided import undecided
 from .variants import (
     _KEY_WIDTH,
     _NOT_EVIDENCE,
@@ -323,6 +324,15 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
         ),
         key=lambda g: -g[0],
     )
+
+    def abstain() -> dict:
+        """No fix suggested; the readings that each clear every error, where they do."""
+        open_ = undecided(ctx, ranked, cands, outs, harmful, errors_before, cal)
+        out = {"suggestion": None, "clears": set(), "none": float(post[0])}
+        if open_ is not None:
+            out["undecided"] = open_
+        return out
+
     # the errors no single slip explains, made once and only when asked for
     unexplained = cache(lambda: _unexplained(ctx, cands, outs, harmful, errors_before))
     # the likeliest fix that explains its own record: where a likelier one fails that, the
@@ -332,7 +342,7 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
     for pick in range(len(ranked)):
         raw, ks = ranked[pick]
         if raw < max(cal["min_confidence"], post[0]):
-            return {"suggestion": None, "clears": set(), "none": float(post[0])}
+            return abstain()
         # equivalent fixes: the one the evidence fits best (to rounding), then the likelier
         # kind, then the first generated (Torr before mmHg)
         best = min(ks, key=lambda k: (round(outs[k].score(cal), 3), -cands[k].log_prior, k))
@@ -367,7 +377,7 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
             continue
         break
     else:
-        return {"suggestion": None, "clears": set(), "none": float(post[0])}
+        return abstain()
     conf = _stated(raw, cal)
     held = _held_because(ctx, base, outs[best], cands[best])
     if left:  # named with what remains (_suggestion): here only why it holds the fix
@@ -734,9 +744,13 @@ DIAGNOSE_LIMIT = 1000
 
 
 @_quiet
-def attach_suggestions(ctx: AuditContext, findings: Findings, limit: int = DIAGNOSE_LIMIT) -> int:
+def attach_suggestions(
+    ctx: AuditContext, findings: Findings, limit: int = DIAGNOSE_LIMIT
+) -> tuple[int, list[dict]]:
     """Attach the diagnosis to ``findings`` (in place); return the number of substances
-    left undiagnosed.
+    left undiagnosed, and for each substance given no fix although several readings each
+    clear its every error, those readings (:func:`.undecided.undecided`, with its
+    ``substance``), in the order of the substances' names.
 
     Each error or warning that the best fix of its substance clears, or that names the
     corrected record, carries it as ``suggestion``, save one that the fix leaves as it is (a
@@ -747,7 +761,12 @@ def attach_suggestions(ctx: AuditContext, findings: Findings, limit: int = DIAGN
     suspects, skipped = _suspects(findings, limit)
     diag = diagnose(ctx, findings, limit=limit, suspects=suspects)
     if not diag:
-        return skipped
+        return skipped, []
+    open_ = [
+        {"substance": name, **diag[name]["undecided"]}
+        for name in sorted(diag)
+        if diag[name].get("undecided") is not None
+    ]
     columns = zip(findings.substance, findings.severity, findings.records, strict=True)
     for k, (sub, sev, recs) in enumerate(columns):
         d = diag.get(sub)
@@ -763,4 +782,4 @@ def attach_suggestions(ctx: AuditContext, findings: Findings, limit: int = DIAGN
                 if sug["record"] in recs:
                     findings.set(k, **sug["location"])
                 break
-    return skipped
+    return skipped, open_

@@ -53,3 +53,92 @@ def apply_command(table_path: str | None, spec: str) -> str:
             f"imported from), then vpaudit import TABLE --db {store}"
         )
     return f"vpaudit apply {shlex.quote(str(table_path or 'TABLE'))} {shlex.quote(spec)}"
+
+
+#: At most this many readings are named in a report's sentence (the JSON lists them all).
+MOST_NAMED = 8
+
+
+def undecided_by_record(summary: dict) -> dict[tuple[str, str], dict]:
+    """The audit's undecided diagnoses (``summary["undecided"]``) by (substance, record)."""
+    return {(u["substance"], u["record"]): u for u in summary.get("undecided", ())}
+
+
+class Undecided:
+    """Where a report says that several readings clear a substance's errors: once per
+    substance, at its first error or warning on the record those readings correct that
+    carries no suggestion.
+    """
+
+    def __init__(self, summary: dict) -> None:
+        self._open = undecided_by_record(summary)
+        self._said: set[str] = set()
+
+    def sentence(self, finding) -> str | None:
+        """The sentence to show under ``finding``, or None."""
+        if finding.suggestion or finding.severity.rank < 1 or finding.substance in self._said:
+            return None
+        for rid in finding.records:
+            entry = self._open.get((finding.substance, rid))
+            if entry is not None:
+                self._said.add(finding.substance)
+                return undecided_sentence(entry)
+        return None
+
+
+def _value(v) -> str:
+    return format(v, ".6g") if isinstance(v, float) else str(v)
+
+
+def _either(values: list[str]) -> str:
+    return values[0] if len(values) == 1 else f"{', '.join(values[:-1])} or {values[-1]}"
+
+
+def readings(fixes: list[dict]) -> list[str]:
+    """The readings in words: those that change one field of the record alike are named
+    together (``pressure_unit -> kPa, mbar or psi``), the others each with their changes.
+    """
+    together: dict[tuple[str, str], list[str]] = {}
+    out: list[object] = []
+    for fix in fixes:
+        changed = fix["corrected"]
+        if len(changed) == 1 and "also" not in fix:
+            ((field, value),) = changed.items()
+            if (fix["kind"], field) not in together:
+                together[(fix["kind"], field)] = []
+                out.append((fix["kind"], field))
+            together[(fix["kind"], field)].append(_value(value))
+            continue
+        parts = [f"{k} -> {_value(v)}" for k, v in changed.items()]
+        parts += [
+            f"{also['record']} {k} -> {_value(v)}"
+            for also in fix.get("also", ())
+            for k, v in also["corrected"].items()
+        ]
+        out.append(", ".join(parts))
+    return [
+        f"{item[1]} -> {_either(together[item])}" if isinstance(item, tuple) else str(item)
+        for item in out
+    ]
+
+
+def undecided_sentence(entry: dict) -> str:
+    """Why no fix is suggested although slips explain the errors, and what could decide."""
+    fixes = entry["fixes"]
+    named = readings(fixes[:MOST_NAMED])
+    more = f" (and {len(fixes) - MOST_NAMED} more)" if len(fixes) > MOST_NAMED else ""
+    records = list(dict.fromkeys(fix["record"] for fix in fixes))  # entry["record"] first
+    text = (
+        f"No fix is suggested: {len(fixes)} readings of {', '.join(records)} each clear every "
+        f"error of {entry['substance']}, and nothing in the table tells them apart: "
+        f"{'; '.join(named)}{more}."
+    )
+    lacking = entry.get("lacking") or []
+    if lacking:
+        text += (
+            f" The table has no {_either(lacking)} for {entry['substance']}; any of them may "
+            "tell the readings apart."
+        )
+    else:
+        text += " They differ by less than the evidence here resolves."
+    return text + " Check the source before changing the record."

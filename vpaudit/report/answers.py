@@ -10,7 +10,7 @@ from ..checks._context import AuditContext
 from ..checks.real_gas import MAX_VIRIAL_TERM
 from ..constants import R
 from ..units import pressure_factor
-from ._fixes import Explained, apply_command, same_fix
+from ._fixes import Explained, Undecided, apply_command, same_fix
 
 
 def _g(v, fmt="{:.4g}") -> str:
@@ -298,8 +298,12 @@ def render_show(table, substance: str, result, trials: list[dict] = ()) -> str:
         lines += [f"  {sentence}" for sentence in source_trial_sentences(trials)]
     lines += ["", f"Findings: {len(result.findings)}"]
     explained = Explained()  # each fix is explained once, as in the audit's text report
+    undecided = Undecided(result.summary)
     for f in result.findings:
         lines.append(f"  {f.severity.label:<8}{f.check} ({', '.join(f.records)}): {f.message}")
+        lead = undecided.sentence(f)
+        if lead:
+            lines.append(f"    diagnosis: {lead}")
         if f.suggestion:
             if not explained.first(f.suggestion):
                 lines.append(f"    suggestion: {same_fix(f.suggestion)}")

@@ -14,7 +14,7 @@ from pathlib import Path
 from ..auditing import CAUTION
 from ..checks._text import confidence
 from ._escape import visible
-from ._fixes import Explained, apply_command, fix_key
+from ._fixes import Explained, Undecided, apply_command, fix_key
 
 __all__ = ["render_report"]
 
@@ -236,6 +236,8 @@ def _triage(result, status_of) -> list[str]:
     groups: dict[str, list] = {}
     for f in result.findings:
         groups.setdefault(f.substance, []).append(f)
+    # substances given no fix although several readings each clear their errors
+    open_ = {u["substance"]: len(u["fixes"]) for u in result.summary.get("undecided", ())}
     order = sorted(
         groups,
         key=lambda n: (-max(f.severity.rank for f in groups[n]), -len(groups[n]), n),
@@ -253,11 +255,17 @@ def _triage(result, status_of) -> list[str]:
         checks = sorted({f.check for f in fs})
         fixes = list({fix_key(f.suggestion): f.suggestion for f in fs if f.suggestion}.values())
         label = _e(name) if name else "(the table as a whole)"
+        none = _fix(None)
+        if name in open_:
+            none = (
+                f"<span class='fix'>none singled out; {open_[name]} readings each clear it "
+                "(below)</span>"
+            )
         out.append(
             f"<tr><td>{_badge(worst)}</td><td><a href='#s-{_e(name)}'>{label}</a></td>"
             + "".join(f"<td class='num'>{n or ''}</td>" for n in counts)
             + f"<td>{'<br>'.join(f'<code>{_e(c)}</code>' for c in checks)}</td>"
-            f"<td>{'<br>'.join(_fix(x) for x in fixes) or _fix(None)}</td></tr>"
+            f"<td>{'<br>'.join(_fix(x) for x in fixes) or none}</td></tr>"
         )
     out.append("</tbody></table>")
     return out
@@ -291,6 +299,7 @@ def _sections(result, table, plots: bool, max_sections: int) -> list[str]:
     if not names:
         return []
     out = ["<h2>Each flagged substance</h2>"]
+    undecided = Undecided(result.summary)
     rec = table.records
     coef = ["A", "B", "C", "D", "E", "t_crit", "p_crit"]
     for name in names:
@@ -325,6 +334,9 @@ def _sections(result, table, plots: bool, max_sections: int) -> list[str]:
                     f"<li>{_badge(f.severity.value)} <code>{_e(f.check)}</code>: "
                     f"{_e(f.message)}</li>"
                 )
+                lead = undecided.sentence(f)
+                if lead:
+                    out.append(f"<li class='fix'>{_e(lead)}</li>")
                 if f.suggestion and explained.first(f.suggestion):
                     out.append(
                         f"<li class='fix'>Suggested fix: {_e(f.suggestion['explanation'])} "

@@ -5,16 +5,18 @@ from __future__ import annotations
 from ..auditing import CAUTION
 from ._coverage import coverage_sentence
 from ._escape import markdown_text as _cell
-from ._fixes import Explained, same_fix
+from ._fixes import Explained, Undecided, same_fix
 from ._shared import shared_slip_sentences
 
 
-def _suggestion(f, explained: Explained) -> str:
+def _suggestion(f, explained: Explained, undecided: Undecided) -> str:
     """The likely cause and fix, when the diagnosis found one: explained at its first
-    finding, named as the same fix at the others.
+    finding, named as the same fix at the others; else the readings that each clear the
+    substance's errors, where several do.
     """
     if not f.suggestion:
-        return ""
+        lead = undecided.sentence(f)
+        return f" **Diagnosis:** {_cell(lead)}" if lead else ""
     if not explained.first(f.suggestion):
         return f" **Suggestion:** {_cell(same_fix(f.suggestion))}"
     return f" **Suggestion:** {_cell(f.suggestion.get('explanation', ''))}"
@@ -44,11 +46,12 @@ def render(result) -> str:
         notes = [f for f in result.findings if f.severity.value == "note"]
     if serious:
         out += ["| severity | check | substance | records | finding |", "|---|---|---|---|---|"]
-        explained = Explained()
+        explained, undecided = Explained(), Undecided(s)
         for f in serious:
             out.append(
                 f"| {f.severity.label} | `{f.check}` | {_cell(f.substance)} | "
-                f"{_cell(', '.join(f.records))} | {_cell(f.message)}{_suggestion(f, explained)} |"
+                f"{_cell(', '.join(f.records))} | {_cell(f.message)}"
+                f"{_suggestion(f, explained, undecided)} |"
             )
         out.append("")
     if notes:

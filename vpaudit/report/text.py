@@ -8,7 +8,7 @@ from collections import defaultdict
 from ..auditing import CAUTION
 from ._coverage import coverage_sentence
 from ._escape import visible
-from ._fixes import Explained, apply_command, same_fix
+from ._fixes import Explained, Undecided, apply_command, same_fix
 from ._shared import shared_slip_sentences
 
 
@@ -46,6 +46,7 @@ def render(result, width: int = 100) -> str:
         break_on_hyphens=False,  # check names and kinds stay whole
     )
     status_of = result.status_of if result.gated else None
+    undecided = Undecided(s)  # said once per substance, in the first block that has it
 
     def block(findings) -> None:
         groups = defaultdict(list)
@@ -65,6 +66,9 @@ def render(result, width: int = 100) -> str:
                 ident = f.spec if status_of else (f"{f.check}: {', '.join(f.records)}")
                 lines.append(f"  {f.severity.label:<8}{ident}{where}")
                 lines.extend(wrap.wrap(f.message))
+                lead = undecided.sentence(f)
+                if lead:
+                    lines.extend(wrap.wrap(f"diagnosis: {lead}"))
                 if f.suggestion:
                     sug = f.suggestion
                     if not explained.first(sug):

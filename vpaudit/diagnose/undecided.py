@@ -19,6 +19,7 @@ from ..checks._context import AuditContext
 from ..checks._registry import Severity
 from .candidates import Candidate
 from .variants import _Outcome
+from .wording import _rounded
 
 #: The readings that each clear every error are named when together they hold at least
 #: this share of the posterior (they are then likelier than "no single slip", whose share
@@ -70,7 +71,7 @@ def undecided(
     return {
         "record": ctx.id(row),
         "location": ctx.location(row),
-        "share": min(float(np.floor(share * 1000 + 1e-9) / 1000), 0.999),
+        "share": _rounded(share),  # stated as a confidence is: rounded down
         "fixes": [_fix(ctx, c) for c in picked],
         "lacking": lacking(ctx, row),
     }

@@ -8,6 +8,7 @@ Antoine constants of Poling, Prausnitz & O'Connell, The Properties of Gases and 
 
 from __future__ import annotations
 
+import json
 import math
 import random
 import re
@@ -19,6 +20,7 @@ from anchors import anchor_rows
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from refdata import CRC, alcock_pairs, table_from_rows
+from sarif_schema import validate
 from slips import Case, cases_table, corrupt, labelled_cases, poling_record, reproduces
 
 from vpaudit.auditing import audit, audit_table
@@ -1180,6 +1182,14 @@ def test_readings_that_each_clear_the_errors_are_named_when_none_is_singled_out(
     assert "**Diagnosis:** No fix is suggested" in RENDERERS["markdown"](result)
     page = render_report(result, table, plots=False)
     assert "none singled out; " in page and page.count("No fix is suggested") == 1
+    # the SARIF log says it once, in the first error's message and as a property, with no
+    # fix entry (a lead, not a fix), and stays a valid SARIF 2.1.0 log
+    log = json.loads(RENDERERS["sarif"](result))
+    validate(log)
+    said = [r for r in log["runs"][0]["results"] if "undecided" in r["properties"]]
+    assert len(said) == 1 and said[0]["level"] == "error" and "fixes" not in said[0]
+    assert said[0]["properties"]["undecided"] == lead
+    assert "\n\nDiagnosis: No fix is suggested" in said[0]["message"]["text"]
     # with the CRC normal boiling point (chemicals, method CRC_ORG or the next that knows
     # it) the readings are told apart: the pressure unit is suggested, nothing is left open
     refs = [x for x in references("74-98-6", "propane", True, False) if "Tb" in x["source"]]

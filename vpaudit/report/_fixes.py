@@ -74,16 +74,23 @@ class Undecided:
         self._open = undecided_by_record(summary)
         self._said: set[str] = set()
 
-    def sentence(self, finding) -> str | None:
-        """The sentence to show under ``finding``, or None."""
+    def entry(self, finding) -> dict | None:
+        """The undecided diagnosis (an entry of ``summary["undecided"]``) to show with
+        ``finding``, or None; each is shown once.
+        """
         if finding.suggestion or finding.severity.rank < 1 or finding.substance in self._said:
             return None
         for rid in finding.records:
             entry = self._open.get((finding.substance, rid))
             if entry is not None:
                 self._said.add(finding.substance)
-                return undecided_sentence(entry)
+                return entry
         return None
+
+    def sentence(self, finding) -> str | None:
+        """The sentence to show under ``finding``, or None."""
+        entry = self.entry(finding)
+        return None if entry is None else undecided_sentence(entry)
 
 
 def _value(v) -> str:

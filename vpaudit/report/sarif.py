@@ -1,6 +1,9 @@
 """SARIF 2.1.0 report: one run, the check registry as the rules, one result per finding
 located at the record's file and line, and one per slip that many records of a source share
-(``shared-slip``, at the first of its records, the others as related locations).
+(``shared-slip``, at the first of its records, the others as related locations). Where no
+fix is singled out yet several readings each clear a substance's errors, the first error of
+the record they correct says so in its message and carries them as ``properties.undecided``
+(a lead, not a fix: no ``fixes`` entry).
 """
 
 from __future__ import annotations
@@ -11,6 +14,7 @@ from pathlib import Path
 
 from .. import __version__
 from ..checks._registry import ordered
+from ._fixes import Undecided, undecided_sentence
 
 SCHEMA = "https://json.schemastore.org/sarif-2.1.0.json"
 _EXTRA_RULES = {
@@ -84,12 +88,17 @@ def render(result) -> str:
     results = []
     fixed_at: dict[str, dict] = {}  # a corrected record -> its location, for the shared slips
     new_records: set[str] = set()
+    open_ = Undecided(result.summary)
     for f in result.findings:
+        lead = open_.entry(f)
+        text = (
+            f.message if lead is None else f"{f.message}\n\nDiagnosis: {undecided_sentence(lead)}"
+        )
         r = {
             "ruleId": f.check,
             "ruleIndex": index.get(f.check, 0),
             "level": f.severity.sarif_level,
-            "message": {"text": f.message},
+            "message": {"text": text},
             "partialFingerprints": {
                 "vpaudit/v1": hashlib.sha256(json.dumps(f.key).encode()).hexdigest()[:32]
             },
@@ -99,6 +108,8 @@ def render(result) -> str:
                 "evidence": f.evidence,
             },
         }
+        if lead is not None:  # no fix singled out: the readings that each clear the errors
+            r["properties"]["undecided"] = lead
         uri = _uri(f.file)
         if uri:
             loc = {"physicalLocation": {"artifactLocation": {"uri": uri}}}

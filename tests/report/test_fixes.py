@@ -24,6 +24,23 @@ def test_readings_of_one_field_are_named_together_and_the_others_each():
     ]
 
 
+def test_a_changed_coefficient_says_how_it_changed():
+    # a reading of a coefficient's value names the slip (the units name themselves)
+    fixes = [
+        {"kind": "digit-transposition", "record": "r", "corrected": {"C": -62.11}},
+        {"kind": "decimal-shift", "record": "r", "corrected": {"B": 8039.97}},
+        {"kind": "decimal-shift", "record": "r", "corrected": {"B": 80.3997}},
+        {"kind": "coefficient-swap", "record": "r", "corrected": {"B": -26.11, "C": 803.997}},
+        {"kind": "sign", "record": "r", "corrected": {"C": 26.11}},
+    ]
+    assert readings(fixes) == [
+        "C -> -62.11 (two of its digits transposed)",
+        "B -> 8039.97 or 80.3997 (its decimal point moved)",
+        "B -> -26.11, C -> 803.997 (two columns swapped)",
+        "C -> 26.11 (its sign changed)",
+    ]
+
+
 def test_the_sentence_says_what_the_table_lacks_or_that_the_readings_are_too_close():
     entry = {
         "substance": "s",

@@ -101,9 +101,26 @@ def _either(values: list[str]) -> str:
     return values[0] if len(values) == 1 else f"{', '.join(values[:-1])} or {values[-1]}"
 
 
+#: The slips that change a coefficient's value, in the words a reading adds to its new
+#: value (a changed unit or log base names itself: ``pressure_unit -> kPa``).
+_VALUE_SLIPS = {
+    "sign": "its sign changed",
+    "decimal-shift": "its decimal point moved",
+    "digit-transposition": "two of its digits transposed",
+    "coefficient-swap": "two columns swapped",
+    "phase-swap": "the phase labels swapped",
+}
+
+
+def _why(kind: str) -> str:
+    words = _VALUE_SLIPS.get(kind)
+    return f" ({words})" if words else ""
+
+
 def readings(fixes: list[dict]) -> list[str]:
     """The readings in words: those that change one field of the record alike are named
-    together (``pressure_unit -> kPa, mbar or psi``), the others each with their changes.
+    together (``pressure_unit -> kPa, mbar or psi``), the others each with their changes;
+    a changed coefficient says how (``C -> -62.11 (two of its digits transposed)``).
     """
     together: dict[tuple[str, str], list[str]] = {}
     out: list[object] = []
@@ -122,9 +139,11 @@ def readings(fixes: list[dict]) -> list[str]:
             for also in fix.get("also", ())
             for k, v in also["corrected"].items()
         ]
-        out.append(", ".join(parts))
+        out.append(", ".join(parts) + _why(fix["kind"]))
     return [
-        f"{item[1]} -> {_either(together[item])}" if isinstance(item, tuple) else str(item)
+        f"{item[1]} -> {_either(together[item])}{_why(item[0])}"
+        if isinstance(item, tuple)
+        else str(item)
         for item in out
     ]
 

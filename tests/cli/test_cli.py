@@ -21,6 +21,15 @@ def test_eval_prints_a_readable_answer(sample_db):
     assert "Caution: vpaudit screens" in run("--help").output
 
 
+def test_eval_says_when_the_stable_phase_rests_on_extrapolation(sample_db):
+    # kestrium's solid range ends at 1837.2 K (the invented demo): at 2000 K the solid's
+    # vapour pressure is an extrapolation, and the verdict says so; at 1500 K it is not
+    above = run("eval", sample_db, "kestrium", "--at", "2000K").output
+    assert "no solid record's range reaches here, so this rests on extrapolation" in above
+    within = run("eval", sample_db, "kestrium", "--at", "1500K").output
+    assert "Stable phase: solid (lower vapour pressure)." in within
+
+
 def test_eval_takes_the_temperature_after_the_substance_too(sample_db):
     """'vpaudit eval TABLE ardenite 1200K' answers as --at 1200K does; both at once is a
     usage error, as a temperature with --pressure is."""

@@ -85,7 +85,11 @@ def render_eval(answer: dict, unit: str = "Pa") -> str:
             if t is not None
             else "reaches this pressure at the higher temperature"
         )
-        lines.append(f"Stable phase: {answer['stable_phase']} ({why}).")
+        stable = answer["stable_phase"]
+        if not any(r["in_range"] for r in answer["records"] if r["phase"] == stable):
+            # no record of that phase holds here: the verdict rests on extrapolated curves
+            why += f"; no {stable} record's range reaches here, so this rests on extrapolation"
+        lines.append(f"Stable phase: {stable} ({why}).")
     if answer["molar_mass_kg_per_mol"] and t is not None:
         fl = [r["evaporation_flux_kg_per_m2_s"] for r in answer["records"]]
         lines.append(

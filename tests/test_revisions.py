@@ -175,6 +175,50 @@ def test_review_whose_answers_run_out_stops_as_quit(table):
     assert sum('"record"' in ln for ln in log.read_text().splitlines()) == 1
 
 
+def test_review_with_nothing_to_offer_says_why(table, tmp_path):
+    """review never says a bare "nothing": the demo (invented) above any confidence its
+    fixes reach, a lone liquid whose errors no fix is singled out for, and a clean table."""
+    import csv
+    import sys
+
+    sys.path.insert(0, str(Path(__file__).resolve().parent / "_support"))
+    from chemicals.vapor_pressure import Psat_data_AntoinePoling as ant
+    from slips import poling_record
+
+    from vpaudit.equations.convert import convert_record
+
+    before = (table / "records" / "metals.csv").read_bytes()
+    run = CliRunner().invoke(main, ["review", str(table), "--min-confidence", "1"])
+    assert run.exit_code == 0, run.output
+    said = " ".join(run.output.split())
+    assert "suggested fixes are all below --min-confidence 1 (the most confident: 0.99)" in said
+    assert (table / "records" / "metals.csv").read_bytes() == before
+    # Poling et al.'s propane (via chemicals) rewritten for mmHg and marked Pa: no fix is
+    # singled out, and the readings that clear it are where to look
+    rec = poling_record(ant.loc["74-98-6"], "propane-l", "propane")
+    conv = convert_record(rec, pressure_unit="mmHg")
+    cols = ["id", "substance", "phase", "form", "log_base", "pressure_unit"]
+    cols += ["A", "B", "C", "t_min", "t_max", "source"]
+
+    def write(folder, row):
+        (folder / "records").mkdir(parents=True)
+        with open(folder / "records" / "r.csv", "w", newline="", encoding="utf-8") as f:
+            w = csv.DictWriter(f, cols, extrasaction="ignore")
+            w.writeheader()
+            w.writerow({k: repr(v) if isinstance(v, float) else v for k, v in row.items()})
+        return folder
+
+    lone = write(tmp_path / "lone", dict(rec, A=conv["A"], B=conv["B"], C=conv["C"]))
+    said = " ".join(CliRunner().invoke(main, ["review", str(lone)]).output.split())
+    assert "the audit finds 1 error in 1 substance" in said
+    assert "singles out no fix for it" in said
+    where = f"(vpaudit show {lone} propane names them)"
+    assert f"for propane several readings each clear the errors {where}" in said
+    clean = write(tmp_path / "clean", rec)
+    said = " ".join(CliRunner().invoke(main, ["review", str(clean)]).output.split())
+    assert said == "no suggested fixes to review: the audit finds no error or warning"
+
+
 def test_review_offers_one_fix_per_record_at_or_above_the_confidence_asked():
     """revisions.review_offers: what review walks through. The demo's planted slips (the
     invented sample_db) draw several findings on one record; each record is offered once."""

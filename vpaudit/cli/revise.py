@@ -5,6 +5,7 @@
 from __future__ import annotations
 
 import json
+import shlex
 import textwrap
 
 import click
@@ -76,7 +77,7 @@ def review_cmd(table, by, db, min_confidence):
     from ..api import open_table
     from ..auditing import audit_table
     from ..policy import load_policy
-    from ..report.revisions import offer_lines, remains_line
+    from ..report.revisions import nothing_to_review, offer_lines, remains_line
     from ..revisions import apply_suggestion, review_offers, suggestion_edits, what_remains
 
     _table_dir(table)
@@ -84,12 +85,13 @@ def review_cmd(table, by, db, min_confidence):
     result = audit_table(t, load_policy(t.policy_path), table_path=str(table))
     offers = review_offers(result, min_confidence)
     if not offers:
-        say("no suggested fixes to review")
+        why = nothing_to_review(result, min_confidence, shlex.quote(table))
+        say(textwrap.fill(why, 100, break_on_hyphens=False))  # commands and paths stay whole
         return
     from ..report._shared import shared_slip_sentences
 
     for sentence in shared_slip_sentences(result.summary):  # before the fixes one by one
-        say(textwrap.fill(sentence, width=100))
+        say(textwrap.fill(sentence, width=100, break_on_hyphens=False))
     applied = 0
     changed: set[str] = set()
     for k, f in enumerate(offers, 1):

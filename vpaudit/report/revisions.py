@@ -4,10 +4,12 @@ at the terminal about revisions of records. The command line only prints these l
 
 from __future__ import annotations
 
+import shlex
+
 from ..checks._text import confidence
 from ._fixes import apply_command
 
-__all__ = ["history_lines", "offer_lines", "revised_line"]
+__all__ = ["history_lines", "nothing_to_review", "offer_lines", "revised_line"]
 
 
 def revised_line(e: dict) -> str:
@@ -33,6 +35,49 @@ def offer_lines(k: int, n: int, finding, edits) -> list[str]:
         lines.append(f"  {edit.file}:{edit.line}\n  - {edit.line_before.rstrip()}")
         lines.append(f"  + {edit.line_after.rstrip()}")
     return lines
+
+
+def nothing_to_review(result, min_confidence: float, table: str) -> str:
+    """Why ``review`` has no fix to offer: the table is clean, its suggestions are all below
+    ``min_confidence``, or no fix is singled out for its errors (and where several readings
+    each clear a substance's errors, which substances, and where they are named).
+    """
+    flagged = [f for f in result.findings if f.severity.rank >= 1]
+    if not flagged:
+        return "no suggested fixes to review: the audit finds no error or warning"
+    errors = sum(f.severity.rank >= 2 for f in flagged)
+    counts = " and ".join(
+        f"{n} {word}{'s' if n > 1 else ''}"
+        for n, word in ((errors, "error"), (len(flagged) - errors, "warning"))
+        if n
+    )
+    substances = len({f.substance for f in flagged})
+    line = (
+        f"no suggested fixes to review: the audit finds {counts} in {substances} "
+        f"substance{'s' if substances > 1 else ''}"
+    )
+    # one fix per corrected record, as review offers them
+    below = {f.suggestion["record"]: f.suggestion["confidence"] for f in flagged if f.suggestion}
+    if below:
+        n = len(below)
+        line += (
+            f"; {'its' if n == 1 else f'the {n}'} suggested fix{'' if n == 1 else 'es'} "
+            f"{'is' if n == 1 else 'are all'} below --min-confidence {min_confidence:g} "
+            f"(the most confident: {confidence(max(below.values()))})"
+        )
+    else:
+        line += ", and the evidence singles out no fix for " + (
+            "it" if len(flagged) == 1 else "any of them"
+        )
+    leads = sorted({u["substance"] for u in result.summary.get("undecided", ())})
+    if leads:
+        named = ", ".join(leads[:3]) + (f" and {len(leads) - 3} more" if len(leads) > 3 else "")
+        which = shlex.quote(leads[0]) if len(leads) == 1 else "SUBSTANCE"
+        line += (
+            f"; for {named} several readings each clear the errors (vpaudit show "
+            f"{table} {which} names them)"
+        )
+    return line + f". vpaudit audit {table} lists the findings."
 
 
 def history_lines(record: str, entries: list[dict]) -> list[str]:

@@ -124,11 +124,11 @@ def render(result, width: int = 100) -> str:
     if whole:
         summary += f"; {whole} about the table as a whole"
     lines.append(summary + ".")
-    for sentence in shared_slip_sentences(s):
-        lines.extend(textwrap.wrap(sentence, width=width))
+    for sentence in shared_slip_sentences(s):  # record ids and paths stay whole
+        lines.extend(textwrap.wrap(sentence, width=width, break_on_hyphens=False))
     covered = coverage_sentence(s)
     if covered:
-        lines.extend(textwrap.wrap(covered, width=width))
+        lines.extend(textwrap.wrap(covered, width=width, break_on_hyphens=False))
     lines = [visible(line) for line in lines]  # table text shown, never obeyed
     lines.append(textwrap.fill(f"Caution: {CAUTION}", width=width))
     return "\n".join(lines) + "\n"

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import functools
 import json
 import textwrap
 
@@ -59,17 +60,16 @@ def checks_text(width: int = 100) -> str:
             f", {tier.value} if {name}" for name, tier in spec.tiers.items()
         )
         lines.append(f"{spec.name}  [{sev}, per {spec.scope.value}]")
-        lines += textwrap.wrap(spec.summary, width, initial_indent="    ", subsequent_indent="    ")
-        lines += textwrap.wrap(
-            f"basis: {spec.basis}", width, initial_indent="    ", subsequent_indent="      "
-        )
+        # check names and hyphenated words stay whole at a line's end
+        wrap = functools.partial(textwrap.wrap, width=width, break_on_hyphens=False)
+        lines += wrap(spec.summary, initial_indent="    ", subsequent_indent="    ")
+        lines += wrap(f"basis: {spec.basis}", initial_indent="    ", subsequent_indent="      ")
         for t in spec.thresholds.values():
             extra = "".join(f", {p}: {v:g}" for p, v in _preset_values(spec.name, t.name).items())
             unit = "" if t.unit == "-" else f" {t.unit}"
-            lines += textwrap.wrap(
+            lines += wrap(
                 f"{t.name} = {t.default:g}{unit}: {t.description}"
                 f"{' (' + extra[2:] + ')' if extra else ''}",
-                width,
                 initial_indent="    - ",
                 subsequent_indent="      ",
             )

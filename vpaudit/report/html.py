@@ -42,7 +42,7 @@ th.sorted-asc:after{content:" \\25B2"}th.sorted-desc:after{content:" \\25BC"}
 .fix{color:#1f5a2a}.conf{font-weight:600}
 td.num{text-align:right;white-space:nowrap;font-variant-numeric:tabular-nums}
 .controls{margin:.6em 0}.controls input[type=search]{width:22em;padding:.2em}
-code{font-size:.95em}#triage code{white-space:nowrap}figure{margin:.5em 0}
+code{font-size:.95em}#triage code,#findings code,.id{white-space:nowrap}figure{margin:.5em 0}
 svg{max-width:100%;height:auto}
 @media print{.controls{display:none}#findings th{cursor:auto}}
 """
@@ -79,6 +79,11 @@ _RANK = {"error": 2, "warning": 1, "note": 0}
 
 def _e(text) -> str:
     return html.escape(visible(text), quote=True)
+
+
+def _ids(records) -> str:
+    """Record ids, each kept on one line (a browser breaks ``propane-l`` at its hyphen)."""
+    return ", ".join(f"<span class='id'>{_e(r)}</span>" for r in records)
 
 
 def _svg(table, substance: str) -> str:
@@ -217,7 +222,7 @@ def render_report(result, table=None, plots: bool = True, max_sections: int = 10
         out.append(
             f"<tr data-severity='{sev}'><td data-key='{_RANK[sev]}'>{_badge(sev)}"
             f"</td><td><code>{_e(f.check)}</code></td><td><a href='#s-{_e(f.substance)}'>"
-            f"{_e(f.substance)}</a></td><td>{_e(', '.join(f.records))}</td>"
+            f"{_e(f.substance)}</a></td><td>{_ids(f.records)}</td>"
             f"<td>{_e(f.message)}</td><td>{_e(where)}</td>"
             + (f"<td>{_e(status_of(f))}</td>" if status_of else "")
             + "</tr>"
@@ -317,7 +322,8 @@ def _sections(result, table, plots: bool, max_sections: int) -> list[str]:
         )
         for _, r in rows.iterrows():
             out.append(
-                f"<tr><td>{_e(r['id'])}</td><td>{_e(r['phase'])}</td><td>{_e(r['form'])}</td>"
+                f"<tr><td class='id'>{_e(r['id'])}</td><td>{_e(r['phase'])}</td>"
+                f"<td>{_e(r['form'])}</td>"
                 f"<td>log{_e(r['log_base'])} {_e(r['pressure_unit'])} "
                 f"{_e(r['temperature_unit'])}</td><td class='num'>{_e(_text(r['t_min_text']))}"
                 f"..{_e(_text(r['t_max_text']))}</td>"

@@ -456,8 +456,12 @@ def apply_suggestion(
             "(the evidence does not single out one fix); correct the record by hand"
         )
     spec = finding.spec
+    # the explanation names its kind and confidence ("[sign, confidence 0.99]") once
+    stated = f"[{sug['kind']}, confidence {confidence(sug['confidence'])}]"
     why = reason or (
-        f"{sug['kind']} (confidence {confidence(sug['confidence'])}): {sug['explanation']}"
+        sug["explanation"]
+        if stated in sug["explanation"]
+        else f"{sug['kind']} (confidence {confidence(sug['confidence'])}): {sug['explanation']}"
     )
     rec = table.records
     ids = rec["id"].astype(object)

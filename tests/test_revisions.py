@@ -33,6 +33,9 @@ def test_apply_finding_writes_the_fix_and_audits_again(table):
 
     done = apply_finding(table, "slope-not-positive:dorvane-s1", by="tester")
     assert [e["record"] for e in done.entries] == ["dorvane-s1"]
+    # the reason recorded is the suggestion's explanation, its kind and confidence said once
+    why = done.entries[0]["why"]
+    assert why.count("[sign, confidence 0.") == 1 and why.count("sign (confidence") == 0
     assert done.substances == ["dorvane"] and done.remaining == 0
     with pytest.raises(RevisionError, match="no finding"):
         apply_finding(table, "slope-not-positive:dorvane-s1", by="tester")  # fixed already

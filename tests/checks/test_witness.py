@@ -88,3 +88,28 @@ def test_the_standard_data_back_a_solid_only_as_finely_as_their_allowance(copper
     assert f.evidence["likely_culprit"] == "Cu-liquid"
     assert "Cu-solid meets both standard values at 298.15 K (within 1.8" in (f.message)
     assert f.line == next(i for i, r in enumerate(recs, 1) if r["phase"] == "liquid")
+
+
+def test_two_sources_name_the_one_whose_heat_capacity_change_is_positive():
+    """n-butane (CAS 106-97-8) as McGarry (1983) and Poling et al. (2001) give it in Wagner
+    form (chemicals), with the CRC boiling point and critical constants (chemicals): with
+    the sign of Poling's D term lost, the curves part at the low end of the range; both
+    still meet the boiling point, which cannot decide, but the changed curve implies a
+    positive dCp of vaporization there and McGarry's does not, so sources-disagree names
+    it (a warning still: a third source decides). As published, the two agree."""
+    from compilations import references, wagner
+
+    records, _ = wagner()
+    pair = [r for r in records if r["substance"] == "106-97-8"]
+    assert [r["id"] for r in pair] == ["106-97-8-mg", "106-97-8-pw"]
+    refs = references("106-97-8", "106-97-8", True, False)
+    clean = audit_table(table_from_rows(pair, refs))
+    assert not [f for f in clean.findings if f.check == "sources-disagree"]
+    slipped = [pair[0], dict(pair[1], D=-pair[1]["D"])]
+    found = audit_table(table_from_rows(slipped, refs)).findings
+    (f,) = [f for f in found if f.check == "sources-disagree"]
+    assert f.severity.value == "warning"
+    assert "no reference decides, but 106-97-8-pw implies a positive dCp" in f.message
+    (hc,) = [g for g in found if g.check == "heat-capacity-sign"]
+    assert hc.records == ("106-97-8-pw",)
+    assert f.line == hc.line  # the finding stands at the suspect's line

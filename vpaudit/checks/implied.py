@@ -277,9 +277,7 @@ def heat_capacity_sign(ctx: AuditContext, th: dict[str, float]):
     """
     ex = ctx.range_extrema
     factor = np.where(ctx.antoine, th["antoine_factor"], 1.0)
-    with np.errstate(invalid="ignore"):
-        bad = ctx.evaluable & (ex.cp_max > th["tolerance"] * factor)
-    rows = np.flatnonzero(bad)
+    rows = np.flatnonzero(heat_capacity_positive(ctx, th))
     bow = ex.cp_max[rows] / R * bow_of_ln_t(ex.cp_lo[rows], ex.cp_hi[rows])
     u = ctx.uncertainty[rows]
     u = np.where(np.isnan(u), th["resolvable"], u)
@@ -287,18 +285,33 @@ def heat_capacity_sign(ctx: AuditContext, th: dict[str, float]):
     with np.errstate(invalid="ignore"):
         far = cp > th["error_above"] * factor
         shown = bow > u  # False where the bow is not known
+    # the term whose sign bends the curve so, in each family's own coefficients
+    term = np.where(
+        ctx.curves.is_wagner[rows],
+        "the signs of the C and D terms",
+        np.where(
+            ctx.antoine[rows],
+            "C (an Antoine curve whose pole lies below 0 K bends so)",
+            "the sign of the log T coefficient",
+        ),
+    )
     messages = [
         f"the implied dCp reaches {jk(c)} at {kelvin(x)}; it should be negative "
-        "(the condensed phase holds more heat than its vapour): check the sign of the "
-        "log T coefficient, or whether the curve is used outside its fitted range"
+        f"(the condensed phase holds more heat than its vapour): check {what}, or whether "
+        "the curve is used outside its fitted range"
         + (
             f". Over this narrow range that curvature bends ln P by only {b:.2g}, "
             "within the record's uncertainty."
             if quiet
             else "."
         )
-        for c, x, b, quiet in zip(
-            cp.tolist(), t.tolist(), bow.tolist(), (far & ~shown).tolist(), strict=True
+        for c, x, b, quiet, what in zip(
+            cp.tolist(),
+            t.tolist(),
+            bow.tolist(),
+            (far & ~shown).tolist(),
+            term.tolist(),
+            strict=True,
         )
     ]
     for tier, sel in ((None, ~(far & shown)), ("beyond-error-above", far & shown)):
@@ -315,6 +328,16 @@ def heat_capacity_sign(ctx: AuditContext, th: dict[str, float]):
                 },
                 tier=tier,
             )
+
+
+def heat_capacity_positive(ctx: AuditContext, th: dict[str, float]) -> np.ndarray:
+    """Whether each record draws ``heat-capacity-sign`` under its thresholds ``th``: an
+    implied dCp beyond the tolerance (wider for Antoine records) in the near-ideal part of
+    its range (one definition, for that check and for the sources it weighs).
+    """
+    factor = np.where(ctx.antoine, th["antoine_factor"], 1.0)
+    with np.errstate(invalid="ignore"):
+        return ctx.evaluable & (ctx.range_extrema.cp_max > th["tolerance"] * factor)
 
 
 def bow_of_ln_t(t_lo, t_hi) -> np.ndarray:

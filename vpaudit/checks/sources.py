@@ -11,6 +11,7 @@ from ._context import LN_P_STANDARD, AuditContext, same_key_pairs
 from ._registry import Scope, Severity, Threshold, check
 from ._text import kelvin, ln_ratio
 from .hits import Hit
+from .implied import heat_capacity_positive
 
 __all__: list[str] = []
 
@@ -46,6 +47,25 @@ def _blamed_by_boiling_point(ctx: AuditContext, pair: tuple[int, int]):
     return int(rows[k]), int(rows[1 - k]), float(tbs[j]), float(off[k, j])
 
 
+def _odd_heat_capacity(ctx: AuditContext, pair: tuple[int, int]) -> tuple[int, int] | None:
+    """For two records of one substance and phase: (the one that draws heat-capacity-sign,
+    the other) when exactly one does, else None (or when the policy turns that check off).
+    A real condensed phase holds more heat than its vapour; a curve that says otherwise
+    where its twin does not is the likelier of the two to carry a slip (a lost sign of a
+    Wagner or log T term bends it so).
+    """
+    if ctx.policy.severity("heat-capacity-sign") is None:
+        return None
+    hc = ctx.memo(
+        ("heat capacity positive",),
+        lambda: heat_capacity_positive(ctx, ctx.thresholds("heat-capacity-sign")),
+    )
+    a, b = pair
+    if bool(hc[a]) == bool(hc[b]):
+        return None
+    return (a, b) if hc[a] else (b, a)
+
+
 @check(
     "sources-disagree",
     Severity.warning,
@@ -67,7 +87,10 @@ def sources_disagree(ctx: AuditContext, th: dict[str, float]):
     largest |ln P_i - median| is compared with k * sqrt(u_i^2 + u_others^2). With only two
     records the disagreement is reported once, naming both; it blames one only when the
     reference normal boiling point meets one curve (within the boiling-point check's
-    tolerance) and not the other.
+    tolerance) and not the other, or, with no such reference, when one of them implies a
+    positive dCp (heat-capacity-sign) and the other does not (a lost sign of a Wagner D or
+    log T term bends a curve so). It stays a warning: a third source or measured points
+    decide.
     """
     mod_code = codes(ctx.table.records["modification"])[0] + 1  # 0: no modification
     key = (ctx.codes * 2 + ctx.liquid) * (mod_code.max(initial=0) + 1) + mod_code
@@ -134,7 +157,15 @@ def sources_disagree(ctx: AuditContext, th: dict[str, float]):
                 continue
             reported.add(pair)
             blame = _blamed_by_boiling_point(ctx, pair)
-            if blame is None:
+            odd = _odd_heat_capacity(ctx, pair) if blame is None else None
+            if odd is not None:
+                where, ok = odd
+                judge = (
+                    f"no reference decides, but {ctx.id(where)} implies a positive dCp "
+                    f"(heat-capacity-sign) where {ctx.id(ok)} does not: {ctx.id(where)} is the "
+                    "likelier to be wrong; a third source or measured points decide."
+                )
+            elif blame is None:
                 judge = (
                     "with two sources neither can be blamed: a third source or measured points "
                     "decide."

@@ -26,7 +26,6 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
 from ._atomic import append_line, file_lock, write_atomic
-from .checks._text import confidence
 from .errors import Location, TableError, VpauditError
 from .readers.lines import split_lines
 from .writers import csv_cell
@@ -456,13 +455,8 @@ def apply_suggestion(
             "(the evidence does not single out one fix); correct the record by hand"
         )
     spec = finding.spec
-    # the explanation names its kind and confidence ("[sign, confidence 0.99]") once
-    stated = f"[{sug['kind']}, confidence {confidence(sug['confidence'])}]"
-    why = reason or (
-        sug["explanation"]
-        if stated in sug["explanation"]
-        else f"{sug['kind']} (confidence {confidence(sug['confidence'])}): {sug['explanation']}"
-    )
+    # every explanation names its kind and confidence ("[sign, confidence 0.99]")
+    why = reason or sug["explanation"]
     rec = table.records
     ids = rec["id"].astype(object)
     edits = [(sug["record"], sug["corrected"], sug.get("corrected_text"))]

@@ -37,6 +37,18 @@ def offer_lines(k: int, n: int, finding, edits) -> list[str]:
     return lines
 
 
+def _counted(findings) -> str:
+    """``2 errors and 1 warning``: the errors and warnings among ``findings`` (all of them
+    errors or warnings).
+    """
+    errors = sum(f.severity.rank >= 2 for f in findings)
+    return " and ".join(
+        f"{n} {word}{'s' if n > 1 else ''}"
+        for n, word in ((errors, "error"), (len(findings) - errors, "warning"))
+        if n
+    )
+
+
 def nothing_to_review(result, min_confidence: float, table: str) -> str:
     """Why ``review`` has no fix to offer: the table is clean, its suggestions are all below
     ``min_confidence``, or no fix is singled out for its errors (and where several readings
@@ -45,15 +57,9 @@ def nothing_to_review(result, min_confidence: float, table: str) -> str:
     flagged = [f for f in result.findings if f.severity.rank >= 1]
     if not flagged:
         return "no suggested fixes to review: the audit finds no error or warning"
-    errors = sum(f.severity.rank >= 2 for f in flagged)
-    counts = " and ".join(
-        f"{n} {word}{'s' if n > 1 else ''}"
-        for n, word in ((errors, "error"), (len(flagged) - errors, "warning"))
-        if n
-    )
     substances = len({f.substance for f in flagged})
     line = (
-        f"no suggested fixes to review: the audit finds {counts} in {substances} "
+        f"no suggested fixes to review: the audit finds {_counted(flagged)} in {substances} "
         f"substance{'s' if substances > 1 else ''}"
     )
     # one fix per corrected record, as review offers them
@@ -111,16 +117,10 @@ def remains_line(left: list, shown: int = 3, table: str | None = None) -> str:
     """
     if not left:
         return "clean (no errors or warnings)"
-    errors = sum(f.severity.rank >= 2 for f in left)
-    counts = [
-        f"{n} {word}{'s' if n > 1 else ''}"
-        for n, word in ((errors, "error"), (len(left) - errors, "warning"))
-        if n
-    ]
     named = "; ".join(f"{f.check} ({', '.join(f.records)})" for f in left[:shown])
     more = f" and {len(left) - shown} more (vpaudit audit lists them)" if len(left) > shown else ""
     verb = "remains" if len(left) == 1 else "remain"
-    line = f"{' and '.join(counts)} {verb}: {named}{more}"
+    line = f"{_counted(left)} {verb}: {named}{more}"
     nxt = next((f for f in left if f.suggestion), None) if table is not None else None
     if nxt is not None:
         sug = nxt.suggestion

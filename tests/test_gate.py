@@ -158,7 +158,7 @@ def test_the_gates_csv_says_which_findings_are_new(repo, tmp_path):
     }
     # an audit's CSV has no such column (nothing to compare with)
     audit = run("audit", repo / "table", "--format", "csv", "--fail-on", "never").output
-    assert audit.splitlines()[0].split(",")[-1] == "suggestion"
+    assert audit.splitlines()[0].split(",")[-1] == "undecided"
 
 
 def test_expired_acceptance_is_reported_and_fails_again(repo):

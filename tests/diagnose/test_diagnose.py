@@ -8,6 +8,8 @@ Antoine constants of Poling, Prausnitz & O'Connell, The Properties of Gases and 
 
 from __future__ import annotations
 
+import csv
+import io
 import json
 import math
 import random
@@ -1190,6 +1192,11 @@ def test_readings_that_each_clear_the_errors_are_named_when_none_is_singled_out(
     assert len(said) == 1 and said[0]["level"] == "error" and "fixes" not in said[0]
     assert said[0]["properties"]["undecided"] == lead
     assert "\n\nDiagnosis: No fix is suggested" in said[0]["message"]["text"]
+    # the CSV report carries it once, in its own column, beside an empty suggestion cell
+    rows = list(csv.DictReader(io.StringIO(RENDERERS["csv"](result))))
+    leads = [r for r in rows if r["undecided"]]
+    assert len(leads) == 1 and leads[0]["severity"] == "error" and not leads[0]["suggestion"]
+    assert json.loads(leads[0]["undecided"]) == lead
     # with the CRC normal boiling point (chemicals, method CRC_ORG or the next that knows
     # it) the readings are told apart: the pressure unit is suggested, nothing is left open
     refs = [x for x in references("74-98-6", "propane", True, False) if "Tb" in x["source"]]

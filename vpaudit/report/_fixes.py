@@ -72,7 +72,12 @@ class Undecided:
 
     def __init__(self, summary: dict) -> None:
         self._open = undecided_by_record(summary)
+        self._substances = {substance for substance, _ in self._open}
         self._said: set[str] = set()
+
+    def pending(self, substance: str) -> bool:
+        """Whether ``substance`` has readings not yet shown (cheap: no finding needed)."""
+        return substance in self._substances and substance not in self._said
 
     def entry(self, finding) -> dict | None:
         """The undecided diagnosis (an entry of ``summary["undecided"]``) to show with

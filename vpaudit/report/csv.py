@@ -1,5 +1,10 @@
 """CSV report: one row per finding; a gate's adds each finding's ``status`` (new, existing
 or accepted) as a last column, since its exit status counts only the new ones.
+
+Where no fix is singled out yet several readings each clear a substance's errors, the first
+error or warning of the record they correct carries them in the ``undecided`` column, as the
+JSON entry of ``summary["undecided"]`` (a lead, not a fix: the ``suggestion`` cell stays
+empty), as in the text report and the SARIF log.
 """
 
 from __future__ import annotations
@@ -10,6 +15,7 @@ import json
 from collections.abc import Iterator
 
 from ..checks.finding import REPORTED
+from ._fixes import Undecided
 
 COLUMNS = [
     "severity",
@@ -21,6 +27,7 @@ COLUMNS = [
     "line",
     "evidence",
     "suggestion",
+    "undecided",
 ]
 
 
@@ -32,6 +39,7 @@ def chunks(result) -> Iterator[str]:
     """The CSV text of :func:`render`, in pieces that join to it, a chunk of findings each."""
     findings = result.findings
     gated = result.gated
+    undecided = Undecided(result.summary)
     for a in range(0, max(len(findings), 1), CHUNK):
         buf = io.StringIO()
         w = csv.writer(buf, lineterminator="\n")
@@ -53,11 +61,22 @@ def chunks(result) -> Iterator[str]:
                 line or "",
                 json.dumps(ev, sort_keys=True),
                 json.dumps(sug) if sug else "",
+                _lead(undecided, findings, a + k),
             ]
             if statuses is not None:
                 row.append(statuses[k] or "new")
             w.writerow(row)
         yield buf.getvalue()
+
+
+def _lead(undecided: Undecided, findings, i: int) -> str:
+    """The ``undecided`` cell of finding ``i``: its substance's readings where this finding
+    is where they are said (only substances with such readings make a row view).
+    """
+    if not undecided.pending(findings.substance[i]):
+        return ""
+    entry = undecided.entry(findings[i])
+    return json.dumps(entry) if entry else ""
 
 
 def render(result) -> str:

@@ -169,9 +169,11 @@ def eval_substance(
         else []
     )
     molar_mass = float(mm.iloc[0]) if len(mm) else None
+    melting = _melting_point(table, substance)
     flux = evaporation_flux(p, t, molar_mass) if molar_mass else np.full(n, np.nan)
     phases = rows["phase"].to_numpy(dtype=object)
     stable = _stable_phase(phases, p, t, temperature is not None, in_range)
+    against = _against_melting_point(stable, phases, t, melting)
     records = []
     for i in range(n):
         records.append(
@@ -199,6 +201,8 @@ def eval_substance(
         "temperature_K": None if temperature is None else float(temperature),
         "pressure_Pa": None if pressure is None else float(pressure),
         "stable_phase": stable,
+        "melting_point_K": None if melting is None else melting[0],
+        "stable_phase_contradicts_melting_point": against,
         "molar_mass_kg_per_mol": molar_mass,
         "records": records,
     }
@@ -269,6 +273,52 @@ def _why_ideal(
 def _num(v) -> float | None:
     v = float(v)
     return v if math.isfinite(v) else None
+
+
+def _melting_point(table: Table, substance: str) -> tuple[float, float] | None:
+    """The first reference melting point of ``substance`` as (Tm [K], its stated uncertainty
+    [K], NaN where none), or None.
+    """
+    from .units import temperature_affine
+
+    ref = table.references
+    if not len(ref):
+        return None
+    rows = ref.loc[(ref["substance"] == substance) & (ref["quantity"] == "melting_point")]
+    if not len(rows):
+        return None
+    u = rows["uncertainty"].iloc[0] if "uncertainty" in rows else None
+    try:  # an uncertainty is a width: scaled by the unit, never offset
+        width = abs(float(u)) * temperature_affine(str(rows["unit"].iloc[0]))[0]
+    except (TypeError, ValueError):
+        width = math.nan
+    return float(rows["value_si"].iloc[0]), width
+
+
+#: How far from the reference melting point [fraction of it] the stable phase the curves
+#: give may be the other one before ``eval`` says they contradict it (common practice, not a
+#: measurement: the triple point, where the curves meet, lies within a few tenths of a kelvin
+#: of the normal melting point for most substances; the rest covers the curves' own scatter).
+MELTING_ALLOWANCE = 0.01
+
+
+def _against_melting_point(
+    stable: str | None, phases, t: np.ndarray, melting: tuple[float, float] | None
+) -> bool:
+    """Whether the stable phase the curves give contradicts the reference melting point
+    ``melting`` = (Tm [K], its uncertainty [K] or NaN): the solid at a temperature [K] well
+    above Tm, or the liquid well below it (the temperatures ``t`` at which the stable
+    phase's records were evaluated, their median).
+    """
+    if stable is None or melting is None:
+        return False
+    tm, u = melting
+    at = t[(phases == stable) & np.isfinite(t)]
+    if not at.size or not math.isfinite(tm):
+        return False
+    tol = max(MELTING_ALLOWANCE * tm, u if math.isfinite(u) else 0.0)
+    mid = float(np.median(at))
+    return mid > tm + tol if stable == "solid" else mid < tm - tol
 
 
 def _stable_phase(phases, p, t, at_temperature: bool, in_range) -> str | None:

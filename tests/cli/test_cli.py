@@ -30,6 +30,26 @@ def test_eval_says_when_the_stable_phase_rests_on_extrapolation(sample_db):
     assert "Stable phase: solid (lower vapour pressure)." in within
 
 
+def test_eval_says_when_the_stable_phase_contradicts_the_reference_melting_point(sample_db):
+    # kestrium's sources disagree (the invented demo): the median of its two liquids lies
+    # above its extrapolated solid at 2000 K, 163 K above its reference melting point
+    # (1837.2 K), where the liquid is the stable phase; the answer says the curves
+    # contradict the reference instead of leaving a solid 'stable' there unremarked
+    above = run("eval", sample_db, "kestrium", "--at", "2000K").output
+    assert "This contradicts the reference melting point, 1837.2 K: at 2000 K the liquid" in above
+    answer = run("eval", sample_db, "kestrium", "--at", "2000K", "--format", "json").output
+    data = json.loads(answer)
+    assert data["melting_point_K"] == 1837.2 and data["stable_phase_contradicts_melting_point"]
+    # below the melting point the solid is the stable phase: nothing to say
+    for at in ("1500K", "1830K"):
+        assert "contradicts" not in run("eval", sample_db, "kestrium", "--at", at).output
+    # at a pressure: the solid reaches 3 Pa (extrapolated) above the melting point
+    press = run("eval", sample_db, "kestrium", "--pressure", "3Pa", "--extrapolate").output
+    assert "where the solid reaches this pressure, the liquid is the stable phase" in press
+    # ardenite's curves agree with its reference melting point: liquid at 1200 K, unremarked
+    assert "contradicts" not in run("eval", sample_db, "ardenite", "--at", "1200K").output
+
+
 def test_eval_takes_the_temperature_after_the_substance_too(sample_db):
     """'vpaudit eval TABLE ardenite 1200K' answers as --at 1200K does; both at once is a
     usage error, as a temperature with --pressure is."""

@@ -90,6 +90,8 @@ def render_eval(answer: dict, unit: str = "Pa") -> str:
             # no record of that phase holds here: the verdict rests on extrapolated curves
             why += f"; no {stable} record's range reaches here, so this rests on extrapolation"
         lines.append(f"Stable phase: {stable} ({why}).")
+        if answer.get("stable_phase_contradicts_melting_point"):
+            lines.append(_against_melting_point(answer, stable, t is not None))
     if answer["molar_mass_kg_per_mol"] and t is not None:
         fl = [r["evaporation_flux_kg_per_m2_s"] for r in answer["records"]]
         lines.append(
@@ -117,6 +119,25 @@ def render_eval(answer: dict, unit: str = "Pa") -> str:
         ]
     lines += _vapour_notes(answer["records"])
     return "\n".join(lines) + "\n"
+
+
+def _against_melting_point(answer: dict, stable: str, at_temperature: bool) -> str:
+    """The sentence that says the stable phase the curves give contradicts the reference
+    melting point (``vpaudit eval``).
+    """
+    tm = answer["melting_point_K"]
+    other = "liquid" if stable == "solid" else "solid"
+    if at_temperature:
+        where = f"at {answer['temperature_K']:.6g} K"
+    else:
+        at = [r["temperature_K"] for r in answer["records"] if r["phase"] == stable]
+        at = sorted(v for v in at if v is not None)
+        where = f"at {at[len(at) // 2]:.6g} K, where the {stable} reaches this pressure,"
+    return (
+        f"This contradicts the reference melting point, {tm:.6g} K: {where} the {other} is "
+        f"the stable phase. The {stable} and {other} curves disagree with that reference; "
+        "'vpaudit audit' says where."
+    )
 
 
 def _vapour_notes(records: list[dict]) -> list[str]:

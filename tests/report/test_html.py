@@ -154,3 +154,47 @@ def test_a_second_fix_beside_the_first_is_in_the_triage_view_and_its_section(tmp
     assert "<b>bellorium-s1</b>: B &rarr; -14736.5418" in triage
     assert page.count("Suggested fix: Almost certainly the coefficients are for log10") == 1
     assert page.count("Suggested fix: Almost certainly the sign of B was lost") == 1
+
+
+def test_a_page_lists_the_worst_substances_and_says_where_the_rest_are(sample_db):
+    """A table with thousands of flagged substances made a page of hundreds of megabytes
+    that no browser opens (a whole compilation typed in under one wrong header); the page
+    lists the worst substances, all their findings, and names the report that has the
+    rest. Shown here with a cap of 3 on the demo's eleven flagged substances."""
+    from click.testing import CliRunner
+
+    from vpaudit.cli import main
+    from vpaudit.report.html import MAX_SUBSTANCES
+
+    table = load_table(sample_db)
+    result = audit_table(table, table_path=str(sample_db))
+    full = render_report(result, table, plots=False)
+    page = render_report(result, table, plots=False, max_substances=3)
+    triage = page[page.index("id='triage'") : page.index("</table>", page.index("id='triage'"))]
+    names = re.findall(r"<a href='#s-([^']+)'>", triage)
+    full_triage = full[
+        full.index("id='triage'") : full.index("</table>", full.index("id='triage'"))
+    ]
+    assert names == re.findall(r"<a href='#s-([^']+)'>", full_triage)[:3]  # the worst three
+    rows = page[page.index("id='findings'") : page.index("</table>", page.index("id='findings'"))]
+    listed = [i for i, f in enumerate(result.findings) if f.substance in names]
+    assert rows.count("<tr data-severity=") == len(listed) < len(result.findings)
+    assert re.findall(r"<h3 id='s-([^']+)'>", page) == sorted(
+        names, key=lambda n: (-max(f.severity.rank for f in result.findings if f.substance == n), n)
+    )
+    flagged = len({f.substance for f in result.findings})
+    assert (
+        f"This page lists the 3 worst of the {flagged} substances with findings and their "
+        f"{len(listed)} findings; the other {len(result.findings) - len(listed)} findings"
+    ) in page
+    assert f"vpaudit audit {sample_db} --format csv -o findings.csv" in page
+    # uncapped (the default cap is above the demo's count) the page is the whole audit
+    assert "This page lists" not in full and "<h2>All findings</h2>" in full
+    assert full.count("<tr data-severity=") == len(result.findings)
+    # the command's default is the library's, and it says what it left out
+    option = next(p for p in main.commands["report"].params if p.name == "max_substances")
+    assert option.default == MAX_SUBSTANCES
+    out = CliRunner().invoke(
+        main, ["report", str(sample_db), "-o", "-", "--no-plots", "--max-substances", "3"]
+    )
+    assert out.exit_code == 0 and "This page lists the 3 worst" in out.output

@@ -160,22 +160,57 @@ def checks_cmd(fmt):
 )
 @click.option("--policy", help="A preset (evaluated, compilation) or a policy TOML file.")
 @click.option("--no-plots", is_flag=True, help="Leave out the pictures (faster).")
-def report_cmd(table, output, policy, no_plots):
+@click.option(
+    "--max-substances",
+    type=click.IntRange(min=1),
+    default=1000,
+    show_default=True,
+    help="List at most this many flagged substances, worst first, with their findings (the "
+    "JSON and CSV reports list every finding).",
+)
+@QUIET
+def report_cmd(table, output, policy, no_plots, max_substances, quiet):
     """Write one self-contained HTML report of the audit of TABLE."""
     from ..api import open_table
     from ..auditing import audit_table
+    from ..checks import REGISTRY
     from ..policy import load_policy
-    from ..report.html import render_report
+    from ..report.html import page_plan, render_report
 
-    t = open_table(table)
-    result = audit_table(t, load_policy(t.policy_path, policy), table_path=str(table))
-    emit(render_report(result, t, plots=not no_plots), output)
+    with progress(quiet, "reading the table") as bar:
+        t = open_table(table)
+        if bar is not None:
+            bar.update(1)
+    with progress(quiet, "auditing", len(REGISTRY)) as bar:
+        result = audit_table(
+            t,
+            load_policy(t.policy_path, policy),
+            table_path=str(table),
+            progress=None if bar is None else lambda done, total, name: bar.update(1),
+        )
+    # a picture takes about a second: a bar for them, one per substance section
+    _, order, _, sections = page_plan(result.findings, max_substances)
+    pictures = 0 if no_plots else len(sections)
+    with progress(quiet or not pictures, "drawing pictures", max(pictures, 1)) as bar:
+        page = render_report(
+            result,
+            t,
+            plots=not no_plots,
+            max_substances=max_substances,
+            progress=None if bar is None else lambda done, total: bar.update(1),
+        )
+    emit(page, output)
     if output != "-":  # the page itself went to standard output
         import importlib.util
 
         bare = ""
         if not no_plots and importlib.util.find_spec("matplotlib") is None:
             bare = " (without pictures: they need matplotlib, pip install 'vpaudit[plot]')"
+        if len(order) > max_substances:
+            bare += (
+                f"; it lists the {max_substances} worst of {len(order)} substances with findings "
+                "(--max-substances), the JSON and CSV reports every finding"
+            )
         say(f"wrote {output}: {len(result.findings)} finding(s){bare}")
 
 

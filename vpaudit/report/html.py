@@ -11,6 +11,8 @@ import html
 import io
 from pathlib import Path
 
+import numpy as np
+
 from ..auditing import CAUTION
 from ..checks._text import confidence
 from ._escape import visible
@@ -144,13 +146,28 @@ def _provenance(result) -> list[tuple[str, str]]:
     ]
 
 
-def render_report(result, table=None, plots: bool = True, max_sections: int = 100) -> str:
+#: The most flagged substances a page lists (worst first), with their findings, by default
+#: (``vpaudit report --max-substances``): a page a browser opens and a reviewer reads (the
+#: default audit diagnoses as many); the JSON and CSV reports list every finding.
+MAX_SUBSTANCES = 1000
+#: The most substance sections (records, findings, picture) a page has, worst first.
+MAX_SECTIONS = 100
+
+
+def render_report(
+    result,
+    table=None,
+    plots: bool = True,
+    max_sections: int = MAX_SECTIONS,
+    max_substances: int = MAX_SUBSTANCES,
+    progress=None,
+) -> str:
     """Render an audit (or gate) result as one self-contained HTML page made for triage.
 
     The page opens with the run's provenance, the counts, the caution and what could not be
     tested; then one row per flagged substance (worst severity, counts, the suggested fix
-    once), the complete findings table (sortable, filterable), and a section per substance
-    with its records, coefficients, findings and picture.
+    once), the findings table (sortable, filterable), and a section per substance with its
+    records, coefficients, findings and picture.
 
     Parameters
     ----------
@@ -160,7 +177,13 @@ def render_report(result, table=None, plots: bool = True, max_sections: int = 10
     plots : bool
         Draw the pictures (needs matplotlib).
     max_sections : int
-        At most this many substance sections (worst first); the findings table is complete.
+        At most this many substance sections (worst first).
+    max_substances : int
+        At most this many flagged substances (worst first) in the triage and findings
+        tables, with all their findings and the table-wide ones; the page says how many
+        it leaves to the JSON or CSV report.
+    progress : callable, optional
+        ``progress(done, total)`` after each picture (a picture takes about a second).
     """
     from ._coverage import coverage_sentence
     from ._shared import shared_slip_sentences
@@ -201,9 +224,13 @@ def render_report(result, table=None, plots: bool = True, max_sections: int = 10
             "</body></html>",
         ]
         return "\n".join(out) + "\n"
-    out += _triage(result, status_of)
+    groups, order, shown, sections = page_plan(result.findings, max_substances, max_sections)
+    rows = sorted(i for name in shown for i in groups[name])
+    if len(shown) < len(order):
+        out.append(_left_out(result, len(order), len(shown), len(rows)))
+    out += _triage(result, groups, shown)
     out += [
-        "<h2>All findings</h2>",
+        "<h2>All findings</h2>" if len(rows) == len(result.findings) else "<h2>Findings</h2>",
         "<div class='controls'><label>Filter: <input type='search' id='filter' "
         "placeholder='substance, check, record, text'></label> "
         + " ".join(
@@ -216,7 +243,7 @@ def render_report(result, table=None, plots: bool = True, max_sections: int = 10
         + ("<th>status</th>" if status_of else "")
         + "</tr></thead><tbody>",
     ]
-    for f in result.findings:
+    for f in result.findings.take(rows):
         sev = f.severity.value
         where = f"{f.file}:{f.line}" if f.file and f.line else (f.file or "")
         out.append(
@@ -229,32 +256,70 @@ def render_report(result, table=None, plots: bool = True, max_sections: int = 10
         )
     out.append("</tbody></table>")
     if table is not None:
-        out += _sections(result, table, plots, max_sections)
+        out += _sections(result, table, plots, sections, groups, progress)
     out.append(f"<script>{_JS}</script></body></html>")
     return "\n".join(out) + "\n"
 
 
-def _triage(result, status_of) -> list[str]:
-    """One row per flagged substance, worst first: its worst severity, its counts, the checks
-    that fired and the suggested fix, once.
+def page_plan(findings, max_substances: int = MAX_SUBSTANCES, max_sections: int = MAX_SECTIONS):
+    """What a page shows of ``findings``: (the rows of each substance's findings, the
+    substances worst first, those the page lists, those given a section).
+
+    The triage and findings tables list the ``max_substances`` worst (worst severity, then
+    most findings, then by name); the sections, with their pictures, are the
+    ``max_sections`` first of those by worst severity, then by name.
     """
-    groups: dict[str, list] = {}
-    for f in result.findings:
-        groups.setdefault(f.substance, []).append(f)
+    groups = _by_substance(findings)
+    order = _worst_first(findings, groups)
+    shown = order[:max_substances]
+    rank = {n: max(findings.severity[i].rank for i in groups[n]) for n in shown}
+    sections = sorted((n for n in shown if n), key=lambda n: (-rank[n], n))[:max_sections]
+    return groups, order, shown, sections
+
+
+def _by_substance(findings) -> dict[str, list[int]]:
+    """The rows of the findings of each substance ("" for the table-wide ones), in order."""
+    groups: dict[str, list[int]] = {}
+    for i, name in enumerate(findings.substance):
+        groups.setdefault(name, []).append(i)
+    return groups
+
+
+def _worst_first(findings, groups: dict[str, list[int]]) -> list[str]:
+    """The substances with findings, worst first: worst severity, then most findings, then
+    by name.
+    """
+    sev = findings.severity
+    worst = {name: max(sev[i].rank for i in rows) for name, rows in groups.items()}
+    return sorted(groups, key=lambda n: (-worst[n], -len(groups[n]), n))
+
+
+def _left_out(result, n_flagged: int, n_shown: int, n_rows: int) -> str:
+    """The sentence that says what a capped page leaves to the JSON or CSV report."""
+    path = result.table_path or "TABLE"
+    command = f"vpaudit {'gate' if result.gated else 'audit'} {path} --format csv -o findings.csv"
+    return (
+        f"<p class='coverage'>This page lists the {n_shown:,} worst of the {n_flagged:,} "
+        f"substances with findings and their {n_rows:,} findings; the other "
+        f"{len(result.findings) - n_rows:,} findings (counted above) are in the JSON or CSV "
+        f"report: <code>{_e(command)}</code>.</p>"
+    )
+
+
+def _triage(result, groups: dict[str, list[int]], shown: list[str]) -> list[str]:
+    """One row per flagged substance of ``shown`` (worst first): its worst severity, its
+    counts, the checks that fired and the suggested fix, once.
+    """
     # substances given no fix although several readings each clear their errors
     open_ = {u["substance"]: len(u["fixes"]) for u in result.summary.get("undecided", ())}
-    order = sorted(
-        groups,
-        key=lambda n: (-max(f.severity.rank for f in groups[n]), -len(groups[n]), n),
-    )
     out = [
         "<h2>Substances to look at, worst first</h2>",
         "<table id='triage'><thead><tr><th>worst</th><th>substance</th><th>errors</th>"
         "<th>warnings</th><th>notes</th><th>checks</th><th>suggested fix</th></tr></thead>"
         "<tbody>",
     ]
-    for name in order:
-        fs = groups[name]
+    for name in shown:
+        fs = list(result.findings.take(groups[name]))
         worst = max(fs, key=lambda f: f.severity.rank).severity.value
         counts = [sum(f.severity.value == k for f in fs) for k in ("error", "warning", "note")]
         checks = sorted({f.check for f in fs})
@@ -295,21 +360,26 @@ def _fix(suggestion) -> str:
     )
 
 
-def _sections(result, table, plots: bool, max_sections: int) -> list[str]:
-    worst: dict[str, int] = {}
-    for f in result.findings:
-        if f.substance:
-            worst[f.substance] = max(worst.get(f.substance, 0), f.severity.rank)
-    names = sorted(worst, key=lambda n: (-worst[n], n))[:max_sections]
+def _sections(
+    result, table, plots: bool, names: list[str], groups: dict[str, list[int]], progress=None
+) -> list[str]:
+    """A section for each substance of ``names``: its records, findings and picture."""
     if not names:
         return []
+    from ..auditing import restrict
+
     out = ["<h2>Each flagged substance</h2>"]
     undecided = Undecided(result.summary)
+    pictured = restrict(table, set(names)) if plots else table  # one pass, not one per picture
     rec = table.records
+    substance = rec["substance"].astype(str)
+    rows_of: dict[str, list[int]] = {}  # each substance's rows, in table order
+    for row in np.flatnonzero(substance.isin(names).to_numpy()).tolist():
+        rows_of.setdefault(substance.iat[row], []).append(row)
     coef = ["A", "B", "C", "D", "E", "t_crit", "p_crit"]
-    for name in names:
+    for done, name in enumerate(names, 1):
         out.append(f"<h3 id='s-{_e(name)}'>{_e(name)}</h3>")
-        rows = rec[rec["substance"].astype(str) == name]
+        rows = rec.iloc[rows_of.get(name, [])]
         used = [c for c in coef if rows[c + "_text"].notna().any()]
         notes = rows["note"].notna().any()
         out.append(
@@ -334,27 +404,27 @@ def _sections(result, table, plots: bool, max_sections: int) -> list[str]:
             )
         out.append("</tbody></table><ul>")
         explained = Explained()  # each fix explained once, at the first finding with it
-        for f in result.findings:
-            if f.substance == name:
+        for f in result.findings.take(groups[name]):
+            out.append(
+                f"<li>{_badge(f.severity.value)} <code>{_e(f.check)}</code>: {_e(f.message)}</li>"
+            )
+            lead = undecided.sentence(f)
+            if lead:
+                out.append(f"<li class='fix'>{_e(lead)}</li>")
+            if f.suggestion and explained.first(f.suggestion):
                 out.append(
-                    f"<li>{_badge(f.severity.value)} <code>{_e(f.check)}</code>: "
-                    f"{_e(f.message)}</li>"
+                    f"<li class='fix'>Suggested fix: {_e(f.suggestion['explanation'])} "
+                    f"To apply it: <code>{_e(apply_command(result.table_path, f.spec))}"
+                    "</code></li>"
                 )
-                lead = undecided.sentence(f)
-                if lead:
-                    out.append(f"<li class='fix'>{_e(lead)}</li>")
-                if f.suggestion and explained.first(f.suggestion):
-                    out.append(
-                        f"<li class='fix'>Suggested fix: {_e(f.suggestion['explanation'])} "
-                        f"To apply it: <code>{_e(apply_command(result.table_path, f.spec))}"
-                        "</code></li>"
-                    )
         out.append("</ul>")
         if plots:
             try:
-                out.append(f"<figure>{_svg(table, name)}</figure>")
+                out.append(f"<figure>{_svg(pictured, name)}</figure>")
             except Exception as exc:  # a picture that cannot be drawn never hides the report
                 out.append(f"<p>(no picture: {_e(exc)})</p>")
+            if progress is not None:
+                progress(done, len(names))
     return out
 
 

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from collections.abc import Iterator
+
 from ..auditing import CAUTION
 from ._coverage import coverage_sentence
 from ._escape import markdown_text as _cell
@@ -22,8 +24,44 @@ def _suggestion(f, explained: Explained, undecided: Undecided) -> str:
     return f" **Suggestion:** {_cell(f.suggestion.get('explanation', ''))}"
 
 
+#: The most characters a report holds: GitHub's limit on the body of a pull-request comment
+#: (its API refuses a longer one: "Body is too long (maximum is 65536 characters)").
+COMMENT_LIMIT = 65_536
+#: Characters kept free for the line that says how many findings were left out.
+_SPARE = 400
+
+
+class _Room:
+    """What is left of :data:`COMMENT_LIMIT` as lines are added, and what did not fit."""
+
+    def __init__(self, room: int) -> None:
+        self.room = room
+        self.left_out = 0
+
+    def take(
+        self, head: list[str], rows: Iterator[str], total: int, foot: list[str] = ()
+    ) -> list[str]:
+        """A block: its ``head``, as many of its ``total`` rows as fit, its ``foot``;
+        nothing when not even one row fits.
+        """
+        out, used = [], sum(len(x) + 1 for x in [*head, *foot])
+        for row in rows:
+            if used + len(row) + 1 > self.room:
+                break
+            out.append(row)
+            used += len(row) + 1
+        self.left_out += total - len(out)
+        if not out:
+            return []
+        self.room -= used
+        return [*head, *out, *foot]
+
+
 def render(result) -> str:
-    """Render an :class:`~vpaudit.auditing.AuditResult` as Markdown."""
+    """Render an :class:`~vpaudit.auditing.AuditResult` as Markdown, within the
+    :data:`COMMENT_LIMIT` of a pull-request comment: findings worst first as long as they
+    fit, then a line that says how many were left to the JSON, CSV or SARIF report.
+    """
     s = result.summary
     out = [
         f"## vpaudit: {s['error']} error(s), {s['warning']} warning(s), {s['note']} note(s)",
@@ -44,42 +82,51 @@ def render(result) -> str:
     else:
         serious = [f for f in result.findings if f.severity.value != "note"]
         notes = [f for f in result.findings if f.severity.value == "note"]
+    tail = []
+    for sentence in shared_slip_sentences(s):
+        tail += [_cell(sentence), ""]
+    covered = coverage_sentence(s)
+    if covered:
+        tail += [covered, ""]
+    tail.append(f"> {CAUTION}")
+    room = _Room(COMMENT_LIMIT - _SPARE - sum(len(x) + 1 for x in out + tail))
     if serious:
-        out += ["| severity | check | substance | records | finding |", "|---|---|---|---|---|"]
         explained, undecided = Explained(), Undecided(s)
-        for f in serious:
-            out.append(
-                f"| {f.severity.label} | `{f.check}` | {_cell(f.substance)} | "
-                f"{_cell(', '.join(f.records))} | {_cell(f.message)}"
-                f"{_suggestion(f, explained, undecided)} |"
-            )
-        out.append("")
+        rows = (
+            f"| {f.severity.label} | `{f.check}` | {_cell(f.substance)} | "
+            f"{_cell(', '.join(f.records))} | {_cell(f.message)}"
+            f"{_suggestion(f, explained, undecided)} |"
+            for f in serious
+        )
+        head = ["| severity | check | substance | records | finding |", "|---|---|---|---|---|"]
+        out += room.take(head, rows, len(serious)) + [""]
     if notes:
         label = "already there or accepted" if status_of else "note(s)"
-        out += [f"<details><summary>{len(notes)} {label}</summary>", ""]
-        for f in notes:
-            tag = f" [{status_of(f)}]" if status_of else ""
-            out.append(
-                f"- `{f.check}`{tag} {_cell(f.substance)} "
-                f"({_cell(', '.join(f.records))}): {_cell(f.message)}"
-            )
-        out += ["", "</details>", ""]
+        rows = (
+            f"- `{f.check}`{f' [{status_of(f)}]' if status_of else ''} {_cell(f.substance)} "
+            f"({_cell(', '.join(f.records))}): {_cell(f.message)}"
+            for f in notes
+        )
+        head = [f"<details><summary>{len(notes)} {label}</summary>", ""]
+        out += room.take(head, rows, len(notes), ["", "</details>", ""])
     if status_of is not None and result.gate.resolved:
         resolved = result.gate.resolved
-        out += [
+        head = [
             f"<details><summary>{len(resolved)} resolved: at {_cell(result.gate.base)}, "
             "cleared by the change</summary>",
             "",
         ]
-        out += [
+        rows = (
             f"- {f.severity.label} `{f.check}` {_cell(f.substance)} ({_cell(', '.join(f.records))})"
             for f in resolved
+        )
+        out += room.take(head, rows, len(resolved), ["", "</details>", ""])
+    if room.left_out:
+        command = f"vpaudit {'gate' if status_of else 'audit'} {result.table_path or 'TABLE'}"
+        out += [
+            f"*{room.left_out} more finding(s) not shown: a pull-request comment holds at most "
+            f"{COMMENT_LIMIT:,} characters. The JSON, CSV and SARIF reports list every one "
+            f"({_cell(command)} --format csv).*",
+            "",
         ]
-        out += ["", "</details>", ""]
-    for sentence in shared_slip_sentences(s):
-        out += [_cell(sentence), ""]
-    covered = coverage_sentence(s)
-    if covered:
-        out += [covered, ""]
-    out.append(f"> {CAUTION}")
-    return "\n".join(out) + "\n"
+    return "\n".join(out + tail) + "\n"

@@ -300,6 +300,29 @@ def test_sarif_is_valid_2_1_0_and_points_at_the_record_lines(repo, monkeypatch):
         assert x["ruleId"] in rule_ids
 
 
+def test_a_capped_gate_log_keeps_the_new_findings_first(repo, monkeypatch):
+    # a run holds at most sarif.RESULT_LIMIT results (GitHub code scanning rejects more):
+    # what a gate's log keeps are the findings the change brought, then the worst others
+    from sarif_schema import validate
+
+    from vpaudit.report import sarif
+
+    metals = repo / "table" / "records" / "metals.csv"
+    # bellorium's old errors come along: its solid's note changes (re-audited, nothing new)
+    _edit_record(metals, "bellorium-s1", ",,0.03,", ",rechecked,0.03,")
+    _head_change(repo)
+    result = gate(repo / "table", "base")
+    status = [result.status_of(f) for f in result.findings]
+    n_new = status.count("new")
+    assert 0 < n_new and status.count("existing") > 0
+    monkeypatch.chdir(repo)
+    monkeypatch.setattr(sarif, "RESULT_LIMIT", n_new)
+    log = json.loads(run("gate", "table", "--base", "base", "--format", "sarif").output)
+    validate(log)
+    states = [x["baselineState"] for x in log["runs"][0]["results"]]
+    assert states == ["new"] * n_new  # the new ones, though old errors came along
+
+
 def test_changed_substances_are_found_from_the_diff(repo):
     metals = repo / "table" / "records" / "metals.csv"
     lines = metals.read_text().splitlines(keepends=True)

@@ -91,3 +91,33 @@ def test_the_gate_sarif_validates(table, monkeypatch):
     out = CliRunner().invoke(main, ["gate", "t", "--base", "HEAD", "--format", "sarif"])
     assert out.exit_code == 1, out.output
     validate(json.loads(out.output))
+
+
+def test_a_log_keeps_to_the_results_a_run_may_hold(table, monkeypatch):
+    """GitHub code scanning rejects a run of more than 25,000 results (docs.github.com,
+    "SARIF results exceed one or more limits"); a table whose every substance is flagged
+    gave hundreds of thousands. The log keeps the most serious and says how many it left
+    out; shown on the demo (invented data) with the limit lowered to 10."""
+    from vpaudit.report import sarif
+
+    assert sarif.RESULT_LIMIT == 25_000
+    monkeypatch.chdir(table.parent)
+    args = ["audit", "t", "--format", "sarif", "--fail-on", "never"]
+    full = json.loads(CliRunner().invoke(main, args).output)["runs"][0]
+    assert "invocations" not in full and "properties" not in full  # the demo fits whole
+    monkeypatch.setattr(sarif, "RESULT_LIMIT", 10)
+    log = json.loads(CliRunner().invoke(main, args).output)
+    validate(log)
+    run = log["runs"][0]
+    assert len(run["results"]) == 10
+    findings = [r for r in full["results"] if r["ruleId"] != "shared-slip"]
+    kept = [r for r in run["results"] if r["ruleId"] != "shared-slip"]
+    assert all(r["level"] == "error" for r in kept)  # 25 errors in the demo: errors only
+    left = len(findings) - len(kept)
+    assert run["properties"] == {"results_left_out": left}
+    (note,) = run["invocations"][0]["toolExecutionNotifications"]
+    assert note["message"]["text"].startswith(f"{left} of {len(findings)} findings are left out")
+    # the kept results are the full log's, in its order
+    keys = [r["partialFingerprints"]["vpaudit/v1"] for r in findings]
+    kept_keys = [r["partialFingerprints"]["vpaudit/v1"] for r in kept]
+    assert kept_keys == [k for k in keys if k in set(kept_keys)]

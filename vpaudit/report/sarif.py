@@ -4,6 +4,10 @@ located at the record's file and line, and one per slip that many records of a s
 fix is singled out yet several readings each clear a substance's errors, the first error of
 the record they correct says so in its message and carries them as ``properties.undecided``
 (a lead, not a fix: no ``fixes`` entry).
+
+A log holds at most :data:`RESULT_LIMIT` results, the most serious first (in a gate's log the
+new findings first); how many it leaves out is said in a tool execution notification of the
+run's invocation and in ``runs[0].properties.results_left_out``.
 """
 
 from __future__ import annotations
@@ -17,6 +21,10 @@ from ..checks._registry import ordered
 from ._fixes import Undecided, undecided_sentence
 
 SCHEMA = "https://json.schemastore.org/sarif-2.1.0.json"
+#: The most results a run may hold: GitHub code scanning rejects an upload with more than
+#: 25,000 results per run (and shows the 5,000 most severe); docs.github.com, "SARIF results
+#: exceed one or more limits".
+RESULT_LIMIT = 25_000
 _EXTRA_RULES = {
     "internal-error": "A check failed to run; the others still ran.",
     "acceptance-expired": "An accepted finding's acceptance has expired.",
@@ -89,7 +97,9 @@ def render(result) -> str:
     fixed_at: dict[str, dict] = {}  # a corrected record -> its location, for the shared slips
     new_records: set[str] = set()
     open_ = Undecided(result.summary)
-    for f in result.findings:
+    shared = len(result.summary.get("shared_slips") or [])  # a result each, made below
+    kept = _most_serious(result, RESULT_LIMIT - shared)
+    for f in result.findings.take(kept) if kept is not None else result.findings:
         lead = open_.entry(f)
         text = (
             f.message if lead is None else f"{f.message}\n\nDiagnosis: {undecided_sentence(lead)}"
@@ -139,17 +149,49 @@ def render(result) -> str:
                 r["fixes"] = [fix]
         results.append(r)
     results += _shared_slips(result, index, fixed_at, new_records if status_of else None)
-    log = {
-        "$schema": SCHEMA,
-        "version": "2.1.0",
-        "runs": [
-            {
-                "tool": {"driver": {"name": "vpaudit", "version": __version__, "rules": rules}},
-                "results": results,
-            }
-        ],
+    run: dict = {
+        "tool": {"driver": {"name": "vpaudit", "version": __version__, "rules": rules}},
+        "results": results,
     }
+    if kept is not None:
+        left = len(result.findings) - len(kept)
+        run["invocations"] = [
+            {
+                "executionSuccessful": True,
+                "toolExecutionNotifications": [
+                    {
+                        "level": "warning",
+                        "message": {
+                            "text": f"{left} of {len(result.findings)} findings are left out: "
+                            f"a run holds at most {RESULT_LIMIT} results (GitHub code scanning "
+                            "rejects more), the most serious"
+                            + (", new ones first" if status_of else "")
+                            + ". The JSON and CSV reports list every finding."
+                        },
+                    }
+                ],
+            }
+        ]
+        run["properties"] = {"results_left_out": left}
+    log = {"$schema": SCHEMA, "version": "2.1.0", "runs": [run]}
     return json.dumps(log, indent=1, default=float) + "\n"
+
+
+def _most_serious(result, room: int) -> list[int] | None:
+    """The rows of the ``room`` findings a log keeps, in table order, when there are more:
+    in a gate's log the new findings first, then by severity, then in table order; None
+    when all fit.
+    """
+    findings = result.findings
+    if len(findings) <= room:
+        return None
+    new = [result.status_of(f) == "new" for f in findings] if result.gated else None
+    severity = findings.severity
+    order = sorted(
+        range(len(findings)),
+        key=lambda i: (not new[i] if new else False, -severity[i].rank, i),
+    )
+    return sorted(order[: max(room, 0)])
 
 
 def _shared_slips(

@@ -10,6 +10,7 @@ import pytest
 from click.testing import CliRunner
 from hypothesis import given, settings
 from hypothesis import strategies as st
+from report_schema import validate_report
 
 from vpaudit.cli import main
 from vpaudit.gate import gate, load_accepted
@@ -103,6 +104,7 @@ def test_accepting_the_new_findings_passes_the_gate(repo):
     r = run("gate", repo / "table", "--base", "base", "--format", "json")
     assert r.exit_code == 0, r.output
     data = json.loads(r.output)
+    validate_report(data)  # schemas/report.schema.json
     assert {f["status"] for f in data["findings"]} <= {"existing", "accepted"}
     assert any(f["status"] == "accepted" for f in data["findings"])
 
@@ -261,6 +263,7 @@ def test_a_change_that_mends_a_record_lists_what_it_cleared(repo, tmp_path):
     assert "enthalpy-implausible:bellorium-l1" in r.output
     r = run("gate", repo / "table", "--base", "base", "--format", "json")
     out = json.loads(r.output)
+    validate_report(out)
     assert out["summary"]["resolved"] == len(cleared) == len(out["resolved"])
     assert {(d["check"], d["substance"], tuple(sorted(d["records"]))) for d in out["resolved"]} == (
         cleared

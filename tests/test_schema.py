@@ -163,3 +163,28 @@ def test_policy_thresholds_that_would_switch_a_check_off_silently_are_refused(tm
     path.write_text(f"[checks.melting-point-mismatch]\ntolerance = {text}\n")
     with pytest.raises(PolicyError, match="tolerance must be a finite number, 0 or more"):
         load_policy(path)
+
+
+def test_the_audits_json_meets_its_schema_and_the_schema_is_closed(sample_db):
+    """schemas/report.schema.json, checked by jsonschema (Draft 2020-12) on the demo's
+    audit (invented data); a field the contract does not name fails it, so a report that
+    grows a field must grow the contract too."""
+    import json
+
+    from report_schema import validate_report
+
+    from vpaudit.auditing import audit_table
+    from vpaudit.readers import load_table
+    from vpaudit.report import RENDERERS
+
+    report = json.loads(RENDERERS["json"](audit_table(load_table(sample_db))))
+    validate_report(report)
+    assert any(f["suggestion"] for f in report["findings"])
+    for broken in (
+        {**report, "extra": 1},
+        {**report, "findings": [{**report["findings"][0], "colour": "red"}]},
+        {**report, "findings": [{**report["findings"][0], "severity": "fatal"}]},
+        {**report, "summary": {k: v for k, v in report["summary"].items() if k != "error"}},
+    ):
+        with pytest.raises(AssertionError):
+            validate_report(broken)

@@ -1,4 +1,5 @@
-"""Pydantic models of the table format: coefficient records, references, points, policy.
+"""Pydantic models of the table format: coefficient records, references, points, policy
+(and, from :mod:`vpaudit.report.contract`, the JSON report's schema beside theirs).
 
 The models are the contract: ``schemas/`` holds the JSON Schema generated from them (a test
 keeps it in sync), and they produce the detailed message for any row that fails. The bulk
@@ -225,9 +226,11 @@ def json_schemas() -> dict[str, str]:
     """The JSON Schema text of each model, as kept in ``schemas/<name>.schema.json``."""
     import json
 
+    from .report.contract import Report  # the output's contract beside the input's
+
     return {
         name: json.dumps(model.model_json_schema(), indent=2, sort_keys=True) + "\n"
-        for name, model in MODELS.items()
+        for name, model in {**MODELS, "report": Report}.items()
     }
 
 

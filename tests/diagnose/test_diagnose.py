@@ -22,11 +22,13 @@ from anchors import anchor_rows
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from refdata import CRC, alcock_pairs, table_from_rows
+from report_schema import validate_report
 from sarif_schema import validate
 from slips import Case, cases_table, corrupt, labelled_cases, poling_record, reproduces
 
 from vpaudit.auditing import audit, audit_table
 from vpaudit.diagnose import SLIP_KINDS
+from vpaudit.report import RENDERERS
 
 _ALCOCK = None
 
@@ -325,6 +327,7 @@ def test_two_slips_in_two_records_are_found_and_weighed_together(tmp_path):
         {"B": -14736.5418},
     )
     assert second["beside"] == "bellorium-l1" and "beside" not in first
+    validate_report(json.loads(RENDERERS["json"](result)))  # and so does a second fix
     assert first["confidence"] == second["confidence"] >= 0.8
     for sug, other in ((first, "bellorium-s1"), (second, "bellorium-l1")):
         assert f"and beside it, in {other}," in sug["explanation"]
@@ -971,6 +974,7 @@ def test_a_fix_that_leaves_a_liquid_below_1_pa_is_not_preferred():
     assert sug["corrected"] == {"pressure_unit": "MPa"}
     assert sug["runner_up"]["corrected"] == {"pressure_unit": "bar"}
     assert sug["confidence"] < 0.8
+    validate_report(json.loads(RENDERERS["json"](result)))  # a runner-up meets the schema
 
 
 def test_a_liquid_metal_below_1_pa_keeps_a_confident_fix():
@@ -1174,6 +1178,7 @@ def test_readings_that_each_clear_the_errors_are_named_when_none_is_singled_out(
     flagged = [f for f in result.findings if f.severity.rank >= 1]
     assert flagged and all(f.suggestion is None for f in flagged)
     (lead,) = result.summary["undecided"]
+    validate_report(json.loads(RENDERERS["json"](result)))  # schemas/report.schema.json
     assert lead["substance"] == "propane" and lead["record"] == "propane-l"
     assert len(lead["fixes"]) >= 2 and lead["share"] >= 0.5
     assert any(reproduces(rec, bad, fix, tol=1e-6) for fix in lead["fixes"])

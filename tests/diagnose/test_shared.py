@@ -17,6 +17,7 @@ import random
 import pytest
 from compilations import POLING_ANT, poling_antoine
 from refdata import table_from_rows
+from report_schema import validate_report
 from sarif_schema import validate
 from slips import corrupt
 
@@ -50,6 +51,7 @@ def test_a_header_misread_for_the_whole_source_is_named(poling):
     records, refs = poling
     result = _audit([dict(r, log_base="e") for r in records], refs)
     (g,) = result.summary["shared_slips"]
+    validate_report(json.loads(RENDERERS["json"](result)))  # schemas/report.schema.json
     assert g["change"] == {"log_base": ["e", "10"]}
     assert (g["source"], g["phase"], g["file"]) == (POLING_ANT, "liquid", "<records>")
     assert g["same_metadata"] == g["flagged"] == N

@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import textwrap
-from collections import defaultdict
+from collections import Counter, defaultdict
 
 from ..auditing import CAUTION
 from ._coverage import coverage_sentence
@@ -12,12 +12,10 @@ from ._fixes import Explained, Undecided, apply_command, same_fix
 from ._shared import shared_slip_sentences
 
 
-def _counts(findings) -> str:
-    parts = []
-    for sev in ("error", "warning", "note"):
-        n = sum(f.severity.value == sev for f in findings)
-        if n:
-            parts.append(f"{n} {sev}{'s' if n != 1 else ''}")
+def _counts(severities) -> str:
+    """``3 errors, 1 warning``: how many of each of ``severities`` (one per finding)."""
+    n = Counter(sev.value for sev in severities)
+    parts = [f"{n[k]} {k}{'s' if n[k] != 1 else ''}" for k in ("error", "warning", "note") if n[k]]
     return ", ".join(parts) or "nothing found"
 
 
@@ -48,48 +46,59 @@ def render(result, width: int = 100) -> str:
     status_of = result.status_of if result.gated else None
     undecided = Undecided(s)  # said once per substance, in the first block that has it
 
-    def block(findings) -> None:
+    findings = result.findings
+    severity, substance = findings.severity, findings.substance
+
+    def block(rows) -> None:
+        """The findings of ``rows`` (table rows), by substance, worst first: read from the
+        table's columns, a row view made only where a diagnosis lead may go.
+        """
         groups = defaultdict(list)
-        for f in findings:
-            groups[f.substance].append(f)
+        for i in rows:
+            groups[substance[i]].append(i)
 
         def rank(name):
-            fs = groups[name]
-            return (-max(f.severity.rank for f in fs), -len(fs), name)
+            rs = groups[name]
+            return (-max(severity[i].rank for i in rs), -len(rs), name)
 
         for name in sorted(groups, key=rank):
-            fs = groups[name]
-            lines.append(f"{name or '(table)'} -- {_counts(fs)}")
+            rs = groups[name]
+            lines.append(f"{name or '(table)'} -- {_counts(severity[i] for i in rs)}")
             explained = Explained()  # each substance's fix is explained once
-            for f in fs:
-                where = f" ({f.file}{f':{f.line}' if f.line else ''})" if f.file else ""
-                ident = f.spec if status_of else (f"{f.check}: {', '.join(f.records)}")
-                lines.append(f"  {f.severity.label:<8}{ident}{where}")
-                lines.extend(wrap.wrap(f.message))
-                lead = undecided.sentence(f)
+            for i in rs:
+                check, records, file, line = (
+                    findings.check[i],
+                    findings.records[i],
+                    findings.file[i],
+                    findings.line[i],
+                )
+                spec = f"{check}:{','.join(records)}"
+                where = f" ({file}{f':{line}' if line else ''})" if file else ""
+                ident = spec if status_of else f"{check}: {', '.join(records)}"
+                lines.append(f"  {severity[i].label:<8}{ident}{where}")
+                lines.extend(wrap.wrap(findings.message[i]))
+                lead = undecided.sentence(findings[i]) if undecided.pending(name) else None
                 if lead:
                     lines.extend(wrap.wrap(f"diagnosis: {lead}"))
-                if f.suggestion:
-                    sug = f.suggestion
+                sug = findings.suggestion[i]
+                if sug:
                     if not explained.first(sug):
                         lines.append(f"      suggestion: {same_fix(sug)}")
                         continue
                     lines.extend(wrap.wrap(f"suggestion: {sug.get('explanation', '')}"))
                     if not status_of:
-                        lines.append(
-                            f"      to apply it: {apply_command(result.table_path, f.spec)}"
-                        )
+                        lines.append(f"      to apply it: {apply_command(result.table_path, spec)}")
             lines.append("")
 
     if status_of is None:
-        block(result.findings)
+        block(range(len(findings)))
     else:
         for status, title in (
             ("new", "New since {base}"),
             ("existing", "Already there at {base}"),
             ("accepted", "Accepted (accepted.toml)"),
         ):
-            part = [f for f in result.findings if status_of(f) == status]
+            part = [i for i, st in enumerate(findings.status) if (st or "new") == status]
             lines.append(f"== {title.format(base=result.gate.base)}: {len(part)} finding(s)")
             lines.append("")
             block(part)
@@ -103,7 +112,7 @@ def render(result, width: int = 100) -> str:
         for f in resolved:
             by_substance[f.substance].append(f)
         for name, fs in by_substance.items():
-            lines.append(f"{name or '(table)'} -- {_counts(fs)}")
+            lines.append(f"{name or '(table)'} -- {_counts(f.severity for f in fs)}")
             lines.extend(f"  {f.severity.label:<8}{f.spec}" for f in fs)
             lines.append("")
         lines.append(
@@ -115,9 +124,9 @@ def render(result, width: int = 100) -> str:
             f"{s['not_diagnosed']} further substance(s) with errors or warnings were not "
             "diagnosed (the diagnosis stops at --diagnose-limit substances, worst first)."
         )
-    flagged = len({f.substance for f in result.findings if f.substance})
-    whole = sum(not f.substance for f in result.findings)  # about the table, not a substance
-    summary = f"Summary: {_counts(result.findings)}"
+    flagged = len({name for name in substance if name})
+    whole = sum(not name for name in substance)  # about the table, not a substance
+    summary = f"Summary: {_counts(severity)}"
     if flagged:
         audited = "substance(s) re-audited" if status_of else "substance(s)"
         summary += f" in {flagged} of {s['substances']} {audited}"

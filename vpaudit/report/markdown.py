@@ -71,17 +71,20 @@ def render(result) -> str:
         "",
     ]
     status_of = result.status_of if result.gated else None
+    findings = result.findings
+    severity = findings.severity
+    # rows of the table, read from its columns; a row view is made only for a row shown
     if status_of is not None:
-        new = [f for f in result.findings if status_of(f) == "new"]
-        rest = [f for f in result.findings if status_of(f) != "new"]
+        new = [(st or "new") == "new" for st in findings.status]
+        serious = [i for i, is_new in enumerate(new) if is_new]
+        notes = [i for i, is_new in enumerate(new) if not is_new]
         out[0] = (
-            f"## vpaudit gate: {len(new)} new finding(s) since {_cell(result.gate.base)} "
-            f"({sum(f.severity.value == 'error' for f in new)} error(s))"
+            f"## vpaudit gate: {len(serious)} new finding(s) since {_cell(result.gate.base)} "
+            f"({sum(severity[i].value == 'error' for i in serious)} error(s))"
         )
-        serious, notes = new, rest
     else:
-        serious = [f for f in result.findings if f.severity.value != "note"]
-        notes = [f for f in result.findings if f.severity.value == "note"]
+        serious = [i for i, sev in enumerate(severity) if sev.value != "note"]
+        notes = [i for i, sev in enumerate(severity) if sev.value == "note"]
     tail = []
     for sentence in shared_slip_sentences(s):
         tail += [_cell(sentence), ""]
@@ -96,7 +99,7 @@ def render(result) -> str:
             f"| {f.severity.label} | `{f.check}` | {_cell(f.substance)} | "
             f"{_cell(', '.join(f.records))} | {_cell(f.message)}"
             f"{_suggestion(f, explained, undecided)} |"
-            for f in serious
+            for f in map(findings.__getitem__, serious)
         )
         head = ["| severity | check | substance | records | finding |", "|---|---|---|---|---|"]
         out += room.take(head, rows, len(serious)) + [""]
@@ -105,7 +108,7 @@ def render(result) -> str:
         rows = (
             f"- `{f.check}`{f' [{status_of(f)}]' if status_of else ''} {_cell(f.substance)} "
             f"({_cell(', '.join(f.records))}): {_cell(f.message)}"
-            for f in notes
+            for f in map(findings.__getitem__, notes)
         )
         head = [f"<details><summary>{len(notes)} {label}</summary>", ""]
         out += room.take(head, rows, len(notes), ["", "</details>", ""])

@@ -10,7 +10,7 @@ its ``resolved`` list and summary counts, the summary's ``not_diagnosed``,
 
 from __future__ import annotations
 
-from typing import Any, Literal
+from typing import Annotated, Any, Literal
 
 from pydantic import BaseModel, ConfigDict, Field
 
@@ -21,6 +21,7 @@ _CLOSED = ConfigDict(extra="forbid")
 Severity = Literal["error", "warning", "note"]
 #: A corrected field's value: a number, or the text of a unit, log base or phase.
 Value = float | str
+Count = Annotated[int, Field(ge=0)]
 
 
 class Where(BaseModel):
@@ -70,8 +71,10 @@ class Suggestion(BaseModel):
     )
 
 
-class Finding(BaseModel):
-    """One finding of one check on one or more records."""
+class Resolved(BaseModel):
+    """A finding as a gate's ``resolved`` list gives it (one the base had that the change
+    cleared): its check, severity, substance, records and message.
+    """
 
     model_config = _CLOSED
     check: str
@@ -79,6 +82,11 @@ class Finding(BaseModel):
     substance: str
     records: list[str]
     message: str
+
+
+class Finding(Resolved):
+    """One finding of one check on one or more records."""
+
     evidence: dict[str, Any] = Field(description="The numbers behind the verdict.")
     suggestion: Suggestion | None
     location: Location
@@ -87,25 +95,14 @@ class Finding(BaseModel):
     )
 
 
-class Resolved(BaseModel):
-    """A gate's: a finding the base had that the change cleared."""
-
-    model_config = _CLOSED
-    check: str
-    severity: Severity
-    substance: str
-    records: list[str]
-    message: str
-
-
 class Tried(BaseModel):
     """A shared slip's change applied to every record of its source so written."""
 
     model_config = _CLOSED
-    substances: int = Field(ge=0)
-    of: int = Field(ge=0)
-    with_errors: int = Field(ge=0)
-    with_errors_after: int = Field(ge=0)
+    substances: Count
+    of: Count
+    with_errors: Count
+    with_errors_after: Count
 
 
 class OtherChange(BaseModel):
@@ -113,7 +110,7 @@ class OtherChange(BaseModel):
 
     model_config = _CLOSED
     change: dict[str, list[Value]]
-    substances: int = Field(ge=0)
+    substances: Count
     tried: Tried | None
 
 
@@ -126,11 +123,11 @@ class SharedSlip(BaseModel):
     phase: str
     change: dict[str, list[Value]] = Field(description="{field: [as written, corrected]}")
     range_rewritten: bool
-    substances: int = Field(ge=0)
-    confident: int = Field(ge=0)
+    substances: Count
+    confident: Count
     records: list[str]
-    same_metadata: int = Field(ge=0)
-    flagged: int = Field(ge=0)
+    same_metadata: Count
+    flagged: Count
     tried: Tried | None
     whole_source: bool
     or_: list[OtherChange] = Field(alias="or")
@@ -162,12 +159,12 @@ class Summary(BaseModel):
     """The counts, and what could not be tested."""
 
     model_config = _CLOSED
-    records: int = Field(ge=0)
-    substances: int = Field(ge=0)
-    pairs: int = Field(ge=0)
-    error: int = Field(ge=0)
-    warning: int = Field(ge=0)
-    note: int = Field(ge=0)
+    records: Count
+    substances: Count
+    pairs: Count
+    error: Count
+    warning: Count
+    note: Count
     not_checked: dict[str, int]
     not_diagnosed: int | None = Field(None, ge=0)
     shared_slips: list[SharedSlip] | None = None

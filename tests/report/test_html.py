@@ -156,7 +156,7 @@ def test_a_second_fix_beside_the_first_is_in_the_triage_view_and_its_section(tmp
     assert page.count("Suggested fix: Almost certainly the sign of B was lost") == 1
 
 
-def test_a_page_lists_the_worst_substances_and_says_where_the_rest_are(sample_db):
+def test_a_page_lists_the_worst_substances_and_says_where_the_rest_are(sample_db, tmp_path):
     """A table with thousands of flagged substances made a page of hundreds of megabytes
     that no browser opens (a whole compilation typed in under one wrong header); the page
     lists the worst substances, all their findings, and names the report that has the
@@ -198,3 +198,7 @@ def test_a_page_lists_the_worst_substances_and_says_where_the_rest_are(sample_db
         main, ["report", str(sample_db), "-o", "-", "--no-plots", "--max-substances", "3"]
     )
     assert out.exit_code == 0 and "This page lists the 3 worst" in out.output
+    page_file = tmp_path / "page.html"
+    args = ["report", str(sample_db), "-o", str(page_file), "--no-plots", "--max-substances", "3"]
+    said = CliRunner().invoke(main, args).output
+    assert f"the page lists the 3 worst of {flagged} substances with findings" in said

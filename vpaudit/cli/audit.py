@@ -208,8 +208,8 @@ def report_cmd(table, output, policy, no_plots, max_substances, quiet):
             bare = " (without pictures: they need matplotlib, pip install 'vpaudit[plot]')"
         if len(order) > max_substances:
             bare += (
-                f"; it lists the {max_substances} worst of {len(order)} substances with findings "
-                "(--max-substances), the JSON and CSV reports every finding"
+                f"; the page lists the {max_substances} worst of {len(order)} substances with "
+                "findings (--max-substances); the JSON and CSV reports list every finding"
             )
         say(f"wrote {output}: {len(result.findings)} finding(s){bare}")
 

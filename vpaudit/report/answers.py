@@ -130,9 +130,11 @@ def _against_melting_point(answer: dict, stable: str, at_temperature: bool) -> s
     if at_temperature:
         where = f"at {answer['temperature_K']:.6g} K"
     else:
+        from statistics import median  # of the stable phase's records, as eval weighs them
+
         at = [r["temperature_K"] for r in answer["records"] if r["phase"] == stable]
-        at = sorted(v for v in at if v is not None)
-        where = f"at {at[len(at) // 2]:.6g} K, where the {stable} reaches this pressure,"
+        t = median(v for v in at if v is not None)
+        where = f"at {t:.6g} K, where the {stable} reaches this pressure,"
     return (
         f"This contradicts the reference melting point, {tm:.6g} K: {where} the {other} is "
         f"the stable phase. The {stable} and {other} curves disagree with that reference; "

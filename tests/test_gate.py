@@ -326,6 +326,23 @@ def test_a_capped_gate_log_keeps_the_new_findings_first(repo, monkeypatch):
     assert states == ["new"] * n_new  # the new ones, though old errors came along
 
 
+def test_a_capped_gate_comment_names_the_command_that_lists_every_finding(repo, monkeypatch):
+    # a pull-request comment holds at most markdown.COMMENT_LIMIT characters; what it leaves
+    # out, the gate's own CSV lists, and the command it names must run as written (--base)
+    from vpaudit.report import markdown as md
+    from vpaudit.report._escape import markdown_text
+
+    _head_change(repo)
+    full = run("gate", repo / "table", "--base", "base", "--format", "markdown").output
+    monkeypatch.setattr(md, "COMMENT_LIMIT", len(full) - 1)
+    short = run("gate", repo / "table", "--base", "base", "--format", "markdown").output
+    assert len(short) < len(full) and "more finding(s) not shown" in short
+    command = f"vpaudit gate {repo / 'table'} --base base --format csv"
+    assert f"({markdown_text(command)})" in short
+    listed = run(*command.split()[1:])
+    assert listed.exit_code == 1 and listed.output.startswith("severity,check,")
+
+
 def test_changed_substances_are_found_from_the_diff(repo):
     metals = repo / "table" / "records" / "metals.csv"
     lines = metals.read_text().splitlines(keepends=True)

@@ -38,6 +38,16 @@ def same_fix(suggestion: dict) -> str:
     return f"the same fix ({suggestion.get('kind')}, above)"
 
 
+def every_finding_command(result) -> str:
+    """The command whose CSV report lists every finding of ``result`` (an audit's or a
+    gate's), for an output that lists only some: paths quoted for a POSIX shell.
+    """
+    path = shlex.quote(str(result.table_path or "TABLE"))
+    if result.gated:
+        return f"vpaudit gate {path} --base {shlex.quote(result.gate.base)} --format csv"
+    return f"vpaudit audit {path} --format csv"
+
+
 def apply_command(table_path: str | None, spec: str) -> str:
     """The command that applies the fix of finding ``spec`` in the table at ``table_path``
     (``TABLE`` when unknown), quoted for a POSIX shell where a path or an id needs it. A fix

@@ -16,7 +16,7 @@ import numpy as np
 from ..auditing import CAUTION
 from ..checks._text import confidence
 from ._escape import visible
-from ._fixes import Explained, Undecided, apply_command, fix_key
+from ._fixes import Explained, Undecided, apply_command, every_finding_command, fix_key
 
 __all__ = ["render_report"]
 
@@ -296,8 +296,7 @@ def _worst_first(findings, groups: dict[str, list[int]]) -> list[str]:
 
 def _left_out(result, n_flagged: int, n_shown: int, n_rows: int) -> str:
     """The sentence that says what a capped page leaves to the JSON or CSV report."""
-    path = result.table_path or "TABLE"
-    command = f"vpaudit {'gate' if result.gated else 'audit'} {path} --format csv -o findings.csv"
+    command = f"{every_finding_command(result)} -o findings.csv"
     return (
         f"<p class='coverage'>This page lists the {n_shown:,} worst of the {n_flagged:,} "
         f"substances with findings and their {n_rows:,} findings; the other "

@@ -7,7 +7,7 @@ from collections.abc import Iterator
 from ..auditing import CAUTION
 from ._coverage import coverage_sentence
 from ._escape import markdown_text as _cell
-from ._fixes import Explained, Undecided, same_fix
+from ._fixes import Explained, Undecided, every_finding_command, same_fix
 from ._shared import shared_slip_sentences
 
 
@@ -125,11 +125,11 @@ def render(result) -> str:
         )
         out += room.take(head, rows, len(resolved), ["", "</details>", ""])
     if room.left_out:
-        command = f"vpaudit {'gate' if status_of else 'audit'} {result.table_path or 'TABLE'}"
+        command = every_finding_command(result)
         out += [
             f"*{room.left_out} more finding(s) not shown: a pull-request comment holds at most "
             f"{COMMENT_LIMIT:,} characters. The JSON, CSV and SARIF reports list every one "
-            f"({_cell(command)} --format csv).*",
+            f"({_cell(command)}).*",
             "",
         ]
     return "\n".join(out + tail) + "\n"

@@ -193,7 +193,9 @@ def _is_number(text: str) -> bool:
 
 @dataclass
 class Edit:
-    """One applied correction."""
+    """One correction of one record: where, what changes, and the record's text before and
+    after (``data``, the whole file as it becomes, is made only when asked for: to write it).
+    """
 
     file: str
     line: int
@@ -201,37 +203,64 @@ class Edit:
     after: dict[str, str]
     line_before: str
     line_after: str
-    data: bytes  # the whole file as it becomes
+    _file: FileText
+    _span: tuple[int, int]  # the record's lines, [start, end)
+
+    @property
+    def data(self) -> bytes:
+        """The whole file as the edit makes it (bytes, its byte-order mark kept)."""
+        lines, (start, end) = self._file.lines, self._span
+        out = "".join(lines[:start]) + self.line_after + "".join(lines[end:])
+        return (b"\xef\xbb\xbf" if self._file.bom else b"") + out.encode("utf-8")
 
 
-def _edit_file(path: Path, line: int, record_id: str, changes: dict[str, str]) -> Edit:
-    """The edit of the record at ``line`` of ``path``, with the file's new bytes (not yet
-    written).
+@dataclass(frozen=True)
+class FileText:
+    """A table file's lines as the readers count them, and whether it starts with a BOM."""
+
+    bom: bool
+    lines: list[str]
+
+    @classmethod
+    def read(cls, path: Path) -> FileText:
+        raw = path.read_bytes()
+        bom = raw.startswith(b"\xef\xbb\xbf")
+        return cls(bom, split_lines(raw[3:].decode("utf-8") if bom else raw.decode("utf-8")))
+
+
+def _edit_file(
+    path: Path,
+    line: int,
+    record_id: str,
+    changes: dict[str, str],
+    files: dict[str, FileText] | None = None,
+) -> Edit:
+    """The edit of the record at ``line`` of ``path`` (nothing written). ``files`` keeps
+    each file read once for many edits that are only shown (SARIF fixes, review).
     """
-    raw = path.read_bytes()
-    bom = raw.startswith(b"\xef\xbb\xbf")
-    text = raw[3:].decode("utf-8") if bom else raw.decode("utf-8")
-    lines = split_lines(text)  # as the readers count lines
+    text = None if files is None else files.get(str(path))
+    if text is None:
+        text = FileText.read(path)
+        if files is not None:
+            files[str(path)] = text
+    lines = text.lines
     index = line - 1
     if not 0 <= index < len(lines):
         raise RevisionError(f"{path}: has no line {line}; run the audit again")
     suffix = path.suffix.lower()
     if suffix in (".csv", ".tsv", ".txt"):
         new_block, before, end = _edit_csv(lines, index, record_id, changes, path)
-        old_block = "".join(lines[index:end])
     elif suffix in (".yaml", ".yml", ".json"):
         new_block, before, end = _edit_mapping(
             lines, index, record_id, changes, path, suffix == ".json"
         )
-        old_block = "".join(lines[index:end])
     else:
         raise RevisionError(
             f"{path}: {suffix} files are not edited in place (binary); write the corrected "
             "record to a CSV, YAML or JSON file instead"
         )
-    out = "".join(lines[:index]) + new_block + "".join(lines[end:])
-    data = (b"\xef\xbb\xbf" if bom else b"") + out.encode("utf-8")
-    return Edit(str(path), line, before, dict(changes), old_block, new_block, data)
+    old_block = "".join(lines[index:end])
+    return Edit(str(path), line, before, dict(changes), old_block, new_block, text, (index, end))
 
 
 def _text(value: Any) -> str:
@@ -420,10 +449,11 @@ def find_finding(result, check: str, ids: list[str]):
     raise RevisionError(f"no finding {check}:{','.join(ids)} in the audit{hint}")
 
 
-def suggestion_edits(suggestion: dict) -> list[Edit]:
+def suggestion_edits(suggestion: dict, files: dict[str, FileText] | None = None) -> list[Edit]:
     """The edits applying ``suggestion`` would make, one per record it corrects, computed
     from the files as they are and written nowhere: what ``review`` shows before it asks,
-    and the exact replacements a SARIF fix carries.
+    and the exact replacements a SARIF fix carries. ``files`` (path -> :class:`FileText`)
+    keeps each file read once for many suggestions.
 
     Raises
     ------
@@ -438,7 +468,8 @@ def suggestion_edits(suggestion: dict) -> list[Edit]:
         if not where:
             raise RevisionError(f"the suggestion for {part['record']!r} says not where it stands")
         changes = {f: (texts or {}).get(f) or _text(v) for f, v in part["corrected"].items()}
-        edits.append(_edit_file(Path(where["file"]), int(where["line"]), part["record"], changes))
+        at = Path(where["file"])
+        edits.append(_edit_file(at, int(where["line"]), part["record"], changes, files))
     return edits
 
 

@@ -18,7 +18,7 @@ from pathlib import Path
 
 from .. import __version__
 from ..checks._registry import ordered
-from ._fixes import Undecided, undecided_sentence
+from ._fixes import Undecided, fix_key, undecided_sentence
 
 SCHEMA = "https://json.schemastore.org/sarif-2.1.0.json"
 #: The most results a run may hold: GitHub code scanning rejects an upload with more than
@@ -46,16 +46,17 @@ def _uri(path: str | None) -> str | None:
         return p.as_posix()
 
 
-def _fix(suggestion: dict) -> dict | None:
+def _fix(suggestion: dict, files: dict) -> dict | None:
     """A SARIF fix: the suggestion's explanation and the exact replacement of each record's
-    line(s) that ``vpaudit apply`` would write (None when the files no longer hold them).
+    line(s) that ``vpaudit apply`` would write (None when the files no longer hold them);
+    ``files`` keeps each table file read once for all the log's fixes.
     """
     from ..errors import VpauditError
     from ..readers.lines import split_lines
     from ..revisions import suggestion_edits
 
     try:
-        edits = suggestion_edits(suggestion)
+        edits = suggestion_edits(suggestion, files)
     except (VpauditError, OSError):
         return None
     changes = []
@@ -97,6 +98,8 @@ def render(result) -> str:
     fixed_at: dict[str, dict] = {}  # a corrected record -> its location, for the shared slips
     new_records: set[str] = set()
     open_ = Undecided(result.summary)
+    fixes: dict[tuple, dict | None] = {}  # each fix made once, each file read once
+    files: dict = {}
     shared = len(result.summary.get("shared_slips") or [])  # a result each, made below
     kept = _most_serious(result, RESULT_LIMIT - shared)
     for f in result.findings.take(kept) if kept is not None else result.findings:
@@ -144,9 +147,11 @@ def render(result) -> str:
                     }
                 ]
         if f.suggestion:
-            fix = _fix(f.suggestion)
-            if fix is not None:
-                r["fixes"] = [fix]
+            key = fix_key(f.suggestion)  # findings of one substance share their fix
+            if key not in fixes:
+                fixes[key] = _fix(f.suggestion, files)
+            if fixes[key] is not None:
+                r["fixes"] = [fixes[key]]
         results.append(r)
     results += _shared_slips(result, index, fixed_at, new_records if status_of else None)
     run: dict = {

@@ -223,6 +223,7 @@ class FileText:
 
     @classmethod
     def read(cls, path: Path) -> FileText:
+        """The file at ``path``, decoded as UTF-8 (its BOM noted, not kept in the lines)."""
         raw = path.read_bytes()
         bom = raw.startswith(b"\xef\xbb\xbf")
         return cls(bom, split_lines(raw[3:].decode("utf-8") if bom else raw.decode("utf-8")))
@@ -236,7 +237,8 @@ def _edit_file(
     files: dict[str, FileText] | None = None,
 ) -> Edit:
     """The edit of the record at ``line`` of ``path`` (nothing written). ``files`` keeps
-    each file read once for many edits that are only shown (SARIF fixes, review).
+    each file read once for many edits that are only shown (a SARIF log's fixes); an edit
+    that is applied reads its file afresh, under the table's lock.
     """
     text = None if files is None else files.get(str(path))
     if text is None:

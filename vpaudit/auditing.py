@@ -54,6 +54,12 @@ class AuditResult:
         """new, existing or accepted (a finding the gate has not judged counts as new)."""
         return f.status or "new"
 
+    def statuses(self) -> list[str]:
+        """The status of every finding, in the table's order, as :meth:`status_of` reads
+        it (from the status column: no row view).
+        """
+        return [status or "new" for status in self.findings.status]
+
     def worst(self) -> Severity | None:
         """The most serious severity found, or None when nothing was found."""
         if not self.findings:
@@ -68,8 +74,8 @@ class AuditResult:
             return False
         level = Severity(fail_on).rank
         return any(
-            sev.rank >= level and (not self.gated or (status or "new") == "new")
-            for sev, status in zip(self.findings.severity, self.findings.status, strict=True)
+            sev.rank >= level and (not self.gated or status == "new")
+            for sev, status in zip(self.findings.severity, self.statuses(), strict=True)
         )
 
     def to_dict(self) -> dict[str, Any]:
@@ -105,7 +111,7 @@ class AuditResult:
             return dict(self.summary)
         return {
             **self.summary,
-            "new": sum((s or "new") == "new" for s in self.findings.status),
+            "new": self.statuses().count("new"),
             "resolved": len(self.gate.resolved),
             "base": self.gate.base,
             "substances_reaudited": self.gate.affected,

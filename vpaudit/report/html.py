@@ -270,10 +270,11 @@ def page_plan(findings, max_substances: int = MAX_SUBSTANCES, max_sections: int 
     ``max_sections`` first of those by worst severity, then by name.
     """
     groups = _by_substance(findings)
-    order = _worst_first(findings, groups)
+    sev = findings.severity
+    worst = {name: max(sev[i].rank for i in rows) for name, rows in groups.items()}
+    order = sorted(groups, key=lambda n: (-worst[n], -len(groups[n]), n))
     shown = order[:max_substances]
-    rank = {n: max(findings.severity[i].rank for i in groups[n]) for n in shown}
-    sections = sorted((n for n in shown if n), key=lambda n: (-rank[n], n))[:max_sections]
+    sections = sorted((n for n in shown if n), key=lambda n: (-worst[n], n))[:max_sections]
     return groups, order, shown, sections
 
 
@@ -283,15 +284,6 @@ def _by_substance(findings) -> dict[str, list[int]]:
     for i, name in enumerate(findings.substance):
         groups.setdefault(name, []).append(i)
     return groups
-
-
-def _worst_first(findings, groups: dict[str, list[int]]) -> list[str]:
-    """The substances with findings, worst first: worst severity, then most findings, then
-    by name.
-    """
-    sev = findings.severity
-    worst = {name: max(sev[i].rank for i in rows) for name, rows in groups.items()}
-    return sorted(groups, key=lambda n: (-worst[n], -len(groups[n]), n))
 
 
 def _left_out(result, n_flagged: int, n_shown: int, n_rows: int) -> str:

@@ -75,7 +75,7 @@ def render(result) -> str:
     severity = findings.severity
     # rows of the table, read from its columns; a row view is made only for a row shown
     if status_of is not None:
-        new = [(st or "new") == "new" for st in findings.status]
+        new = [status == "new" for status in result.statuses()]
         serious = [i for i, is_new in enumerate(new) if is_new]
         notes = [i for i, is_new in enumerate(new) if not is_new]
         out[0] = (

@@ -190,7 +190,7 @@ def _most_serious(result, room: int) -> list[int] | None:
     findings = result.findings
     if len(findings) <= room:
         return None
-    new = [(st or "new") == "new" for st in findings.status] if result.gated else None
+    new = [status == "new" for status in result.statuses()] if result.gated else None
     severity = findings.severity
     order = sorted(
         range(len(findings)),

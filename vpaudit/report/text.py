@@ -93,12 +93,13 @@ def render(result, width: int = 100) -> str:
     if status_of is None:
         block(range(len(findings)))
     else:
+        statuses = result.statuses()
         for status, title in (
             ("new", "New since {base}"),
             ("existing", "Already there at {base}"),
             ("accepted", "Accepted (accepted.toml)"),
         ):
-            part = [i for i, st in enumerate(findings.status) if (st or "new") == status]
+            part = [i for i, st in enumerate(statuses) if st == status]
             lines.append(f"== {title.format(base=result.gate.base)}: {len(part)} finding(s)")
             lines.append("")
             block(part)

@@ -7,7 +7,10 @@ Wagner, Perry's; references through documented ``chemicals`` lookups), per compi
   that each class can be looked at);
 * planted single slips (tests/_support/slips.py ``corrupt``, one per substance, on a seeded sample)
   flagged at error level -- a slip that moves ln P by less than 0.03 everywhere in the
-  range (a transposed last digit) is not counted, since no data can tell it;
+  range (a transposed last digit) is not counted, since no data can tell it; those not
+  flagged, by the largest change they make to ln P in the range and by what could witness
+  them (a reference Tb, and whether the slip moves ln P there; standard data; another
+  source; the partner phase);
 * the diagnosis on those: top suggestion is the planted slip, confident (>= 0.8)
   suggestions that are wrong, and confident suggestions on clean substances;
 * the same figures as the compilation's substances come (:func:`overall`): the clean
@@ -34,6 +37,7 @@ inconsistent at its melting point, a boiling point the curve misses...) instead
 from __future__ import annotations
 
 import argparse
+import math
 import random
 import sys
 import time
@@ -219,10 +223,10 @@ def judge_clean(name: str) -> Counter:
     return out
 
 
-def _visible(original: dict, bad: dict, threshold: float = 0.03) -> bool:
-    """Whether a slip moves ln P by more than ``threshold`` (the default relative
-    uncertainty of a record) somewhere in the range: a transposed sixth digit does not, and
-    is not counted as a slip to detect."""
+def _shift(original: dict, bad: dict, points: int = 33, at: float | None = None) -> float:
+    """How far a slip moves the curve: the largest |ln P| change over the record's range, on
+    ``points`` temperatures, or at the one temperature ``at`` [K] (inf where the slipped
+    record cannot be read or evaluated there)."""
     import numpy as np
 
     from vpaudit.equations.engine import curves_from_frame, evaluate
@@ -237,12 +241,50 @@ def _visible(original: dict, bad: dict, threshold: float = 0.03) -> bool:
     try:
         cv = curves_from_frame(table_from_rows([a, b]).records)
     except Exception:  # noqa: BLE001  (a slip the reader refuses is visible)
-        return True
-    t = np.linspace(float(original["t_min"]), float(original["t_max"]), 9)
+        return math.inf
+    t = (
+        np.array([at])
+        if at is not None
+        else np.linspace(float(original["t_min"]), float(original["t_max"]), points)
+    )
     with np.errstate(all="ignore"):
         y = evaluate(cv, np.vstack([t, t]), 0)[0]
     d = np.abs(y[0] - y[1])
-    return bool(not np.all(np.isfinite(d)) or np.nanmax(d) > threshold)
+    return float(np.nanmax(d)) if np.all(np.isfinite(d)) else math.inf
+
+
+def _visible(original: dict, bad: dict, threshold: float = 0.03) -> bool:
+    """Whether a slip moves ln P by more than ``threshold`` (the default relative
+    uncertainty of a record) somewhere in the range: a transposed sixth digit does not, and
+    is not counted as a slip to detect (judged on 9 temperatures, as the figures quoted in
+    docs/diagnosis.md were)."""
+    return _shift(original, bad, points=9) > threshold
+
+
+#: Bins of how far a missed slip moves its curve (the largest |ln P| change in its range).
+SHIFT_BINS = ((0.1, "< 0.1"), (0.3, "0.1-0.3"), (1.0, "0.3-1"), (math.inf, ">= 1"))
+
+
+def _witnesses(sub_records: list[dict], target: dict, bad: dict, sub_refs: list[dict]) -> str:
+    """What could witness a slip in ``target`` (slipped to ``bad``): a reference normal
+    boiling point (liquids; with how far the slip moves ln P there: a slip that moves the
+    curve far from Tb and little at it leaves that witness nothing to see), standard data at
+    298.15 K, another record of its phase, a record of the other phase; "none" where the
+    curve stands alone."""
+    have = []
+    quantities = {x["quantity"] for x in sub_refs}
+    tbs = [float(x["value"]) for x in sub_refs if x["quantity"] == "normal_boiling_point"]
+    if target["phase"] == "liquid" and tbs:
+        at = _shift(target, bad, points=1, at=sorted(tbs)[len(tbs) // 2])
+        have.append(f"Tb (moved {'< 0.1' if at < 0.1 else '>= 0.1'} there)")
+    if any(q.startswith("standard_") for q in quantities):
+        have.append("298.15 K")
+    others = [r for r in sub_records if r is not target]
+    if any(r["phase"] == target["phase"] for r in others):
+        have.append("another source")
+    if any(r["phase"] != target["phase"] for r in others):
+        have.append("partner phase")
+    return " + ".join(have) or "none"
 
 
 #: (stated confidence, right) of every suggestion on a planted slip, per compilation
@@ -274,8 +316,6 @@ def cross_validation() -> None:
     together" overlaps the others and is left out), and the held-out log-loss and confident
     suggestions under the shipped scaling (fitted on the evaluated labelled set) and the
     refitted one."""
-    import math
-
     import numpy as np
     from scipy.optimize import minimize
 
@@ -359,6 +399,7 @@ def planted(name, records, refs, flagged_clean, sample, seed):
     by_sub, order, position, refs_by = _seeded_order(records, refs, seed)
     clean = [s for s in order if not any(r["id"] in flagged_clean for r in by_sub[s])]
     cases, recs, out_refs = [], [], []
+    witnesses: dict[str, str] = {}
     for sub in clean[:sample]:
         k, rng, kind, rs, target = _draw(sub, by_sub, position, seed, list(SLIP_KINDS))
         if kind == "phase-swap":
@@ -386,6 +427,7 @@ def planted(name, records, refs, flagged_clean, sample, seed):
         cases.append(
             (new, kind, f"{target['id']}#{k}", dict(target, id=f"{target['id']}#{k}"), bad)
         )
+        witnesses[new] = _witnesses(rs, target, bad, refs_by.get(sub, []))
     result = audit_table(table_from_rows(recs, out_refs))
     NEW_DEFECTS.setdefault(name, []).extend(new_defects(result, recs, out_refs))
     detected = right = right_flagged = confident = confident_wrong = 0
@@ -400,6 +442,10 @@ def planted(name, records, refs, flagged_clean, sample, seed):
             detected += 1
         else:
             missed[kind] += 1
+            if original is not None:
+                shift = _shift(original, bad)
+                size = next(label for top, label in SHIFT_BINS if shift < top)
+                MISSED_BY.setdefault(name, Counter())[(size, witnesses[new])] += 1
             if SHOW_MISSED:
                 print(f"      missed {kind} in {rid}: {_describe(original, bad)}")
                 for f in fs:
@@ -602,6 +648,8 @@ NEW_DEFECTS: dict[str, list[tuple[str, list[str]]]] = {}
 #: clear their errors instead (summary "undecided"), and those whose readings hold the
 #: true fix
 UNDECIDED: dict[str, list[int]] = {}
+#: per compilation: missed planted slips by (how far the slip moves the curve, its witnesses)
+MISSED_BY: dict[str, Counter] = {}
 
 
 def new_defects(result, recs: list[dict], refs: list[dict]) -> list[tuple[str, list[str]]]:
@@ -861,6 +909,16 @@ def main() -> None:
         )
         print("    errors on the clean compilation by check:", dict(by_check.most_common()))
         print("    planted slips not flagged as errors, by kind:", dict(missed.most_common()))
+        by = MISSED_BY.get(name, Counter())
+        if by:
+            print(
+                "    the same, by the largest change the slip makes to ln P in the record's "
+                "range, and what could witness it:"
+            )
+            for (size, wit), count in sorted(
+                by.items(), key=lambda kv: ([b for _, b in SHIFT_BINS].index(kv[0][0]), -kv[1])
+            ):
+                print(f"      {size:>8s} in ln P  {count:3d}  witnesses: {wit}")
         print(
             f"    top suggestion right on the flagged slips: {right_flagged} of {det} "
             f"({right_flagged / det if det else 0:.1%}); a fix within 0.03 in ln P of the "

@@ -273,6 +273,44 @@ def test_a_lone_solid_in_bar_is_not_read_as_a_lost_sign_of_its_log_t_term():
     assert prior[("sign", "C")] == pytest.approx(prior[("sign", "A")] + np.log(9 / 396))
 
 
+def test_two_readings_no_data_can_tell_apart_are_said_to_be_one():
+    # Alcock et al. (1984) solid silver (via chemicals), its coefficients rewritten for atm
+    # and marked Pa, the only witness the CRC standard data of sublimation at 298.15 K
+    # (tests/_support/anchors.py). atm and bar differ by 1.3 % (101325 against 100000 Pa,
+    # by definition), less than the record's 5 % uncertainty: each reading takes about half
+    # the weight, and the suggestion says that together they are all but certain
+    recs, _ = alcock("Ag")
+    solid = next(r for r in recs if r["phase"] == "solid")
+    bad = _convert_marked(solid, pressure_unit="atm")
+    refs = anchor_rows("7440-22-4", "Ag", "solid")
+    sug, flagged = suggestion_for([bad], refs, solid["id"])
+    assert flagged and sug is not None and sug["kind"] == "pressure-unit"
+    assert {sug["corrected"]["pressure_unit"], sug["runner_up"]["corrected"]["pressure_unit"]} == {
+        "atm",
+        "bar",
+    }
+    assert sug["confidence"] < 0.8  # neither alone
+    got = re.search(
+        r"to within ([\d.]+) % over the range.*together their confidence is (\d\.\d\d)",
+        sug["explanation"],
+    )
+    assert got, sug["explanation"]
+    assert float(got.group(1)) == pytest.approx(1.3, abs=0.05)  # 101325/100000 - 1
+    assert float(got.group(2)) >= 0.8
+
+
+def test_two_readings_a_precise_record_tells_apart_are_not_called_one():
+    # the same silver solid, but stated to 1 %: bar and atm, 1.3 % apart, are then two
+    # curves the record distinguishes, and the suggestion must not call them one
+    recs, _ = alcock("Ag")
+    solid = next(r for r in recs if r["phase"] == "solid")
+    bad = dict(_convert_marked(solid, pressure_unit="atm"), uncertainty=0.01)
+    refs = anchor_rows("7440-22-4", "Ag", "solid")
+    sug, flagged = suggestion_for([bad], refs, solid["id"])
+    assert flagged and sug is not None and sug["kind"] == "pressure-unit"
+    assert "no data can tell them apart" not in sug["explanation"]
+
+
 def test_a_clean_pair_gets_no_suggestion():
     recs, refs = alcock("Cu")  # Alcock Cu pair with CRC references: consistent
     result = audit_table(table_from_rows(recs, refs))

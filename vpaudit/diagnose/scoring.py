@@ -408,6 +408,17 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
         sug["runner_up"] = _suggestion(ctx, cands[k2], outs[k2], c2, cleared2, before, ks2, cands)
         # shown rounded down, as the suggestion's own figure is: never above the fix's
         sug["explanation"] += f" Close runner-up ({confidence(c2)}): {cands[k2].label}."
+        alike = _alike(ctx, cands[best], outs[best], cands[k2], outs[k2])
+        if alike is not None:
+            gap, u = alike
+            # one hypothesis in all but the name: the posterior shares add
+            both = confidence(_stated(raw + raw2, cal))
+            sug["explanation"] += (
+                f" The two readings give the same pressures to within {gap:.2g} % over the "
+                f"range, inside the record's uncertainty ({u:.2g} %), so no data can tell "
+                f"them apart; together their confidence is {both}. Either serves for the "
+                "pressures; the source as printed decides which to write."
+            )
     leaves = _errors_and_warnings(outs[best]) & before
     out = {"suggestion": sug, "clears": cleared, "leaves": leaves, "none": float(post[0])}
     second = _second_fix(
@@ -418,6 +429,32 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
         # what weighing both fixes together needs (:func:`_weigh_together`)
         out["together"] = _Together(cands[best], other, z, before, errors_before)
     return out
+
+
+def _alike(
+    ctx: AuditContext, a: Candidate, out_a: _Outcome, b: Candidate, out_b: _Outcome
+) -> tuple[float, float] | None:
+    """Whether two fixes of one record amount to the same curve within the record's
+    uncertainty (bar and atm, 1.3 % apart): (the largest difference of their pressures over
+    the range, in %, and the record's relative uncertainty of P, in %), else None. The
+    record's stated uncertainty, or the default the boiling-point check takes for a record
+    that states none. Compared on what each fix amounts to (:func:`_unit_keys`: ln P at five
+    temperatures over each record's range, the ranges and the phases), which must agree but
+    for ln P.
+    """
+    if a.row != b.row or not out_a.key or len(out_a.key) != len(out_b.key):
+        return None
+    ka = np.frombuffer(out_a.key).reshape(-1, _KEY_WIDTH)
+    kb = np.frombuffer(out_b.key).reshape(-1, _KEY_WIDTH)
+    if not np.array_equal(ka[:, 5:], kb[:, 5:]) or not np.all(np.abs(ka[:, :5]) < 1e299):
+        return None  # another range or phase, or a curve without a value
+    gap = float(np.max(np.abs(ka[:, :5] - kb[:, :5])))
+    u = float(ctx.uncertainty[a.row])
+    if not math.isfinite(u):
+        u = ctx.policy.thresholds("boiling-point-mismatch")["default_uncertainty"]
+    if gap == 0.0 or gap > math.log1p(u):
+        return None
+    return math.expm1(gap) * 100.0, u * 100.0
 
 
 @dataclass

@@ -299,6 +299,31 @@ def test_two_readings_no_data_can_tell_apart_are_said_to_be_one():
     assert float(got.group(2)) >= 0.8
 
 
+def test_two_readings_apart_in_level_name_the_witness_that_would_decide():
+    # Alcock et al. (1984) solid silver in mmHg marked Pa, the CRC standard data of
+    # sublimation its only witness (as above): Torr and mbar split the weight (they differ
+    # by R ln 1.333 = 2.4 J/(mol K) in the standard entropy, within its allowance), and the
+    # suggestion says by how much they differ in pressure (133.322 Pa against 100 Pa, by
+    # definition) and which witness would decide
+    recs, refs = alcock("Ag")
+    i = next(k for k, r in enumerate(recs) if r["phase"] == "solid")
+    solid = recs[i]
+    bad = _convert_marked(solid, pressure_unit="mmHg")
+    anchor = anchor_rows("7440-22-4", "Ag", "solid")
+    sug, _ = suggestion_for([bad], anchor, solid["id"])
+    assert sug is not None and sug["runner_up"]["corrected"] == {"pressure_unit": "mbar"}
+    got = re.search(
+        r"differ by a factor ([\d.]+) in pressure at every temperature", sug["explanation"]
+    )
+    assert got and got.group(1) == "1.33"  # 1.3332 to three figures
+    assert "the other phase's curve" in sug["explanation"]
+    # and that witness does decide: with its Alcock liquid beside it, mmHg (or Torr) alone
+    recs[i] = bad
+    sug, _ = suggestion_for(recs, refs + anchor, solid["id"])
+    assert sug["corrected"]["pressure_unit"] in ("mmHg", "Torr") and sug["confidence"] >= 0.95
+    assert "runner_up" not in sug
+
+
 def test_two_readings_a_precise_record_tells_apart_are_not_called_one():
     # the same silver solid, but stated to 1 %: bar and atm, 1.3 % apart, are then two
     # curves the record distinguishes, and the suggestion must not call them one

@@ -408,9 +408,9 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
         sug["runner_up"] = _suggestion(ctx, cands[k2], outs[k2], c2, cleared2, before, ks2, cands)
         # shown rounded down, as the suggestion's own figure is: never above the fix's
         sug["explanation"] += f" Close runner-up ({confidence(c2)}): {cands[k2].label}."
-        alike = _alike(ctx, cands[best], outs[best], cands[k2], outs[k2])
-        if alike is not None:
-            gap, u = alike
+        apart = _apart(ctx, cands[best], outs[best], cands[k2], outs[k2])
+        if apart is not None and apart[0]:
+            _, gap, u = apart
             # one hypothesis in all but the name: the posterior shares add
             both = confidence(_stated(raw + raw2, cal))
             sug["explanation"] += (
@@ -418,6 +418,13 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
                 f"range, inside the record's uncertainty ({u:.2g} %), so no data can tell "
                 f"them apart; together their confidence is {both}. Either serves for the "
                 "pressures; the source as printed decides which to write."
+            )
+        elif apart is not None:
+            sug["explanation"] += (
+                f" The two readings differ by a factor {1 + apart[1] / 100:.3g} in pressure "
+                "at every temperature: a witness of the pressure level finer than that (a "
+                "normal boiling point near the range, measured points, the other phase's "
+                "curve) would tell them apart."
             )
     leaves = _errors_and_warnings(outs[best]) & before
     out = {"suggestion": sug, "clears": cleared, "leaves": leaves, "none": float(post[0])}
@@ -431,16 +438,18 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
     return out
 
 
-def _alike(
+def _apart(
     ctx: AuditContext, a: Candidate, out_a: _Outcome, b: Candidate, out_b: _Outcome
-) -> tuple[float, float] | None:
-    """Whether two fixes of one record amount to the same curve within the record's
-    uncertainty (bar and atm, 1.3 % apart): (the largest difference of their pressures over
-    the range, in %, and the record's relative uncertainty of P, in %), else None. The
-    record's stated uncertainty, or the default the boiling-point check takes for a record
-    that states none. Compared on what each fix amounts to (:func:`_unit_keys`: ln P at five
-    temperatures over each record's range, the ranges and the phases), which must agree but
-    for ln P.
+) -> tuple[bool, float, float] | None:
+    """How two fixes of one record differ, where they differ only in the level of its curve
+    (the ranges and phases equal, ln P shifted by one amount at every temperature, as two
+    pressure units shift it), else None: (whether the shift lies within the record's
+    uncertainty -- bar and atm, 1.3 % apart -- so that no data can tell them apart, the
+    largest difference of their pressures over the range in %, and the record's relative
+    uncertainty of P in %). The record's stated uncertainty, or the default the
+    boiling-point check takes for a record that states none. Compared on what each fix
+    amounts to (:func:`_unit_keys`: ln P at five temperatures over each record's range, the
+    ranges and the phases).
     """
     if a.row != b.row or not out_a.key or len(out_a.key) != len(out_b.key):
         return None
@@ -448,13 +457,19 @@ def _alike(
     kb = np.frombuffer(out_b.key).reshape(-1, _KEY_WIDTH)
     if not np.array_equal(ka[:, 5:], kb[:, 5:]) or not np.all(np.abs(ka[:, :5]) < 1e299):
         return None  # another range or phase, or a curve without a value
-    gap = float(np.max(np.abs(ka[:, :5] - kb[:, :5])))
+    diff = ka[:, :5] - kb[:, :5]
+    gap = float(np.max(np.abs(diff)))
     u = float(ctx.uncertainty[a.row])
     if not math.isfinite(u):
         u = ctx.policy.thresholds("boiling-point-mismatch")["default_uncertainty"]
-    if gap == 0.0 or gap > math.log1p(u):
+    alike = gap <= math.log1p(u)
+    # a shift of the level alone: the same at every temperature (the keys are rounded to
+    # 1e-6), and only in the fixed record
+    changed = np.any(diff != 0.0, axis=1)
+    level = changed.sum() == 1 and float(np.ptp(diff[changed])) <= 1e-5
+    if gap == 0.0 or not (alike or level):
         return None
-    return math.expm1(gap) * 100.0, u * 100.0
+    return alike, math.expm1(gap) * 100.0, u * 100.0
 
 
 @dataclass

@@ -184,3 +184,67 @@ def test_a_curve_boiling_near_its_critical_point_is_blamed_not_the_reference(rid
     assert f.severity.value == "error", f.message
     assert "of the critical temperature" in f.message
     assert f.suggestion is not None and f.suggestion["kind"] == slip
+
+
+def test_a_second_source_that_meets_the_reference_says_which_record_to_doubt():
+    # 2-butanol (78-92-2) as McGarry (1983) and Poling et al. (2001) give its Wagner
+    # constants (via chemicals), with the CRC_ORG normal boiling point (372.55 K). McGarry's
+    # B with its sign lost bends the curve at the low end of its range (0.4 in ln P at 265
+    # K) and leaves it 0.16 off at the boiling point: within the 1.5 % by which evaluations
+    # of T_b differ, a warning. Alone, the record may be right and the reference off; with
+    # Poling's curve meeting the reference, the finding says the record is the likelier
+    from compilations import wagner
+
+    records, refs = wagner()
+    mine = [r for r in records if r["substance"] == "78-92-2"]
+    assert {r["id"] for r in mine} == {"78-92-2-mg", "78-92-2-pw"}
+    slipped = [dict(r, B=-r["B"]) if r["id"] == "78-92-2-mg" else r for r in mine]
+    tb = [
+        x for x in refs if x["substance"] == "78-92-2" and x["quantity"] == "normal_boiling_point"
+    ]
+
+    def finding(recs):
+        result = audit_table(table_from_rows(recs, tb))
+        (f,) = [
+            f
+            for f in result.findings
+            if f.check == "boiling-point-mismatch" and "78-92-2-mg" in f.records
+        ]
+        return f
+
+    alone = finding([r for r in slipped if r["id"] == "78-92-2-mg"])
+    both = finding(slipped)
+    assert alone.severity.value == both.severity.value == "warning"
+    assert "the reference may be the one that is off" in alone.message
+    assert "another source of the substance meets the reference" in both.message
+    assert "this record is the likelier to be off" in both.message
+
+
+def test_a_source_that_meets_the_reference_outweighs_a_records_own_boiling_point():
+    # pyridine (110-86-1) as Landolt-Boernstein's Antoine constants (odd CAS, via chemicals)
+    # give it reaches 101325 Pa at 428 K, where its range ends: its source's own boiling
+    # point, 40 K above the CRC_ORG 388.35 K (YAWS and Common Chemistry: 388.4 K). Alone
+    # it is a disagreement of source and reference, a warning; with Poling's Antoine curve
+    # (via chemicals) meeting the reference, two sources against one, an error that names
+    # the record's source as the likelier to be off
+    from compilations import poling_antoine
+
+    records, refs = landolt()
+    lb = next(r for r in records if r["id"] == "110-86-1-lb-l")
+    pa_records, _ = poling_antoine()
+    pa = next(r for r in pa_records if r["substance"] == "110-86-1")
+    tb = [_reference("110-86-1", "CRC_ORG")]
+
+    def finding(recs):
+        result = audit_table(table_from_rows(recs, tb))
+        (f,) = [
+            f
+            for f in result.findings
+            if f.check == "boiling-point-mismatch" and "110-86-1-lb-l" in f.records
+        ]
+        return f
+
+    alone, both = finding([lb]), finding([lb, pa])
+    assert alone.severity.value == "warning" and "check which is right" in alone.message
+    assert both.severity.value == "error"
+    assert "this record's source is the likelier to be off" in both.message

@@ -286,13 +286,16 @@ def boiling_point_mismatch(ctx: AuditContext, th: dict[str, float]):
     states no uncertainty, a mismatch beyond the combined uncertainty but within
     4e-5/K x T_b of T_b (that 95th percentile: 1.3 % at 325 K, 2 % at 500 K, 2.6 % at
     650 K, held at 3 % above 750 K, where the comparison has too few substances) is a
-    warning, since the reference may be the party that is off; beyond it, an
-    error. A reference with a stated uncertainty is held to it. A curve that reaches
-    101325 Pa within 1 K of the upper end of its range (a third of Landolt's liquids: their
-    sources measured up to boiling) carries its source's own normal boiling point; a
-    transcription slip in its coefficients or pressure unit would have moved that point, so a
-    mismatch there is a disagreement of the source and the reference, and a warning that
-    says so. A reference that the curve would meet at a vacuum-distillation pressure (10 Pa to
+    warning, since the reference may be the party that is off (where another source of the
+    substance meets the reference, the warning says this record is the likelier to be off
+    instead); beyond it, an error. A reference with a stated uncertainty is held to it. A
+    curve that reaches 101325 Pa within 1 K of the upper end of its range (a third of
+    Landolt's liquids: their sources measured up to boiling) carries its source's own normal
+    boiling point; a transcription slip in its coefficients or pressure unit would have
+    moved that point, so a mismatch there is a disagreement of the source and the reference,
+    and a warning that says so -- unless another source of the substance meets the
+    reference: then this record's source is the likelier to be off, and the mismatch an
+    error. A reference that the curve would meet at a vacuum-distillation pressure (10 Pa to
     100 mmHg, with Trouton's entropy where the curve reaches 101325 Pa) looks like a boiling
     point at reduced pressure filed as the normal one, and is named as the likely culprit --
     unless another source of the substance meets it, or the substance's critical temperature
@@ -328,7 +331,8 @@ def boiling_point_mismatch(ctx: AuditContext, th: dict[str, float]):
     )
     # another source of the substance that meets the reference shows that the reference is
     # a normal boiling point after all: the record, not the reference, is off
-    confirmed = reduced & _corroborated(ctx, rows, d, tol)
+    corroborated = _corroborated(ctx, rows, d, tol)
+    confirmed = reduced & corroborated
     reduced &= ~confirmed
     # a curve that reaches 101325 Pa where its range ends carries its source's own normal
     # boiling point (measured up to it): a slip in the record would have moved that point
@@ -340,7 +344,10 @@ def boiling_point_mismatch(ctx: AuditContext, th: dict[str, float]):
         tier = None
         if far:
             tier = "extrapolated"
-        elif within or reduced[k] or own[k]:
+        elif within or reduced[k] or (own[k] and not corroborated[k]):
+            # the reference may be the party that is off; a curve that carries its source's
+            # own boiling point stays an error where another source meets the reference (two
+            # against one, beyond how far evaluations of T_b differ)
             tier = "reference-doubted"
         evidence = {
             "boiling_point_K": t[k],
@@ -374,6 +381,15 @@ def boiling_point_mismatch(ctx: AuditContext, th: dict[str, float]):
                 f"; {kelvin(t[k])} is {dist[k] * 100:.0f} % outside the range, so this is "
                 "an extrapolation"
             )
+        elif within and corroborated[k]:
+            # still a warning (a difference evaluations of T_b have), but not the
+            # reference's: another source meets it
+            where = (
+                f"; that is within the {rel[k] * 100:.2g} % by which "
+                "independent evaluations of normal boiling points near it differ, but "
+                "another source of the substance meets the reference, so this record is the "
+                "likelier to be off"
+            )
         elif within:
             where = (
                 f"; that is within the {rel[k] * 100:.2g} % by which "
@@ -384,7 +400,13 @@ def boiling_point_mismatch(ctx: AuditContext, th: dict[str, float]):
             where = (
                 f", where its range ends ({kelvin(c.t_max[k])}): the record carries its "
                 "source's own normal boiling point, which a slip in the record would have "
-                "moved, so its source and the reference disagree; check which is right"
+                "moved, so its source and the reference disagree; "
+                + (
+                    "another source of the substance meets the reference, so this record's "
+                    "source is the likelier to be off"
+                    if corroborated[k]
+                    else "check which is right"
+                )
             )
         elif near_critical[k]:
             where = (

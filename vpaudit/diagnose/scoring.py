@@ -441,12 +441,12 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
 def _apart(
     ctx: AuditContext, a: Candidate, out_a: _Outcome, b: Candidate, out_b: _Outcome
 ) -> tuple[bool, float, float] | None:
-    """How two fixes of one record differ, where they differ only in the level of its curve
-    (the ranges and phases equal, ln P shifted by one amount at every temperature, as two
-    pressure units shift it), else None: (whether the shift lies within the record's
-    uncertainty -- bar and atm, 1.3 % apart -- so that no data can tell them apart, the
-    largest difference of their pressures over the range in %, and the record's relative
-    uncertainty of P in %). The record's stated uncertainty, or the default the
+    """How two fixes of one record differ, where they give the same curve within the
+    record's uncertainty (bar and atm, 1.3 % apart: no data can tell them apart) or differ
+    only in its level (ln P shifted by one amount at every temperature, as two pressure
+    units shift it), the ranges and phases equal; else None. Returns (whether they are the
+    same within the uncertainty, the largest difference of their pressures over the range
+    in %, the record's relative uncertainty of P in %): its stated one, or the default the
     boiling-point check takes for a record that states none. Compared on what each fix
     amounts to (:func:`_unit_keys`: ln P at five temperatures over each record's range, the
     ranges and the phases).

@@ -317,6 +317,7 @@ def test_two_readings_apart_in_level_name_the_witness_that_would_decide():
     )
     assert got and got.group(1) == "1.33"  # 1.3332 to three figures
     assert "the other phase's curve" in sug["explanation"]
+    assert "normal boiling point" not in sug["explanation"]  # a solid's: no such witness
     # and that witness does decide: with its Alcock liquid beside it, mmHg (or Torr) alone
     recs[i] = bad
     sug, _ = suggestion_for(recs, refs + anchor, solid["id"])

@@ -420,11 +420,12 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
                 "pressures; the source as printed decides which to write."
             )
         elif apart is not None:
+            # a normal boiling point witnesses a liquid's curve only
+            tb = "a normal boiling point near the range, " if ctx.liquid[cands[best].row] else ""
             sug["explanation"] += (
                 f" The two readings differ by a factor {1 + apart[1] / 100:.3g} in pressure "
-                "at every temperature: a witness of the pressure level finer than that (a "
-                "normal boiling point near the range, measured points, the other phase's "
-                "curve) would tell them apart."
+                f"at every temperature: a witness of the pressure level finer than that ({tb}"
+                "measured points, the other phase's curve) would tell them apart."
             )
     leaves = _errors_and_warnings(outs[best]) & before
     out = {"suggestion": sug, "clears": cleared, "leaves": leaves, "none": float(post[0])}

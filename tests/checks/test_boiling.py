@@ -186,6 +186,13 @@ def test_a_curve_boiling_near_its_critical_point_is_blamed_not_the_reference(rid
     assert f.suggestion is not None and f.suggestion["kind"] == slip
 
 
+def _mismatch(records: list[dict], refs: list[dict], rid: str):
+    """The one boiling-point-mismatch finding on record ``rid`` of an audit of ``records``."""
+    result = audit_table(table_from_rows(records, refs))
+    (f,) = [f for f in result.findings if f.check == "boiling-point-mismatch" and rid in f.records]
+    return f
+
+
 def test_a_second_source_that_meets_the_reference_says_which_record_to_doubt():
     # 2-butanol (78-92-2) as McGarry (1983) and Poling et al. (2001) give its Wagner
     # constants (via chemicals), with the CRC_ORG normal boiling point (372.55 K). McGarry's
@@ -203,17 +210,8 @@ def test_a_second_source_that_meets_the_reference_says_which_record_to_doubt():
         x for x in refs if x["substance"] == "78-92-2" and x["quantity"] == "normal_boiling_point"
     ]
 
-    def finding(recs):
-        result = audit_table(table_from_rows(recs, tb))
-        (f,) = [
-            f
-            for f in result.findings
-            if f.check == "boiling-point-mismatch" and "78-92-2-mg" in f.records
-        ]
-        return f
-
-    alone = finding([r for r in slipped if r["id"] == "78-92-2-mg"])
-    both = finding(slipped)
+    alone = _mismatch([r for r in slipped if r["id"] == "78-92-2-mg"], tb, "78-92-2-mg")
+    both = _mismatch(slipped, tb, "78-92-2-mg")
     assert alone.severity.value == both.severity.value == "warning"
     assert "the reference may be the one that is off" in alone.message
     assert "another source of the substance meets the reference" in both.message
@@ -235,16 +233,7 @@ def test_a_source_that_meets_the_reference_outweighs_a_records_own_boiling_point
     pa = next(r for r in pa_records if r["substance"] == "110-86-1")
     tb = [_reference("110-86-1", "CRC_ORG")]
 
-    def finding(recs):
-        result = audit_table(table_from_rows(recs, tb))
-        (f,) = [
-            f
-            for f in result.findings
-            if f.check == "boiling-point-mismatch" and "110-86-1-lb-l" in f.records
-        ]
-        return f
-
-    alone, both = finding([lb]), finding([lb, pa])
+    alone, both = _mismatch([lb], tb, lb["id"]), _mismatch([lb, pa], tb, lb["id"])
     assert alone.severity.value == "warning" and "check which is right" in alone.message
     assert both.severity.value == "error"
     assert "this record's source is the likelier to be off" in both.message

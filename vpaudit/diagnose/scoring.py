@@ -33,7 +33,7 @@ from .variants import (
     _quiet,
     _screen_units,
 )
-from .wording import _rounded, _suggestion, _together_text
+from .wording import _rounded, _runner_up_text, _suggestion, _together_text
 
 # --- scoring and suggestions -----------------------------------------------------------------
 
@@ -408,25 +408,10 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
         sug["runner_up"] = _suggestion(ctx, cands[k2], outs[k2], c2, cleared2, before, ks2, cands)
         # shown rounded down, as the suggestion's own figure is: never above the fix's
         sug["explanation"] += f" Close runner-up ({confidence(c2)}): {cands[k2].label}."
-        apart = _apart(ctx, cands[best], outs[best], cands[k2], outs[k2])
-        if apart is not None and apart[0]:
-            _, gap, u = apart
-            # one hypothesis in all but the name: the posterior shares add
-            both = confidence(_stated(raw + raw2, cal))
-            sug["explanation"] += (
-                f" The two readings give the same pressures to within {gap:.2g} % over the "
-                f"range, inside the record's uncertainty ({u:.2g} %), so no data can tell "
-                f"them apart; together their confidence is {both}. Either serves for the "
-                "pressures; the source as printed decides which to write."
-            )
-        elif apart is not None:
-            # a normal boiling point witnesses a liquid's curve only
-            tb = "a normal boiling point near the range, " if ctx.liquid[cands[best].row] else ""
-            sug["explanation"] += (
-                f" The two readings differ by a factor {1 + apart[1] / 100:.3g} in pressure "
-                f"at every temperature: a witness of the pressure level finer than that ({tb}"
-                "measured points, the other phase's curve) would tell them apart."
-            )
+        # two readings as one hypothesis: their posterior shares add
+        sug["explanation"] += _runner_up_text(
+            ctx, cands[best], outs[best], cands[k2], outs[k2], _stated(raw + raw2, cal)
+        )
     leaves = _errors_and_warnings(outs[best]) & before
     out = {"suggestion": sug, "clears": cleared, "leaves": leaves, "none": float(post[0])}
     second = _second_fix(
@@ -437,40 +422,6 @@ def choose(ctx: AuditContext, hypothesis: tuple, calibration: dict | None = None
         # what weighing both fixes together needs (:func:`_weigh_together`)
         out["together"] = _Together(cands[best], other, z, before, errors_before)
     return out
-
-
-def _apart(
-    ctx: AuditContext, a: Candidate, out_a: _Outcome, b: Candidate, out_b: _Outcome
-) -> tuple[bool, float, float] | None:
-    """How two fixes of one record differ, where they give the same curve within the
-    record's uncertainty (bar and atm, 1.3 % apart: no data can tell them apart) or differ
-    only in its level (ln P shifted by one amount at every temperature, as two pressure
-    units shift it), the ranges and phases equal; else None. Returns (whether they are the
-    same within the uncertainty, the largest difference of their pressures over the range
-    in %, the record's relative uncertainty of P in %): its stated one, or the default the
-    boiling-point check takes for a record that states none. Compared on what each fix
-    amounts to (:func:`_unit_keys`: ln P at five temperatures over each record's range, the
-    ranges and the phases).
-    """
-    if a.row != b.row or not out_a.key or len(out_a.key) != len(out_b.key):
-        return None
-    ka = np.frombuffer(out_a.key).reshape(-1, _KEY_WIDTH)
-    kb = np.frombuffer(out_b.key).reshape(-1, _KEY_WIDTH)
-    if not np.array_equal(ka[:, 5:], kb[:, 5:]) or not np.all(np.abs(ka[:, :5]) < 1e299):
-        return None  # another range or phase, or a curve without a value
-    diff = ka[:, :5] - kb[:, :5]
-    gap = float(np.max(np.abs(diff)))
-    u = float(ctx.uncertainty[a.row])
-    if not math.isfinite(u):
-        u = ctx.policy.thresholds("boiling-point-mismatch")["default_uncertainty"]
-    alike = gap <= math.log1p(u)
-    # a shift of the level alone: the same at every temperature (the keys are rounded to
-    # 1e-6), and only in the fixed record
-    changed = np.any(diff != 0.0, axis=1)
-    level = changed.sum() == 1 and float(np.ptp(diff[changed])) <= 1e-5
-    if gap == 0.0 or not (alike or level):
-        return None
-    return alike, math.expm1(gap) * 100.0, u * 100.0
 
 
 @dataclass

@@ -147,3 +147,54 @@ def _together_text(
         text + f"; {len(left)} {'remains' if len(left) == 1 else 'remain'}: "
         f"{'; '.join(named[:3])}{more}. Either fix alone leaves the other record's errors."
     )
+
+
+def _runner_up_text(
+    ctx: AuditContext,
+    a: Candidate,
+    out_a: _Outcome,
+    b: Candidate,
+    out_b: _Outcome,
+    together: float,
+) -> str:
+    """What a suggestion adds of its close runner-up ``b`` when the two fixes of one record
+    differ in the curve's level alone, the ranges and phases equal (compared on what each
+    amounts to: :func:`~vpaudit.diagnose.variants._key_rows`), else "". Within the record's
+    uncertainty (its stated one, or the default the boiling-point check takes for a record
+    that states none) no data can tell them apart, as bar and atm (1.3 % apart): said so,
+    with ``together``, the confidence of the two as one hypothesis. Beyond it, as mmHg and
+    mbar (a factor 1.33 at every temperature): the factor, and the witnesses that would
+    decide.
+    """
+    ka, kb = _key_rows(out_a), _key_rows(out_b)
+    if a.row != b.row or ka is None or kb is None or ka.shape != kb.shape or not ka.size:
+        return ""
+    if not np.array_equal(ka[:, 5:], kb[:, 5:]) or not np.all(np.abs(ka[:, :5]) < 1e299):
+        return ""  # another range or phase, or a curve without a value
+    diff = ka[:, :5] - kb[:, :5]
+    gap = float(np.max(np.abs(diff)))
+    u = float(ctx.uncertainty[a.row])
+    if not math.isfinite(u):
+        u = ctx.policy.thresholds("boiling-point-mismatch")["default_uncertainty"]
+    # a shift of the level alone: the same at every temperature (the keys are rounded to
+    # 1e-6), and only in the fixed record
+    changed = np.any(diff != 0.0, axis=1)
+    level = changed.sum() == 1 and float(np.ptp(diff[changed])) <= 1e-5
+    if gap == 0.0:
+        return ""
+    if gap <= math.log1p(u):
+        return (
+            f" The two readings give the same pressures to within {math.expm1(gap) * 100:.2g} "
+            f"% over the range, inside the record's uncertainty ({u * 100:.2g} %), so no data "
+            f"can tell them apart; together their confidence is {confidence(together)}. Either "
+            "serves for the pressures; the source as printed decides which to write."
+        )
+    if not level:
+        return ""
+    # a normal boiling point witnesses a liquid's curve only
+    tb = "a normal boiling point near the range, " if ctx.liquid[a.row] else ""
+    return (
+        f" The two readings differ by a factor {math.exp(gap):.3g} in pressure at every "
+        f"temperature: a witness of the pressure level finer than that ({tb}measured points, "
+        "the other phase's curve) would tell them apart."
+    )

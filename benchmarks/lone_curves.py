@@ -16,7 +16,8 @@ degF with the range in K or in the same scale. Each corrupted curve is its own s
 Prints, by kind: cases, detected (an error), the top suggestion right (it gives back the
 original curve and range), the same within 0.03 in ln P (the default relative uncertainty of a
 record: bar for atm is 1.3 % off), and the confident (>= 0.8) suggestions with how many are
-wrong.
+wrong; then the most any rule could name right, where units no data tells apart (bar and
+atm) are both planted in a curve and a suggestion can name only one of them.
 
 Run: ``python benchmarks/lone_curves.py`` (about a minute); ``--critical`` gives Landolt's
 liquids their critical temperature and pressure as well.
@@ -124,6 +125,36 @@ def measure(name: str, pool) -> None:
         )
     if pressure_misses:
         print("pressure-unit slips whose top fix is not the true one:", dict(pressure_misses))
+    twins, n = _twins(cases), len(cases)
+    print(
+        f"the most any rule could name right, as no data tells bar from atm: "
+        f"{(n - twins) / n:.1%} ({twins} of the {n} slips must get the other unit of a pair)"
+    )
+
+
+def _planted_unit(what: str) -> str:
+    """The pressure unit a pressure-unit slip's coefficients are for ("?" if not said)."""
+    unit = what.split(" for ", 1)[1].split(",", 1)[0] if " for " in what else "?"
+    if what.startswith("Pc in "):
+        unit = what[len("Pc in ") :].split(",", 1)[0]
+    return unit
+
+
+def _twins(cases) -> int:
+    """How many planted pressure-unit slips no rule can name: of units within 2 % of each
+    other (bar and atm, 1.3 % apart: less than any record's uncertainty, so that no witness
+    tells them apart), planted in one curve, a suggestion can name only one for both."""
+    by_curve = defaultdict(list)
+    for new, kind, what, _, _ in cases:
+        unit = _planted_unit(what)
+        if kind == "pressure-unit" and unit in PRESSURE_UNITS:
+            by_curve[new.rsplit(".", 1)[0]].append(math.log(pressure_factor(unit)))
+    n = 0
+    for logs in by_curve.values():
+        logs.sort()
+        readings = 1 + sum(b - a >= math.log(1.02) for a, b in zip(logs, logs[1:], strict=False))
+        n += len(logs) - readings
+    return n
 
 
 def _miss_class(what: str, original: dict, sug: dict | None) -> str:
@@ -134,9 +165,7 @@ def _miss_class(what: str, original: dict, sug: dict | None) -> str:
         return "no suggestion"
     if sug["kind"] != "pressure-unit":
         return f"suggested {sug['kind']}"
-    true_unit = what.split(" for ", 1)[1].split(",", 1)[0] if " for " in what else "?"
-    if " in " in what and what.startswith("Pc in "):
-        true_unit = what[len("Pc in ") :].split(",", 1)[0]
+    true_unit = _planted_unit(what)
     other = sug["corrected"].get("pressure_unit")
     if true_unit not in PRESSURE_UNITS or other not in PRESSURE_UNITS:
         return "another unit"

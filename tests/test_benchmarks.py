@@ -132,3 +132,21 @@ def test_replica_tables_copy_real_pairs_and_their_slips_are_flagged(tmp_path):
     for name, found in checks.items():
         by_metal.setdefault(name.split("-", 1)[1], set()).add(frozenset(found))
     assert len(by_metal) > 20 and all(len(v) == 1 for v in by_metal.values())
+
+
+def test_the_lone_curve_ceiling_counts_one_unit_of_each_pair_no_data_tells_apart():
+    """benchmarks/lone_curves.py: where bar and atm (1.3 % apart) are both planted in one
+    curve, one of the two must get the other's name; units 6.9 to 10 times apart (kPa, psi,
+    bar) and mbar against mmHg (33 %) are told apart by the standard data."""
+    sys.path.insert(0, str(ROOT / "benchmarks"))
+    from lone_curves import _planted_unit, _twins
+
+    def case(curve: int, unit: str):
+        return (f"x#{curve}.{unit}", "pressure-unit", f"coefficients for {unit}, marked Pa", {}, {})
+
+    assert _planted_unit("coefficients for atm, marked Pa") == "atm"
+    assert _twins([case(0, u) for u in ("kPa", "psi", "mbar", "mmHg", "MPa")]) == 0
+    assert _twins([case(0, u) for u in ("bar", "atm", "kPa")] + [case(1, "bar")]) == 1
+    both = [case(c, u) for c in range(3) for u in ("bar", "atm")]
+    assert _twins(both) == 3
+    assert _twins([("x#0.1", "log-base", "log10 read as ln", {}, {})]) == 0

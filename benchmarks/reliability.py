@@ -37,9 +37,9 @@ CHILD = """
 import sys
 from vpaudit.store import import_table
 print("ready", flush=True)
-sys.stdin.readline()
-import_table(sys.argv[1], sys.argv[2])
-print("done", flush=True)
+if sys.stdin.readline().strip() == "go":  # not at the end of input: a trial given up
+    import_table(sys.argv[1], sys.argv[2])
+    print("done", flush=True)
 """
 
 
@@ -116,14 +116,18 @@ def crash_trial_runs(
     imports, about 1 s) while this trial's store is judged; the two trials' stores are
     different files in ``work``."""
     dbs = (work / "crash-a.duckdb", work / "crash-b.duckdb")
-    child = _importer(new, dbs[0])
-    for i, delay in enumerate(delays):
-        db = dbs[i % 2]
-        import_table(old, db)  # while the child starts: it opens nothing before the word
-        _go(child, delay)
-        if i + 1 < len(delays):
-            child = _importer(new, dbs[(i + 1) % 2])
-        yield _judged(db)
+    child = _importer(new, dbs[0]) if delays else None
+    try:
+        for i, delay in enumerate(delays):
+            db = dbs[i % 2]
+            import_table(old, db)  # while the child starts: it opens nothing before the word
+            _go(child, delay)
+            child = _importer(new, dbs[(i + 1) % 2]) if i + 1 < len(delays) else None
+            yield _judged(db)
+    finally:  # the trials given up (a failed assertion of the caller): no child left waiting
+        if child is not None and child.poll() is None:
+            child.kill()
+            child.communicate()
 
 
 def import_seconds(table: Path, db: Path) -> float:

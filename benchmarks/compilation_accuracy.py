@@ -275,7 +275,7 @@ def _witnesses(sub_records: list[dict], target: dict, bad: dict, sub_refs: list[
     quantities = {x["quantity"] for x in sub_refs}
     tbs = [float(x["value"]) for x in sub_refs if x["quantity"] == "normal_boiling_point"]
     if target["phase"] == "liquid" and tbs:
-        at = _shift(target, bad, points=1, at=sorted(tbs)[len(tbs) // 2])
+        at = _shift(target, bad, at=sorted(tbs)[len(tbs) // 2])
         have.append(f"Tb (moved {'< 0.1' if at < 0.1 else '>= 0.1'} there)")
     if any(q.startswith("standard_") for q in quantities):
         have.append("298.15 K")

@@ -173,12 +173,10 @@ def point_at_suspects(
             size, at = ev.get(size_key), ev.get(at_key)
             if size is not None and at is not None:
                 pending[k] = (abs(float(size)), float(at))
-    if move_k:  # the locations of the moved findings, as columns
-        at_rows = np.array(move_to, dtype=np.int64)
-        for name, values in (("file", ctx.files_of(at_rows)), ("line", ctx.line[at_rows].tolist())):
-            column = np.array(getattr(findings, name), dtype=object)
-            column[move_k] = values
-            setattr(findings, name, column.tolist())
+    if move_k:  # the locations of the moved findings
+        file, line = ctx.located(np.array(move_to, dtype=np.int64))
+        findings.file.put(move_k, file)
+        findings.line.put(move_k, line)
     c = ctx.curves
     lo, hi = 1.0 - NEAR_RANGE, 1.0 + NEAR_RANGE
     for k, (size, at) in pending.items():
@@ -211,12 +209,11 @@ def _table_rows(ctx: AuditContext, findings: Findings, n_rec: np.ndarray) -> lis
     them, else (for a finding made by hand) looked up by id; empty when a record id is in
     no record.
     """
-    out = findings.rows
+    out = findings.rows.tolist()
     n_rows = np.fromiter(map(len, out), dtype=np.int64, count=len(out))
     missing = np.flatnonzero(n_rows != n_rec).tolist()
     if not missing:
         return out
-    out = list(out)
     by_id = ctx.rows_by_id({r for k in missing for r in findings.records[k]})
     for k in missing:
         rec = findings.records[k]

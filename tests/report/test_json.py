@@ -1,7 +1,8 @@
 """The JSON report writes its findings a column at a time (report/json.py::_lines). Each
 line must be exactly what orjson gives for the finding's dict (Finding.to_dict, the output
 contract), whatever the texts and numbers hold: commas and quotes in texts, floats that are
-not finite, integers and booleans in the evidence, evidence given as columns or as dicts."""
+not finite, integers and booleans in the evidence, evidence given as columns or as dicts,
+and the other fields given as blocks made when read (as the checks give them) or as values."""
 
 from __future__ import annotations
 
@@ -11,6 +12,7 @@ from hypothesis import given
 from hypothesis import strategies as st
 
 from vpaudit.checks import Severity
+from vpaudit.checks.blocks import BlockColumn, ValueColumn
 from vpaudit.checks.evidence import EvidenceColumn
 from vpaudit.checks.finding import FIELDS, Finding, Findings
 from vpaudit.report import json as json_report
@@ -43,9 +45,10 @@ def _row(draw) -> Finding:
 def tables(draw) -> Findings:
     """A table of findings whose evidence is blocks of columns (floats, integers,
     booleans, texts, a value shared by the block) and dicts given whole."""
-    rows, evidence = [], EvidenceColumn()
+    rows, evidence, sizes = [], EvidenceColumn(), []
     for _ in range(draw(st.integers(0, 3))):
         n = draw(st.integers(1, 6))
+        sizes.append(n)
         rows += [_row(draw) for _ in range(n)]
         floats = st.floats(allow_nan=True, allow_infinity=True)
         columns = {
@@ -62,26 +65,50 @@ def tables(draw) -> Findings:
         evidence.append(draw(st.dictionaries(st.sampled_from(["a_K", "b"]), plain | texts)))
     table = Findings.of(rows)
     table.evidence = evidence
+    for name in ("substance", "records", "message", "file", "line"):  # made when read
+        setattr(table, name, _blocks([getattr(f, name) for f in rows], sizes))
     order = draw(st.permutations(range(len(rows))))  # rows of a block need not be together
     for name in FIELDS:
         column = getattr(table, name)
-        setattr(
-            table, name, column.take(order) if name == "evidence" else [column[i] for i in order]
-        )
+        if isinstance(column, BlockColumn):
+            setattr(table, name, column.take(order))
+        else:
+            setattr(table, name, [column[i] for i in order])
     return table
+
+
+def _blocks(values: list, sizes: list[int]) -> ValueColumn:
+    """A column of ``values`` whose first rows are blocks of ``sizes`` rows, each made when
+    read (as the checks' are), and the rest values given on their own.
+    """
+    column, a = ValueColumn(), 0
+    for n in sizes:
+        part = values[a : a + n]
+        column.extend(ValueColumn.made_by(lambda p, part=part: [part[i] for i in p.tolist()], n))
+        a += n
+    column.extend(values[a:])
+    return column
 
 
 def _expected(table: Findings, status: bool) -> list[bytes]:
     return [orjson.dumps(d, option=orjson.OPT_SERIALIZE_NUMPY) for d in table.dicts(status=status)]
 
 
+def _made(table: Findings, first: int) -> dict[str, list]:
+    """The values of the fields the report makes once per chunk, from row ``first`` on."""
+    rows = np.arange(first, len(table))
+    return {name: getattr(table, name).values(rows) for name in json_report._MADE}
+
+
 @given(tables(), st.booleans())
 def test_each_line_is_orjson_of_the_findings_dict(table, status):
-    lines = json_report._lines(table, 0, len(table), status, {})
+    lines = json_report._lines(table, _made(table, 0), 0, 0, len(table), status, {})
     assert lines == _expected(table, status)
 
 
-@given(tables(), st.integers(0, 8), st.integers(0, 8))
-def test_any_range_of_rows_gives_the_same_lines(table, a, b):
+@given(tables(), st.integers(0, 8), st.integers(0, 8), st.integers(0, 8))
+def test_any_range_of_rows_gives_the_same_lines(table, a, b, first):
     a, b = sorted((min(a, len(table)), min(b, len(table))))
-    assert json_report._lines(table, a, b, False, {}) == _expected(table, False)[a:b]
+    first = min(first, a)  # the chunk the rows are in starts at or before them
+    lines = json_report._lines(table, _made(table, first), first, a, b, False, {})
+    assert lines == _expected(table, False)[a:b]

@@ -23,6 +23,7 @@ from ..equations.engine import (
 from ..readers.table import Table
 from ..runtime import DEFAULT, Runtime, SharedBlocks, in_thread
 from ._registry import Severity
+from .blocks import ValueColumn
 from .crossings import MeltingSlopes, Pairs, find_pairs
 from .evidence import EvidenceColumn, clean
 from .extrema import RangeExtrema, extrema_over_ranges
@@ -624,9 +625,7 @@ class AuditContext:
         """:class:`Hits` about the pairs ``ks``: both record ids, located at the solid."""
         pr = self.pairs
         ks = np.asarray(ks, dtype=np.int64)
-        s, lq = pr.solid[ks], pr.liquid[ks]
-        records = list(zip(self.ids(s), self.ids(lq), strict=True))
-        return Hits(s, messages, evidence, records, partners=lq, tier=tier)
+        return Hits(pr.solid[ks], messages, evidence, partners=pr.liquid[ks], tier=tier)
 
     def finding(self, check: str, severity: Severity, hit: Hit) -> Finding:
         """The finding of one :class:`Hit` of ``check`` (the runner's, with the severity it
@@ -658,37 +657,58 @@ class AuditContext:
     def findings(self, check: str, severity: Severity, hits: Hits) -> Findings:
         """The findings of a block of :class:`Hits` of ``check`` (the runner's, with the
         severity it gave the block's tier): what :meth:`finding` does one at a time (the
-        substance, the record id, the file and line), taken for all rows in a few array
-        operations, for checks that report thousands of records. Float evidence columns
-        become Python floats, with None where not finite.
+        substance, the record ids, the file and line), for checks that report thousands of
+        records. Those fields are kept as the rows' codes, ids and lines, taken for the
+        block in a few array operations, and made into Python values when read
+        (:class:`~vpaudit.checks.blocks.ValueColumn`). Float evidence columns become
+        Python floats, with None where not finite.
         """
         rows = np.asarray(hits.rows, dtype=np.int64)
-        if rows.size == 0:
+        n = rows.size
+        if n == 0:
             return Findings()
         records, partners = hits.records, hits.partners
         codes = self.codes[rows]
-        subs = self._names.take(pa.array(np.maximum(codes, 0))).to_pylist()
-        for i in np.flatnonzero(codes < 0).tolist():  # a record without a substance
-            subs[i] = ""
+        names = self._names.take(pa.array(np.maximum(codes, 0)))
+        if (codes < 0).any():  # a record without a substance
+            import pyarrow.compute as pc
+
+            names = pc.if_else(pa.array(codes < 0), pa.scalar("", names.type), names)
+        ids = self._id_values.take(pa.array(rows))
         if partners is not None:
-            table_rows = list(zip(rows.tolist(), np.asarray(partners).tolist(), strict=True))
+            partners = np.asarray(partners, dtype=np.int64)
+            table_rows = _made(lambda p: _zipped(rows[p].tolist(), partners[p].tolist()), n)
+            if records is None:  # the ids of both records
+                second = self._id_values.take(pa.array(partners))
+                records = _made(lambda p: _zipped(_texts(ids, p), _texts(second, p)), n)
         elif records is None:
-            table_rows = [(r,) for r in rows.tolist()]
+            table_rows = _made(lambda p: [(r,) for r in rows[p].tolist()], n)
+            records = _made(lambda p: [(i,) for i in _texts(ids, p)], n)
         else:
-            table_rows = [()] * rows.size
-        if records is None:
-            records = [(i,) for i in self.ids(rows)]
-        files = self.files_of(rows)
+            table_rows = _made(lambda p: [()] * p.size, n)
+        file, line = self.located(rows)
         return Findings.block(
             check,
             severity,
-            subs,
-            list(records),
+            _made(lambda p: _texts(names, p), n),
+            records if isinstance(records, ValueColumn) else ValueColumn.of_list(list(records)),
             list(hits.messages),
-            EvidenceColumn.of_columns(hits.evidence, rows.size),
-            files,
-            self.line[rows].tolist(),
+            EvidenceColumn.of_columns(hits.evidence, n),
+            file,
+            line,
             table_rows,
+        )
+
+    def located(self, rows: np.ndarray) -> tuple[ValueColumn, ValueColumn]:
+        """The file and the line of records ``rows``, as findings' columns (made when
+        read).
+        """
+        file_code, line = self.file_code[rows], self.line[rows]
+        files = np.array([str(f) for f in self._files.tolist()], dtype=object)
+        n = len(rows)
+        return (
+            _made(lambda p: files[file_code[p]].tolist(), n),
+            _made(lambda p: line[p].tolist(), n),
         )
 
     def ids(self, rows: np.ndarray) -> list[str]:
@@ -745,3 +765,18 @@ class AuditContext:
         """
         self.pairs  # noqa: B018  (made with the pairs, block by block)
         return self._melting
+
+
+def _made(make: Callable[[np.ndarray], list], n: int) -> ValueColumn:
+    """A column of ``n`` values that ``make(positions)`` makes when read."""
+    return ValueColumn.made_by(make, n)
+
+
+def _texts(values: pa.Array, positions: np.ndarray) -> list[str]:
+    """The texts at ``positions`` of ``values``, as Python strings."""
+    return values.take(pa.array(positions)).to_pylist()
+
+
+def _zipped(first: list, second: list) -> list[tuple]:
+    """The pairs of ``first`` and ``second``, as tuples."""
+    return list(zip(first, second, strict=True))

@@ -16,6 +16,8 @@ from typing import Any
 
 import numpy as np
 
+from .blocks import BlockColumn
+
 __all__ = ["EvidenceColumn", "clean"]
 
 
@@ -70,35 +72,20 @@ def _value(column, position: int):
     return column[position]
 
 
-class EvidenceColumn:
+class EvidenceColumn(BlockColumn):
     """Evidence of each finding: rows of blocks of columns, or dicts given one by one.
 
-    Row ``k`` is position ``pos[k]`` of block ``block[k]``; a block of -1 means the dict
-    ``own[pos[k]]``, given whole (a finding made one at a time, or changed later).
-    Behaves as a list of dicts: indexing, slicing, iteration, ``append``, ``extend``,
-    assignment to one row and :meth:`take`.
+    A block is ``(keys, columns)``: one column (an array, a list or a shared value) per
+    key. A row of block -1 is a dict given whole (a finding made one at a time, or changed
+    later). Behaves as a list of dicts (:class:`~vpaudit.checks.blocks.BlockColumn`).
     """
 
-    __slots__ = ("_blocks", "_block", "_pos", "_own")
-
-    def __init__(
-        self,
-        blocks: list[tuple[tuple[str, ...], list]] | None = None,
-        block: np.ndarray | None = None,
-        pos: np.ndarray | None = None,
-        own: list[dict] | None = None,
-    ) -> None:
-        self._blocks = blocks or []
-        self._block = np.empty(0, dtype=np.int64) if block is None else block
-        self._pos = np.empty(0, dtype=np.int64) if pos is None else pos
-        self._own = own or []
+    __slots__ = ()
 
     @classmethod
     def of_dicts(cls, dicts: Iterable[dict]) -> EvidenceColumn:
         """A column of the dicts ``dicts``, as they are."""
-        own = list(dicts)
-        n = len(own)
-        return cls([], np.full(n, -1, dtype=np.int64), np.arange(n, dtype=np.int64), own)
+        return cls.of_own(dicts)  # type: ignore[return-value]
 
     @classmethod
     def of_columns(cls, evidence: dict, n: int) -> EvidenceColumn:
@@ -115,65 +102,11 @@ class EvidenceColumn:
                 columns.append(value)
             else:
                 columns.append(_Shared(clean({"v": value})["v"]))
-        return cls([(keys, columns)], np.zeros(n, dtype=np.int64), np.arange(n, dtype=np.int64), [])
+        return cls.of_block((keys, columns), n)  # type: ignore[return-value]
 
-    # --- a list of dicts ---------------------------------------------------------------------
-    def __len__(self) -> int:
-        return int(self._block.size)
-
-    def __getitem__(self, k):
-        if isinstance(k, slice):  # copies: a row set in one never changes the other
-            return EvidenceColumn(
-                self._blocks, self._block[k].copy(), self._pos[k].copy(), self._own
-            )
-        b, p = int(self._block[k]), int(self._pos[k])
-        if b < 0:
-            return self._own[p]
-        keys, columns = self._blocks[b]
-        return dict(zip(keys, (_value(c, p) for c in columns), strict=True))
-
-    def __setitem__(self, k: int, value: dict) -> None:
-        # the list of dicts only grows, so columns made from this one may share it
-        self._own.append(value)
-        self._block[k] = -1
-        self._pos[k] = len(self._own) - 1
-
-    def __iter__(self) -> Iterator[dict]:
-        step = 20_000
-        for a in range(0, len(self), step):
-            yield from self.dicts(np.arange(a, min(a + step, len(self))))
-
-    def __eq__(self, other: object) -> bool:
-        if isinstance(other, EvidenceColumn | list):
-            return list(self) == list(other)
-        return NotImplemented
-
-    def __repr__(self) -> str:
-        return f"<EvidenceColumn: {len(self)} row(s) in {len(self._blocks)} block(s)>"
-
-    def tolist(self) -> list[dict]:
-        """Every row's dict."""
-        return list(self)
-
-    def append(self, value: dict) -> None:
-        """Add one row, given as a dict."""
-        self.extend(EvidenceColumn.of_dicts([value]))
-
-    def extend(self, other: EvidenceColumn | Iterable[dict]) -> None:
-        """Add the rows of ``other`` (a column or dicts) at the end."""
-        if not isinstance(other, EvidenceColumn):
-            other = EvidenceColumn.of_dicts(other)
-        block = np.where(other._block >= 0, other._block + len(self._blocks), -1)
-        pos = np.where(other._block >= 0, other._pos, other._pos + len(self._own))
-        self._blocks = [*self._blocks, *other._blocks]
-        self._own = [*self._own, *other._own]
-        self._block = np.concatenate([self._block, block])
-        self._pos = np.concatenate([self._pos, pos])
-
-    def take(self, rows) -> EvidenceColumn:
-        """The rows ``rows``, in that order."""
-        rows = np.asarray(rows, dtype=np.int64)
-        return EvidenceColumn(self._blocks, self._block[rows], self._pos[rows], self._own)
+    def _one(self, block, position: int) -> dict:
+        keys, columns = block
+        return dict(zip(keys, (_value(c, position) for c in columns), strict=True))
 
     def groups(self, rows: np.ndarray) -> Iterator[tuple[np.ndarray, tuple | None, list, list]]:
         """Rows ``rows`` grouped by where their numbers are kept, for a reader that works a
@@ -182,16 +115,13 @@ class EvidenceColumn:
         key, as :func:`_values` gives them; for dicts given whole, the list of dicts) and,
         per key, whether every value is a plain number or None (a numeric array's).
         """
-        rows = np.asarray(rows, dtype=np.int64)
-        block, pos = self._block[rows], self._pos[rows]
-        for b in np.unique(block).tolist():
-            at = np.flatnonzero(block == b)
-            where = pos[at]
+        for at, b, where in self._where(rows):
             if b < 0:
                 own = self._own
                 yield at, None, [own[p] for p in where.tolist()], []
                 continue
             keys, columns = self._blocks[b]
+            where = where.astype(np.int64)
             plain = [isinstance(c, np.ndarray) and c.dtype.kind in "biuf" for c in columns]
             yield at, keys, [_values(c, where) for c in columns], plain
 
@@ -208,3 +138,5 @@ class EvidenceColumn:
             for i, d in zip(at.tolist(), made, strict=True):
                 out[i] = d
         return out
+
+    values = dicts

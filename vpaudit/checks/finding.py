@@ -16,6 +16,7 @@ from typing import Any, overload
 import numpy as np
 
 from ._registry import Severity
+from .blocks import BlockColumn, ValueColumn
 from .evidence import EvidenceColumn
 
 __all__ = ["Finding", "Findings", "FIELDS", "REPORTED"]
@@ -136,13 +137,19 @@ _DEFAULTS = {
     "rows": tuple,
 }
 
+#: The fields kept as blocks (:class:`~vpaudit.checks.blocks.ValueColumn`): most of them
+#: follow from the table rows of a check's block, and are made when read.
+_BLOCKED = frozenset({"substance", "records", "message", "file", "line", "rows"})
+
 #: Sorting position of each severity: errors first.
 _FIRST = {s: -s.rank for s in Severity}
 
 
 class Findings:
-    """Findings as a table: one list per field of :data:`FIELDS`, row ``i`` of every list
-    one finding.
+    """Findings as a table: one column per field of :data:`FIELDS`, row ``i`` of every
+    column one finding. The check, severity, suggestion and status are lists; the evidence
+    an :class:`~vpaudit.checks.evidence.EvidenceColumn`; the other fields
+    :class:`~vpaudit.checks.blocks.ValueColumn` (values made when read).
 
     Checks produce blocks of rows (:meth:`block`); the audit joins them (:meth:`extend`),
     changes single cells (:meth:`set`) and sorts the rows (:meth:`sort`) without making a
@@ -166,6 +173,8 @@ class Findings:
                 col = [_DEFAULTS[name]() for _ in range(n)] if n else []
             if name == "evidence" and not isinstance(col, EvidenceColumn):
                 col = EvidenceColumn.of_dicts(col)
+            elif name in _BLOCKED and not isinstance(col, ValueColumn):
+                col = ValueColumn.of_list(list(col))
             if len(col) != n:
                 raise ValueError(f"column {name!r} has {len(col)} rows, not {n}")
             setattr(self, name, col)
@@ -181,15 +190,17 @@ class Findings:
         cls,
         check: str,
         severity: Severity,
-        substance: list[str],
-        records: list[tuple[str, ...]],
-        message: list[str],
+        substance: ValueColumn | list[str],
+        records: ValueColumn | list[tuple[str, ...]],
+        message: ValueColumn | list[str],
         evidence: EvidenceColumn,
-        file: list[str | None],
-        line: list[int | None],
-        rows: list[tuple[int, ...]],
+        file: ValueColumn | list[str | None],
+        line: ValueColumn | list[int | None],
+        rows: ValueColumn | list[tuple[int, ...]],
     ) -> Findings:
-        """Rows of one check and one severity, from their other columns."""
+        """Rows of one check and one severity, from their other columns (lists, or
+        columns whose values are made when read).
+        """
         n = len(message)
         return cls(
             check=[check] * n,
@@ -296,7 +307,9 @@ class Findings:
             setattr(self, name, _take(getattr(self, name), order))
 
 
-def _default_order(severity: list, substance: list, check: list, records: list) -> list[int]:
+def _default_order(
+    severity: list, substance: ValueColumn, check: list, records: ValueColumn
+) -> list[int]:
     """The rows in the order of ``sorted`` on (errors first, substance, check, records),
     stably: the first three as integer ranks (each text ranked as Python orders it) sorted
     by one array sort, then only the runs of rows equal in all three ordered by their
@@ -308,7 +321,7 @@ def _default_order(severity: list, substance: list, check: list, records: list) 
     if n < 2:
         return list(range(n))
     first = np.fromiter((_FIRST[s] for s in severity), dtype=np.int64, count=n)
-    sub = pd.factorize(np.asarray(substance, dtype=object), sort=True)[0]
+    sub = pd.factorize(np.asarray(substance.tolist(), dtype=object), sort=True)[0]
     chk = pd.factorize(np.asarray(check, dtype=object), sort=True)[0]
     order = np.lexsort((chk, sub, first))  # stable: the last key is the first sorted on
     a, b, c = first[order], sub[order], chk[order]
@@ -317,13 +330,18 @@ def _default_order(severity: list, substance: list, check: list, records: list) 
     if same.any():  # runs of rows equal in all three: by their records
         starts = np.flatnonzero(np.diff(np.concatenate(([0], same.astype(np.int8)))) == 1)
         ends = np.flatnonzero(np.diff(np.concatenate((same.astype(np.int8), [0]))) == -1) + 1
+        tied = np.zeros(n, dtype=bool)  # the rows of the runs, whose records are read
+        runs = zip(starts.tolist(), ends.tolist(), strict=True)
+        tied[np.concatenate([order[lo : hi + 1] for lo, hi in runs])] = True
+        at = np.flatnonzero(tied)
+        recs = dict(zip(at.tolist(), records.values(at), strict=True))
         for lo, hi in zip(starts.tolist(), ends.tolist(), strict=True):
-            out[lo : hi + 1] = sorted(out[lo : hi + 1], key=records.__getitem__)
+            out[lo : hi + 1] = sorted(out[lo : hi + 1], key=recs.__getitem__)
     return out
 
 
 def _take(column, rows: list[int]):
     """Rows ``rows`` of one column of :class:`Findings`."""
-    if isinstance(column, EvidenceColumn):
+    if isinstance(column, BlockColumn):
         return column.take(np.asarray(rows, dtype=np.int64))
     return [column[i] for i in rows]

@@ -34,7 +34,8 @@ class Hits:
         The numbers behind the verdicts: each key (with its unit in the name) maps to a
         column (an array or a list, one value per row) or to one value shared by all.
     records : list of tuple of str, optional
-        The record ids of each finding, when not the row's own record.
+        The record ids of each finding, when not the row's own record (or, with
+        ``partners``, the ids of the row's record and its partner's).
     partners : ndarray of int, optional
         A second record row for each finding (a solid/liquid pair), named second.
     tier : str, optional

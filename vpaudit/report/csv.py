@@ -61,7 +61,7 @@ def chunks(result) -> Iterator[str]:
                 line or "",
                 json.dumps(ev, sort_keys=True),
                 json.dumps(sug) if sug else "",
-                _lead(undecided, findings, a + k),
+                _lead(undecided, findings, a + k, sub),
             ]
             if statuses is not None:
                 row.append(statuses[k] or "new")
@@ -69,11 +69,12 @@ def chunks(result) -> Iterator[str]:
         yield buf.getvalue()
 
 
-def _lead(undecided: Undecided, findings, i: int) -> str:
-    """The ``undecided`` cell of finding ``i``: its substance's readings where this finding
-    is where they are said (only substances with such readings make a row view).
+def _lead(undecided: Undecided, findings, i: int, substance: str) -> str:
+    """The ``undecided`` cell of finding ``i`` (of ``substance``): its substance's readings
+    where this finding is where they are said (only substances with such readings make a
+    row view).
     """
-    if not undecided.pending(findings.substance[i]):
+    if not undecided.pending(substance):
         return ""
     entry = undecided.entry(findings[i])
     return json.dumps(entry) if entry else ""

@@ -91,23 +91,31 @@ def _evidence(column, start: int, stop: int) -> list[bytes]:
     return out
 
 
-def _lines(findings, start: int, stop: int, status: bool, cache: dict) -> list[bytes]:
+#: The fields kept as columns whose values are made when read: made once per chunk.
+_MADE = ("substance", "records", "message", "file", "line")
+
+
+def _lines(
+    findings, made: dict[str, list], first: int, start: int, stop: int, status: bool, cache: dict
+) -> list[bytes]:
     """The JSON text of rows ``start`` to ``stop`` of ``findings``, one line each: what
     ``orjson.dumps`` of :meth:`~vpaudit.checks.finding.Findings.dicts` gives, made a column
     at a time (each field encoded for the whole chunk, the lines put together by one
-    ``%`` each).
+    ``%`` each). ``made`` holds the values of the fields of :data:`_MADE` from row
+    ``first`` on.
     """
     part = slice(start, stop)
+    own = slice(start - first, stop - first)
     fields = [
         _same(findings.check[part], cache),
         _same(findings.severity[part], cache),
-        _texts(findings.substance[part]),
-        _texts(findings.records[part]),
-        _texts(findings.message[part]),
+        _texts(made["substance"][own]),
+        _texts(made["records"][own]),
+        _texts(made["message"][own]),
         _evidence(findings.evidence, start, stop),
         [b"null" if s is None else _encode(s) for s in findings.suggestion[part]],
-        _same(findings.file[part], cache),
-        [b"null" if n is None else b"%d" % n for n in findings.line[part]],
+        _same(made["file"][own], cache),
+        [b"null" if n is None else b"%d" % n for n in made["line"][own]],
     ]
     if status:
         fields.append(_same([s or "new" for s in findings.status[part]], cache))
@@ -124,11 +132,15 @@ def chunks(result) -> Iterator[str]:
     cache: dict = {}  # texts that repeat: checks, severities, files, statuses
     n = len(findings)
     for a in range(0, n, CHUNK):
-        made: list[bytes] = []
-        for b in range(a, min(a + CHUNK, n), _FIELD_ROWS):
-            made += _lines(findings, b, min(b + _FIELD_ROWS, a + CHUNK, n), result.gated, cache)
-        lines = b",\n".join(made)
-        yield (b",\n" + lines if a else lines).decode("utf-8")
+        stop = min(a + CHUNK, n)
+        rows = np.arange(a, stop)
+        made = {name: getattr(findings, name).values(rows) for name in _MADE}
+        lines: list[bytes] = []
+        for b in range(a, stop, _FIELD_ROWS):
+            end = min(b + _FIELD_ROWS, stop)
+            lines += _lines(findings, made, a, b, end, result.gated, cache)
+        text = b",\n".join(lines)
+        yield (b",\n" + text if a else text).decode("utf-8")
     if result.gated:  # what the change cleared, after what it left
         resolved = b",\n".join(_encode(d) for d in result.resolved_dicts()).decode("utf-8")
         yield f'\n],\n"resolved": [\n{resolved}\n]}}\n' if resolved else '\n],\n"resolved": []}\n'

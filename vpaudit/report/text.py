@@ -47,7 +47,11 @@ def render(result, width: int = 100) -> str:
     undecided = Undecided(s)  # said once per substance, in the first block that has it
 
     findings = result.findings
-    severity, substance = findings.severity, findings.substance
+    severity, check, suggestion = findings.severity, findings.check, findings.suggestion
+    # the fields that are made when read, made once for the whole report
+    substance, records = findings.substance.tolist(), findings.records.tolist()
+    message, file_ = findings.message.tolist(), findings.file.tolist()
+    line_ = findings.line.tolist()
 
     def block(rows) -> None:
         """The findings of ``rows`` (table rows), by substance, worst first: read from the
@@ -66,21 +70,16 @@ def render(result, width: int = 100) -> str:
             lines.append(f"{name or '(table)'} -- {_counts(severity[i] for i in rs)}")
             explained = Explained()  # each substance's fix is explained once
             for i in rs:
-                check, records, file, line = (
-                    findings.check[i],
-                    findings.records[i],
-                    findings.file[i],
-                    findings.line[i],
-                )
-                spec = f"{check}:{','.join(records)}"
+                ids, file, line = records[i], file_[i], line_[i]
+                spec = f"{check[i]}:{','.join(ids)}"
                 where = f" ({file}{f':{line}' if line else ''})" if file else ""
-                ident = spec if status_of else f"{check}: {', '.join(records)}"
+                ident = spec if status_of else f"{check[i]}: {', '.join(ids)}"
                 lines.append(f"  {severity[i].label:<8}{ident}{where}")
-                lines.extend(wrap.wrap(findings.message[i]))
+                lines.extend(wrap.wrap(message[i]))
                 lead = undecided.sentence(findings[i]) if undecided.pending(name) else None
                 if lead:
                     lines.extend(wrap.wrap(f"diagnosis: {lead}"))
-                sug = findings.suggestion[i]
+                sug = suggestion[i]
                 if sug:
                     if not explained.first(sug):
                         lines.append(f"      suggestion: {same_fix(sug)}")

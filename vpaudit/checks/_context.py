@@ -692,7 +692,7 @@ class AuditContext:
             severity,
             _made(lambda p: _texts(names, p), n),
             records if isinstance(records, ValueColumn) else ValueColumn.of_list(list(records)),
-            list(hits.messages),
+            hits.messages if isinstance(hits.messages, ValueColumn) else list(hits.messages),
             EvidenceColumn.of_columns(hits.evidence, n),
             file,
             line,

@@ -12,12 +12,27 @@ of its declared tier under the policy
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
 
-__all__ = ["Hit", "Hits"]
+from .blocks import ValueColumn
+
+__all__ = ["Hit", "Hits", "sentences"]
+
+
+def sentences(say: Callable[..., list[str]], *columns: np.ndarray) -> ValueColumn:
+    """The messages of a block of hits, made when read: ``say`` of the rows' values of
+    ``columns`` (arrays, one value per row), one sentence per row.
+
+    A check whose findings may number hundreds of thousands gives its sentences so (the
+    sentence is most of a finding's memory); the columns are copied, so that a check may
+    reuse its arrays.
+    """
+    kept = [np.array(c, copy=True) for c in columns]
+    return ValueColumn.made_by(lambda p: say(*(c[p] for c in kept)), len(kept[0]))
 
 
 @dataclass
@@ -28,8 +43,9 @@ class Hits:
     ----------
     rows : ndarray of int
         The table row of each finding's record (where it is located).
-    messages : list of str
-        One plain sentence per row, with the numbers and units.
+    messages : list of str or ValueColumn
+        One plain sentence per row, with the numbers and units (or :func:`sentences`,
+        made when read).
     evidence : dict
         The numbers behind the verdicts: each key (with its unit in the name) maps to a
         column (an array or a list, one value per row) or to one value shared by all.
@@ -43,7 +59,7 @@ class Hits:
     """
 
     rows: np.ndarray
-    messages: list[str]
+    messages: list[str] | ValueColumn
     evidence: dict[str, Any]
     records: list[tuple[str, ...]] | None = None
     partners: np.ndarray | None = None

@@ -14,7 +14,7 @@ from ..equations.engine import evaluate, heat_capacity_from
 from ._context import LN_P_STANDARD, AuditContext, match, stated_tolerance
 from ._registry import Scope, Severity, Threshold, check
 from ._text import jk, kelvin, kj, ln_ratio, pressure_at_ln
-from .hits import Hit, Hits
+from .hits import Hit, Hits, sentences
 from .real_gas import departure
 
 __all__: list[str] = []
@@ -107,31 +107,8 @@ def enthalpy_implausible(ctx: AuditContext, th: dict[str, float]):
     if rows.size == 0:
         return
     _, liquid, t, y, y1, ds, lo, hi, use_tb = standard_entropy(ctx, th, rows)
-    hint = (
-        " Usual causes: log10 coefficients read as ln or the reverse (dH off by a "
-        "factor 2.3), or a wrong pressure unit (dS shifted by R ln of the factor)."
-    )
     h = R * t**2 * y1
-    with np.errstate(over="ignore", under="ignore"):
-        p = np.exp(y)
-    messages = [
-        f"the implied entropy of {'vaporization' if is_liquid else 'sublimation'} referred to "
-        f"the standard pressure, dS = dH/T + R ln(P/101325 Pa), is {jk(dsk)} at {kelvin(tk)} "
-        f"(dH = {kj(hk)}, P = {pressure_at_ln(yk, pk, 3)}), outside the plausible "
-        f"{lok:.0f}..{hik:.0f} "
-        f"J/(mol K){' at that pressure' if is_liquid else ''}.{hint}"
-        for is_liquid, dsk, tk, hk, yk, pk, lok, hik in zip(
-            liquid.tolist(),
-            ds.tolist(),
-            t.tolist(),
-            h.tolist(),
-            y.tolist(),
-            p.tolist(),
-            lo.tolist(),
-            hi.tolist(),
-            strict=True,
-        )
-    ]
+    messages = sentences(_entropy_sentences, liquid, ds, t, h, y, lo, hi)
     yield Hits(
         rows,
         messages,
@@ -295,31 +272,13 @@ def heat_capacity_sign(ctx: AuditContext, th: dict[str, float]):
             "the sign of the log T coefficient",
         ),
     )
-    messages = [
-        f"the implied dCp reaches {jk(c)} at {kelvin(x)}; it should be negative "
-        f"(the condensed phase holds more heat than its vapour): check {what}, or whether "
-        "the curve is used outside its fitted range"
-        + (
-            f". Over this narrow range that curvature bends ln P by only {b:.2g}, "
-            "within the record's uncertainty."
-            if quiet
-            else "."
-        )
-        for c, x, b, quiet, what in zip(
-            cp.tolist(),
-            t.tolist(),
-            bow.tolist(),
-            (far & ~shown).tolist(),
-            term.tolist(),
-            strict=True,
-        )
-    ]
+    quiet = far & ~shown
     for tier, sel in ((None, ~(far & shown)), ("beyond-error-above", far & shown)):
         ks = np.flatnonzero(sel)
         if ks.size:
             yield Hits(
                 rows[ks],
-                [messages[k] for k in ks.tolist()],
+                sentences(_dcp_sentences, cp[ks], t[ks], bow[ks], quiet[ks], term[ks]),
                 {
                     "heat_capacity_change_J_per_mol_K": cp[ks],
                     "at_K": t[ks],
@@ -624,3 +583,49 @@ def points_misfit(ctx: AuditContext, th: dict[str, float]):
                 "factor": th["factor"],
             },
         )
+
+
+def _entropy_sentences(liquid, ds, t, h, y, lo, hi) -> list[str]:
+    """The messages of ``enthalpy-implausible`` (arrays, one value per finding)."""
+    hint = (
+        " Usual causes: log10 coefficients read as ln or the reverse (dH off by a "
+        "factor 2.3), or a wrong pressure unit (dS shifted by R ln of the factor)."
+    )
+    with np.errstate(over="ignore", under="ignore"):
+        p = np.exp(y)
+    return [
+        f"the implied entropy of {'vaporization' if is_liquid else 'sublimation'} referred to "
+        f"the standard pressure, dS = dH/T + R ln(P/101325 Pa), is {jk(dsk)} at {kelvin(tk)} "
+        f"(dH = {kj(hk)}, P = {pressure_at_ln(yk, pk, 3)}), outside the plausible "
+        f"{lok:.0f}..{hik:.0f} "
+        f"J/(mol K){' at that pressure' if is_liquid else ''}.{hint}"
+        for is_liquid, dsk, tk, hk, yk, pk, lok, hik in zip(
+            liquid.tolist(),
+            ds.tolist(),
+            t.tolist(),
+            h.tolist(),
+            y.tolist(),
+            p.tolist(),
+            lo.tolist(),
+            hi.tolist(),
+            strict=True,
+        )
+    ]
+
+
+def _dcp_sentences(cp, t, bow, quiet, term) -> list[str]:
+    """The messages of ``heat-capacity-sign`` (arrays, one value per finding)."""
+    return [
+        f"the implied dCp reaches {jk(c)} at {kelvin(x)}; it should be negative "
+        f"(the condensed phase holds more heat than its vapour): check {what}, or whether "
+        "the curve is used outside its fitted range"
+        + (
+            f". Over this narrow range that curvature bends ln P by only {b:.2g}, "
+            "within the record's uncertainty."
+            if q
+            else "."
+        )
+        for c, x, b, q, what in zip(
+            cp.tolist(), t.tolist(), bow.tolist(), quiet.tolist(), term.tolist(), strict=True
+        )
+    ]

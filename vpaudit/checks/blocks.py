@@ -30,6 +30,7 @@ _INDEX = np.int32
 
 
 def _index(values) -> np.ndarray:
+    """``values`` as block or position numbers."""
     return np.asarray(values, dtype=_INDEX)
 
 
@@ -38,8 +39,8 @@ class BlockColumn:
     means the value ``own[pos[k]]``, given on its own (a row appended or changed later).
 
     Behaves as a list: indexing, slicing (a copy), iteration, ``append``, ``extend``,
-    assignment to one row, :meth:`take` and :meth:`values`. A subclass says what a block is
-    (:meth:`_one` and :meth:`groups`).
+    assignment to one row, :meth:`put`, :meth:`take` and :meth:`values`. A subclass says
+    what a block is and how its values are made (:meth:`_one` and :meth:`values`).
     """
 
     __slots__ = ("_blocks", "_block", "_pos", "_own")

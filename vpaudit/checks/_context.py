@@ -737,7 +737,6 @@ class AuditContext:
         )
 
     # --- solid/liquid pairs --------------------------------------------------------------
-    # --- solid/liquid pairs --------------------------------------------------------------
     @cached_property
     def pairs(self) -> Pairs:
         """The solid/liquid pairs of the table and their crossings

@@ -263,15 +263,9 @@ def heat_capacity_sign(ctx: AuditContext, th: dict[str, float]):
         far = cp > th["error_above"] * factor
         shown = bow > u  # False where the bow is not known
     # the term whose sign bends the curve so, in each family's own coefficients
-    term = np.where(
-        ctx.curves.is_wagner[rows],
-        "the signs of the C and D terms",
-        np.where(
-            ctx.antoine[rows],
-            "C (an Antoine curve whose pole lies below 0 K bends so)",
-            "the sign of the log T coefficient",
-        ),
-    )
+    # (_BENDING_TERM: log-linear, Antoine, Wagner)
+    term = np.where(ctx.curves.is_wagner[rows], 2, np.where(ctx.antoine[rows], 1, 0))
+    term = term.astype(np.int8)
     quiet = far & ~shown
     for tier, sel in ((None, ~(far & shown)), ("beyond-error-above", far & shown)):
         ks = np.flatnonzero(sel)
@@ -613,8 +607,18 @@ def _entropy_sentences(liquid, ds, t, h, y, lo, hi) -> list[str]:
     ]
 
 
+#: The term whose sign bends a curve so, by family (log-linear, Antoine, Wagner).
+_BENDING_TERM = (
+    "the sign of the log T coefficient",
+    "C (an Antoine curve whose pole lies below 0 K bends so)",
+    "the signs of the C and D terms",
+)
+
+
 def _dcp_sentences(cp, t, bow, quiet, term) -> list[str]:
-    """The messages of ``heat-capacity-sign`` (arrays, one value per finding)."""
+    """The messages of ``heat-capacity-sign`` (arrays, one value per finding; ``term`` an
+    index into :data:`_BENDING_TERM`).
+    """
     return [
         f"the implied dCp reaches {jk(c)} at {kelvin(x)}; it should be negative "
         f"(the condensed phase holds more heat than its vapour): check {what}, or whether "
@@ -626,6 +630,11 @@ def _dcp_sentences(cp, t, bow, quiet, term) -> list[str]:
             else "."
         )
         for c, x, b, q, what in zip(
-            cp.tolist(), t.tolist(), bow.tolist(), quiet.tolist(), term.tolist(), strict=True
+            cp.tolist(),
+            t.tolist(),
+            bow.tolist(),
+            quiet.tolist(),
+            map(_BENDING_TERM.__getitem__, term.tolist()),
+            strict=True,
         )
     ]

@@ -15,6 +15,7 @@ from ._context import AuditContext
 from ._registry import Scope, Severity, Threshold, check
 from ._text import kelvin, kj, ln_ratio
 from .extrapolation import allowance
+from .hits import sentences
 
 __all__: list[str] = []
 
@@ -45,13 +46,17 @@ def pair_not_checkable(ctx: AuditContext, th: dict[str, float]):
     if ks.size == 0:
         return
     far, anchor = pr.extrapolation[ks], pr.anchor[ks]
-    yield ctx.pair_hits(
-        ks,
-        [
+
+    def say(far, anchor) -> list[str]:
+        return [
             f"the solid and liquid ranges stop {f * 100:.0f} % away from "
             f"the melting region near {kelvin(a)}: the pair is not checked."
             for f, a in zip(far.tolist(), anchor.tolist(), strict=True)
-        ],
+        ]
+
+    yield ctx.pair_hits(
+        ks,
+        sentences(say, far, anchor),
         {"extrapolation_fraction": far, "anchor_K": anchor},
     )
 
@@ -101,24 +106,23 @@ def no_crossing(ctx: AuditContext, th: dict[str, float]):
         sel = np.flatnonzero(touch == near)
         if sel.size == 0:
             continue
-        messages = [
-            f"the solid and liquid curves do not cross between {kelvin(a_lo)} and "
-            f"{kelvin(a_hi)}; at {kelvin(a)} they differ by {ln_ratio(d)}"
-            + (
-                f", within the melting-point tolerance there ({t:.3g}): they touch without "
-                "crossing, their slopes nearly equal."
-                if near
-                else "."
-            )
-            for a_lo, a_hi, a, d, t in zip(
-                lo[sel].tolist(),
-                hi[sel].tolist(),
-                at[sel].tolist(),
-                diff[sel].tolist(),
-                tol[sel].tolist(),
-                strict=True,
-            )
-        ]
+
+        def say(lo, hi, at, diff, tol, near=near) -> list[str]:
+            return [
+                f"the solid and liquid curves do not cross between {kelvin(a_lo)} and "
+                f"{kelvin(a_hi)}; at {kelvin(a)} they differ by {ln_ratio(d)}"
+                + (
+                    f", within the melting-point tolerance there ({t:.3g}): they touch "
+                    "without crossing, their slopes nearly equal."
+                    if near
+                    else "."
+                )
+                for a_lo, a_hi, a, d, t in zip(
+                    lo.tolist(), hi.tolist(), at.tolist(), diff.tolist(), tol.tolist(), strict=True
+                )
+            ]
+
+        messages = sentences(say, lo[sel], hi[sel], at[sel], diff[sel], tol[sel])
         evidence = {
             "window_min_K": lo[sel],
             "window_max_K": hi[sel],
@@ -282,20 +286,29 @@ def crossing_outside_range(ctx: AuditContext, th: dict[str, float]):
     with np.errstate(invalid="ignore"):
         bad = crossed(ctx) & (worst > lim) & (np.abs(d) > tol)
     sel = np.flatnonzero(bad)
-    which = ["solid" if on_solid else "liquid" for on_solid in (over_s >= over_l)[sel].tolist()]
+    on_solid = (over_s >= over_l)[sel]
+    which = ["solid" if s else "liquid" for s in on_solid.tolist()]
     t, worst, edge, d = t[sel], worst[sel], edge[sel], d[sel]
-    messages = [
-        f"the curves cross at {kelvin(tk)}, {wk * 100:.1f} % beyond the {wh} "
-        f"record's range (limit {lim * 100:g} %), and where that range ends "
-        f"({kelvin(ek)}) they differ by {ln_ratio(dk)}: the triple point rests on an "
-        "extrapolation."
-        for tk, wk, ek, dk, wh in zip(
-            t.tolist(), worst.tolist(), edge.tolist(), d.tolist(), which, strict=True
-        )
-    ]
+
+    def say(t, worst, edge, d, on_solid) -> list[str]:
+        return [
+            f"the curves cross at {kelvin(tk)}, {wk * 100:.1f} % beyond the "
+            f"{'solid' if sk else 'liquid'} record's range (limit {lim * 100:g} %), and where "
+            f"that range ends ({kelvin(ek)}) they differ by {ln_ratio(dk)}: the triple "
+            "point rests on an extrapolation."
+            for tk, wk, ek, dk, sk in zip(
+                t.tolist(),
+                worst.tolist(),
+                edge.tolist(),
+                d.tolist(),
+                on_solid.tolist(),
+                strict=True,
+            )
+        ]
+
     yield ctx.pair_hits(
         sel,
-        messages,
+        sentences(say, t, worst, edge, d, on_solid),
         {
             "crossing_K": t,
             "extrapolation_fraction": worst,

@@ -15,7 +15,7 @@ from ..equations.engine import evaluate_rows
 from ._context import AuditContext, match, stated_tolerance
 from ._registry import Scope, Severity, Threshold, check
 from ._text import jk, kelvin, kj, ln_ratio, pressure
-from .hits import Hit, Hits
+from .hits import Hit, Hits, sentences
 from .pair import crossed, widened_tolerance
 
 __all__: list[str] = []
@@ -262,38 +262,42 @@ def melting_point_mismatch(ctx: AuditContext, th: dict[str, float]):
             continue
         ks = rows[sel]
         tk_, tm_, d_, ktol_, w_ = pr.t_cross[ks], tm[ks], d[sel], k_tol[sel], widened[sel]
-        base_ = [_tolerance_text(th, b, u) for b, u in zip(by_stated[sel], u_tm[sel], strict=True)]
-        messages = [
-            f"at the reference melting point {kelvin(tmk)} the solid and liquid curves "
-            f"differ by {ln_ratio(dj)}, beyond the tolerance of "
-            + (base if wj == tj else f"{wj:.3g} for curves extrapolated this far")
-            + (
-                f"; they cross at {kelvin(tk)}, {tk - tmk:+.4g} K from it"
-                if math.isfinite(tk)
-                else "; they do not cross nearby"
-            )
-            + f" (the tolerance in kelvin is about +/-{ktol:.3g} K)."
-            if not within
-            else f"at the reference melting point {kelvin(tmk)} the solid and liquid curves "
-            f"differ by {ln_ratio(dj)}, beyond the tolerance of {base} for curves that "
-            f"reach it, but within the {wj:.3g} that 95 % of real equations extrapolated "
-            "this far stay within: the extrapolation may be the cause; "
-            + (
-                f"they cross at {kelvin(tk)}, {tk - tmk:+.4g} K from it."
-                if math.isfinite(tk)
-                else "they do not cross nearby."
-            )
-            for tk, tmk, dj, ktol, wj, tj, base in zip(
-                tk_.tolist(),
-                tm_.tolist(),
-                d_.tolist(),
-                ktol_.tolist(),
-                w_.tolist(),
-                tol[sel].tolist(),
-                base_,
-                strict=True,
-            )
-        ]
+
+        def say(tk_, tm_, d_, ktol_, w_, tol_, by_stated_, u_tm_, within=within) -> list[str]:
+            base_ = [_tolerance_text(th, b, u) for b, u in zip(by_stated_, u_tm_, strict=True)]
+            return [
+                f"at the reference melting point {kelvin(tmk)} the solid and liquid curves "
+                f"differ by {ln_ratio(dj)}, beyond the tolerance of "
+                + (base if wj == tj else f"{wj:.3g} for curves extrapolated this far")
+                + (
+                    f"; they cross at {kelvin(tk)}, {tk - tmk:+.4g} K from it"
+                    if math.isfinite(tk)
+                    else "; they do not cross nearby"
+                )
+                + f" (the tolerance in kelvin is about +/-{ktol:.3g} K)."
+                if not within
+                else f"at the reference melting point {kelvin(tmk)} the solid and liquid "
+                f"curves differ by {ln_ratio(dj)}, beyond the tolerance of {base} for curves "
+                f"that reach it, but within the {wj:.3g} that 95 % of real equations "
+                "extrapolated this far stay within: the extrapolation may be the cause; "
+                + (
+                    f"they cross at {kelvin(tk)}, {tk - tmk:+.4g} K from it."
+                    if math.isfinite(tk)
+                    else "they do not cross nearby."
+                )
+                for tk, tmk, dj, ktol, wj, tj, base in zip(
+                    tk_.tolist(),
+                    tm_.tolist(),
+                    d_.tolist(),
+                    ktol_.tolist(),
+                    w_.tolist(),
+                    tol_.tolist(),
+                    base_,
+                    strict=True,
+                )
+            ]
+
+        messages = sentences(say, tk_, tm_, d_, ktol_, w_, tol[sel], by_stated[sel], u_tm[sel])
         yield ctx.pair_hits(
             ks,
             messages,
@@ -424,31 +428,34 @@ def fusion_enthalpy_mismatch(ctx: AuditContext, th: dict[str, float]):
     at, hs, hl, ref, residual = at[ks], hs[ks], hl[ks], ref[ks], residual[ks]
     tol, by_stated, u = tol[ks], by_stated[ks], u[ks]
     implied = hs - hl
-    messages = [
-        f"at {kelvin(atk)} the curves imply dH_sub - dH_vap = {kj(imp)} against "
-        f"the reference dH_fus {kj(refk)}: a residual of {rel * 100:+.1f} % of "
-        f"dH_sub ({kj(hsk)}), beyond {tk * 100:.3g} %"
-        + (
-            f" ({th['factor']:g} times the reference's stated uncertainty of {kj(uk)})"
-            if stated
-            else ""
-        )
-        + "."
-        for atk, imp, refk, rel, hsk, tk, stated, uk in zip(
-            at.tolist(),
-            implied.tolist(),
-            ref.tolist(),
-            residual.tolist(),
-            hs.tolist(),
-            tol.tolist(),
-            by_stated.tolist(),
-            u.tolist(),
-            strict=True,
-        )
-    ]
+
+    def say(at, implied, ref, residual, hs, tol, by_stated, u) -> list[str]:
+        return [
+            f"at {kelvin(atk)} the curves imply dH_sub - dH_vap = {kj(imp)} against "
+            f"the reference dH_fus {kj(refk)}: a residual of {rel * 100:+.1f} % of "
+            f"dH_sub ({kj(hsk)}), beyond {tk * 100:.3g} %"
+            + (
+                f" ({th['factor']:g} times the reference's stated uncertainty of {kj(uk)})"
+                if stated
+                else ""
+            )
+            + "."
+            for atk, imp, refk, rel, hsk, tk, stated, uk in zip(
+                at.tolist(),
+                implied.tolist(),
+                ref.tolist(),
+                residual.tolist(),
+                hs.tolist(),
+                tol.tolist(),
+                by_stated.tolist(),
+                u.tolist(),
+                strict=True,
+            )
+        ]
+
     yield ctx.pair_hits(
         ks,
-        messages,
+        sentences(say, at, implied, ref, residual, hs, tol, by_stated, u),
         {
             "at_K": at,
             "implied_fusion_J_per_mol": implied,
@@ -484,14 +491,17 @@ def fusion_entropy_implausible(ctx: AuditContext, th: dict[str, float]):
         bad = ok & ~((ds >= th["min"]) & (ds <= th["max"]))
     sel = np.flatnonzero(bad)
     t, ds = pr.t_cross[sel], ds[sel]
-    messages = [
-        f"the implied entropy of fusion at the crossing ({kelvin(tk)}) is "
-        f"{jk(dsk)}, outside the usual {th['min']:g}..{th['max']:g} J/(mol K)."
-        for tk, dsk in zip(t.tolist(), ds.tolist(), strict=True)
-    ]
+
+    def say(t, ds) -> list[str]:
+        return [
+            f"the implied entropy of fusion at the crossing ({kelvin(tk)}) is "
+            f"{jk(dsk)}, outside the usual {th['min']:g}..{th['max']:g} J/(mol K)."
+            for tk, dsk in zip(t.tolist(), ds.tolist(), strict=True)
+        ]
+
     yield ctx.pair_hits(
         sel,
-        messages,
+        sentences(say, t, ds),
         {"fusion_entropy_J_per_mol_K": ds, "crossing_K": t},
     )
 

@@ -32,6 +32,7 @@ from .variants import (
     _Outcome,
     _quiet,
     _screen_units,
+    key_of,
 )
 from .wording import _rounded, _runner_up_text, _suggestion, _together_text
 
@@ -771,12 +772,14 @@ def attach_suggestions(
         for name in sorted(diag)
         if diag[name].get("undecided") is not None
     ]
-    columns = zip(findings.substance, findings.severity, findings.records, strict=True)
-    for k, (sub, sev, recs) in enumerate(columns):
+    columns = zip(
+        findings.check, findings.substance, findings.severity, findings.records, strict=True
+    )
+    for k, (check, sub, sev, recs) in enumerate(columns):
         d = diag.get(sub)
         if not d or d["suggestion"] is None or sev.rank < 1:
             continue
-        key = _key(findings[k])
+        key = key_of(check, recs)
         for fix in (d, d.get("second")):
             sug = fix["suggestion"] if fix else None
             if sug is not None and (

@@ -55,7 +55,12 @@ def _quiet(func):
 
 def _key(f: Finding) -> tuple[str, tuple[str, ...]]:
     """A finding's identity across variants (whose substances are renamed): check and ids."""
-    return (f.check, tuple(sorted(f.records)))
+    return key_of(f.check, f.records)
+
+
+def key_of(check: str, records: tuple[str, ...]) -> tuple[str, tuple[str, ...]]:
+    """:func:`_key` of a finding of ``check`` on ``records`` (read from a table's columns)."""
+    return (check, tuple(sorted(records)))
 
 
 def _errors_and_warnings(out: _Outcome) -> set:

@@ -161,3 +161,16 @@ def test_the_evidence_column_behaves_as_its_list_of_dicts(one, two, data):
     assert made == expected  # a slice is a copy
     assert part == [{"changed": True}, *expected[2:-1]]
     assert made[len(expected) - 1] == {"hand": 1}
+
+
+def test_an_audits_findings_survive_a_pickle_round_trip():
+    """Findings whose fields are made when read (the checks' own functions, which pickle
+    cannot carry) travel as their values: a result can go to another process."""
+    import pickle
+
+    from vpaudit.auditing import audit_table
+
+    found = audit_table(alcock_table(), diagnose=False).findings
+    assert len(found) > 0
+    back = pickle.loads(pickle.dumps(found))
+    assert list(back) == list(found) and back.dicts() == found.dicts()

@@ -247,6 +247,14 @@ class Findings:
     def __repr__(self) -> str:
         return f"<Findings: {len(self)} row(s)>"
 
+    def __getstate__(self) -> dict[str, list]:
+        # the values made when read are made for a copy: their blocks are the checks' own
+        # functions, which do not travel (pickle, multiprocessing)
+        return {name: list(getattr(self, name)) for name in FIELDS}
+
+    def __setstate__(self, state: dict[str, list]) -> None:
+        self.__init__(**state)
+
     def take(self, rows: Iterable[int]) -> Findings:
         """The table of rows ``rows``, in that order."""
         rows = list(rows)

@@ -360,7 +360,7 @@ def _apply_acceptances(
             )
     for f in extra:
         f.status = "new" if f.check == "acceptance-expired" else "existing"
-        result.findings.append(f)
+    result.findings.extend(extra)
 
 
 def _read_base(table: Path, base: str, into: Path) -> tuple[Table | None, str | None, str | None]:

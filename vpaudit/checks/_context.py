@@ -225,13 +225,14 @@ class AuditContext:
         found = self._id_values.take(pa.array(rows)).to_pylist()
         return dict(zip(found, rows.tolist(), strict=True))
 
+    @cached_property
+    def _file_names(self) -> np.ndarray:
+        """The table's files by their code, as Python strings."""
+        return np.array([str(f) for f in self._files.tolist()], dtype=object)
+
     def location(self, row: int) -> dict:
         """Where record ``row`` stands: ``{"file", "line"}``."""
         return {"file": str(self._files[self.file_code[int(row)]]), "line": int(self.line[row])}
-
-    def files_of(self, rows: np.ndarray) -> list[str]:
-        """The file each record of ``rows`` stands in."""
-        return [str(f) for f in self._files[self.file_code[rows]].tolist()]
 
     def substance_of(self, row: int) -> str:
         """The substance of record ``row``."""
@@ -703,17 +704,12 @@ class AuditContext:
         """The file and the line of records ``rows``, as findings' columns (made when
         read).
         """
-        file_code, line = self.file_code[rows], self.line[rows]
-        files = np.array([str(f) for f in self._files.tolist()], dtype=object)
+        file_code, line, files = self.file_code[rows], self.line[rows], self._file_names
         n = len(rows)
         return (
             _made(lambda p: files[file_code[p]].tolist(), n),
             _made(lambda p: line[p].tolist(), n),
         )
-
-    def ids(self, rows: np.ndarray) -> list[str]:
-        """The ids of records ``rows``, as Python strings."""
-        return self._id_values.take(pa.array(np.asarray(rows, dtype=np.int64))).to_pylist()
 
     # --- per-record quantities over the validity range -----------------------------------
     @cached_property

@@ -176,10 +176,6 @@ def _runner_up_text(
     u = float(ctx.uncertainty[a.row])
     if not math.isfinite(u):
         u = ctx.policy.thresholds("boiling-point-mismatch")["default_uncertainty"]
-    # a shift of the level alone: the same at every temperature (the keys are rounded to
-    # 1e-6), and only in the fixed record
-    changed = np.any(diff != 0.0, axis=1)
-    level = changed.sum() == 1 and float(np.ptp(diff[changed])) <= 1e-5
     if gap == 0.0:
         return ""
     if gap <= math.log1p(u):
@@ -189,7 +185,10 @@ def _runner_up_text(
             f"can tell them apart; together their confidence is {confidence(together)}. Either "
             "serves for the pressures; the source as printed decides which to write."
         )
-    if not level:
+    # beyond it, only a shift of the level alone: the same at every temperature (the keys
+    # are rounded to 1e-6), and only in the fixed record
+    changed = np.any(diff != 0.0, axis=1)
+    if changed.sum() != 1 or float(np.ptp(diff[changed])) > 1e-5:
         return ""
     # a normal boiling point witnesses a liquid's curve only
     tb = "a normal boiling point near the range, " if ctx.liquid[a.row] else ""
